@@ -1,0 +1,51 @@
+//! One file per command; each opens with its usage text and calls the
+//! library. This module only defines the command line and dispatches.
+
+mod check;
+
+use clap::{Parser, Subcommand};
+use std::path::PathBuf;
+use tellscope::settings::{ConfigFile, Overrides, Settings};
+use tellscope::Result;
+
+#[derive(Parser, Debug)]
+#[command(name = "tellscope", version, about = "How predictable is each pitcher's next pitch from the game situation?")]
+pub struct Cli {
+    #[command(subcommand)]
+    pub command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+pub enum Command {
+    /// Validate a pitch log: rows read and rejected (with reasons), pitchers, seasons, pitch types.
+    Check(check::Args),
+}
+
+/// Options every command that reads a log shares.
+#[derive(clap::Args, Debug, Clone)]
+pub struct LogArgs {
+    /// The pitch log, CSV or Parquet.
+    pub file: PathBuf,
+    /// A TOML config file ([columns], [pitch_groups], [audit], [model], [tells]).
+    #[arg(long, value_name = "C")]
+    pub config: Option<PathBuf>,
+    /// Treat any rejected row as a failure (exit 3).
+    #[arg(long)]
+    pub strict: bool,
+}
+
+impl LogArgs {
+    pub fn settings(&self, o: Overrides) -> Result<Settings> {
+        let cfg = match &self.config {
+            Some(p) => ConfigFile::load(p)?,
+            None => ConfigFile::default(),
+        };
+        Settings::resolve(&cfg, &Overrides { strict: self.strict, ..o })
+    }
+}
+
+pub fn run(cli: Cli) -> Result<()> {
+    match cli.command {
+        Command::Check(a) => check::run(a),
+    }
+}

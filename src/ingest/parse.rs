@@ -1,0 +1,234 @@
+//! Parsing one row's text values against CONTRACT §1. A breach names the
+//! contract column and a reason that says what is allowed; the value itself
+//! is kept beside it, so reasons group cleanly in `check`.
+
+use super::PitchResult;
+use crate::settings::Settings;
+use crate::situations::levels::Hand;
+
+/// A row's values that passed every rule.
+pub struct ParsedRow<'a> {
+    pub game: &'a str,
+    pub date: i32,
+    pub season: i32,
+    pub pitcher: &'a str,
+    pub throws: Hand,
+    pub batter: &'a str,
+    pub bats: Hand,
+    pub inning: u16,
+    pub outs: u8,
+    pub balls: u8,
+    pub strikes: u8,
+    pub bases: [bool; 3],
+    pub pitch_type: &'a str,
+    pub pa: Option<u32>,
+    pub pitch_no: Option<u32>,
+    pub score_diff: Option<i32>,
+    pub result: Option<PitchResult>,
+    pub speed: Option<f32>,
+    pub side: Option<f32>,
+    pub height: Option<f32>,
+    pub team: Option<&'a str>,
+}
+
+/// (contract column, offending value, reason)
+pub type Breach<'a> = (&'static str, Option<&'a str>, String);
+
+/// Reasons are written without the value, so they group as they are.
+pub fn generic_reason(reason: &str) -> &str {
+    reason
+}
+
+fn required<'a>(v: Option<&'a str>, col: &'static str) -> Result<&'a str, Breach<'a>> {
+    v.ok_or((col, None, "is empty; every pitch needs a value here".to_string()))
+}
+
+fn int_in<'a>(v: &'a str, col: &'static str, lo: i64, hi: i64) -> Result<i64, Breach<'a>> {
+    let n: i64 = v
+        .parse()
+        .map_err(|_| (col, Some(v), "is not a whole number".to_string()))?;
+    if n < lo || n > hi {
+        let range = if hi == i64::MAX { format!("at least {lo}") } else { format!("in {lo}..{hi}") };
+        return Err((col, Some(v), format!("is outside the allowed range (must be {range})")));
+    }
+    Ok(n)
+}
+
+fn hand<'a>(v: &'a str, col: &'static str) -> Result<Hand, Breach<'a>> {
+    Hand::parse(v).ok_or((col, Some(v), "is not L or R".to_string()))
+}
+
+/// `0/1`, `true/false`, `yes/no`, case-insensitive.
+pub fn parse_bool(v: &str) -> Option<bool> {
+    match v.to_ascii_lowercase().as_str() {
+        "1" | "true" | "yes" => Some(true),
+        "0" | "false" | "no" => Some(false),
+        _ => None,
+    }
+}
+
+fn base<'a>(v: Option<&'a str>, col: &'static str) -> Result<bool, Breach<'a>> {
+    let v = required(v, col)?;
+    parse_bool(v).ok_or((col, Some(v), "is not 0/1, true/false or yes/no".to_string()))
+}
+
+/// Days from 1970-01-01 of a proleptic Gregorian date
+/// (H. Hinnant, "chrono-Compatible Low-Level Date Algorithms", days_from_civil).
+pub fn days_from_civil(y: i32, m: u32, d: u32) -> i32 {
+    let y = if m <= 2 { y - 1 } else { y };
+    let era = if y >= 0 { y } else { y - 399 } / 400;
+    let yoe = (y - era * 400) as u32;
+    let mp = (m + 9) % 12;
+    let doy = (153 * mp + 2) / 5 + d - 1;
+    let doe = yoe * 365 + yoe / 4 - yoe / 100 + doy;
+    era * 146_097 + doe as i32 - 719_468
+}
+
+/// The inverse of [`days_from_civil`] (same source, civil_from_days).
+pub fn civil_from_days(z: i32) -> (i32, u32, u32) {
+    let z = z + 719_468;
+    let era = if z >= 0 { z } else { z - 146_096 } / 146_097;
+    let doe = (z - era * 146_097) as u32;
+    let yoe = (doe - doe / 1460 + doe / 36_524 - doe / 146_096) / 365;
+    let y = yoe as i32 + era * 400;
+    let doy = doe - (365 * yoe + yoe / 4 - yoe / 100);
+    let mp = (5 * doy + 2) / 153;
+    let d = doy - (153 * mp + 2) / 5 + 1;
+    let m = if mp < 10 { mp + 3 } else { mp - 9 };
+    (if m <= 2 { y + 1 } else { y }, m, d)
+}
+
+/// `YYYY-MM-DD` as written in reports.
+pub fn format_date(days: i32) -> String {
+    let (y, m, d) = civil_from_days(days);
+    format!("{y:04}-{m:02}-{d:02}")
+}
+
+/// Parse a strict `YYYY-MM-DD` date into (days since epoch, year).
+pub fn parse_date(v: &str) -> Option<(i32, i32)> {
+    let b = v.as_bytes();
+    if b.len() != 10 || b[4] != b'-' || b[7] != b'-' {
+        return None;
+    }
+    let y: i32 = v[0..4].parse().ok()?;
+    let m: u32 = v[5..7].parse().ok()?;
+    let d: u32 = v[8..10].parse().ok()?;
+    if !(1..=12).contains(&m) || d == 0 {
+        return None;
+    }
+    let leap = (y % 4 == 0 && y % 100 != 0) || y % 400 == 0;
+    let dim = [31, if leap { 29 } else { 28 }, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31][m as usize - 1];
+    if d > dim {
+        return None;
+    }
+    Some((days_from_civil(y, m, d), y))
+}
+
+fn number<'a>(v: Option<&'a str>, col: &'static str, lo: f32, hi: f32) -> Result<Option<f32>, Breach<'a>> {
+    match v {
+        None => Ok(None),
+        Some(s) => {
+            let x: f32 = s.parse().map_err(|_| (col, Some(s), "is not a number".to_string()))?;
+            if !x.is_finite() || x < lo || x > hi {
+                return Err((col, Some(s), format!("is outside the plausible range {lo}..{hi}")));
+            }
+            Ok(Some(x))
+        }
+    }
+}
+
+/// Parse the values of one row, given in the order of REQUIRED_COLUMNS then
+/// OPTIONAL_COLUMNS (absent optional columns are `None`).
+pub fn parse_row<'a>(v: &[Option<&'a str>], _settings: &Settings) -> Result<ParsedRow<'a>, Breach<'a>> {
+    let game = required(v[0], "game")?;
+    let date_s = required(v[1], "date")?;
+    let (date, year) =
+        parse_date(date_s).ok_or(("date", Some(date_s), "is not a calendar date written YYYY-MM-DD".to_string()))?;
+    let pitcher = required(v[2], "pitcher")?;
+    let throws = hand(required(v[3], "throws")?, "throws")?;
+    let batter = required(v[4], "batter")?;
+    let bats = hand(required(v[5], "bats")?, "bats")?;
+    let inning = int_in(required(v[6], "inning")?, "inning", 1, 99)? as u16;
+    let outs = int_in(required(v[7], "outs")?, "outs", 0, 2)? as u8;
+    let balls = int_in(required(v[8], "balls")?, "balls", 0, 3)? as u8;
+    let strikes = int_in(required(v[9], "strikes")?, "strikes", 0, 2)? as u8;
+    let bases = [base(v[10], "on_first")?, base(v[11], "on_second")?, base(v[12], "on_third")?];
+    let pitch_type = required(v[13], "pitch_type")?;
+    let season = match v[14] {
+        None => year,
+        Some(s) => int_in(s, "season", 1800, 3000)? as i32,
+    };
+    let pa = v[15].map(|s| int_in(s, "pa", 1, i64::from(u32::MAX)).map(|n| n as u32)).transpose()?;
+    let pitch_no = v[16].map(|s| int_in(s, "pitch_no", 1, i64::from(u32::MAX)).map(|n| n as u32)).transpose()?;
+    let score_diff = v[17].map(|s| int_in(s, "score_diff", -200, 200).map(|n| n as i32)).transpose()?;
+    let result = match v[18] {
+        None => None,
+        Some(s) => Some(PitchResult::parse(s).ok_or((
+            "result",
+            Some(s),
+            "is not one of ball, called_strike, swinging_strike, foul, in_play, hit_by_pitch, other".to_string(),
+        ))?),
+    };
+    let speed = number(v[19], "speed_mph", 0.0, 125.0)?;
+    let side = number(v[20], "loc_side_ft", -20.0, 20.0)?;
+    let height = number(v[21], "loc_height_ft", -10.0, 20.0)?;
+    let team = v[22];
+    Ok(ParsedRow {
+        game,
+        date,
+        season,
+        pitcher,
+        throws,
+        batter,
+        bats,
+        inning,
+        outs,
+        balls,
+        strikes,
+        bases,
+        pitch_type,
+        pa,
+        pitch_no,
+        score_diff,
+        result,
+        speed,
+        side,
+        height,
+        team,
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // Day numbers checked against the Unix epoch convention (1970-01-01 is
+    // day 0; 2000-03-01 is day 11017, common practice / POSIX time / 86400).
+    #[test]
+    fn dates_round_trip() {
+        assert_eq!(days_from_civil(1970, 1, 1), 0);
+        assert_eq!(days_from_civil(2000, 3, 1), 11_017);
+        assert_eq!(format_date(days_from_civil(2024, 2, 29)), "2024-02-29");
+        assert!(parse_date("2025-02-29").is_none());
+        assert!(parse_date("2024-02-29").is_some());
+        assert!(parse_date("2025-13-01").is_none());
+        assert!(parse_date("2025/04/01").is_none());
+        assert!(parse_date("25-04-01").is_none());
+        for d in [-1000, 0, 365, 20_000, 20_500] {
+            let s = format_date(d);
+            assert_eq!(parse_date(&s).unwrap().0, d);
+        }
+    }
+
+    #[test]
+    fn booleans_accept_contract_spellings() {
+        for s in ["1", "true", "TRUE", "Yes"] {
+            assert_eq!(parse_bool(s), Some(true));
+        }
+        for s in ["0", "false", "No"] {
+            assert_eq!(parse_bool(s), Some(false));
+        }
+        assert_eq!(parse_bool("2"), None);
+        assert_eq!(parse_bool("y"), None);
+    }
+}

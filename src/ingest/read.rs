@@ -1,0 +1,137 @@
+//! Reading a CSV or Parquet file into text columns with polars. Only the
+//! columns the contract knows are kept; everything is read as text so the
+//! validator can name the line and the value of every breach.
+
+use crate::error::{Error, Result};
+use polars::prelude::*;
+use std::path::Path;
+
+/// The input file's format, chosen by extension.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Format {
+    Csv,
+    Parquet,
+}
+
+impl Format {
+    pub fn of(path: &Path) -> Format {
+        match path.extension().and_then(|e| e.to_str()).map(|e| e.to_ascii_lowercase()) {
+            Some(e) if e == "parquet" || e == "pq" => Format::Parquet,
+            _ => Format::Csv,
+        }
+    }
+
+    /// How a row is located for a user: CSV line numbers count the header
+    /// as line 1; Parquet rows are 0-based indices.
+    pub fn locator(self) -> &'static str {
+        match self {
+            Format::Csv => "line",
+            Format::Parquet => "row",
+        }
+    }
+}
+
+/// Text columns read from a file, by the file's own header names.
+pub struct RawTable {
+    pub format: Format,
+    pub header: Vec<String>,
+    pub n_rows: usize,
+    pub columns: Vec<(String, StringChunked)>,
+}
+
+impl RawTable {
+    pub fn column(&self, file_name: &str) -> Option<&StringChunked> {
+        self.columns.iter().find(|(n, _)| n == file_name).map(|(_, c)| c)
+    }
+
+    /// Location of 0-based data row `i` as shown to users.
+    pub fn location(&self, i: usize) -> u64 {
+        match self.format {
+            Format::Csv => i as u64 + 2,
+            Format::Parquet => i as u64,
+        }
+    }
+}
+
+fn polars_err(path: &Path, e: PolarsError) -> Error {
+    let text = e.to_string();
+    let lower = text.to_lowercase();
+    if lower.contains("empty") {
+        Error::Data(format!("{}: the file is empty; export the pitch log with a header row and at least one pitch", path.display()))
+    } else {
+        Error::Data(format!(
+            "{}: could not be read as {} ({}); check that it is a comma-separated file with a header row or a Parquet file",
+            path.display(),
+            match Format::of(path) { Format::Csv => "CSV", Format::Parquet => "Parquet" },
+            text.lines().next().unwrap_or("")
+        ))
+    }
+}
+
+/// Read the header names only.
+fn csv_header(path: &Path) -> Result<Vec<String>> {
+    let df = CsvReadOptions::default()
+        .with_has_header(true)
+        .with_infer_schema_length(Some(0))
+        .with_n_rows(Some(0))
+        .try_into_reader_with_file_path(Some(path.to_path_buf()))
+        .map_err(|e| polars_err(path, e))?
+        .finish()
+        .map_err(|e| polars_err(path, e))?;
+    Ok(df.get_column_names().iter().map(|s| s.to_string()).collect())
+}
+
+/// Read the wanted columns (file names) of `path` as text.
+pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
+    if !path.exists() {
+        return Err(Error::Data(format!("{}: no such file; check the path", path.display())));
+    }
+    let meta = std::fs::metadata(path).map_err(|e| Error::io(path, "read the file", e))?;
+    if meta.len() == 0 {
+        return Err(Error::Data(format!(
+            "{}: the file is empty; export the pitch log with a header row and at least one pitch",
+            path.display()
+        )));
+    }
+    let format = Format::of(path);
+    let (header, df) = match format {
+        Format::Csv => {
+            let header = csv_header(path)?;
+            let keep: Vec<PlSmallStr> = header
+                .iter()
+                .filter(|h| wanted.contains(h))
+                .map(|h| PlSmallStr::from(h.as_str()))
+                .collect();
+            let df = CsvReadOptions::default()
+                .with_has_header(true)
+                .with_infer_schema_length(Some(0))
+                .with_columns(Some(keep.into()))
+                .try_into_reader_with_file_path(Some(path.to_path_buf()))
+                .map_err(|e| polars_err(path, e))?
+                .finish()
+                .map_err(|e| polars_err(path, e))?;
+            (header, df)
+        }
+        Format::Parquet => {
+            let file = std::fs::File::open(path).map_err(|e| Error::io(path, "open the file", e))?;
+            let mut reader = ParquetReader::new(file);
+            let schema = reader.schema().map_err(|e| polars_err(path, e))?;
+            let header: Vec<String> = schema.iter_names().map(|s| s.to_string()).collect();
+            let keep: Vec<String> = header.iter().filter(|h| wanted.contains(h)).cloned().collect();
+            let df = reader.with_columns(Some(keep)).finish().map_err(|e| polars_err(path, e))?;
+            (header, df)
+        }
+    };
+    let n_rows = df.height();
+    let mut columns = Vec::new();
+    for col in df.columns() {
+        let name = col.name().to_string();
+        let s = col
+            .as_materialized_series()
+            .cast(&DataType::String)
+            .map_err(|e| Error::Data(format!("{}: column {name} cannot be read as text ({e}); store it as text or numbers", path.display())))?;
+        let ca = s.str().map_err(|e| Error::Internal(e.to_string()))?.clone();
+        columns.push((name, ca));
+    }
+    Ok(RawTable { format, header, n_rows, columns })
+}

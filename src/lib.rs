@@ -1,0 +1,16 @@
+//! tellscope: how predictable is each pitcher's next pitch type from the game
+//! situation, measured on held-out games against his usage prior, with
+//! permutation tests and false-discovery control.
+//!
+//! The modules read as the pipeline a pitch takes:
+//! ingest → situations → priors → model → evaluate → significance → report,
+//! with `simulate` making invented logs with planted truth and `compare`
+//! measuring change between two periods.
+
+pub mod error;
+pub mod ingest;
+pub mod model;
+pub mod settings;
+pub mod situations;
+
+pub use error::{Error, Result};

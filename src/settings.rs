@@ -1,0 +1,324 @@
+//! The config file and command-line flags, validated once into [`Settings`].
+//! Later stages only ever see a validated value, so they cannot meet a bad one.
+
+use crate::error::{Error, Result};
+use crate::model::TreeSettings;
+use crate::situations::levels::Factor;
+use serde::{Deserialize, Serialize};
+use std::collections::BTreeMap;
+use std::path::Path;
+
+/// The config file as written by a user. Every key is optional.
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ConfigFile {
+    /// Contract column name = the file's own header name.
+    #[serde(default)]
+    pub columns: BTreeMap<String, String>,
+    /// Group name = the labels merged into it.
+    #[serde(default)]
+    pub pitch_groups: BTreeMap<String, Vec<String>>,
+    #[serde(default)]
+    pub audit: AuditConfig,
+    #[serde(default)]
+    pub model: ModelConfig,
+    #[serde(default)]
+    pub tells: TellConfig,
+    #[serde(default)]
+    pub compare: CompareConfig,
+}
+
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct AuditConfig {
+    pub seed: Option<u64>,
+    pub permutations: Option<usize>,
+    pub fdr: Option<f64>,
+    /// `bits` (default) or `accuracy`.
+    pub statistic: Option<String>,
+    /// Besag–Clifford h: stop a pitcher's permutations after this many null
+    /// values at or above the observed one.
+    pub stop_after_exceedances: Option<usize>,
+    pub min_train_pitches: Option<usize>,
+    pub min_test_pitches: Option<usize>,
+    /// Blocks of games for forward-chaining within one season.
+    pub forward_blocks: Option<usize>,
+}
+
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct ModelConfig {
+    pub max_depth: Option<usize>,
+    pub min_samples_leaf: Option<usize>,
+    pub min_samples_split: Option<usize>,
+    pub min_impurity_decrease: Option<f64>,
+    /// Pseudo-count pulling a leaf's pitch mix toward the pitcher's mix.
+    pub leaf_smoothing: Option<f64>,
+    /// Pseudo-count of the shrunk count and batter priors; "auto" (the
+    /// default) estimates it by empirical Bayes.
+    pub prior_strength: Option<toml::Value>,
+    /// A pitch type needs this many training pitches for its one-vs-rest figures.
+    pub min_type_pitches: Option<usize>,
+}
+
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct TellConfig {
+    pub min_effect: Option<f64>,
+    pub min_n: Option<usize>,
+    /// Two-factor situations tested besides every single level.
+    pub pairs: Option<Vec<[String; 2]>>,
+}
+
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct CompareConfig {
+    /// A type at or above this share in one period ...
+    pub new_pitch_share: Option<f64>,
+    /// ... and below this share in the other is new (or dropped).
+    pub absent_share: Option<f64>,
+    pub bootstrap: Option<usize>,
+}
+
+/// Which held-out statistic the permutation test scores.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Statistic {
+    Bits,
+    Accuracy,
+}
+
+/// How strong the shrunk priors' pseudo-count is.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum PriorStrength {
+    Auto,
+    Fixed(f64),
+}
+
+/// Every validated setting of a run.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct Settings {
+    #[serde(skip)]
+    pub columns: BTreeMap<String, String>,
+    #[serde(skip)]
+    pub pitch_groups: BTreeMap<String, String>,
+    pub seed: u64,
+    pub permutations: usize,
+    pub fdr: f64,
+    pub statistic: Statistic,
+    pub stop_after_exceedances: usize,
+    pub min_train_pitches: usize,
+    pub min_test_pitches: usize,
+    pub forward_blocks: usize,
+    pub tree: TreeSettings,
+    pub leaf_smoothing: f64,
+    pub prior_strength: PriorStrength,
+    pub min_type_pitches: usize,
+    pub tell_min_effect: f64,
+    pub tell_min_n: usize,
+    pub tell_pairs: Vec<(Factor, Factor)>,
+    pub new_pitch_share: f64,
+    pub absent_share: f64,
+    pub bootstrap: usize,
+    pub strict: bool,
+    pub test_season: Option<i32>,
+    pub pitchers: Vec<String>,
+}
+
+/// Flags that override the config file.
+#[derive(Debug, Clone, Default)]
+pub struct Overrides {
+    pub seed: Option<u64>,
+    pub permutations: Option<usize>,
+    pub fdr: Option<f64>,
+    pub strict: bool,
+    pub test_season: Option<i32>,
+    pub pitchers: Vec<String>,
+}
+
+pub const DEFAULT_SEED: u64 = 20_260_401;
+
+/// The contract's column names (CONTRACT §1).
+pub const REQUIRED_COLUMNS: [&str; 14] = [
+    "game", "date", "pitcher", "throws", "batter", "bats", "inning", "outs", "balls", "strikes",
+    "on_first", "on_second", "on_third", "pitch_type",
+];
+pub const OPTIONAL_COLUMNS: [&str; 9] = [
+    "season", "pa", "pitch_no", "score_diff", "result", "speed_mph", "loc_side_ft",
+    "loc_height_ft", "team",
+];
+
+fn known_column(name: &str) -> bool {
+    REQUIRED_COLUMNS.contains(&name) || OPTIONAL_COLUMNS.contains(&name)
+}
+
+impl ConfigFile {
+    pub fn load(path: &Path) -> Result<ConfigFile> {
+        let text = std::fs::read_to_string(path).map_err(|e| {
+            Error::Usage(format!("{}: cannot read the config file ({e}); check the --config path", path.display()))
+        })?;
+        toml::from_str(&text).map_err(|e| {
+            let msg = e.message().replace('\n', " ");
+            let line = e
+                .span()
+                .map(|s| format!(" line {}", text[..s.start].lines().count().max(1)))
+                .unwrap_or_default();
+            Error::Usage(format!("{}{line}: {msg}; fix the config file (see the README's config example)", path.display()))
+        })
+    }
+}
+
+fn check_range<T: PartialOrd + std::fmt::Display + Copy>(name: &str, v: T, lo: T, hi: T) -> Result<T> {
+    if v < lo || v > hi {
+        return Err(Error::Usage(format!("{name} = {v} is outside {lo}..{hi}; choose a value in that range")));
+    }
+    Ok(v)
+}
+
+impl Settings {
+    /// Validate a config file and the command-line overrides into settings.
+    pub fn resolve(cfg: &ConfigFile, o: &Overrides) -> Result<Settings> {
+        for (contract, file) in &cfg.columns {
+            if !known_column(contract) {
+                return Err(Error::Usage(format!(
+                    "[columns] {contract} = \"{file}\": {contract} is not a contract column; the left side must be one of the names in CONTRACT §1 (e.g. pitcher = \"PitcherName\")"
+                )));
+            }
+        }
+        let mut groups = BTreeMap::new();
+        for (group, members) in &cfg.pitch_groups {
+            if group.trim().is_empty() {
+                return Err(Error::Usage("[pitch_groups] has an empty group name; give each group a label".into()));
+            }
+            for m in members {
+                if let Some(prev) = groups.insert(m.trim().to_string(), group.trim().to_string()) {
+                    if prev != group.trim() {
+                        return Err(Error::Usage(format!(
+                            "[pitch_groups] puts \"{m}\" in both \"{prev}\" and \"{group}\"; list each label in one group only"
+                        )));
+                    }
+                }
+            }
+        }
+        let a = &cfg.audit;
+        let m = &cfg.model;
+        let t = &cfg.tells;
+        let statistic = match a.statistic.as_deref().unwrap_or("bits") {
+            "bits" => Statistic::Bits,
+            "accuracy" => Statistic::Accuracy,
+            other => {
+                return Err(Error::Usage(format!(
+                    "[audit] statistic = \"{other}\" is unknown; use \"bits\" or \"accuracy\""
+                )))
+            }
+        };
+        let prior_strength = match &m.prior_strength {
+            None => PriorStrength::Auto,
+            Some(toml::Value::String(s)) if s == "auto" => PriorStrength::Auto,
+            Some(toml::Value::Float(f)) => PriorStrength::Fixed(check_range("[model] prior_strength", *f, 0.0, 1e6)?),
+            Some(toml::Value::Integer(i)) => PriorStrength::Fixed(check_range("[model] prior_strength", *i as f64, 0.0, 1e6)?),
+            Some(v) => {
+                return Err(Error::Usage(format!(
+                    "[model] prior_strength = {v} is not understood; use \"auto\" or a number of pseudo-pitches"
+                )))
+            }
+        };
+        let pairs = match &t.pairs {
+            None => vec![
+                (Factor::Count, Factor::Platoon),
+                (Factor::Count, Factor::Bases),
+                (Factor::Count, Factor::PrevPitch),
+                (Factor::Count, Factor::Outs),
+            ],
+            Some(list) => {
+                let mut out = Vec::new();
+                for [x, y] in list {
+                    let fx = Factor::from_name(x);
+                    let fy = Factor::from_name(y);
+                    match (fx, fy) {
+                        (Some(fx), Some(fy)) if fx != fy => out.push((fx, fy)),
+                        _ => {
+                            return Err(Error::Usage(format!(
+                                "[tells] pairs has [\"{x}\", \"{y}\"]; each pair needs two different factors from CONTRACT §2 (count, bats, platoon, bases, outs, prev_pitch, times_through, inning, score)"
+                            )))
+                        }
+                    }
+                }
+                out
+            }
+        };
+        let tree = TreeSettings {
+            max_depth: check_range("[model] max_depth", m.max_depth.unwrap_or(6), 1, 20)?,
+            min_samples_leaf: check_range("[model] min_samples_leaf", m.min_samples_leaf.unwrap_or(20), 1, 100_000)?,
+            min_samples_split: check_range("[model] min_samples_split", m.min_samples_split.unwrap_or(40), 2, 100_000)?,
+            min_impurity_decrease: check_range("[model] min_impurity_decrease", m.min_impurity_decrease.unwrap_or(0.0), 0.0, 1.0)?,
+        };
+        let fdr = o.fdr.or(a.fdr).unwrap_or(0.05);
+        if !(fdr > 0.0 && fdr < 1.0) {
+            return Err(Error::Usage(format!("--fdr {fdr} must lie strictly between 0 and 1, e.g. 0.05")));
+        }
+        let permutations = o.permutations.or(a.permutations).unwrap_or(999);
+        check_range("--permutations", permutations, 0, 1_000_000)?;
+        Ok(Settings {
+            columns: cfg.columns.clone(),
+            pitch_groups: groups,
+            seed: o.seed.or(a.seed).unwrap_or(DEFAULT_SEED),
+            permutations,
+            fdr,
+            statistic,
+            stop_after_exceedances: check_range("[audit] stop_after_exceedances", a.stop_after_exceedances.unwrap_or(10), 1, 1_000_000)?,
+            min_train_pitches: check_range("[audit] min_train_pitches", a.min_train_pitches.unwrap_or(300), 50, 10_000_000)?,
+            min_test_pitches: check_range("[audit] min_test_pitches", a.min_test_pitches.unwrap_or(100), 20, 10_000_000)?,
+            forward_blocks: check_range("[audit] forward_blocks", a.forward_blocks.unwrap_or(5), 2, 50)?,
+            tree,
+            leaf_smoothing: check_range("[model] leaf_smoothing", m.leaf_smoothing.unwrap_or(2.0), 0.01, 1e6)?,
+            prior_strength,
+            min_type_pitches: check_range("[model] min_type_pitches", m.min_type_pitches.unwrap_or(30), 1, 1_000_000)?,
+            tell_min_effect: check_range("[tells] min_effect", t.min_effect.unwrap_or(0.10), 0.0, 1.0)?,
+            tell_min_n: check_range("[tells] min_n", t.min_n.unwrap_or(20), 1, 1_000_000)?,
+            tell_pairs: pairs,
+            new_pitch_share: check_range("[compare] new_pitch_share", cfg.compare.new_pitch_share.unwrap_or(0.05), 0.0, 1.0)?,
+            absent_share: check_range("[compare] absent_share", cfg.compare.absent_share.unwrap_or(0.01), 0.0, 1.0)?,
+            bootstrap: check_range("[compare] bootstrap", cfg.compare.bootstrap.unwrap_or(400), 50, 100_000)?,
+            strict: o.strict,
+            test_season: o.test_season,
+            pitchers: o.pitchers.clone(),
+        })
+    }
+
+    /// The header name the file uses for a contract column.
+    pub fn file_column<'a>(&'a self, contract: &'a str) -> &'a str {
+        self.columns.get(contract).map(String::as_str).unwrap_or(contract)
+    }
+
+    /// The group a raw pitch label belongs to (itself when ungrouped).
+    pub fn pitch_group<'a>(&'a self, label: &'a str) -> &'a str {
+        self.pitch_groups.get(label).map(String::as_str).unwrap_or(label)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn defaults_validate() {
+        let s = Settings::resolve(&ConfigFile::default(), &Overrides::default()).unwrap();
+        assert_eq!(s.permutations, 999);
+        assert_eq!(s.fdr, 0.05);
+        assert_eq!(s.tell_pairs.len(), 4);
+    }
+
+    #[test]
+    fn bad_values_are_usage_errors() {
+        let cfg: ConfigFile = toml::from_str("[audit]\nfdr = 1.5\n").unwrap();
+        let e = Settings::resolve(&cfg, &Overrides::default()).unwrap_err();
+        assert_eq!(e.exit_code(), 2);
+        let cfg: ConfigFile = toml::from_str("[columns]\npitcherz = \"P\"\n").unwrap();
+        assert!(Settings::resolve(&cfg, &Overrides::default()).unwrap_err().to_string().contains("pitcherz"));
+        let cfg: ConfigFile = toml::from_str("[pitch_groups]\nfastball = [\"FF\"]\ncutter = [\"FF\"]\n").unwrap();
+        assert!(Settings::resolve(&cfg, &Overrides::default()).is_err());
+        assert!(toml::from_str::<ConfigFile>("[audit]\nbogus = 1\n").is_err());
+    }
+}
