@@ -7,10 +7,18 @@
 //! with `simulate` making invented logs with planted truth and `compare`
 //! measuring change between two periods.
 
+pub mod audit;
 pub mod error;
+pub mod evaluate;
+pub mod report;
 pub mod ingest;
 pub mod model;
+pub mod priors;
+pub mod progress;
 pub mod settings;
+pub mod significance;
+pub mod simulate;
 pub mod situations;
+pub mod tells;
 
 pub use error::{Error, Result};

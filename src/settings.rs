@@ -68,6 +68,8 @@ pub struct TellConfig {
     pub min_n: Option<usize>,
     /// Two-factor situations tested besides every single level.
     pub pairs: Option<Vec<[String; 2]>>,
+    /// `hierarchical` (default) or `pooled`; see the README.
+    pub fdr_method: Option<String>,
 }
 
 #[derive(Debug, Clone, Default, Deserialize)]
@@ -86,6 +88,14 @@ pub struct CompareConfig {
 pub enum Statistic {
     Bits,
     Accuracy,
+}
+
+/// How the run's tell tests are corrected for multiplicity.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum FdrMethod {
+    Hierarchical,
+    Pooled,
 }
 
 /// How strong the shrunk priors' pseudo-count is.
@@ -118,6 +128,7 @@ pub struct Settings {
     pub tell_min_effect: f64,
     pub tell_min_n: usize,
     pub tell_pairs: Vec<(Factor, Factor)>,
+    pub tell_fdr_method: FdrMethod,
     pub new_pitch_share: f64,
     pub absent_share: f64,
     pub bootstrap: usize,
@@ -278,6 +289,15 @@ impl Settings {
             tell_min_effect: check_range("[tells] min_effect", t.min_effect.unwrap_or(0.10), 0.0, 1.0)?,
             tell_min_n: check_range("[tells] min_n", t.min_n.unwrap_or(20), 1, 1_000_000)?,
             tell_pairs: pairs,
+            tell_fdr_method: match t.fdr_method.as_deref().unwrap_or("hierarchical") {
+                "hierarchical" => FdrMethod::Hierarchical,
+                "pooled" => FdrMethod::Pooled,
+                other => {
+                    return Err(Error::Usage(format!(
+                        "[tells] fdr_method = \"{other}\" is unknown; use \"hierarchical\" or \"pooled\""
+                    )))
+                }
+            },
             new_pitch_share: check_range("[compare] new_pitch_share", cfg.compare.new_pitch_share.unwrap_or(0.05), 0.0, 1.0)?,
             absent_share: check_range("[compare] absent_share", cfg.compare.absent_share.unwrap_or(0.01), 0.0, 1.0)?,
             bootstrap: check_range("[compare] bootstrap", cfg.compare.bootstrap.unwrap_or(400), 50, 100_000)?,

@@ -30,7 +30,7 @@ pub fn run(args: Args) -> Result<()> {
     println!("  rows rejected  {}", src.rows_rejected);
     for (reason, n, lines) in group_rejections(&ing.rejected, 5) {
         let l: Vec<String> = lines.iter().map(|l| l.to_string()).collect();
-        println!("    {n:>6} × {reason} ({loc}{} {}{})", if *n > 1 { "s" } else { "" }, l.join(", "), if *n > lines.len() { ", ..." } else { "" });
+        println!("    {n:>6} × {reason} ({loc}{} {}{})", if n > 1 { "s" } else { "" }, l.join(", "), if n > lines.len() { ", ..." } else { "" });
     }
     let seasons = log.seasons();
     let mut per_season: BTreeMap<i32, (usize, std::collections::BTreeSet<u32>)> = BTreeMap::new();

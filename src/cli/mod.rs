@@ -1,7 +1,10 @@
 //! One file per command; each opens with its usage text and calls the
 //! library. This module only defines the command line and dispatches.
 
+mod audit;
 mod check;
+mod demo;
+mod simulate;
 
 use clap::{Parser, Subcommand};
 use std::path::PathBuf;
@@ -19,6 +22,12 @@ pub struct Cli {
 pub enum Command {
     /// Validate a pitch log: rows read and rejected (with reasons), pitchers, seasons, pitch types.
     Check(check::Args),
+    /// The predictability audit: held-out lift and bits per pitcher, permutation tests, tells; writes a report.
+    Audit(audit::Args),
+    /// Write a synthetic pitch log from a scenario file.
+    Simulate(simulate::Args),
+    /// Run the bundled demo end to end into reports/demo.
+    Demo(demo::Args),
 }
 
 /// Options every command that reads a log shares.
@@ -47,5 +56,8 @@ impl LogArgs {
 pub fn run(cli: Cli) -> Result<()> {
     match cli.command {
         Command::Check(a) => check::run(a),
+        Command::Audit(a) => audit::run(a),
+        Command::Simulate(a) => simulate::run(a),
+        Command::Demo(a) => demo::run(a),
     }
 }

@@ -4,6 +4,7 @@
 
 pub mod parse;
 pub mod read;
+pub mod write;
 
 use crate::error::{Error, Result};
 use crate::settings::{Settings, OPTIONAL_COLUMNS, REQUIRED_COLUMNS};

@@ -1,1 +1,757 @@
-//! placeholder
+//! The fast learner: grows the same Gini tree as linfa-trees 0.8.1 (see
+//! [`super::reference_tree`] for how linfa chooses splits), in a few tens of
+//! microseconds, for the hundreds of permutation refits per pitcher.
+//!
+//! # How it is fast
+//!
+//! Every feature is a small ordinal code, so a threshold `code <= t` only
+//! matters at the codes present in the training rows. Each feature with
+//! present codes `u_0 < u_1 < ... < u_m` becomes `m` *cut bits*, bit `j`
+//! saying `code > u_j` (a one-hot level is one bit, a prior binned 0..=20 at
+//! most 20). The cut bits of a training row are packed into a few bytes, row
+//! by row. For a node, the count of rows of class `k` on the right of every
+//! threshold of every feature is then a column sum of those bits over the
+//! node's rows of class `k`; it is taken eight columns at a time by adding a
+//! table-spread byte (`SPREAD`, one bit per byte lane) into a `u64`, flushed
+//! before a lane can overflow. The larger child's sums are the parent's minus
+//! the smaller child's (the usual histogram subtraction), and nodes that
+//! cannot be split (too deep, too small, pure) get no sums at all.
+//!
+//! Per pitcher the caller builds a [`FastTreeWorkspace`] once with
+//! [`FastTreeWorkspace::prepare`] (gathers and packs the training rows),
+//! after each change of a few feature columns calls
+//! [`FastTreeWorkspace::refresh_features`] (repacks only those), and fits with
+//! [`FastTreeWorkspace::fit`] for each new set of labels. Nothing is sorted
+//! and, after the first fit, nothing but the returned [`Tree`] is allocated.
+//!
+//! # Same tree as linfa
+//!
+//! With the default [`GrowOptions`] the tree equals the reference learner's,
+//! rule for rule:
+//! * the same stopping rules (`min_samples_split`, `max_depth`, leaf size,
+//!   `min_impurity_decrease` unscaled and at least `f64::EPSILON`);
+//! * the same candidate thresholds, including linfa's rule that the threshold
+//!   `code <= v` is scored in a node only when the last training row with
+//!   code `v` (last in `rows` order) is in that node
+//!   ([`ThresholdScan::Linfa`]);
+//! * the same score, computed in `f32` with linfa's exact formula
+//!   `w * gini(right) + (1 - w) * gini(left)`, `w = n_right / n`, and the same
+//!   choice: the first candidate in scan order (features in index order, then
+//!   thresholds ascending) whose `f32` score is the lowest. **Tie-break:**
+//!   candidates whose `f32` scores are equal go to the lowest feature index,
+//!   then the lowest threshold (a duplicated column never beats its
+//!   original). Candidates whose exact Gini is equal but whose `f32` scores
+//!   round apart (a mirrored 0/1 column: same partition, sides swapped) go
+//!   to the lower rounding, as in linfa. Exact scores are computed first for
+//!   every candidate and only those within 1e-4 of the best are rescored in
+//!   `f32`; linfa's `f32` error is below 1e-6, so this drops no possible
+//!   winner;
+//! * the same threshold value: the floor of the midpoint between the split
+//!   code and the next code present in the training rows;
+//! * the same pruning: a split whose two children are leaves with the same
+//!   modal class is collapsed, bottom up.
+//!
+//! Through that last-row rule the tree depends on the order of `rows`, in
+//! both learners: give the training rows in one fixed order (ascending, say).
+//!
+//! Where linfa itself is not reproducible the fast learner fixes a rule:
+//! linfa sums `gini` over a `HashMap` in random order, which with three or
+//! more classes can change the rounding and so the winner among candidates
+//! tied to the last bit; here the sum runs in class-index order. linfa's
+//! modal class of a tie is random; here it is the lowest class index. With
+//! two classes linfa is deterministic and the trees are always equal except
+//! where a leaf's modal class is tied and pruning differs.
+//!
+//! [`GrowOptions`] also offers two departures from linfa, for the lead to
+//! choose: [`ThresholdScan::EveryNode`] scores every threshold between codes
+//! present in the node (textbook CART, as scikit-learn does, with threshold
+//! the floor of the midpoint between the node's neighbouring codes), and
+//! `prune: false` keeps splits that do not change the modal class (they still
+//! sharpen the class shares of the leaves, which log-loss rewards).
+
+use super::{FeatureMatrix, Learner, Node, Split, Tree, TreeSettings};
+
+/// Which thresholds a node scores.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum ThresholdScan {
+    /// linfa-trees 0.8.1: `code <= v` only where the last training row with
+    /// code `v` is in the node.
+    #[default]
+    Linfa,
+    /// Every threshold between two codes present in the node (CART).
+    EveryNode,
+}
+
+/// How a [`FastTreeWorkspace`] grows its trees.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct GrowOptions {
+    pub scan: ThresholdScan,
+    /// Collapse splits whose two leaves predict the same class (linfa does).
+    pub prune: bool,
+}
+
+impl Default for GrowOptions {
+    /// linfa-compatible: the tree equals [`super::reference_tree::ReferenceTree`]'s.
+    fn default() -> Self {
+        GrowOptions {
+            scan: ThresholdScan::Linfa,
+            prune: true,
+        }
+    }
+}
+
+/// The fast learner behind the [`Learner`] trait, linfa-compatible. For many
+/// fits on the same rows use a [`FastTreeWorkspace`].
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct FastTree(pub TreeSettings);
+
+impl Learner for FastTree {
+    fn fit(&self, x: &FeatureMatrix, rows: &[u32], labels: &[u8], n_classes: usize) -> Tree {
+        let mut ws = FastTreeWorkspace::new(self.0);
+        ws.prepare(x, rows);
+        ws.fit(labels, n_classes)
+    }
+}
+
+/// Candidates whose exact score is within this of the best are rescored in
+/// `f32` as linfa does; linfa's `f32` rounding error on a score in [0, 1] is
+/// a few units of 2^-24, far below it.
+const RESCORE_TOLERANCE: f64 = 1e-4;
+
+/// `SPREAD[b]` has bit `i` of `b` in byte lane `i`, so adding it to a `u64`
+/// counts eight bit columns at once.
+const SPREAD: [u64; 256] = {
+    let mut t = [0u64; 256];
+    let mut b = 0;
+    while b < 256 {
+        let mut i = 0;
+        while i < 8 {
+            if b & (1 << i) != 0 {
+                t[b] |= 1u64 << (8 * i);
+            }
+            i += 1;
+        }
+        b += 1;
+    }
+    t
+};
+
+/// Cut bits of one feature.
+#[derive(Debug, Clone, Default)]
+struct FeatureCuts {
+    /// Codes present among the training rows, ascending.
+    values: Vec<u8>,
+    /// `last_pos[j]`: last position in `rows` holding `values[j]`.
+    last_pos: Vec<u32>,
+    /// First cut bit of the feature in a packed row; bit `bit + j` is
+    /// `code > values[j]`.
+    bit: usize,
+    /// Bits reserved for the feature, at least `values.len() - 1`.
+    capacity: usize,
+}
+
+impl FeatureCuts {
+    fn n_cuts(&self) -> usize {
+        self.values.len().saturating_sub(1)
+    }
+}
+
+/// Reusable state for fitting many trees on the same training rows of one
+/// feature matrix. See the module doc for the intended loop.
+#[derive(Debug, Clone)]
+pub struct FastTreeWorkspace {
+    settings: TreeSettings,
+    options: GrowOptions,
+    /// Training rows, as given to `prepare`.
+    rows: Vec<u32>,
+    n_features: usize,
+    /// `codes[f * n + i]`: feature `f` of training row `rows[i]`.
+    codes: Vec<u8>,
+    cuts: Vec<FeatureCuts>,
+    /// Bytes per packed row.
+    stride: usize,
+    /// Row-major cut bits, `stride` bytes per training row.
+    packed: Vec<u8>,
+    // Scratch for growing, reused across fits.
+    labels: Vec<u8>,
+    n_classes: usize,
+    idx: Vec<u32>,
+    spill: Vec<u32>,
+    node_id: Vec<u32>,
+    next_id: u32,
+    acc: Vec<u64>,
+    /// Right-side class counts per cut bit, one slot per (depth, side):
+    /// `sums[slot * slot_len + k * stride * 8 + bit]`.
+    sums: Vec<u32>,
+    candidates: Vec<(usize, usize, f64)>,
+}
+
+impl FastTreeWorkspace {
+    pub fn new(settings: TreeSettings) -> Self {
+        Self::with_options(settings, GrowOptions::default())
+    }
+
+    pub fn with_options(settings: TreeSettings, options: GrowOptions) -> Self {
+        FastTreeWorkspace {
+            settings,
+            options,
+            rows: Vec::new(),
+            n_features: 0,
+            codes: Vec::new(),
+            cuts: Vec::new(),
+            stride: 0,
+            packed: Vec::new(),
+            labels: Vec::new(),
+            n_classes: 0,
+            idx: Vec::new(),
+            spill: Vec::new(),
+            node_id: Vec::new(),
+            next_id: 0,
+            acc: Vec::new(),
+            sums: Vec::new(),
+            candidates: Vec::new(),
+        }
+    }
+
+    pub fn settings(&self) -> TreeSettings {
+        self.settings
+    }
+
+    pub fn options(&self) -> GrowOptions {
+        self.options
+    }
+
+    /// The training rows given to the last `prepare`.
+    pub fn rows(&self) -> &[u32] {
+        &self.rows
+    }
+
+    /// Gathers every feature of the training `rows` of `x` and packs their
+    /// cut bits. Call once per matrix and row set.
+    pub fn prepare(&mut self, x: &FeatureMatrix, rows: &[u32]) {
+        let n = rows.len();
+        self.rows.clear();
+        self.rows.extend_from_slice(rows);
+        self.n_features = x.n_features();
+        self.codes.clear();
+        self.codes.resize(n * self.n_features, 0);
+        for f in 0..self.n_features {
+            let col = x.column(f);
+            let dst = &mut self.codes[f * n..(f + 1) * n];
+            for (d, &r) in dst.iter_mut().zip(rows) {
+                *d = col[r as usize];
+            }
+        }
+        self.cuts.clear();
+        self.cuts.resize(self.n_features, FeatureCuts::default());
+        for f in 0..self.n_features {
+            self.scan_values(f);
+        }
+        self.layout_and_pack();
+    }
+
+    /// Re-gathers the listed features from `x` after the caller rewrote their
+    /// columns (binned priors recomputed for a permutation, say). Only those
+    /// features are repacked unless one now needs more cut bits than it had
+    /// room for, which relays out every row.
+    pub fn refresh_features(&mut self, x: &FeatureMatrix, features: &[usize]) {
+        let n = self.rows.len();
+        assert_eq!(
+            x.n_features(),
+            self.n_features,
+            "refresh with the prepared matrix"
+        );
+        let mut relayout = false;
+        for &f in features {
+            let col = x.column(f);
+            let dst = &mut self.codes[f * n..(f + 1) * n];
+            for (d, &r) in dst.iter_mut().zip(&self.rows) {
+                *d = col[r as usize];
+            }
+            self.scan_values(f);
+            if self.cuts[f].n_cuts() > self.cuts[f].capacity {
+                relayout = true;
+            }
+        }
+        if relayout {
+            self.layout_and_pack();
+        } else {
+            for &f in features {
+                self.pack_feature(f);
+            }
+        }
+    }
+
+    /// Whether the prepared codes are those of `x` at the prepared rows
+    /// (a check for tests and debugging; it reads every code).
+    pub fn matches(&self, x: &FeatureMatrix) -> bool {
+        let n = self.rows.len();
+        x.n_features() == self.n_features
+            && (0..self.n_features).all(|f| {
+                let col = x.column(f);
+                self.codes[f * n..(f + 1) * n]
+                    .iter()
+                    .zip(&self.rows)
+                    .all(|(&c, &r)| col.get(r as usize) == Some(&c))
+            })
+    }
+
+    /// Fits a tree to the prepared rows with `labels[i]` the class of
+    /// `rows[i]`.
+    pub fn fit(&mut self, labels: &[u8], n_classes: usize) -> Tree {
+        let n = self.rows.len();
+        assert_eq!(labels.len(), n, "one label per training row");
+        assert!(
+            labels.iter().all(|&l| (l as usize) < n_classes),
+            "labels must be below n_classes = {n_classes}"
+        );
+        self.labels.clear();
+        self.labels.extend_from_slice(labels);
+        self.n_classes = n_classes;
+        self.idx.clear();
+        self.idx.extend(0..n as u32);
+        self.spill.resize(n, 0);
+        self.node_id.clear();
+        self.node_id.resize(n, 0);
+        self.next_id = 1;
+        self.acc.clear();
+        self.acc.resize(n_classes * self.stride, 0);
+
+        let mut counts = vec![0u32; n_classes];
+        for &l in labels {
+            counts[l as usize] += 1;
+        }
+        let mut nodes = Vec::new();
+        if self.splittable(n, 0, &counts) {
+            self.ensure_slot(0);
+            self.accumulate(0, n, 0);
+        }
+        self.grow(&mut nodes, 0, n, 0, 0, 0, counts);
+        Tree { nodes, n_classes }
+    }
+
+    /// Fits with other settings or options on the same prepared rows.
+    pub fn fit_with(
+        &mut self,
+        settings: TreeSettings,
+        options: GrowOptions,
+        labels: &[u8],
+        n_classes: usize,
+    ) -> Tree {
+        self.settings = settings;
+        self.options = options;
+        self.fit(labels, n_classes)
+    }
+
+    // ---- preparation ----
+
+    /// Finds the present codes of feature `f` and the last position of each.
+    fn scan_values(&mut self, f: usize) {
+        let n = self.rows.len();
+        let mut last = [u32::MAX; 256];
+        for (i, &c) in self.codes[f * n..(f + 1) * n].iter().enumerate() {
+            last[c as usize] = i as u32;
+        }
+        let cuts = &mut self.cuts[f];
+        cuts.values.clear();
+        cuts.last_pos.clear();
+        for (v, &p) in last.iter().enumerate() {
+            if p != u32::MAX {
+                cuts.values.push(v as u8);
+                cuts.last_pos.push(p);
+            }
+        }
+    }
+
+    /// Places every feature's cut bits: features with at most one cut share
+    /// bytes one bit each; wider ones get whole bytes, so a prior binned
+    /// 0..=20 keeps room for all its 20 cuts whichever codes a permutation
+    /// leaves present.
+    fn layout_and_pack(&mut self) {
+        let mut bit = 0;
+        for c in self.cuts.iter_mut().filter(|c| c.n_cuts() <= 1) {
+            c.bit = bit;
+            c.capacity = 1;
+            bit += 1;
+        }
+        bit = bit.div_ceil(8) * 8;
+        for c in self.cuts.iter_mut().filter(|c| c.n_cuts() > 1) {
+            c.bit = bit;
+            c.capacity = c.n_cuts().div_ceil(8) * 8;
+            bit += c.capacity;
+        }
+        self.stride = bit.div_ceil(8);
+        self.packed.clear();
+        self.packed.resize(self.rows.len() * self.stride, 0);
+        for f in 0..self.n_features {
+            self.pack_feature(f);
+        }
+    }
+
+    /// Writes feature `f`'s cut bits into every packed row: a row with the
+    /// `r`-th present code has its first `r` cut bits set.
+    fn pack_feature(&mut self, f: usize) {
+        let n = self.rows.len();
+        let s = self.stride;
+        let cuts = &self.cuts[f];
+        let mut rank = [0u8; 256];
+        for (j, &v) in cuts.values.iter().enumerate() {
+            rank[v as usize] = j as u8;
+        }
+        let col = &self.codes[f * n..(f + 1) * n];
+        if cuts.capacity == 1 {
+            let (byte, mask) = (cuts.bit / 8, 1u8 << (cuts.bit % 8));
+            for (row, &c) in self.packed.chunks_exact_mut(s).zip(col) {
+                let set = (rank[c as usize] >= 1) as u8;
+                row[byte] = (row[byte] & !mask) | (set * mask);
+            }
+        } else {
+            let first = cuts.bit / 8;
+            let n_bytes = cuts.capacity / 8;
+            // thermometer[r]: the bytes of a row whose code has rank r.
+            let mut thermometer = vec![0u8; cuts.values.len() * n_bytes];
+            for (r, bytes) in thermometer.chunks_exact_mut(n_bytes).enumerate() {
+                for (q, b) in bytes.iter_mut().enumerate() {
+                    let below = r.saturating_sub(8 * q).min(8);
+                    *b = ((1u16 << below) - 1) as u8;
+                }
+            }
+            for (row, &c) in self.packed.chunks_exact_mut(s).zip(col) {
+                let r = rank[c as usize] as usize;
+                // A byte loop: these are 1 to 3 bytes, too short for memcpy.
+                for (d, &t) in row[first..first + n_bytes]
+                    .iter_mut()
+                    .zip(&thermometer[r * n_bytes..(r + 1) * n_bytes])
+                {
+                    *d = t;
+                }
+            }
+        }
+    }
+
+    // ---- growing ----
+
+    fn min_leaf(&self) -> usize {
+        self.settings.min_samples_leaf.max(1)
+    }
+
+    /// Whether linfa could split a node of `n` rows at `depth` with these
+    /// class counts. A node too small for two leaves, or pure, has no split
+    /// that linfa would keep (a pure node's best decrease is 0), so it gets
+    /// no sums.
+    fn splittable(&self, n: usize, depth: usize, counts: &[u32]) -> bool {
+        depth < self.settings.max_depth
+            && n >= self.settings.min_samples_split
+            && n >= 2 * self.min_leaf()
+            && counts.iter().filter(|&&c| c > 0).count() > 1
+            && self.n_features > 0
+    }
+
+    fn slot_len(&self) -> usize {
+        self.n_classes * self.stride * 8
+    }
+
+    fn ensure_slot(&mut self, slot: usize) {
+        let need = (slot + 1) * self.slot_len();
+        if self.sums.len() < need {
+            self.sums.resize(need, 0);
+        }
+    }
+
+    /// Column sums of the cut bits over `idx[lo..hi]`, per class, into `slot`.
+    fn accumulate(&mut self, lo: usize, hi: usize, slot: usize) {
+        let s = self.stride;
+        let lanes = s * 8;
+        let slot_len = self.slot_len();
+        let out = &mut self.sums[slot * slot_len..(slot + 1) * slot_len];
+        out.fill(0);
+        let acc = &mut self.acc;
+        acc.fill(0);
+        let flush = |acc: &mut [u64], out: &mut [u32]| {
+            for (a_class, o_class) in acc.chunks_exact_mut(s).zip(out.chunks_exact_mut(lanes)) {
+                for (a, o) in a_class.iter_mut().zip(o_class.chunks_exact_mut(8)) {
+                    let v = *a;
+                    if v != 0 {
+                        for (lane, o) in o.iter_mut().enumerate() {
+                            *o += ((v >> (8 * lane)) & 0xff) as u32;
+                        }
+                        *a = 0;
+                    }
+                }
+            }
+        };
+        let mut since_flush = 0;
+        for &p in &self.idx[lo..hi] {
+            let p = p as usize;
+            let l = self.labels[p] as usize;
+            let row = &self.packed[p * s..(p + 1) * s];
+            let a = &mut acc[l * s..(l + 1) * s];
+            for (a, &b) in a.iter_mut().zip(row) {
+                *a += SPREAD[b as usize];
+            }
+            since_flush += 1;
+            // A byte lane holds at most 255.
+            if since_flush == 255 {
+                flush(acc, out);
+                since_flush = 0;
+            }
+        }
+        flush(acc, out);
+    }
+
+    /// `slot dst = slot parent - slot sub`.
+    fn subtract(&mut self, parent: usize, sub: usize, dst: usize) {
+        let len = self.slot_len();
+        for i in 0..len {
+            self.sums[dst * len + i] = self.sums[parent * len + i] - self.sums[sub * len + i];
+        }
+    }
+
+    /// Grows the node over `idx[lo..hi]` (its sums, when it is splittable, in
+    /// slot `2 * depth + side`), appending it and its subtree in pre-order.
+    #[allow(clippy::too_many_arguments)]
+    fn grow(
+        &mut self,
+        nodes: &mut Vec<Node>,
+        lo: usize,
+        hi: usize,
+        depth: usize,
+        side: usize,
+        id: u32,
+        counts: Vec<u32>,
+    ) -> usize {
+        let me = nodes.len();
+        let n_node = hi - lo;
+        let splittable = self.splittable(n_node, depth, &counts);
+        nodes.push(Node {
+            class_counts: counts,
+            split: None,
+        });
+        if !splittable {
+            return me;
+        }
+        let slot = if depth == 0 { 0 } else { 2 * depth - 1 + side };
+        let Some((feature, cut_bit, threshold)) =
+            self.best_split(lo, hi, slot, id, &nodes[me].class_counts)
+        else {
+            return me;
+        };
+
+        // Partition stably: left rows stay in order in place, right rows go
+        // through `spill`.
+        let (left_id, right_id) = (self.next_id, self.next_id + 1);
+        self.next_id += 2;
+        let n = self.rows.len();
+        let k = self.n_classes;
+        let mut w = lo;
+        let mut spilled = 0;
+        {
+            // Branch-free: the side of a row is as good as random.
+            let col = &self.codes[feature * n..(feature + 1) * n];
+            let idx = &mut self.idx[..hi];
+            let spill = &mut self.spill[..hi - lo];
+            for i in lo..hi {
+                let p = idx[i];
+                let goes_left = (col[p as usize] <= threshold) as usize;
+                idx[w] = p;
+                spill[spilled] = p; // spilled <= i - lo
+                w += goes_left;
+                spilled += 1 - goes_left;
+                self.node_id[p as usize] = if goes_left == 1 { left_id } else { right_id };
+            }
+        }
+        // The children's class counts are the parent's sums at the cut.
+        let lanes = self.stride * 8;
+        let parent_sums = &self.sums[slot * self.slot_len()..];
+        let right_counts: Vec<u32> = (0..k).map(|c| parent_sums[c * lanes + cut_bit]).collect();
+        let left_counts: Vec<u32> = nodes[me]
+            .class_counts
+            .iter()
+            .zip(&right_counts)
+            .map(|(t, r)| t - r)
+            .collect();
+        let mid = w;
+        self.idx[mid..hi].copy_from_slice(&self.spill[..spilled]);
+
+        // Sums for the children that will be scanned: the smaller side is
+        // counted, the other is the parent minus it.
+        let need_left = self.splittable(mid - lo, depth + 1, &left_counts);
+        let need_right = self.splittable(hi - mid, depth + 1, &right_counts);
+        let (ls, rs) = (2 * depth + 1, 2 * depth + 2);
+        if need_left || need_right {
+            self.ensure_slot(rs);
+            let left_smaller = mid - lo <= hi - mid;
+            match (need_left, need_right) {
+                (true, true) if left_smaller => {
+                    self.accumulate(lo, mid, ls);
+                    self.subtract(slot, ls, rs);
+                }
+                (true, true) => {
+                    self.accumulate(mid, hi, rs);
+                    self.subtract(slot, rs, ls);
+                }
+                (true, false) if !left_smaller => {
+                    self.accumulate(mid, hi, rs);
+                    self.subtract(slot, rs, ls);
+                }
+                (true, false) => self.accumulate(lo, mid, ls),
+                (false, true) if left_smaller => {
+                    self.accumulate(lo, mid, ls);
+                    self.subtract(slot, ls, rs);
+                }
+                (false, true) => self.accumulate(mid, hi, rs),
+                (false, false) => unreachable!(),
+            }
+        }
+
+        let left = self.grow(nodes, lo, mid, depth + 1, 0, left_id, left_counts);
+        let right = self.grow(nodes, mid, hi, depth + 1, 1, right_id, right_counts);
+        nodes[me].split = Some(Split {
+            feature,
+            threshold,
+            left,
+            right,
+        });
+        if self.options.prune
+            && nodes[left].split.is_none()
+            && nodes[right].split.is_none()
+            && nodes[left].modal_class() == nodes[right].modal_class()
+        {
+            // Pre-order keeps a subtree contiguous, so collapsing it is a
+            // truncation.
+            nodes.truncate(me + 1);
+            nodes[me].split = None;
+        }
+        me
+    }
+
+    /// linfa's split choice for the node over `idx[lo..hi]` with sums in
+    /// `slot`: `(feature, cut bit, threshold)`, or `None` for a leaf.
+    fn best_split(
+        &mut self,
+        lo: usize,
+        hi: usize,
+        slot: usize,
+        id: u32,
+        counts: &[u32],
+    ) -> Option<(usize, usize, u8)> {
+        let n_node = (hi - lo) as u32;
+        let min_leaf = self.min_leaf() as u32;
+        let k = self.n_classes;
+        let lanes = self.stride * 8;
+        let slot_len = self.slot_len();
+        let sums = &self.sums[slot * slot_len..(slot + 1) * slot_len];
+        let right_of = |bit: usize, class: usize| sums[class * lanes + bit];
+        let every_node = self.options.scan == ThresholdScan::EveryNode;
+
+        // Pass 1: exact weighted Gini of every candidate, in scan order.
+        self.candidates.clear();
+        let mut best_exact = f64::INFINITY;
+        for (f, cuts) in self.cuts.iter().enumerate() {
+            let mut prev_right = n_node;
+            for j in 0..cuts.n_cuts() {
+                let bit = cuts.bit + j;
+                let n_right: u32 = (0..k).map(|c| right_of(bit, c)).sum();
+                let n_left = n_node - n_right;
+                let here = prev_right - n_right; // node rows with code values[j]
+                prev_right = n_right;
+                let scored = if every_node {
+                    here > 0
+                } else {
+                    self.node_id[cuts.last_pos[j] as usize] == id
+                };
+                if !scored || n_left < min_leaf || n_right < min_leaf {
+                    continue;
+                }
+                let (mut sq_left, mut sq_right) = (0u64, 0u64);
+                for (c, &total) in counts.iter().enumerate() {
+                    let r = right_of(bit, c) as u64;
+                    let l = total as u64 - r;
+                    sq_left += l * l;
+                    sq_right += r * r;
+                }
+                let score = 1.0
+                    - (sq_left as f64 / n_left as f64 + sq_right as f64 / n_right as f64)
+                        / n_node as f64;
+                best_exact = best_exact.min(score);
+                self.candidates.push((f, j, score));
+            }
+        }
+        if self.candidates.is_empty() {
+            return None;
+        }
+
+        // Pass 2: linfa's f32 score for the near-best, first lowest wins.
+        let mut best: Option<(usize, usize, f32)> = None;
+        let mut right = vec![0u32; k];
+        let mut left = vec![0u32; k];
+        for &(f, j, exact) in &self.candidates {
+            if exact > best_exact + RESCORE_TOLERANCE {
+                continue;
+            }
+            let bit = self.cuts[f].bit + j;
+            for c in 0..k {
+                right[c] = right_of(bit, c);
+                left[c] = counts[c] - right[c];
+            }
+            let score = linfa_split_score(&left, &right, n_node);
+            if best.is_none_or(|(_, _, b)| score < b) {
+                best = Some((f, j, score));
+            }
+        }
+        let (f, j, score) = best?;
+        let decrease = linfa_gini(counts, n_node) as f64 - score as f64;
+        if decrease < self.settings.min_impurity_decrease.max(f64::EPSILON) {
+            return None;
+        }
+
+        let values = &self.cuts[f].values;
+        let next = if every_node {
+            // The next code present in the node.
+            let bit = self.cuts[f].bit;
+            let n_right_at = |j: usize| -> u32 {
+                if j >= values.len() - 1 {
+                    0
+                } else {
+                    (0..k).map(|c| right_of(bit + j, c)).sum()
+                }
+            };
+            (j + 1..values.len())
+                .find(|&i| n_right_at(i - 1) > n_right_at(i))
+                .map(|i| values[i])
+                .expect("a scored cut has a code on its right")
+        } else {
+            values[j + 1]
+        };
+        Some((f, self.cuts[f].bit + j, midpoint_floor(values[j], next)))
+    }
+}
+
+/// Floor of the midpoint of two codes, the threshold linfa's `f64` midpoint
+/// becomes.
+fn midpoint_floor(a: u8, b: u8) -> u8 {
+    ((a as u16 + b as u16) / 2) as u8
+}
+
+/// linfa's `gini_impurity` (the CART Gini index `1 - sum_k p_k^2`), in
+/// `f32`, summing in class-index order.
+fn linfa_gini(counts: &[u32], n: u32) -> f32 {
+    let m = n as f32;
+    let mut purity = 0.0f32;
+    for &c in counts {
+        if c > 0 {
+            let q = c as f32 / m;
+            purity += q * q;
+        }
+    }
+    1.0 - purity
+}
+
+/// linfa's weighted score of a split, bit for bit (two classes) or up to the
+/// order of a sum (more).
+fn linfa_split_score(left: &[u32], right: &[u32], n: u32) -> f32 {
+    let n_right: u32 = right.iter().sum();
+    let n_left = n - n_right;
+    let w = n_right as f32 / n as f32;
+    w * linfa_gini(right, n_right) + (1.0 - w) * linfa_gini(left, n_left)
+}

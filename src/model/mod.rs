@@ -16,12 +16,16 @@ use serde::Serialize;
 pub struct TreeSettings {
     /// Maximum depth; the root is depth 0.
     pub max_depth: usize,
-    /// A leaf holds at least this many training rows.
+    /// A leaf holds at least this many training rows (0 counts as 1).
     pub min_samples_leaf: usize,
     /// A node with fewer rows is not split.
     pub min_samples_split: usize,
-    /// A split must lower weighted Gini impurity by at least this much
-    /// (as a fraction of the node's share of all training rows).
+    /// A split must lower the node's Gini impurity (the node's impurity
+    /// minus the row-weighted impurity of its two children) by at least this
+    /// much. As in linfa-trees, the decrease is *not* scaled by the node's
+    /// share of all training rows (scikit-learn scales it), and values below
+    /// `f64::EPSILON` count as `f64::EPSILON`, so a split that lowers nothing
+    /// is never made. See `reference_tree` for the full rule set.
     pub min_impurity_decrease: f64,
 }
 
@@ -85,6 +89,16 @@ pub struct Node {
     pub split: Option<Split>,
 }
 
+impl Node {
+    /// The most frequent class of the node's training rows; a tie goes to
+    /// the lowest class index (the rule both learners prune by, and
+    /// scikit-learn's `argmax`).
+    pub fn modal_class(&self) -> usize {
+        let c = &self.class_counts;
+        (0..c.len()).fold(0, |best, k| if c[k] > c[best] { k } else { best })
+    }
+}
+
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
 pub struct Split {
     pub feature: usize,
@@ -94,7 +108,9 @@ pub struct Split {
     pub right: usize,
 }
 
-/// A fitted classification tree; node 0 is the root.
+/// A fitted classification tree; node 0 is the root, and both learners
+/// number the nodes in pre-order (a node, its left subtree, its right
+/// subtree).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Tree {
     pub nodes: Vec<Node>,

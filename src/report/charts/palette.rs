@@ -93,8 +93,9 @@ pub const NOT_SIGNIFICANT: RGBColor = rgb(0xBDBDBD);
 pub const PERIOD_BEFORE: RGBColor = rgb(0x0072B2);
 pub const PERIOD_AFTER: RGBColor = rgb(0xD55E00);
 
-/// Cells with too few pitches to colour.
-pub const FEW_PITCHES: RGBColor = rgb(0xE4E4E4);
+/// Cells with too few pitches to colour, and their hatching.
+pub const FEW_PITCHES: RGBColor = rgb(0xEBEBEB);
+pub const HATCH: RGBColor = rgb(0xB5B5B5);
 /// Main text and outlines.
 pub const INK: RGBColor = rgb(0x1A1A1A);
 /// Secondary text (subtitles, notes).

@@ -1,0 +1,385 @@
+//! The predictability audit: the whole pipeline from a pitch log to one
+//! [`summary::Summary`] value (plus the full tell tests for `tells.csv`).
+
+pub mod permute;
+pub mod summary;
+pub mod wording;
+
+use crate::error::{Error, Result};
+use crate::evaluate::fit::{argmax, fit_and_score, statistic, Workspace};
+use crate::evaluate::split::Plan;
+use crate::evaluate::task::PitcherTask;
+use crate::evaluate::{self, HeldOut};
+use crate::ingest::{self, Ingested, Rejected};
+use crate::model::reference_tree::ReferenceTree as FastTree;
+use crate::settings::{PriorStrength, Settings};
+use crate::significance::{fdr, wilson};
+use crate::situations::{self, levels::COUNTS, Situations};
+use crate::tells::{self, Direction, TellTest};
+use rayon::prelude::*;
+use std::collections::BTreeMap;
+use std::path::Path;
+use summary::*;
+
+/// Everything an audit produces.
+pub struct Audit {
+    pub summary: Summary,
+    pub tests: Vec<TellTest>,
+    pub rejected: Vec<Rejected>,
+}
+
+/// Observed-fit results of one pitcher, before significance.
+struct Observed {
+    figures: HeldOut,
+    counts: Vec<(&'static str, HeldOut)>,
+    types: Vec<evaluate::TypeFigures>,
+    scored: evaluate::fit::Scored,
+    statistic: f64,
+    sd_log_ratio: f64,
+}
+
+fn mix_of(names: &[String], task: &PitcherTask, rows: &[u32]) -> BTreeMap<String, f64> {
+    let mut c = vec![0usize; task.n_classes];
+    for &r in rows {
+        c[task.labels[r as usize] as usize] += 1;
+    }
+    let n = rows.len().max(1) as f64;
+    (0..task.n_classes).map(|k| (names[task.class_types[k] as usize].clone(), c[k] as f64 / n)).collect()
+}
+
+fn observe(task: &PitcherTask, settings: &Settings, names: &[String]) -> Observed {
+    let learner = FastTree(settings.tree);
+    let mut ws = Workspace::new(task);
+    let scored = fit_and_score(task, &task.labels, settings, &learner, &mut ws, true);
+    let figures = evaluate::overall(&scored, &task.labels);
+    let counts = evaluate::per_count(task, &scored, &task.labels);
+    let types = evaluate::per_type(task, &scored, &task.labels, names, settings.min_type_pitches);
+    let stat = statistic(&scored, &task.labels, settings.statistic);
+    let mut ss = 0.0;
+    for (i, &r) in scored.rows.iter().enumerate() {
+        let y = task.labels[r as usize] as usize;
+        let d = (scored.model_row(i)[y] / scored.prior_row(i)[y]).log2() - figures.bits_gained;
+        ss += d * d;
+    }
+    let sd = if scored.rows.len() > 1 { (ss / (scored.rows.len() - 1) as f64).sqrt() } else { 0.0 };
+    Observed { figures, counts, types, scored, statistic: stat, sd_log_ratio: sd }
+}
+
+/// Run the audit of the log at `path`.
+pub fn run(path: &Path, settings: &Settings, show_progress: bool) -> Result<Audit> {
+    let Ingested { log, rejected, source } = ingest::load(path, settings)?;
+    let sit = situations::build(&log);
+    let plan = Plan::new(&log, settings.test_season, settings.forward_blocks)?;
+    audit_log(&log, &sit, &plan, rejected, source, settings, show_progress)
+}
+
+fn selected_pitchers(log: &ingest::PitchLog, settings: &Settings) -> Result<Vec<u32>> {
+    if settings.pitchers.is_empty() {
+        return Ok((0..log.pitchers.len() as u32).collect());
+    }
+    let mut out = Vec::new();
+    for p in &settings.pitchers {
+        match log.pitchers.iter().position(|q| q == p) {
+            Some(i) => out.push(i as u32),
+            None => {
+                return Err(Error::Usage(format!(
+                    "--pitcher \"{p}\" is not in the log; run `tellscope check` to list the pitchers"
+                )))
+            }
+        }
+    }
+    out.sort_unstable();
+    out.dedup();
+    Ok(out)
+}
+
+pub fn audit_log(
+    log: &ingest::PitchLog,
+    sit: &Situations,
+    plan: &Plan,
+    rejected: Vec<Rejected>,
+    source: ingest::SourceInfo,
+    settings: &Settings,
+    show_progress: bool,
+) -> Result<Audit> {
+    let names = &log.pitch_types;
+    let chosen = selected_pitchers(log, settings)?;
+    let mut rows_of: Vec<Vec<u32>> = vec![Vec::new(); log.pitchers.len()];
+    for i in 0..log.len() {
+        rows_of[log.pitcher[i] as usize].push(i as u32);
+    }
+    let tasks: Vec<PitcherTask> = chosen
+        .par_iter()
+        .map(|&p| PitcherTask::build(log, sit, plan, p, rows_of[p as usize].clone()))
+        .collect();
+    let enough = |t: &PitcherTask| t.n_train() >= settings.min_train_pitches && t.n_test() >= settings.min_test_pitches;
+    let ok_tasks: Vec<&PitcherTask> = tasks.iter().filter(|t| enough(t)).collect();
+
+    let observed: Vec<Observed> = ok_tasks.par_iter().map(|t| observe(t, settings, names)).collect();
+
+    let total: u64 = (ok_tasks.len() * settings.permutations) as u64;
+    let bar = crate::progress::bar(total, "permutations", show_progress);
+    let tick = |n: u64| bar.inc(n);
+    let learner = FastTree(settings.tree);
+    let perms: Vec<permute::PermutationResult> = ok_tasks
+        .par_iter()
+        .zip(observed.par_iter())
+        .map(|(t, o)| permute::permutation_test(t, o.statistic, settings, &learner, &tick))
+        .collect();
+    bar.finish_and_clear();
+    let model_q = fdr::bh_q_values(&perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
+
+    let ok_owned: Vec<PitcherTask> = ok_tasks.iter().map(|t| (*t).clone()).collect();
+    let tests = tells::find(log, sit, &plan.discovery, &ok_owned, settings);
+
+    let mut pitchers = Vec::new();
+    let mut ok_iter = 0usize;
+    for task in &tasks {
+        let throws = log.throws[task.rows[0] as usize].as_str().to_string();
+        if !enough(task) {
+            pitchers.push(PitcherSummary {
+                pitcher: task.name.clone(),
+                throws,
+                status: "insufficient data".into(),
+                n_train: task.n_train(),
+                n_test: task.n_test(),
+                mix: None,
+                test_mix: None,
+                prior_pitch: None,
+                prior_accuracy: None,
+                model_accuracy: None,
+                lift: None,
+                bits_gained: None,
+                bits_margin: None,
+                p_value: None,
+                q_value: None,
+                permutations: None,
+                stopped_early: None,
+                significant: None,
+                null_statistics: Vec::new(),
+                counts: Vec::new(),
+                types: Vec::new(),
+                tells: Vec::new(),
+                rules: Vec::new(),
+                n_unseen_type: None,
+                tell_family_q: None,
+                cautions: vec![format!(
+                    "Only {} training and {} held-out pitches; at least {} and {} are needed before any figure is shown.",
+                    task.n_train(),
+                    task.n_test(),
+                    settings.min_train_pitches,
+                    settings.min_test_pitches
+                )],
+            });
+            continue;
+        }
+        let o = &observed[ok_iter];
+        let perm = &perms[ok_iter];
+        let q = model_q[ok_iter];
+        ok_iter += 1;
+        let last_fold = task.folds.last().unwrap();
+        let train_rows = &last_fold.train;
+        let test_rows: Vec<u32> = o.scored.rows.clone();
+        let mix = mix_of(names, task, train_rows);
+        let test_mix = mix_of(names, task, &test_rows);
+        let usage = &o.scored.usage[o.scored.usage.len() - 1];
+        let prior_pitch = names[task.class_types[usage.top] as usize].clone();
+        let flagged = tells::flagged_sorted(&tests, &task.name);
+        let counts = count_summaries(task, o, &tests, names, settings);
+        let n_leaves = o.scored.trees.iter().map(|t| t.n_leaves()).max().unwrap_or(1);
+        // Margin of bits gained under no situational signal: the expected
+        // overfit of L leaves × (K − 1) free shares fitted on n training
+        // pitches, L(K−1)/(2n) nats per pitch (the asymptotic chi-square of
+        // a likelihood ratio, as in Akaike's information criterion), plus
+        // three standard errors of the held-out mean.
+        let margin = (n_leaves as f64 * (task.n_classes as f64 - 1.0)) / (2.0 * task.n_train() as f64 * std::f64::consts::LN_2)
+            + 3.0 * o.sd_log_ratio / (task.n_test() as f64).sqrt();
+        let mut cautions = Vec::new();
+        if task.n_test() < 300 {
+            cautions.push(format!(
+                "Only {} held-out pitches: per-count figures rest on few pitches and can swing by chance.",
+                task.n_test()
+            ));
+        }
+        for (t, &share) in &test_mix {
+            let before = mix.get(t).copied().unwrap_or(0.0);
+            if share >= settings.new_pitch_share && before < settings.absent_share {
+                cautions.push(format!(
+                    "He threw a {t} in {} ({:.0}% of pitches) that he hardly threw in {} ({:.1}%). Neither guess could know a pitch it had not seen, so {} held-out pitches of types new to him are left out of his figures, and his tells describe the old arsenal.",
+                    plan.test_label,
+                    100.0 * share,
+                    plan.train_label,
+                    100.0 * before,
+                    o.scored.unseen
+                ));
+            }
+        }
+        let tvd: f64 = mix
+            .keys()
+            .chain(test_mix.keys())
+            .collect::<std::collections::BTreeSet<_>>()
+            .iter()
+            .map(|t| (mix.get(*t).copied().unwrap_or(0.0) - test_mix.get(*t).copied().unwrap_or(0.0)).abs())
+            .sum::<f64>()
+            / 2.0;
+        if tvd >= 0.15 {
+            cautions.push(format!(
+                "His pitch mix changed between {} and {} (total variation {:.2}); a changed role or arsenal makes held-out figures less comparable. See `tellscope compare`.",
+                plan.train_label, plan.test_label, tvd
+            ));
+        }
+        let rules = wording::rules(task, &o.scored, names);
+        pitchers.push(PitcherSummary {
+            pitcher: task.name.clone(),
+            throws,
+            status: "ok".into(),
+            n_train: task.n_train(),
+            n_test: task.n_test(),
+            mix: Some(mix),
+            test_mix: Some(test_mix),
+            prior_pitch: Some(prior_pitch),
+            prior_accuracy: Some(o.figures.prior_accuracy),
+            model_accuracy: Some(o.figures.model_accuracy),
+            lift: Some(o.figures.lift),
+            bits_gained: Some(o.figures.bits_gained),
+            bits_margin: Some(margin),
+            p_value: Some(perm.p_value),
+            q_value: Some(q),
+            permutations: Some(perm.permutations),
+            stopped_early: Some(perm.stopped_early),
+            significant: Some(q <= settings.fdr),
+            null_statistics: perm.null.clone(),
+            counts,
+            types: o.types.clone(),
+            tells: flagged.into_iter().cloned().collect(),
+            rules,
+            n_unseen_type: Some(o.scored.unseen),
+            tell_family_q: tests.iter().find(|t| t.pitcher == task.name).map(|t| t.family_q),
+            cautions,
+        });
+    }
+    let mut notes = Vec::new();
+    for (f, why) in &sit.dropped {
+        notes.push(format!("The {f} factor is left out: {why}."));
+    }
+    for n in &sit.notes {
+        notes.push(format!("Note: {n}."));
+    }
+    if source.rows_rejected > 0 {
+        notes.push(format!(
+            "{} of {} input rows broke the data contract and were left out; they are listed with reasons in rejected.csv.",
+            source.rows_rejected, source.rows_read
+        ));
+    }
+    let summary = Summary {
+        tool: Tool { name: "tellscope".into(), version: env!("CARGO_PKG_VERSION").into() },
+        input: Input {
+            path: source.path.display().to_string(),
+            rows_read: source.rows_read,
+            rows_rejected: source.rows_rejected,
+            rows_kept: log.len(),
+            sha256: source.sha256.clone(),
+            optional_present: source.optional_present.clone(),
+            optional_missing: source.optional_missing.clone(),
+            seasons: log.seasons(),
+        },
+        settings: SettingsOut {
+            seed: settings.seed,
+            permutations: settings.permutations,
+            fdr: settings.fdr,
+            statistic: match settings.statistic {
+                crate::settings::Statistic::Bits => "bits_gained".into(),
+                crate::settings::Statistic::Accuracy => "accuracy_gained".into(),
+            },
+            stop_after_exceedances: settings.stop_after_exceedances,
+            min_train_pitches: settings.min_train_pitches,
+            min_test_pitches: settings.min_test_pitches,
+            tree_max_depth: settings.tree.max_depth,
+            tree_min_samples_leaf: settings.tree.min_samples_leaf,
+            tree_min_samples_split: settings.tree.min_samples_split,
+            leaf_smoothing: settings.leaf_smoothing,
+            prior_strength: match settings.prior_strength {
+                PriorStrength::Auto => "auto".into(),
+                PriorStrength::Fixed(s) => format!("{s}"),
+            },
+            tell_min_effect: settings.tell_min_effect,
+            tell_min_n: settings.tell_min_n,
+            tell_pairs: settings.tell_pairs.iter().map(|(a, b)| format!("{a} x {b}")).collect(),
+            tell_fdr_method: match settings.tell_fdr_method {
+                crate::settings::FdrMethod::Hierarchical => "hierarchical".into(),
+                crate::settings::FdrMethod::Pooled => "pooled".into(),
+            },
+        },
+        evaluation: EvaluationOut {
+            scheme: plan.scheme_name().into(),
+            train: plan.train_label.clone(),
+            test: plan.test_label.clone(),
+        },
+        notes,
+        tell_tests: tests.len(),
+        tells_flagged: tests.iter().filter(|t| t.flagged).count(),
+        pitchers,
+    };
+    Ok(Audit { summary, tests, rejected })
+}
+
+fn count_summaries(
+    task: &PitcherTask,
+    o: &Observed,
+    tests: &[TellTest],
+    names: &[String],
+    settings: &Settings,
+) -> Vec<CountSummary> {
+    let k = task.n_classes;
+    let mut out = Vec::new();
+    for (c, (label, fig)) in o.counts.iter().enumerate() {
+        let mut held = vec![0usize; k];
+        for &r in &o.scored.rows {
+            if task.count[r as usize] as usize == c {
+                held[task.labels[r as usize] as usize] += 1;
+            }
+        }
+        let mut disc = vec![0usize; k];
+        for &r in &task.discovery {
+            if task.count[r as usize] as usize == c {
+                disc[task.labels[r as usize] as usize] += 1;
+            }
+        }
+        let hn: usize = held.iter().sum();
+        let dn: usize = disc.iter().sum();
+        let ht = argmax(&held.iter().map(|&x| x as f64).collect::<Vec<_>>());
+        let dt = argmax(&disc.iter().map(|&x| x as f64).collect::<Vec<_>>());
+        let ci = wilson::wilson_95(held[ht] as u64, hn as u64);
+        let dtop = names[task.class_types[dt] as usize].clone();
+        let test = tests.iter().find(|t| {
+            t.pitcher == task.name
+                && t.direction == Direction::More
+                && t.pitch_type == dtop
+                && t.situation.len() == 1
+                && t.situation.get(&crate::situations::levels::Factor::Count).map(String::as_str) == Some(COUNTS[c])
+        });
+        out.push(CountSummary {
+            count: label.to_string(),
+            n: hn,
+            prior_accuracy: fig.prior_accuracy,
+            model_accuracy: fig.model_accuracy,
+            lift: fig.lift,
+            bits_gained: fig.bits_gained,
+            top_pitch: names[task.class_types[ht] as usize].clone(),
+            top_share: if hn > 0 { held[ht] as f64 / hn as f64 } else { 0.0 },
+            top_share_low: ci.low,
+            top_share_high: ci.high,
+            mix: (0..k)
+                .filter(|&j| held[j] > 0)
+                .map(|j| (names[task.class_types[j] as usize].clone(), held[j] as f64 / hn.max(1) as f64))
+                .collect(),
+            discovery_n: dn,
+            discovery_top_pitch: dtop,
+            discovery_top_share: if dn > 0 { disc[dt] as f64 / dn as f64 } else { 0.0 },
+            q_value: test.map(|t| t.q_value),
+            more_predictable: test.map(|t| t.flagged).unwrap_or(false),
+        });
+        let _ = settings;
+    }
+    out
+}

@@ -1,0 +1,166 @@
+//! The audit's one results value. `summary.json` is this value serialised;
+//! the HTML report, the CSV files and the terminal table are all read from
+//! it, so they cannot disagree.
+
+use crate::evaluate::TypeFigures;
+use crate::tells::TellTest;
+use serde::Serialize;
+use std::collections::BTreeMap;
+
+#[derive(Debug, Clone, Serialize)]
+pub struct Summary {
+    pub tool: Tool,
+    pub input: Input,
+    pub settings: SettingsOut,
+    pub evaluation: EvaluationOut,
+    /// Plain-words cautions about the whole run.
+    pub notes: Vec<String>,
+    pub pitchers: Vec<PitcherSummary>,
+    /// Tell tests run, flagged, and the family size of the BH correction.
+    pub tell_tests: usize,
+    pub tells_flagged: usize,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct Tool {
+    pub name: String,
+    pub version: String,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct Input {
+    pub path: String,
+    pub rows_read: usize,
+    pub rows_rejected: usize,
+    pub rows_kept: usize,
+    pub sha256: String,
+    pub optional_present: Vec<String>,
+    pub optional_missing: Vec<String>,
+    pub seasons: Vec<i32>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct SettingsOut {
+    pub seed: u64,
+    pub permutations: usize,
+    pub fdr: f64,
+    pub statistic: String,
+    pub stop_after_exceedances: usize,
+    pub min_train_pitches: usize,
+    pub min_test_pitches: usize,
+    pub tree_max_depth: usize,
+    pub tree_min_samples_leaf: usize,
+    pub tree_min_samples_split: usize,
+    pub leaf_smoothing: f64,
+    pub prior_strength: String,
+    pub tell_min_effect: f64,
+    pub tell_min_n: usize,
+    pub tell_pairs: Vec<String>,
+    pub tell_fdr_method: String,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct EvaluationOut {
+    pub scheme: String,
+    pub train: String,
+    pub test: String,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct CountSummary {
+    pub count: String,
+    /// Held-out pitches in the count.
+    pub n: usize,
+    pub prior_accuracy: f64,
+    pub model_accuracy: f64,
+    pub lift: f64,
+    pub bits_gained: f64,
+    /// His most thrown pitch in the count, held out, with its share and a
+    /// Wilson 95% interval.
+    pub top_pitch: String,
+    pub top_share: f64,
+    pub top_share_low: f64,
+    pub top_share_high: f64,
+    /// Held-out mix in the count.
+    pub mix: BTreeMap<String, f64>,
+    /// The same on the discovery (training) rows.
+    pub discovery_n: usize,
+    pub discovery_top_pitch: String,
+    pub discovery_top_share: f64,
+    /// q-value of "his top pitch is thrown more in this count than in
+    /// others" (discovery rows), when tested.
+    pub q_value: Option<f64>,
+    /// That test is flagged: he is more predictable in this count.
+    pub more_predictable: bool,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct RuleSummary {
+    /// The conditions of a leaf of his tree, in words.
+    pub conditions: Vec<String>,
+    pub support: usize,
+    pub top_pitch: String,
+    pub top_share: f64,
+    pub text: String,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct PitcherSummary {
+    pub pitcher: String,
+    pub throws: String,
+    /// `ok` or `insufficient data`.
+    pub status: String,
+    pub n_train: usize,
+    pub n_test: usize,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub mix: Option<BTreeMap<String, f64>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub test_mix: Option<BTreeMap<String, f64>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub prior_pitch: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub prior_accuracy: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub model_accuracy: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub lift: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub bits_gained: Option<f64>,
+    /// The null-hypothesis margin for bits gained (see README).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub bits_margin: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub p_value: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub q_value: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub permutations: Option<usize>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub stopped_early: Option<bool>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub significant: Option<bool>,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub null_statistics: Vec<f64>,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub counts: Vec<CountSummary>,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub types: Vec<TypeFigures>,
+    /// Flagged tells, strongest first.
+    pub tells: Vec<TellTest>,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub rules: Vec<RuleSummary>,
+    /// Held-out pitches of a type unseen in training, left out of the figures.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub n_unseen_type: Option<usize>,
+    /// q-value of "he has some tell" (the first stage of the tell FDR control).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub tell_family_q: Option<f64>,
+    /// Plain-words cautions for this pitcher (small samples, a changed mix).
+    pub cautions: Vec<String>,
+}
+
+impl PitcherSummary {
+    pub fn is_ok(&self) -> bool {
+        self.status == "ok"
+    }
+}

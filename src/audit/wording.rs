@@ -1,0 +1,222 @@
+//! Words for the report: situations, tells, advice and the model's rules,
+//! each sentence built from the same values that `summary.json` carries.
+
+use crate::audit::summary::RuleSummary;
+use crate::evaluate::fit::Scored;
+use crate::evaluate::task::{FeatureKind, PitcherTask};
+use crate::model::rules::leaf_rules;
+use crate::situations::levels::Factor;
+use crate::tells::{Direction, Situation, TellTest};
+
+/// The situation as a phrase: "in 0-2 counts with a runner on first".
+pub fn situation_phrase(s: &Situation) -> String {
+    let mut parts = Vec::new();
+    for (f, l) in s {
+        parts.push(level_phrase(*f, l));
+    }
+    parts.join(" ")
+}
+
+pub fn level_phrase(f: Factor, l: &str) -> String {
+    match f {
+        Factor::Count => format!("in {l} counts"),
+        Factor::Bats => format!("against {}-handed batters", if l == "L" { "left" } else { "right" }),
+        Factor::Platoon => format!("against {}-side batters", if l == "same" { "same" } else { "opposite" }),
+        Factor::Bases => match l {
+            "---" => "with the bases empty".into(),
+            "1--" => "with a runner on first".into(),
+            "-2-" => "with a runner on second".into(),
+            "--3" => "with a runner on third".into(),
+            "12-" => "with runners on first and second".into(),
+            "1-3" => "with runners on first and third".into(),
+            "-23" => "with runners on second and third".into(),
+            _ => "with the bases loaded".into(),
+        },
+        Factor::Outs => match l {
+            "0" => "with nobody out".into(),
+            "1" => "with one out".into(),
+            _ => "with two outs".into(),
+        },
+        Factor::PrevPitch => {
+            if l == "none" {
+                "on the first pitch of a plate appearance".into()
+            } else {
+                format!("right after a {l}")
+            }
+        }
+        Factor::TimesThrough => match l {
+            "1" => "the first time through the order".into(),
+            "2" => "the second time through the order".into(),
+            _ => "the third time through the order or later".into(),
+        },
+        Factor::Inning => format!("in innings {l}"),
+        Factor::Score => match l {
+            "behind" => "when his side is behind".into(),
+            "tied" => "in a tied game".into(),
+            _ => "when his side is ahead".into(),
+        },
+    }
+}
+
+fn capitalize(s: &str) -> String {
+    let mut c = s.chars();
+    match c.next() {
+        Some(f) => f.to_uppercase().collect::<String>() + c.as_str(),
+        None => String::new(),
+    }
+}
+
+pub fn pct(x: f64) -> String {
+    format!("{:.0}%", 100.0 * x)
+}
+
+/// A q-value as a coach reads it.
+pub fn q_text(q: f64) -> String {
+    if q < 0.001 {
+        "q < 0.001".into()
+    } else {
+        format!("q = {:.3}", q)
+    }
+}
+
+/// The tell as one sentence.
+pub fn tell_sentence(t: &TellTest, test_label: &str) -> String {
+    let sit = capitalize(&situation_phrase(&t.situation));
+    let main = match t.direction {
+        Direction::More => format!(
+            "{sit} he threw his {} {} of the time (n = {}) against {} otherwise; {}",
+            t.pitch_type,
+            pct(t.share),
+            t.n,
+            pct(t.baseline_share),
+            q_text(t.q_value)
+        ),
+        Direction::Less => format!(
+            "{sit} he threw his {} only {} of the time (n = {}) against {} otherwise; {}",
+            t.pitch_type,
+            pct(t.share),
+            t.n,
+            pct(t.baseline_share),
+            q_text(t.q_value)
+        ),
+    };
+    let held = match t.held_out_share {
+        Some(h) if t.held_out_n > 0 => {
+            let kept = match t.direction {
+                Direction::More => h - t.held_out_baseline_share.unwrap_or(t.baseline_share) >= 0.5 * t.effect(),
+                Direction::Less => t.held_out_baseline_share.unwrap_or(t.baseline_share) - h >= 0.5 * t.effect(),
+            };
+            if kept {
+                format!("; in {test_label} it held at {} (n = {})", pct(h), t.held_out_n)
+            } else {
+                format!("; in {test_label} it did not hold: {} (n = {})", pct(h), t.held_out_n)
+            }
+        }
+        _ => format!("; no pitches in this situation in {test_label} to check it"),
+    };
+    format!("{main}{held}.")
+}
+
+/// Advice for a flagged tell: the situation's mix that brings a hitter's
+/// guess-right rate back toward the pitcher's baseline, and how many
+/// pitches a season that means changing.
+pub fn advice(t: &TellTest, situation_mix: &[(String, f64)], per_season: f64) -> String {
+    let target = t.baseline_share;
+    let change = (t.share - target).abs();
+    let moved = (change * per_season).round() as i64;
+    // The rest of the mix scales to fill what the tell pitch gives up or takes.
+    let others: Vec<&(String, f64)> = situation_mix.iter().filter(|(n, _)| *n != t.pitch_type).collect();
+    let rest: f64 = others.iter().map(|(_, s)| s).sum();
+    let mut new_mix: Vec<(String, f64)> = vec![(t.pitch_type.clone(), target)];
+    for (n, s) in &others {
+        let scaled = if rest > 0.0 { s / rest * (1.0 - target) } else { 0.0 };
+        new_mix.push((n.clone(), scaled));
+    }
+    new_mix.sort_by(|a, b| b.1.partial_cmp(&a.1).unwrap().then(a.0.cmp(&b.0)));
+    let guess_after = new_mix.first().map(|x| x.1).unwrap_or(0.0);
+    let guess_now = situation_mix.iter().map(|x| x.1).fold(0.0, f64::max);
+    let mix_text: Vec<String> = new_mix.iter().filter(|x| x.1 >= 0.005).map(|(n, s)| format!("{n} {}", pct(*s))).collect();
+    let sit = situation_phrase(&t.situation);
+    match t.direction {
+        Direction::More => format!(
+            "Throw the {} {sit} about {} of the time, his rate elsewhere, instead of {}: a mix near {} takes a hitter sitting on his most likely pitch from {} to {} right. That means changing about {} of every 100 such pitches, roughly {} pitches a season.",
+            t.pitch_type,
+            pct(target),
+            pct(t.share),
+            mix_text.join(", "),
+            pct(guess_now),
+            pct(guess_after),
+            (change * 100.0).round(),
+            moved
+        ),
+        Direction::Less => format!(
+            "Mix the {} back in {sit}, at about {} (his rate elsewhere) instead of {}, so a hitter cannot rule it out: a mix near {}. That means changing about {} of every 100 such pitches, roughly {} pitches a season.",
+            t.pitch_type,
+            pct(target),
+            pct(t.share),
+            mix_text.join(", "),
+            (change * 100.0).round(),
+            moved
+        ),
+    }
+}
+
+fn condition_text(task: &PitcherTask, feature: usize, low: Option<u8>, high: Option<u8>) -> String {
+    match &task.kinds[feature] {
+        FeatureKind::Level { factor, level } => {
+            // One-hot: `<= 0` means "not in the level".
+            if high == Some(0) {
+                format!("not {}", level_phrase(*factor, level))
+            } else {
+                level_phrase(*factor, level)
+            }
+        }
+        FeatureKind::Ordinal { name, offset } => {
+            let v = |c: u8| c as i32 + offset;
+            match (low, high) {
+                (Some(l), Some(h)) if l == h => format!("{name} = {}", v(l)),
+                (Some(l), Some(h)) => format!("{name} {}–{}", v(l), v(h)),
+                (Some(l), None) => format!("{name} ≥ {}", v(l)),
+                (None, Some(h)) => format!("{name} ≤ {}", v(h)),
+                (None, None) => name.to_string(),
+            }
+        }
+        FeatureKind::Prior { class, given } => {
+            let t = &task.x.names[feature];
+            let p = |c: u8| c as f64 / crate::evaluate::task::PRIOR_BINS as f64;
+            let _ = class;
+            match (low, high) {
+                (Some(l), Some(h)) => format!("{t} between {} and {}", pct(p(l)), pct(p(h))),
+                (Some(l), None) => format!("{t} at least {}", pct(p(l))),
+                (None, Some(h)) => format!("{t} at most {}", pct(p(h))),
+                (None, None) => format!("{t} ({given})"),
+            }
+        }
+    }
+}
+
+/// The tree's most telling leaves (last fold's tree) in words.
+pub fn rules(task: &PitcherTask, scored: &Scored, names: &[String]) -> Vec<RuleSummary> {
+    let Some(tree) = scored.trees.last() else { return Vec::new() };
+    let mut out = Vec::new();
+    for leaf in leaf_rules(tree).into_iter().take(5) {
+        let support: u32 = leaf.class_counts.iter().sum();
+        if support == 0 {
+            continue;
+        }
+        let (top, &c) = leaf.class_counts.iter().enumerate().max_by(|a, b| a.1.cmp(b.1).then(b.0.cmp(&a.0))).unwrap();
+        let conditions: Vec<String> =
+            leaf.conditions.iter().map(|c| condition_text(task, c.feature, c.above.map(|a| a + 1), c.at_most)).collect();
+        let share = c as f64 / support as f64;
+        let top_pitch = names[task.class_types[top] as usize].clone();
+        let when = if conditions.is_empty() { "in every situation".to_string() } else { conditions.join(", ") };
+        out.push(RuleSummary {
+            text: format!("When {when}: {top_pitch} {} of {} training pitches.", pct(share), support),
+            conditions,
+            support: support as usize,
+            top_pitch,
+            top_share: share,
+        });
+    }
+    out
+}

@@ -1,0 +1,123 @@
+//! `tellscope audit FILE [--config C] [--out DIR] [--pitcher P]... [--test-season Y]
+//!                  [--permutations N] [--seed S] [--fdr Q] [--strict] [--json]`
+//!
+//! The predictability audit. Writes the report folder (default
+//! `reports/<input file stem>`) whole or not at all, and prints a compact
+//! staff table with the top tells (or, with --json, summary.json).
+
+use super::LogArgs;
+use std::path::{Path, PathBuf};
+use tellscope::audit::{self, wording, Audit};
+use tellscope::report;
+use tellscope::settings::Overrides;
+use tellscope::Result;
+
+#[derive(clap::Args, Debug, Clone)]
+pub struct AuditOptions {
+    /// Audit only this pitcher (repeatable).
+    #[arg(long = "pitcher", value_name = "P")]
+    pub pitchers: Vec<String>,
+    /// The held-out season (default: the latest).
+    #[arg(long, value_name = "Y")]
+    pub test_season: Option<i32>,
+    /// Permutations per pitcher for the model test (default 999).
+    #[arg(long, value_name = "N")]
+    pub permutations: Option<usize>,
+    /// Random seed; the same seed gives the same report, byte for byte.
+    #[arg(long, value_name = "S")]
+    pub seed: Option<u64>,
+    /// False discovery rate for flagging (default 0.05).
+    #[arg(long, value_name = "Q")]
+    pub fdr: Option<f64>,
+}
+
+impl AuditOptions {
+    pub fn overrides(&self) -> Overrides {
+        Overrides {
+            seed: self.seed,
+            permutations: self.permutations,
+            fdr: self.fdr,
+            strict: false,
+            test_season: self.test_season,
+            pitchers: self.pitchers.clone(),
+        }
+    }
+}
+
+#[derive(clap::Args, Debug)]
+pub struct Args {
+    #[command(flatten)]
+    pub log: LogArgs,
+    /// Report folder (default reports/<input file stem>).
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
+    #[command(flatten)]
+    pub opts: AuditOptions,
+    /// Print summary.json to stdout instead of the table.
+    #[arg(long)]
+    pub json: bool,
+}
+
+pub fn default_out(file: &Path) -> PathBuf {
+    let stem = file.file_stem().and_then(|s| s.to_str()).unwrap_or("audit");
+    PathBuf::from("reports").join(report::safe_stem(stem))
+}
+
+pub fn run(args: Args) -> Result<()> {
+    let settings = args.log.settings(args.opts.overrides())?;
+    let out = args.out.clone().unwrap_or_else(|| default_out(&args.log.file));
+    let audit = audit::run(&args.log.file, &settings, !args.json)?;
+    let files = report::audit_files(&audit)?;
+    report::write_all(&out, &files)?;
+    if args.json {
+        print!("{}", report::json::summary_json(&audit.summary)?);
+    } else {
+        print_table(&audit, &out);
+    }
+    Ok(())
+}
+
+/// The compact staff table and the top tells.
+pub fn print_table(audit: &Audit, out: &Path) {
+    let s = &audit.summary;
+    println!(
+        "{} pitches ({} rejected); trained on {}, held out {}; {} permutations, FDR {}",
+        s.input.rows_kept, s.input.rows_rejected, s.evaluation.train, s.evaluation.test, s.settings.permutations, s.settings.fdr
+    );
+    println!();
+    println!("{:<22} {:>6} {:>6} {:>7} {:>7} {:>7} {:>7} {:>7} {:>6}", "pitcher", "train", "test", "prior", "model", "lift", "bits", "q", "tells");
+    let mut rows: Vec<_> = s.pitchers.iter().filter(|p| p.is_ok()).collect();
+    rows.sort_by(|a, b| b.bits_gained.partial_cmp(&a.bits_gained).unwrap().then(a.pitcher.cmp(&b.pitcher)));
+    for p in rows {
+        let g = |x: Option<f64>| x.unwrap_or(0.0);
+        let name: String = p.pitcher.chars().take(22).collect();
+        println!(
+            "{:<22} {:>6} {:>6} {:>6.1}% {:>6.1}% {:>+6.0}% {:>+7.3} {:>7} {:>6}{}",
+            name,
+            p.n_train,
+            p.n_test,
+            100.0 * g(p.prior_accuracy),
+            100.0 * g(p.model_accuracy),
+            100.0 * g(p.lift),
+            g(p.bits_gained),
+            if g(p.q_value) < 0.001 { "<0.001".to_string() } else { format!("{:.3}", g(p.q_value)) },
+            p.tells.iter().filter(|t| t.within.is_none()).count(),
+            if p.significant == Some(true) { "  *" } else { "" }
+        );
+    }
+    for p in s.pitchers.iter().filter(|p| !p.is_ok()) {
+        println!("{:<22} {:>6} {:>6}  insufficient data", p.pitcher.chars().take(22).collect::<String>(), p.n_train, p.n_test);
+    }
+    println!("  * the situation predicts his pitch beyond his mix (q <= {})", s.settings.fdr);
+    let mut top: Vec<_> = s.pitchers.iter().flat_map(|p| p.tells.iter().filter(|t| t.within.is_none())).collect();
+    top.sort_by(|a, b| b.effect().partial_cmp(&a.effect()).unwrap().then(a.pitcher.cmp(&b.pitcher)));
+    if !top.is_empty() {
+        println!();
+        println!("Top tells:");
+        for t in top.iter().take(8) {
+            println!("  {}: {}", t.pitcher, wording::tell_sentence(t, &s.evaluation.test));
+        }
+    }
+    println!();
+    println!("Report: {}", out.join("index.html").display());
+}

@@ -1,0 +1,178 @@
+//! One complete fit of a pitcher's labels: for every fold, the usage prior,
+//! the shrunk count and batter priors (training rows only), the tree, and
+//! the held-out probabilities of both the prior and the model.
+
+use super::task::{PitcherTask, OOF_FOLDS, PRIOR_BINS};
+use crate::model::{Learner, Tree};
+use crate::priors::{self, GroupCounts, UsagePrior};
+use crate::settings::Settings;
+
+/// Held-out output of one fit, in the order of the folds' test rows.
+#[derive(Debug, Clone, Default)]
+pub struct Scored {
+    /// Local row index of each scored row.
+    pub rows: Vec<u32>,
+    /// `n_scored × n_classes` probabilities.
+    pub model: Vec<f64>,
+    pub prior: Vec<f64>,
+    pub n_classes: usize,
+    pub trees: Vec<Tree>,
+    pub usage: Vec<UsagePrior>,
+    pub strengths: Vec<(f64, f64)>,
+    /// Held-out pitches left unscored because their type never appeared in
+    /// the fold's training rows (a new pitch: neither guess can know it).
+    pub unseen: usize,
+}
+
+impl Scored {
+    pub fn model_row(&self, i: usize) -> &[f64] {
+        &self.model[i * self.n_classes..(i + 1) * self.n_classes]
+    }
+    pub fn prior_row(&self, i: usize) -> &[f64] {
+        &self.prior[i * self.n_classes..(i + 1) * self.n_classes]
+    }
+}
+
+/// Reusable buffers for a pitcher's fits.
+pub struct Workspace {
+    pub x: crate::model::FeatureMatrix,
+    count_all: GroupCounts,
+    batter_all: GroupCounts,
+    count_oof: Vec<GroupCounts>,
+    batter_oof: Vec<GroupCounts>,
+}
+
+impl Workspace {
+    pub fn new(task: &PitcherTask) -> Workspace {
+        let k = task.n_classes;
+        Workspace {
+            x: task.x.clone(),
+            count_all: GroupCounts::new(12, k),
+            batter_all: GroupCounts::new(task.n_batters, k),
+            count_oof: (0..OOF_FOLDS).map(|_| GroupCounts::new(12, k)).collect(),
+            batter_oof: (0..OOF_FOLDS).map(|_| GroupCounts::new(task.n_batters, k)).collect(),
+        }
+    }
+}
+
+#[inline]
+fn bin(p: f64) -> u8 {
+    (p * PRIOR_BINS as f64).round().clamp(0.0, PRIOR_BINS as f64) as u8
+}
+
+/// Fit every fold on `labels` and score the held-out rows.
+pub fn fit_and_score<L: Learner>(
+    task: &PitcherTask,
+    labels: &[u8],
+    settings: &Settings,
+    learner: &L,
+    ws: &mut Workspace,
+    keep_trees: bool,
+) -> Scored {
+    let k = task.n_classes;
+    let mut out = Scored { n_classes: k, ..Scored::default() };
+    let prior_col0 = task.n_situational;
+    for fold in &task.folds {
+        if fold.test.is_empty() {
+            continue;
+        }
+        let usage = UsagePrior::fit(&fold.train, labels, k);
+        let mix = &usage.probs;
+        ws.count_all.clear();
+        ws.batter_all.clear();
+        ws.count_oof.iter_mut().for_each(GroupCounts::clear);
+        ws.batter_oof.iter_mut().for_each(GroupCounts::clear);
+        for &r in &fold.train {
+            let r = r as usize;
+            let y = labels[r] as usize;
+            let c = task.count[r] as usize;
+            let b = task.batter[r] as usize;
+            ws.count_all.add(c, y);
+            ws.batter_all.add(b, y);
+            let o = task.oof[r] as usize;
+            ws.count_oof[o].add(c, y);
+            ws.batter_oof[o].add(b, y);
+        }
+        let s_count = priors::strength(&ws.count_all, mix, settings.prior_strength);
+        let s_batter = priors::strength(&ws.batter_all, mix, settings.prior_strength);
+        // Prior features: out-of-fold for training rows, full training
+        // counts for scored rows (they are never in the training counts).
+        let n_rows = task.x.n_rows;
+        for cls in 0..k {
+            let fc = prior_col0 + cls;
+            let fb = prior_col0 + k + cls;
+            for &r in &fold.train {
+                let r = r as usize;
+                let o = task.oof[r] as usize;
+                let pc = ws.count_all.shrunk_without(&ws.count_oof[o], task.count[r] as usize, cls, mix, s_count);
+                let pb = ws.batter_all.shrunk_without(&ws.batter_oof[o], task.batter[r] as usize, cls, mix, s_batter);
+                ws.x.codes[fc * n_rows + r] = bin(pc);
+                ws.x.codes[fb * n_rows + r] = bin(pb);
+            }
+            for &r in &fold.test {
+                let r = r as usize;
+                let pc = ws.count_all.shrunk(task.count[r] as usize, cls, mix, s_count);
+                let pb = ws.batter_all.shrunk(task.batter[r] as usize, cls, mix, s_batter);
+                ws.x.codes[fc * n_rows + r] = bin(pc);
+                ws.x.codes[fb * n_rows + r] = bin(pb);
+            }
+        }
+        let train_labels: Vec<u8> = fold.train.iter().map(|&r| labels[r as usize]).collect();
+        let tree = learner.fit(&ws.x, &fold.train, &train_labels, k);
+        let a = settings.leaf_smoothing;
+        for &r in &fold.test {
+            if usage.counts[labels[r as usize] as usize] == 0 {
+                out.unseen += 1;
+                continue;
+            }
+            let leaf = &tree.nodes[tree.leaf_of(&ws.x, r as usize)];
+            let n_leaf: u32 = leaf.class_counts.iter().sum();
+            out.rows.push(r);
+            for cls in 0..k {
+                // Leaf mix pulled toward his usage prior by `a` pseudo-pitches,
+                // which keeps every probability off 0 and 1.
+                out.model.push((leaf.class_counts[cls] as f64 + a * mix[cls]) / (n_leaf as f64 + a));
+                out.prior.push(mix[cls]);
+            }
+        }
+        if keep_trees {
+            out.trees.push(tree);
+            out.usage.push(usage);
+            out.strengths.push((s_count, s_batter));
+        }
+    }
+    out
+}
+
+/// The permutation test's statistic of a fit: held-out bits gained per
+/// pitch, or held-out accuracy gained over the prior's guess.
+pub fn statistic(scored: &Scored, labels: &[u8], which: crate::settings::Statistic) -> f64 {
+    let n = scored.rows.len();
+    if n == 0 {
+        return 0.0;
+    }
+    let mut acc = 0.0;
+    for (i, &r) in scored.rows.iter().enumerate() {
+        let y = labels[r as usize] as usize;
+        let m = scored.model_row(i);
+        let p = scored.prior_row(i);
+        match which {
+            crate::settings::Statistic::Bits => acc += (m[y] / p[y]).log2(),
+            crate::settings::Statistic::Accuracy => {
+                acc += (argmax(m) == y) as u8 as f64 - (argmax(p) == y) as u8 as f64;
+            }
+        }
+    }
+    acc / n as f64
+}
+
+/// Index of the largest value; the lowest index wins ties.
+pub fn argmax(v: &[f64]) -> usize {
+    let mut best = 0;
+    for (i, &x) in v.iter().enumerate() {
+        if x > v[best] {
+            best = i;
+        }
+    }
+    best
+}

@@ -1,0 +1,204 @@
+//! Everything about one pitcher that does not depend on his pitch labels:
+//! his rows, the folds, the situation features. Built once and reused by
+//! the observed fit and every permutation refit; only labels change.
+
+use super::split::Plan;
+use crate::ingest::PitchLog;
+use crate::model::FeatureMatrix;
+use crate::situations::{levels::Factor, Situations, UNKNOWN};
+
+/// Bins of a shrunk prior probability feature: code = round(p · BINS).
+pub const PRIOR_BINS: u8 = 20;
+
+/// Which fold-local rows train and are scored.
+#[derive(Debug, Clone)]
+pub struct Fold {
+    pub train: Vec<u32>,
+    pub test: Vec<u32>,
+}
+
+/// What a feature means, for turning tree paths into words.
+#[derive(Debug, Clone, PartialEq)]
+pub enum FeatureKind {
+    /// One-hot: the row is in this level of this factor.
+    Level { factor: Factor, level: String },
+    /// An ordinal game-state number (balls, strikes, ...).
+    Ordinal { name: &'static str, offset: i32 },
+    /// A binned shrunk prior of `class` given `given` (count or batter).
+    Prior { class: usize, given: &'static str },
+}
+
+#[derive(Debug, Clone)]
+pub struct PitcherTask {
+    pub pitcher: u32,
+    pub name: String,
+    /// Global row indices, log order.
+    pub rows: Vec<u32>,
+    /// Class index → global pitch type index (his types, sorted).
+    pub class_types: Vec<u16>,
+    pub labels: Vec<u8>,
+    pub n_classes: usize,
+    /// Local rows per season: the permutation strata.
+    pub strata: Vec<Vec<u32>>,
+    pub count: Vec<u8>,
+    pub batter: Vec<u32>,
+    pub n_batters: usize,
+    /// Game-based fold (0..OOF_FOLDS) used for out-of-fold prior features.
+    pub oof: Vec<u8>,
+    pub folds: Vec<Fold>,
+    /// Features; the last `2 * n_classes` columns are the prior features,
+    /// rewritten by every fit.
+    pub x: FeatureMatrix,
+    pub kinds: Vec<FeatureKind>,
+    pub n_situational: usize,
+    pub discovery: Vec<u32>,
+    pub held_out: Vec<u32>,
+    pub game: Vec<u32>,
+}
+
+/// Folds for out-of-fold (target-encoded) prior features on training rows:
+/// a training row's own label never shapes its own prior feature.
+pub const OOF_FOLDS: usize = 5;
+
+impl PitcherTask {
+    pub fn build(log: &PitchLog, sit: &Situations, plan: &Plan, pitcher: u32, rows: Vec<u32>) -> PitcherTask {
+        let mut types: Vec<u16> = rows.iter().map(|&r| log.pitch_type[r as usize]).collect();
+        types.sort_unstable();
+        types.dedup();
+        let class_of = |t: u16| types.binary_search(&t).unwrap() as u8;
+        let labels: Vec<u8> = rows.iter().map(|&r| class_of(log.pitch_type[r as usize])).collect();
+        let n_classes = types.len();
+        let mut seasons: Vec<i32> = rows.iter().map(|&r| log.season[r as usize]).collect();
+        seasons.sort_unstable();
+        seasons.dedup();
+        let mut strata = vec![Vec::new(); seasons.len()];
+        for (i, &r) in rows.iter().enumerate() {
+            let s = seasons.binary_search(&log.season[r as usize]).unwrap();
+            strata[s].push(i as u32);
+        }
+        let count = rows.iter().map(|&r| log.balls[r as usize] * 3 + log.strikes[r as usize]).collect();
+        let mut batters: Vec<u32> = rows.iter().map(|&r| log.batter[r as usize]).collect();
+        batters.sort_unstable();
+        batters.dedup();
+        let batter: Vec<u32> =
+            rows.iter().map(|&r| batters.binary_search(&log.batter[r as usize]).unwrap() as u32).collect();
+        let mut games: Vec<u32> = rows.iter().map(|&r| log.game[r as usize]).collect();
+        games.dedup();
+        let game: Vec<u32> = rows.iter().map(|&r| log.game[r as usize]).collect();
+        // Games in order of appearance, dealt round-robin into OOF folds.
+        let mut game_fold = std::collections::HashMap::new();
+        let mut next = 0usize;
+        for &g in &games {
+            game_fold.entry(g).or_insert_with(|| {
+                next += 1;
+                ((next - 1) % OOF_FOLDS) as u8
+            });
+        }
+        let oof = game.iter().map(|g| game_fold[g]).collect();
+
+        let mut folds: Vec<Fold> = (0..plan.n_folds).map(|_| Fold { train: Vec::new(), test: Vec::new() }).collect();
+        let mut discovery = Vec::new();
+        let mut held_out = Vec::new();
+        for (i, &r) in rows.iter().enumerate() {
+            let r = r as usize;
+            for (f, fold) in folds.iter_mut().enumerate() {
+                if plan.trains(r, f) {
+                    fold.train.push(i as u32);
+                }
+            }
+            if let Some(f) = plan.test_fold[r] {
+                folds[f as usize].test.push(i as u32);
+            }
+            if plan.discovery[r] {
+                discovery.push(i as u32);
+            }
+            if plan.held_out[r] {
+                held_out.push(i as u32);
+            }
+        }
+
+        // Situation features.
+        let mut names = Vec::new();
+        let mut kinds = Vec::new();
+        let mut cols: Vec<Vec<u8>> = Vec::new();
+        for fc in &sit.factors {
+            if fc.factor == Factor::PrevPitch {
+                // Only levels he can produce: none and his own types.
+                let mut lv = vec![0u8];
+                lv.extend(types.iter().map(|&t| t as u8 + 1));
+                for code in lv {
+                    names.push(format!("{} = {}", fc.factor, fc.level(code)));
+                    kinds.push(FeatureKind::Level { factor: fc.factor, level: fc.level(code).to_string() });
+                    cols.push(rows.iter().map(|&r| (fc.codes[r as usize] == code) as u8).collect());
+                }
+                continue;
+            }
+            for (code, level) in fc.levels.iter().enumerate() {
+                let col: Vec<u8> = rows.iter().map(|&r| (fc.codes[r as usize] == code as u8) as u8).collect();
+                if col.iter().all(|&c| c == col[0]) {
+                    continue; // constant for him (e.g. his own hand's platoon side)
+                }
+                names.push(format!("{} = {}", fc.factor, level));
+                kinds.push(FeatureKind::Level { factor: fc.factor, level: level.clone() });
+                cols.push(col);
+            }
+        }
+        // Ordinal game state: lets a tree say "two strikes" in one split.
+        names.push("balls".into());
+        kinds.push(FeatureKind::Ordinal { name: "balls", offset: 0 });
+        cols.push(rows.iter().map(|&r| log.balls[r as usize]).collect());
+        names.push("strikes".into());
+        kinds.push(FeatureKind::Ordinal { name: "strikes", offset: 0 });
+        cols.push(rows.iter().map(|&r| log.strikes[r as usize]).collect());
+        if let Some(sd) = &log.score_diff {
+            names.push("score margin".into());
+            kinds.push(FeatureKind::Ordinal { name: "score margin", offset: -5 });
+            cols.push(rows.iter().map(|&r| (sd[r as usize].unwrap_or(0).clamp(-5, 5) + 5) as u8).collect());
+        }
+        if let Some(tt) = sit.get(Factor::TimesThrough) {
+            names.push("times through".into());
+            kinds.push(FeatureKind::Ordinal { name: "times through", offset: 1 });
+            cols.push(rows.iter().map(|&r| if tt.codes[r as usize] == UNKNOWN { 0 } else { tt.codes[r as usize] }).collect());
+        }
+        let n_situational = names.len();
+        for given in ["count", "batter"] {
+            for (c, &t) in types.iter().enumerate() {
+                names.push(format!("{} share given the {given}", log.pitch_types[t as usize]));
+                kinds.push(FeatureKind::Prior { class: c, given });
+                cols.push(vec![0; rows.len()]);
+            }
+        }
+        let mut x = FeatureMatrix::new(rows.len(), names);
+        for (f, col) in cols.into_iter().enumerate() {
+            x.column_mut(f).copy_from_slice(&col);
+        }
+        PitcherTask {
+            pitcher,
+            name: log.pitchers[pitcher as usize].clone(),
+            rows,
+            class_types: types,
+            labels,
+            n_classes,
+            strata,
+            count,
+            batter,
+            n_batters: batters.len(),
+            oof,
+            folds,
+            x,
+            kinds,
+            n_situational,
+            discovery,
+            held_out,
+            game,
+        }
+    }
+
+    pub fn n_train(&self) -> usize {
+        self.folds.iter().map(|f| f.train.len()).max().unwrap_or(0)
+    }
+
+    pub fn n_test(&self) -> usize {
+        self.folds.iter().map(|f| f.test.len()).sum()
+    }
+}

@@ -1,0 +1,193 @@
+//! Priors of a pitcher's pitch type, fitted on training rows only.
+//!
+//! - the usage prior: his training pitch mix, kept off 0 by a Jeffreys-style
+//!   half pseudo-count per type (so log loss stays finite on a type he did
+//!   not throw in training);
+//! - shrunk priors of pitch type given a group (the count, the batter): each
+//!   group's counts pulled toward his mix with a Dirichlet pseudo-count `s`,
+//!   estimated by empirical Bayes (Dirichlet-multinomial marginal maximum
+//!   likelihood with the mean fixed at the mix) unless configured.
+
+pub mod shrink;
+
+use crate::settings::PriorStrength;
+
+/// The usage prior of one fit.
+#[derive(Debug, Clone, PartialEq)]
+pub struct UsagePrior {
+    pub counts: Vec<u32>,
+    pub probs: Vec<f64>,
+    /// His most used type in training (lowest class index among ties).
+    pub top: usize,
+}
+
+/// Half a pseudo-pitch per type (Jeffreys prior for a multinomial).
+pub const USAGE_PSEUDO: f64 = 0.5;
+
+impl UsagePrior {
+    pub fn from_counts(counts: Vec<u32>) -> UsagePrior {
+        let k = counts.len() as f64;
+        let n: u32 = counts.iter().sum();
+        let probs = counts.iter().map(|&c| (c as f64 + USAGE_PSEUDO) / (n as f64 + USAGE_PSEUDO * k)).collect();
+        let mut top = 0;
+        for (i, &c) in counts.iter().enumerate() {
+            if c > counts[top] {
+                top = i;
+            }
+        }
+        UsagePrior { counts, probs, top }
+    }
+
+    pub fn fit(rows: &[u32], labels: &[u8], n_classes: usize) -> UsagePrior {
+        let mut counts = vec![0u32; n_classes];
+        for &r in rows {
+            counts[labels[r as usize] as usize] += 1;
+        }
+        UsagePrior::from_counts(counts)
+    }
+}
+
+/// Per-group counts of pitch types, `counts[g * k + class]`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct GroupCounts {
+    pub n_groups: usize,
+    pub n_classes: usize,
+    pub counts: Vec<u32>,
+    pub totals: Vec<u32>,
+}
+
+impl GroupCounts {
+    pub fn new(n_groups: usize, n_classes: usize) -> Self {
+        GroupCounts { n_groups, n_classes, counts: vec![0; n_groups * n_classes], totals: vec![0; n_groups] }
+    }
+
+    pub fn clear(&mut self) {
+        self.counts.iter_mut().for_each(|c| *c = 0);
+        self.totals.iter_mut().for_each(|c| *c = 0);
+    }
+
+    #[inline]
+    pub fn add(&mut self, group: usize, class: usize) {
+        self.counts[group * self.n_classes + class] += 1;
+        self.totals[group] += 1;
+    }
+
+    /// Shrunk probability of `class` in `group`:
+    /// (c_gk + s·m_k) / (n_g + s).
+    #[inline]
+    pub fn shrunk(&self, group: usize, class: usize, mix: &[f64], s: f64) -> f64 {
+        (self.counts[group * self.n_classes + class] as f64 + s * mix[class]) / (self.totals[group] as f64 + s)
+    }
+
+    /// The same with another table's counts taken away (out-of-fold use).
+    #[inline]
+    pub fn shrunk_without(&self, other: &GroupCounts, group: usize, class: usize, mix: &[f64], s: f64) -> f64 {
+        let i = group * self.n_classes + class;
+        let c = (self.counts[i] - other.counts[i]) as f64;
+        let n = (self.totals[group] - other.totals[group]) as f64;
+        (c + s * mix[class]) / (n + s)
+    }
+}
+
+/// The pseudo-count strength for a set of group count vectors.
+pub fn strength(groups: &GroupCounts, mix: &[f64], setting: PriorStrength) -> f64 {
+    match setting {
+        PriorStrength::Fixed(s) => s,
+        PriorStrength::Auto => strength_mle(groups, mix),
+    }
+}
+
+/// Dirichlet-multinomial log-likelihood in s, less terms constant in s:
+/// Σ_g [ln Γ(s) − ln Γ(n_g + s) + Σ_k ln Γ(c_gk + s m_k) − ln Γ(s m_k)].
+fn dm_objective(groups: &GroupCounts, mix: &[f64], s: f64) -> f64 {
+    use statrs::function::gamma::ln_gamma;
+    let k = groups.n_classes;
+    let lg_s = ln_gamma(s);
+    let lg_sm: Vec<f64> = mix.iter().map(|&m| ln_gamma(s * m)).collect();
+    let mut ll = 0.0;
+    for g in 0..groups.n_groups {
+        let n = groups.totals[g];
+        if n == 0 {
+            continue;
+        }
+        ll += lg_s - ln_gamma(n as f64 + s);
+        for c in 0..k {
+            let x = groups.counts[g * k + c];
+            if x > 0 {
+                ll += ln_gamma(x as f64 + s * mix[c]) - lg_sm[c];
+            }
+        }
+    }
+    ll
+}
+
+/// The empirical-Bayes strength: the s maximising the Dirichlet-multinomial
+/// marginal likelihood with the mean fixed at the mix (the objective of
+/// `shrink::fit_dirichlet_strength`, which is checked against scipy; this
+/// is a cheaper search of the same function, golden section on ln s to a
+/// tolerance of 0.01, fine for a pseudo-count). Used by every permutation
+/// refit, hence the economy.
+pub fn strength_mle(groups: &GroupCounts, mix: &[f64]) -> f64 {
+    let (lo, hi) = (shrink::STRENGTH_MIN.ln(), shrink::STRENGTH_MAX.ln());
+    let f = |t: f64| dm_objective(groups, mix, t.exp());
+    let inv_phi = (5f64.sqrt() - 1.0) / 2.0;
+    let (mut a, mut b) = (lo, hi);
+    let mut c = b - inv_phi * (b - a);
+    let mut d = a + inv_phi * (b - a);
+    let (mut fc, mut fd) = (f(c), f(d));
+    while b - a > 0.01 {
+        if fc >= fd {
+            b = d;
+            d = c;
+            fd = fc;
+            c = b - inv_phi * (b - a);
+            fc = f(c);
+        } else {
+            a = c;
+            c = d;
+            fc = fd;
+            d = a + inv_phi * (b - a);
+            fd = f(d);
+        }
+    }
+    (0.5 * (a + b)).exp()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use rand::{Rng, SeedableRng};
+
+    // The fast search maximises the same likelihood as
+    // shrink::fit_dirichlet_strength (checked against scipy's
+    // dirichlet_multinomial in tests/stats_reference.rs): the two agree.
+    #[test]
+    fn fast_strength_matches_the_reference_fit() {
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(3);
+        for case in 0..20 {
+            let k = 3 + case % 3;
+            let n_groups = 5 + case * 3;
+            let mut g = GroupCounts::new(n_groups, k);
+            for grp in 0..n_groups {
+                let tilt: usize = rng.random_range(0..k);
+                for _ in 0..rng.random_range(5..80) {
+                    let y = if rng.random::<f64>() < 0.3 { tilt } else { rng.random_range(0..k) };
+                    g.add(grp, y);
+                }
+            }
+            let mut totals = vec![0u64; k];
+            for grp in 0..n_groups {
+                for c in 0..k {
+                    totals[c] += g.counts[grp * k + c] as u64;
+                }
+            }
+            let n: u64 = totals.iter().sum();
+            let mix: Vec<f64> = totals.iter().map(|&c| (c as f64 + 0.5) / (n as f64 + 0.5 * k as f64)).collect();
+            let vectors: Vec<Vec<u64>> =
+                (0..n_groups).map(|grp| (0..k).map(|c| g.counts[grp * k + c] as u64).collect()).collect();
+            let reference = shrink::fit_dirichlet_strength(&vectors, &mix).unwrap().strength;
+            let fast = strength_mle(&g, &mix);
+            assert!((fast.ln() - reference.ln()).abs() < 0.02, "case {case}: {fast} vs {reference}");
+        }
+    }
+}

@@ -1,0 +1,126 @@
+//! The report's CSV files, written with polars from the results value.
+
+use crate::audit::summary::Summary;
+use crate::error::{Error, Result};
+use crate::ingest::Rejected;
+use crate::tells::{situation_label, TellTest};
+use polars::prelude::*;
+
+/// A growing table of named columns.
+#[derive(Default)]
+pub struct Table {
+    cols: Vec<Column>,
+}
+
+impl Table {
+    pub fn str(mut self, name: &str, v: Vec<String>) -> Self {
+        self.cols.push(Column::new(name.into(), v));
+        self
+    }
+    pub fn opt_str(mut self, name: &str, v: Vec<Option<String>>) -> Self {
+        self.cols.push(Column::new(name.into(), v));
+        self
+    }
+    pub fn u64(mut self, name: &str, v: Vec<u64>) -> Self {
+        self.cols.push(Column::new(name.into(), v));
+        self
+    }
+    pub fn f64(mut self, name: &str, v: Vec<f64>) -> Self {
+        self.cols.push(Column::new(name.into(), v));
+        self
+    }
+    pub fn opt_f64(mut self, name: &str, v: Vec<Option<f64>>) -> Self {
+        self.cols.push(Column::new(name.into(), v));
+        self
+    }
+    pub fn bool(mut self, name: &str, v: Vec<bool>) -> Self {
+        self.cols.push(Column::new(name.into(), v));
+        self
+    }
+
+    /// CSV text: header row, comma separated, missing values empty, floats
+    /// at 6 decimals so files diff cleanly across runs.
+    pub fn to_csv(self, height: usize) -> Result<Vec<u8>> {
+        let mut df = DataFrame::new(height, self.cols).map_err(|e| Error::Internal(format!("csv table: {e}")))?;
+        let mut buf = Vec::new();
+        CsvWriter::new(&mut buf)
+            .include_header(true)
+            .with_float_precision(Some(6))
+            .finish(&mut df)
+            .map_err(|e| Error::Internal(format!("csv write: {e}")))?;
+        Ok(buf)
+    }
+}
+
+pub fn tells_csv(tests: &[TellTest]) -> Result<Vec<u8>> {
+    let f = |i: usize| -> (Vec<Option<String>>, Vec<Option<String>>) {
+        tests
+            .iter()
+            .map(|t| {
+                let e = t.situation.iter().nth(i);
+                (e.map(|(f, _)| f.name().to_string()), e.map(|(_, l)| l.clone()))
+            })
+            .unzip()
+    };
+    let (f1, l1) = f(0);
+    let (f2, l2) = f(1);
+    Table::default()
+        .str("pitcher", tests.iter().map(|t| t.pitcher.clone()).collect())
+        .str("situation", tests.iter().map(|t| situation_label(&t.situation)).collect())
+        .opt_str("factor_1", f1)
+        .opt_str("level_1", l1)
+        .opt_str("factor_2", f2)
+        .opt_str("level_2", l2)
+        .str("pitch_type", tests.iter().map(|t| t.pitch_type.clone()).collect())
+        .str("direction", tests.iter().map(|t| t.direction.as_str().to_string()).collect())
+        .u64("n", tests.iter().map(|t| t.n as u64).collect())
+        .u64("pitches_of_type", tests.iter().map(|t| t.k as u64).collect())
+        .f64("share", tests.iter().map(|t| t.share).collect())
+        .f64("share_low_95", tests.iter().map(|t| t.share_low).collect())
+        .f64("share_high_95", tests.iter().map(|t| t.share_high).collect())
+        .f64("baseline_share", tests.iter().map(|t| t.baseline_share).collect())
+        .u64("baseline_n", tests.iter().map(|t| t.baseline_n as u64).collect())
+        .f64("staff_share", tests.iter().map(|t| t.staff_share).collect())
+        .f64("p_value", tests.iter().map(|t| t.p_value).collect())
+        .f64("q_value", tests.iter().map(|t| t.q_value).collect())
+        .u64("held_out_n", tests.iter().map(|t| t.held_out_n as u64).collect())
+        .opt_f64("held_out_share", tests.iter().map(|t| t.held_out_share).collect())
+        .bool("flagged", tests.iter().map(|t| t.flagged).collect())
+        .opt_str("within", tests.iter().map(|t| t.within.as_ref().map(situation_label)).collect())
+        .to_csv(tests.len())
+}
+
+pub fn counts_csv(summary: &Summary) -> Result<Vec<u8>> {
+    let rows: Vec<(&str, &crate::audit::summary::CountSummary)> = summary
+        .pitchers
+        .iter()
+        .flat_map(|p| p.counts.iter().map(move |c| (p.pitcher.as_str(), c)))
+        .collect();
+    Table::default()
+        .str("pitcher", rows.iter().map(|r| r.0.to_string()).collect())
+        .str("count", rows.iter().map(|r| r.1.count.clone()).collect())
+        .u64("n", rows.iter().map(|r| r.1.n as u64).collect())
+        .f64("prior_accuracy", rows.iter().map(|r| r.1.prior_accuracy).collect())
+        .f64("model_accuracy", rows.iter().map(|r| r.1.model_accuracy).collect())
+        .f64("lift", rows.iter().map(|r| r.1.lift).collect())
+        .f64("bits_gained", rows.iter().map(|r| r.1.bits_gained).collect())
+        .str("top_pitch", rows.iter().map(|r| r.1.top_pitch.clone()).collect())
+        .f64("top_share", rows.iter().map(|r| r.1.top_share).collect())
+        .f64("top_share_low_95", rows.iter().map(|r| r.1.top_share_low).collect())
+        .f64("top_share_high_95", rows.iter().map(|r| r.1.top_share_high).collect())
+        .u64("discovery_n", rows.iter().map(|r| r.1.discovery_n as u64).collect())
+        .str("discovery_top_pitch", rows.iter().map(|r| r.1.discovery_top_pitch.clone()).collect())
+        .f64("discovery_top_share", rows.iter().map(|r| r.1.discovery_top_share).collect())
+        .opt_f64("q_value", rows.iter().map(|r| r.1.q_value).collect())
+        .bool("more_predictable", rows.iter().map(|r| r.1.more_predictable).collect())
+        .to_csv(rows.len())
+}
+
+pub fn rejected_csv(rejected: &[Rejected]) -> Result<Vec<u8>> {
+    Table::default()
+        .u64("line", rejected.iter().map(|r| r.line).collect())
+        .str("column", rejected.iter().map(|r| r.column.clone()).collect())
+        .str("value", rejected.iter().map(|r| r.value.clone()).collect())
+        .str("reason", rejected.iter().map(|r| r.reason.clone()).collect())
+        .to_csv(rejected.len())
+}

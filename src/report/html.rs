@@ -1,0 +1,195 @@
+//! `index.html`: one self-contained page rendered by minijinja with HTML
+//! autoescaping on (the template's name ends in `.html`), so every name and
+//! sentence from the data is escaped; only our own SVG charts are inserted
+//! unescaped.
+
+use crate::audit::summary::Summary;
+use crate::audit::wording;
+use crate::error::{Error, Result};
+use crate::tells::TellTest;
+use serde::Serialize;
+use std::collections::BTreeMap;
+
+const TEMPLATE: &str = include_str!("templates/index.html");
+
+/// Inline SVG of each chart: the staff chart and each pitcher's charts.
+#[derive(Default)]
+pub struct ChartSvgs {
+    pub staff: Option<String>,
+    pub per_pitcher: BTreeMap<String, Vec<String>>,
+}
+
+#[derive(Serialize)]
+struct CountRow {
+    count: String,
+    n: usize,
+    top_pitch: String,
+    share: String,
+    interval: String,
+    prior: String,
+    model: String,
+    q: String,
+    more_predictable: bool,
+}
+
+#[derive(Serialize)]
+struct PitcherView {
+    pitcher: String,
+    anchor: String,
+    throws: String,
+    n_train: usize,
+    n_test: usize,
+    prior_pitch: String,
+    prior_accuracy: f64,
+    model_accuracy: f64,
+    lift: f64,
+    bits_gained: f64,
+    p_value: f64,
+    q_value: f64,
+    prior_text: String,
+    model_text: String,
+    lift_text: String,
+    bits_text: String,
+    p_text: String,
+    q_text: String,
+    permutations: usize,
+    significant: bool,
+    n_tells: usize,
+    tells: Vec<String>,
+    narrow: Vec<String>,
+    advice: Vec<String>,
+    rules: Vec<String>,
+    cautions: Vec<String>,
+    charts: Vec<String>,
+    counts: Vec<CountRow>,
+}
+
+#[derive(Serialize)]
+struct Insufficient {
+    pitcher: String,
+    n_train: usize,
+    n_test: usize,
+    why: String,
+}
+
+fn p_text(p: f64) -> String {
+    if p < 0.001 {
+        "< 0.001".into()
+    } else {
+        format!("{p:.3}")
+    }
+}
+
+/// The mix of a pitcher's pitch types in a tell's situation, from the tell
+/// tests of that situation (every type he throws is tested there).
+pub fn situation_mix(all: &[TellTest], t: &TellTest) -> Vec<(String, f64)> {
+    let mut mix: BTreeMap<String, f64> = BTreeMap::new();
+    for o in all.iter().filter(|o| o.pitcher == t.pitcher && o.situation == t.situation) {
+        mix.insert(o.pitch_type.clone(), o.share);
+    }
+    mix.into_iter().collect()
+}
+
+/// Pitches a season in a tell's situation: the held-out season's count when
+/// there is one, else the discovery count spread over its seasons.
+pub fn per_season(t: &TellTest, discovery_seasons: usize) -> f64 {
+    if t.held_out_n > 0 {
+        t.held_out_n as f64
+    } else {
+        t.n as f64 / discovery_seasons.max(1) as f64
+    }
+}
+
+pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, stems: &BTreeMap<String, String>) -> Result<String> {
+    let test_label = &summary.evaluation.test;
+    let discovery_seasons = summary.input.seasons.len().saturating_sub(1).max(1);
+    let mut staff = Vec::new();
+    let mut insufficient = Vec::new();
+    for p in &summary.pitchers {
+        if !p.is_ok() {
+            insufficient.push(Insufficient {
+                pitcher: p.pitcher.clone(),
+                n_train: p.n_train,
+                n_test: p.n_test,
+                why: p.cautions.join(" "),
+            });
+            continue;
+        }
+        let (main, narrow): (Vec<&TellTest>, Vec<&TellTest>) = p.tells.iter().partition(|t| t.within.is_none());
+        let advice = main
+            .iter()
+            .map(|t| wording::advice(t, &situation_mix(all_tests, t), per_season(t, discovery_seasons)))
+            .collect();
+        let counts = p
+            .counts
+            .iter()
+            .map(|c| CountRow {
+                count: c.count.clone(),
+                n: c.n,
+                top_pitch: c.top_pitch.clone(),
+                share: wording::pct(c.top_share),
+                interval: format!("{}–{}", wording::pct(c.top_share_low), wording::pct(c.top_share_high)),
+                prior: wording::pct(c.prior_accuracy),
+                model: wording::pct(c.model_accuracy),
+                q: c.q_value.map(|q| p_text(q)).unwrap_or_else(|| "—".into()),
+                more_predictable: c.more_predictable,
+            })
+            .collect();
+        let g = |x: Option<f64>| x.unwrap_or(0.0);
+        staff.push(PitcherView {
+            pitcher: p.pitcher.clone(),
+            anchor: stems.get(&p.pitcher).cloned().unwrap_or_default(),
+            throws: p.throws.clone(),
+            n_train: p.n_train,
+            n_test: p.n_test,
+            prior_pitch: p.prior_pitch.clone().unwrap_or_default(),
+            prior_accuracy: g(p.prior_accuracy),
+            model_accuracy: g(p.model_accuracy),
+            lift: g(p.lift),
+            bits_gained: g(p.bits_gained),
+            p_value: g(p.p_value),
+            q_value: g(p.q_value),
+            prior_text: wording::pct(g(p.prior_accuracy)),
+            model_text: wording::pct(g(p.model_accuracy)),
+            lift_text: format!("{:+.0}%", 100.0 * g(p.lift)),
+            bits_text: format!("{:+.3}", g(p.bits_gained)),
+            p_text: p_text(g(p.p_value)),
+            q_text: p_text(g(p.q_value)),
+            permutations: p.permutations.unwrap_or(0),
+            significant: p.significant.unwrap_or(false),
+            n_tells: main.len(),
+            tells: main.iter().map(|t| wording::tell_sentence(t, test_label)).collect(),
+            narrow: narrow.iter().map(|t| wording::tell_sentence(t, test_label)).collect(),
+            advice,
+            rules: p.rules.iter().map(|r| r.text.clone()).collect(),
+            cautions: p.cautions.clone(),
+            charts: charts.per_pitcher.get(&p.pitcher).cloned().unwrap_or_default(),
+            counts,
+        });
+    }
+    // Most predictable first; the table can be re-sorted in the page.
+    staff.sort_by(|a, b| b.bits_gained.partial_cmp(&a.bits_gained).unwrap().then(a.pitcher.cmp(&b.pitcher)));
+    let mut env = minijinja::Environment::new();
+    env.add_template("index.html", TEMPLATE).map_err(|e| Error::Internal(format!("template: {e}")))?;
+    let tmpl = env.get_template("index.html").map_err(|e| Error::Internal(format!("template: {e}")))?;
+    let ctx = minijinja::context! {
+        title => summary.input.path.clone(),
+        input_path => summary.input.path.clone(),
+        rows_kept => summary.input.rows_kept,
+        rows_read => summary.input.rows_read,
+        train => summary.evaluation.train.clone(),
+        test => summary.evaluation.test.clone(),
+        scheme => summary.evaluation.scheme.clone(),
+        permutations => summary.settings.permutations,
+        fdr => summary.settings.fdr,
+        fdr_pct => format!("{:.0}%", summary.settings.fdr * 100.0),
+        min_effect => format!("{:.0} points", summary.settings.tell_min_effect * 100.0),
+        min_n => summary.settings.tell_min_n,
+        version => summary.tool.version.clone(),
+        notes => summary.notes.clone(),
+        staff => staff,
+        insufficient => insufficient,
+        staff_chart => charts.staff.clone(),
+    };
+    tmpl.render(ctx).map_err(|e| Error::Internal(format!("rendering index.html: {e}")))
+}

@@ -1,0 +1,602 @@
+//! The game model: our staff pitches every half-inning of the opponent's
+//! offense; our own offense is a per-inning run distribution, so the score
+//! moves both ways.
+//!
+//! Every probability here is common practice (round figures of the trade,
+//! chosen so a season looks like a season: about 3.9 pitches per plate
+//! appearance, a strikeout in a fifth to a quarter of them, a walk in about
+//! one in twelve), not fitted to any data. Pitch outcomes depend on the
+//! count only, never on the pitch type, so the planted truth is exactly
+//! what the scenario says and a pitcher with no rule is a true null.
+//!
+//! Staff use: a five-man (or however many starters) rotation; a starter
+//! goes until a pitch limit drawn per start (about 99, sd 6) or until he has
+//! allowed five to seven runs; relievers take an inning each (sometimes
+//! two in the middle innings), with a rest rule carried from game to game
+//! (not after pitching both of the last two games, nor after 30 pitches
+//! the day before). The first-listed reliever closes: he takes the ninth
+//! or later with a lead of 0 to 3 runs when rested. From the tenth inning
+//! each half starts with a runner on second (common practice since 2020).
+
+use super::flight;
+use super::roster::{Roster, SeasonPlan, Team, NO_PREV};
+use super::scenario::Scenario;
+use super::{PitchResult, SimGame, SimPitch};
+use crate::situations::levels::{
+    bases_index, count_index, inning_index, platoon_index, score_index, times_through_index, Hand,
+};
+use rand::{Rng, SeedableRng};
+use rand_chacha::ChaCha8Rng;
+
+/// Per-pitch probabilities by count (index [`count_index`]): ball, called
+/// strike, swinging strike, foul, in play. Common practice in shape: more
+/// takes for a strike at 3-0, more chases and waste pitches at 0-2, more
+/// contact at full counts. Rows need not sum to 1 (normalised on use).
+const BY_COUNT: [[f64; 5]; 12] = [
+    [0.360, 0.275, 0.055, 0.170, 0.140], // 0-0
+    [0.370, 0.150, 0.105, 0.215, 0.160], // 0-1
+    [0.430, 0.060, 0.115, 0.240, 0.155], // 0-2
+    [0.350, 0.205, 0.080, 0.195, 0.170], // 1-0
+    [0.345, 0.145, 0.100, 0.225, 0.185], // 1-1
+    [0.370, 0.065, 0.120, 0.265, 0.180], // 1-2
+    [0.335, 0.215, 0.065, 0.195, 0.190], // 2-0
+    [0.325, 0.150, 0.095, 0.235, 0.195], // 2-1
+    [0.320, 0.070, 0.120, 0.285, 0.205], // 2-2
+    [0.330, 0.540, 0.020, 0.060, 0.050], // 3-0
+    [0.315, 0.210, 0.080, 0.210, 0.185], // 3-1
+    [0.205, 0.070, 0.120, 0.345, 0.260], // 3-2
+];
+
+/// Hit by pitch, per pitch (about 1 in 100 plate appearances; common practice).
+const HBP: f64 = 0.0028;
+
+/// Our runs in one half-inning: 0, 1, 2, ... (about 4.2 a game; common practice).
+const OUR_RUNS: [f64; 7] = [0.745, 0.135, 0.065, 0.032, 0.014, 0.006, 0.003];
+
+/// A game stops after this inning even if tied (never reached in practice).
+const LAST_INNING: u8 = 30;
+
+/// Play one team's games of one season, in order.
+pub(crate) fn play_team_season(
+    scenario: &Scenario,
+    roster: &Roster,
+    season_index: usize,
+    team_index: usize,
+    first_game: u32,
+    seed: u64,
+) -> (Vec<SimGame>, Vec<SimPitch>) {
+    let season = &scenario.seasons[season_index];
+    let team = &roster.teams[team_index];
+    // Pitches by each reliever in the last game and the one before.
+    let mut rest = vec![[0u32; 2]; team.relievers.len()];
+    let mut games = Vec::with_capacity(season.games as usize);
+    let mut rows = Vec::with_capacity(season.games as usize * 160);
+    for k in 0..season.games {
+        let game = first_game + k;
+        // One stream per game: the game's draws do not depend on how many
+        // draws any other game made.
+        let mut rng = ChaCha8Rng::seed_from_u64(seed);
+        rng.set_stream(game as u64);
+        let id = match &team.code {
+            None => format!("G{}-{:03}", season.year, k + 1),
+            Some(code) => format!("G{}-{}-{:03}", season.year, code, k + 1),
+        };
+        games.push(SimGame {
+            id,
+            date: season.game_date(k).to_string(),
+            season: season.year,
+        });
+        let starter = team.starters[k as usize % team.starters.len()];
+        let mut g = Game::new(
+            &mut rng,
+            roster,
+            team,
+            season_index,
+            game,
+            starter,
+            &rest,
+            &mut rows,
+        );
+        g.play(&mut rng, k % 2 == 0);
+        let pitched = g.finish();
+        for (r, p) in rest.iter_mut().zip(pitched) {
+            *r = [p, r[0]];
+        }
+    }
+    (games, rows)
+}
+
+/// The pitcher on the mound and his outing so far.
+struct Arm {
+    pitcher: u32,
+    /// His place in the bullpen, for a reliever.
+    bullpen_slot: Option<usize>,
+    pitches: u32,
+    runs: u32,
+    /// Pulled once he reaches this many pitches.
+    limit: u32,
+    /// Pulled once he has allowed this many runs.
+    shell: u32,
+    /// Half-innings he has pitched in.
+    halves: u32,
+    /// Plate appearances against each lineup slot, this outing.
+    times: [u8; 9],
+}
+
+impl Arm {
+    fn starter(rng: &mut ChaCha8Rng, pitcher: u32) -> Arm {
+        let limit = (99.0 + 6.0 * flight::normal(rng))
+            .round()
+            .clamp(84.0, 114.0) as u32;
+        let shell = rng.random_range(5..=7);
+        Arm {
+            pitcher,
+            bullpen_slot: None,
+            pitches: 0,
+            runs: 0,
+            limit,
+            shell,
+            halves: 0,
+            times: [0; 9],
+        }
+    }
+
+    fn reliever(rng: &mut ChaCha8Rng, pitcher: u32, slot: usize) -> Arm {
+        let limit = rng.random_range(28..=40);
+        Arm {
+            pitcher,
+            bullpen_slot: Some(slot),
+            pitches: 0,
+            runs: 0,
+            limit,
+            shell: 3,
+            halves: 0,
+            times: [0; 9],
+        }
+    }
+}
+
+enum PaEnd {
+    Strikeout,
+    Walk,
+    HitByPitch,
+    InPlay,
+}
+
+struct Game<'a> {
+    roster: &'a Roster,
+    team: &'a Team,
+    season: usize,
+    game: u32,
+    rest: &'a [[u32; 2]],
+    rows: &'a mut Vec<SimPitch>,
+    lineup: [u32; 9],
+    next_slot: usize,
+    our: i32,
+    their: i32,
+    pa: u16,
+    arm: Arm,
+    /// Pitches by each reliever this game (0: did not pitch).
+    bullpen_pitches: Vec<u32>,
+    used: Vec<bool>,
+}
+
+impl<'a> Game<'a> {
+    #[allow(clippy::too_many_arguments)]
+    fn new(
+        rng: &mut ChaCha8Rng,
+        roster: &'a Roster,
+        team: &'a Team,
+        season: usize,
+        game: u32,
+        starter: u32,
+        rest: &'a [[u32; 2]],
+        rows: &'a mut Vec<SimPitch>,
+    ) -> Game<'a> {
+        // Nine distinct batters from the pool, drawn by rejection (the pool
+        // is much larger than nine, so this is quick).
+        let pool = roster.batters.len() as u32;
+        let mut lineup = [0u32; 9];
+        let mut filled = 0;
+        while filled < 9 {
+            let b = rng.random_range(0..pool);
+            if !lineup[..filled].contains(&b) {
+                lineup[filled] = b;
+                filled += 1;
+            }
+        }
+        let arm = Arm::starter(rng, starter);
+        let n = team.relievers.len();
+        Game {
+            roster,
+            team,
+            season,
+            game,
+            rest,
+            rows,
+            lineup,
+            next_slot: 0,
+            our: 0,
+            their: 0,
+            pa: 0,
+            arm,
+            bullpen_pitches: vec![0; n],
+            used: vec![false; n],
+        }
+    }
+
+    /// `home`: we pitch the top halves and bat last.
+    fn play(&mut self, rng: &mut ChaCha8Rng, home: bool) {
+        for inning in 1..=LAST_INNING {
+            if home {
+                self.pitch_half(rng, inning, false);
+                if inning >= 9 && self.our > self.their {
+                    break; // the bottom of the inning is not needed
+                }
+                self.our += our_runs(rng);
+                if inning >= 9 && self.our != self.their {
+                    break;
+                }
+            } else {
+                self.our += our_runs(rng);
+                if inning >= 9 && self.their > self.our {
+                    break;
+                }
+                // From the ninth, the home side's half ends as soon as it leads.
+                self.pitch_half(rng, inning, inning >= 9);
+                if inning >= 9 && self.our != self.their {
+                    break;
+                }
+            }
+        }
+    }
+
+    /// Pitches by each reliever this game.
+    fn finish(mut self) -> Vec<u32> {
+        self.close_outing();
+        self.bullpen_pitches
+    }
+
+    fn close_outing(&mut self) {
+        if let Some(slot) = self.arm.bullpen_slot {
+            self.bullpen_pitches[slot] += self.arm.pitches;
+        }
+    }
+
+    fn lead(&self) -> i32 {
+        self.our - self.their
+    }
+
+    /// The closer's spot: ninth or later, ahead by up to three or tied.
+    fn closer_spot(&self, inning: u8) -> bool {
+        inning >= 9 && (0..=3).contains(&self.lead())
+    }
+
+    fn fresh(&self, slot: usize) -> bool {
+        let [last, before] = self.rest[slot];
+        let pitched_twice = last > 0 && before > 0;
+        let worked_hard = last >= 30;
+        !(self.used[slot] || pitched_twice || worked_hard)
+    }
+
+    fn bring_reliever(&mut self, rng: &mut ChaCha8Rng, inning: u8) {
+        let n = self.team.relievers.len();
+        let slot = if self.closer_spot(inning) && self.fresh(0) {
+            Some(0)
+        } else {
+            let fresh: Vec<usize> = (1..n).filter(|&s| self.fresh(s)).collect();
+            let pool = if fresh.is_empty() {
+                // Everyone tired: anyone not yet used this game.
+                (0..n).filter(|&s| !self.used[s]).collect()
+            } else {
+                fresh
+            };
+            if pool.is_empty() {
+                None
+            } else {
+                Some(pool[rng.random_range(0..pool.len())])
+            }
+        };
+        if let Some(slot) = slot {
+            self.close_outing();
+            self.used[slot] = true;
+            self.arm = Arm::reliever(rng, self.team.relievers[slot], slot);
+        }
+    }
+
+    fn at_inning_start(&mut self, rng: &mut ChaCha8Rng, inning: u8) {
+        if self.arm.halves == 0 {
+            return; // the starter's first inning
+        }
+        let is_closer = self.arm.bullpen_slot == Some(0);
+        let closer_due = self.closer_spot(inning) && !is_closer && self.fresh(0);
+        let pull = if self.arm.bullpen_slot.is_none() {
+            // A starter near his limit does not begin another inning.
+            closer_due || self.arm.pitches + 12 >= self.arm.limit || self.arm.runs >= self.arm.shell
+        } else {
+            let stay_chance = if inning <= 7 { 0.35 } else { 0.10 };
+            let stays = !is_closer && self.arm.pitches < 20 && rng.random::<f64>() < stay_chance;
+            closer_due || !stays
+        };
+        if pull {
+            self.bring_reliever(rng, inning);
+        }
+    }
+
+    fn between_batters(&mut self, rng: &mut ChaCha8Rng, inning: u8) {
+        if self.arm.pitches >= self.arm.limit || self.arm.runs >= self.arm.shell {
+            self.bring_reliever(rng, inning);
+        }
+    }
+
+    fn pitch_half(&mut self, rng: &mut ChaCha8Rng, inning: u8, walk_off: bool) {
+        let mut outs = 0u8;
+        let mut bases = [false, inning >= 10, false];
+        self.at_inning_start(rng, inning);
+        let mut first = true;
+        while outs < 3 {
+            if walk_off && self.their > self.our {
+                break;
+            }
+            if !first {
+                self.between_batters(rng, inning);
+            }
+            first = false;
+            self.plate_appearance(rng, inning, &mut outs, &mut bases);
+        }
+        self.arm.halves += 1;
+    }
+
+    fn plate_appearance(
+        &mut self,
+        rng: &mut ChaCha8Rng,
+        inning: u8,
+        outs: &mut u8,
+        bases: &mut [bool; 3],
+    ) {
+        let roster = self.roster;
+        let slot = self.next_slot;
+        self.next_slot = (slot + 1) % 9;
+        let batter = self.lineup[slot];
+        self.arm.times[slot] = self.arm.times[slot].saturating_add(1);
+        let pitcher = self.arm.pitcher;
+        let throws = roster.pitchers[pitcher as usize].throws;
+        let bats = roster.batters[batter as usize].bats.against(throws);
+        let plan: &SeasonPlan = &roster.plans[pitcher as usize][self.season];
+        let velo = roster.velo_offset[pitcher as usize];
+        self.pa += 1;
+
+        // Situation codes in `Factor::ALL` order: count, bats, platoon,
+        // bases, outs, prev_pitch, times_through, inning, score.
+        let mut situation = [
+            0,
+            (bats == Hand::R) as u8,
+            platoon_index(throws, bats) as u8,
+            bases_index(bases[0], bases[1], bases[2]) as u8,
+            *outs,
+            NO_PREV,
+            times_through_index(self.arm.times[slot] as u32) as u8,
+            inning_index(inning as u32) as u8,
+            score_index(self.lead()) as u8,
+        ];
+        let score_diff = self.lead().clamp(i16::MIN as i32, i16::MAX as i32) as i16;
+        let (mut balls, mut strikes, mut pitch_no) = (0u8, 0u8, 0u8);
+        let end = loop {
+            pitch_no = pitch_no.saturating_add(1);
+            situation[0] = count_index(balls, strikes) as u8;
+            let pitch_type = choose_pitch(rng, plan, &situation);
+            let result = draw_result(rng, balls, strikes);
+            let (speed, side, height) = flight::draw(
+                rng,
+                &roster.profiles[pitch_type as usize],
+                velo,
+                throws,
+                bats,
+                result,
+            );
+            self.rows.push(SimPitch {
+                game: self.game,
+                pitcher,
+                batter,
+                speed_mph: speed,
+                loc_side_ft: side,
+                loc_height_ft: height,
+                pa: self.pa,
+                pitch_type,
+                score_diff,
+                bats,
+                inning,
+                outs: *outs,
+                balls,
+                strikes,
+                on_first: bases[0],
+                on_second: bases[1],
+                on_third: bases[2],
+                pitch_no,
+                result,
+            });
+            self.arm.pitches += 1;
+            situation[5] = pitch_type as u8;
+            match result {
+                PitchResult::Ball => {
+                    balls += 1;
+                    if balls == 4 {
+                        break PaEnd::Walk;
+                    }
+                }
+                PitchResult::CalledStrike | PitchResult::SwingingStrike => {
+                    strikes += 1;
+                    if strikes == 3 {
+                        break PaEnd::Strikeout;
+                    }
+                }
+                // A foul with two strikes leaves the count alone.
+                PitchResult::Foul => strikes = (strikes + 1).min(2),
+                PitchResult::InPlay => break PaEnd::InPlay,
+                PitchResult::HitByPitch => break PaEnd::HitByPitch,
+            }
+        };
+        let runs = match end {
+            PaEnd::Strikeout => {
+                *outs += 1;
+                0
+            }
+            PaEnd::Walk | PaEnd::HitByPitch => force_advance(bases),
+            PaEnd::InPlay => ball_in_play(rng, outs, bases),
+        };
+        self.their += runs as i32;
+        self.arm.runs += runs;
+    }
+}
+
+/// The planted rules first (the first that holds decides), else the mix.
+#[inline]
+fn choose_pitch(rng: &mut ChaCha8Rng, plan: &SeasonPlan, situation: &[u8; 9]) -> u16 {
+    for rule in &plan.rules {
+        if rule.holds(situation) {
+            return if rng.random::<f64>() < rule.rate {
+                rule.throw
+            } else {
+                rule.rest.sample(rng.random::<f64>())
+            };
+        }
+    }
+    plan.mix.sample(rng.random::<f64>())
+}
+
+fn draw_result(rng: &mut ChaCha8Rng, balls: u8, strikes: u8) -> PitchResult {
+    let u = rng.random::<f64>();
+    if u < HBP {
+        return PitchResult::HitByPitch;
+    }
+    let row = &BY_COUNT[count_index(balls, strikes)];
+    let mut v = (u - HBP) / (1.0 - HBP) * row.iter().sum::<f64>();
+    const KINDS: [PitchResult; 5] = [
+        PitchResult::Ball,
+        PitchResult::CalledStrike,
+        PitchResult::SwingingStrike,
+        PitchResult::Foul,
+        PitchResult::InPlay,
+    ];
+    for (p, kind) in row.iter().zip(KINDS) {
+        if v < *p {
+            return kind;
+        }
+        v -= p;
+    }
+    PitchResult::InPlay
+}
+
+fn our_runs(rng: &mut ChaCha8Rng) -> i32 {
+    let mut u = rng.random::<f64>() * OUR_RUNS.iter().sum::<f64>();
+    for (runs, p) in OUR_RUNS.iter().enumerate() {
+        if u < *p {
+            return runs as i32;
+        }
+        u -= p;
+    }
+    0
+}
+
+/// Walk or hit batsman: the batter to first, forced runners move up.
+fn force_advance(bases: &mut [bool; 3]) -> u32 {
+    let mut runs = 0;
+    if bases[0] {
+        if bases[1] {
+            if bases[2] {
+                runs = 1;
+            }
+            bases[2] = true;
+        }
+        bases[1] = true;
+    }
+    bases[0] = true;
+    runs
+}
+
+/// A ball in play: outs about two in three, then singles, doubles, a few
+/// triples and homers (common practice in shape). Runners move plausibly;
+/// no run scores on a play that makes the third out.
+fn ball_in_play(rng: &mut ChaCha8Rng, outs: &mut u8, bases: &mut [bool; 3]) -> u32 {
+    let u = rng.random::<f64>();
+    let on = |b: &[bool; 3]| b.iter().filter(|&&x| x).count() as u32;
+    let mut runs = 0;
+    if u < 0.665 {
+        let kind = rng.random::<f64>();
+        if kind < 0.45 {
+            // Ground ball: sometimes a double play, else runners often move up.
+            if bases[0] && *outs < 2 && rng.random::<f64>() < 0.25 {
+                *outs += 2;
+                bases[0] = false;
+                if *outs < 3 {
+                    runs += bases[2] as u32;
+                    bases[2] = bases[1];
+                    bases[1] = false;
+                }
+            } else {
+                *outs += 1;
+                if *outs < 3 && rng.random::<f64>() < 0.6 {
+                    runs += bases[2] as u32;
+                    bases[2] = bases[1];
+                    bases[1] = bases[0];
+                    bases[0] = false;
+                }
+            }
+        } else if kind < 0.80 {
+            // Fly ball: a runner on third often tags and scores.
+            *outs += 1;
+            if *outs < 3 && bases[2] && rng.random::<f64>() < 0.55 {
+                runs += 1;
+                bases[2] = false;
+            }
+            if *outs < 3 && bases[1] && !bases[2] && rng.random::<f64>() < 0.25 {
+                bases[1] = false;
+                bases[2] = true;
+            }
+        } else {
+            *outs += 1; // line drive or pop-up caught: nobody moves
+        }
+    } else if u < 0.88 {
+        // Single.
+        let mut next = [true, false, false];
+        runs += bases[2] as u32;
+        if bases[1] {
+            if rng.random::<f64>() < 0.6 {
+                runs += 1;
+            } else {
+                next[2] = true;
+            }
+        }
+        if bases[0] {
+            if !next[2] && rng.random::<f64>() < 0.25 {
+                next[2] = true;
+            } else {
+                next[1] = true;
+            }
+        }
+        *bases = next;
+    } else if u < 0.95 {
+        // Double.
+        let mut next = [false, true, false];
+        runs += bases[2] as u32 + bases[1] as u32;
+        if bases[0] {
+            if rng.random::<f64>() < 0.4 {
+                runs += 1;
+            } else {
+                next[2] = true;
+            }
+        }
+        *bases = next;
+    } else if u < 0.957 {
+        runs += on(bases);
+        *bases = [false, false, true];
+    } else {
+        runs += on(bases) + 1;
+        *bases = [false; 3];
+    }
+    if *outs >= 3 {
+        0
+    } else {
+        runs
+    }
+}

@@ -1,0 +1,363 @@
+//! Situation tells: for each pitcher, each situation (one factor level, or a
+//! combination of two) and each of his pitch types, is his share of that
+//! pitch in the situation different from his share outside it?
+//!
+//! Tells are found on the discovery rows (the training part of the
+//! evaluation) and checked on the held-out rows. Each test is a one-sided
+//! Fisher exact test (hypergeometric tail): share > baseline, or share <
+//! baseline ("he never throws it here" is as useful to a hitter). Every test
+//! of the run forms one Benjamini–Hochberg family.
+
+use crate::evaluate::task::PitcherTask;
+use crate::ingest::PitchLog;
+use crate::settings::Settings;
+use crate::significance::{fdr, hypergeom, wilson};
+
+use crate::situations::{levels::Factor, Situations, UNKNOWN};
+use serde::Serialize;
+use std::collections::BTreeMap;
+
+/// Which way the share moves in the situation.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, PartialOrd, Ord)]
+#[serde(rename_all = "snake_case")]
+pub enum Direction {
+    More,
+    Less,
+}
+
+impl Direction {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Direction::More => "more",
+            Direction::Less => "less",
+        }
+    }
+}
+
+/// A situation: one or two (factor, level) pairs, in factor order.
+pub type Situation = BTreeMap<Factor, String>;
+
+/// One tested (situation, pitch type, direction).
+#[derive(Debug, Clone, Serialize)]
+pub struct TellTest {
+    pub pitcher: String,
+    #[serde(serialize_with = "ser_situation")]
+    pub situation: Situation,
+    pub pitch_type: String,
+    pub direction: Direction,
+    /// Discovery pitches in the situation, and of this type among them.
+    pub n: usize,
+    pub k: usize,
+    pub share: f64,
+    pub share_low: f64,
+    pub share_high: f64,
+    /// His share of the type outside the situation (discovery rows).
+    pub baseline_share: f64,
+    pub baseline_n: usize,
+    /// The whole staff's share of the type in the same situation.
+    pub staff_share: f64,
+    pub p_value: f64,
+    pub q_value: f64,
+    pub held_out_n: usize,
+    pub held_out_share: Option<f64>,
+    /// His held-out share outside the situation (for "did it hold").
+    pub held_out_baseline_share: Option<f64>,
+    pub flagged: bool,
+    /// q-value of "this pitcher has some tell" (his family, Simes + BH).
+    pub family_q: f64,
+    /// For a two-factor tell: the flagged one-factor tell it barely
+    /// narrows (shares within the minimum effect), if any.
+    #[serde(serialize_with = "ser_opt_situation")]
+    pub within: Option<Situation>,
+}
+
+impl TellTest {
+    /// share − baseline, signed so a tell's effect is positive.
+    pub fn effect(&self) -> f64 {
+        match self.direction {
+            Direction::More => self.share - self.baseline_share,
+            Direction::Less => self.baseline_share - self.share,
+        }
+    }
+}
+
+fn ser_situation<S: serde::Serializer>(s: &Situation, ser: S) -> Result<S::Ok, S::Error> {
+    use serde::ser::SerializeMap;
+    let mut m = ser.serialize_map(Some(s.len()))?;
+    for (f, l) in s {
+        m.serialize_entry(f.name(), l)?;
+    }
+    m.end()
+}
+
+fn ser_opt_situation<S: serde::Serializer>(s: &Option<Situation>, ser: S) -> Result<S::Ok, S::Error> {
+    match s {
+        None => ser.serialize_none(),
+        Some(s) => ser_situation(s, ser),
+    }
+}
+
+/// Situation in words for tables: `count 3-1, platoon same`.
+pub fn situation_label(s: &Situation) -> String {
+    s.iter().map(|(f, l)| format!("{} {}", f.name(), l)).collect::<Vec<_>>().join(", ")
+}
+
+/// The situations a run tests: every single factor (but `bats`, which for a
+/// one-handed pitcher is the same split as `platoon`), then the pairs.
+fn definitions(sit: &Situations, settings: &Settings) -> Vec<Vec<Factor>> {
+    let mut defs: Vec<Vec<Factor>> = Vec::new();
+    for fc in &sit.factors {
+        if fc.factor == Factor::Bats && sit.has(Factor::Platoon) {
+            continue;
+        }
+        defs.push(vec![fc.factor]);
+    }
+    for &(a, b) in &settings.tell_pairs {
+        if sit.has(a) && sit.has(b) {
+            defs.push(vec![a, b]);
+        }
+    }
+    defs
+}
+
+/// Key of a row under a definition, or None when a level is unknown.
+#[inline]
+fn key(cols: &[&crate::situations::FactorColumn], row: usize) -> Option<usize> {
+    let mut k = 0usize;
+    for c in cols {
+        let code = c.codes[row];
+        if code == UNKNOWN {
+            return None;
+        }
+        k = k * c.levels.len() + code as usize;
+    }
+    Some(k)
+}
+
+fn key_situation(cols: &[&crate::situations::FactorColumn], mut k: usize) -> Situation {
+    let mut out = Situation::new();
+    for c in cols.iter().rev() {
+        let n = c.levels.len();
+        out.insert(c.factor, c.levels[k % n].clone());
+        k /= n;
+    }
+    out
+}
+
+/// Run every tell test for the given pitchers (tasks), then one BH family.
+pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[PitcherTask], settings: &Settings) -> Vec<TellTest> {
+    let defs = definitions(sit, settings);
+    let n_types = log.pitch_types.len();
+    // Staff: the pitcher's team when the log has one, else the whole log.
+    let team_of_row = |r: usize| -> u32 { log.team.as_ref().and_then(|t| t[r]).map(|t| t + 1).unwrap_or(0) };
+    let n_teams = log.teams.len() + 1;
+    let mut tests: Vec<TellTest> = Vec::new();
+    for def in &defs {
+        let cols: Vec<&crate::situations::FactorColumn> = def.iter().map(|f| sit.get(*f).unwrap()).collect();
+        let n_keys: usize = cols.iter().map(|c| c.levels.len()).product();
+        // Staff counts per (team, key, type) over discovery rows of all pitchers.
+        let mut staff = vec![0u32; n_teams * n_keys * n_types];
+        let mut staff_n = vec![0u32; n_teams * n_keys];
+        for r in 0..log.len() {
+            if !discovery[r] {
+                continue;
+            }
+            if let Some(k) = key(&cols, r) {
+                let t = team_of_row(r) as usize;
+                staff[(t * n_keys + k) * n_types + log.pitch_type[r] as usize] += 1;
+                staff_n[t * n_keys + k] += 1;
+            }
+        }
+        let binary = def.len() == 1 && cols[0].levels.len() == 2;
+        for task in tasks {
+            let kc = task.n_classes;
+            let mut disc = vec![0u32; n_keys * kc];
+            let mut disc_n = vec![0u32; n_keys];
+            let mut total = vec![0u32; kc];
+            for &i in &task.discovery {
+                let r = task.rows[i as usize] as usize;
+                let y = task.labels[i as usize] as usize;
+                total[y] += 1;
+                if let Some(k) = key(&cols, r) {
+                    disc[k * kc + y] += 1;
+                    disc_n[k] += 1;
+                }
+            }
+            let big_n: u32 = total.iter().sum();
+            let mut held = vec![0u32; n_keys * kc];
+            let mut held_n = vec![0u32; n_keys];
+            let mut held_total = vec![0u32; kc];
+            for &i in &task.held_out {
+                let r = task.rows[i as usize] as usize;
+                let y = task.labels[i as usize] as usize;
+                held_total[y] += 1;
+                if let Some(k) = key(&cols, r) {
+                    held[k * kc + y] += 1;
+                    held_n[k] += 1;
+                }
+            }
+            let held_all: u32 = held_total.iter().sum();
+            let team = task.rows.first().map(|&r| team_of_row(r as usize)).unwrap_or(0) as usize;
+            for k in 0..n_keys {
+                let n = disc_n[k];
+                if (n as usize) < settings.tell_min_n || big_n - n < settings.tell_min_n as u32 {
+                    continue;
+                }
+                let situation = key_situation(&cols, k);
+                for cls in 0..kc {
+                    let big_k = total[cls];
+                    if big_k == 0 {
+                        continue;
+                    }
+                    let x = disc[k * kc + cls];
+                    let gtype = task.class_types[cls] as usize;
+                    let sn = staff_n[team * n_keys + k];
+                    let staff_share = if sn > 0 { staff[(team * n_keys + k) * n_types + gtype] as f64 / sn as f64 } else { 0.0 };
+                    let share = x as f64 / n as f64;
+                    let baseline_share = (big_k - x) as f64 / (big_n - n) as f64;
+                    let ci = wilson::wilson_95(x as u64, n as u64);
+                    let hn = held_n[k];
+                    let hk = held[k * kc + cls];
+                    let hout = held_all - hn;
+                    let hkout = held_total[cls] - hk;
+                    for dir in [Direction::More, Direction::Less] {
+                        if binary && dir == Direction::Less {
+                            continue; // the other level's "more" is the same test
+                        }
+                        // Fisher's exact test as a hypergeometric tail: of the
+                        // big_n discovery pitches, big_k are this type; draw
+                        // the n in the situation.
+                        let p = match dir {
+                            Direction::More => hypergeom::upper_tail(x as u64, big_n as u64, big_k as u64, n as u64),
+                            Direction::Less => hypergeom::lower_tail(x as u64, big_n as u64, big_k as u64, n as u64),
+                        };
+                        tests.push(TellTest {
+                            pitcher: task.name.clone(),
+                            situation: situation.clone(),
+                            pitch_type: log.pitch_types[gtype].clone(),
+                            direction: dir,
+                            n: n as usize,
+                            k: x as usize,
+                            share,
+                            share_low: ci.low,
+                            share_high: ci.high,
+                            baseline_share,
+                            baseline_n: (big_n - n) as usize,
+                            staff_share,
+                            p_value: p.clamp(0.0, 1.0),
+                            q_value: 1.0,
+                            held_out_n: hn as usize,
+                            held_out_share: (hn > 0).then(|| hk as f64 / hn as f64),
+                            held_out_baseline_share: (hout > 0).then(|| hkout as f64 / hout as f64),
+                            flagged: false,
+                            family_q: 1.0,
+                            within: None,
+                        });
+                    }
+                }
+            }
+        }
+    }
+    control_fdr(&mut tests, settings);
+    for t in tests.iter_mut() {
+        t.flagged = t.q_value <= settings.fdr && t.effect() >= settings.tell_min_effect;
+    }
+    mark_narrowings(&mut tests, settings.tell_min_effect);
+    tests
+}
+
+/// Simes' (1986) combined p-value of a family: min_i m·p_(i)/i. Valid for
+/// independent or positively dependent tests (Sarkar 1998), as overlapping
+/// situations of one pitcher are.
+pub fn simes(p: &[f64]) -> f64 {
+    let mut v = p.to_vec();
+    v.sort_by(f64::total_cmp);
+    let m = v.len() as f64;
+    v.iter().enumerate().map(|(i, &x)| m * x / (i + 1) as f64).fold(1.0, f64::min)
+}
+
+/// The run's false-discovery control over every tell test.
+///
+/// `hierarchical` (default), after Benjamini & Bogomolov (2014), "Selective
+/// inference on multiple families of hypotheses", JRSS B 76: each pitcher's
+/// tests are a family; a family's Simes p-value asks "does this pitcher
+/// have any tell at all?"; BH over pitchers selects R of M; within a
+/// selected pitcher BH runs at level q·R/M. A tell's reported q-value is its
+/// within-pitcher BH q-value times M/R, so "flagged" is "q ≤ fdr"; for a
+/// pitcher not selected it is raised to at least his family's q, so it is
+/// never flagged. This keeps one true tell-rich pitcher from lowering the
+/// bar for everybody else, which pooled BH does.
+///
+/// `pooled`: plain Benjamini–Hochberg over all tests of the run.
+fn control_fdr(tests: &mut [TellTest], settings: &Settings) {
+    if tests.is_empty() {
+        return;
+    }
+    if settings.tell_fdr_method == crate::settings::FdrMethod::Pooled {
+        let p: Vec<f64> = tests.iter().map(|t| t.p_value).collect();
+        for (t, q) in tests.iter_mut().zip(fdr::bh_q_values(&p)) {
+            t.q_value = q;
+            t.family_q = q;
+        }
+        return;
+    }
+    let mut families: BTreeMap<String, Vec<usize>> = BTreeMap::new();
+    for (i, t) in tests.iter().enumerate() {
+        families.entry(t.pitcher.clone()).or_default().push(i);
+    }
+    let fam: Vec<(&String, &Vec<usize>)> = families.iter().collect();
+    let fam_p: Vec<f64> = fam.iter().map(|(_, idx)| simes(&idx.iter().map(|&i| tests[i].p_value).collect::<Vec<_>>())).collect();
+    let fam_q = fdr::bh_q_values(&fam_p);
+    let m = fam.len() as f64;
+    let r = fam_q.iter().filter(|&&q| q <= settings.fdr).count().max(1) as f64;
+    for (f, (_, idx)) in fam.iter().enumerate() {
+        let p: Vec<f64> = idx.iter().map(|&i| tests[i].p_value).collect();
+        let within = fdr::bh_q_values(&p);
+        let selected = fam_q[f] <= settings.fdr;
+        for (&i, w) in idx.iter().zip(within) {
+            let mut q = (w * m / r).min(1.0);
+            if !selected {
+                q = q.max(fam_q[f]);
+            }
+            tests[i].q_value = q;
+            tests[i].family_q = fam_q[f];
+        }
+    }
+}
+
+/// A flagged two-factor tell whose share is within `min_effect` of a flagged
+/// one-factor tell (same pitcher, type, direction) on one of its levels adds
+/// little: mark it as within that one.
+fn mark_narrowings(tests: &mut [TellTest], min_effect: f64) {
+    let mut singles: BTreeMap<(String, String, Direction, Factor, String), f64> = BTreeMap::new();
+    for t in tests.iter().filter(|t| t.flagged && t.situation.len() == 1) {
+        let (f, l) = t.situation.iter().next().unwrap();
+        singles.insert((t.pitcher.clone(), t.pitch_type.clone(), t.direction, *f, l.clone()), t.share);
+    }
+    for t in tests.iter_mut().filter(|t| t.flagged && t.situation.len() == 2) {
+        for (f, l) in &t.situation {
+            if let Some(&s) = singles.get(&(t.pitcher.clone(), t.pitch_type.clone(), t.direction, *f, l.clone())) {
+                if (t.share - s).abs() < min_effect {
+                    let mut one = Situation::new();
+                    one.insert(*f, l.clone());
+                    t.within = Some(one);
+                    break;
+                }
+            }
+        }
+    }
+}
+
+/// Flagged tells, strongest first (largest effect, then smallest q).
+pub fn flagged_sorted<'a>(tests: &'a [TellTest], pitcher: &str) -> Vec<&'a TellTest> {
+    let mut v: Vec<&TellTest> = tests.iter().filter(|t| t.flagged && t.pitcher == pitcher).collect();
+    v.sort_by(|a, b| {
+        b.effect()
+            .partial_cmp(&a.effect())
+            .unwrap()
+            .then(a.q_value.partial_cmp(&b.q_value).unwrap())
+            .then(crate::tells::situation_label(&a.situation).cmp(&crate::tells::situation_label(&b.situation)))
+            .then(a.pitch_type.cmp(&b.pitch_type))
+    });
+    v
+}
