@@ -52,6 +52,9 @@ pub struct ModelConfig {
     pub min_samples_leaf: Option<usize>,
     pub min_samples_split: Option<usize>,
     pub min_impurity_decrease: Option<f64>,
+    /// A split is kept when its Bonferroni-adjusted G-test p-value is at or
+    /// below this (1 keeps every split).
+    pub split_alpha: Option<f64>,
     /// Pseudo-count pulling a leaf's pitch mix toward the pitcher's mix.
     pub leaf_smoothing: Option<f64>,
     /// Pseudo-count of the shrunk count and batter priors; "auto" (the
@@ -123,6 +126,7 @@ pub struct Settings {
     pub forward_blocks: usize,
     pub tree: TreeSettings,
     pub leaf_smoothing: f64,
+    pub split_alpha: f64,
     pub prior_strength: PriorStrength,
     pub min_type_pitches: usize,
     pub tell_min_effect: f64,
@@ -283,7 +287,8 @@ impl Settings {
             min_test_pitches: check_range("[audit] min_test_pitches", a.min_test_pitches.unwrap_or(100), 20, 10_000_000)?,
             forward_blocks: check_range("[audit] forward_blocks", a.forward_blocks.unwrap_or(5), 2, 50)?,
             tree,
-            leaf_smoothing: check_range("[model] leaf_smoothing", m.leaf_smoothing.unwrap_or(2.0), 0.01, 1e6)?,
+            leaf_smoothing: check_range("[model] leaf_smoothing", m.leaf_smoothing.unwrap_or(10.0), 0.01, 1e6)?,
+            split_alpha: check_range("[model] split_alpha", m.split_alpha.unwrap_or(0.05), 1e-12, 1.0)?,
             prior_strength,
             min_type_pitches: check_range("[model] min_type_pitches", m.min_type_pitches.unwrap_or(30), 1, 1_000_000)?,
             tell_min_effect: check_range("[tells] min_effect", t.min_effect.unwrap_or(0.10), 0.0, 1.0)?,

@@ -70,7 +70,11 @@ fn mix_sample(pitcher: &str) -> MixByCountInput {
             .map(|(c, n, s)| CountMix {
                 count: c.to_string(),
                 n: *n,
-                shares: types.iter().zip(s).map(|(t, v)| (t.to_string(), *v)).collect(),
+                shares: types
+                    .iter()
+                    .zip(s)
+                    .map(|(t, v)| (t.to_string(), *v))
+                    .collect(),
             })
             .collect(),
         staff_labels: staff_labels(),
@@ -83,7 +87,9 @@ fn mix_sample(pitcher: &str) -> MixByCountInput {
 fn null_sample(pitcher: &str) -> NullDistributionInput {
     let mut state: u64 = 0x2545_F491_4F6C_DD1D;
     let mut uniform = || {
-        state = state.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+        state = state
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
         ((state >> 11) as f64 + 0.5) / (1u64 << 53) as f64
     };
     let values: Vec<f64> = (0..999)
@@ -93,7 +99,12 @@ fn null_sample(pitcher: &str) -> NullDistributionInput {
             -0.004 + 0.011 * z
         })
         .collect();
-    NullDistributionInput { pitcher: pitcher.to_string(), null_values: values, observed: 0.041, p_value: 0.001 }
+    NullDistributionInput {
+        pitcher: pitcher.to_string(),
+        null_values: values,
+        observed: 0.041,
+        p_value: 0.001,
+    }
 }
 
 fn staff_sample(metric: StaffMetric) -> StaffPredictabilityInput {
@@ -111,7 +122,13 @@ fn staff_sample(metric: StaffMetric) -> StaffPredictabilityInput {
         staff: "Harbor City Gulls".into(),
         pitchers: rows
             .iter()
-            .map(|&(p, n, b, l, s)| StaffPitcher { pitcher: p.into(), n, bits_gained: b, lift: l, significant: s })
+            .map(|&(p, n, b, l, s)| StaffPitcher {
+                pitcher: p.into(),
+                n,
+                bits_gained: b,
+                lift: l,
+                significant: s,
+            })
             .collect(),
         metric,
         fdr: 0.05,
@@ -185,7 +202,13 @@ fn predictability_sample(pitcher: &str, seasons: usize) -> ComparePredictability
         pitcher: pitcher.to_string(),
         periods: rows[rows.len() - seasons..]
             .iter()
-            .map(|&(l, n, b, lo, hi)| PeriodPredictability { label: l.into(), n, bits_gained: b, lower: lo, upper: hi })
+            .map(|&(l, n, b, lo, hi)| PeriodPredictability {
+                label: l.into(),
+                n,
+                bits_gained: b,
+                lower: lo,
+                upper: hi,
+            })
             .collect(),
         interval_label: "95% bootstrap interval".into(),
     }
@@ -198,22 +221,40 @@ fn all_charts(pitcher: &str) -> Vec<(Chart, Vec<&'static str>)> {
     let mut staff_lift = staff_sample(StaffMetric::Lift);
     staff_lift.pitchers[0].pitcher = pitcher.to_string();
     vec![
-        (count_grid(&count_grid_sample(pitcher)).unwrap(), vec!["strikes before the pitch", "balls before the pitch"]),
-        (mix_by_count(&mix_sample(pitcher)).unwrap(), vec!["count (balls-strikes)", "share of pitches in the count (%)"]),
+        (
+            count_grid(&count_grid_sample(pitcher)).unwrap(),
+            vec!["strikes before the pitch", "balls before the pitch"],
+        ),
+        (
+            mix_by_count(&mix_sample(pitcher)).unwrap(),
+            vec!["count (balls-strikes)", "share of pitches in the count (%)"],
+        ),
         (
             null_distribution(&null_sample(pitcher)).unwrap(),
             vec!["bits gained per pitch (held-out)", "permutations"],
         ),
-        (staff_predictability(&staff).unwrap(), vec!["bits gained per pitch (held-out)"]),
-        (staff_predictability(&staff_lift).unwrap(), vec!["lift in accuracy over a usage-only guess (%)"]),
+        (
+            staff_predictability(&staff).unwrap(),
+            vec!["bits gained per pitch (held-out)"],
+        ),
+        (
+            staff_predictability(&staff_lift).unwrap(),
+            vec!["lift in accuracy over a usage-only guess (%)"],
+        ),
         (
             compare_top_share(&top_share_sample(pitcher)).unwrap(),
             vec!["count (balls-strikes)", "share of his top pitch (%)"],
         ),
-        (compare_mix_shift(&mix_shift_sample(pitcher)).unwrap(), vec!["pitch type", "share of his pitches (%)"]),
+        (
+            compare_mix_shift(&mix_shift_sample(pitcher)).unwrap(),
+            vec!["pitch type", "share of his pitches (%)"],
+        ),
         (
             compare_predictability(&predictability_sample(pitcher, 2)).unwrap(),
-            vec!["period (n = held-out pitches)", "bits gained per pitch (held-out)"],
+            vec![
+                "period (n = held-out pitches)",
+                "bits gained per pitch (held-out)",
+            ],
         ),
         (
             {
@@ -223,13 +264,20 @@ fn all_charts(pitcher: &str) -> Vec<(Chart, Vec<&'static str>)> {
                 c.name.push_str("-four-seasons");
                 c
             },
-            vec!["period (n = held-out pitches)", "bits gained per pitch (held-out)"],
+            vec![
+                "period (n = held-out pitches)",
+                "bits gained per pitch (held-out)",
+            ],
         ),
     ]
 }
 
 fn escape(s: &str) -> String {
-    s.replace('&', "&amp;").replace('<', "&lt;").replace('>', "&gt;").replace('"', "&quot;").replace('\'', "&apos;")
+    s.replace('&', "&amp;")
+        .replace('<', "&lt;")
+        .replace('>', "&gt;")
+        .replace('"', "&quot;")
+        .replace('\'', "&apos;")
 }
 
 #[test]
@@ -238,25 +286,56 @@ fn every_chart_renders_svg_and_png() {
     let out = std::env::var_os("TELLSCOPE_CHART_OUT");
     let mut names = std::collections::BTreeSet::new();
     for (chart, axis_titles) in &charts {
-        assert!(names.insert(chart.name.clone()), "duplicate chart name {}", chart.name);
+        assert!(
+            names.insert(chart.name.clone()),
+            "duplicate chart name {}",
+            chart.name
+        );
         assert!(!chart.name.is_empty());
         assert!(
-            chart.name.chars().all(|c| c.is_ascii_lowercase() || c.is_ascii_digit() || c == '-' || c == '_'),
+            chart
+                .name
+                .chars()
+                .all(|c| c.is_ascii_lowercase() || c.is_ascii_digit() || c == '-' || c == '_'),
             "unsafe file stem {:?}",
             chart.name
         );
 
         // SVG: a document with the title and every axis title as text.
         let svg = &chart.svg;
-        assert!(svg.starts_with("<svg"), "{}: SVG does not start with <svg", chart.name);
-        assert!(svg.trim_end().ends_with("</svg>"), "{}: SVG not closed", chart.name);
+        assert!(
+            svg.starts_with("<svg"),
+            "{}: SVG does not start with <svg",
+            chart.name
+        );
+        assert!(
+            svg.trim_end().ends_with("</svg>"),
+            "{}: SVG not closed",
+            chart.name
+        );
         assert!(svg.contains("xmlns=\"http://www.w3.org/2000/svg\""));
-        assert!(svg.contains(&format!(">\n{}\n</text>", escape(&chart.title))), "{}: title text missing", chart.name);
+        assert!(
+            svg.contains(&format!(">\n{}\n</text>", escape(&chart.title))),
+            "{}: title text missing",
+            chart.name
+        );
         for t in axis_titles {
-            assert!(svg.contains(&escape(t)), "{}: axis title {t:?} missing", chart.name);
+            assert!(
+                svg.contains(&escape(t)),
+                "{}: axis title {t:?} missing",
+                chart.name
+            );
         }
-        assert!(svg.contains("font-family=\"DejaVu Sans, sans-serif\""), "{}: font family", chart.name);
-        assert!(!svg.contains("font-family=\"sans-serif\""), "{}: plotters' default font used", chart.name);
+        assert!(
+            svg.contains("font-family=\"DejaVu Sans, sans-serif\""),
+            "{}: font family",
+            chart.name
+        );
+        assert!(
+            !svg.contains("font-family=\"sans-serif\""),
+            "{}: plotters' default font used",
+            chart.name
+        );
         // Balanced <text> elements: a cheap well-formedness check.
         assert_eq!(svg.matches("<text").count(), svg.matches("</text>").count());
 
@@ -265,15 +344,31 @@ fn every_chart_renders_svg_and_png() {
             .unwrap_or_else(|e| panic!("{}: PNG does not decode: {e}", chart.name))
             .to_rgb8();
         let (w, h) = svg_size(svg);
-        assert_eq!((img.width(), img.height()), (w, h), "{}: PNG size differs from SVG", chart.name);
+        assert_eq!(
+            (img.width(), img.height()),
+            (w, h),
+            "{}: PNG size differs from SVG",
+            chart.name
+        );
         assert_eq!(w, 720, "{}", chart.name);
         assert!(h >= 480, "{}", chart.name);
         let first = *img.get_pixel(0, 0);
-        assert!(img.pixels().any(|p| *p != first), "{}: PNG is a single colour", chart.name);
-        // Text really was rasterised: plenty of dark pixels (ink), not only
-        // fills. A PNG without glyphs would have almost none.
-        let dark = img.pixels().filter(|p| p.0.iter().all(|&c| c < 80)).count();
-        assert!(dark > 1500, "{}: only {dark} dark pixels, text probably missing", chart.name);
+        assert!(
+            img.pixels().any(|p| *p != first),
+            "{}: PNG is a single colour",
+            chart.name
+        );
+        // Text really was rasterised: the title band (top left, where only
+        // the title is drawn) holds plenty of ink. Without glyphs it is blank.
+        let title_ink = (8..38)
+            .flat_map(|y| (16..300).map(move |x| (x, y)))
+            .filter(|&(x, y)| img.get_pixel(x, y).0.iter().all(|&c| c < 100))
+            .count();
+        assert!(
+            title_ink > 300,
+            "{}: only {title_ink} dark pixels in the title band",
+            chart.name
+        );
 
         if let Some(dir) = &out {
             let dir = std::path::Path::new(dir);
@@ -311,12 +406,28 @@ fn rendering_is_deterministic() {
 fn user_text_is_escaped_in_svg() {
     let nasty = "Lefty <script>alert(1)</script> & Sons";
     for (chart, _) in all_charts(nasty) {
-        assert!(!chart.svg.contains("<script"), "{}: raw <script> in SVG", chart.name);
-        assert!(!chart.svg.contains("& Sons"), "{}: raw & in SVG", chart.name);
+        assert!(
+            !chart.svg.contains("<script"),
+            "{}: raw <script> in SVG",
+            chart.name
+        );
+        assert!(
+            !chart.svg.contains("& Sons"),
+            "{}: raw & in SVG",
+            chart.name
+        );
         // Every chart shows the name (in the title or, for the staff charts,
         // a row label), escaped, possibly cut short with "…".
-        assert!(chart.svg.contains("Lefty &lt;script&gt;"), "{}: escaped name missing", chart.name);
-        assert!(chart.title.contains(nasty) || chart.name.starts_with("staff"), "{}", chart.name);
+        assert!(
+            chart.svg.contains("Lefty &lt;script&gt;"),
+            "{}: escaped name missing",
+            chart.name
+        );
+        assert!(
+            chart.title.contains(nasty) || chart.name.starts_with("staff"),
+            "{}",
+            chart.name
+        );
     }
 }
 
@@ -330,8 +441,10 @@ fn pitch_colours_follow_the_staff_list() {
     shuffled.reverse();
     assert_eq!(palette::pitch_colour("SL", &shuffled), sl);
     let svg = mix_by_count(&mix_sample("Dale Brennick")).unwrap().svg;
-    assert!(svg.contains(&format!("fill=\"{}\"", palette::hex(sl).to_uppercase()))
-        || svg.contains(&format!("fill=\"{}\"", palette::hex(sl))));
+    assert!(
+        svg.contains(&format!("fill=\"{}\"", palette::hex(sl).to_uppercase()))
+            || svg.contains(&format!("fill=\"{}\"", palette::hex(sl)))
+    );
 }
 
 #[test]
@@ -348,18 +461,30 @@ fn bad_input_is_rejected_not_drawn() {
 
     let mut n = null_sample("x");
     n.null_values.clear();
-    assert!(matches!(null_distribution(&n), Err(ChartError::InvalidInput(_))));
+    assert!(matches!(
+        null_distribution(&n),
+        Err(ChartError::InvalidInput(_))
+    ));
     let mut n = null_sample("x");
     n.observed = f64::NAN;
-    assert!(matches!(null_distribution(&n), Err(ChartError::InvalidInput(_))));
+    assert!(matches!(
+        null_distribution(&n),
+        Err(ChartError::InvalidInput(_))
+    ));
 
     let mut p = predictability_sample("x", 2);
     p.periods[0].lower = 0.2;
-    assert!(matches!(compare_predictability(&p), Err(ChartError::InvalidInput(_))));
+    assert!(matches!(
+        compare_predictability(&p),
+        Err(ChartError::InvalidInput(_))
+    ));
 
     let mut s = staff_sample(StaffMetric::Lift);
     s.pitchers.clear();
-    assert!(matches!(staff_predictability(&s), Err(ChartError::InvalidInput(_))));
+    assert!(matches!(
+        staff_predictability(&s),
+        Err(ChartError::InvalidInput(_))
+    ));
 }
 
 #[test]
@@ -377,7 +502,12 @@ fn edge_cases_still_render() {
     let mut g = count_grid_sample("x");
     g.cells.clear();
     count_grid(&g).unwrap();
-    let n = NullDistributionInput { pitcher: "x".into(), null_values: vec![0.0; 50], observed: 0.2, p_value: 0.0196 };
+    let n = NullDistributionInput {
+        pitcher: "x".into(),
+        null_values: vec![0.0; 50],
+        observed: 0.2,
+        p_value: 0.0196,
+    };
     null_distribution(&n).unwrap();
     let mut t = top_share_sample("x");
     t.pairs[0].after = None;
@@ -390,7 +520,16 @@ fn long_labels_and_large_inputs_render() {
     // periods with date-range labels: everything must still render, at the
     // promised size, with long text cut rather than spilling.
     let long = "Christopher Montgomery-Alvarez Jr., the Third of Harbor City";
-    let types = ["changeup", "curveball", "cutter", "four-seam fastball", "knuckle-curve", "sinker", "slider", "split-finger"];
+    let types = [
+        "changeup",
+        "curveball",
+        "cutter",
+        "four-seam fastball",
+        "knuckle-curve",
+        "sinker",
+        "slider",
+        "split-finger",
+    ];
     let staff: Vec<String> = types.iter().map(|s| s.to_string()).collect();
     let mix = MixByCountInput {
         pitcher: long.into(),
@@ -398,12 +537,18 @@ fn long_labels_and_large_inputs_render() {
             .iter()
             .enumerate()
             .map(|(i, c)| {
-                let raw: Vec<f64> = (0..8).map(|k| 1.0 + ((i * 7 + k * 3) % 11) as f64).collect();
+                let raw: Vec<f64> = (0..8)
+                    .map(|k| 1.0 + ((i * 7 + k * 3) % 11) as f64)
+                    .collect();
                 let total: f64 = raw.iter().sum();
                 CountMix {
                     count: c.to_string(),
                     n: 1000 + 997 * i as u64,
-                    shares: types.iter().zip(&raw).map(|(t, v)| (t.to_string(), v / total)).collect(),
+                    shares: types
+                        .iter()
+                        .zip(&raw)
+                        .map(|(t, v)| (t.to_string(), v / total))
+                        .collect(),
                 }
             })
             .collect(),
@@ -418,7 +563,11 @@ fn long_labels_and_large_inputs_render() {
         staff: "Harbor City Gulls".into(),
         pitchers: (0..24)
             .map(|i| StaffPitcher {
-                pitcher: if i == 3 { long.to_string() } else { format!("Pitcher {i:02}") },
+                pitcher: if i == 3 {
+                    long.to_string()
+                } else {
+                    format!("Pitcher {i:02}")
+                },
                 n: 150 + 61 * i as u64,
                 bits_gained: 0.004 * (i as f64 - 6.0),
                 lift: 0.01 * (i as f64 - 6.0),
@@ -443,7 +592,11 @@ fn long_labels_and_large_inputs_render() {
     };
     let mut shift = mix_shift_sample(long);
     shift.before = types.iter().map(|t| (t.to_string(), 0.125)).collect();
-    shift.after = types.iter().enumerate().map(|(i, t)| (t.to_string(), if i == 3 { 0.3 } else { 0.1 })).collect();
+    shift.after = types
+        .iter()
+        .enumerate()
+        .map(|(i, t)| (t.to_string(), if i == 3 { 0.3 } else { 0.1 }))
+        .collect();
     let charts = vec![
         mix_by_count(&mix).unwrap(),
         count_grid(&grid).unwrap(),

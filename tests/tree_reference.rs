@@ -761,6 +761,19 @@ fn held_out_accuracy_agrees_with_scikit_learn() {
         agree >= 0.95,
         "agrees with scikit-learn on only {agree} of test rows"
     );
+    // Without pruning the leaves are finer but every prediction is the same:
+    // a collapse only ever merges leaves with one modal class.
+    let unpruned = ws.fit_with(
+        s,
+        GrowOptions {
+            scan: ThresholdScan::EveryNode,
+            prune: false,
+        },
+        &labels,
+        f.n_classes,
+    );
+    assert!(unpruned.nodes.len() >= cart.nodes.len());
+    assert_eq!(held_out(&unpruned, &x, &f), (acc, agree));
 }
 
 // ---------- (c) leaf rules ----------

@@ -11,7 +11,7 @@ use crate::evaluate::split::Plan;
 use crate::evaluate::task::PitcherTask;
 use crate::evaluate::{self, HeldOut};
 use crate::ingest::{self, Ingested, Rejected};
-use crate::model::reference_tree::ReferenceTree as FastTree;
+use crate::model::AuditTree as FastTree;
 use crate::settings::{PriorStrength, Settings};
 use crate::significance::{fdr, wilson};
 use crate::situations::{self, levels::COUNTS, Situations};
@@ -36,6 +36,8 @@ struct Observed {
     scored: evaluate::fit::Scored,
     statistic: f64,
     sd_log_ratio: f64,
+    /// Held-out pitches where exactly one of the two guesses was right.
+    discordant: usize,
 }
 
 fn mix_of(names: &[String], task: &PitcherTask, rows: &[u32]) -> BTreeMap<String, f64> {
@@ -61,8 +63,17 @@ fn observe(task: &PitcherTask, settings: &Settings, names: &[String]) -> Observe
         let d = (scored.model_row(i)[y] / scored.prior_row(i)[y]).log2() - figures.bits_gained;
         ss += d * d;
     }
+    let discordant = scored
+        .rows
+        .iter()
+        .enumerate()
+        .filter(|(i, &r)| {
+            let y = task.labels[r as usize] as usize;
+            (argmax(scored.model_row(*i)) == y) != (argmax(scored.prior_row(*i)) == y)
+        })
+        .count();
     let sd = if scored.rows.len() > 1 { (ss / (scored.rows.len() - 1) as f64).sqrt() } else { 0.0 };
-    Observed { figures, counts, types, scored, statistic: stat, sd_log_ratio: sd }
+    Observed { figures, counts, types, scored, statistic: stat, sd_log_ratio: sd, discordant }
 }
 
 /// Run the audit of the log at `path`.
@@ -151,6 +162,7 @@ pub fn audit_log(
                 lift: None,
                 bits_gained: None,
                 bits_margin: None,
+                lift_margin: None,
                 p_value: None,
                 q_value: None,
                 permutations: None,
@@ -179,9 +191,8 @@ pub fn audit_log(
         ok_iter += 1;
         let last_fold = task.folds.last().unwrap();
         let train_rows = &last_fold.train;
-        let test_rows: Vec<u32> = o.scored.rows.clone();
         let mix = mix_of(names, task, train_rows);
-        let test_mix = mix_of(names, task, &test_rows);
+        let test_mix = mix_of(names, task, &task.held_out);
         let usage = &o.scored.usage[o.scored.usage.len() - 1];
         let prior_pitch = names[task.class_types[usage.top] as usize].clone();
         let flagged = tells::flagged_sorted(&tests, &task.name);
@@ -194,6 +205,12 @@ pub fn audit_log(
         // three standard errors of the held-out mean.
         let margin = (n_leaves as f64 * (task.n_classes as f64 - 1.0)) / (2.0 * task.n_train() as f64 * std::f64::consts::LN_2)
             + 3.0 * o.sd_log_ratio / (task.n_test() as f64).sqrt();
+        // Margin of lift under no signal: three standard errors of the
+        // difference of two paired accuracies, sqrt(b + c) / n with b + c the
+        // discordant pitches (the McNemar standard error; Agresti 2013,
+        // Categorical Data Analysis, 10.1), relative to the prior's accuracy.
+        let n_scored = o.scored.rows.len().max(1) as f64;
+        let lift_margin = 3.0 * (o.discordant as f64).sqrt() / n_scored / o.figures.prior_accuracy.max(1e-9);
         let mut cautions = Vec::new();
         if task.n_test() < 300 {
             cautions.push(format!(
@@ -228,6 +245,12 @@ pub fn audit_log(
                 plan.train_label, plan.test_label, tvd
             ));
         }
+        if o.figures.bits_gained < -margin {
+            cautions.push(format!(
+                "His situational guess did worse on {} than his plain pitch mix ({:+.3} bits per pitch): the tendencies learned from {} did not carry over. Something changed; see `tellscope compare`.",
+                plan.test_label, o.figures.bits_gained, plan.train_label
+            ));
+        }
         let rules = wording::rules(task, &o.scored, names);
         pitchers.push(PitcherSummary {
             pitcher: task.name.clone(),
@@ -243,6 +266,7 @@ pub fn audit_log(
             lift: Some(o.figures.lift),
             bits_gained: Some(o.figures.bits_gained),
             bits_margin: Some(margin),
+            lift_margin: Some(lift_margin),
             p_value: Some(perm.p_value),
             q_value: Some(q),
             permutations: Some(perm.permutations),
@@ -298,6 +322,7 @@ pub fn audit_log(
             tree_min_samples_leaf: settings.tree.min_samples_leaf,
             tree_min_samples_split: settings.tree.min_samples_split,
             leaf_smoothing: settings.leaf_smoothing,
+            split_alpha: settings.split_alpha,
             prior_strength: match settings.prior_strength {
                 PriorStrength::Auto => "auto".into(),
                 PriorStrength::Fixed(s) => format!("{s}"),

@@ -52,6 +52,7 @@ pub struct SettingsOut {
     pub tree_min_samples_leaf: usize,
     pub tree_min_samples_split: usize,
     pub leaf_smoothing: f64,
+    pub split_alpha: f64,
     pub prior_strength: String,
     pub tell_min_effect: f64,
     pub tell_min_n: usize,
@@ -129,6 +130,9 @@ pub struct PitcherSummary {
     /// The null-hypothesis margin for bits gained (see README).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub bits_margin: Option<f64>,
+    /// The same for lift (see README).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub lift_margin: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub p_value: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]

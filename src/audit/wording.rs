@@ -186,6 +186,7 @@ fn condition_text(task: &PitcherTask, feature: usize, low: Option<u8>, high: Opt
             let p = |c: u8| c as f64 / crate::evaluate::task::PRIOR_BINS as f64;
             let _ = class;
             match (low, high) {
+                (Some(l), Some(h)) if l == h => format!("{t} at {}", pct(p(l))),
                 (Some(l), Some(h)) => format!("{t} between {} and {}", pct(p(l)), pct(p(h))),
                 (Some(l), None) => format!("{t} at least {}", pct(p(l))),
                 (None, Some(h)) => format!("{t} at most {}", pct(p(h))),

@@ -35,15 +35,17 @@ pub fn run(args: Args) -> Result<()> {
     let sim = simulate(&scenario, DEMO_SEED);
     let mut df = sim_frame(&sim)?;
     let log_path = args.data.join("demo-log.csv");
-    let fresh = std::env::temp_dir().join(format!("tellscope-demo-{}.csv", std::process::id()));
-    write_frame(&mut df, &fresh)?;
-    let same = files_equal(&fresh, &log_path);
-    if !same {
-        // A missing or stale copy is rewritten, and the user is told.
-        write_frame(&mut df, &log_path)?;
-        eprintln!("note: {} was missing or differed from the simulator's output; rewrote it", log_path.display());
+    for path in [log_path.clone(), args.data.join("demo-log.parquet")] {
+        let ext = path.extension().and_then(|e| e.to_str()).unwrap_or("csv").to_string();
+        let fresh = std::env::temp_dir().join(format!("tellscope-demo-{}.{ext}", std::process::id()));
+        write_frame(&mut df, &fresh)?;
+        if !files_equal(&fresh, &path) {
+            // A missing or stale copy is rewritten, and the user is told.
+            write_frame(&mut df, &path)?;
+            eprintln!("note: {} was missing or differed from the simulator's output; rewrote it", path.display());
+        }
+        let _ = std::fs::remove_file(&fresh);
     }
-    let _ = std::fs::remove_file(&fresh);
     println!("demo log: {} ({} pitches, {} pitchers, {} games)", log_path.display(), sim.rows.len(), sim.pitchers.len(), sim.games.len());
     let cfg_path = args.data.join("demo-config.toml");
     let cfg = if cfg_path.exists() { ConfigFile::load(&cfg_path)? } else { ConfigFile::default() };

@@ -118,22 +118,23 @@ pub fn fit_and_score<L: Learner>(
             }
         }
         let train_labels: Vec<u8> = fold.train.iter().map(|&r| labels[r as usize]).collect();
-        let tree = learner.fit(&ws.x, &fold.train, &train_labels, k);
-        let a = settings.leaf_smoothing;
+        let grown = learner.fit(&ws.x, &fold.train, &train_labels, k);
+        let tree = if settings.split_alpha < 1.0 {
+            let m = crate::model::prune::candidate_splits(&ws.x, &fold.train);
+            crate::model::prune::prune(&grown, settings.split_alpha, m)
+        } else {
+            grown
+        };
+        let node_p = smoothed_node_probs(&tree, mix, settings.leaf_smoothing);
         for &r in &fold.test {
             if usage.counts[labels[r as usize] as usize] == 0 {
                 out.unseen += 1;
                 continue;
             }
-            let leaf = &tree.nodes[tree.leaf_of(&ws.x, r as usize)];
-            let n_leaf: u32 = leaf.class_counts.iter().sum();
+            let leaf = tree.leaf_of(&ws.x, r as usize);
             out.rows.push(r);
-            for cls in 0..k {
-                // Leaf mix pulled toward his usage prior by `a` pseudo-pitches,
-                // which keeps every probability off 0 and 1.
-                out.model.push((leaf.class_counts[cls] as f64 + a * mix[cls]) / (n_leaf as f64 + a));
-                out.prior.push(mix[cls]);
-            }
+            out.model.extend_from_slice(&node_p[leaf * k..(leaf + 1) * k]);
+            out.prior.extend_from_slice(mix);
         }
         if keep_trees {
             out.trees.push(tree);
@@ -142,6 +143,32 @@ pub fn fit_and_score<L: Learner>(
         }
     }
     out
+}
+
+/// Class probabilities of every node, each node's counts pulled toward its
+/// parent's probabilities by `a` pseudo-pitches, starting from the usage
+/// prior at the root: p(node) = (c(node) + a·p(parent)) / (n(node) + a).
+/// Smoothing toward the parent rather than straight to the prior keeps what
+/// the upper splits learned in small leaves and keeps every probability off
+/// 0 and 1 (Ferri, Flach & Hernández-Orallo 2003, "Improving the AUC of
+/// probabilistic estimation trees", the m-estimate smoothed along the path).
+pub fn smoothed_node_probs(tree: &Tree, mix: &[f64], a: f64) -> Vec<f64> {
+    let k = mix.len();
+    let mut p = vec![0.0; tree.nodes.len() * k];
+    let mut stack: Vec<(usize, Vec<f64>)> = vec![(0, mix.to_vec())];
+    while let Some((i, parent)) = stack.pop() {
+        let node = &tree.nodes[i];
+        let n: u32 = node.class_counts.iter().sum();
+        for c in 0..k {
+            p[i * k + c] = (node.class_counts[c] as f64 + a * parent[c]) / (n as f64 + a);
+        }
+        if let Some(s) = node.split {
+            let me = p[i * k..(i + 1) * k].to_vec();
+            stack.push((s.right, me.clone()));
+            stack.push((s.left, me));
+        }
+    }
+    p
 }
 
 /// The permutation test's statistic of a fit: held-out bits gained per

@@ -163,7 +163,8 @@ impl PitcherTask {
         let n_situational = names.len();
         for given in ["count", "batter"] {
             for (c, &t) in types.iter().enumerate() {
-                names.push(format!("{} share given the {given}", log.pitch_types[t as usize]));
+                let phrase = if given == "count" { "in this count" } else { "against this batter" };
+                names.push(format!("his {} share {phrase}", log.pitch_types[t as usize]));
                 kinds.push(FeatureKind::Prior { class: c, given });
                 cols.push(vec![0; rows.len()]);
             }

@@ -62,8 +62,8 @@
 //! two classes linfa is deterministic and the trees are always equal except
 //! where a leaf's modal class is tied and pruning differs.
 //!
-//! [`GrowOptions`] also offers two departures from linfa, for the lead to
-//! choose: [`ThresholdScan::EveryNode`] scores every threshold between codes
+//! [`GrowOptions`] also offers two departures from linfa, off by default:
+//! [`ThresholdScan::EveryNode`] scores every threshold between codes
 //! present in the node (textbook CART, as scikit-learn does, with threshold
 //! the floor of the midpoint between the node's neighbouring codes), and
 //! `prune: false` keeps splits that do not change the modal class (they still
@@ -172,6 +172,7 @@ pub struct FastTreeWorkspace {
     stride: usize,
     /// Row-major cut bits, `stride` bytes per training row.
     packed: Vec<u8>,
+    thermometer: Vec<u8>,
     // Scratch for growing, reused across fits.
     labels: Vec<u8>,
     n_classes: usize,
@@ -184,6 +185,8 @@ pub struct FastTreeWorkspace {
     /// `sums[slot * slot_len + k * stride * 8 + bit]`.
     sums: Vec<u32>,
     candidates: Vec<(usize, usize, f64)>,
+    score_left: Vec<u32>,
+    score_right: Vec<u32>,
 }
 
 impl FastTreeWorkspace {
@@ -201,6 +204,7 @@ impl FastTreeWorkspace {
             cuts: Vec::new(),
             stride: 0,
             packed: Vec::new(),
+            thermometer: Vec::new(),
             labels: Vec::new(),
             n_classes: 0,
             idx: Vec::new(),
@@ -210,6 +214,8 @@ impl FastTreeWorkspace {
             acc: Vec::new(),
             sums: Vec::new(),
             candidates: Vec::new(),
+            score_left: Vec::new(),
+            score_right: Vec::new(),
         }
     }
 
@@ -409,7 +415,9 @@ impl FastTreeWorkspace {
             let first = cuts.bit / 8;
             let n_bytes = cuts.capacity / 8;
             // thermometer[r]: the bytes of a row whose code has rank r.
-            let mut thermometer = vec![0u8; cuts.values.len() * n_bytes];
+            let mut thermometer = std::mem::take(&mut self.thermometer);
+            thermometer.clear();
+            thermometer.resize(cuts.values.len() * n_bytes, 0);
             for (r, bytes) in thermometer.chunks_exact_mut(n_bytes).enumerate() {
                 for (q, b) in bytes.iter_mut().enumerate() {
                     let below = r.saturating_sub(8 * q).min(8);
@@ -418,7 +426,7 @@ impl FastTreeWorkspace {
             }
             for (row, &c) in self.packed.chunks_exact_mut(s).zip(col) {
                 let r = rank[c as usize] as usize;
-                // A byte loop: these are 1 to 3 bytes, too short for memcpy.
+                // A byte loop: a few bytes, too short to pay for a memcpy call.
                 for (d, &t) in row[first..first + n_bytes]
                     .iter_mut()
                     .zip(&thermometer[r * n_bytes..(r + 1) * n_bytes])
@@ -426,6 +434,7 @@ impl FastTreeWorkspace {
                     *d = t;
                 }
             }
+            self.thermometer = thermometer;
         }
     }
 
@@ -508,7 +517,9 @@ impl FastTreeWorkspace {
     }
 
     /// Grows the node over `idx[lo..hi]` (its sums, when it is splittable, in
-    /// slot `2 * depth + side`), appending it and its subtree in pre-order.
+    /// slot 0 for the root, else `2 * depth - 1 + side`, so that a node's
+    /// children never overwrite its sibling's sums), appending it and its
+    /// subtree in pre-order.
     #[allow(clippy::too_many_arguments)]
     fn grow(
         &mut self,
@@ -683,8 +694,9 @@ impl FastTreeWorkspace {
 
         // Pass 2: linfa's f32 score for the near-best, first lowest wins.
         let mut best: Option<(usize, usize, f32)> = None;
-        let mut right = vec![0u32; k];
-        let mut left = vec![0u32; k];
+        let (left, right) = (&mut self.score_left, &mut self.score_right);
+        left.resize(k, 0);
+        right.resize(k, 0);
         for &(f, j, exact) in &self.candidates {
             if exact > best_exact + RESCORE_TOLERANCE {
                 continue;
@@ -694,7 +706,7 @@ impl FastTreeWorkspace {
                 right[c] = right_of(bit, c);
                 left[c] = counts[c] - right[c];
             }
-            let score = linfa_split_score(&left, &right, n_node);
+            let score = linfa_split_score(left, right, n_node);
             if best.is_none_or(|(_, _, b)| score < b) {
                 best = Some((f, j, score));
             }

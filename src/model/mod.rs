@@ -6,6 +6,7 @@
 //! learners grow the same [`Tree`], so they can be compared node by node.
 
 pub mod fast_tree;
+pub mod prune;
 pub mod reference_tree;
 pub mod rules;
 
@@ -136,4 +137,29 @@ impl Tree {
 /// `labels[i]` for `rows[i]` (class indices below `n_classes`).
 pub trait Learner {
     fn fit(&self, x: &FeatureMatrix, rows: &[u32], labels: &[u8], n_classes: usize) -> Tree;
+}
+
+/// The learner the audit fits: the fast tree with every threshold between
+/// the codes present in a node scored (textbook CART, as scikit-learn does)
+/// and no collapsing of splits whose leaves share a modal class. linfa's
+/// collapsing suits a label-only classifier; here the leaves' class shares
+/// are the forecast, and a split that moves a fastball from 59% to 85%
+/// matters to a hitter even when the fastball stays the likeliest pitch.
+/// With `GrowOptions::default()` the same code reproduces linfa-trees
+/// exactly (tests/tree_reference.rs).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct AuditTree(pub TreeSettings);
+
+impl AuditTree {
+    pub fn options() -> fast_tree::GrowOptions {
+        fast_tree::GrowOptions { scan: fast_tree::ThresholdScan::EveryNode, prune: false }
+    }
+}
+
+impl Learner for AuditTree {
+    fn fit(&self, x: &FeatureMatrix, rows: &[u32], labels: &[u8], n_classes: usize) -> Tree {
+        let mut ws = fast_tree::FastTreeWorkspace::with_options(self.0, AuditTree::options());
+        ws.prepare(x, rows);
+        ws.fit(labels, n_classes)
+    }
 }

@@ -30,7 +30,12 @@ const H: u32 = 480;
 /// Renders the mix-shift chart. Pitch types run left to right in sorted
 /// label order (the staff order). Name: `compare-mix-shift-<pitcher>`.
 pub fn compare_mix_shift(input: &MixShiftInput) -> Result<Chart, ChartError> {
-    let mut labels: Vec<String> = input.before.iter().chain(&input.after).map(|(l, _)| l.clone()).collect();
+    let mut labels: Vec<String> = input
+        .before
+        .iter()
+        .chain(&input.after)
+        .map(|(l, _)| l.clone())
+        .collect();
     labels.sort();
     labels.dedup();
     if labels.is_empty() {
@@ -43,7 +48,9 @@ pub fn compare_mix_shift(input: &MixShiftInput) -> Result<Chart, ChartError> {
             check_share(&format!("{what} share of {l}"), *s)?;
             let i = labels.binary_search(l).expect("label collected above");
             if std::mem::replace(&mut seen[i], true) {
-                return Err(ChartError::InvalidInput(format!("{l} given twice for {what}")));
+                return Err(ChartError::InvalidInput(format!(
+                    "{l} given twice for {what}"
+                )));
             }
             out[i] = *s;
         }
@@ -51,9 +58,22 @@ pub fn compare_mix_shift(input: &MixShiftInput) -> Result<Chart, ChartError> {
     };
     let before = lookup(&input.before, &input.before_label)?;
     let after = lookup(&input.after, &input.after_label)?;
-    let title = format!("Pitch mix, {} vs {}: {}", input.before_label, input.after_label, input.pitcher);
-    let painter = ShiftPainter { input, labels, before, after, title: title.clone() };
-    render(file_stem("compare-mix-shift", &input.pitcher), title, &painter)
+    let title = format!(
+        "Pitch mix, {} vs {}: {}",
+        input.before_label, input.after_label, input.pitcher
+    );
+    let painter = ShiftPainter {
+        input,
+        labels,
+        before,
+        after,
+        title: title.clone(),
+    };
+    render(
+        file_stem("compare-mix-shift", &input.pitcher),
+        title,
+        &painter,
+    )
 }
 
 struct ShiftPainter<'a> {
@@ -71,15 +91,29 @@ impl Painter for ShiftPainter<'_> {
 
     fn paint<DB: DrawingBackend>(&self, root: &DrawingArea<DB, Shift>) -> Result<(), ChartError> {
         let input = self.input;
-        let top = header(root, &self.title, &["Share of all his pitches thrown as each pitch type, by period.".to_string()])?;
+        let top = header(
+            root,
+            &self.title,
+            &["Share of all his pitches thrown as each pitch type, by period.".to_string()],
+        )?;
         let legend = [
-            (Mark::Swatch(palette::PERIOD_BEFORE), format!("{} (n = {})", input.before_label, fmt_n(input.n_before))),
-            (Mark::Swatch(palette::PERIOD_AFTER), format!("{} (n = {})", input.after_label, fmt_n(input.n_after))),
+            (
+                Mark::Swatch(palette::PERIOD_BEFORE),
+                format!("{} (n = {})", input.before_label, fmt_n(input.n_before)),
+            ),
+            (
+                Mark::Swatch(palette::PERIOD_AFTER),
+                format!("{} (n = {})", input.after_label, fmt_n(input.n_after)),
+            ),
         ];
         legend_row(root, &legend, (MARGIN, top + 6))?;
 
         let k = self.labels.len();
-        let max = self.before.iter().chain(&self.after).fold(0.0f64, |m, &v| m.max(v));
+        let max = self
+            .before
+            .iter()
+            .chain(&self.after)
+            .fold(0.0f64, |m, &v| m.max(v));
         // Headroom for the share labels above the bars, in steps of 10%.
         let y_max = ((max * 1.15) * 10.0).ceil().clamp(1.0, 10.0) / 10.0;
         let plot = root.margin(top + 22, 10, MARGIN, 24);
@@ -102,7 +136,9 @@ impl Painter for ShiftPainter<'_> {
             .light_line_style(TRANSPARENT)
             .axis_style(palette::INK.stroke_width(1))
             .draw()?;
-        category_ticks_x(root, &self.labels, |i| chart.backend_coord(&(i as f64, 0.0)))?;
+        category_ticks_x(root, &self.labels, |i| {
+            chart.backend_coord(&(i as f64, 0.0))
+        })?;
 
         // Two bars per group, each 0.38 of a category wide, a small gap between.
         let (bar, gap) = (0.38, 0.02);
@@ -113,14 +149,29 @@ impl Painter for ShiftPainter<'_> {
         for i in 0..k {
             let x = i as f64;
             for (x0, x1, v, c) in [
-                (x - gap - bar, x - gap, self.before[i], palette::PERIOD_BEFORE),
+                (
+                    x - gap - bar,
+                    x - gap,
+                    self.before[i],
+                    palette::PERIOD_BEFORE,
+                ),
                 (x + gap, x + gap + bar, self.after[i], palette::PERIOD_AFTER),
             ] {
-                chart.draw_series(std::iter::once(Rectangle::new([(x0, 0.0), (x1, v)], c.filled())))?;
+                chart.draw_series(std::iter::once(Rectangle::new(
+                    [(x0, 0.0), (x1, v)],
+                    c.filled(),
+                )))?;
                 if show_values {
                     let (px, py) = chart.backend_coord(&((x0 + x1) / 2.0, v));
-                    text(root, &format!("{:.0}%", v * 100.0), (px, py - 4), &value_font, palette::INK,
-                         HPos::Center, VPos::Bottom)?;
+                    text(
+                        root,
+                        &format!("{:.0}%", v * 100.0),
+                        (px, py - 4),
+                        &value_font,
+                        palette::INK,
+                        HPos::Center,
+                        VPos::Bottom,
+                    )?;
                 }
             }
         }

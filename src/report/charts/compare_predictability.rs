@@ -52,8 +52,15 @@ pub fn compare_predictability(input: &ComparePredictabilityInput) -> Result<Char
         }
     }
     let title = format!("Predictability by period: {}", input.pitcher);
-    let painter = PredPainter { input, title: title.clone() };
-    render(file_stem("compare-predictability", &input.pitcher), title, &painter)
+    let painter = PredPainter {
+        input,
+        title: title.clone(),
+    };
+    render(
+        file_stem("compare-predictability", &input.pitcher),
+        title,
+        &painter,
+    )
 }
 
 struct PredPainter<'a> {
@@ -83,13 +90,16 @@ impl Painter for PredPainter<'_> {
         };
         let legend = [
             (Mark::Dot(palette::MUTED), "estimate".to_string()),
-            (Mark::Rule(palette::MUTED), self.input.interval_label.clone()),
+            (
+                Mark::Rule(palette::MUTED),
+                self.input.interval_label.clone(),
+            ),
         ];
         legend_row(root, &legend, (MARGIN, top + 6))?;
 
-        let (lo, hi) = periods
-            .iter()
-            .fold((0.0f64, 0.0f64), |(lo, hi), p| (lo.min(p.lower), hi.max(p.upper)));
+        let (lo, hi) = periods.iter().fold((0.0f64, 0.0f64), |(lo, hi), p| {
+            (lo.min(p.lower), hi.max(p.upper))
+        });
         let span = if hi > lo { hi - lo } else { 0.01 };
         let y_range = (lo - 0.1 * span, hi + 0.16 * span);
 
@@ -113,8 +123,13 @@ impl Painter for PredPainter<'_> {
             .light_line_style(TRANSPARENT)
             .axis_style(palette::INK.stroke_width(1))
             .draw()?;
-        let labels: Vec<String> = periods.iter().map(|p| format!("{}\nn = {}", p.label, fmt_n(p.n))).collect();
-        category_ticks_x(root, &labels, |i| chart.backend_coord(&(i as f64, y_range.0)))?;
+        let labels: Vec<String> = periods
+            .iter()
+            .map(|p| format!("{}\nn = {}", p.label, fmt_n(p.n)))
+            .collect();
+        category_ticks_x(root, &labels, |i| {
+            chart.backend_coord(&(i as f64, y_range.0))
+        })?;
 
         // Zero: no gain over guessing his usage.
         chart.draw_series(std::iter::once(PathElement::new(
@@ -122,11 +137,23 @@ impl Painter for PredPainter<'_> {
             palette::INK.stroke_width(1),
         )))?;
         let (zx, zy) = chart.backend_coord(&(k as f64 - 0.5, 0.0));
-        text(root, "no gain", (zx - 4, zy - 3), &font::regular(12.0), palette::MUTED, HPos::Right, VPos::Bottom)?;
+        text(
+            root,
+            "no gain",
+            (zx - 4, zy - 3),
+            &font::regular(12.0),
+            palette::MUTED,
+            HPos::Right,
+            VPos::Bottom,
+        )?;
 
         if k > 2 {
             chart.draw_series(std::iter::once(PathElement::new(
-                periods.iter().enumerate().map(|(i, p)| (i as f64, p.bits_gained)).collect::<Vec<_>>(),
+                periods
+                    .iter()
+                    .enumerate()
+                    .map(|(i, p)| (i as f64, p.bits_gained))
+                    .collect::<Vec<_>>(),
                 palette::SIGNIFICANT.stroke_width(2),
             )))?;
         }
@@ -137,15 +164,29 @@ impl Painter for PredPainter<'_> {
             let (px, py_lo) = chart.backend_coord(&(x, p.lower));
             let (_, py_hi) = chart.backend_coord(&(x, p.upper));
             // Error bar: 2-px rule with 8-px caps.
-            root.draw(&Rectangle::new([(px - 1, py_hi), (px + 1, py_lo)], c.filled()))?;
+            root.draw(&Rectangle::new(
+                [(px - 1, py_hi), (px + 1, py_lo)],
+                c.filled(),
+            ))?;
             for y in [py_lo, py_hi] {
-                root.draw(&Rectangle::new([(px - 8, y - 1), (px + 8, y + 1)], c.filled()))?;
+                root.draw(&Rectangle::new(
+                    [(px - 8, y - 1), (px + 8, y + 1)],
+                    c.filled(),
+                ))?;
             }
             let (_, py) = chart.backend_coord(&(x, p.bits_gained));
             root.draw(&Circle::new((px, py), 7, palette::BACKGROUND.filled()))?;
             root.draw(&Circle::new((px, py), 6, c.filled()))?;
             // Value above the upper cap, clear of the joining line.
-            text(root, &fmt_bits(p.bits_gained), (px, py_hi - 5), &value_font, palette::INK, HPos::Center, VPos::Bottom)?;
+            text(
+                root,
+                &fmt_bits(p.bits_gained),
+                (px, py_hi - 5),
+                &value_font,
+                palette::INK,
+                HPos::Center,
+                VPos::Bottom,
+            )?;
         }
         Ok(())
     }

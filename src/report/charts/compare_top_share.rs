@@ -5,8 +5,8 @@ use plotters::coord::Shift;
 use plotters::prelude::*;
 
 use super::{
-    category_ticks_x, check_share, count_index, file_stem, fmt_n, font, header, legend_row, palette,
-    render, Chart, ChartError, Mark, Painter, AXIS_TITLE_SIZE, COUNTS, MARGIN, TICK_SIZE,
+    category_ticks_x, check_share, count_index, file_stem, fmt_n, font, header, legend_row,
+    palette, render, Chart, ChartError, Mark, Painter, AXIS_TITLE_SIZE, COUNTS, MARGIN, TICK_SIZE,
 };
 
 /// One count in both periods. A share is `None` when he threw no pitch in
@@ -42,7 +42,10 @@ pub fn compare_top_share(input: &CompareTopShareInput) -> Result<Chart, ChartErr
     let mut slots: [Option<TopSharePair>; 12] = Default::default();
     for p in &input.pairs {
         let i = count_index(&p.count).ok_or_else(|| {
-            ChartError::InvalidInput(format!("count {:?} is not B-S with balls 0-3, strikes 0-2", p.count))
+            ChartError::InvalidInput(format!(
+                "count {:?} is not B-S with balls 0-3, strikes 0-2",
+                p.count
+            ))
         })?;
         for (which, v) in [("before", p.before), ("after", p.after)] {
             if let Some(v) = v {
@@ -50,14 +53,30 @@ pub fn compare_top_share(input: &CompareTopShareInput) -> Result<Chart, ChartErr
             }
         }
         if slots[i].replace(p.clone()).is_some() {
-            return Err(ChartError::InvalidInput(format!("count {} given twice", p.count)));
+            return Err(ChartError::InvalidInput(format!(
+                "count {} given twice",
+                p.count
+            )));
         }
     }
     let n_before = input.pairs.iter().map(|p| p.n_before).sum();
     let n_after = input.pairs.iter().map(|p| p.n_after).sum();
-    let title = format!("Top-pitch share by count, {} vs {}: {}", input.before_label, input.after_label, input.pitcher);
-    let painter = TopSharePainter { input, slots, n_before, n_after, title: title.clone() };
-    render(file_stem("compare-top-share", &input.pitcher), title, &painter)
+    let title = format!(
+        "Top-pitch share by count, {} vs {}: {}",
+        input.before_label, input.after_label, input.pitcher
+    );
+    let painter = TopSharePainter {
+        input,
+        slots,
+        n_before,
+        n_after,
+        title: title.clone(),
+    };
+    render(
+        file_stem("compare-top-share", &input.pitcher),
+        title,
+        &painter,
+    )
 }
 
 struct TopSharePainter<'a> {
@@ -84,8 +103,14 @@ impl Painter for TopSharePainter<'_> {
             )],
         )?;
         let legend = [
-            (Mark::Dot(palette::PERIOD_BEFORE), format!("{} (n = {})", input.before_label, fmt_n(self.n_before))),
-            (Mark::Triangle(palette::PERIOD_AFTER), format!("{} (n = {})", input.after_label, fmt_n(self.n_after))),
+            (
+                Mark::Dot(palette::PERIOD_BEFORE),
+                format!("{} (n = {})", input.before_label, fmt_n(self.n_before)),
+            ),
+            (
+                Mark::Triangle(palette::PERIOD_AFTER),
+                format!("{} (n = {})", input.after_label, fmt_n(self.n_after)),
+            ),
         ];
         legend_row(root, &legend, (MARGIN, top + 6))?;
 
@@ -109,7 +134,9 @@ impl Painter for TopSharePainter<'_> {
             .light_line_style(TRANSPARENT)
             .axis_style(palette::INK.stroke_width(1))
             .draw()?;
-        category_ticks_x(root, &COUNTS.map(String::from), |i| chart.backend_coord(&(i as f64, 0.0)))?;
+        category_ticks_x(root, &COUNTS.map(String::from), |i| {
+            chart.backend_coord(&(i as f64, 0.0))
+        })?;
 
         for (i, slot) in self.slots.iter().enumerate() {
             let Some(p) = slot else { continue };
@@ -127,16 +154,28 @@ impl Painter for TopSharePainter<'_> {
                     palette::PERIOD_BEFORE.stroke_width(2)
                 };
                 if p.n_before < input.min_n {
-                    chart.draw_series(std::iter::once(Circle::new((x, a), 6, palette::BACKGROUND.filled())))?;
+                    chart.draw_series(std::iter::once(Circle::new(
+                        (x, a),
+                        6,
+                        palette::BACKGROUND.filled(),
+                    )))?;
                 }
                 chart.draw_series(std::iter::once(Circle::new((x, a), 6, style)))?;
             }
             if let Some(b) = p.after {
                 // plotters' triangle marker is always filled; a hollow one is
                 // a white triangle inside a coloured one.
-                chart.draw_series(std::iter::once(TriangleMarker::new((x, b), 9, palette::PERIOD_AFTER.filled())))?;
+                chart.draw_series(std::iter::once(TriangleMarker::new(
+                    (x, b),
+                    9,
+                    palette::PERIOD_AFTER.filled(),
+                )))?;
                 if p.n_after < input.min_n {
-                    chart.draw_series(std::iter::once(TriangleMarker::new((x, b), 4, palette::BACKGROUND.filled())))?;
+                    chart.draw_series(std::iter::once(TriangleMarker::new(
+                        (x, b),
+                        4,
+                        palette::BACKGROUND.filled(),
+                    )))?;
                 }
             }
         }

@@ -7,8 +7,8 @@ use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
 use super::{
-    check_share, file_stem, fmt_n, fmt_pct, font, header, palette, parse_count, render, text,
-    thick_outline, hatch, Chart, ChartError, Painter, MARGIN, AXIS_TITLE_SIZE, NOTE_SIZE, TICK_SIZE,
+    check_share, file_stem, fmt_n, fmt_pct, font, hatch, header, palette, parse_count, render,
+    text, thick_outline, Chart, ChartError, Painter, AXIS_TITLE_SIZE, MARGIN, NOTE_SIZE, TICK_SIZE,
 };
 
 /// One count of one pitcher.
@@ -47,18 +47,29 @@ pub fn count_grid(input: &CountGridInput) -> Result<Chart, ChartError> {
     let mut cells: [Option<CountCell>; 12] = Default::default();
     for c in &input.cells {
         let (b, s) = parse_count(&c.count).ok_or_else(|| {
-            ChartError::InvalidInput(format!("count {:?} is not B-S with balls 0-3, strikes 0-2", c.count))
+            ChartError::InvalidInput(format!(
+                "count {:?} is not B-S with balls 0-3, strikes 0-2",
+                c.count
+            ))
         })?;
         check_share(&format!("top_share of count {}", c.count), c.top_share)?;
         let slot = &mut cells[b as usize * 3 + s as usize];
         if slot.is_some() {
-            return Err(ChartError::InvalidInput(format!("count {} given twice", c.count)));
+            return Err(ChartError::InvalidInput(format!(
+                "count {} given twice",
+                c.count
+            )));
         }
         *slot = Some(c.clone());
     }
     let total: u64 = cells.iter().flatten().map(|c| c.n).sum();
     let title = format!("Top pitch by count: {}", input.pitcher);
-    let painter = Grid { input, cells, total, title: title.clone() };
+    let painter = Grid {
+        input,
+        cells,
+        total,
+        title: title.clone(),
+    };
     render(file_stem("count-grid", &input.pitcher), title, &painter)
 }
 
@@ -98,25 +109,60 @@ impl Painter for Grid<'_> {
         let grid_y1 = GRID_Y0 + 4 * ROW_H;
 
         // Column (strikes) headings above the grid, row (balls) headings left.
-        text(root, "strikes before the pitch", ((GRID_X0 + grid_x1) / 2, GRID_Y0 - 42), &axis_font,
-             palette::INK, HPos::Center, VPos::Center)?;
+        text(
+            root,
+            "strikes before the pitch",
+            ((GRID_X0 + grid_x1) / 2, GRID_Y0 - 42),
+            &axis_font,
+            palette::INK,
+            HPos::Center,
+            VPos::Center,
+        )?;
         for s in 0..3 {
             let cx = GRID_X0 + s * COL_W + COL_W / 2;
-            text(root, &s.to_string(), (cx, GRID_Y0 - 16), &tick_font, palette::INK, HPos::Center, VPos::Center)?;
+            text(
+                root,
+                &s.to_string(),
+                (cx, GRID_Y0 - 16),
+                &tick_font,
+                palette::INK,
+                HPos::Center,
+                VPos::Center,
+            )?;
         }
         let rotated = axis_font.transform(FontTransform::Rotate270);
-        text(root, "balls before the pitch", (MARGIN + 8, (GRID_Y0 + grid_y1) / 2), &rotated,
-             palette::INK, HPos::Center, VPos::Center)?;
+        text(
+            root,
+            "balls before the pitch",
+            (MARGIN + 8, (GRID_Y0 + grid_y1) / 2),
+            &rotated,
+            palette::INK,
+            HPos::Center,
+            VPos::Center,
+        )?;
         for b in 0..4 {
             let cy = GRID_Y0 + b * ROW_H + ROW_H / 2;
-            text(root, &b.to_string(), (GRID_X0 - 14, cy), &tick_font, palette::INK, HPos::Right, VPos::Center)?;
+            text(
+                root,
+                &b.to_string(),
+                (GRID_X0 - 14, cy),
+                &tick_font,
+                palette::INK,
+                HPos::Right,
+                VPos::Center,
+            )?;
         }
 
         for b in 0..4i32 {
             for s in 0..3i32 {
                 let x0 = GRID_X0 + s * COL_W;
                 let y0 = GRID_Y0 + b * ROW_H;
-                self.cell(root, self.cells[(b * 3 + s) as usize].as_ref(), (x0, y0), (x0 + COL_W, y0 + ROW_H))?;
+                self.cell(
+                    root,
+                    self.cells[(b * 3 + s) as usize].as_ref(),
+                    (x0, y0),
+                    (x0 + COL_W, y0 + ROW_H),
+                )?;
             }
         }
         // Flag borders last so neighbouring cells cannot paint over them.
@@ -128,8 +174,20 @@ impl Painter for Grid<'_> {
                         let y0 = GRID_Y0 + b * ROW_H;
                         thick_outline(root, (x0, y0), (x0 + COL_W, y0 + ROW_H), 4, palette::INK)?;
                         let star = font::bold(26.0);
-                        let fg = if c.n >= input.min_n { palette::text_on(palette::sequential(c.top_share)) } else { palette::INK };
-                        text(root, "*", (x0 + COL_W - 10, y0 + 8), &star, fg, HPos::Right, VPos::Top)?;
+                        let fg = if c.n >= input.min_n {
+                            palette::text_on(palette::sequential(c.top_share))
+                        } else {
+                            palette::INK
+                        };
+                        text(
+                            root,
+                            "*",
+                            (x0 + COL_W - 10, y0 + 8),
+                            &star,
+                            fg,
+                            HPos::Right,
+                            VPos::Top,
+                        )?;
                     }
                 }
             }
@@ -161,29 +219,104 @@ impl Grid<'_> {
                 let one_line = format!("{} {pct}", c.top_pitch);
                 let n_text = format!("n = {}", fmt_n(c.n));
                 if font::text_width(&one_line, &main_font)? <= room {
-                    text(root, &one_line, (cx, cy - 10), &main_font, fg, HPos::Center, VPos::Center)?;
-                    text(root, &n_text, (cx, cy + 16), &n_font, fg, HPos::Center, VPos::Center)?;
+                    text(
+                        root,
+                        &one_line,
+                        (cx, cy - 10),
+                        &main_font,
+                        fg,
+                        HPos::Center,
+                        VPos::Center,
+                    )?;
+                    text(
+                        root,
+                        &n_text,
+                        (cx, cy + 16),
+                        &n_font,
+                        fg,
+                        HPos::Center,
+                        VPos::Center,
+                    )?;
                 } else {
                     // Label too long to share a line: label, then share, then n.
                     let label_font = font::bold(15.0);
                     let label = font::fit(&c.top_pitch, &label_font, room)?;
-                    text(root, &label, (cx, cy - 20), &label_font, fg, HPos::Center, VPos::Center)?;
-                    text(root, &pct, (cx, cy + 1), &main_font, fg, HPos::Center, VPos::Center)?;
-                    text(root, &n_text, (cx, cy + 23), &n_font, fg, HPos::Center, VPos::Center)?;
+                    text(
+                        root,
+                        &label,
+                        (cx, cy - 20),
+                        &label_font,
+                        fg,
+                        HPos::Center,
+                        VPos::Center,
+                    )?;
+                    text(
+                        root,
+                        &pct,
+                        (cx, cy + 1),
+                        &main_font,
+                        fg,
+                        HPos::Center,
+                        VPos::Center,
+                    )?;
+                    text(
+                        root,
+                        &n_text,
+                        (cx, cy + 23),
+                        &n_font,
+                        fg,
+                        HPos::Center,
+                        VPos::Center,
+                    )?;
                 }
             }
             Some(c) if c.n > 0 => {
                 self.few(root, (x0, y0), (x1, y1))?;
-                text(root, "few pitches", (cx, cy - 10), &font::regular(15.0), palette::INK, HPos::Center, VPos::Center)?;
-                text(root, &format!("n = {}", fmt_n(c.n)), (cx, cy + 14), &n_font, palette::INK, HPos::Center, VPos::Center)?;
+                text(
+                    root,
+                    "few pitches",
+                    (cx, cy - 10),
+                    &font::regular(15.0),
+                    palette::INK,
+                    HPos::Center,
+                    VPos::Center,
+                )?;
+                text(
+                    root,
+                    &format!("n = {}", fmt_n(c.n)),
+                    (cx, cy + 14),
+                    &n_font,
+                    palette::INK,
+                    HPos::Center,
+                    VPos::Center,
+                )?;
             }
             _ => {
                 self.few(root, (x0, y0), (x1, y1))?;
-                text(root, "no pitches", (cx, cy - 10), &font::regular(15.0), palette::INK, HPos::Center, VPos::Center)?;
-                text(root, "n = 0", (cx, cy + 14), &n_font, palette::INK, HPos::Center, VPos::Center)?;
+                text(
+                    root,
+                    "no pitches",
+                    (cx, cy - 10),
+                    &font::regular(15.0),
+                    palette::INK,
+                    HPos::Center,
+                    VPos::Center,
+                )?;
+                text(
+                    root,
+                    "n = 0",
+                    (cx, cy + 14),
+                    &n_font,
+                    palette::INK,
+                    HPos::Center,
+                    VPos::Center,
+                )?;
             }
         }
-        root.draw(&Rectangle::new([(x0, y0), (x1, y1)], palette::BACKGROUND.stroke_width(1)))?;
+        root.draw(&Rectangle::new(
+            [(x0, y0), (x1, y1)],
+            palette::BACKGROUND.stroke_width(1),
+        ))?;
         Ok(())
     }
 
@@ -193,49 +326,142 @@ impl Grid<'_> {
         (x0, y0): (i32, i32),
         (x1, y1): (i32, i32),
     ) -> Result<(), ChartError> {
-        root.draw(&Rectangle::new([(x0, y0), (x1, y1)], palette::FEW_PITCHES.filled()))?;
+        root.draw(&Rectangle::new(
+            [(x0, y0), (x1, y1)],
+            palette::FEW_PITCHES.filled(),
+        ))?;
         hatch(root, (x0, y0), (x1, y1), 12, palette::HATCH)?;
         Ok(())
     }
 
     /// Colour scale and the key to hatching and the flag marker.
-    fn side_panel<DB: DrawingBackend>(&self, root: &DrawingArea<DB, Shift>) -> Result<(), ChartError> {
+    fn side_panel<DB: DrawingBackend>(
+        &self,
+        root: &DrawingArea<DB, Shift>,
+    ) -> Result<(), ChartError> {
         let f = font::regular(NOTE_SIZE);
         let fb = font::bold(NOTE_SIZE);
         let x = PANEL_X;
         let max_w = (W as i32 - MARGIN - x) as u32;
-        text(root, "top-pitch share", (x, GRID_Y0 - 16), &fb, palette::INK, HPos::Left, VPos::Center)?;
+        text(
+            root,
+            "top-pitch share",
+            (x, GRID_Y0 - 16),
+            &fb,
+            palette::INK,
+            HPos::Left,
+            VPos::Center,
+        )?;
         // Vertical colour bar, 100% at the top (darkest = most predictable).
         let (bar_y0, bar_h, bar_w) = (GRID_Y0, 150, 18);
         for i in 0..bar_h {
             let t = 1.0 - (i as f64 + 0.5) / bar_h as f64;
-            root.draw(&Rectangle::new([(x, bar_y0 + i), (x + bar_w, bar_y0 + i + 1)], palette::sequential(t).filled()))?;
+            root.draw(&Rectangle::new(
+                [(x, bar_y0 + i), (x + bar_w, bar_y0 + i + 1)],
+                palette::sequential(t).filled(),
+            ))?;
         }
-        root.draw(&Rectangle::new([(x, bar_y0), (x + bar_w, bar_y0 + bar_h)], palette::INK.stroke_width(1)))?;
+        root.draw(&Rectangle::new(
+            [(x, bar_y0), (x + bar_w, bar_y0 + bar_h)],
+            palette::INK.stroke_width(1),
+        ))?;
         for k in 0..=4 {
             let y = bar_y0 + bar_h - k * bar_h / 4;
-            root.draw(&PathElement::new(vec![(x + bar_w, y), (x + bar_w + 4, y)], palette::INK.stroke_width(1)))?;
-            text(root, &format!("{}%", k * 25), (x + bar_w + 8, y), &f, palette::INK, HPos::Left, VPos::Center)?;
+            root.draw(&PathElement::new(
+                vec![(x + bar_w, y), (x + bar_w + 4, y)],
+                palette::INK.stroke_width(1),
+            ))?;
+            text(
+                root,
+                &format!("{}%", k * 25),
+                (x + bar_w + 8, y),
+                &f,
+                palette::INK,
+                HPos::Left,
+                VPos::Center,
+            )?;
         }
-        text(root, "darker = easier", (x + bar_w + 48, bar_y0 + 34), &f, palette::MUTED, HPos::Left, VPos::Center)?;
-        text(root, "to call", (x + bar_w + 48, bar_y0 + 52), &f, palette::MUTED, HPos::Left, VPos::Center)?;
+        text(
+            root,
+            "darker = easier",
+            (x + bar_w + 48, bar_y0 + 34),
+            &f,
+            palette::MUTED,
+            HPos::Left,
+            VPos::Center,
+        )?;
+        text(
+            root,
+            "to call",
+            (x + bar_w + 48, bar_y0 + 52),
+            &f,
+            palette::MUTED,
+            HPos::Left,
+            VPos::Center,
+        )?;
 
         // Key to grey cells.
         let y = bar_y0 + bar_h + 26;
         super::draw_mark(root, super::Mark::Hatched, (x + 9, y + 9))?;
-        root.draw(&Rectangle::new([(x, y), (x + 18, y + 18)], palette::INK.stroke_width(1)))?;
-        text(root, "few pitches:", (x + 26, y + 9), &f, palette::INK, HPos::Left, VPos::Center)?;
+        root.draw(&Rectangle::new(
+            [(x, y), (x + 18, y + 18)],
+            palette::INK.stroke_width(1),
+        ))?;
+        text(
+            root,
+            "few pitches:",
+            (x + 26, y + 9),
+            &f,
+            palette::INK,
+            HPos::Left,
+            VPos::Center,
+        )?;
         let few = format!("n < {}, not shaded", fmt_n(self.input.min_n));
-        text(root, &font::fit(&few, &f, max_w)?, (x, y + 30), &f, palette::INK, HPos::Left, VPos::Center)?;
+        text(
+            root,
+            &font::fit(&few, &f, max_w)?,
+            (x, y + 30),
+            &f,
+            palette::INK,
+            HPos::Left,
+            VPos::Center,
+        )?;
 
         // Key to the flag marker.
         let y = y + 58;
-        root.draw(&Rectangle::new([(x, y), (x + 18, y + 18)], palette::sequential(0.3).filled()))?;
+        root.draw(&Rectangle::new(
+            [(x, y), (x + 18, y + 18)],
+            palette::sequential(0.3).filled(),
+        ))?;
         thick_outline(root, (x, y), (x + 18, y + 18), 3, palette::INK)?;
-        text(root, "*", (x + 26, y + 2), &font::bold(20.0), palette::INK, HPos::Left, VPos::Top)?;
-        text(root, "flagged tell", (x + 40, y + 9), &f, palette::INK, HPos::Left, VPos::Center)?;
+        text(
+            root,
+            "*",
+            (x + 26, y + 2),
+            &font::bold(20.0),
+            palette::INK,
+            HPos::Left,
+            VPos::Top,
+        )?;
+        text(
+            root,
+            "flagged tell",
+            (x + 40, y + 9),
+            &f,
+            palette::INK,
+            HPos::Left,
+            VPos::Center,
+        )?;
         let q = format!("in this count (q ≤ {})", self.input.fdr);
-        text(root, &font::fit(&q, &f, max_w)?, (x, y + 30), &f, palette::INK, HPos::Left, VPos::Center)?;
+        text(
+            root,
+            &font::fit(&q, &f, max_w)?,
+            (x, y + 30),
+            &f,
+            palette::INK,
+            HPos::Left,
+            VPos::Center,
+        )?;
         Ok(())
     }
 }

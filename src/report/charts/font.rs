@@ -76,7 +76,7 @@ pub fn fit(text: &str, font: &FontDesc, max_width: u32) -> Result<String, ChartE
     // prefix length since width grows with it.
     let (mut lo, mut hi) = (0usize, chars.len());
     while lo < hi {
-        let mid = (lo + hi + 1) / 2;
+        let mid = (lo + hi).div_ceil(2);
         let candidate: String = chars[..mid].iter().collect::<String>() + "…";
         if text_width(&candidate, font)? <= max_width {
             lo = mid;
@@ -102,14 +102,21 @@ pub fn fit(text: &str, font: &FontDesc, max_width: u32) -> Result<String, ChartE
 // else is passed straight to the bitmap backend.
 
 use ab_glyph::{point, Font, FontRef, GlyphId, PxScale, ScaleFont};
-use plotters_backend::{BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingBackend, DrawingErrorKind};
 use plotters::prelude::BitMapBackend;
 use plotters::style::text_anchor::{HPos, VPos};
+use plotters_backend::{
+    BackendColor, BackendCoord, BackendStyle, BackendTextStyle, DrawingBackend, DrawingErrorKind,
+};
 
 fn parsed(style: FontStyle) -> Option<&'static FontRef<'static>> {
     static FONTS: OnceLock<Option<(FontRef<'static>, FontRef<'static>)>> = OnceLock::new();
     let fonts = FONTS
-        .get_or_init(|| Some((FontRef::try_from_slice(REGULAR).ok()?, FontRef::try_from_slice(BOLD).ok()?)))
+        .get_or_init(|| {
+            Some((
+                FontRef::try_from_slice(REGULAR).ok()?,
+                FontRef::try_from_slice(BOLD).ok()?,
+            ))
+        })
         .as_ref()?;
     Some(match style {
         FontStyle::Bold => &fonts.1,
@@ -124,7 +131,9 @@ pub(crate) struct PngBackend<'a> {
 
 impl<'a> PngBackend<'a> {
     pub(crate) fn with_buffer(buf: &'a mut [u8], size: (u32, u32)) -> Self {
-        PngBackend { inner: BitMapBackend::with_buffer(buf, size) }
+        PngBackend {
+            inner: BitMapBackend::with_buffer(buf, size),
+        }
     }
 }
 
@@ -143,10 +152,19 @@ impl<'a> DrawingBackend for PngBackend<'a> {
     fn present(&mut self) -> BackendResult<(), Self::ErrorType> {
         self.inner.present()
     }
-    fn draw_pixel(&mut self, point: BackendCoord, color: BackendColor) -> BackendResult<(), Self::ErrorType> {
+    fn draw_pixel(
+        &mut self,
+        point: BackendCoord,
+        color: BackendColor,
+    ) -> BackendResult<(), Self::ErrorType> {
         self.inner.draw_pixel(point, color)
     }
-    fn draw_line<S: BackendStyle>(&mut self, from: BackendCoord, to: BackendCoord, style: &S) -> BackendResult<(), Self::ErrorType> {
+    fn draw_line<S: BackendStyle>(
+        &mut self,
+        from: BackendCoord,
+        to: BackendCoord,
+        style: &S,
+    ) -> BackendResult<(), Self::ErrorType> {
         self.inner.draw_line(from, to, style)
     }
     fn draw_rect<S: BackendStyle>(
@@ -158,7 +176,11 @@ impl<'a> DrawingBackend for PngBackend<'a> {
     ) -> BackendResult<(), Self::ErrorType> {
         self.inner.draw_rect(upper_left, bottom_right, style, fill)
     }
-    fn draw_path<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(&mut self, path: I, style: &S) -> BackendResult<(), Self::ErrorType> {
+    fn draw_path<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(
+        &mut self,
+        path: I,
+        style: &S,
+    ) -> BackendResult<(), Self::ErrorType> {
         self.inner.draw_path(path, style)
     }
     fn draw_circle<S: BackendStyle>(
@@ -170,19 +192,37 @@ impl<'a> DrawingBackend for PngBackend<'a> {
     ) -> BackendResult<(), Self::ErrorType> {
         self.inner.draw_circle(center, radius, style, fill)
     }
-    fn fill_polygon<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(&mut self, vert: I, style: &S) -> BackendResult<(), Self::ErrorType> {
+    fn fill_polygon<S: BackendStyle, I: IntoIterator<Item = BackendCoord>>(
+        &mut self,
+        vert: I,
+        style: &S,
+    ) -> BackendResult<(), Self::ErrorType> {
         self.inner.fill_polygon(vert, style)
     }
-    fn blit_bitmap(&mut self, pos: BackendCoord, size: (u32, u32), src: &[u8]) -> BackendResult<(), Self::ErrorType> {
+    fn blit_bitmap(
+        &mut self,
+        pos: BackendCoord,
+        size: (u32, u32),
+        src: &[u8],
+    ) -> BackendResult<(), Self::ErrorType> {
         self.inner.blit_bitmap(pos, size, src)
     }
-    fn estimate_text_size<T: BackendTextStyle>(&self, text: &str, style: &T) -> BackendResult<(u32, u32), Self::ErrorType> {
+    fn estimate_text_size<T: BackendTextStyle>(
+        &self,
+        text: &str,
+        style: &T,
+    ) -> BackendResult<(u32, u32), Self::ErrorType> {
         // Layout (label areas, legend sizes) is measured exactly as for the
         // SVG, so both formats get the same geometry.
         self.inner.estimate_text_size(text, style)
     }
 
-    fn draw_text<T: BackendTextStyle>(&mut self, text: &str, style: &T, pos: BackendCoord) -> BackendResult<(), Self::ErrorType> {
+    fn draw_text<T: BackendTextStyle>(
+        &mut self,
+        text: &str,
+        style: &T,
+        pos: BackendCoord,
+    ) -> BackendResult<(), Self::ErrorType> {
         let colour = style.color();
         if colour.alpha == 0.0 {
             return Ok(());
@@ -228,19 +268,28 @@ impl<'a> DrawingBackend for PngBackend<'a> {
         let (w, h) = self.get_size();
         for (id, x) in ids.iter().zip(&pens) {
             let glyph = id.with_scale_and_position(scaled.scale(), point(x_start + x, baseline));
-            let Some(outlined) = font.outline_glyph(glyph) else { continue };
+            let Some(outlined) = font.outline_glyph(glyph) else {
+                continue;
+            };
             let b = outlined.px_bounds();
             let mut pixels = Vec::new();
             outlined.draw(|gx, gy, coverage| {
                 if coverage > 0.0 {
-                    pixels.push((b.min.x as i32 + gx as i32, b.min.y as i32 + gy as i32, coverage));
+                    pixels.push((
+                        b.min.x as i32 + gx as i32,
+                        b.min.y as i32 + gy as i32,
+                        coverage,
+                    ));
                 }
             });
             for (lx, ly, coverage) in pixels {
                 let (dx, dy) = trans.transform(lx, ly);
                 let (px, py) = (pos.0 + dx, pos.1 + dy);
                 if px >= 0 && py >= 0 && (px as u32) < w && (py as u32) < h {
-                    let c = BackendColor { alpha: colour.alpha * coverage.min(1.0) as f64, rgb: colour.rgb };
+                    let c = BackendColor {
+                        alpha: colour.alpha * coverage.min(1.0) as f64,
+                        rgb: colour.rgb,
+                    };
                     self.inner.draw_pixel((px, py), c)?;
                 }
             }

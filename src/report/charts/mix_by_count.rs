@@ -6,8 +6,9 @@ use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
 use super::{
-    category_ticks_x, check_share, count_index, file_stem, fmt_n, font, header, legend_column, palette, render,
-    text, Chart, ChartError, Mark, Painter, AXIS_TITLE_SIZE, COUNTS, MARGIN, NOTE_SIZE, TICK_SIZE,
+    category_ticks_x, check_share, count_index, file_stem, fmt_n, font, header, legend_column,
+    palette, render, text, Chart, ChartError, Mark, Painter, AXIS_TITLE_SIZE, COUNTS, MARGIN,
+    NOTE_SIZE, TICK_SIZE,
 };
 
 /// One count's pitch mix.
@@ -39,15 +40,26 @@ const LEGEND_W: i32 = 150;
 /// Renders the pitch mix by count. Name: `mix-by-count-<pitcher>`.
 pub fn mix_by_count(input: &MixByCountInput) -> Result<Chart, ChartError> {
     let colours = palette::PitchColours::new(&input.staff_labels);
-    let mut bars: Vec<Bar> = (0..12).map(|_| Bar { n: 0, segments: Vec::new() }).collect();
+    let mut bars: Vec<Bar> = (0..12)
+        .map(|_| Bar {
+            n: 0,
+            segments: Vec::new(),
+        })
+        .collect();
     let mut seen = [false; 12];
     let mut used: Vec<String> = Vec::new();
     for cm in &input.counts {
         let i = count_index(&cm.count).ok_or_else(|| {
-            ChartError::InvalidInput(format!("count {:?} is not B-S with balls 0-3, strikes 0-2", cm.count))
+            ChartError::InvalidInput(format!(
+                "count {:?} is not B-S with balls 0-3, strikes 0-2",
+                cm.count
+            ))
         })?;
         if std::mem::replace(&mut seen[i], true) {
-            return Err(ChartError::InvalidInput(format!("count {} given twice", cm.count)));
+            return Err(ChartError::InvalidInput(format!(
+                "count {} given twice",
+                cm.count
+            )));
         }
         let mut shares = cm.shares.clone();
         for (label, s) in &shares {
@@ -62,7 +74,10 @@ pub fn mix_by_count(input: &MixByCountInput) -> Result<Chart, ChartError> {
         });
         let total: f64 = shares.iter().map(|(_, s)| s).sum();
         if cm.n > 0 && total <= 0.0 {
-            return Err(ChartError::InvalidInput(format!("count {} has n = {} but no shares", cm.count, cm.n)));
+            return Err(ChartError::InvalidInput(format!(
+                "count {} has n = {} but no shares",
+                cm.count, cm.n
+            )));
         }
         let mut acc = 0.0;
         let mut segments = Vec::new();
@@ -73,7 +88,11 @@ pub fn mix_by_count(input: &MixByCountInput) -> Result<Chart, ChartError> {
                 }
                 let lo = acc;
                 acc += s / total;
-                segments.push(Segment { colour: colours.colour(&label), lo, hi: acc });
+                segments.push(Segment {
+                    colour: colours.colour(&label),
+                    lo,
+                    hi: acc,
+                });
                 if !used.contains(&label) {
                     used.push(label);
                 }
@@ -82,13 +101,22 @@ pub fn mix_by_count(input: &MixByCountInput) -> Result<Chart, ChartError> {
         bars[i] = Bar { n: cm.n, segments };
     }
     used.sort_by(|a, b| {
-        (colours.index(a).unwrap_or(usize::MAX), a).cmp(&(colours.index(b).unwrap_or(usize::MAX), b))
+        (colours.index(a).unwrap_or(usize::MAX), a)
+            .cmp(&(colours.index(b).unwrap_or(usize::MAX), b))
     });
-    let legend: Vec<(Mark, String)> =
-        used.iter().rev().map(|l| (Mark::Swatch(colours.colour(l)), l.clone())).collect();
+    let legend: Vec<(Mark, String)> = used
+        .iter()
+        .rev()
+        .map(|l| (Mark::Swatch(colours.colour(l)), l.clone()))
+        .collect();
     let total: u64 = bars.iter().map(|b| b.n).sum();
     let title = format!("Pitch mix by count: {}", input.pitcher);
-    let painter = MixPainter { bars, legend, total, title: title.clone() };
+    let painter = MixPainter {
+        bars,
+        legend,
+        total,
+        title: title.clone(),
+    };
     render(file_stem("mix-by-count", &input.pitcher), title, &painter)
 }
 
@@ -147,10 +175,13 @@ impl Painter for MixPainter {
             .light_line_style(TRANSPARENT)
             .axis_style(palette::INK.stroke_width(1))
             .draw()?;
-        category_ticks_x(root, &COUNTS.map(String::from), |i| chart.backend_coord(&(i as f64, 0.0)))?;
+        category_ticks_x(root, &COUNTS.map(String::from), |i| {
+            chart.backend_coord(&(i as f64, 0.0))
+        })?;
 
         const HALF: f64 = 0.36;
-        let slot = (chart.backend_coord(&(1.0, 0.0)).0 - chart.backend_coord(&(0.0, 0.0)).0 - 4).max(0) as u32;
+        let slot = (chart.backend_coord(&(1.0, 0.0)).0 - chart.backend_coord(&(0.0, 0.0)).0 - 4)
+            .max(0) as u32;
         let pct_font = font::regular(11.0);
         let n_font = font::regular(12.0);
         for (i, bar) in self.bars.iter().enumerate() {
@@ -165,7 +196,10 @@ impl Painter for MixPainter {
             for s in bar.segments.iter().skip(1) {
                 let (x0, y) = chart.backend_coord(&(x - HALF, s.lo));
                 let (x1, _) = chart.backend_coord(&(x + HALF, s.lo));
-                root.draw(&PathElement::new(vec![(x0, y), (x1, y)], palette::BACKGROUND.stroke_width(1)))?;
+                root.draw(&PathElement::new(
+                    vec![(x0, y), (x1, y)],
+                    palette::BACKGROUND.stroke_width(1),
+                ))?;
             }
             // Share printed inside segments tall enough to hold it.
             for s in &bar.segments {
@@ -173,20 +207,59 @@ impl Painter for MixPainter {
                 let (_, y_hi) = chart.backend_coord(&(x, s.hi));
                 if y_lo - y_hi >= 17 {
                     let label = format!("{:.0}", (s.hi - s.lo) * 100.0);
-                    text(root, &label, (cx, (y_lo + y_hi) / 2), &pct_font, palette::text_on(s.colour),
-                         HPos::Center, VPos::Center)?;
+                    text(
+                        root,
+                        &label,
+                        (cx, (y_lo + y_hi) / 2),
+                        &pct_font,
+                        palette::text_on(s.colour),
+                        HPos::Center,
+                        VPos::Center,
+                    )?;
                 }
             }
             let (cx, y_top) = chart.backend_coord(&(x, 1.0));
-            text(root, &n_label(bar.n, &n_font, slot)?, (cx, y_top - 5), &n_font, palette::INK, HPos::Center, VPos::Bottom)?;
+            text(
+                root,
+                &n_label(bar.n, &n_font, slot)?,
+                (cx, y_top - 5),
+                &n_font,
+                palette::INK,
+                HPos::Center,
+                VPos::Bottom,
+            )?;
         }
 
         // Legend to the right, top entry = top of the stacks.
         let (_, y_top) = chart.backend_coord(&(0.0, 1.0));
-        text(&side, "pitch type", (4, y_top), &font::bold(NOTE_SIZE), palette::INK, HPos::Left, VPos::Top)?;
+        text(
+            &side,
+            "pitch type",
+            (4, y_top),
+            &font::bold(NOTE_SIZE),
+            palette::INK,
+            HPos::Left,
+            VPos::Top,
+        )?;
         let y = legend_column(&side, &self.legend, (4, y_top + 24), (LEGEND_W - 32) as u32)?;
-        text(&side, "numbers in bars:", (4, y + 14), &font::regular(12.0), palette::MUTED, HPos::Left, VPos::Top)?;
-        text(&side, "share (%)", (4, y + 30), &font::regular(12.0), palette::MUTED, HPos::Left, VPos::Top)?;
+        text(
+            &side,
+            "numbers in bars:",
+            (4, y + 14),
+            &font::regular(12.0),
+            palette::MUTED,
+            HPos::Left,
+            VPos::Top,
+        )?;
+        text(
+            &side,
+            "share (%)",
+            (4, y + 30),
+            &font::regular(12.0),
+            palette::MUTED,
+            HPos::Left,
+            VPos::Top,
+        )?;
         Ok(())
     }
 }

@@ -26,9 +26,6 @@ pub mod mix_by_count;
 pub mod null_distribution;
 pub mod staff_predictability;
 
-
-
-
 pub use compare_mix_shift::{compare_mix_shift, MixShiftInput};
 pub use compare_predictability::{
     compare_predictability, ComparePredictabilityInput, PeriodPredictability,
@@ -40,9 +37,6 @@ pub use null_distribution::{null_distribution, NullDistributionInput};
 pub use staff_predictability::{
     staff_predictability, StaffMetric, StaffPitcher, StaffPredictabilityInput,
 };
-
-
-
 
 use plotters::coord::Shift;
 use plotters::drawing::DrawingAreaErrorKind;
@@ -147,7 +141,7 @@ pub fn fmt_n(n: u64) -> String {
     let digits = n.to_string();
     let mut out = String::new();
     for (i, c) in digits.chars().enumerate() {
-        if i > 0 && (digits.len() - i) % 3 == 0 {
+        if i > 0 && (digits.len() - i).is_multiple_of(3) {
             out.push(',');
         }
         out.push(c);
@@ -181,7 +175,11 @@ pub(crate) trait Painter {
 }
 
 /// Draws `painter` to SVG and PNG and packs both into a [`Chart`].
-pub(crate) fn render<P: Painter>(name: String, title: String, painter: &P) -> Result<Chart, ChartError> {
+pub(crate) fn render<P: Painter>(
+    name: String,
+    title: String,
+    painter: &P,
+) -> Result<Chart, ChartError> {
     font::ensure_registered()?;
     let (w, h) = painter.size();
 
@@ -203,7 +201,12 @@ pub(crate) fn render<P: Painter>(name: String, title: String, painter: &P) -> Re
     }
     let png = encode_png(&rgb, w, h)?;
 
-    Ok(Chart { name, title, svg, png })
+    Ok(Chart {
+        name,
+        title,
+        svg,
+        png,
+    })
 }
 
 /// Fixed encoder settings so the bytes depend on the pixels only.
@@ -284,12 +287,28 @@ pub(crate) fn header<DB: DrawingBackend>(
     let max_w = w.saturating_sub(2 * MARGIN as u32);
     let title_font = font::bold(TITLE_SIZE);
     let t = font::fit(title, &title_font, max_w)?;
-    text(area, &t, (MARGIN, 12), &title_font, palette::INK, HPos::Left, VPos::Top)?;
+    text(
+        area,
+        &t,
+        (MARGIN, 12),
+        &title_font,
+        palette::INK,
+        HPos::Left,
+        VPos::Top,
+    )?;
     let mut y = 12 + 28;
     let sub_font = font::regular(SUBTITLE_SIZE);
     for line in subtitles {
         let line = font::fit(line, &sub_font, max_w)?;
-        text(area, &line, (MARGIN, y), &sub_font, palette::MUTED, HPos::Left, VPos::Top)?;
+        text(
+            area,
+            &line,
+            (MARGIN, y),
+            &sub_font,
+            palette::MUTED,
+            HPos::Left,
+            VPos::Top,
+        )?;
         y += 19;
     }
     Ok(y + 4)
@@ -360,13 +379,25 @@ pub(crate) fn draw_mark<DB: DrawingBackend>(
     let r = 7;
     match mark {
         Mark::Swatch(c) => {
-            area.draw(&Rectangle::new([(cx - r, cy - r), (cx + r, cy + r)], c.filled()))?;
-            area.draw(&Rectangle::new([(cx - r, cy - r), (cx + r, cy + r)], palette::INK.stroke_width(1)))?;
+            area.draw(&Rectangle::new(
+                [(cx - r, cy - r), (cx + r, cy + r)],
+                c.filled(),
+            ))?;
+            area.draw(&Rectangle::new(
+                [(cx - r, cy - r), (cx + r, cy + r)],
+                palette::INK.stroke_width(1),
+            ))?;
         }
         Mark::Hatched => {
-            area.draw(&Rectangle::new([(cx - r, cy - r), (cx + r, cy + r)], palette::FEW_PITCHES.filled()))?;
+            area.draw(&Rectangle::new(
+                [(cx - r, cy - r), (cx + r, cy + r)],
+                palette::FEW_PITCHES.filled(),
+            ))?;
             hatch(area, (cx - r, cy - r), (cx + r, cy + r), 5, palette::HATCH)?;
-            area.draw(&Rectangle::new([(cx - r, cy - r), (cx + r, cy + r)], palette::INK.stroke_width(1)))?;
+            area.draw(&Rectangle::new(
+                [(cx - r, cy - r), (cx + r, cy + r)],
+                palette::INK.stroke_width(1),
+            ))?;
         }
         Mark::Dot(c) => {
             area.draw(&Circle::new((cx, cy), 6, c.filled()))?;
@@ -375,7 +406,10 @@ pub(crate) fn draw_mark<DB: DrawingBackend>(
             area.draw(&TriangleMarker::new((cx, cy), 8, c.filled()))?;
         }
         Mark::Rule(c) => {
-            area.draw(&Rectangle::new([(cx - 1, cy - r - 1), (cx + 1, cy + r + 1)], c.filled()))?;
+            area.draw(&Rectangle::new(
+                [(cx - 1, cy - r - 1), (cx + 1, cy + r + 1)],
+                c.filled(),
+            ))?;
         }
     }
     Ok(())
@@ -394,7 +428,15 @@ pub(crate) fn legend_column<DB: DrawingBackend>(
     for (mark, label) in entries {
         draw_mark(area, *mark, (x + 7, y + 8))?;
         let label = font::fit(label, &f, max_text_w)?;
-        text(area, &label, (x + 22, y + 8), &f, palette::INK, HPos::Left, VPos::Center)?;
+        text(
+            area,
+            &label,
+            (x + 22, y + 8),
+            &f,
+            palette::INK,
+            HPos::Left,
+            VPos::Center,
+        )?;
         y += 22;
     }
     Ok(y)
@@ -411,7 +453,15 @@ pub(crate) fn legend_row<DB: DrawingBackend>(
     let mut x = x;
     for (mark, label) in entries {
         draw_mark(area, *mark, (x + 7, y))?;
-        text(area, label, (x + 20, y), &f, palette::INK, HPos::Left, VPos::Center)?;
+        text(
+            area,
+            label,
+            (x + 20, y),
+            &f,
+            palette::INK,
+            HPos::Left,
+            VPos::Center,
+        )?;
         x += 20 + font::text_width(label, &f)? as i32 + 18;
     }
     Ok(x)
@@ -430,19 +480,37 @@ pub(crate) fn category_ticks_x<DB: DrawingBackend>(
     at: impl Fn(usize) -> (i32, i32),
 ) -> Result<(), ChartError> {
     let f = font::regular(TICK_SIZE);
-    let room = if labels.len() > 1 { (at(1).0 - at(0).0 - 6).max(10) as u32 } else { 400 };
+    let room = if labels.len() > 1 {
+        (at(1).0 - at(0).0 - 6).max(10) as u32
+    } else {
+        400
+    };
     for (i, label) in labels.iter().enumerate() {
         let (x, y) = at(i);
-        root.draw(&PathElement::new(vec![(x, y), (x, y + 5)], palette::INK.stroke_width(1)))?;
+        root.draw(&PathElement::new(
+            vec![(x, y), (x, y + 5)],
+            palette::INK.stroke_width(1),
+        ))?;
         let mut lines: Vec<String> = label.split('\n').map(str::to_string).collect();
         if lines.len() == 1 && font::text_width(label, &f)? > room {
             if let Some(cut) = break_near_middle(label) {
-                lines = vec![label[..cut].trim_end().to_string(), label[cut..].trim_start().to_string()];
+                lines = vec![
+                    label[..cut].trim_end().to_string(),
+                    label[cut..].trim_start().to_string(),
+                ];
             }
         }
         for (k, line) in lines.iter().enumerate() {
             let l = font::fit(line, &f, room)?;
-            text(root, &l, (x, y + 9 + 17 * k as i32), &f, palette::INK, HPos::Center, VPos::Top)?;
+            text(
+                root,
+                &l,
+                (x, y + 9 + 17 * k as i32),
+                &f,
+                palette::INK,
+                HPos::Center,
+                VPos::Top,
+            )?;
         }
     }
     Ok(())
@@ -469,8 +537,19 @@ pub(crate) fn category_ticks_y<DB: DrawingBackend>(
     let f = font::regular(TICK_SIZE);
     for (i, label) in labels.iter().enumerate() {
         let (x, y) = at(i);
-        root.draw(&PathElement::new(vec![(x - 5, y), (x, y)], palette::INK.stroke_width(1)))?;
-        text(root, label, (x - 9, y), &f, palette::INK, HPos::Right, VPos::Center)?;
+        root.draw(&PathElement::new(
+            vec![(x - 5, y), (x, y)],
+            palette::INK.stroke_width(1),
+        ))?;
+        text(
+            root,
+            label,
+            (x - 9, y),
+            &f,
+            palette::INK,
+            HPos::Right,
+            VPos::Center,
+        )?;
     }
     Ok(())
 }
@@ -480,7 +559,9 @@ pub(crate) fn check_finite(what: &str, v: f64) -> Result<(), ChartError> {
     if v.is_finite() {
         Ok(())
     } else {
-        Err(ChartError::InvalidInput(format!("{what} is {v}, not a finite number")))
+        Err(ChartError::InvalidInput(format!(
+            "{what} is {v}, not a finite number"
+        )))
     }
 }
 
@@ -490,7 +571,9 @@ pub(crate) fn check_share(what: &str, v: f64) -> Result<(), ChartError> {
     if (0.0..=1.0).contains(&v) {
         Ok(())
     } else {
-        Err(ChartError::InvalidInput(format!("{what} is {v}, outside 0..1")))
+        Err(ChartError::InvalidInput(format!(
+            "{what} is {v}, outside 0..1"
+        )))
     }
 }
 
@@ -515,8 +598,17 @@ mod tests {
         let a = file_stem("count_grid", "A. Ridley");
         let b = file_stem("count_grid", "A Ridley");
         assert_ne!(a, b);
-        for s in [&a, &b, &file_stem("x", "<script>&"), &file_stem("x", "Ñúñez")] {
-            assert!(s.chars().all(|c| c.is_ascii_lowercase() || c.is_ascii_digit() || c == '-' || c == '_'), "{s}");
+        for s in [
+            &a,
+            &b,
+            &file_stem("x", "<script>&"),
+            &file_stem("x", "Ñúñez"),
+        ] {
+            assert!(
+                s.chars()
+                    .all(|c| c.is_ascii_lowercase() || c.is_ascii_digit() || c == '-' || c == '_'),
+                "{s}"
+            );
         }
         assert_eq!(file_stem("staff", ""), "staff");
         let long = file_stem("x", &"a".repeat(100));

@@ -29,7 +29,9 @@ const H: u32 = 480;
 /// Renders the null histogram. Name: `null-distribution-<pitcher>`.
 pub fn null_distribution(input: &NullDistributionInput) -> Result<Chart, ChartError> {
     if input.null_values.is_empty() {
-        return Err(ChartError::InvalidInput("no permutation values to draw".into()));
+        return Err(ChartError::InvalidInput(
+            "no permutation values to draw".into(),
+        ));
     }
     for (i, v) in input.null_values.iter().enumerate() {
         check_finite(&format!("permutation value {i}"), *v)?;
@@ -40,7 +42,9 @@ pub fn null_distribution(input: &NullDistributionInput) -> Result<Chart, ChartEr
     let (min, max) = input
         .null_values
         .iter()
-        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &v| (lo.min(v), hi.max(v)));
+        .fold((f64::INFINITY, f64::NEG_INFINITY), |(lo, hi), &v| {
+            (lo.min(v), hi.max(v))
+        });
     // Number of bins: the square-root choice, ceil(sqrt(N)), kept between 10
     // and 40 so small runs still show a shape and large ones stay legible
     // (common practice).
@@ -54,8 +58,15 @@ pub fn null_distribution(input: &NullDistributionInput) -> Result<Chart, ChartEr
         let b = (((v - lo) / width).floor() as isize).clamp(0, k as isize - 1) as usize;
         counts[b] += 1;
     }
-    let bins: Vec<(f64, f64, u64)> =
-        (0..k).map(|b| (lo + b as f64 * width, lo + (b + 1) as f64 * width, counts[b])).collect();
+    let bins: Vec<(f64, f64, u64)> = (0..k)
+        .map(|b| {
+            (
+                lo + b as f64 * width,
+                lo + (b + 1) as f64 * width,
+                counts[b],
+            )
+        })
+        .collect();
 
     let x_lo = lo.min(input.observed);
     let x_hi = (lo + k as f64 * width).max(input.observed);
@@ -68,10 +79,18 @@ pub fn null_distribution(input: &NullDistributionInput) -> Result<Chart, ChartEr
         observed: input.observed,
         p_value: input.p_value,
         permutations: n as u64,
-        exceed: input.null_values.iter().filter(|&&v| v >= input.observed).count() as u64,
+        exceed: input
+            .null_values
+            .iter()
+            .filter(|&&v| v >= input.observed)
+            .count() as u64,
         title: title.clone(),
     };
-    render(file_stem("null-distribution", &input.pitcher), title, &painter)
+    render(
+        file_stem("null-distribution", &input.pitcher),
+        title,
+        &painter,
+    )
 }
 
 struct NullPainter {
@@ -105,7 +124,10 @@ impl Painter for NullPainter {
             )],
         )?;
         let legend = [
-            (Mark::Swatch(NULL_FILL), "shuffled labels (no situational signal)".to_string()),
+            (
+                Mark::Swatch(NULL_FILL),
+                "shuffled labels (no situational signal)".to_string(),
+            ),
             (Mark::Rule(OBSERVED), "real labels (observed)".to_string()),
         ];
         legend_row(root, &legend, (MARGIN, top + 6))?;
@@ -132,24 +154,45 @@ impl Painter for NullPainter {
             .axis_style(palette::INK.stroke_width(1))
             .draw()?;
 
+        chart.draw_series(
+            self.bins
+                .iter()
+                .filter(|b| b.2 > 0)
+                .map(|&(a, b, c)| Rectangle::new([(a, 0.0), (b, c as f64)], NULL_FILL.filled())),
+        )?;
         chart.draw_series(self.bins.iter().filter(|b| b.2 > 0).map(|&(a, b, c)| {
-            Rectangle::new([(a, 0.0), (b, c as f64)], NULL_FILL.filled())
-        }))?;
-        chart.draw_series(self.bins.iter().filter(|b| b.2 > 0).map(|&(a, b, c)| {
-            Rectangle::new([(a, 0.0), (b, c as f64)], palette::BACKGROUND.stroke_width(1))
+            Rectangle::new(
+                [(a, 0.0), (b, c as f64)],
+                palette::BACKGROUND.stroke_width(1),
+            )
         }))?;
 
         // Observed value: a rule the full height, labelled on whichever side
         // has room.
         let (x, y0) = chart.backend_coord(&(self.observed, 0.0));
         let (_, y1) = chart.backend_coord(&(self.observed, self.y_max));
-        root.draw(&Rectangle::new([(x - 1, y1), (x + 1, y0)], OBSERVED.filled()))?;
+        root.draw(&Rectangle::new(
+            [(x - 1, y1), (x + 1, y0)],
+            OBSERVED.filled(),
+        ))?;
         let f = font::bold(NOTE_SIZE);
         let label = format!("observed {}", fmt_bits(self.observed));
         let label_w = font::text_width(&label, &f)? as i32;
         let (px_right, _) = chart.backend_coord(&(self.x_range.1, 0.0));
-        let (anchor, lx) = if x + 8 + label_w < px_right { (HPos::Left, x + 7) } else { (HPos::Right, x - 7) };
-        text(root, &label, (lx, y1 + 12), &f, palette::INK, anchor, VPos::Center)?;
+        let (anchor, lx) = if x + 8 + label_w < px_right {
+            (HPos::Left, x + 7)
+        } else {
+            (HPos::Right, x - 7)
+        };
+        text(
+            root,
+            &label,
+            (lx, y1 + 12),
+            &f,
+            palette::INK,
+            anchor,
+            VPos::Center,
+        )?;
         Ok(())
     }
 }

@@ -251,7 +251,11 @@ mod tests {
             let c = sequential(k as f64 / 100.0);
             let now = (relative_luminance(c), deuteranope_luminance(c));
             assert!(now.0 < prev.0, "luminance not falling at t={}", k);
-            assert!(now.1 < prev.1, "deuteranope luminance not falling at t={}", k);
+            assert!(
+                now.1 < prev.1,
+                "deuteranope luminance not falling at t={}",
+                k
+            );
             prev = now;
         }
         // The two ends must be far apart: a ratio of 3 is the WCAG 2.1 minimum

@@ -7,8 +7,8 @@ use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
 use super::{
-    category_ticks_y, check_finite, file_stem, fmt_bits, fmt_n, font, header, legend_row, palette, render, text,
-    Chart, ChartError, Mark, Painter, AXIS_TITLE_SIZE, MARGIN, TICK_SIZE,
+    category_ticks_y, check_finite, file_stem, fmt_bits, fmt_n, font, header, legend_row, palette,
+    render, text, Chart, ChartError, Mark, Painter, AXIS_TITLE_SIZE, MARGIN, TICK_SIZE,
 };
 
 /// Which figure the bars show.
@@ -75,7 +75,10 @@ pub fn staff_predictability(input: &StaffPredictabilityInput) -> Result<Chart, C
     // Highest first; ties by name, then n, so the order never depends on
     // input order.
     rows.sort_by(|a, b| {
-        b.value.total_cmp(&a.value).then_with(|| a.pitcher.cmp(&b.pitcher)).then(a.n.cmp(&b.n))
+        b.value
+            .total_cmp(&a.value)
+            .then_with(|| a.pitcher.cmp(&b.pitcher))
+            .then(a.n.cmp(&b.n))
     });
 
     let (what, stem) = match input.metric {
@@ -90,7 +93,14 @@ pub fn staff_predictability(input: &StaffPredictabilityInput) -> Result<Chart, C
     let n = rows.len() as i32;
     let h = (190 + n * ROW_H).max(480) as u32;
     let total: u64 = input.pitchers.iter().map(|p| p.n).sum();
-    let painter = StaffPainter { rows, metric: input.metric, fdr: input.fdr, total, title: title.clone(), h };
+    let painter = StaffPainter {
+        rows,
+        metric: input.metric,
+        fdr: input.fdr,
+        total,
+        title: title.clone(),
+        h,
+    };
     render(file_stem(stem, ""), title, &painter)
 }
 
@@ -126,17 +136,30 @@ impl Painter for StaffPainter {
 
     fn paint<DB: DrawingBackend>(&self, root: &DrawingArea<DB, Shift>) -> Result<(), ChartError> {
         let sub = match self.metric {
-            StaffMetric::BitsGained => "Held-out log-loss of a usage-only guess minus the situational model's.",
-            StaffMetric::Lift => "Held-out accuracy of the situational model over a usage-only guess.",
+            StaffMetric::BitsGained => {
+                "Held-out log-loss of a usage-only guess minus the situational model's."
+            }
+            StaffMetric::Lift => {
+                "Held-out accuracy of the situational model over a usage-only guess."
+            }
         };
         let top = header(
             root,
             &self.title,
-            &[format!("{sub} n = held-out pitches ({} in all).", fmt_n(self.total))],
+            &[format!(
+                "{sub} n = held-out pitches ({} in all).",
+                fmt_n(self.total)
+            )],
         )?;
         let legend = [
-            (Mark::Swatch(palette::SIGNIFICANT), format!("significant (q ≤ {})", self.fdr)),
-            (Mark::Swatch(palette::NOT_SIGNIFICANT), "not significant".to_string()),
+            (
+                Mark::Swatch(palette::SIGNIFICANT),
+                format!("significant (q ≤ {})", self.fdr),
+            ),
+            (
+                Mark::Swatch(palette::NOT_SIGNIFICANT),
+                "not significant".to_string(),
+            ),
         ];
         legend_row(root, &legend, (MARGIN, top + 6))?;
 
@@ -152,13 +175,19 @@ impl Painter for StaffPainter {
             labels.push(l);
         }
 
-        let (lo, hi) = self
-            .rows
-            .iter()
-            .fold((0.0f64, 0.0f64), |(lo, hi), r| (lo.min(r.value), hi.max(r.value)));
+        let (lo, hi) = self.rows.iter().fold((0.0f64, 0.0f64), |(lo, hi), r| {
+            (lo.min(r.value), hi.max(r.value))
+        });
         let span = if hi > lo { hi - lo } else { 1.0 };
         // Room at the bar ends for the value labels.
-        let x_range = (if lo < 0.0 { lo - 0.25 * span } else { 0.0 }, if hi > 0.0 { hi + 0.2 * span } else { 0.05 * span });
+        let x_range = (
+            if lo < 0.0 { lo - 0.25 * span } else { 0.0 },
+            if hi > 0.0 {
+                hi + 0.2 * span
+            } else {
+                0.05 * span
+            },
+        );
 
         let n = self.rows.len();
         let plot = root.margin(top + 22, 10, MARGIN, 24);
@@ -191,24 +220,45 @@ impl Painter for StaffPainter {
         // Row k (k = 0 the highest value) sits at y = n - 1 - k, so the list
         // reads top to bottom.
         let y_of = |k: usize| (n - 1 - k) as f64;
-        category_ticks_y(root, &labels, |k| chart.backend_coord(&(x_range.0, y_of(k))))?;
+        category_ticks_y(root, &labels, |k| {
+            chart.backend_coord(&(x_range.0, y_of(k)))
+        })?;
 
         let value_font = font::regular(12.0);
         for (k, r) in self.rows.iter().enumerate() {
             let y = y_of(k);
-            let colour = if r.significant { palette::SIGNIFICANT } else { palette::NOT_SIGNIFICANT };
+            let colour = if r.significant {
+                palette::SIGNIFICANT
+            } else {
+                palette::NOT_SIGNIFICANT
+            };
             chart.draw_series(std::iter::once(Rectangle::new(
                 [(0.0, y - 0.34), (r.value, y + 0.34)],
                 colour.filled(),
             )))?;
             let (px, py) = chart.backend_coord(&(r.value, y));
-            let (anchor, dx) = if r.value >= 0.0 { (HPos::Left, 5) } else { (HPos::Right, -5) };
-            text(root, &self.fmt_value(r.value), (px + dx, py), &value_font, palette::INK, anchor, VPos::Center)?;
+            let (anchor, dx) = if r.value >= 0.0 {
+                (HPos::Left, 5)
+            } else {
+                (HPos::Right, -5)
+            };
+            text(
+                root,
+                &self.fmt_value(r.value),
+                (px + dx, py),
+                &value_font,
+                palette::INK,
+                anchor,
+                VPos::Center,
+            )?;
         }
         // Zero line: left of it the model does worse than the usage guess.
         let (x0, y_bottom) = chart.backend_coord(&(0.0, -0.5));
         let (_, y_top) = chart.backend_coord(&(0.0, n as f64 - 0.5));
-        root.draw(&PathElement::new(vec![(x0, y_top), (x0, y_bottom)], palette::INK.stroke_width(1)))?;
+        root.draw(&PathElement::new(
+            vec![(x0, y_top), (x0, y_bottom)],
+            palette::INK.stroke_width(1),
+        ))?;
         Ok(())
     }
 }

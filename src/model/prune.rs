@@ -1,0 +1,154 @@
+//! Significance pruning: a split is kept only when its two children's pitch
+//! mixes differ by more than chance, judged by a G-test on the 2 × K table
+//! of their class counts with a Bonferroni correction for the number of
+//! candidate splits the learner chose among (the stopping rule of CHAID,
+//! Kass 1980, "An exploratory technique for investigating large quantities
+//! of categorical data", Applied Statistics 29). Pruning runs bottom-up, so
+//! a split is judged once its own children are leaves. A pitcher whose
+//! choices do not depend on the situation is left with the root alone, and
+//! his model is then exactly his usage prior.
+
+use super::{FeatureMatrix, Node, Tree};
+use crate::significance::contingency::{table_test, TableStatistic};
+
+/// Candidate splits of a matrix on some rows: for each feature, one fewer
+/// than its number of distinct codes.
+pub fn candidate_splits(x: &FeatureMatrix, rows: &[u32]) -> usize {
+    let mut total = 0;
+    for f in 0..x.n_features() {
+        let col = x.column(f);
+        let mut seen = [false; 256];
+        let mut distinct: usize = 0;
+        for &r in rows {
+            let c = col[r as usize] as usize;
+            if !seen[c] {
+                seen[c] = true;
+                distinct += 1;
+            }
+        }
+        total += distinct.saturating_sub(1);
+    }
+    total.max(1)
+}
+
+/// The Bonferroni-adjusted p-value of a split's two children.
+pub fn split_p_value(left: &Node, right: &Node, candidates: usize) -> f64 {
+    let table = [
+        left.class_counts.iter().map(|&c| c as u64).collect::<Vec<_>>(),
+        right.class_counts.iter().map(|&c| c as u64).collect::<Vec<_>>(),
+    ];
+    let p = table_test(&table, TableStatistic::LogLikelihoodRatio, false).map(|t| t.p_value).unwrap_or(1.0);
+    (p * candidates as f64).min(1.0)
+}
+
+/// Collapse every split whose adjusted p-value is above `alpha`, bottom-up,
+/// and renumber the surviving nodes in pre-order.
+pub fn prune(tree: &Tree, alpha: f64, candidates: usize) -> Tree {
+    let mut nodes = tree.nodes.clone();
+    fn visit(nodes: &mut Vec<Node>, i: usize, alpha: f64, m: usize) {
+        if let Some(s) = nodes[i].split {
+            visit(nodes, s.left, alpha, m);
+            visit(nodes, s.right, alpha, m);
+            let (l, r) = (&nodes[s.left], &nodes[s.right]);
+            if l.split.is_none() && r.split.is_none() && split_p_value(l, r, m) > alpha {
+                nodes[i].split = None;
+            }
+        }
+    }
+    if !nodes.is_empty() {
+        visit(&mut nodes, 0, alpha, candidates);
+    }
+    compact(&nodes, tree.n_classes)
+}
+
+/// Keep only nodes reachable from the root, in pre-order.
+fn compact(nodes: &[Node], n_classes: usize) -> Tree {
+    let mut out: Vec<Node> = Vec::new();
+    fn copy(nodes: &[Node], i: usize, out: &mut Vec<Node>) -> usize {
+        let me = out.len();
+        out.push(Node { class_counts: nodes[i].class_counts.clone(), split: None });
+        if let Some(s) = nodes[i].split {
+            let left = copy(nodes, s.left, out);
+            let right = copy(nodes, s.right, out);
+            out[me].split = Some(super::Split { left, right, ..s });
+        }
+        me
+    }
+    if !nodes.is_empty() {
+        copy(nodes, 0, &mut out);
+    }
+    Tree { nodes: out, n_classes }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::Split;
+
+    fn leaf(c: Vec<u32>) -> Node {
+        Node { class_counts: c, split: None }
+    }
+
+    #[test]
+    fn a_clear_split_survives_and_a_noise_split_goes() {
+        // Root 200 = left 100 (90/10) + right 100 (10/90): G is huge.
+        let strong = Tree {
+            nodes: vec![
+                Node { class_counts: vec![100, 100], split: Some(Split { feature: 0, threshold: 0, left: 1, right: 2 }) },
+                leaf(vec![90, 10]),
+                leaf(vec![10, 90]),
+            ],
+            n_classes: 2,
+        };
+        assert_eq!(prune(&strong, 0.05, 50).nodes.len(), 3);
+        // 52/48 vs 48/52: G ≈ 0.32, p ≈ 0.57 before any correction.
+        let weak = Tree {
+            nodes: vec![
+                Node { class_counts: vec![100, 100], split: Some(Split { feature: 0, threshold: 0, left: 1, right: 2 }) },
+                leaf(vec![52, 48]),
+                leaf(vec![48, 52]),
+            ],
+            n_classes: 2,
+        };
+        let p = prune(&weak, 0.05, 1);
+        assert_eq!(p.nodes.len(), 1);
+        assert_eq!(p.nodes[0].class_counts, vec![100, 100]);
+    }
+
+    #[test]
+    fn bonferroni_counts_the_candidates() {
+        // 60/40 vs 40/60 on 100 + 100: G-test p ≈ 0.0045 (scipy
+        // chi2_contingency(lambda_="log-likelihood", correction=False) on
+        // [[60,40],[40,60]] gives G = 8.05, p = 0.00455; from memory).
+        let t = Tree {
+            nodes: vec![
+                Node { class_counts: vec![100, 100], split: Some(Split { feature: 0, threshold: 0, left: 1, right: 2 }) },
+                leaf(vec![60, 40]),
+                leaf(vec![40, 60]),
+            ],
+            n_classes: 2,
+        };
+        assert_eq!(prune(&t, 0.05, 5).nodes.len(), 3);
+        assert_eq!(prune(&t, 0.05, 20).nodes.len(), 1);
+    }
+
+    #[test]
+    fn pruning_renumbers_in_pre_order() {
+        // A split whose left child is itself a noise split.
+        let t = Tree {
+            nodes: vec![
+                Node { class_counts: vec![200, 200], split: Some(Split { feature: 0, threshold: 0, left: 1, right: 4 }) },
+                Node { class_counts: vec![180, 20], split: Some(Split { feature: 1, threshold: 0, left: 2, right: 3 }) },
+                leaf(vec![91, 9]),
+                leaf(vec![89, 11]),
+                leaf(vec![20, 180]),
+            ],
+            n_classes: 2,
+        };
+        let p = prune(&t, 0.05, 10);
+        assert_eq!(p.nodes.len(), 3);
+        assert_eq!(p.nodes[0].split.unwrap().left, 1);
+        assert_eq!(p.nodes[0].split.unwrap().right, 2);
+        assert_eq!(p.nodes[1].class_counts, vec![180, 20]);
+    }
+}
