@@ -329,12 +329,25 @@ fn control_fdr(tests: &mut [TellTest], settings: &Settings) {
 /// one-factor tell (same pitcher, type, direction) on one of its levels adds
 /// little: mark it as within that one.
 fn mark_narrowings(tests: &mut [TellTest], min_effect: f64) {
+    // Two situations that pick out exactly the same pitches (0-0 counts and
+    // the first pitch of a plate appearance) are one tell: keep the first.
+    let mut seen: BTreeMap<(String, String, Direction, usize, usize, usize, u64), Situation> = BTreeMap::new();
+    for t in tests.iter_mut().filter(|t| t.flagged) {
+        let key = (t.pitcher.clone(), t.pitch_type.clone(), t.direction, t.n, t.k, t.held_out_n, t.baseline_share.to_bits());
+        match seen.get(&key) {
+            Some(first) if *first != t.situation => t.within = Some(first.clone()),
+            Some(_) => {}
+            None => {
+                seen.insert(key, t.situation.clone());
+            }
+        }
+    }
     let mut singles: BTreeMap<(String, String, Direction, Factor, String), f64> = BTreeMap::new();
     for t in tests.iter().filter(|t| t.flagged && t.situation.len() == 1) {
         let (f, l) = t.situation.iter().next().unwrap();
         singles.insert((t.pitcher.clone(), t.pitch_type.clone(), t.direction, *f, l.clone()), t.share);
     }
-    for t in tests.iter_mut().filter(|t| t.flagged && t.situation.len() == 2) {
+    for t in tests.iter_mut().filter(|t| t.flagged && t.situation.len() == 2 && t.within.is_none()) {
         for (f, l) in &t.situation {
             if let Some(&s) = singles.get(&(t.pitcher.clone(), t.pitch_type.clone(), t.direction, *f, l.clone())) {
                 if (t.share - s).abs() < min_effect {

@@ -143,6 +143,10 @@ pub struct PitcherSummary {
     pub stopped_early: Option<bool>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub significant: Option<bool>,
+    /// The permutation test's statistic with the real labels, and under
+    /// each permutation run (in order).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub observed_statistic: Option<f64>,
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub null_statistics: Vec<f64>,
     #[serde(skip_serializing_if = "Vec::is_empty")]

@@ -1,8 +1,11 @@
-//! The audit's charts, filled from the results value.
+//! The audit's charts, filled from the results value: the staff chart, and
+//! per pitcher the count grid, the pitch mix by count and the permutation
+//! null distribution. File names come from the pitchers' unique safe stems.
 
-use super::charts::Chart;
+use super::charts::{self, Chart, ChartError};
 use crate::audit::summary::Summary;
-use crate::error::Result;
+use crate::error::{Error, Result};
+use crate::situations::levels::Factor;
 use std::collections::BTreeMap;
 
 #[derive(Default)]
@@ -11,6 +14,103 @@ pub struct BuiltCharts {
     pub per_pitcher: BTreeMap<String, Vec<Chart>>,
 }
 
-pub fn audit_charts(_s: &Summary, _stems: &BTreeMap<String, String>) -> Result<BuiltCharts> {
-    Ok(BuiltCharts::default())
+fn chart_err(e: ChartError) -> Error {
+    Error::Internal(format!("drawing a chart: {e:?}"))
+}
+
+/// Every pitch label of the staff, sorted: fixes each label's colour.
+fn staff_labels(s: &Summary) -> Vec<String> {
+    let mut v: Vec<String> = s
+        .pitchers
+        .iter()
+        .flat_map(|p| p.mix.iter().flat_map(|m| m.keys().cloned()).chain(p.test_mix.iter().flat_map(|m| m.keys().cloned())))
+        .collect();
+    v.sort();
+    v.dedup();
+    v
+}
+
+pub fn audit_charts(s: &Summary, stems: &BTreeMap<String, String>) -> Result<BuiltCharts> {
+    let mut out = BuiltCharts::default();
+    let ok: Vec<_> = s.pitchers.iter().filter(|p| p.is_ok()).collect();
+    if ok.is_empty() {
+        return Ok(out);
+    }
+    let staff = charts::staff_predictability(&charts::StaffPredictabilityInput {
+        staff: String::new(),
+        pitchers: ok
+            .iter()
+            .map(|p| charts::StaffPitcher {
+                pitcher: p.pitcher.clone(),
+                n: p.n_test as u64,
+                bits_gained: p.bits_gained.unwrap_or(0.0),
+                lift: p.lift.unwrap_or(0.0),
+                significant: p.significant.unwrap_or(false),
+            })
+            .collect(),
+        metric: charts::StaffMetric::BitsGained,
+        fdr: s.settings.fdr,
+    })
+    .map_err(chart_err)?;
+    out.staff.push(Chart { name: "staff-bits-gained".into(), ..staff });
+    let labels = staff_labels(s);
+    for p in ok {
+        let stem = stems.get(&p.pitcher).cloned().unwrap_or_else(|| "pitcher".into());
+        // A count cell is marked when a flagged tell (not a narrower
+        // version of another) is about that count alone.
+        let flagged_counts: Vec<&str> = p
+            .tells
+            .iter()
+            .filter(|t| t.within.is_none() && t.situation.len() == 1)
+            .filter_map(|t| t.situation.get(&Factor::Count).map(String::as_str))
+            .collect();
+        let grid = charts::count_grid(&charts::CountGridInput {
+            pitcher: p.pitcher.clone(),
+            cells: p
+                .counts
+                .iter()
+                .filter(|c| c.n > 0)
+                .map(|c| charts::CountCell {
+                    count: c.count.clone(),
+                    n: c.n as u64,
+                    top_pitch: c.top_pitch.clone(),
+                    top_share: c.top_share,
+                    flagged: c.more_predictable || flagged_counts.contains(&c.count.as_str()),
+                })
+                .collect(),
+            min_n: s.settings.tell_min_n as u64,
+            fdr: s.settings.fdr,
+        })
+        .map_err(chart_err)?;
+        let mix = charts::mix_by_count(&charts::MixByCountInput {
+            pitcher: p.pitcher.clone(),
+            counts: p
+                .counts
+                .iter()
+                .map(|c| charts::CountMix {
+                    count: c.count.clone(),
+                    n: c.n as u64,
+                    shares: c.mix.iter().map(|(k, v)| (k.clone(), *v)).collect(),
+                })
+                .collect(),
+            staff_labels: labels.clone(),
+        })
+        .map_err(chart_err)?;
+        let mut list = vec![
+            Chart { name: format!("count-grid-{stem}"), ..grid },
+            Chart { name: format!("mix-by-count-{stem}"), ..mix },
+        ];
+        if !p.null_statistics.is_empty() {
+            let null = charts::null_distribution(&charts::NullDistributionInput {
+                pitcher: p.pitcher.clone(),
+                null_values: p.null_statistics.clone(),
+                observed: p.observed_statistic.unwrap_or(0.0),
+                p_value: p.p_value.unwrap_or(1.0),
+            })
+            .map_err(chart_err)?;
+            list.push(Chart { name: format!("null-distribution-{stem}"), ..null });
+        }
+        out.per_pitcher.insert(p.pitcher.clone(), list);
+    }
+    Ok(out)
 }

@@ -1,0 +1,236 @@
+//! `tellscope check` and `tellscope simulate` through the binary: what check
+//! prints, the exit codes of CONTRACT §3 (0 done, 2 bad arguments or
+//! config, 3 unusable data), one-line errors on stderr, and a simulated
+//! log that is the same byte for byte for the same seed.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn bin() -> Command {
+    Command::new(env!("CARGO_BIN_EXE_tellscope"))
+}
+
+fn fixture(rel: &str) -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures").join(rel)
+}
+
+fn scratch(name: &str) -> PathBuf {
+    let d = std::env::temp_dir().join(format!("tellscope-cli-{}-{name}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&d);
+    std::fs::create_dir_all(&d).unwrap();
+    d
+}
+
+fn run(args: &[&str]) -> Output {
+    bin().args(args).output().expect("the binary runs")
+}
+
+fn code(o: &Output) -> i32 {
+    o.status.code().expect("exited, not killed")
+}
+
+fn stdout(o: &Output) -> String {
+    String::from_utf8(o.stdout.clone()).unwrap()
+}
+
+fn stderr(o: &Output) -> String {
+    String::from_utf8(o.stderr.clone()).unwrap()
+}
+
+fn check(file: &Path, extra: &[&str]) -> Output {
+    let mut args = vec!["check", file.to_str().unwrap()];
+    args.extend_from_slice(extra);
+    run(&args)
+}
+
+/// The line of `out` that starts (after indentation) with `label`.
+fn line_of<'a>(out: &'a str, label: &str) -> &'a str {
+    out.lines()
+        .find(|l| l.trim_start().starts_with(label))
+        .unwrap_or_else(|| panic!("no line starting with {label:?} in:\n{out}"))
+}
+
+fn value_of(out: &str, label: &str) -> String {
+    line_of(out, label).trim_start()[label.len()..].trim().to_string()
+}
+
+#[test]
+fn check_of_a_good_file_exits_0_and_describes_it() {
+    let o = check(&fixture("logs/good.csv"), &[]);
+    let out = stdout(&o);
+    assert_eq!(code(&o), 0, "stderr: {}", stderr(&o));
+    assert_eq!(value_of(&out, "rows read"), "6");
+    assert_eq!(value_of(&out, "rows rejected"), "0");
+    assert_eq!(value_of(&out, "seasons"), "2025, 2026");
+    assert_eq!(value_of(&out, "pitchers"), "2");
+    assert!(line_of(&out, "Juno Vale").contains('2'), "{out}");
+    assert!(line_of(&out, "Wren Alder").contains('4'), "{out}");
+    assert_eq!(value_of(&out, "pitch types"), "5");
+    for t in ["changeup", "curveball", "fastball", "sinker", "slider"] {
+        line_of(&out, t);
+    }
+    // fastball: 2 of 6 pitches.
+    assert!(line_of(&out, "fastball").contains("33.3%"), "{out}");
+    let present = value_of(&out, "optional columns present:");
+    assert_eq!(present, "pa, pitch_no, score_diff, result, speed_mph, team");
+    assert!(o.stderr.is_empty(), "nothing on stderr: {}", stderr(&o));
+}
+
+#[test]
+fn check_groups_rejection_reasons_with_counts_and_lines() {
+    let o = check(&fixture("logs/bad_rows.csv"), &[]);
+    let out = stdout(&o);
+    assert_eq!(code(&o), 0, "rejected rows alone do not fail check: {}", stderr(&o));
+    assert_eq!(value_of(&out, "rows read"), "20");
+    assert_eq!(value_of(&out, "rows rejected"), "16");
+    // Two rows with balls = 4 (lines 6 and 20) share one reason line.
+    let balls: Vec<&str> = out.lines().filter(|l| l.contains("balls")).collect();
+    assert_eq!(balls.len(), 1, "one grouped line for balls:\n{out}");
+    let l = balls[0];
+    assert!(l.trim_start().starts_with('2'), "count 2 first: {l}");
+    assert!(l.contains("6, 20"), "lists the lines: {l}");
+    // Two bad dates (lines 11, 12) have one reason.
+    let dates: Vec<&str> = out.lines().filter(|l| l.contains("date")).collect();
+    assert_eq!(dates.len(), 1, "{out}");
+    assert!(dates[0].trim_start().starts_with('2') && dates[0].contains("11, 12"), "{}", dates[0]);
+    // A single breach is listed with count 1 and its line.
+    let throws = line_of(&out, "1 ×");
+    assert!(throws.contains("line"), "{throws}");
+    for col in ["throws", "bats", "strikes", "outs", "inning", "pitch_type", "batter", "on_first", "result", "speed_mph", "pa:"] {
+        assert!(out.lines().any(|l| l.contains('×') && l.contains(col)), "a reason line for {col}:\n{out}");
+    }
+}
+
+#[test]
+fn a_missing_column_exits_3_with_one_line_naming_file_and_column() {
+    let o = check(&fixture("logs/missing_column.csv"), &[]);
+    assert_eq!(code(&o), 3);
+    let err = stderr(&o);
+    assert_eq!(err.trim_end().lines().count(), 1, "one line: {err}");
+    assert!(err.contains("missing_column.csv") && err.contains("pitch_type"), "{err}");
+}
+
+#[test]
+fn unusable_files_exit_3() {
+    let dir = scratch("unusable");
+    let empty = dir.join("empty.csv");
+    std::fs::write(&empty, "").unwrap();
+    let header_only = dir.join("header_only.csv");
+    std::fs::write(
+        &header_only,
+        "game,date,pitcher,throws,batter,bats,inning,outs,balls,strikes,on_first,on_second,on_third,pitch_type\n",
+    )
+    .unwrap();
+    for p in [empty, header_only, dir.join("no_such_file.csv")] {
+        let o = check(&p, &[]);
+        assert_eq!(code(&o), 3, "{}: {}", p.display(), stderr(&o));
+        let err = stderr(&o);
+        assert_eq!(err.trim_end().lines().count(), 1, "one line: {err}");
+        assert!(err.contains(p.file_name().unwrap().to_str().unwrap()), "names the file: {err}");
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn an_unknown_flag_exits_2() {
+    let o = check(&fixture("logs/good.csv"), &["--no-such-flag"]);
+    assert_eq!(code(&o), 2, "{}", stderr(&o));
+    let o = run(&["no-such-command"]);
+    assert_eq!(code(&o), 2, "{}", stderr(&o));
+}
+
+#[test]
+fn a_bad_config_value_exits_2() {
+    let dir = scratch("config");
+    let cases = [
+        ("fdr.toml", "[audit]\nfdr = 1.5\n"),
+        ("key.toml", "[audit]\nno_such_key = 1\n"),
+        ("column.toml", "[columns]\npitcher_name = \"Pitcher Name\"\n"),
+        ("syntax.toml", "[columns\n"),
+    ];
+    for (name, text) in cases {
+        let c = dir.join(name);
+        std::fs::write(&c, text).unwrap();
+        let o = check(&fixture("logs/good.csv"), &["--config", c.to_str().unwrap()]);
+        assert_eq!(code(&o), 2, "{name}: {}", stderr(&o));
+        let err = stderr(&o);
+        assert_eq!(err.trim_end().lines().count(), 1, "{name}: one line: {err}");
+    }
+    let o = check(&fixture("logs/good.csv"), &["--config", dir.join("absent.toml").to_str().unwrap()]);
+    assert_eq!(code(&o), 2, "a missing config file: {}", stderr(&o));
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn a_columns_config_reads_own_header_names() {
+    let dir = scratch("mapped");
+    let c = dir.join("columns.toml");
+    std::fs::write(
+        &c,
+        "[columns]\ngame = \"Game ID\"\ndate = \"Game Date\"\npitcher = \"Pitcher Name\"\nthrows = \"P Hand\"\n\
+         batter = \"Batter Name\"\nbats = \"B Side\"\ninning = \"Inn\"\nouts = \"Outs Before\"\nballs = \"B\"\n\
+         strikes = \"S\"\non_first = \"R1\"\non_second = \"R2\"\non_third = \"R3\"\npitch_type = \"PT\"\n",
+    )
+    .unwrap();
+    let o = check(&fixture("logs/own_headers.csv"), &["--config", c.to_str().unwrap()]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    assert_eq!(value_of(&stdout(&o), "rows read"), "6");
+    assert_eq!(value_of(&stdout(&o), "rows rejected"), "0");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn strict_exits_3_on_a_rejected_row() {
+    let o = check(&fixture("logs/bad_rows.csv"), &["--strict"]);
+    assert_eq!(code(&o), 3);
+    let err = stderr(&o);
+    assert_eq!(err.trim_end().lines().count(), 1, "{err}");
+    assert!(err.contains("bad_rows.csv"), "{err}");
+    // The good file passes under --strict.
+    assert_eq!(code(&check(&fixture("logs/good.csv"), &["--strict"])), 0);
+}
+
+fn simulate_to(out: &Path, seed: &str) -> Output {
+    let scenario = fixture("scenarios/tiny.toml");
+    run(&["simulate", scenario.to_str().unwrap(), "--out", out.to_str().unwrap(), "--seed", seed])
+}
+
+#[test]
+fn simulate_is_byte_identical_for_a_seed_and_check_agrees_on_rows() {
+    let dir = scratch("simulate");
+    let a = dir.join("a.csv");
+    let b = dir.join("b.csv");
+    let c = dir.join("c.csv");
+    for (p, seed) in [(&a, "11"), (&b, "11"), (&c, "12")] {
+        let o = simulate_to(p, seed);
+        assert_eq!(code(&o), 0, "{}", stderr(&o));
+    }
+    let (ta, tb, tc) = (std::fs::read(&a).unwrap(), std::fs::read(&b).unwrap(), std::fs::read(&c).unwrap());
+    assert!(ta == tb, "same seed, same bytes");
+    assert!(ta != tc, "another seed, another log");
+
+    let lines = String::from_utf8(ta).unwrap().lines().count() - 1;
+    let o = check(&a, &[]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    let out = stdout(&o);
+    assert_eq!(value_of(&out, "rows read"), lines.to_string());
+    assert_eq!(value_of(&out, "rows rejected"), "0");
+    // The tiny scenario: four pitchers over two seasons.
+    assert_eq!(value_of(&out, "pitchers"), "4");
+    assert_eq!(value_of(&out, "seasons"), "2025, 2026");
+    // simulate's own summary line counts the same pitches.
+    let o = simulate_to(&a, "11");
+    assert!(stdout(&o).contains(&format!("wrote {lines} pitches")), "{}", stdout(&o));
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn a_bad_scenario_exits_2() {
+    let dir = scratch("bad-scenario");
+    let s = dir.join("bad.toml");
+    std::fs::write(&s, "[club]\nname = \"Nobody\"\n[[season]]\nyear = \"soon\"\n").unwrap();
+    let o = run(&["simulate", s.to_str().unwrap(), "--out", dir.join("x.csv").to_str().unwrap()]);
+    assert_eq!(code(&o), 2, "{}", stderr(&o));
+    assert!(!dir.join("x.csv").exists());
+    std::fs::remove_dir_all(&dir).ok();
+}

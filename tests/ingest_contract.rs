@@ -1,0 +1,466 @@
+//! Ingest against CONTRACT §1, through the library: every rejection reason
+//! with its line and column, the failures that stop a run (with their exit
+//! codes, §3), column mapping, pitch groups, CSV = Parquet, ordering and
+//! optional columns.
+
+use std::path::{Path, PathBuf};
+use tellscope::ingest::write::{sim_frame, write_frame};
+use tellscope::ingest::{self, Ingested, PitchLog, PitchResult};
+use tellscope::settings::{ConfigFile, Overrides, Settings};
+use tellscope::simulate::{simulate, Scenario};
+use tellscope::situations::levels::Hand;
+use tellscope::Error;
+
+const HEADER: &str = "game,date,pitcher,throws,batter,bats,inning,outs,balls,strikes,on_first,on_second,on_third,pitch_type";
+
+fn fixture(name: &str) -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/logs").join(name)
+}
+
+/// A fresh folder of this test's own under the system temp dir.
+fn scratch(name: &str) -> PathBuf {
+    let d = std::env::temp_dir().join(format!("tellscope-ingest-{}-{name}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&d);
+    std::fs::create_dir_all(&d).unwrap();
+    d
+}
+
+fn write(dir: &Path, name: &str, text: &str) -> PathBuf {
+    let p = dir.join(name);
+    std::fs::write(&p, text).unwrap();
+    p
+}
+
+fn defaults() -> Settings {
+    Settings::resolve(&ConfigFile::default(), &Overrides::default()).unwrap()
+}
+
+fn with_config(toml_text: &str) -> Settings {
+    let cfg: ConfigFile = toml::from_str(toml_text).expect("config parses");
+    Settings::resolve(&cfg, &Overrides::default()).expect("config validates")
+}
+
+fn load(path: &Path) -> Ingested {
+    ingest::load(path, &defaults()).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
+}
+
+fn data_error(path: &Path, settings: &Settings) -> String {
+    match ingest::load(path, settings) {
+        Err(e @ Error::Data(_)) => {
+            assert_eq!(e.exit_code(), 3);
+            e.to_string()
+        }
+        Err(e) => panic!("{}: expected a data error (exit 3), got {e:?}", path.display()),
+        Ok(_) => panic!("{}: expected a data error (exit 3), the file was accepted", path.display()),
+    }
+}
+
+fn names(table: &[String], idx: &[u32]) -> Vec<String> {
+    idx.iter().map(|&i| table[i as usize].clone()).collect()
+}
+
+/// Every column of two logs, by value (string columns through their tables,
+/// so two logs that intern differently still compare equal row by row).
+fn assert_same_rows(a: &PitchLog, b: &PitchLog, compare_lines: bool) {
+    assert_eq!(a.len(), b.len(), "row count");
+    assert_eq!(names(&a.games, &a.game), names(&b.games, &b.game), "game");
+    assert_eq!(a.date, b.date, "date");
+    assert_eq!(a.season, b.season, "season");
+    assert_eq!(names(&a.pitchers, &a.pitcher), names(&b.pitchers, &b.pitcher), "pitcher");
+    assert_eq!(a.throws, b.throws, "throws");
+    assert_eq!(names(&a.batters, &a.batter), names(&b.batters, &b.batter), "batter");
+    assert_eq!(a.bats, b.bats, "bats");
+    assert_eq!(a.inning, b.inning, "inning");
+    assert_eq!(a.outs, b.outs, "outs");
+    assert_eq!(a.balls, b.balls, "balls");
+    assert_eq!(a.strikes, b.strikes, "strikes");
+    assert_eq!(a.on_first, b.on_first, "on_first");
+    assert_eq!(a.on_second, b.on_second, "on_second");
+    assert_eq!(a.on_third, b.on_third, "on_third");
+    let types = |l: &PitchLog| l.pitch_type.iter().map(|&t| l.pitch_types[t as usize].clone()).collect::<Vec<_>>();
+    assert_eq!(types(a), types(b), "pitch_type");
+    assert_eq!(a.pitch_types, b.pitch_types, "pitch label table");
+    assert_eq!(a.pa, b.pa, "pa");
+    assert_eq!(a.pitch_no, b.pitch_no, "pitch_no");
+    assert_eq!(a.score_diff, b.score_diff, "score_diff");
+    assert_eq!(a.result, b.result, "result");
+    assert_eq!(a.speed_mph, b.speed_mph, "speed_mph");
+    assert_eq!(a.loc_side_ft, b.loc_side_ft, "loc_side_ft");
+    assert_eq!(a.loc_height_ft, b.loc_height_ft, "loc_height_ft");
+    let teams = |l: &PitchLog| {
+        l.team.as_ref().map(|t| t.iter().map(|x| x.map(|x| l.teams[x as usize].clone())).collect::<Vec<_>>())
+    };
+    assert_eq!(teams(a), teams(b), "team");
+    if compare_lines {
+        assert_eq!(a.source_line, b.source_line, "source_line");
+    }
+}
+
+// ---------------------------------------------------------------- rejections
+
+/// tests/fixtures/logs/bad_rows.csv: lines 2, 4, 19 and 21 are valid; every
+/// other data line breaks exactly one rule of CONTRACT §1.
+const BAD_LINES: [(u64, &str, &str); 16] = [
+    (3, "throws", "X"),          // unknown hand
+    (5, "bats", "S"),            // a switch hitter's row must say the side he hits from
+    (6, "balls", "4"),           // four balls is a walk, never a count before a pitch
+    (7, "strikes", "3"),
+    (8, "outs", "3"),
+    (9, "inning", "0"),
+    (10, "inning", "2.5"),       // not a whole number
+    (11, "date", "2025-02-30"),  // no such day
+    (12, "date", "2025/04/01"),  // not written YYYY-MM-DD
+    (13, "pitch_type", ""),      // empty
+    (14, "batter", ""),          // an empty required cell
+    (15, "on_first", "maybe"),
+    (16, "result", "strike"),    // not one of the contract's outcomes
+    (17, "speed_mph", "fast"),
+    (18, "pa", "0"),             // pa counts from 1
+    // (line 19 is valid: padded values, r/l, Yes/TRUE/no, " Foul ")
+    (20, "balls", "4"),          // a second breach of the same kind
+];
+
+#[test]
+fn every_breach_is_one_rejected_row_with_its_line_and_column() {
+    let ing = load(&fixture("bad_rows.csv"));
+    let want: Vec<(u64, &str, &str)> = BAD_LINES.to_vec();
+    let got: Vec<(u64, &str, &str)> =
+        ing.rejected.iter().map(|r| (r.line, r.column.as_str(), r.value.as_str())).collect();
+    assert_eq!(got, want, "one Rejected per bad line, in file order, naming the contract column");
+    for r in &ing.rejected {
+        assert!(!r.reason.trim().is_empty(), "line {} has a reason", r.line);
+    }
+    // The same breach gets the same reason, so reasons group.
+    let balls: Vec<&str> = ing.rejected.iter().filter(|r| r.column == "balls").map(|r| r.reason.as_str()).collect();
+    assert_eq!(balls.len(), 2);
+    assert_eq!(balls[0], balls[1]);
+    assert_eq!(ing.source.rows_read, 20);
+    assert_eq!(ing.source.rows_rejected, 16);
+    // The valid rows are kept, in pa / pitch_no order.
+    assert_eq!(ing.log.len(), 4);
+    assert_eq!(ing.log.source_line, [2, 4, 19, 21]);
+}
+
+#[test]
+fn values_are_trimmed_and_case_insensitive() {
+    let ing = load(&fixture("bad_rows.csv"));
+    let log = &ing.log;
+    // Line 19: " Wren Alder ",r,...,l,...,Yes,TRUE,no," slider ",...," Foul "
+    let i = log.source_line.iter().position(|&l| l == 19).unwrap();
+    assert_eq!(log.pitchers[log.pitcher[i] as usize], "Wren Alder");
+    assert_eq!(log.pitchers.len(), 1, "the padded name is the same pitcher");
+    assert_eq!(log.throws[i], Hand::R);
+    assert_eq!(log.bats[i], Hand::L);
+    assert_eq!((log.on_first[i], log.on_second[i], log.on_third[i]), (true, true, false));
+    assert_eq!(log.pitch_types[log.pitch_type[i] as usize], "slider");
+    assert_eq!(log.result.as_ref().unwrap()[i], Some(PitchResult::Foul));
+    assert_eq!(log.score_diff.as_ref().unwrap()[i], Some(-2));
+}
+
+// ---------------------------------------------------------------- failures
+
+#[test]
+fn a_missing_required_column_is_a_data_error_naming_it() {
+    let msg = data_error(&fixture("missing_column.csv"), &defaults());
+    assert!(msg.contains("pitch_type"), "names the column: {msg}");
+    assert!(msg.contains("missing_column.csv"), "names the file: {msg}");
+}
+
+#[test]
+fn a_mapped_required_column_that_is_missing_names_both_names() {
+    let s = with_config("[columns]\npitch_type = \"PT\"\n");
+    let msg = data_error(&fixture("good.csv"), &s);
+    assert!(msg.contains("pitch_type") && msg.contains("PT"), "{msg}");
+}
+
+#[test]
+fn empty_header_only_and_nonexistent_files_are_data_errors() {
+    let dir = scratch("unusable");
+    let empty = write(&dir, "empty.csv", "");
+    data_error(&empty, &defaults());
+    let header_only = write(&dir, "header_only.csv", &format!("{HEADER}\n"));
+    let msg = data_error(&header_only, &defaults());
+    assert!(msg.contains("header_only.csv"), "{msg}");
+    let msg = data_error(&dir.join("no_such_log.csv"), &defaults());
+    assert!(msg.contains("no_such_log.csv"), "{msg}");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn a_file_with_no_valid_row_is_a_data_error() {
+    let dir = scratch("all-bad");
+    let p = write(
+        &dir,
+        "all_bad.csv",
+        &format!(
+            "{HEADER}\n\
+             G-0501,2025-05-01,Wren Alder,R,Moss Quill,L,1,0,4,0,0,0,0,fastball\n\
+             G-0501,2025-05-01,Wren Alder,R,Moss Quill,L,0,0,0,1,0,0,0,slider\n"
+        ),
+    );
+    let msg = data_error(&p, &defaults());
+    assert!(msg.contains("all_bad.csv"), "{msg}");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn strict_turns_one_rejected_row_into_a_data_error() {
+    let dir = scratch("strict");
+    let p = write(
+        &dir,
+        "one_bad.csv",
+        &format!(
+            "{HEADER}\n\
+             G-0501,2025-05-01,Wren Alder,R,Moss Quill,L,1,0,0,0,0,0,0,fastball\n\
+             G-0501,2025-05-01,Wren Alder,R,Moss Quill,L,1,0,0,3,0,0,0,slider\n\
+             G-0501,2025-05-01,Wren Alder,R,Moss Quill,L,1,0,1,0,0,0,0,slider\n"
+        ),
+    );
+    // Without --strict the bad row is set aside and the rest is used.
+    let ing = load(&p);
+    assert_eq!((ing.log.len(), ing.rejected.len()), (2, 1));
+    let strict = Settings::resolve(&ConfigFile::default(), &Overrides { strict: true, ..Overrides::default() }).unwrap();
+    let msg = data_error(&p, &strict);
+    assert!(msg.contains("strikes") && msg.contains('3'), "names the first breach (line 3, strikes): {msg}");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+// ---------------------------------------------------------------- config
+
+#[test]
+fn own_header_names_map_through_a_columns_table() {
+    // Contract name = the file's own header name (CONTRACT §1).
+    let s = with_config(
+        r#"
+[columns]
+game = "Game ID"
+date = "Game Date"
+pitcher = "Pitcher Name"
+throws = "P Hand"
+batter = "Batter Name"
+bats = "B Side"
+inning = "Inn"
+outs = "Outs Before"
+balls = "B"
+strikes = "S"
+on_first = "R1"
+on_second = "R2"
+on_third = "R3"
+pitch_type = "PT"
+pa = "PA No"
+pitch_no = "Pitch In PA"
+score_diff = "Run Diff"
+result = "Outcome"
+speed_mph = "Velo"
+team = "Club"
+"#,
+    );
+    let own = ingest::load(&fixture("own_headers.csv"), &s).unwrap();
+    let contract = load(&fixture("good.csv"));
+    assert!(own.rejected.is_empty(), "{:?}", own.rejected);
+    assert_same_rows(&own.log, &contract.log, true);
+    assert_eq!(own.source.optional_present, contract.source.optional_present);
+    assert_eq!(own.source.optional_missing, contract.source.optional_missing);
+}
+
+#[test]
+fn a_columns_key_that_is_not_a_contract_column_is_a_usage_error() {
+    let cfg: ConfigFile = toml::from_str("[columns]\npitcher_name = \"Pitcher Name\"\n").unwrap();
+    let e = Settings::resolve(&cfg, &Overrides::default()).unwrap_err();
+    assert!(matches!(e, Error::Usage(_)), "{e:?}");
+    assert_eq!(e.exit_code(), 2);
+    assert!(e.to_string().contains("pitcher_name"), "{e}");
+}
+
+#[test]
+fn pitch_groups_merge_labels() {
+    let dir = scratch("groups");
+    let p = write(
+        &dir,
+        "groups.csv",
+        &format!(
+            "{HEADER}\n\
+             G-0501,2025-05-01,Wren Alder,R,Moss Quill,L,1,0,0,0,0,0,0,four-seam\n\
+             G-0501,2025-05-01,Wren Alder,R,Moss Quill,L,1,0,0,1,0,0,0,two-seam\n\
+             G-0501,2025-05-01,Wren Alder,R,Moss Quill,L,1,0,0,2,0,0,0,slider\n\
+             G-0501,2025-05-01,Wren Alder,R,Tal Brook,R,1,1,0,0,0,0,0, two-seam \n\
+             G-0501,2025-05-01,Wren Alder,R,Tal Brook,R,1,1,1,0,0,0,0,four-seam\n"
+        ),
+    );
+    let ungrouped = load(&p).log;
+    assert_eq!(ungrouped.pitch_types, ["four-seam", "slider", "two-seam"]);
+    let s = with_config("[pitch_groups]\nfastball = [\"four-seam\", \"two-seam\"]\n");
+    let log = ingest::load(&p, &s).unwrap().log;
+    assert_eq!(log.pitch_types, ["fastball", "slider"]);
+    let mut counts = vec![0; log.pitch_types.len()];
+    for &t in &log.pitch_type {
+        counts[t as usize] += 1;
+    }
+    assert_eq!(counts, [4, 1]);
+    let per_row: Vec<&str> = log.pitch_type.iter().map(|&t| log.pitch_types[t as usize].as_str()).collect();
+    assert_eq!(per_row, ["fastball", "fastball", "slider", "fastball", "fastball"]);
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+// ---------------------------------------------------------------- formats
+
+fn tiny_scenario() -> Scenario {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/scenarios/tiny.toml");
+    Scenario::from_toml_str(&std::fs::read_to_string(&path).unwrap()).unwrap()
+}
+
+#[test]
+fn csv_and_parquet_of_one_log_read_to_the_same_rows() {
+    let dir = scratch("formats");
+    let sim = simulate(&tiny_scenario(), 7);
+    let mut df = sim_frame(&sim).unwrap();
+    let csv = dir.join("tiny.csv");
+    let pq = dir.join("tiny.parquet");
+    write_frame(&mut df, &csv).unwrap();
+    write_frame(&mut df, &pq).unwrap();
+    let a = load(&csv);
+    let b = load(&pq);
+    assert!(a.rejected.is_empty() && b.rejected.is_empty());
+    assert_eq!(a.log.len(), sim.rows.len());
+    assert_same_rows(&a.log, &b.log, false);
+    // CSV rows are located by line (header = line 1), Parquet rows by index.
+    let shifted: Vec<u64> = b.log.source_line.iter().map(|l| l + 2).collect();
+    assert_eq!(a.log.source_line, shifted);
+    assert_eq!(a.source.optional_present, b.source.optional_present);
+    assert_eq!(a.source.rows_read, b.source.rows_read);
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn a_rejected_parquet_row_is_located_by_its_row_index() {
+    let dir = scratch("parquet-bad");
+    let mut sim = simulate(&tiny_scenario(), 7);
+    // Row 5 (0-based) gets an impossible count.
+    sim.rows[5].balls = 4;
+    let mut df = sim_frame(&sim).unwrap();
+    let pq = dir.join("bad.parquet");
+    write_frame(&mut df, &pq).unwrap();
+    let ing = load(&pq);
+    assert_eq!(ing.rejected.len(), 1);
+    let r = &ing.rejected[0];
+    // The 0-based row index, as documented on `Rejected::line`.
+    assert_eq!((r.line, r.column.as_str(), r.value.as_str()), (5, "balls", "4"));
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn crlf_line_ends_read_like_lf() {
+    let dir = scratch("crlf");
+    let text = std::fs::read_to_string(fixture("good.csv")).unwrap();
+    let p = write(&dir, "good_crlf.csv", &text.replace('\n', "\r\n"));
+    let crlf = load(&p);
+    let lf = load(&fixture("good.csv"));
+    assert!(crlf.rejected.is_empty(), "{:?}", crlf.rejected);
+    assert_same_rows(&crlf.log, &lf.log, true);
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+// ---------------------------------------------------------------- ordering
+
+#[test]
+fn shuffled_rows_come_back_ordered_by_date_game_pa_pitch_no() {
+    let dir = scratch("order");
+    // Each row's key is (date, game, pa, pitch_no); the pitch_type cell
+    // carries the expected position so the order can be read back.
+    // Game "Z-1" is on the earlier date, so date decides before the game
+    // id; "B-2" and "C-2" share a date, so the game id decides between them.
+    let rows = [
+        ("2025-04-01", "Z-1", 1, 1),
+        ("2025-04-01", "Z-1", 1, 2),
+        ("2025-04-01", "Z-1", 2, 1),
+        ("2025-04-01", "Z-1", 10, 1), // numeric, not text order: 10 after 2
+        ("2025-04-02", "B-2", 1, 1),
+        ("2025-04-02", "B-2", 1, 2),
+        ("2025-04-02", "B-2", 1, 10),
+        ("2025-04-02", "C-2", 1, 1),
+        ("2025-04-03", "A-3", 1, 1),
+    ];
+    let line = |k: usize| {
+        let (date, game, pa, no) = rows[k];
+        format!("{game},{date},Wren Alder,R,Moss Quill,L,1,0,0,0,0,0,0,p{k},{pa},{no}\n")
+    };
+    // A fixed shuffle (no order of the file matches the sorted one).
+    let shuffled = [6, 2, 8, 0, 5, 3, 7, 1, 4];
+    let mut text = format!("{HEADER},pa,pitch_no\n");
+    for &k in &shuffled {
+        text.push_str(&line(k));
+    }
+    let p = write(&dir, "shuffled.csv", &text);
+    let log = load(&p).log;
+    let got: Vec<String> = log.pitch_type.iter().map(|&t| log.pitch_types[t as usize].clone()).collect();
+    let want: Vec<String> = (0..rows.len()).map(|k| format!("p{k}")).collect();
+    assert_eq!(got, want);
+    // source_line still points at the line each row came from.
+    for (i, t) in got.iter().enumerate() {
+        let k: usize = t[1..].parse().unwrap();
+        let file_pos = shuffled.iter().position(|&s| s == k).unwrap();
+        assert_eq!(log.source_line[i], file_pos as u64 + 2, "row {i}");
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+#[test]
+fn without_pa_file_order_within_a_game_is_kept() {
+    let dir = scratch("file-order");
+    // Two games interleaved in the file; the later game comes first. Within
+    // each game the file order is the pitch order, whatever the counts say.
+    let text = format!(
+        "{HEADER}\n\
+         G-LATE,2025-04-02,Wren Alder,R,Moss Quill,L,1,0,0,0,0,0,0,late-1\n\
+         G-EARLY,2025-04-01,Wren Alder,R,Moss Quill,L,1,0,0,0,0,0,0,early-1\n\
+         G-LATE,2025-04-02,Wren Alder,R,Moss Quill,L,1,0,2,2,0,0,0,late-2\n\
+         G-EARLY,2025-04-01,Wren Alder,R,Moss Quill,L,1,0,0,1,0,0,0,early-2\n\
+         G-LATE,2025-04-02,Wren Alder,R,Moss Quill,L,1,0,0,1,0,0,0,late-3\n\
+         G-EARLY,2025-04-01,Wren Alder,R,Tal Brook,R,1,1,0,0,0,0,0,early-3\n"
+    );
+    let p = write(&dir, "no_pa.csv", &text);
+    let log = load(&p).log;
+    assert!(log.pa.is_none() && log.pitch_no.is_none());
+    let got: Vec<&str> = log.pitch_type.iter().map(|&t| log.pitch_types[t as usize].as_str()).collect();
+    assert_eq!(got, ["early-1", "early-2", "early-3", "late-1", "late-2", "late-3"]);
+    assert_eq!(log.source_line, [3, 5, 7, 2, 4, 6]);
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+// ---------------------------------------------------------------- optional
+
+#[test]
+fn absent_optional_columns_are_listed_and_empty_cells_are_missing_values() {
+    let good = load(&fixture("good.csv"));
+    assert_eq!(good.source.optional_present, ["pa", "pitch_no", "score_diff", "result", "speed_mph", "team"]);
+    assert_eq!(good.source.optional_missing, ["season", "loc_side_ft", "loc_height_ft"]);
+    assert!(good.log.loc_side_ft.is_none() && good.log.loc_height_ft.is_none());
+    // season defaults to the year of date (CONTRACT §1).
+    assert_eq!(good.log.seasons(), [2025, 2026]);
+
+    let dir = scratch("optional");
+    let p = write(
+        &dir,
+        "sparse.csv",
+        &format!(
+            "{HEADER},score_diff,result,speed_mph,season\n\
+             G-0501,2025-05-01,Wren Alder,R,Moss Quill,L,1,0,0,0,0,0,0,fastball,1,ball,91.5,2025\n\
+             G-0501,2025-05-01,Wren Alder,R,Moss Quill,L,1,0,1,0,0,0,0,slider,,,,\n\
+             G-0501,2025-05-01,Wren Alder,R,Moss Quill,L,1,0,2,0,0,0,0,slider, , , ,\n"
+        ),
+    );
+    let ing = load(&p);
+    assert!(ing.rejected.is_empty(), "empty optional cells are not rejections: {:?}", ing.rejected);
+    let log = &ing.log;
+    assert_eq!(log.len(), 3);
+    assert_eq!(log.score_diff.as_deref(), Some(&[Some(1), None, None][..]));
+    assert_eq!(log.result.as_deref(), Some(&[Some(PitchResult::Ball), None, None][..]));
+    assert_eq!(log.speed_mph.as_deref(), Some(&[Some(91.5f32), None, None][..]));
+    // An empty season cell falls back to the year of the date.
+    assert_eq!(log.season, [2025, 2025, 2025]);
+    assert_eq!(
+        ing.source.optional_missing,
+        ["pa", "pitch_no", "loc_side_ft", "loc_height_ft", "team"]
+    );
+    std::fs::remove_dir_all(&dir).ok();
+}
