@@ -7,6 +7,12 @@ mod cli;
 use clap::Parser;
 
 fn main() {
+    // Rust ignores SIGPIPE, so printing into a closed pipe (`| head`) would
+    // panic; restore the default so the process just ends, as tools do.
+    #[cfg(unix)]
+    unsafe {
+        libc::signal(libc::SIGPIPE, libc::SIG_DFL);
+    }
     let args = cli::Cli::parse();
     if let Err(e) = cli::run(args) {
         eprintln!("tellscope: {e}");

@@ -360,6 +360,18 @@ fn crlf_line_ends_read_like_lf() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+#[test]
+fn a_byte_order_mark_before_the_header_is_ignored() {
+    // Spreadsheet programs often save UTF-8 with a leading BOM; the first
+    // header name must still read as `game`.
+    let dir = scratch("bom");
+    let text = std::fs::read_to_string(fixture("good.csv")).unwrap();
+    let p = write(&dir, "good_bom.csv", &format!("\u{feff}{text}"));
+    let bom = load(&p);
+    assert_same_rows(&bom.log, &load(&fixture("good.csv")).log, true);
+    std::fs::remove_dir_all(&dir).ok();
+}
+
 // ---------------------------------------------------------------- ordering
 
 #[test]
@@ -464,3 +476,4 @@ fn absent_optional_columns_are_listed_and_empty_cells_are_missing_values() {
     );
     std::fs::remove_dir_all(&dir).ok();
 }
+

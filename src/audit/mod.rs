@@ -34,7 +34,7 @@ struct Observed {
     counts: Vec<(&'static str, HeldOut)>,
     types: Vec<evaluate::TypeFigures>,
     scored: evaluate::fit::Scored,
-    statistic: f64,
+    statistic: crate::evaluate::fit::Stat,
     sd_log_ratio: f64,
     /// Held-out pitches where exactly one of the two guesses was right.
     discordant: usize,

@@ -11,7 +11,7 @@
 //! Sequential stopping (Besag & Clifford 1991) is applied to the results in
 //! permutation order, so early stopping is deterministic too.
 
-use crate::evaluate::fit::{fit_and_score, statistic, Workspace};
+use crate::evaluate::fit::{fit_and_score, statistic, Stat, Workspace};
 use crate::evaluate::task::PitcherTask;
 use crate::model::Learner;
 use crate::settings::Settings;
@@ -25,10 +25,11 @@ use sha2::{Digest, Sha256};
 #[derive(Debug, Clone, PartialEq)]
 pub struct PermutationResult {
     pub observed: f64,
+    pub observed_tiebreak: f64,
     pub p_value: f64,
     pub permutations: usize,
     pub stopped_early: bool,
-    /// Null statistics in permutation order.
+    /// Null statistics (primary) in permutation order.
     pub null: Vec<f64>,
 }
 
@@ -60,18 +61,20 @@ const BATCH: usize = 32;
 
 pub fn permutation_test<L: Learner + Sync>(
     task: &PitcherTask,
-    observed: f64,
+    observed: Stat,
     settings: &Settings,
     learner: &L,
     progress: &(dyn Fn(u64) + Sync),
 ) -> PermutationResult {
     let m = settings.permutations;
-    let mut seq = SequentialPermutation::new(observed, m, settings.stop_after_exceedances);
+    // The stopping rule counts exceedances; each null value is fed to it as
+    // 1 (reaches the observed pair) or 0 against an observed 0.5.
+    let mut seq = SequentialPermutation::new(0.5, m, settings.stop_after_exceedances);
     let mut null = Vec::new();
     let mut start = 0usize;
     while start < m && !seq.is_done() {
         let end = (start + BATCH).min(m);
-        let stats: Vec<f64> = (start..end)
+        let stats: Vec<Stat> = (start..end)
             .into_par_iter()
             .map_init(
                 || (Workspace::new(task), task.labels.clone()),
@@ -88,14 +91,15 @@ pub fn permutation_test<L: Learner + Sync>(
             if seq.is_done() {
                 break;
             }
-            null.push(s);
-            seq.push(s);
+            null.push(s.primary);
+            seq.push(if s.reaches(&observed) { 1.0 } else { 0.0 });
         }
         progress((end - start) as u64);
         start = end;
     }
     PermutationResult {
-        observed,
+        observed: observed.primary,
+        observed_tiebreak: observed.secondary,
         p_value: seq.p_value(),
         permutations: seq.permutations_run(),
         stopped_early: seq.stopped_early(),

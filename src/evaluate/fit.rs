@@ -14,6 +14,9 @@ pub struct Scored {
     pub rows: Vec<u32>,
     /// `n_scored × n_classes` probabilities.
     pub model: Vec<f64>,
+    /// The same from the tree before significance pruning (the permutation
+    /// test's tie-breaker).
+    pub grown: Vec<f64>,
     pub prior: Vec<f64>,
     pub n_classes: usize,
     pub trees: Vec<Tree>,
@@ -123,8 +126,9 @@ pub fn fit_and_score<L: Learner>(
             let m = crate::model::prune::candidate_splits(&ws.x, &fold.train);
             crate::model::prune::prune(&grown, settings.split_alpha, m)
         } else {
-            grown
+            grown.clone()
         };
+        let grown_p = smoothed_node_probs(&grown, mix, settings.leaf_smoothing);
         let node_p = smoothed_node_probs(&tree, mix, settings.leaf_smoothing);
         for &r in &fold.test {
             if usage.counts[labels[r as usize] as usize] == 0 {
@@ -134,6 +138,8 @@ pub fn fit_and_score<L: Learner>(
             let leaf = tree.leaf_of(&ws.x, r as usize);
             out.rows.push(r);
             out.model.extend_from_slice(&node_p[leaf * k..(leaf + 1) * k]);
+            let g = grown.leaf_of(&ws.x, r as usize);
+            out.grown.extend_from_slice(&grown_p[g * k..(g + 1) * k]);
             out.prior.extend_from_slice(mix);
         }
         if keep_trees {
@@ -172,25 +178,63 @@ pub fn smoothed_node_probs(tree: &Tree, mix: &[f64], a: f64) -> Vec<f64> {
 }
 
 /// The permutation test's statistic of a fit: held-out bits gained per
-/// pitch, or held-out accuracy gained over the prior's guess.
-pub fn statistic(scored: &Scored, labels: &[u8], which: crate::settings::Statistic) -> f64 {
+/// pitch (or held-out accuracy gained over the prior's guess) of the pruned
+/// model, with the same figure of the unpruned tree as a tie-breaker.
+///
+/// Why the pair: a pitcher with no situational signal usually prunes to the
+/// root, so the pruned statistic is exactly 0 for the real labels and most
+/// shuffles alike. Those ties would make the test conservative (p-values
+/// pile up at 1 instead of being uniform). Breaking them with the unpruned
+/// tree, a fixed function of the same labels, keeps exchangeability and so
+/// the test's validity, and makes its p-values close to uniform under the
+/// null (checked in tests/calibration.rs).
+pub fn statistic(scored: &Scored, labels: &[u8], which: crate::settings::Statistic) -> Stat {
     let n = scored.rows.len();
     if n == 0 {
-        return 0.0;
+        return Stat { primary: 0.0, secondary: 0.0 };
     }
-    let mut acc = 0.0;
+    let k = scored.n_classes;
+    let (mut a, mut b) = (0.0, 0.0);
     for (i, &r) in scored.rows.iter().enumerate() {
         let y = labels[r as usize] as usize;
         let m = scored.model_row(i);
+        let g = &scored.grown[i * k..(i + 1) * k];
         let p = scored.prior_row(i);
         match which {
-            crate::settings::Statistic::Bits => acc += (m[y] / p[y]).log2(),
+            crate::settings::Statistic::Bits => {
+                a += (m[y] / p[y]).log2();
+                b += (g[y] / p[y]).log2();
+            }
             crate::settings::Statistic::Accuracy => {
-                acc += (argmax(m) == y) as u8 as f64 - (argmax(p) == y) as u8 as f64;
+                let pr = (argmax(p) == y) as u8 as f64;
+                a += (argmax(m) == y) as u8 as f64 - pr;
+                b += (argmax(g) == y) as u8 as f64 - pr;
             }
         }
     }
-    acc / n as f64
+    Stat { primary: a / n as f64, secondary: b / n as f64 }
+}
+
+/// A permutation statistic: compared on `primary`, ties broken by `secondary`.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Stat {
+    pub primary: f64,
+    pub secondary: f64,
+}
+
+impl Stat {
+    /// Is `self` (a null value) at least as extreme as `observed`? Values
+    /// within scipy's relative tolerance count as equal
+    /// (significance::permutation_p::reaches).
+    pub fn reaches(&self, observed: &Stat) -> bool {
+        use crate::significance::permutation_p::reaches;
+        let tie = reaches(self.primary, observed.primary) && reaches(observed.primary, self.primary);
+        if tie {
+            reaches(self.secondary, observed.secondary)
+        } else {
+            self.primary > observed.primary
+        }
+    }
 }
 
 /// Index of the largest value; the lowest index wins ties.

@@ -221,13 +221,22 @@ pub fn load(path: &Path, settings: &Settings) -> Result<Ingested> {
             if missing.len() > 1 { "them" } else { "it" },
         )));
     }
+    let mut seen_header = std::collections::BTreeSet::new();
+    for h in &table.header {
+        if !seen_header.insert(h.as_str()) && wanted.contains(h) {
+            return Err(Error::Data(format!(
+                "{}: column \"{h}\" appears twice in the header; rename or drop one of them",
+                path.display()
+            )));
+        }
+    }
     if table.n_rows == 0 {
         return Err(Error::Data(format!(
             "{}: the file has a header but no pitches; export at least one row",
             path.display()
         )));
     }
-    let (log, rejected) = validate(&table, settings);
+    let (log, rejected, blank) = validate(&table, settings);
     let present: Vec<String> = OPTIONAL_COLUMNS
         .iter()
         .filter(|c| table.column(settings.file_column(c)).is_some())
@@ -241,7 +250,7 @@ pub fn load(path: &Path, settings: &Settings) -> Result<Ingested> {
     let source = SourceInfo {
         path: path.to_path_buf(),
         format: table.format,
-        rows_read: table.n_rows,
+        rows_read: table.n_rows - blank,
         rows_rejected: rejected.len(),
         sha256: sha256_of(path)?,
         optional_present: present,
@@ -300,7 +309,7 @@ struct Row {
     file_index: u32,
 }
 
-fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>) {
+fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, usize) {
     let col = |c: &str| table.column(settings.file_column(c));
     let req: Vec<&polars::prelude::StringChunked> =
         REQUIRED_COLUMNS.iter().map(|c| col(c).expect("checked above")).collect();
@@ -340,12 +349,17 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>) 
         }
     }
     let mut vals: Vec<Option<&str>> = vec![None; its.len()];
+    let mut blank = 0usize;
     for i in 0..table.n_rows {
         for (v, it) in vals.iter_mut().zip(its.iter_mut()) {
             *v = it.next().flatten().map(str::trim).filter(|s| !s.is_empty());
         }
         let line = table.location(i);
-        match parse_row(&vals, settings) {
+        if vals.iter().all(Option::is_none) {
+            blank += 1;
+            continue; // a blank line is not a pitch
+        }
+        match parse_row(&vals, c_pa.is_some(), c_pitch_no.is_some()) {
             Ok(p) => {
                 let pitch_type = settings.pitch_group(p.pitch_type);
                 rows.push(Row {
@@ -448,7 +462,7 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>) 
     if c_team.is_some() {
         log.team = Some(rows.iter().map(|r| r.team.map(|t| team_map[t as usize])).collect());
     }
-    (log, rejected)
+    (log, rejected, blank)
 }
 
 /// Counts of rejection reasons for a summary: reason → (count, first lines).

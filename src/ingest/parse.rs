@@ -3,7 +3,6 @@
 //! is kept beside it, so reasons group cleanly in `check`.
 
 use super::PitchResult;
-use crate::settings::Settings;
 use crate::situations::levels::Hand;
 
 /// A row's values that passed every rule.
@@ -44,11 +43,17 @@ fn required<'a>(v: Option<&'a str>, col: &'static str) -> Result<&'a str, Breach
 }
 
 fn int_in<'a>(v: &'a str, col: &'static str, lo: i64, hi: i64) -> Result<i64, Breach<'a>> {
-    let n: i64 = v
-        .parse()
-        .map_err(|_| (col, Some(v), "is not a whole number".to_string()))?;
+    // Whole numbers stored as floats ("3.0", as Parquet files with nulls
+    // often hold them) are accepted; "3.5" is not.
+    let n: i64 = match v.parse::<i64>() {
+        Ok(n) => n,
+        Err(_) => match v.parse::<f64>() {
+            Ok(x) if x.is_finite() && x.fract() == 0.0 && x.abs() < 9e15 => x as i64,
+            _ => return Err((col, Some(v), "is not a whole number".to_string())),
+        },
+    };
     if n < lo || n > hi {
-        let range = if hi == i64::MAX { format!("at least {lo}") } else { format!("in {lo}..{hi}") };
+        let range = if hi >= i64::from(u32::MAX) { format!("at least {lo}") } else { format!("in {lo}..{hi}") };
         return Err((col, Some(v), format!("is outside the allowed range (must be {range})")));
     }
     Ok(n)
@@ -139,7 +144,11 @@ fn number<'a>(v: Option<&'a str>, col: &'static str, lo: f32, hi: f32) -> Result
 
 /// Parse the values of one row, given in the order of REQUIRED_COLUMNS then
 /// OPTIONAL_COLUMNS (absent optional columns are `None`).
-pub fn parse_row<'a>(v: &[Option<&'a str>], _settings: &Settings) -> Result<ParsedRow<'a>, Breach<'a>> {
+pub fn parse_row<'a>(
+    v: &[Option<&'a str>],
+    has_pa: bool,
+    has_pitch_no: bool,
+) -> Result<ParsedRow<'a>, Breach<'a>> {
     let game = required(v[0], "game")?;
     let date_s = required(v[1], "date")?;
     let (date, year) =
@@ -158,8 +167,20 @@ pub fn parse_row<'a>(v: &[Option<&'a str>], _settings: &Settings) -> Result<Pars
         None => year,
         Some(s) => int_in(s, "season", 1800, 3000)? as i32,
     };
-    let pa = v[15].map(|s| int_in(s, "pa", 1, i64::from(u32::MAX)).map(|n| n as u32)).transpose()?;
-    let pitch_no = v[16].map(|s| int_in(s, "pitch_no", 1, i64::from(u32::MAX)).map(|n| n as u32)).transpose()?;
+    // When the file has pa / pitch_no, every row needs them: a row without
+    // would sort to the front of its game and break the plate appearance.
+    let pa = match (v[15], has_pa) {
+        (Some(s), _) => Some(int_in(s, "pa", 1, i64::from(u32::MAX))? as u32),
+        (None, true) => return Err(("pa", None, "is empty; the file has a pa column, so every pitch needs one".to_string())),
+        (None, false) => None,
+    };
+    let pitch_no = match (v[16], has_pitch_no) {
+        (Some(s), _) => Some(int_in(s, "pitch_no", 1, i64::from(u32::MAX))? as u32),
+        (None, true) => {
+            return Err(("pitch_no", None, "is empty; the file has a pitch_no column, so every pitch needs one".to_string()))
+        }
+        (None, false) => None,
+    };
     let score_diff = v[17].map(|s| int_in(s, "score_diff", -200, 200).map(|n| n as i32)).transpose()?;
     let result = match v[18] {
         None => None,
