@@ -108,6 +108,57 @@ impl Plan {
         })
     }
 
+    /// Forward-chaining over the games of the listed rows only (one
+    /// pitcher's games in one period, say), whatever their seasons: those
+    /// games, in date order, are dealt into `blocks` consecutive blocks of
+    /// (nearly) equal size; fold f trains on blocks 0..=f and scores block
+    /// f + 1, so every scored game is later than every game it was fitted
+    /// on. Rows not listed are outside the scheme. `compare` scores each
+    /// period on its own with this. `label` names the rows in the plan's
+    /// train/test labels; the scheme's `season` is that of the first row.
+    pub fn forward_chaining(log: &PitchLog, rows: &[u32], blocks: usize, label: &str) -> Result<Plan> {
+        let n = log.len();
+        let Some(&first) = rows.first() else {
+            return Err(Error::Data(format!("{label}: no pitches to score")));
+        };
+        let mut games: Vec<(i32, u32)> = rows.iter().map(|&r| (log.date[r as usize], log.game[r as usize])).collect();
+        games.sort_unstable();
+        games.dedup();
+        let n_games = games.len();
+        if blocks < 2 || n_games < blocks {
+            return Err(Error::Data(format!(
+                "{label}: {n_games} games, fewer than the {blocks} blocks forward-chaining needs"
+            )));
+        }
+        let block_of = |g: (i32, u32)| -> u8 {
+            let i = games.binary_search(&g).expect("game listed above");
+            (i * blocks / n_games) as u8
+        };
+        let last = (blocks - 1) as u8;
+        let mut test_fold = vec![None; n];
+        let mut train_from = vec![None; n];
+        let mut discovery = vec![false; n];
+        let mut held_out = vec![false; n];
+        for &r in rows {
+            let r = r as usize;
+            let b = block_of((log.date[r], log.game[r]));
+            test_fold[r] = if b >= 1 { Some(b - 1) } else { None };
+            train_from[r] = if b < last { Some(b) } else { None };
+            discovery[r] = b < last;
+            held_out[r] = b == last;
+        }
+        Ok(Plan {
+            scheme: Scheme::ForwardChaining { season: log.season[first as usize], blocks },
+            test_fold,
+            train_from,
+            n_folds: blocks - 1,
+            discovery,
+            held_out,
+            train_label: format!("{label}, earlier blocks of games"),
+            test_label: format!("{label}, each later block of {blocks} ({n_games} games in all)"),
+        })
+    }
+
     /// Does row `i` train fold `f`?
     #[inline]
     pub fn trains(&self, i: usize, f: usize) -> bool {
