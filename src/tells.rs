@@ -72,6 +72,12 @@ pub struct TellTest {
 }
 
 impl TellTest {
+    /// Pitches the tell gives away: the shift times the pitches in the
+    /// situation (how many more a hitter sitting on it would guess right).
+    pub fn strength(&self) -> f64 {
+        self.effect() * self.n as f64
+    }
+
     /// share − baseline, signed so a tell's effect is positive.
     pub fn effect(&self) -> f64 {
         match self.direction {
@@ -231,6 +237,41 @@ pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[Pitch
                             Direction::More => hypergeom::upper_tail(x as u64, big_n as u64, big_k as u64, n as u64),
                             Direction::Less => hypergeom::lower_tail(x as u64, big_n as u64, big_k as u64, n as u64),
                         };
+                        // A two-level factor's "more at A" is "less at B"; it is
+                        // told the way a coach would say it: as an avoidance when
+                        // he throws the pitch at under half the rate at B.
+                        if binary && baseline_share < 0.5 * share {
+                            let other = 1 - k;
+                            let osn = staff_n[team * n_keys + other];
+                            let oci = wilson::wilson_95((big_k - x) as u64, (big_n - n) as u64);
+                            tests.push(TellTest {
+                                pitcher: task.name.clone(),
+                                situation: key_situation(&cols, other),
+                                pitch_type: log.pitch_types[gtype].clone(),
+                                direction: Direction::Less,
+                                n: (big_n - n) as usize,
+                                k: (big_k - x) as usize,
+                                share: baseline_share,
+                                share_low: oci.low,
+                                share_high: oci.high,
+                                baseline_share: share,
+                                baseline_n: n as usize,
+                                staff_share: if osn > 0 {
+                                    staff[(team * n_keys + other) * n_types + gtype] as f64 / osn as f64
+                                } else {
+                                    0.0
+                                },
+                                p_value: p.clamp(0.0, 1.0),
+                                q_value: 1.0,
+                                held_out_n: hout as usize,
+                                held_out_share: (hout > 0).then(|| hkout as f64 / hout as f64),
+                                held_out_baseline_share: (hn > 0).then(|| hk as f64 / hn as f64),
+                                flagged: false,
+                                family_q: 1.0,
+                                within: None,
+                            });
+                            continue;
+                        }
                         tests.push(TellTest {
                             pitcher: task.name.clone(),
                             situation: situation.clone(),
@@ -361,12 +402,14 @@ fn mark_narrowings(tests: &mut [TellTest], min_effect: f64) {
     }
 }
 
-/// Flagged tells, strongest first (largest effect, then smallest q).
+/// Flagged tells, strongest first: the most pitches given away, i.e. the
+/// shift times the pitches in the situation, (share − baseline) × n; then
+/// the smallest q.
 pub fn flagged_sorted<'a>(tests: &'a [TellTest], pitcher: &str) -> Vec<&'a TellTest> {
     let mut v: Vec<&TellTest> = tests.iter().filter(|t| t.flagged && t.pitcher == pitcher).collect();
     v.sort_by(|a, b| {
-        b.effect()
-            .partial_cmp(&a.effect())
+        (b.effect() * b.n as f64)
+            .partial_cmp(&(a.effect() * a.n as f64))
             .unwrap()
             .then(a.q_value.partial_cmp(&b.q_value).unwrap())
             .then(crate::tells::situation_label(&a.situation).cmp(&crate::tells::situation_label(&b.situation)))

@@ -113,7 +113,7 @@ fn tells_csv_lists_every_test_and_summary_only_flagged() {
     // Strongest first.
     for p in &a.summary.pitchers {
         for w in p.tells.windows(2) {
-            assert!(w[0].effect() >= w[1].effect() - 1e-12);
+            assert!(w[0].strength() >= w[1].strength() - 1e-9);
         }
     }
 }

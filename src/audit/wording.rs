@@ -79,6 +79,17 @@ pub fn q_text(q: f64) -> String {
     }
 }
 
+/// Did the tell hold on the held-out rows: at least half its effect
+/// still there?
+pub fn held(t: &TellTest) -> Option<bool> {
+    let h = t.held_out_share.filter(|_| t.held_out_n > 0)?;
+    let base = t.held_out_baseline_share.unwrap_or(t.baseline_share);
+    Some(match t.direction {
+        Direction::More => h - base >= 0.5 * t.effect(),
+        Direction::Less => base - h >= 0.5 * t.effect(),
+    })
+}
+
 /// The tell as one sentence.
 pub fn tell_sentence(t: &TellTest, test_label: &str) -> String {
     let sit = capitalize(&situation_phrase(&t.situation));
@@ -87,6 +98,13 @@ pub fn tell_sentence(t: &TellTest, test_label: &str) -> String {
             "{sit} he threw his {} {} of the time (n = {}) against {} otherwise; {}",
             t.pitch_type,
             pct(t.share),
+            t.n,
+            pct(t.baseline_share),
+            q_text(t.q_value)
+        ),
+        Direction::Less if t.k == 0 => format!(
+            "{sit} he never threw his {} (0 of {} pitches) against {} otherwise; {}",
+            t.pitch_type,
             t.n,
             pct(t.baseline_share),
             q_text(t.q_value)
@@ -100,18 +118,9 @@ pub fn tell_sentence(t: &TellTest, test_label: &str) -> String {
             q_text(t.q_value)
         ),
     };
-    let held = match t.held_out_share {
-        Some(h) if t.held_out_n > 0 => {
-            let kept = match t.direction {
-                Direction::More => h - t.held_out_baseline_share.unwrap_or(t.baseline_share) >= 0.5 * t.effect(),
-                Direction::Less => t.held_out_baseline_share.unwrap_or(t.baseline_share) - h >= 0.5 * t.effect(),
-            };
-            if kept {
-                format!("; in {test_label} it held at {} (n = {})", pct(h), t.held_out_n)
-            } else {
-                format!("; in {test_label} it did not hold: {} (n = {})", pct(h), t.held_out_n)
-            }
-        }
+    let held = match (held(t), t.held_out_share) {
+        (Some(true), Some(h)) => format!("; in {test_label} it held at {} (n = {})", pct(h), t.held_out_n),
+        (Some(false), Some(h)) => format!("; in {test_label} it did not hold: {} (n = {})", pct(h), t.held_out_n),
         _ => format!("; no pitches in this situation in {test_label} to check it"),
     };
     format!("{main}{held}.")
@@ -137,7 +146,8 @@ pub fn advice(t: &TellTest, situation_mix: &[(String, f64)], per_season: f64) ->
     let guess_now = situation_mix.iter().map(|x| x.1).fold(0.0, f64::max);
     let mix_text: Vec<String> = new_mix.iter().filter(|x| x.1 >= 0.005).map(|(n, s)| format!("{n} {}", pct(*s))).collect();
     let sit = situation_phrase(&t.situation);
-    match t.direction {
+    let faded = if held(t) == Some(false) { "It faded in the held-out games, so check it before acting. " } else { "" };
+    let text = match t.direction {
         Direction::More => format!(
             "Throw the {} {sit} about {} of the time, his rate elsewhere, instead of {}: a mix near {} takes a hitter sitting on his most likely pitch from {} to {} right. That means changing about {} of every 100 such pitches, roughly {} pitches a season.",
             t.pitch_type,
@@ -150,7 +160,7 @@ pub fn advice(t: &TellTest, situation_mix: &[(String, f64)], per_season: f64) ->
             moved
         ),
         Direction::Less => format!(
-            "Mix the {} back in {sit}, at about {} (his rate elsewhere) instead of {}, so a hitter cannot rule it out: a mix near {}. That means changing about {} of every 100 such pitches, roughly {} pitches a season.",
+            "Bring the {} back {sit}, at about {} (his rate elsewhere) instead of {}, so a hitter cannot rule it out: a mix near {}. That means changing about {} of every 100 such pitches, roughly {} pitches a season.",
             t.pitch_type,
             pct(target),
             pct(t.share),
@@ -158,14 +168,25 @@ pub fn advice(t: &TellTest, situation_mix: &[(String, f64)], per_season: f64) ->
             (change * 100.0).round(),
             moved
         ),
-    }
+    };
+    format!("{faded}{text}")
 }
 
 fn condition_text(task: &PitcherTask, feature: usize, low: Option<u8>, high: Option<u8>) -> String {
     match &task.kinds[feature] {
         FeatureKind::Level { factor, level } => {
-            // One-hot: `<= 0` means "not in the level".
-            if high == Some(0) {
+            // One-hot: `<= 0` means "not in the level"; for a two-level
+            // factor that is the other level.
+            let two = *factor == Factor::Bats || *factor == Factor::Platoon;
+            if high == Some(0) && two {
+                let other = match level.as_str() {
+                    "L" => "R",
+                    "R" => "L",
+                    "same" => "opposite",
+                    _ => "same",
+                };
+                level_phrase(*factor, other)
+            } else if high == Some(0) {
                 format!("not {}", level_phrase(*factor, level))
             } else {
                 level_phrase(*factor, level)

@@ -110,7 +110,12 @@ pub fn print_table(audit: &Audit, out: &Path) {
     }
     println!("  * the situation predicts his pitch beyond his mix (q <= {})", s.settings.fdr);
     let mut top: Vec<_> = s.pitchers.iter().flat_map(|p| p.tells.iter().filter(|t| t.within.is_none())).collect();
-    top.sort_by(|a, b| b.effect().partial_cmp(&a.effect()).unwrap().then(a.pitcher.cmp(&b.pitcher)));
+    // Tells that held in the held-out games first, then the strongest.
+    top.sort_by(|a, b| {
+        let ha = wording::held(a) == Some(true);
+        let hb = wording::held(b) == Some(true);
+        hb.cmp(&ha).then(b.strength().partial_cmp(&a.strength()).unwrap()).then(a.pitcher.cmp(&b.pitcher))
+    });
     if !top.is_empty() {
         println!();
         println!("Top tells:");
