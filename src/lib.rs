@@ -8,6 +8,7 @@
 //! measuring change between two periods.
 
 pub mod audit;
+pub mod compare;
 pub mod error;
 pub mod evaluate;
 pub mod report;

@@ -16,3 +16,25 @@ pub fn bar(total: u64, what: &str, show: bool) -> ProgressBar {
     bar.set_message(what.to_string());
     bar
 }
+
+/// Stage timings on stderr when TELLSCOPE_PROFILE is set (for the bench
+/// script; never part of the output files).
+pub struct Timer {
+    start: std::cell::Cell<std::time::Instant>,
+    on: bool,
+}
+
+impl Timer {
+    pub fn start() -> Timer {
+        Timer { start: std::cell::Cell::new(std::time::Instant::now()), on: std::env::var_os("TELLSCOPE_PROFILE").is_some() }
+    }
+
+    /// Print the time since the last lap under `what`.
+    pub fn lap(&self, what: &str) {
+        if self.on {
+            let now = std::time::Instant::now();
+            eprintln!("profile: {what:<28} {:>8.3} s", (now - self.start.get()).as_secs_f64());
+            self.start.set(now);
+        }
+    }
+}

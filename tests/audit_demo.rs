@@ -149,13 +149,12 @@ fn held_out_labels_never_shape_the_fit() {
     let ing = tellscope::ingest::load(&demo_log(), &s).unwrap();
     let sit = tellscope::situations::build(&ing.log);
     let plan = Plan::new(&ing.log, None, 5).unwrap();
-    let learner = tellscope::model::AuditTree(s.tree);
     for name in ["Oren Vasquell", "Jory Kestenbaum"] {
         let p = ing.log.pitchers.iter().position(|x| x == name).unwrap() as u32;
         let rows: Vec<u32> = (0..ing.log.len() as u32).filter(|&i| ing.log.pitcher[i as usize] == p).collect();
         let task = PitcherTask::build(&ing.log, &sit, &plan, p, rows);
         let mut ws = Workspace::new(&task);
-        let a = fit_and_score(&task, &task.labels, &s, &learner, &mut ws, true);
+        let a = fit_and_score(&task, &task.labels, &s, &mut ws, true);
         // Shuffle the held-out season's labels only.
         let mut labels = task.labels.clone();
         let test: Vec<usize> = task.held_out.iter().map(|&i| i as usize).collect();
@@ -166,7 +165,7 @@ fn held_out_labels_never_shape_the_fit() {
         }
         assert_ne!(labels, task.labels);
         let mut ws2 = Workspace::new(&task);
-        let b = fit_and_score(&task, &labels, &s, &learner, &mut ws2, true);
+        let b = fit_and_score(&task, &labels, &s, &mut ws2, true);
         assert_eq!(a.trees, b.trees, "{name}: trees changed");
         assert_eq!(a.usage, b.usage, "{name}: usage prior changed");
         assert_eq!(a.strengths, b.strengths, "{name}: shrunk priors' strength changed");

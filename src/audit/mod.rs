@@ -11,7 +11,6 @@ use crate::evaluate::split::Plan;
 use crate::evaluate::task::PitcherTask;
 use crate::evaluate::{self, HeldOut};
 use crate::ingest::{self, Ingested, Rejected};
-use crate::model::AuditTree as FastTree;
 use crate::settings::{PriorStrength, Settings};
 use crate::significance::{fdr, wilson};
 use crate::situations::{self, levels::COUNTS, Situations};
@@ -50,9 +49,8 @@ fn mix_of(names: &[String], task: &PitcherTask, rows: &[u32]) -> BTreeMap<String
 }
 
 fn observe(task: &PitcherTask, settings: &Settings, names: &[String]) -> Observed {
-    let learner = FastTree(settings.tree);
     let mut ws = Workspace::new(task);
-    let scored = fit_and_score(task, &task.labels, settings, &learner, &mut ws, true);
+    let scored = fit_and_score(task, &task.labels, settings, &mut ws, true);
     let figures = evaluate::overall(&scored, &task.labels);
     let counts = evaluate::per_count(task, &scored, &task.labels);
     let types = evaluate::per_type(task, &scored, &task.labels, names, settings.min_type_pitches);
@@ -78,8 +76,11 @@ fn observe(task: &PitcherTask, settings: &Settings, names: &[String]) -> Observe
 
 /// Run the audit of the log at `path`.
 pub fn run(path: &Path, settings: &Settings, show_progress: bool) -> Result<Audit> {
+    let t = crate::progress::Timer::start();
     let Ingested { log, rejected, source } = ingest::load(path, settings)?;
+    t.lap("ingest");
     let sit = situations::build(&log);
+    t.lap("situations");
     let plan = Plan::new(&log, settings.test_season, settings.forward_blocks)?;
     audit_log(&log, &sit, &plan, rejected, source, settings, show_progress)
 }
@@ -126,22 +127,26 @@ pub fn audit_log(
     let enough = |t: &PitcherTask| t.n_train() >= settings.min_train_pitches && t.n_test() >= settings.min_test_pitches;
     let ok_tasks: Vec<&PitcherTask> = tasks.iter().filter(|t| enough(t)).collect();
 
+    let timer = crate::progress::Timer::start();
+    timer.lap("pitcher tasks (features)");
     let observed: Vec<Observed> = ok_tasks.par_iter().map(|t| observe(t, settings, names)).collect();
+    timer.lap("observed fits");
 
     let total: u64 = (ok_tasks.len() * settings.permutations) as u64;
     let bar = crate::progress::bar(total, "permutations", show_progress);
     let tick = |n: u64| bar.inc(n);
-    let learner = FastTree(settings.tree);
     let perms: Vec<permute::PermutationResult> = ok_tasks
         .par_iter()
         .zip(observed.par_iter())
-        .map(|(t, o)| permute::permutation_test(t, o.statistic, settings, &learner, &tick))
+        .map(|(t, o)| permute::permutation_test(t, o.statistic, settings, &tick))
         .collect();
     bar.finish_and_clear();
+    timer.lap("permutation tests");
     let model_q = fdr::bh_q_values(&perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
 
     let ok_owned: Vec<PitcherTask> = ok_tasks.iter().map(|t| (*t).clone()).collect();
     let tests = tells::find(log, sit, &plan.discovery, &ok_owned, settings);
+    timer.lap("tell tests");
 
     let mut pitchers = Vec::new();
     let mut ok_iter = 0usize;

@@ -13,7 +13,6 @@
 
 use crate::evaluate::fit::{fit_and_score, statistic, Stat, Workspace};
 use crate::evaluate::task::PitcherTask;
-use crate::model::Learner;
 use crate::settings::Settings;
 use crate::significance::permutation_p::SequentialPermutation;
 use rand::{Rng, SeedableRng};
@@ -59,11 +58,10 @@ pub fn shuffle_within(labels: &mut [u8], strata: &[Vec<u32>], rng: &mut ChaCha8R
 /// order for the stopping rule.
 const BATCH: usize = 32;
 
-pub fn permutation_test<L: Learner + Sync>(
+pub fn permutation_test(
     task: &PitcherTask,
     observed: Stat,
     settings: &Settings,
-    learner: &L,
     progress: &(dyn Fn(u64) + Sync),
 ) -> PermutationResult {
     let m = settings.permutations;
@@ -82,7 +80,7 @@ pub fn permutation_test<L: Learner + Sync>(
                     labels.copy_from_slice(&task.labels);
                     let mut rng = permutation_rng(settings.seed, &task.name, j as u64);
                     shuffle_within(labels, &task.strata, &mut rng);
-                    let scored = fit_and_score(task, labels, settings, learner, ws, false);
+                    let scored = fit_and_score(task, labels, settings, ws, false);
                     statistic(&scored, labels, settings.statistic)
                 },
             )

@@ -67,8 +67,11 @@ pub fn run(args: Args) -> Result<()> {
     let settings = args.log.settings(args.opts.overrides())?;
     let out = args.out.clone().unwrap_or_else(|| default_out(&args.log.file));
     let audit = audit::run(&args.log.file, &settings, !args.json)?;
+    let t = tellscope::progress::Timer::start();
     let files = report::audit_files(&audit)?;
+    t.lap("report rendering");
     report::write_all(&out, &files)?;
+    t.lap("report writing");
     if args.json {
         print!("{}", report::json::summary_json(&audit.summary)?);
     } else {

@@ -23,12 +23,11 @@
 
 use super::stream;
 use crate::error::Result;
-use crate::evaluate::fit::{argmax, fit_and_score, statistic, Workspace};
+use crate::evaluate::fit::{argmax, fit_and_score, statistic, Stat, Workspace};
 use crate::evaluate::split::Plan;
 use crate::evaluate::task::PitcherTask;
 use crate::evaluate::{self, HeldOut};
 use crate::ingest::PitchLog;
-use crate::model::AuditTree;
 use crate::settings::Settings;
 use crate::significance::permutation_p::SequentialPermutation;
 use crate::significance::resample::{cluster_bootstrap, quantile_sorted, BootstrapInterval};
@@ -66,8 +65,9 @@ pub fn figures_of(games: &[&GameScore]) -> (f64, f64) {
 pub struct PeriodFit {
     pub task: PitcherTask,
     pub figures: HeldOut,
-    /// The permutation statistic (`[audit] statistic`) of the fit.
-    pub statistic: f64,
+    /// The permutation statistic (`[audit] statistic`) of the fit, with the
+    /// audit's unpruned-tree tie-breaker.
+    pub statistic: Stat,
     /// Held-out pitches of a type not yet seen in their fold's training.
     pub unseen: usize,
     /// Held-out games in game-id order.
@@ -81,11 +81,11 @@ pub fn build_task(log: &PitchLog, sit: &Situations, pitcher: u32, rows: &[u32], 
     Ok(PitcherTask::build(log, sit, &plan, pitcher, rows.to_vec()))
 }
 
-/// Fit and score a task; `games` only when `per_game`.
-pub fn fit(task: &PitcherTask, settings: &Settings, per_game: bool) -> (HeldOut, f64, usize, Vec<GameScore>) {
-    let learner = AuditTree(settings.tree);
+/// Fit and score a task. With `per_game` the held-out figures and each
+/// game's sums are kept; without, only the statistic is (a refit).
+pub fn fit(task: &PitcherTask, settings: &Settings, per_game: bool) -> (HeldOut, Stat, usize, Vec<GameScore>) {
     let mut ws = Workspace::new(task);
-    let scored = fit_and_score(task, &task.labels, settings, &learner, &mut ws, false);
+    let scored = fit_and_score(task, &task.labels, settings, &mut ws, per_game);
     let figures = evaluate::overall(&scored, &task.labels);
     let stat = statistic(&scored, &task.labels, settings.statistic);
     let mut games = Vec::new();
@@ -169,8 +169,14 @@ pub struct SwapResult {
 /// for the stopping rule (so the result does not depend on thread count).
 const BATCH: usize = 16;
 
-/// Label-swap permutation test of `observed` = statistic(after) −
-/// statistic(before) for one pitcher.
+/// `after − before`, both parts of the statistic, as magnitudes: the
+/// label-swap test is two-sided.
+pub fn abs_difference(before: Stat, after: Stat) -> Stat {
+    Stat { primary: (after.primary - before.primary).abs(), secondary: (after.secondary - before.secondary).abs() }
+}
+
+/// Label-swap permutation test of `observed` = |statistic(after) −
+/// statistic(before)| (see [`abs_difference`]) for one pitcher.
 #[allow(clippy::too_many_arguments)]
 pub fn label_swap_test(
     log: &PitchLog,
@@ -179,7 +185,7 @@ pub fn label_swap_test(
     name: &str,
     rows_before: &[u32],
     rows_after: &[u32],
-    observed: f64,
+    observed: Stat,
     settings: &Settings,
     permutations: usize,
     progress: &(dyn Fn(u64) + Sync),
@@ -198,7 +204,7 @@ pub fn label_swap_test(
     let game_index: BTreeMap<u32, usize> = games.iter().enumerate().map(|(i, &(_, g))| (g, i)).collect();
     let row_game: Vec<usize> = pooled.iter().map(|&r| game_index[&log.game[r as usize]]).collect();
     let blocks = settings.forward_blocks;
-    let one = |j: usize| -> f64 {
+    let one = |j: usize| -> Option<Stat> {
         let mut rng = stream(settings.seed, name, "label-swap", j as u64);
         let mut in_before: Vec<bool> = (0..games.len()).map(|i| i < n_before_games).collect();
         for i in (1..in_before.len()).rev() {
@@ -213,27 +219,27 @@ pub fn label_swap_test(
                 ra.push(r)
             }
         }
-        let stat = |rows: &[u32]| -> f64 {
-            match build_task(log, sit, pitcher, rows, blocks, "shuffled period") {
-                Ok(t) => fit(&t, settings, false).1,
-                Err(_) => f64::NAN,
-            }
+        let stat = |rows: &[u32]| -> Option<Stat> {
+            let t = build_task(log, sit, pitcher, rows, blocks, "shuffled period").ok()?;
+            Some(fit(&t, settings, false).1)
         };
-        stat(&ra) - stat(&rb)
+        Some(abs_difference(stat(&rb)?, stat(&ra)?))
     };
     let m = permutations;
-    let mut seq = SequentialPermutation::new(observed.abs(), m, settings.stop_after_exceedances);
+    // As in audit::permute: each null value is fed to the stopping rule as
+    // 1 (reaches the observed pair) or 0, against 0.5.
+    let mut seq = SequentialPermutation::new(0.5, m, settings.stop_after_exceedances);
     let mut start = 0;
     while start < m && !seq.is_done() {
         let end = (start + BATCH).min(m);
-        let null: Vec<f64> = (start..end).into_par_iter().map(one).collect();
+        let null: Vec<Option<Stat>> = (start..end).into_par_iter().map(one).collect();
         for s in null {
             if seq.is_done() {
                 break;
             }
-            // A shuffle whose fit is undefined counts as reaching the
+            // A shuffle that cannot be scored counts as reaching the
             // observed value, the conservative choice.
-            seq.push(if s.is_finite() { s.abs() } else { f64::INFINITY });
+            seq.push(if s.map(|s| s.reaches(&observed)).unwrap_or(true) { 1.0 } else { 0.0 });
         }
         progress((end - start) as u64);
         start = end;

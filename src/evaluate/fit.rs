@@ -3,7 +3,7 @@
 //! the held-out probabilities of both the prior and the model.
 
 use super::task::{PitcherTask, OOF_FOLDS, PRIOR_BINS};
-use crate::model::{Learner, Tree};
+use crate::model::{AuditTree, Tree};
 use crate::priors::{self, GroupCounts, UsagePrior};
 use crate::settings::Settings;
 
@@ -22,6 +22,9 @@ pub struct Scored {
     pub trees: Vec<Tree>,
     pub usage: Vec<UsagePrior>,
     pub strengths: Vec<(f64, f64)>,
+    /// Running sums of the statistic, filled instead of the probability
+    /// rows when a fit is a permutation refit.
+    pub totals: StatTotals,
     /// Held-out pitches left unscored because their type never appeared in
     /// the fold's training rows (a new pitch: neither guess can know it).
     pub unseen: usize,
@@ -36,9 +39,27 @@ impl Scored {
     }
 }
 
-/// Reusable buffers for a pitcher's fits.
+/// Sums behind the permutation statistic.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct StatTotals {
+    pub n: usize,
+    pub bits: f64,
+    pub bits_grown: f64,
+    pub acc: i64,
+    pub acc_grown: i64,
+}
+
+/// Reusable buffers for a pitcher's fits: the feature matrix whose prior
+/// columns each fit rewrites, the count tables, and one prepared tree
+/// learner per fold (the situation features are packed once; a refit only
+/// repacks the prior features).
 pub struct Workspace {
     pub x: crate::model::FeatureMatrix,
+    trees: Vec<Option<crate::model::fast_tree::FastTreeWorkspace>>,
+    count_codes: Vec<u8>,
+    batter_codes: Vec<u8>,
+    prior_features: Vec<usize>,
+    situational_candidates: Vec<usize>,
     count_all: GroupCounts,
     batter_all: GroupCounts,
     count_oof: Vec<GroupCounts>,
@@ -50,6 +71,20 @@ impl Workspace {
         let k = task.n_classes;
         Workspace {
             x: task.x.clone(),
+            trees: (0..task.folds.len()).map(|_| None).collect(),
+            count_codes: Vec::new(),
+            batter_codes: Vec::new(),
+            prior_features: (task.n_situational..task.x.n_features()).collect(),
+            situational_candidates: task
+                .folds
+                .iter()
+                .map(|f| {
+                    let mut sub = task.x.clone();
+                    sub.names.truncate(task.n_situational);
+                    sub.codes.truncate(task.n_situational * task.x.n_rows);
+                    crate::model::prune::candidate_splits(&sub, &f.train)
+                })
+                .collect(),
             count_all: GroupCounts::new(12, k),
             batter_all: GroupCounts::new(task.n_batters, k),
             count_oof: (0..OOF_FOLDS).map(|_| GroupCounts::new(12, k)).collect(),
@@ -64,18 +99,17 @@ fn bin(p: f64) -> u8 {
 }
 
 /// Fit every fold on `labels` and score the held-out rows.
-pub fn fit_and_score<L: Learner>(
+pub fn fit_and_score(
     task: &PitcherTask,
     labels: &[u8],
     settings: &Settings,
-    learner: &L,
     ws: &mut Workspace,
     keep_trees: bool,
 ) -> Scored {
     let k = task.n_classes;
     let mut out = Scored { n_classes: k, ..Scored::default() };
     let prior_col0 = task.n_situational;
-    for fold in &task.folds {
+    for (fi, fold) in task.folds.iter().enumerate() {
         if fold.test.is_empty() {
             continue;
         }
@@ -100,47 +134,97 @@ pub fn fit_and_score<L: Learner>(
         let s_batter = priors::strength(&ws.batter_all, mix, settings.prior_strength);
         // Prior features: out-of-fold for training rows, full training
         // counts for scored rows (they are never in the training counts).
+        // A feature's code depends only on (fold part, group, class), so the
+        // codes are tabled per group first and rows only look them up.
         let n_rows = task.x.n_rows;
-        for cls in 0..k {
-            let fc = prior_col0 + cls;
-            let fb = prior_col0 + k + cls;
-            for &r in &fold.train {
-                let r = r as usize;
-                let o = task.oof[r] as usize;
-                let pc = ws.count_all.shrunk_without(&ws.count_oof[o], task.count[r] as usize, cls, mix, s_count);
-                let pb = ws.batter_all.shrunk_without(&ws.batter_oof[o], task.batter[r] as usize, cls, mix, s_batter);
-                ws.x.codes[fc * n_rows + r] = bin(pc);
-                ws.x.codes[fb * n_rows + r] = bin(pb);
+        let parts = OOF_FOLDS + 1; // the OOF parts, then "all training rows"
+        let code_table = |all: &GroupCounts, oof: &[GroupCounts], s: f64, table: &mut Vec<u8>| {
+            let g = all.n_groups;
+            table.clear();
+            table.resize(parts * g * k, 0);
+            for grp in 0..g {
+                for cls in 0..k {
+                    for (o, part) in oof.iter().enumerate() {
+                        table[(o * g + grp) * k + cls] = bin(all.shrunk_without(part, grp, cls, mix, s));
+                    }
+                    table[(OOF_FOLDS * g + grp) * k + cls] = bin(all.shrunk(grp, cls, mix, s));
+                }
             }
-            for &r in &fold.test {
+        };
+        code_table(&ws.count_all, &ws.count_oof, s_count, &mut ws.count_codes);
+        code_table(&ws.batter_all, &ws.batter_oof, s_batter, &mut ws.batter_codes);
+        let (gc, gb) = (ws.count_all.n_groups, ws.batter_all.n_groups);
+        for (rows, train) in [(&fold.train, true), (&fold.test, false)] {
+            for &r in rows.iter() {
                 let r = r as usize;
-                let pc = ws.count_all.shrunk(task.count[r] as usize, cls, mix, s_count);
-                let pb = ws.batter_all.shrunk(task.batter[r] as usize, cls, mix, s_batter);
-                ws.x.codes[fc * n_rows + r] = bin(pc);
-                ws.x.codes[fb * n_rows + r] = bin(pb);
+                let part = if train { task.oof[r] as usize } else { OOF_FOLDS };
+                let ci = (part * gc + task.count[r] as usize) * k;
+                let bi = (part * gb + task.batter[r] as usize) * k;
+                for cls in 0..k {
+                    ws.x.codes[(prior_col0 + cls) * n_rows + r] = ws.count_codes[ci + cls];
+                    ws.x.codes[(prior_col0 + k + cls) * n_rows + r] = ws.batter_codes[bi + cls];
+                }
             }
         }
         let train_labels: Vec<u8> = fold.train.iter().map(|&r| labels[r as usize]).collect();
-        let grown = learner.fit(&ws.x, &fold.train, &train_labels, k);
-        let tree = if settings.split_alpha < 1.0 {
-            let m = crate::model::prune::candidate_splits(&ws.x, &fold.train);
-            crate::model::prune::prune(&grown, settings.split_alpha, m)
+        let grown = match &mut ws.trees[fi] {
+            Some(t) => {
+                t.refresh_features(&ws.x, &ws.prior_features);
+                t.fit(&train_labels, k)
+            }
+            slot @ None => {
+                let mut t = crate::model::fast_tree::FastTreeWorkspace::with_options(settings.tree, AuditTree::options());
+                t.prepare(&ws.x, &fold.train);
+                let tree = t.fit(&train_labels, k);
+                *slot = Some(t);
+                tree
+            }
+        };
+        let (tree, to_pruned) = if settings.split_alpha < 1.0 {
+            let m = ws.situational_candidates[fi] + prior_candidates(&ws.x, &ws.prior_features, &fold.train);
+            crate::model::prune::prune_with_map(&grown, settings.split_alpha, m)
         } else {
-            grown.clone()
+            (grown.clone(), (0..grown.nodes.len()).collect())
         };
         let grown_p = smoothed_node_probs(&grown, mix, settings.leaf_smoothing);
         let node_p = smoothed_node_probs(&tree, mix, settings.leaf_smoothing);
-        for &r in &fold.test {
-            if usage.counts[labels[r as usize] as usize] == 0 {
-                out.unseen += 1;
-                continue;
+        if keep_trees {
+            for &r in &fold.test {
+                if usage.counts[labels[r as usize] as usize] == 0 {
+                    out.unseen += 1;
+                    continue;
+                }
+                let g = grown.leaf_of(&ws.x, r as usize);
+                let leaf = to_pruned[g];
+                out.rows.push(r);
+                out.model.extend_from_slice(&node_p[leaf * k..(leaf + 1) * k]);
+                out.grown.extend_from_slice(&grown_p[g * k..(g + 1) * k]);
+                out.prior.extend_from_slice(mix);
             }
-            let leaf = tree.leaf_of(&ws.x, r as usize);
-            out.rows.push(r);
-            out.model.extend_from_slice(&node_p[leaf * k..(leaf + 1) * k]);
-            let g = grown.leaf_of(&ws.x, r as usize);
-            out.grown.extend_from_slice(&grown_p[g * k..(g + 1) * k]);
-            out.prior.extend_from_slice(mix);
+        } else {
+            // A permutation refit needs only the statistic: sum it directly,
+            // with the logs of each node's probabilities taken once.
+            let lg = |p: &[f64]| p.iter().map(|x| x.log2()).collect::<Vec<f64>>();
+            let (lm, lgr, lp) = (lg(&node_p), lg(&grown_p), lg(mix));
+            let am: Vec<usize> = (0..tree.nodes.len()).map(|i| argmax(&node_p[i * k..(i + 1) * k])).collect();
+            let ag: Vec<usize> = (0..grown.nodes.len()).map(|i| argmax(&grown_p[i * k..(i + 1) * k])).collect();
+            let top = argmax(mix);
+            for &r in &fold.test {
+                let y = labels[r as usize] as usize;
+                if usage.counts[y] == 0 {
+                    out.unseen += 1;
+                    continue;
+                }
+                let g = grown.leaf_of(&ws.x, r as usize);
+                let leaf = to_pruned[g];
+                let t = &mut out.totals;
+                t.n += 1;
+                t.bits += lm[leaf * k + y] - lp[y];
+                t.bits_grown += lgr[g * k + y] - lp[y];
+                let pr = (top == y) as i64;
+                t.acc += (am[leaf] == y) as i64 - pr;
+                t.acc_grown += (ag[g] == y) as i64 - pr;
+            }
         }
         if keep_trees {
             out.trees.push(tree);
@@ -149,6 +233,25 @@ pub fn fit_and_score<L: Learner>(
         }
     }
     out
+}
+
+/// Candidate splits among the prior features (their codes change per fit).
+fn prior_candidates(x: &crate::model::FeatureMatrix, features: &[usize], rows: &[u32]) -> usize {
+    let mut total = 0;
+    for &f in features {
+        let col = x.column(f);
+        let mut seen = [false; 256];
+        let mut distinct = 0usize;
+        for &r in rows {
+            let c = col[r as usize] as usize;
+            if !seen[c] {
+                seen[c] = true;
+                distinct += 1;
+            }
+        }
+        total += distinct.saturating_sub(1);
+    }
+    total
 }
 
 /// Class probabilities of every node, each node's counts pulled toward its
@@ -189,6 +292,14 @@ pub fn smoothed_node_probs(tree: &Tree, mix: &[f64], a: f64) -> Vec<f64> {
 /// the test's validity, and makes its p-values close to uniform under the
 /// null (checked in tests/calibration.rs).
 pub fn statistic(scored: &Scored, labels: &[u8], which: crate::settings::Statistic) -> Stat {
+    if scored.rows.is_empty() && scored.totals.n > 0 {
+        let t = &scored.totals;
+        let n = t.n as f64;
+        return match which {
+            crate::settings::Statistic::Bits => Stat { primary: t.bits / n, secondary: t.bits_grown / n },
+            crate::settings::Statistic::Accuracy => Stat { primary: t.acc as f64 / n, secondary: t.acc_grown as f64 / n },
+        };
+    }
     let n = scored.rows.len();
     if n == 0 {
         return Stat { primary: 0.0, secondary: 0.0 };

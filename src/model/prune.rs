@@ -44,6 +44,13 @@ pub fn split_p_value(left: &Node, right: &Node, candidates: usize) -> f64 {
 /// Collapse every split whose adjusted p-value is above `alpha`, bottom-up,
 /// and renumber the surviving nodes in pre-order.
 pub fn prune(tree: &Tree, alpha: f64, candidates: usize) -> Tree {
+    prune_with_map(tree, alpha, candidates).0
+}
+
+/// [`prune`], also returning for every node of the grown tree the node of
+/// the pruned tree that contains it (so a row's pruned leaf follows from its
+/// grown leaf without walking the tree again).
+pub fn prune_with_map(tree: &Tree, alpha: f64, candidates: usize) -> (Tree, Vec<usize>) {
     let mut nodes = tree.nodes.clone();
     fn visit(nodes: &mut Vec<Node>, i: usize, alpha: f64, m: usize) {
         if let Some(s) = nodes[i].split {
@@ -58,24 +65,43 @@ pub fn prune(tree: &Tree, alpha: f64, candidates: usize) -> Tree {
     if !nodes.is_empty() {
         visit(&mut nodes, 0, alpha, candidates);
     }
-    compact(&nodes, tree.n_classes)
+    let mut map = vec![0usize; tree.nodes.len()];
+    let t = compact(&tree.nodes, &nodes, tree.n_classes, &mut map);
+    (t, map)
 }
 
-/// Keep only nodes reachable from the root, in pre-order.
-fn compact(nodes: &[Node], n_classes: usize) -> Tree {
+/// Keep only nodes reachable from the root, in pre-order; `map` gets, for
+/// every original node, the kept node that contains it.
+fn compact(original: &[Node], nodes: &[Node], n_classes: usize, map: &mut [usize]) -> Tree {
     let mut out: Vec<Node> = Vec::new();
-    fn copy(nodes: &[Node], i: usize, out: &mut Vec<Node>) -> usize {
+    fn mark(original: &[Node], i: usize, to: usize, map: &mut [usize]) {
+        map[i] = to;
+        if let Some(s) = original[i].split {
+            mark(original, s.left, to, map);
+            mark(original, s.right, to, map);
+        }
+    }
+    fn copy(original: &[Node], nodes: &[Node], i: usize, out: &mut Vec<Node>, map: &mut [usize]) -> usize {
         let me = out.len();
         out.push(Node { class_counts: nodes[i].class_counts.clone(), split: None });
-        if let Some(s) = nodes[i].split {
-            let left = copy(nodes, s.left, out);
-            let right = copy(nodes, s.right, out);
-            out[me].split = Some(super::Split { left, right, ..s });
+        map[i] = me;
+        match nodes[i].split {
+            Some(s) => {
+                let left = copy(original, nodes, s.left, out, map);
+                let right = copy(original, nodes, s.right, out, map);
+                out[me].split = Some(super::Split { left, right, ..s });
+            }
+            None => {
+                if let Some(s) = original[i].split {
+                    mark(original, s.left, me, map);
+                    mark(original, s.right, me, map);
+                }
+            }
         }
         me
     }
     if !nodes.is_empty() {
-        copy(nodes, 0, &mut out);
+        copy(original, nodes, 0, &mut out, map);
     }
     Tree { nodes: out, n_classes }
 }
@@ -130,6 +156,23 @@ mod tests {
         };
         assert_eq!(prune(&t, 0.05, 5).nodes.len(), 3);
         assert_eq!(prune(&t, 0.05, 20).nodes.len(), 1);
+    }
+
+    #[test]
+    fn the_node_map_sends_every_grown_node_to_its_pruned_node() {
+        let t = Tree {
+            nodes: vec![
+                Node { class_counts: vec![200, 200], split: Some(Split { feature: 0, threshold: 0, left: 1, right: 4 }) },
+                Node { class_counts: vec![180, 20], split: Some(Split { feature: 1, threshold: 0, left: 2, right: 3 }) },
+                leaf(vec![91, 9]),
+                leaf(vec![89, 11]),
+                leaf(vec![20, 180]),
+            ],
+            n_classes: 2,
+        };
+        let (p, map) = prune_with_map(&t, 0.05, 10);
+        assert_eq!(p.nodes.len(), 3);
+        assert_eq!(map, vec![0, 1, 1, 1, 2]);
     }
 
     #[test]

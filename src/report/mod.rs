@@ -3,6 +3,7 @@
 //! place, so an interrupted run never leaves a half-written report.
 
 pub mod charts;
+pub mod compare;
 pub mod csv;
 pub mod figures;
 pub mod html;

@@ -214,7 +214,7 @@ fn encode_png(rgb: &[u8], w: u32, h: u32) -> Result<Vec<u8>, ChartError> {
     use image024::codecs::png::{CompressionType, FilterType, PngEncoder};
     use image024::{ColorType, ImageEncoder};
     let mut out = Vec::new();
-    PngEncoder::new_with_quality(&mut out, CompressionType::Default, FilterType::Adaptive)
+    PngEncoder::new_with_quality(&mut out, CompressionType::Fast, FilterType::Sub)
         .write_image(rgb, w, h, ColorType::Rgb8)
         .map_err(|e| ChartError::Encode(e.to_string()))?;
     Ok(out)

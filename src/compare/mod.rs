@@ -1,0 +1,689 @@
+//! Compare: change in each pitcher between two periods (`--before A
+//! --after B`, seasons or date ranges), for a club's development staff.
+//!
+//! Per pitcher, with every test of the run in one Benjamini–Hochberg family:
+//!
+//! * mix shift, overall and per count: the pitch mix in each period, a test
+//!   of equal mixes (G-test, or a Monte Carlo permutation of the period
+//!   labels when expected counts are small) and the total variation
+//!   distance as the effect size ([`mix`]);
+//! * new and dropped pitches: a type at or above `[compare]
+//!   new_pitch_share` of his pitches in one period and below
+//!   `absent_share` in the other, with a 2 × 2 test of its share; when
+//!   there is one, also the mix of the pitches he kept;
+//! * predictability: held-out lift and bits gained in each period, each
+//!   forward-chained within its period, the difference with a game
+//!   bootstrap interval and a label-swap permutation test ([`predictability`]);
+//! * tells that appeared, disappeared or held ([`tells_change`]).
+//!
+//! Pitchers below the audit's minimum samples in either period are listed
+//! as insufficient data, with no figures.
+
+pub mod mix;
+pub mod period;
+pub mod predictability;
+pub mod summary;
+pub mod tells_change;
+pub mod wording;
+
+use crate::audit::summary::{Input, Tool};
+use crate::error::{Error, Result};
+use crate::ingest::{self, Ingested, PitchLog, Rejected, SourceInfo};
+use crate::settings::{FdrMethod, Settings, Statistic};
+use crate::significance::{fdr, Interval};
+use crate::situations::{self, levels::COUNTS, Situations};
+use period::{Period, PeriodSpec};
+use predictability::{PeriodFit, Resampled};
+use rand::SeedableRng;
+use rand_chacha::ChaCha8Rng;
+use rayon::prelude::*;
+use sha2::{Digest, Sha256};
+use std::collections::{BTreeMap, BTreeSet};
+use std::path::Path;
+use summary::*;
+use tells_change::TellChange;
+
+/// Label-swap permutations per pitcher when none are asked for.
+pub const DEFAULT_PERMUTATIONS: usize = 199;
+
+/// What to compare.
+#[derive(Debug, Clone)]
+pub struct Request {
+    pub before: PeriodSpec,
+    pub after: PeriodSpec,
+    /// Label-swap permutations per pitcher (predictability change).
+    pub permutations: usize,
+}
+
+/// Everything a comparison produces.
+pub struct Comparison {
+    pub summary: CompareSummary,
+    pub rejected: Vec<Rejected>,
+}
+
+/// The random stream of one use (`purpose`) of one pitcher, number `j`:
+/// keyed by (seed, pitcher name, purpose), so results do not depend on
+/// thread count or on which other pitchers are compared (as in
+/// `audit::permute`).
+pub fn stream(seed: u64, pitcher: &str, purpose: &str, j: u64) -> ChaCha8Rng {
+    let mut rng = ChaCha8Rng::from_seed(key(seed, pitcher, purpose));
+    rng.set_stream(j);
+    rng
+}
+
+fn key(seed: u64, pitcher: &str, purpose: &str) -> [u8; 32] {
+    let mut h = Sha256::new();
+    h.update(b"tellscope compare v1");
+    h.update(seed.to_le_bytes());
+    h.update((pitcher.len() as u64).to_le_bytes());
+    h.update(pitcher.as_bytes());
+    h.update(purpose.as_bytes());
+    h.finalize().into()
+}
+
+/// A u64 seed for routines that take one (the bootstrap).
+fn seed64(seed: u64, pitcher: &str, purpose: &str) -> u64 {
+    let k = key(seed, pitcher, purpose);
+    u64::from_le_bytes(k[..8].try_into().expect("8 bytes"))
+}
+
+/// Compare the log at `path`.
+pub fn run(path: &Path, settings: &Settings, request: &Request, show_progress: bool) -> Result<Comparison> {
+    let Ingested { log, rejected, source } = ingest::load(path, settings)?;
+    let (before, after) = period::resolve(&log, &request.before, &request.after)?;
+    let sit = situations::build(&log);
+    compare_log(&log, &sit, before, after, rejected, source, settings, request.permutations, show_progress)
+}
+
+fn selected_pitchers(log: &PitchLog, settings: &Settings) -> Result<Vec<u32>> {
+    if settings.pitchers.is_empty() {
+        return Ok((0..log.pitchers.len() as u32).collect());
+    }
+    let mut out = Vec::new();
+    for p in &settings.pitchers {
+        match log.pitchers.iter().position(|q| q == p) {
+            Some(i) => out.push(i as u32),
+            None => {
+                return Err(Error::Usage(format!(
+                    "--pitcher \"{p}\" is not in the log; run `tellscope check` to list the pitchers"
+                )))
+            }
+        }
+    }
+    out.sort_unstable();
+    out.dedup();
+    Ok(out)
+}
+
+/// A pitcher ready to compare, or why not.
+enum Prepared {
+    Ready { pitcher: u32, rows: [Vec<u32>; 2], fits: [PeriodFit; 2] },
+    Short { pitcher: u32, rows: [Vec<u32>; 2], why: String },
+}
+
+fn games_of(log: &PitchLog, rows: &[u32]) -> usize {
+    rows.iter().map(|&r| log.game[r as usize]).collect::<BTreeSet<_>>().len()
+}
+
+fn prepare(log: &PitchLog, sit: &Situations, p: u32, rows: [Vec<u32>; 2], labels: [&str; 2], settings: &Settings) -> Prepared {
+    let mut fits = Vec::new();
+    for (rows_k, label) in rows.iter().zip(labels) {
+        if rows_k.is_empty() {
+            return Prepared::Short { pitcher: p, why: format!("He did not pitch in {label}."), rows };
+        }
+        let task = match predictability::build_task(log, sit, p, rows_k, settings.forward_blocks, label) {
+            Ok(t) => t,
+            Err(_) => {
+                return Prepared::Short {
+                    pitcher: p,
+                    why: format!(
+                        "Only {} games in {label}, fewer than the {} blocks of games that scoring a period needs.",
+                        games_of(log, rows_k),
+                        settings.forward_blocks
+                    ),
+                    rows,
+                }
+            }
+        };
+        if task.n_train() < settings.min_train_pitches || task.n_test() < settings.min_test_pitches {
+            return Prepared::Short {
+                pitcher: p,
+                why: format!(
+                    "Only {} pitches in {label} ({} to train on and {} to score, forward-chained); at least {} and {} are needed in each period before any figure is shown.",
+                    rows_k.len(),
+                    task.n_train(),
+                    task.n_test(),
+                    settings.min_train_pitches,
+                    settings.min_test_pitches
+                ),
+                rows,
+            };
+        }
+        fits.push(task);
+    }
+    let b = fits.remove(0);
+    let a = fits.remove(0);
+    let fits = [predictability::fit_period(b, settings), predictability::fit_period(a, settings)];
+    Prepared::Ready { pitcher: p, rows, fits }
+}
+
+/// A period's figures for the report, the interval widened to hold the
+/// estimate (a percentile interval can miss it in a very skewed resample;
+/// the report never shows an estimate outside its own interval).
+fn period_figures(label: &str, fit: &PeriodFit, res: Option<&Resampled>) -> PeriodFigures {
+    let b = fit.figures.bits_gained;
+    let iv = res.map(|r| r.bits.interval).unwrap_or(Interval { low: b, high: b });
+    PeriodFigures {
+        label: label.to_string(),
+        pitches: fit.task.rows.len(),
+        n_train: fit.task.n_train(),
+        n_test: fit.figures.n,
+        prior_accuracy: fit.figures.prior_accuracy,
+        model_accuracy: fit.figures.model_accuracy,
+        lift: fit.figures.lift,
+        bits_gained: b,
+        bits_interval: Interval { low: iv.low.min(b), high: iv.high.max(b) },
+        n_unseen_type: fit.unseen,
+    }
+}
+
+/// Counts per pitch type (indices into `types`) of `rows`, overall and per count.
+fn tallies(log: &PitchLog, rows: &[u32], types: &[u16]) -> (Vec<u64>, Vec<Vec<u64>>) {
+    let k = types.len();
+    let mut all = vec![0u64; k];
+    let mut by = vec![vec![0u64; k]; 12];
+    for &r in rows {
+        let r = r as usize;
+        let t = types.binary_search(&log.pitch_type[r]).expect("his type");
+        all[t] += 1;
+        by[log.balls[r] as usize * 3 + log.strikes[r] as usize][t] += 1;
+    }
+    (all, by)
+}
+
+fn mix_map(names: &[String], types: &[u16], c: &[u64]) -> BTreeMap<String, f64> {
+    let s = mix::shares(c);
+    types.iter().zip(s).filter(|(_, x)| *x > 0.0).map(|(&t, x)| (names[t as usize].clone(), x)).collect()
+}
+
+fn top(names: &[String], types: &[u16], c: &[u64]) -> (Option<String>, Option<f64>) {
+    let n: u64 = c.iter().sum();
+    if n == 0 {
+        return (None, None);
+    }
+    // Most thrown; ties go to the first in label order.
+    let (i, &m) = c.iter().enumerate().fold((0, &0u64), |best, (i, x)| if *x > *best.1 { (i, x) } else { best });
+    (Some(names[types[i] as usize].clone()), Some(m as f64 / n as f64))
+}
+
+#[allow(clippy::too_many_arguments)]
+fn blank(kind: &str, situation: BTreeMap<String, String>, before: f64, after: f64, effect: f64, measure: &str, n: [usize; 2], t: &mix::MixTest) -> Change {
+    Change {
+        kind: kind.into(),
+        situation,
+        pitch_type: None,
+        direction: None,
+        before,
+        after,
+        effect,
+        effect_measure: measure.into(),
+        n_before: n[0],
+        n_after: n[1],
+        interval: None,
+        test: t.test.as_str().into(),
+        statistic: t.statistic,
+        dof: Some(t.dof),
+        permutations: t.permutations,
+        p: t.p,
+        q: 1.0,
+        significant: false,
+        explained_by: None,
+        mix_before: None,
+        mix_after: None,
+        baseline_before: None,
+        baseline_after: None,
+        text: String::new(),
+    }
+}
+
+/// The mix changes of one pitcher (before BH): arsenal, overall, kept, counts.
+fn mix_changes(
+    names: &[String],
+    name: &str,
+    types: &[u16],
+    all: [&[u64]; 2],
+    by: [&[Vec<u64>]; 2],
+    settings: &Settings,
+) -> (Vec<Change>, Vec<CountChange>) {
+    let seed = settings.seed;
+    let mut out = Vec::new();
+    let (sb, sa) = (mix::shares(all[0]), mix::shares(all[1]));
+    let nb: u64 = all[0].iter().sum();
+    let na: u64 = all[1].iter().sum();
+    let mut arsenal: BTreeMap<usize, String> = BTreeMap::new();
+    for i in 0..types.len() {
+        let t = &names[types[i] as usize];
+        if let Some(new) = mix::new_or_dropped(sb[i], sa[i], settings.new_pitch_share, settings.absent_share) {
+            let mut rng = stream(seed, name, &format!("arsenal {t}"), 0);
+            let test = mix::mix_test(&[all[0][i], nb - all[0][i]], &[all[1][i], na - all[1][i]], &mut rng);
+            let kind = if new { "new_pitch" } else { "dropped_pitch" };
+            let mut c = blank(kind, BTreeMap::new(), sb[i], sa[i], sa[i] - sb[i], "share_difference", [nb as usize, na as usize], &test);
+            c.pitch_type = Some(t.clone());
+            out.push(c);
+            arsenal.insert(i, format!("{} {t}", if new { "new pitch" } else { "dropped pitch" }));
+        }
+    }
+    let shift = |label: Option<&str>, b: &[u64], a: &[u64], rng: &mut ChaCha8Rng| -> Change {
+        let test = mix::mix_test(b, a, rng);
+        let i = mix::biggest_mover(b, a);
+        let (xb, xa) = (mix::shares(b), mix::shares(a));
+        let mut situation = BTreeMap::new();
+        if let Some(l) = label {
+            situation.insert("count".to_string(), l.to_string());
+        }
+        let n = [b.iter().sum::<u64>() as usize, a.iter().sum::<u64>() as usize];
+        let mut c = blank("mix_shift", situation, xb[i], xa[i], test.tvd, "total_variation", n, &test);
+        c.pitch_type = Some(names[types[i] as usize].clone());
+        c.explained_by = arsenal.get(&i).cloned();
+        c.mix_before = Some(mix_map(names, types, b));
+        c.mix_after = Some(mix_map(names, types, a));
+        c
+    };
+    out.push(shift(None, all[0], all[1], &mut stream(seed, name, "mix overall", 0)));
+    if !arsenal.is_empty() {
+        let kept: Vec<usize> = (0..types.len()).filter(|i| !arsenal.contains_key(i)).collect();
+        if kept.len() >= 2 {
+            let kb: Vec<u64> = kept.iter().map(|&i| all[0][i]).collect();
+            let ka: Vec<u64> = kept.iter().map(|&i| all[1][i]).collect();
+            let kt: Vec<u16> = kept.iter().map(|&i| types[i]).collect();
+            let test = mix::mix_test(&kb, &ka, &mut stream(seed, name, "mix kept", 0));
+            let i = mix::biggest_mover(&kb, &ka);
+            let (xb, xa) = (mix::shares(&kb), mix::shares(&ka));
+            let n = [kb.iter().sum::<u64>() as usize, ka.iter().sum::<u64>() as usize];
+            let mut c = blank("kept_mix_shift", BTreeMap::new(), xb[i], xa[i], test.tvd, "total_variation", n, &test);
+            c.pitch_type = Some(names[kt[i] as usize].clone());
+            c.mix_before = Some(mix_map(names, &kt, &kb));
+            c.mix_after = Some(mix_map(names, &kt, &ka));
+            out.push(c);
+        }
+    }
+    let mut counts = Vec::new();
+    for (ci, label) in COUNTS.iter().enumerate() {
+        let (b, a) = (&by[0][ci], &by[1][ci]);
+        let n = [b.iter().sum::<u64>() as usize, a.iter().sum::<u64>() as usize];
+        let tested = n[0] >= settings.tell_min_n && n[1] >= settings.tell_min_n;
+        if tested {
+            out.push(shift(Some(label), b, a, &mut stream(seed, name, &format!("mix count {label}"), 0)));
+        }
+        let (tpb, tsb) = top(names, types, b);
+        let (tpa, tsa) = top(names, types, a);
+        counts.push(CountChange {
+            count: label.to_string(),
+            n_before: n[0],
+            n_after: n[1],
+            top_pitch_before: tpb,
+            top_share_before: tsb,
+            top_pitch_after: tpa,
+            top_share_after: tsa,
+            mix_before: mix_map(names, types, b),
+            mix_after: mix_map(names, types, a),
+            tested,
+        });
+    }
+    (out, counts)
+}
+
+fn tell_change(c: &TellChange) -> Change {
+    let situation: BTreeMap<String, String> = c.situation.iter().map(|(f, l)| (f.name().to_string(), l.clone())).collect();
+    let mut x = blank(
+        c.status.as_str(),
+        situation,
+        c.before.share,
+        c.after.share,
+        c.after.share - c.before.share,
+        "share_difference",
+        [c.before.n, c.after.n],
+        &c.test,
+    );
+    x.pitch_type = Some(c.pitch_type.clone());
+    x.direction = Some(c.direction.as_str().to_string());
+    x.baseline_before = Some(c.before.baseline_share);
+    x.baseline_after = Some(c.after.baseline_share);
+    x
+}
+
+/// Compare an already loaded log.
+#[allow(clippy::too_many_arguments)]
+pub fn compare_log(
+    log: &PitchLog,
+    sit: &Situations,
+    before: Period,
+    after: Period,
+    rejected: Vec<Rejected>,
+    source: SourceInfo,
+    settings: &Settings,
+    permutations: usize,
+    show_progress: bool,
+) -> Result<Comparison> {
+    let names = &log.pitch_types;
+    let labels = [before.label.as_str(), after.label.as_str()];
+    let chosen = selected_pitchers(log, settings)?;
+    let mut rows_of: Vec<[Vec<u32>; 2]> = vec![[Vec::new(), Vec::new()]; log.pitchers.len()];
+    for i in 0..log.len() {
+        let p = log.pitcher[i] as usize;
+        if before.rows[i] {
+            rows_of[p][0].push(i as u32);
+        } else if after.rows[i] {
+            rows_of[p][1].push(i as u32);
+        }
+    }
+    // Pitchers who pitched in neither period are left out unless asked for.
+    let chosen: Vec<u32> = chosen
+        .into_iter()
+        .filter(|&p| !settings.pitchers.is_empty() || !rows_of[p as usize][0].is_empty() || !rows_of[p as usize][1].is_empty())
+        .collect();
+    let prepared: Vec<Prepared> =
+        chosen.par_iter().map(|&p| prepare(log, sit, p, rows_of[p as usize].clone(), labels, settings)).collect();
+    let ready: Vec<(u32, &[Vec<u32>; 2], &[PeriodFit; 2])> = prepared
+        .iter()
+        .filter_map(|x| match x {
+            Prepared::Ready { pitcher, rows, fits } => Some((*pitcher, rows, fits)),
+            Prepared::Short { .. } => None,
+        })
+        .collect();
+
+    // Bootstraps of each period's held-out games.
+    let resampled: Vec<[Option<Resampled>; 2]> = ready
+        .par_iter()
+        .map(|(p, _, fits)| {
+            let name = &log.pitchers[*p as usize];
+            [0, 1].map(|k| predictability::resample_period(&fits[k].games, settings.bootstrap, seed64(settings.seed, name, &format!("bootstrap {k}"))))
+        })
+        .collect();
+
+    // Label-swap permutation tests.
+    let bar = crate::progress::bar((ready.len() * permutations) as u64, "label swaps", show_progress);
+    let tick = |n: u64| bar.inc(n);
+    let swaps: Vec<predictability::SwapResult> = ready
+        .par_iter()
+        .map(|(p, rows, fits)| {
+            let name = &log.pitchers[*p as usize];
+            let observed = predictability::abs_difference(fits[0].statistic, fits[1].statistic);
+            predictability::label_swap_test(log, sit, *p, name, &rows[0], &rows[1], observed, settings, permutations, &tick)
+        })
+        .collect();
+    bar.finish_and_clear();
+
+    // Per-season figures, when the log has more than two seasons.
+    let seasons = log.seasons();
+    let per_season: Vec<Vec<PeriodFigures>> = if seasons.len() > 2 {
+        ready
+            .par_iter()
+            .map(|(p, _, _)| {
+                let name = &log.pitchers[*p as usize];
+                let mut out = Vec::new();
+                for &s in &seasons {
+                    let rows: Vec<u32> = (0..log.len() as u32).filter(|&r| log.pitcher[r as usize] == *p && log.season[r as usize] == s).collect();
+                    let label = s.to_string();
+                    let Ok(task) = predictability::build_task(log, sit, *p, &rows, settings.forward_blocks, &label) else { continue };
+                    if task.n_train() < settings.min_train_pitches || task.n_test() < settings.min_test_pitches {
+                        continue;
+                    }
+                    let fit = predictability::fit_period(task, settings);
+                    let res = predictability::resample_period(&fit.games, settings.bootstrap, seed64(settings.seed, name, &format!("bootstrap season {s}")));
+                    out.push(period_figures(&label, &fit, res.as_ref()));
+                }
+                out
+            })
+            .collect()
+    } else {
+        vec![Vec::new(); ready.len()]
+    };
+
+    // Tells of each period.
+    let tasks_b: Vec<crate::evaluate::task::PitcherTask> = ready.iter().map(|r| r.2[0].task.clone()).collect();
+    let tasks_a: Vec<crate::evaluate::task::PitcherTask> = ready.iter().map(|r| r.2[1].task.clone()).collect();
+    let tells_b = tells_change::period_tells(log, sit, &before.rows, &tasks_b, settings);
+    let tells_a = tells_change::period_tells(log, sit, &after.rows, &tasks_a, settings);
+
+    // Every change of every pitcher, then one BH family.
+    let mut pitchers: Vec<PitcherChanges> = Vec::new();
+    let mut ready_i = 0usize;
+    for x in &prepared {
+        match x {
+            Prepared::Short { pitcher, rows, why } => {
+                let p = *pitcher as usize;
+                let any = rows[0].first().or(rows[1].first());
+                pitchers.push(PitcherChanges {
+                    pitcher: log.pitchers[p].clone(),
+                    throws: any.map(|&r| log.throws[r as usize].as_str().to_string()).unwrap_or_default(),
+                    status: "insufficient data".into(),
+                    n_before: rows[0].len(),
+                    n_after: rows[1].len(),
+                    games_before: games_of(log, &rows[0]),
+                    games_after: games_of(log, &rows[1]),
+                    mix_before: None,
+                    mix_after: None,
+                    predictability: None,
+                    seasons: Vec::new(),
+                    counts: Vec::new(),
+                    changes: Vec::new(),
+                    significant_changes: 0,
+                    summary_lines: Vec::new(),
+                    cautions: vec![why.clone()],
+                });
+            }
+            Prepared::Ready { pitcher, rows, fits } => {
+                let i = ready_i;
+                ready_i += 1;
+                let p = *pitcher as usize;
+                let name = log.pitchers[p].clone();
+                let mut types: Vec<u16> = rows[0].iter().chain(&rows[1]).map(|&r| log.pitch_type[r as usize]).collect();
+                types.sort_unstable();
+                types.dedup();
+                let (all_b, by_b) = tallies(log, &rows[0], &types);
+                let (all_a, by_a) = tallies(log, &rows[1], &types);
+                let (mut changes, counts) = mix_changes(names, &name, &types, [&all_b, &all_a], [&by_b, &by_a], settings);
+
+                let res = &resampled[i];
+                let fb = period_figures(labels[0], &fits[0], res[0].as_ref());
+                let fa = period_figures(labels[1], &fits[1], res[1].as_ref());
+                let bits_diff = fa.bits_gained - fb.bits_gained;
+                let (bits_iv, lift_iv) = match (&res[0], &res[1]) {
+                    (Some(b), Some(a)) => (
+                        predictability::difference_interval(b, a, |d| d.0),
+                        predictability::difference_interval(b, a, |d| d.1),
+                    ),
+                    _ => (None, None),
+                };
+                let bits_iv = bits_iv.unwrap_or(Interval { low: bits_diff, high: bits_diff });
+                let bits_iv = Interval { low: bits_iv.low.min(bits_diff), high: bits_iv.high.max(bits_diff) };
+                let swap = &swaps[i];
+                let pc = Change {
+                    kind: "predictability".into(),
+                    situation: BTreeMap::new(),
+                    pitch_type: None,
+                    direction: None,
+                    before: fb.bits_gained,
+                    after: fa.bits_gained,
+                    effect: bits_diff,
+                    effect_measure: "bits_difference".into(),
+                    n_before: fb.n_test,
+                    n_after: fa.n_test,
+                    interval: Some(bits_iv),
+                    test: mix::TestKind::LabelSwapPermutation.as_str().into(),
+                    statistic: fits[1].statistic.primary - fits[0].statistic.primary,
+                    dof: None,
+                    permutations: Some(swap.permutations),
+                    p: swap.p,
+                    q: 1.0,
+                    significant: false,
+                    explained_by: None,
+                    mix_before: None,
+                    mix_after: None,
+                    baseline_before: None,
+                    baseline_after: None,
+                    text: String::new(),
+                };
+                changes.push(pc);
+                for t in tells_change::changes(log, sit, &name, &rows[0], &rows[1], &tells_b, &tells_a, settings.seed) {
+                    changes.push(tell_change(&t));
+                }
+                let mut cautions = Vec::new();
+                for (f, label) in [(&fb, labels[0]), (&fa, labels[1])] {
+                    if f.n_test < 300 {
+                        cautions.push(format!(
+                            "Only {} held-out pitches in {label}: his predictability there rests on few pitches and can swing by chance.",
+                            f.n_test
+                        ));
+                    }
+                    if f.n_unseen_type > 0 {
+                        cautions.push(format!(
+                            "In {label}, {} held-out pitches were of a type he had not yet thrown earlier in the period; neither guess could know it, so they are left out of his predictability there.",
+                            f.n_unseen_type
+                        ));
+                    }
+                }
+                pitchers.push(PitcherChanges {
+                    pitcher: name,
+                    throws: log.throws[rows[0][0] as usize].as_str().to_string(),
+                    status: "ok".into(),
+                    n_before: rows[0].len(),
+                    n_after: rows[1].len(),
+                    games_before: games_of(log, &rows[0]),
+                    games_after: games_of(log, &rows[1]),
+                    mix_before: Some(mix_map(names, &types, &all_b)),
+                    mix_after: Some(mix_map(names, &types, &all_a)),
+                    predictability: Some(Predictability {
+                        before: fb,
+                        after: fa,
+                        bits_difference: bits_diff,
+                        bits_difference_interval: bits_iv,
+                        lift_difference: fits[1].figures.lift - fits[0].figures.lift,
+                        lift_difference_interval: lift_iv,
+                        p: swap.p,
+                        q: 1.0,
+                        permutations: swap.permutations,
+                        stopped_early: swap.stopped_early,
+                    }),
+                    seasons: per_season[i].clone(),
+                    counts,
+                    changes,
+                    significant_changes: 0,
+                    summary_lines: Vec::new(),
+                    cautions,
+                });
+            }
+        }
+    }
+    let all_p: Vec<f64> = pitchers.iter().flat_map(|p| p.changes.iter().map(|c| c.p.clamp(0.0, 1.0))).collect();
+    let all_q = fdr::bh_q_values(&all_p);
+    let mut qi = all_q.into_iter();
+    for p in pitchers.iter_mut() {
+        for c in p.changes.iter_mut() {
+            c.q = qi.next().expect("one q per test");
+            c.significant = c.q <= settings.fdr;
+        }
+        for c in p.changes.iter_mut() {
+            c.text = wording::change_text(c, labels[0], labels[1]);
+        }
+        if let Some(pr) = p.predictability.as_mut() {
+            if let Some(c) = p.changes.iter().find(|c| c.kind == "predictability") {
+                pr.q = c.q;
+            }
+        }
+        p.significant_changes = p.changes.iter().filter(|c| c.significant).count();
+        if p.is_ok() {
+            p.summary_lines = wording::summary_lines(p, labels[0], labels[1], settings.fdr);
+        }
+    }
+    let tests = all_p.len();
+    let significant = pitchers.iter().map(|p| p.significant_changes).sum();
+
+    let mut notes = Vec::new();
+    for (f, why) in &sit.dropped {
+        notes.push(format!("The {f} factor is left out of the tells: {why}."));
+    }
+    for n in &sit.notes {
+        notes.push(format!("Note: {n}."));
+    }
+    if source.rows_rejected > 0 {
+        notes.push(format!(
+            "{} of {} input rows broke the data contract and were left out; they are listed with reasons in rejected.csv.",
+            source.rows_rejected, source.rows_read
+        ));
+    }
+    if before.first_date > after.first_date {
+        notes.push(format!(
+            "--before {} is later than --after {}: every \"rose\" and \"fell\" reads from the first to the second as given.",
+            before.label, after.label
+        ));
+    }
+    // The BH cut-off of this run: the largest p-value that passed (or, with
+    // none passing, the bar the smallest would have had to clear).
+    let cut = all_p
+        .iter()
+        .zip(pitchers.iter().flat_map(|p| p.changes.iter().map(|c| c.significant)))
+        .filter(|(_, s)| *s)
+        .map(|(p, _)| *p)
+        .fold(f64::NAN, f64::max);
+    let cut = if cut.is_nan() { settings.fdr / tests.max(1) as f64 } else { cut };
+    let minimum_p = 1.0 / (permutations as f64 + 1.0);
+    if minimum_p > cut && pitchers.iter().any(|p| p.is_ok()) {
+        notes.push(format!(
+            "With {permutations} label swaps per pitcher the smallest p-value a predictability change can reach is {minimum_p:.4}, above this run's cut-off for significance (p ≤ {cut:.4} among {tests} tests): no predictability change could pass. Run with more --permutations (e.g. {}) to test it.",
+            ((1.0 / cut).ceil() as usize * 2).max(999)
+        ));
+    }
+    let summary = CompareSummary {
+        tool: Tool { name: "tellscope".into(), version: env!("CARGO_PKG_VERSION").into() },
+        input: Input {
+            path: source.path.display().to_string(),
+            rows_read: source.rows_read,
+            rows_rejected: source.rows_rejected,
+            rows_kept: log.len(),
+            sha256: source.sha256.clone(),
+            optional_present: source.optional_present.clone(),
+            optional_missing: source.optional_missing.clone(),
+            seasons: log.seasons(),
+        },
+        settings: CompareSettingsOut {
+            seed: settings.seed,
+            permutations,
+            mix_monte_carlo: mix::MONTE_CARLO_PERMUTATIONS,
+            bootstrap: settings.bootstrap,
+            fdr: settings.fdr,
+            statistic: match settings.statistic {
+                Statistic::Bits => "bits_gained".into(),
+                Statistic::Accuracy => "accuracy_gained".into(),
+            },
+            stop_after_exceedances: settings.stop_after_exceedances,
+            new_pitch_share: settings.new_pitch_share,
+            absent_share: settings.absent_share,
+            min_count_pitches: settings.tell_min_n,
+            min_train_pitches: settings.min_train_pitches,
+            min_test_pitches: settings.min_test_pitches,
+            forward_blocks: settings.forward_blocks,
+            tell_min_effect: settings.tell_min_effect,
+            tell_min_n: settings.tell_min_n,
+            tell_fdr_method: match settings.tell_fdr_method {
+                FdrMethod::Hierarchical => "hierarchical".into(),
+                FdrMethod::Pooled => "pooled".into(),
+            },
+        },
+        periods: Periods { before, after },
+        evaluation: CompareEvaluation {
+            scheme: "forward-chaining".into(),
+            blocks: settings.forward_blocks,
+            description: format!(
+                "Each period is scored on its own: a pitcher's games in the period, in date order, are split into {} blocks, and each block after the first is guessed by a model fitted on the blocks before it.",
+                settings.forward_blocks
+            ),
+        },
+        notes,
+        tests,
+        significant,
+        pitchers,
+    };
+    Ok(Comparison { summary, rejected })
+}

@@ -1,0 +1,212 @@
+//! The comparison's one results value. `summary.json` is this value
+//! serialised; the HTML report, `changes.csv`, the charts and the terminal
+//! table are all read from it, so they cannot disagree.
+
+use super::period::Period;
+use crate::audit::summary::{Input, Tool};
+use crate::significance::Interval;
+use serde::Serialize;
+use std::collections::BTreeMap;
+
+#[derive(Debug, Clone, Serialize)]
+pub struct CompareSummary {
+    pub tool: Tool,
+    pub input: Input,
+    pub settings: CompareSettingsOut,
+    pub periods: Periods,
+    pub evaluation: CompareEvaluation,
+    /// Plain-words cautions about the whole run.
+    pub notes: Vec<String>,
+    /// Tests in the run's one Benjamini–Hochberg family, and how many of
+    /// them are at or below the false discovery rate.
+    pub tests: usize,
+    pub significant: usize,
+    pub pitchers: Vec<PitcherChanges>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct Periods {
+    pub before: Period,
+    pub after: Period,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct CompareSettingsOut {
+    pub seed: u64,
+    /// Label-swap permutations per pitcher for the predictability change.
+    pub permutations: usize,
+    /// Shuffles of the Monte Carlo mix test (used when expected counts are small).
+    pub mix_monte_carlo: usize,
+    pub bootstrap: usize,
+    pub fdr: f64,
+    pub statistic: String,
+    pub stop_after_exceedances: usize,
+    pub new_pitch_share: f64,
+    pub absent_share: f64,
+    /// A count is tested when it has at least this many pitches in each period.
+    pub min_count_pitches: usize,
+    pub min_train_pitches: usize,
+    pub min_test_pitches: usize,
+    pub forward_blocks: usize,
+    pub tell_min_effect: f64,
+    pub tell_min_n: usize,
+    pub tell_fdr_method: String,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct CompareEvaluation {
+    pub scheme: String,
+    pub blocks: usize,
+    /// How each period is scored, in words.
+    pub description: String,
+}
+
+/// One tested change, significant or not.
+#[derive(Debug, Clone, Serialize)]
+pub struct Change {
+    /// `new_pitch`, `dropped_pitch`, `mix_shift`, `kept_mix_shift`,
+    /// `predictability`, `tell_appeared`, `tell_disappeared`, `tell_held`.
+    #[serde(rename = "type")]
+    pub kind: String,
+    /// `{}` for the whole period, `{"count": "0-0"}` for a count, a tell's
+    /// situation for a tell.
+    pub situation: BTreeMap<String, String>,
+    /// The pitch concerned: the new or dropped pitch, the type whose share
+    /// moved most in a mix shift, the tell's pitch.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub pitch_type: Option<String>,
+    /// A tell's direction, `more` or `less`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub direction: Option<String>,
+    /// The share of `pitch_type` (in the situation) in each period; for
+    /// `predictability`, held-out bits gained per pitch.
+    pub before: f64,
+    pub after: f64,
+    /// Total variation distance for a mix shift; `after − before` otherwise.
+    pub effect: f64,
+    /// `total_variation`, `share_difference` or `bits_difference`.
+    pub effect_measure: String,
+    pub n_before: usize,
+    pub n_after: usize,
+    /// 95% bootstrap interval of the effect (predictability).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub interval: Option<Interval>,
+    /// `g_test`, `monte_carlo_g` or `label_swap_permutation`.
+    pub test: String,
+    pub statistic: f64,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub dof: Option<usize>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub permutations: Option<usize>,
+    pub p: f64,
+    /// Benjamini–Hochberg q-value over every test of the run.
+    pub q: f64,
+    /// q at or below the run's false discovery rate.
+    pub significant: bool,
+    /// A mix shift whose biggest mover is a new or dropped pitch is
+    /// explained by it: `new pitch cutter`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub explained_by: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub mix_before: Option<BTreeMap<String, f64>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub mix_after: Option<BTreeMap<String, f64>>,
+    /// His share of the tell's pitch outside the situation, per period.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub baseline_before: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub baseline_after: Option<f64>,
+    /// The change in one sentence.
+    pub text: String,
+}
+
+/// One count in both periods.
+#[derive(Debug, Clone, Serialize)]
+pub struct CountChange {
+    pub count: String,
+    pub n_before: usize,
+    pub n_after: usize,
+    /// His most thrown pitch in the count in each period, and its share.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub top_pitch_before: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub top_share_before: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub top_pitch_after: Option<String>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub top_share_after: Option<f64>,
+    pub mix_before: BTreeMap<String, f64>,
+    pub mix_after: BTreeMap<String, f64>,
+    /// Enough pitches in both periods for the mix test (its entry in `changes`).
+    pub tested: bool,
+}
+
+/// Held-out figures of one period (or season), forward-chained within it.
+#[derive(Debug, Clone, Serialize)]
+pub struct PeriodFigures {
+    pub label: String,
+    /// Pitches in the period, those that trained the last fold, and those scored.
+    pub pitches: usize,
+    pub n_train: usize,
+    pub n_test: usize,
+    pub prior_accuracy: f64,
+    pub model_accuracy: f64,
+    pub lift: f64,
+    pub bits_gained: f64,
+    /// 95% bootstrap interval of bits gained (games resampled).
+    pub bits_interval: Interval,
+    /// Held-out pitches of a type not yet seen in their fold's training,
+    /// left out of the figures.
+    pub n_unseen_type: usize,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct Predictability {
+    pub before: PeriodFigures,
+    pub after: PeriodFigures,
+    pub bits_difference: f64,
+    pub bits_difference_interval: Interval,
+    pub lift_difference: f64,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub lift_difference_interval: Option<Interval>,
+    pub p: f64,
+    pub q: f64,
+    pub permutations: usize,
+    pub stopped_early: bool,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct PitcherChanges {
+    pub pitcher: String,
+    pub throws: String,
+    /// `ok` or `insufficient data`.
+    pub status: String,
+    pub n_before: usize,
+    pub n_after: usize,
+    pub games_before: usize,
+    pub games_after: usize,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub mix_before: Option<BTreeMap<String, f64>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub mix_after: Option<BTreeMap<String, f64>>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub predictability: Option<Predictability>,
+    /// Held-out figures per season, when the log has more than two seasons.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub seasons: Vec<PeriodFigures>,
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub counts: Vec<CountChange>,
+    /// Every tested change, in report order.
+    pub changes: Vec<Change>,
+    pub significant_changes: usize,
+    /// The plain-words summary: one line per significant change (those
+    /// explained by a new or dropped pitch folded into its line).
+    pub summary_lines: Vec<String>,
+    pub cautions: Vec<String>,
+}
+
+impl PitcherChanges {
+    pub fn is_ok(&self) -> bool {
+        self.status == "ok"
+    }
+}
