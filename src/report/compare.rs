@@ -1,1 +1,524 @@
-//! placeholder
+//! The files of a `compare` report, every one rendered from the
+//! comparison's one results value: `index.html` (minijinja, HTML
+//! autoescaping on; only our own SVG charts are inserted unescaped),
+//! `summary.json`, `changes.csv`, `rejected.csv` and the charts under
+//! `charts/` as SVG and PNG.
+
+use super::charts::{self, Chart, ChartError};
+use super::csv::{rejected_csv, Table};
+use super::{unique_stems, ReportFile};
+use crate::audit::wording::q_text;
+use crate::compare::summary::{Change, CompareSummary, PitcherChanges};
+use crate::compare::wording::{bits_text, share_text};
+use crate::compare::Comparison;
+use crate::error::{Error, Result};
+use serde::Serialize;
+use std::collections::BTreeMap;
+
+const TEMPLATE: &str = include_str!("templates/compare.html");
+
+fn chart_err(e: ChartError) -> Error {
+    Error::Internal(format!("drawing a chart: {e:?}"))
+}
+
+/// `summary.json`: the results value, serialised.
+pub fn summary_json(s: &CompareSummary) -> Result<String> {
+    let mut out = serde_json::to_string_pretty(s).map_err(|e| Error::Internal(format!("summary.json: {e}")))?;
+    out.push('\n');
+    Ok(out)
+}
+
+fn situation_text(c: &Change) -> String {
+    if c.situation.is_empty() {
+        if c.kind == "kept_mix_shift" {
+            "pitches thrown in both periods".into()
+        } else {
+            "all pitches".into()
+        }
+    } else {
+        c.situation.iter().map(|(f, l)| format!("{f} {l}")).collect::<Vec<_>>().join(", ")
+    }
+}
+
+/// `changes.csv`: one row per test of the run, significant or not.
+pub fn changes_csv(s: &CompareSummary) -> Result<Vec<u8>> {
+    let rows: Vec<(&PitcherChanges, &Change)> = s.pitchers.iter().flat_map(|p| p.changes.iter().map(move |c| (p, c))).collect();
+    Table::default()
+        .str("pitcher", rows.iter().map(|(p, _)| p.pitcher.clone()).collect())
+        .str("type", rows.iter().map(|(_, c)| c.kind.clone()).collect())
+        .str("situation", rows.iter().map(|(_, c)| situation_text(c)).collect())
+        .opt_str("pitch_type", rows.iter().map(|(_, c)| c.pitch_type.clone()).collect())
+        .opt_str("direction", rows.iter().map(|(_, c)| c.direction.clone()).collect())
+        .f64("before", rows.iter().map(|(_, c)| c.before).collect())
+        .f64("after", rows.iter().map(|(_, c)| c.after).collect())
+        .f64("effect", rows.iter().map(|(_, c)| c.effect).collect())
+        .str("effect_measure", rows.iter().map(|(_, c)| c.effect_measure.clone()).collect())
+        .opt_f64("effect_low_95", rows.iter().map(|(_, c)| c.interval.map(|i| i.low)).collect())
+        .opt_f64("effect_high_95", rows.iter().map(|(_, c)| c.interval.map(|i| i.high)).collect())
+        .u64("n_before", rows.iter().map(|(_, c)| c.n_before as u64).collect())
+        .u64("n_after", rows.iter().map(|(_, c)| c.n_after as u64).collect())
+        .str("test", rows.iter().map(|(_, c)| c.test.clone()).collect())
+        .f64("statistic", rows.iter().map(|(_, c)| c.statistic).collect())
+        .f64("p", rows.iter().map(|(_, c)| c.p).collect())
+        .f64("q", rows.iter().map(|(_, c)| c.q).collect())
+        .bool("significant", rows.iter().map(|(_, c)| c.significant).collect())
+        .opt_str("explained_by", rows.iter().map(|(_, c)| c.explained_by.clone()).collect())
+        .str("text", rows.iter().map(|(_, c)| c.text.clone()).collect())
+        .to_csv(rows.len())
+}
+
+/// The charts of one pitcher, named by his unique stem.
+fn pitcher_charts(s: &CompareSummary, p: &PitcherChanges, stem: &str) -> Result<Vec<Chart>> {
+    let (bl, al) = (s.periods.before.label.clone(), s.periods.after.label.clone());
+    let mut out = Vec::new();
+    let top = charts::compare_top_share(&charts::CompareTopShareInput {
+        pitcher: p.pitcher.clone(),
+        before_label: bl.clone(),
+        after_label: al.clone(),
+        pairs: p
+            .counts
+            .iter()
+            .filter(|c| c.n_before + c.n_after > 0)
+            .map(|c| charts::TopSharePair {
+                count: c.count.clone(),
+                before: c.top_share_before,
+                after: c.top_share_after,
+                n_before: c.n_before as u64,
+                n_after: c.n_after as u64,
+            })
+            .collect(),
+        min_n: s.settings.min_count_pitches as u64,
+    })
+    .map_err(chart_err)?;
+    out.push(Chart { name: format!("compare-top-share-{stem}"), ..top });
+    let as_vec = |m: &Option<BTreeMap<String, f64>>| m.iter().flatten().map(|(k, v)| (k.clone(), *v)).collect::<Vec<_>>();
+    let mix = charts::compare_mix_shift(&charts::MixShiftInput {
+        pitcher: p.pitcher.clone(),
+        before_label: bl.clone(),
+        after_label: al.clone(),
+        n_before: p.n_before as u64,
+        n_after: p.n_after as u64,
+        before: as_vec(&p.mix_before),
+        after: as_vec(&p.mix_after),
+    })
+    .map_err(chart_err)?;
+    out.push(Chart { name: format!("compare-mix-shift-{stem}"), ..mix });
+    if let Some(pr) = &p.predictability {
+        let period = |f: &crate::compare::summary::PeriodFigures| charts::PeriodPredictability {
+            label: f.label.clone(),
+            n: f.n_test as u64,
+            bits_gained: f.bits_gained,
+            lower: f.bits_interval.low,
+            upper: f.bits_interval.high,
+        };
+        let c = charts::compare_predictability(&charts::ComparePredictabilityInput {
+            pitcher: p.pitcher.clone(),
+            periods: vec![period(&pr.before), period(&pr.after)],
+            interval_label: "95% bootstrap interval (games resampled)".into(),
+        })
+        .map_err(chart_err)?;
+        out.push(Chart { name: format!("compare-predictability-{stem}"), ..c });
+    }
+    if p.seasons.len() > 2 {
+        let c = charts::compare_predictability(&charts::ComparePredictabilityInput {
+            pitcher: p.pitcher.clone(),
+            periods: p
+                .seasons
+                .iter()
+                .map(|f| charts::PeriodPredictability {
+                    label: f.label.clone(),
+                    n: f.n_test as u64,
+                    bits_gained: f.bits_gained,
+                    lower: f.bits_interval.low,
+                    upper: f.bits_interval.high,
+                })
+                .collect(),
+            interval_label: "95% bootstrap interval (games resampled), each season scored on its own".into(),
+        })
+        .map_err(chart_err)?;
+        out.push(Chart { name: format!("compare-predictability-by-season-{stem}"), ..c });
+    }
+    Ok(out)
+}
+
+#[derive(Serialize)]
+struct MixRow {
+    pitch: String,
+    before: String,
+    after: String,
+    change: String,
+}
+
+#[derive(Serialize)]
+struct CountRow {
+    count: String,
+    n_before: usize,
+    n_after: usize,
+    top_before: String,
+    top_after: String,
+    mover: String,
+    shift: String,
+    test: String,
+    q: String,
+    significant: bool,
+    explained: String,
+}
+
+#[derive(Serialize)]
+struct PeriodRow {
+    label: String,
+    pitches: usize,
+    n_test: usize,
+    prior: String,
+    model: String,
+    lift: String,
+    bits: String,
+    interval: String,
+}
+
+#[derive(Serialize)]
+struct TellRow {
+    status: String,
+    situation: String,
+    pitch: String,
+    before: String,
+    after: String,
+    q: String,
+    significant: bool,
+}
+
+#[derive(Serialize)]
+struct TestRow {
+    kind: String,
+    situation: String,
+    pitch: String,
+    before: String,
+    after: String,
+    effect: String,
+    test: String,
+    p: String,
+    q: String,
+    significant: bool,
+}
+
+#[derive(Serialize)]
+struct PitcherView {
+    pitcher: String,
+    anchor: String,
+    throws: String,
+    n_before: usize,
+    n_after: usize,
+    games_before: usize,
+    games_after: usize,
+    lines: Vec<String>,
+    cautions: Vec<String>,
+    charts: Vec<String>,
+    mix: Vec<MixRow>,
+    mix_q: String,
+    mix_shift: String,
+    counts: Vec<CountRow>,
+    periods: Vec<PeriodRow>,
+    seasons: Vec<PeriodRow>,
+    difference: String,
+    tells: Vec<TellRow>,
+    tests: Vec<TestRow>,
+    significant: usize,
+}
+
+#[derive(Serialize)]
+struct StaffRow {
+    pitcher: String,
+    anchor: String,
+    throws: String,
+    n_before: usize,
+    n_after: usize,
+    mix_shift: String,
+    mix_shift_v: f64,
+    mix_q: String,
+    mix_q_v: f64,
+    bits_before: String,
+    bits_before_v: f64,
+    bits_after: String,
+    bits_after_v: f64,
+    pred_q: String,
+    pred_q_v: f64,
+    significant: usize,
+    headline: String,
+}
+
+#[derive(Serialize)]
+struct Insufficient {
+    pitcher: String,
+    n_before: usize,
+    n_after: usize,
+    why: String,
+}
+
+fn p_text(p: f64) -> String {
+    if p < 0.001 {
+        "< 0.001".into()
+    } else {
+        format!("{p:.3}")
+    }
+}
+
+fn kind_text(k: &str) -> &'static str {
+    match k {
+        "new_pitch" => "new pitch",
+        "dropped_pitch" => "dropped pitch",
+        "mix_shift" => "mix shift",
+        "kept_mix_shift" => "mix of kept pitches",
+        "predictability" => "predictability",
+        "tell_appeared" => "tell appeared",
+        "tell_disappeared" => "tell gone",
+        _ => "tell held",
+    }
+}
+
+fn test_text(t: &str) -> &'static str {
+    match t {
+        "g_test" => "G-test",
+        "monte_carlo_g" => "Monte Carlo",
+        _ => "label swap",
+    }
+}
+
+fn shares_or_bits(c: &Change, x: f64) -> String {
+    if c.kind == "predictability" {
+        bits_text(x)
+    } else {
+        share_text(x)
+    }
+}
+
+fn effect_text(c: &Change) -> String {
+    match c.effect_measure.as_str() {
+        "total_variation" => format!("shift {:.0} / 100", 100.0 * c.effect),
+        "bits_difference" => bits_text(c.effect),
+        _ => format!("{:+.0} points", 100.0 * c.effect),
+    }
+}
+
+fn pitcher_view(s: &CompareSummary, p: &PitcherChanges, anchor: &str, svgs: Vec<String>) -> PitcherView {
+    let (bl, al) = (&s.periods.before.label, &s.periods.after.label);
+    let mb = p.mix_before.clone().unwrap_or_default();
+    let ma = p.mix_after.clone().unwrap_or_default();
+    let mut types: Vec<&String> = mb.keys().chain(ma.keys()).collect();
+    types.sort();
+    types.dedup();
+    let mix = types
+        .iter()
+        .map(|t| {
+            let (b, a) = (mb.get(*t).copied().unwrap_or(0.0), ma.get(*t).copied().unwrap_or(0.0));
+            MixRow { pitch: t.to_string(), before: share_text(b), after: share_text(a), change: format!("{:+.0} points", 100.0 * (a - b)) }
+        })
+        .collect();
+    let overall = p.changes.iter().find(|c| c.kind == "mix_shift" && c.situation.is_empty());
+    let counts = p
+        .counts
+        .iter()
+        .map(|k| {
+            let ch = p.changes.iter().find(|c| c.kind == "mix_shift" && c.situation.get("count") == Some(&k.count));
+            let top = |t: &Option<String>, s: Option<f64>| match (t, s) {
+                (Some(t), Some(s)) => format!("{t} {}", share_text(s)),
+                _ => "—".into(),
+            };
+            CountRow {
+                count: k.count.clone(),
+                n_before: k.n_before,
+                n_after: k.n_after,
+                top_before: top(&k.top_pitch_before, k.top_share_before),
+                top_after: top(&k.top_pitch_after, k.top_share_after),
+                mover: ch
+                    .map(|c| format!("{} {} → {}", c.pitch_type.clone().unwrap_or_default(), share_text(c.before), share_text(c.after)))
+                    .unwrap_or_else(|| "too few pitches to test".into()),
+                shift: ch.map(|c| format!("{:.0}", 100.0 * c.effect)).unwrap_or_default(),
+                test: ch.map(|c| test_text(&c.test).to_string()).unwrap_or_default(),
+                q: ch.map(|c| p_text(c.q)).unwrap_or_else(|| "—".into()),
+                significant: ch.map(|c| c.significant).unwrap_or(false),
+                explained: ch.and_then(|c| c.explained_by.clone()).unwrap_or_default(),
+            }
+        })
+        .collect();
+    let mut periods = Vec::new();
+    let mut difference = String::new();
+    if let Some(pr) = &p.predictability {
+        for f in [&pr.before, &pr.after] {
+            periods.push(PeriodRow {
+                label: f.label.clone(),
+                pitches: f.pitches,
+                n_test: f.n_test,
+                prior: share_text(f.prior_accuracy),
+                model: share_text(f.model_accuracy),
+                lift: format!("{:+.0}%", 100.0 * f.lift),
+                bits: bits_text(f.bits_gained),
+                interval: format!("{} to {}", bits_text(f.bits_interval.low), bits_text(f.bits_interval.high)),
+            });
+        }
+        let lift_iv = pr
+            .lift_difference_interval
+            .map(|i| format!(" (95% interval {:+.0} to {:+.0} points)", 100.0 * i.low, 100.0 * i.high))
+            .unwrap_or_default();
+        difference = format!(
+            "Change from {bl} to {al}: {} bits per pitch (95% interval {} to {}); lift {:+.0} points{lift_iv}. Label-swap test over {} shuffles: p = {}, {}.",
+            bits_text(pr.bits_difference),
+            bits_text(pr.bits_difference_interval.low),
+            bits_text(pr.bits_difference_interval.high),
+            100.0 * pr.lift_difference,
+            pr.permutations,
+            p_text(pr.p),
+            q_text(pr.q)
+        );
+    }
+    let seasons = p
+        .seasons
+        .iter()
+        .map(|f| PeriodRow {
+            label: f.label.clone(),
+            pitches: f.pitches,
+            n_test: f.n_test,
+            prior: share_text(f.prior_accuracy),
+            model: share_text(f.model_accuracy),
+            lift: format!("{:+.0}%", 100.0 * f.lift),
+            bits: bits_text(f.bits_gained),
+            interval: format!("{} to {}", bits_text(f.bits_interval.low), bits_text(f.bits_interval.high)),
+        })
+        .collect();
+    let tells = p
+        .changes
+        .iter()
+        .filter(|c| c.kind.starts_with("tell_"))
+        .map(|c| TellRow {
+            status: kind_text(&c.kind).into(),
+            situation: situation_text(c),
+            pitch: format!("{}{}", c.pitch_type.clone().unwrap_or_default(), if c.direction.as_deref() == Some("less") { " (avoided)" } else { "" }),
+            before: format!("{} (n = {}; {} otherwise)", share_text(c.before), c.n_before, share_text(c.baseline_before.unwrap_or(0.0))),
+            after: format!("{} (n = {}; {} otherwise)", share_text(c.after), c.n_after, share_text(c.baseline_after.unwrap_or(0.0))),
+            q: p_text(c.q),
+            significant: c.significant,
+        })
+        .collect();
+    let tests = p
+        .changes
+        .iter()
+        .map(|c| TestRow {
+            kind: kind_text(&c.kind).into(),
+            situation: situation_text(c),
+            pitch: c.pitch_type.clone().unwrap_or_default(),
+            before: shares_or_bits(c, c.before),
+            after: shares_or_bits(c, c.after),
+            effect: effect_text(c),
+            test: test_text(&c.test).into(),
+            p: p_text(c.p),
+            q: p_text(c.q),
+            significant: c.significant,
+        })
+        .collect();
+    PitcherView {
+        pitcher: p.pitcher.clone(),
+        anchor: anchor.to_string(),
+        throws: p.throws.clone(),
+        n_before: p.n_before,
+        n_after: p.n_after,
+        games_before: p.games_before,
+        games_after: p.games_after,
+        lines: p.summary_lines.clone(),
+        cautions: p.cautions.clone(),
+        charts: svgs,
+        mix,
+        mix_q: overall.map(|c| q_text(c.q)).unwrap_or_default(),
+        mix_shift: overall.map(|c| format!("{:.0}", 100.0 * c.effect)).unwrap_or_default(),
+        counts,
+        periods,
+        seasons,
+        difference,
+        tells,
+        tests,
+        significant: p.significant_changes,
+    }
+}
+
+/// Every file of a comparison report.
+pub fn compare_files(cmp: &Comparison) -> Result<Vec<ReportFile>> {
+    let s = &cmp.summary;
+    let names: Vec<String> = s.pitchers.iter().map(|p| p.pitcher.clone()).collect();
+    let stems: BTreeMap<String, String> = names.iter().cloned().zip(unique_stems(&names)).collect();
+    let mut files = Vec::new();
+    let mut staff = Vec::new();
+    let mut views = Vec::new();
+    let mut insufficient = Vec::new();
+    for p in &s.pitchers {
+        let stem = stems.get(&p.pitcher).cloned().unwrap_or_else(|| "pitcher".into());
+        if !p.is_ok() {
+            insufficient.push(Insufficient { pitcher: p.pitcher.clone(), n_before: p.n_before, n_after: p.n_after, why: p.cautions.join(" ") });
+            continue;
+        }
+        let built = pitcher_charts(s, p, &stem)?;
+        for c in &built {
+            files.push(ReportFile::new(format!("charts/{}.svg", c.name), c.svg.clone()));
+            files.push(ReportFile::new(format!("charts/{}.png", c.name), c.png.clone()));
+        }
+        let overall = p.changes.iter().find(|c| c.kind == "mix_shift" && c.situation.is_empty());
+        let pr = p.predictability.as_ref();
+        staff.push(StaffRow {
+            pitcher: p.pitcher.clone(),
+            anchor: stem.clone(),
+            throws: p.throws.clone(),
+            n_before: p.n_before,
+            n_after: p.n_after,
+            mix_shift: overall.map(|c| format!("{:.0}", 100.0 * c.effect)).unwrap_or_default(),
+            mix_shift_v: overall.map(|c| c.effect).unwrap_or(0.0),
+            mix_q: overall.map(|c| p_text(c.q)).unwrap_or_default(),
+            mix_q_v: overall.map(|c| c.q).unwrap_or(1.0),
+            bits_before: pr.map(|x| bits_text(x.before.bits_gained)).unwrap_or_default(),
+            bits_before_v: pr.map(|x| x.before.bits_gained).unwrap_or(0.0),
+            bits_after: pr.map(|x| bits_text(x.after.bits_gained)).unwrap_or_default(),
+            bits_after_v: pr.map(|x| x.after.bits_gained).unwrap_or(0.0),
+            pred_q: pr.map(|x| p_text(x.q)).unwrap_or_default(),
+            pred_q_v: pr.map(|x| x.q).unwrap_or(1.0),
+            significant: p.significant_changes,
+            headline: if p.significant_changes > 0 { p.summary_lines.first().cloned().unwrap_or_default() } else { "no change".into() },
+        });
+        views.push(pitcher_view(s, p, &stem, built.into_iter().map(|c| c.svg).collect()));
+    }
+    // Pitchers with significant changes first, then by name.
+    let order = |a: &usize, an: &String, b: &usize, bn: &String| b.cmp(a).then(an.cmp(bn));
+    staff.sort_by(|a, b| order(&a.significant, &a.pitcher, &b.significant, &b.pitcher));
+    views.sort_by(|a, b| order(&a.significant, &a.pitcher, &b.significant, &b.pitcher));
+
+    let mut env = minijinja::Environment::new();
+    env.add_template("compare.html", TEMPLATE).map_err(|e| Error::Internal(format!("template: {e}")))?;
+    let tmpl = env.get_template("compare.html").map_err(|e| Error::Internal(format!("template: {e}")))?;
+    let (b, a) = (&s.periods.before, &s.periods.after);
+    let ctx = minijinja::context! {
+        input_path => s.input.path.clone(),
+        rows_kept => s.input.rows_kept,
+        rows_read => s.input.rows_read,
+        before => b.label.clone(),
+        after => a.label.clone(),
+        before_span => format!("{} to {}, {} games, {} pitches", b.first_date, b.last_date, b.games, b.pitches),
+        after_span => format!("{} to {}, {} games, {} pitches", a.first_date, a.last_date, a.games, a.pitches),
+        evaluation => s.evaluation.description.clone(),
+        permutations => s.settings.permutations,
+        bootstrap => s.settings.bootstrap,
+        monte_carlo => s.settings.mix_monte_carlo,
+        fdr => s.settings.fdr,
+        fdr_pct => format!("{:.0}%", s.settings.fdr * 100.0),
+        tests => s.tests,
+        significant => s.significant,
+        new_share => share_text(s.settings.new_pitch_share),
+        absent_share => share_text(s.settings.absent_share),
+        min_count => s.settings.min_count_pitches,
+        version => s.tool.version.clone(),
+        notes => s.notes.clone(),
+        staff => staff,
+        pitchers => views,
+        insufficient => insufficient,
+    };
+    let html = tmpl.render(ctx).map_err(|e| Error::Internal(format!("rendering index.html: {e}")))?;
+    files.push(ReportFile::new("index.html", html));
+    files.push(ReportFile::new("summary.json", summary_json(s)?));
+    files.push(ReportFile::new("changes.csv", changes_csv(s)?));
+    files.push(ReportFile::new("rejected.csv", rejected_csv(&cmp.rejected)?));
+    Ok(files)
+}

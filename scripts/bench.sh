@@ -1,0 +1,73 @@
+#!/usr/bin/env bash
+# Benchmarks of the audit. Prints figures; asserts nothing.
+#   scripts/bench.sh            demo staff and a staff 10x larger
+#   scripts/bench.sh league     also the league-scale log (768 pitchers, 1.6M pitches)
+#   scripts/bench.sh ingest     also a 10-million-row CSV ingest
+set -euo pipefail
+cd "$(dirname "$0")/.."
+export CARGO_TARGET_DIR="${CARGO_TARGET_DIR:-/var/tmp/tellscope-target}"
+cargo build --release --quiet
+BIN="$CARGO_TARGET_DIR/release/tellscope"
+WORK="${BENCH_DIR:-/var/tmp/tellscope-bench}"
+mkdir -p "$WORK"
+
+echo "machine: $(nproc) cores, $(awk '/MemTotal/ {printf "%.0f GiB", $2/1048576}' /proc/meminfo), $(grep -m1 'model name' /proc/cpuinfo | cut -d: -f2 | sed 's/^ //')"
+echo "threads: ${RAYON_NUM_THREADS:-all cores}"
+
+# run LABEL ARGS... : wall seconds, peak RSS, permutations per second
+run() {
+    local label="$1"; shift
+    local out="$WORK/$label"
+    rm -rf "$out"
+    /usr/bin/time -v -o "$WORK/$label.time" "$BIN" "$@" --out "$out" > "$WORK/$label.stdout"
+    local wall rss perms
+    wall=$(awk -F': ' '/Elapsed \(wall clock\)/ {n=split($2,a,":"); s=0; for(i=1;i<=n;i++) s=s*60+a[i]; print s}' "$WORK/$label.time")
+    rss=$(awk -F': ' '/Maximum resident set size/ {printf "%.0f", $2/1024}' "$WORK/$label.time")
+    perms=$(python3 -c "import json,sys; s=json.load(open('$out/summary.json')); print(sum(p.get('permutations',0) for p in s['pitchers']))")
+    python3 - "$label" "$wall" "$rss" "$perms" <<'PY'
+import sys
+label, wall, rss, perms = sys.argv[1], float(sys.argv[2]), sys.argv[3], int(sys.argv[4])
+print(f"{label:<22} wall {wall:7.2f} s   peak RSS {rss:>6} MiB   permutation refits {perms:>7}   {perms / wall:9.0f} refits/s")
+PY
+}
+
+run demo audit demo-data/demo-log.csv --permutations 999
+
+if [ ! -f "$WORK/staff10x.csv" ]; then
+    "$BIN" simulate benches/scenarios/staff10x.toml --out "$WORK/staff10x.csv" --seed 1 > /dev/null
+fi
+run staff-10x audit "$WORK/staff10x.csv" --permutations 999
+
+if [ "${1:-}" = "league" ] || [ "${1:-}" = "all" ]; then
+    if [ ! -f "$WORK/league.csv" ]; then
+        "$BIN" simulate tests/fixtures/scenarios/league.toml --out "$WORK/league.csv" --seed 1 > /dev/null
+    fi
+    run league audit "$WORK/league.csv" --permutations 999
+fi
+
+if [ "${1:-}" = "ingest" ] || [ "${1:-}" = "all" ]; then
+    if [ ! -f "$WORK/ten-million.csv" ]; then
+        # The league log repeated with distinct game ids until 10M rows.
+        [ -f "$WORK/league.csv" ] || "$BIN" simulate tests/fixtures/scenarios/league.toml --out "$WORK/league.csv" --seed 1 > /dev/null
+        python3 - "$WORK/league.csv" "$WORK/ten-million.csv" <<'PY'
+import sys
+src, dst = sys.argv[1], sys.argv[2]
+lines = open(src).read().splitlines()
+head, body = lines[0], lines[1:]
+with open(dst, "w") as f:
+    f.write(head + "\n")
+    n, rep = 0, 0
+    while n < 10_000_000:
+        for l in body:
+            f.write(f"R{rep}-" + l + "\n")
+            n += 1
+            if n >= 10_000_000:
+                break
+        rep += 1
+PY
+    fi
+    /usr/bin/time -v -o "$WORK/ingest.time" "$BIN" check "$WORK/ten-million.csv" > /dev/null
+    wall=$(awk -F': ' '/Elapsed \(wall clock\)/ {n=split($2,a,":"); s=0; for(i=1;i<=n;i++) s=s*60+a[i]; print s}' "$WORK/ingest.time")
+    rss=$(awk -F': ' '/Maximum resident set size/ {printf "%.0f", $2/1024}' "$WORK/ingest.time")
+    echo "ingest 10M rows         wall $wall s   peak RSS $rss MiB"
+fi
