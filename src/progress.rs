@@ -33,7 +33,17 @@ impl Timer {
     pub fn lap(&self, what: &str) {
         if self.on {
             let now = std::time::Instant::now();
-            eprintln!("profile: {what:<28} {:>8.3} s", (now - self.start.get()).as_secs_f64());
+            // Peak and current resident memory so far (Linux /proc).
+            let status = std::fs::read_to_string("/proc/self/status").unwrap_or_default();
+            let field = |k: &str| {
+                status.lines().find(|l| l.starts_with(k)).and_then(|l| l.split_whitespace().nth(1)).and_then(|v| v.parse::<u64>().ok()).unwrap_or(0) / 1024
+            };
+            eprintln!(
+                "profile: {what:<28} {:>8.3} s   rss {:>6} MiB   peak {:>6} MiB",
+                (now - self.start.get()).as_secs_f64(),
+                field("VmRSS:"),
+                field("VmHWM:")
+            );
             self.start.set(now);
         }
     }

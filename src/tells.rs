@@ -151,7 +151,7 @@ fn key_situation(cols: &[&crate::situations::FactorColumn], mut k: usize) -> Sit
 }
 
 /// Run every tell test for the given pitchers (tasks), then one BH family.
-pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[PitcherTask], settings: &Settings) -> Vec<TellTest> {
+pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[&PitcherTask], settings: &Settings) -> Vec<TellTest> {
     let defs = definitions(sit, settings);
     let n_types = log.pitch_types.len();
     // Staff: the pitcher's team when the log has one, else the whole log.

@@ -54,7 +54,7 @@ fn observe(task: &PitcherTask, settings: &Settings, names: &[String]) -> Observe
     let figures = evaluate::overall(&scored, &task.labels);
     let counts = evaluate::per_count(task, &scored, &task.labels);
     let types = evaluate::per_type(task, &scored, &task.labels, names, settings.min_type_pitches);
-    let stat = statistic(&scored, &task.labels, settings.statistic);
+    let stat = statistic(&scored, settings.statistic);
     let mut ss = 0.0;
     for (i, &r) in scored.rows.iter().enumerate() {
         let y = task.labels[r as usize] as usize;
@@ -144,8 +144,7 @@ pub fn audit_log(
     timer.lap("permutation tests");
     let model_q = fdr::bh_q_values(&perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
 
-    let ok_owned: Vec<PitcherTask> = ok_tasks.iter().map(|t| (*t).clone()).collect();
-    let tests = tells::find(log, sit, &plan.discovery, &ok_owned, settings);
+    let tests = tells::find(log, sit, &plan.discovery, &ok_tasks, settings);
     timer.lap("tell tests");
 
     let mut pitchers = Vec::new();

@@ -81,7 +81,7 @@ pub fn permutation_test(
                     let mut rng = permutation_rng(settings.seed, &task.name, j as u64);
                     shuffle_within(labels, &task.strata, &mut rng);
                     let scored = fit_and_score(task, labels, settings, ws, false);
-                    statistic(&scored, labels, settings.statistic)
+                    statistic(&scored, settings.statistic)
                 },
             )
             .collect();

@@ -68,10 +68,8 @@ pub fn run(args: Args) -> Result<()> {
     let out = args.out.clone().unwrap_or_else(|| default_out(&args.log.file));
     let audit = audit::run(&args.log.file, &settings, !args.json)?;
     let t = tellscope::progress::Timer::start();
-    let files = report::audit_files(&audit)?;
-    t.lap("report rendering");
-    report::write_all(&out, &files)?;
-    t.lap("report writing");
+    report::write_audit_report(&out, &audit)?;
+    t.lap("report");
     if args.json {
         print!("{}", report::json::summary_json(&audit.summary)?);
     } else {

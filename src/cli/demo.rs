@@ -51,8 +51,7 @@ pub fn run(args: Args) -> Result<()> {
     let cfg = if cfg_path.exists() { ConfigFile::load(&cfg_path)? } else { ConfigFile::default() };
     let settings = Settings::resolve(&cfg, &Overrides { permutations: args.permutations, ..Overrides::default() })?;
     let a = audit::run(&log_path, &settings, true)?;
-    let files = report::audit_files(&a)?;
-    report::write_all(&args.out, &files)?;
+    report::write_audit_report(&args.out, &a)?;
     super::audit::print_table(&a, &args.out);
     Ok(())
 }

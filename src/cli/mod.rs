@@ -3,6 +3,7 @@
 
 mod audit;
 mod check;
+mod compare;
 mod demo;
 mod simulate;
 
@@ -24,6 +25,8 @@ pub enum Command {
     Check(check::Args),
     /// The predictability audit: held-out lift and bits per pitcher, permutation tests, tells; writes a report.
     Audit(audit::Args),
+    /// Change in each pitcher between two periods (seasons or date ranges): mix, new pitches, predictability, tells.
+    Compare(compare::Args),
     /// Write a synthetic pitch log from a scenario file.
     Simulate(simulate::Args),
     /// Run the bundled demo end to end into reports/demo.
@@ -57,6 +60,7 @@ pub fn run(cli: Cli) -> Result<()> {
     match cli.command {
         Command::Check(a) => check::run(a),
         Command::Audit(a) => audit::run(a),
+        Command::Compare(a) => compare::run(a),
         Command::Simulate(a) => simulate::run(a),
         Command::Demo(a) => demo::run(a),
     }

@@ -9,12 +9,13 @@
 //!   distance as the effect size ([`mix`]);
 //! * new and dropped pitches: a type at or above `[compare]
 //!   new_pitch_share` of his pitches in one period and below
-//!   `absent_share` in the other, with a 2 × 2 test of its share; when
-//!   there is one, also the mix of the pitches he kept;
+//!   `absent_share` in the other, with a 2 × 2 test of its share (his mix
+//!   shifts are then tested on the pitches he kept);
 //! * predictability: held-out lift and bits gained in each period, each
 //!   forward-chained within its period, the difference with a game
 //!   bootstrap interval and a label-swap permutation test ([`predictability`]);
-//! * tells that appeared, disappeared or held ([`tells_change`]).
+//! * tells that appeared, disappeared or held ([`tells_change`]), not
+//!   tests themselves: a tell about one count carries that count's test.
 //!
 //! Pitchers below the audit's minimum samples in either period are listed
 //! as insufficient data, with no figures.
@@ -217,12 +218,13 @@ fn top(names: &[String], types: &[u16], c: &[u64]) -> (Option<String>, Option<f6
 }
 
 #[allow(clippy::too_many_arguments)]
-fn blank(kind: &str, situation: BTreeMap<String, String>, before: f64, after: f64, effect: f64, measure: &str, n: [usize; 2], t: &mix::MixTest) -> Change {
+fn blank(kind: &str, situation: BTreeMap<String, String>, before: f64, after: f64, effect: f64, measure: &str, n: [usize; 2], t: Option<&mix::MixTest>) -> Change {
     Change {
         kind: kind.into(),
         situation,
         pitch_type: None,
         direction: None,
+        among: None,
         before,
         after,
         effect,
@@ -230,23 +232,31 @@ fn blank(kind: &str, situation: BTreeMap<String, String>, before: f64, after: f6
         n_before: n[0],
         n_after: n[1],
         interval: None,
-        test: t.test.as_str().into(),
-        statistic: t.statistic,
-        dof: Some(t.dof),
-        permutations: t.permutations,
-        p: t.p,
-        q: 1.0,
+        test: t.map(|t| t.test.as_str().to_string()).unwrap_or_else(|| "none".into()),
+        statistic: t.map(|t| t.statistic),
+        dof: t.map(|t| t.dof),
+        permutations: t.and_then(|t| t.permutations),
+        p: t.map(|t| t.p),
+        q: None,
         significant: false,
-        explained_by: None,
         mix_before: None,
         mix_after: None,
         baseline_before: None,
         baseline_after: None,
+        tell_q_before: None,
+        tell_q_after: None,
         text: String::new(),
     }
 }
 
-/// The mix changes of one pitcher (before BH): arsenal, overall, kept, counts.
+/// The mix changes of one pitcher (before BH): new and dropped pitches,
+/// the overall mix, each count.
+///
+/// With a new or dropped pitch, the overall and per-count tests are run on
+/// the pitches he threw in both periods: the new pitch is tested on its own,
+/// and testing it again in every count would only repeat that finding
+/// (and, in one BH family, a dozen repeats of one true change would lower
+/// the bar for every other test of the run).
 fn mix_changes(
     names: &[String],
     name: &str,
@@ -260,58 +270,50 @@ fn mix_changes(
     let (sb, sa) = (mix::shares(all[0]), mix::shares(all[1]));
     let nb: u64 = all[0].iter().sum();
     let na: u64 = all[1].iter().sum();
-    let mut arsenal: BTreeMap<usize, String> = BTreeMap::new();
+    let mut arsenal: BTreeSet<usize> = BTreeSet::new();
     for i in 0..types.len() {
         let t = &names[types[i] as usize];
         if let Some(new) = mix::new_or_dropped(sb[i], sa[i], settings.new_pitch_share, settings.absent_share) {
             let mut rng = stream(seed, name, &format!("arsenal {t}"), 0);
             let test = mix::mix_test(&[all[0][i], nb - all[0][i]], &[all[1][i], na - all[1][i]], &mut rng);
             let kind = if new { "new_pitch" } else { "dropped_pitch" };
-            let mut c = blank(kind, BTreeMap::new(), sb[i], sa[i], sa[i] - sb[i], "share_difference", [nb as usize, na as usize], &test);
+            let mut c = blank(kind, BTreeMap::new(), sb[i], sa[i], sa[i] - sb[i], "share_difference", [nb as usize, na as usize], Some(&test));
             c.pitch_type = Some(t.clone());
             out.push(c);
-            arsenal.insert(i, format!("{} {t}", if new { "new pitch" } else { "dropped pitch" }));
+            arsenal.insert(i);
         }
     }
+    // The types the mix tests run on.
+    let kept: Vec<usize> = (0..types.len()).filter(|i| !arsenal.contains(i)).collect();
+    let kt: Vec<u16> = kept.iter().map(|&i| types[i]).collect();
+    let among = (!arsenal.is_empty()).then(|| "kept pitches".to_string());
     let shift = |label: Option<&str>, b: &[u64], a: &[u64], rng: &mut ChaCha8Rng| -> Change {
-        let test = mix::mix_test(b, a, rng);
-        let i = mix::biggest_mover(b, a);
-        let (xb, xa) = (mix::shares(b), mix::shares(a));
+        let b: Vec<u64> = kept.iter().map(|&i| b[i]).collect();
+        let a: Vec<u64> = kept.iter().map(|&i| a[i]).collect();
+        let test = mix::mix_test(&b, &a, rng);
+        let i = mix::biggest_mover(&b, &a);
+        let (xb, xa) = (mix::shares(&b), mix::shares(&a));
         let mut situation = BTreeMap::new();
         if let Some(l) = label {
             situation.insert("count".to_string(), l.to_string());
         }
         let n = [b.iter().sum::<u64>() as usize, a.iter().sum::<u64>() as usize];
-        let mut c = blank("mix_shift", situation, xb[i], xa[i], test.tvd, "total_variation", n, &test);
-        c.pitch_type = Some(names[types[i] as usize].clone());
-        c.explained_by = arsenal.get(&i).cloned();
-        c.mix_before = Some(mix_map(names, types, b));
-        c.mix_after = Some(mix_map(names, types, a));
+        let mut c = blank("mix_shift", situation, xb[i], xa[i], test.tvd, "total_variation", n, Some(&test));
+        c.pitch_type = Some(names[kt[i] as usize].clone());
+        c.among = among.clone();
+        c.mix_before = Some(mix_map(names, &kt, &b));
+        c.mix_after = Some(mix_map(names, &kt, &a));
         c
     };
-    out.push(shift(None, all[0], all[1], &mut stream(seed, name, "mix overall", 0)));
-    if !arsenal.is_empty() {
-        let kept: Vec<usize> = (0..types.len()).filter(|i| !arsenal.contains_key(i)).collect();
-        if kept.len() >= 2 {
-            let kb: Vec<u64> = kept.iter().map(|&i| all[0][i]).collect();
-            let ka: Vec<u64> = kept.iter().map(|&i| all[1][i]).collect();
-            let kt: Vec<u16> = kept.iter().map(|&i| types[i]).collect();
-            let test = mix::mix_test(&kb, &ka, &mut stream(seed, name, "mix kept", 0));
-            let i = mix::biggest_mover(&kb, &ka);
-            let (xb, xa) = (mix::shares(&kb), mix::shares(&ka));
-            let n = [kb.iter().sum::<u64>() as usize, ka.iter().sum::<u64>() as usize];
-            let mut c = blank("kept_mix_shift", BTreeMap::new(), xb[i], xa[i], test.tvd, "total_variation", n, &test);
-            c.pitch_type = Some(names[kt[i] as usize].clone());
-            c.mix_before = Some(mix_map(names, &kt, &kb));
-            c.mix_after = Some(mix_map(names, &kt, &ka));
-            out.push(c);
-        }
+    if kept.len() >= 2 {
+        out.push(shift(None, all[0], all[1], &mut stream(seed, name, "mix overall", 0)));
     }
     let mut counts = Vec::new();
     for (ci, label) in COUNTS.iter().enumerate() {
         let (b, a) = (&by[0][ci], &by[1][ci]);
         let n = [b.iter().sum::<u64>() as usize, a.iter().sum::<u64>() as usize];
-        let tested = n[0] >= settings.tell_min_n && n[1] >= settings.tell_min_n;
+        let nk = |c: &[u64]| kept.iter().map(|&i| c[i]).sum::<u64>() as usize;
+        let tested = kept.len() >= 2 && nk(b) >= settings.tell_min_n && nk(a) >= settings.tell_min_n;
         if tested {
             out.push(shift(Some(label), b, a, &mut stream(seed, name, &format!("mix count {label}"), 0)));
         }
@@ -343,12 +345,14 @@ fn tell_change(c: &TellChange) -> Change {
         c.after.share - c.before.share,
         "share_difference",
         [c.before.n, c.after.n],
-        &c.test,
+        None,
     );
     x.pitch_type = Some(c.pitch_type.clone());
     x.direction = Some(c.direction.as_str().to_string());
     x.baseline_before = Some(c.before.baseline_share);
     x.baseline_after = Some(c.after.baseline_share);
+    x.tell_q_before = c.before.q_value;
+    x.tell_q_after = c.after.q_value;
     x
 }
 
@@ -499,34 +503,14 @@ pub fn compare_log(
                 let bits_iv = bits_iv.unwrap_or(Interval { low: bits_diff, high: bits_diff });
                 let bits_iv = Interval { low: bits_iv.low.min(bits_diff), high: bits_iv.high.max(bits_diff) };
                 let swap = &swaps[i];
-                let pc = Change {
-                    kind: "predictability".into(),
-                    situation: BTreeMap::new(),
-                    pitch_type: None,
-                    direction: None,
-                    before: fb.bits_gained,
-                    after: fa.bits_gained,
-                    effect: bits_diff,
-                    effect_measure: "bits_difference".into(),
-                    n_before: fb.n_test,
-                    n_after: fa.n_test,
-                    interval: Some(bits_iv),
-                    test: mix::TestKind::LabelSwapPermutation.as_str().into(),
-                    statistic: fits[1].statistic.primary - fits[0].statistic.primary,
-                    dof: None,
-                    permutations: Some(swap.permutations),
-                    p: swap.p,
-                    q: 1.0,
-                    significant: false,
-                    explained_by: None,
-                    mix_before: None,
-                    mix_after: None,
-                    baseline_before: None,
-                    baseline_after: None,
-                    text: String::new(),
-                };
+                let mut pc = blank("predictability", BTreeMap::new(), fb.bits_gained, fa.bits_gained, bits_diff, "bits_difference", [fb.n_test, fa.n_test], None);
+                pc.interval = Some(bits_iv);
+                pc.test = mix::TestKind::LabelSwapPermutation.as_str().into();
+                pc.statistic = Some(fits[1].statistic.primary - fits[0].statistic.primary);
+                pc.permutations = Some(swap.permutations);
+                pc.p = Some(swap.p);
                 changes.push(pc);
-                for t in tells_change::changes(log, sit, &name, &rows[0], &rows[1], &tells_b, &tells_a, settings.seed) {
+                for t in tells_change::changes(log, sit, &name, &rows[0], &rows[1], &tells_b, &tells_a) {
                     changes.push(tell_change(&t));
                 }
                 let mut cautions = Vec::new();
@@ -576,23 +560,43 @@ pub fn compare_log(
             }
         }
     }
-    let all_p: Vec<f64> = pitchers.iter().flat_map(|p| p.changes.iter().map(|c| c.p.clamp(0.0, 1.0))).collect();
+    // One BH family over every test of the run.
+    let all_p: Vec<f64> =
+        pitchers.iter().flat_map(|p| p.changes.iter().filter(|c| c.is_test()).map(|c| c.p.unwrap_or(1.0).clamp(0.0, 1.0))).collect();
     let all_q = fdr::bh_q_values(&all_p);
     let mut qi = all_q.into_iter();
     for p in pitchers.iter_mut() {
-        for c in p.changes.iter_mut() {
-            c.q = qi.next().expect("one q per test");
-            c.significant = c.q <= settings.fdr;
+        for c in p.changes.iter_mut().filter(|c| c.is_test()) {
+            let q = qi.next().expect("one q per test");
+            c.q = Some(q);
+            c.significant = q <= settings.fdr;
+        }
+        // A tell about a single count takes its count's mix-shift test.
+        let count_tests: BTreeMap<String, (Option<f64>, Option<f64>, bool)> = p
+            .changes
+            .iter()
+            .filter(|c| c.kind == "mix_shift")
+            .filter_map(|c| c.situation.get("count").map(|k| (k.clone(), (c.p, c.q, c.significant))))
+            .collect();
+        for c in p.changes.iter_mut().filter(|c| !c.is_test()) {
+            if c.situation.len() == 1 {
+                if let Some((pv, qv, sig)) = c.situation.get("count").and_then(|k| count_tests.get(k)) {
+                    c.test = format!("mix_shift count {}", c.situation["count"]);
+                    c.p = *pv;
+                    c.q = *qv;
+                    c.significant = *sig;
+                }
+            }
         }
         for c in p.changes.iter_mut() {
             c.text = wording::change_text(c, labels[0], labels[1]);
         }
         if let Some(pr) = p.predictability.as_mut() {
             if let Some(c) = p.changes.iter().find(|c| c.kind == "predictability") {
-                pr.q = c.q;
+                pr.q = c.q.unwrap_or(1.0);
             }
         }
-        p.significant_changes = p.changes.iter().filter(|c| c.significant).count();
+        p.significant_changes = p.changes.iter().filter(|c| c.is_test() && c.significant).count();
         if p.is_ok() {
             p.summary_lines = wording::summary_lines(p, labels[0], labels[1], settings.fdr);
         }
@@ -619,20 +623,17 @@ pub fn compare_log(
             before.label, after.label
         ));
     }
-    // The BH cut-off of this run: the largest p-value that passed (or, with
-    // none passing, the bar the smallest would have had to clear).
-    let cut = all_p
-        .iter()
-        .zip(pitchers.iter().flat_map(|p| p.changes.iter().map(|c| c.significant)))
-        .filter(|(_, s)| *s)
-        .map(|(p, _)| *p)
-        .fold(f64::NAN, f64::max);
-    let cut = if cut.is_nan() { settings.fdr / tests.max(1) as f64 } else { cut };
+    // The bar one more test of this run would have to clear: BH rejects the
+    // (R+1)-th smallest p-value when it is at most fdr·(R+1)/m.
+    let cut = settings.fdr * (significant as f64 + 1.0) / tests.max(1) as f64;
     let minimum_p = 1.0 / (permutations as f64 + 1.0);
     if minimum_p > cut && pitchers.iter().any(|p| p.is_ok()) {
+        let enough = [999usize, 1999, 4999, 9999, 19_999, 49_999, 99_999]
+            .into_iter()
+            .find(|&n| 1.0 / (n as f64 + 1.0) <= cut / 2.0)
+            .unwrap_or(99_999);
         notes.push(format!(
-            "With {permutations} label swaps per pitcher the smallest p-value a predictability change can reach is {minimum_p:.4}, above this run's cut-off for significance (p ≤ {cut:.4} among {tests} tests): no predictability change could pass. Run with more --permutations (e.g. {}) to test it.",
-            ((1.0 / cut).ceil() as usize * 2).max(999)
+            "With {permutations} label swaps per pitcher the smallest p-value a predictability change can reach is {minimum_p:.4}, above this run's bar for significance (about {cut:.4} among {tests} tests): no predictability change could pass. Run with --permutations {enough} or more to test it."
         ));
     }
     let summary = CompareSummary {

@@ -87,7 +87,7 @@ pub fn fit(task: &PitcherTask, settings: &Settings, per_game: bool) -> (HeldOut,
     let mut ws = Workspace::new(task);
     let scored = fit_and_score(task, &task.labels, settings, &mut ws, per_game);
     let figures = evaluate::overall(&scored, &task.labels);
-    let stat = statistic(&scored, &task.labels, settings.statistic);
+    let stat = statistic(&scored, settings.statistic);
     let mut games = Vec::new();
     if per_game {
         let mut by_game: BTreeMap<u32, GameScore> = BTreeMap::new();

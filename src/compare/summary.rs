@@ -61,11 +61,12 @@ pub struct CompareEvaluation {
     pub description: String,
 }
 
-/// One tested change, significant or not.
+/// One change: a test of the run's BH family (mix shift, new or dropped
+/// pitch, predictability), or a tell's status across the periods.
 #[derive(Debug, Clone, Serialize)]
 pub struct Change {
-    /// `new_pitch`, `dropped_pitch`, `mix_shift`, `kept_mix_shift`,
-    /// `predictability`, `tell_appeared`, `tell_disappeared`, `tell_held`.
+    /// `new_pitch`, `dropped_pitch`, `mix_shift`, `predictability`,
+    /// `tell_appeared`, `tell_disappeared`, `tell_held`.
     #[serde(rename = "type")]
     pub kind: String,
     /// `{}` for the whole period, `{"count": "0-0"}` for a count, a tell's
@@ -78,8 +79,13 @@ pub struct Change {
     /// A tell's direction, `more` or `less`.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub direction: Option<String>,
-    /// The share of `pitch_type` (in the situation) in each period; for
-    /// `predictability`, held-out bits gained per pitch.
+    /// A mix shift of a pitcher with a new or dropped pitch is tested on the
+    /// pitches he threw in both periods (`kept pitches`), shares taken over
+    /// those pitches; the new pitch has its own test.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub among: Option<String>,
+    /// The share of `pitch_type` (in the situation, among `among`) in each
+    /// period; for `predictability`, held-out bits gained per pitch.
     pub before: f64,
     pub after: f64,
     /// Total variation distance for a mix shift; `after − before` otherwise.
@@ -91,33 +97,45 @@ pub struct Change {
     /// 95% bootstrap interval of the effect (predictability).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub interval: Option<Interval>,
-    /// `g_test`, `monte_carlo_g` or `label_swap_permutation`.
+    /// `g_test`, `monte_carlo_g`, `label_swap_permutation`; for a tell, the
+    /// test its p and q come from (`mix_shift count 0-0`) or `none`.
     pub test: String,
-    pub statistic: f64,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub statistic: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub dof: Option<usize>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub permutations: Option<usize>,
-    pub p: f64,
-    /// Benjamini–Hochberg q-value over every test of the run.
-    pub q: f64,
+    /// p-value and Benjamini–Hochberg q-value over every test of the run. A
+    /// tell in a single count carries those of that count's mix shift; other
+    /// tells have none (see `tells_change`).
+    pub p: Option<f64>,
+    pub q: Option<f64>,
     /// q at or below the run's false discovery rate.
     pub significant: bool,
-    /// A mix shift whose biggest mover is a new or dropped pitch is
-    /// explained by it: `new pitch cutter`.
-    #[serde(skip_serializing_if = "Option::is_none")]
-    pub explained_by: Option<String>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub mix_before: Option<BTreeMap<String, f64>>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub mix_after: Option<BTreeMap<String, f64>>,
-    /// His share of the tell's pitch outside the situation, per period.
+    /// A tell: his share of its pitch outside the situation, and the tell's
+    /// q-value in each period's own tell search (when tested there).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub baseline_before: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub baseline_after: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub tell_q_before: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub tell_q_after: Option<f64>,
     /// The change in one sentence.
     pub text: String,
+}
+
+impl Change {
+    /// Part of the run's BH family.
+    pub fn is_test(&self) -> bool {
+        !self.kind.starts_with("tell_")
+    }
 }
 
 /// One count in both periods.
@@ -199,8 +217,8 @@ pub struct PitcherChanges {
     /// Every tested change, in report order.
     pub changes: Vec<Change>,
     pub significant_changes: usize,
-    /// The plain-words summary: one line per significant change (those
-    /// explained by a new or dropped pitch folded into its line).
+    /// The plain-words summary: one line per significant change, then what
+    /// held.
     pub summary_lines: Vec<String>,
     pub cautions: Vec<String>,
 }

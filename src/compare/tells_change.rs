@@ -7,14 +7,17 @@
 //! only before, it disappeared; only after, it appeared. Narrower versions
 //! of a flagged tell (`within`) are not listed on their own.
 //!
-//! The flag alone cannot say a tell changed: a real tell can miss the bar in
-//! a period by chance. So every matched tell also gets a test of the change
-//! itself, "the same share of this pitch in this situation in both
-//! periods", a 2 × 2 mix test (`mix::mix_test`), which joins the run's one
-//! BH family.
+//! The flags alone cannot say a tell changed: a real tell can miss the bar
+//! in a period by chance. Nor can a test of "the same share in both
+//! periods" run on the same pitches: the tell was chosen, among hundreds of
+//! situations, because its share in one period was extreme, so such a test
+//! would find a change far too often (the winner's curse; on the demo it
+//! called three chance tells real changes). So tells are reported as they
+//! are found, with each period's q-value, and a change is claimed only
+//! through a test fixed in advance: a tell about a single count carries the
+//! p and q of that count's mix-shift test. Other tells are listed, not
+//! tested as changes.
 
-use super::mix::{mix_test, MixTest};
-use super::stream;
 use crate::evaluate::task::PitcherTask;
 use crate::ingest::PitchLog;
 use crate::settings::Settings;
@@ -34,7 +37,8 @@ pub fn period_tells(log: &PitchLog, sit: &Situations, in_period: &[bool], tasks:
             t
         })
         .collect();
-    tells::find(log, sit, in_period, &all, settings)
+    let refs: Vec<&PitcherTask> = all.iter().collect();
+    tells::find(log, sit, in_period, &refs, settings)
 }
 
 /// Whether the tell held, disappeared or appeared.
@@ -78,7 +82,6 @@ pub struct TellChange {
     pub direction: Direction,
     pub before: TellSide,
     pub after: TellSide,
-    pub test: MixTest,
 }
 
 type Key = (String, String, Direction);
@@ -125,7 +128,7 @@ fn side(c: (usize, usize, usize, usize), t: Option<&TellTest>) -> TellSide {
     }
 }
 
-/// Match one pitcher's flagged tells across the periods and test each change.
+/// Match one pitcher's flagged tells across the periods.
 #[allow(clippy::too_many_arguments)]
 pub fn changes(
     log: &PitchLog,
@@ -135,7 +138,6 @@ pub fn changes(
     rows_after: &[u32],
     before: &[TellTest],
     after: &[TellTest],
-    seed: u64,
 ) -> Vec<TellChange> {
     let mine = |v: &[TellTest]| -> BTreeMap<Key, TellTest> {
         v.iter().filter(|t| t.pitcher == name).map(|t| (key(t), t.clone())).collect()
@@ -161,12 +163,6 @@ pub fn changes(
         };
         let sb = side(counts(log, sit, rows_before, &any.situation, &any.pitch_type), tb);
         let sa = side(counts(log, sit, rows_after, &any.situation, &any.pitch_type), ta);
-        let mut rng = stream(seed, name, &format!("tell {} {} {}", k.0, k.1, k.2.as_str()), 0);
-        let test = mix_test(
-            &[sb.k as u64, (sb.n - sb.k) as u64],
-            &[sa.k as u64, (sa.n - sa.k) as u64],
-            &mut rng,
-        );
         out.push(TellChange {
             status,
             situation: any.situation.clone(),
@@ -174,7 +170,6 @@ pub fn changes(
             direction: any.direction,
             before: sb,
             after: sa,
-            test,
         });
     }
     out.sort_by(|x, y| {

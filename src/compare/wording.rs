@@ -67,10 +67,24 @@ fn share_move(t: &str, b: f64, a: f64) -> String {
     }
 }
 
+fn q_of(c: &Change) -> String {
+    q_text(c.q.unwrap_or(1.0))
+}
+
+/// How a tell leans: "more often" or "less often".
+fn lean(c: &Change) -> &'static str {
+    if c.direction.as_deref() == Some("less") {
+        "less often"
+    } else {
+        "more often"
+    }
+}
+
 /// The sentence of one change (q-value included).
 pub fn change_text(c: &Change, before: &str, after: &str) -> String {
     let t = c.pitch_type.clone().unwrap_or_default();
-    let q = q_text(c.q);
+    let q = q_of(c);
+    let kept = c.among.is_some();
     match c.kind.as_str() {
         "new_pitch" => {
             let (sb, sa) = pair_text(c.before, c.after);
@@ -80,23 +94,30 @@ pub fn change_text(c: &Change, before: &str, after: &str) -> String {
             let (sb, sa) = pair_text(c.before, c.after);
             format!("Dropped the {t}: {sb} → {sa} of pitches ({q}).")
         }
-        "mix_shift" => match c.situation.get("count") {
-            Some(count) => format!(
+        "mix_shift" => match (c.situation.get("count"), kept) {
+            (Some(count), false) => format!(
                 "{count} counts: {} (n = {} and {}), {q}.",
                 share_move(&t, c.before, c.after),
                 c.n_before,
                 c.n_after
             ),
-            None => format!(
+            (Some(count), true) => format!(
+                "{count} counts, among the pitches he threw in both periods: {} (n = {} and {}), {q}.",
+                share_move(&t, c.before, c.after),
+                c.n_before,
+                c.n_after
+            ),
+            (None, false) => format!(
                 "Overall mix: {} of pitches (in all, {:.0} of every 100 pitches changed type), {q}.",
                 share_move(&t, c.before, c.after),
                 100.0 * c.effect
             ),
+            (None, true) => format!(
+                "Among the pitches he threw in both periods, the {} (in all, {:.0} of every 100 of those pitches changed type), {q}.",
+                share_move(&t, c.before, c.after),
+                100.0 * c.effect
+            ),
         },
-        "kept_mix_shift" => format!(
-            "Among the pitches he threw in both periods, the {} ({q}).",
-            share_move(&t, c.before, c.after)
-        ),
         "predictability" => {
             let which = if c.effect < 0.0 { "Less" } else { "More" };
             let iv = c.interval.map(|i| format!(", 95% interval {} to {}", bits_text(i.low), bits_text(i.high))).unwrap_or_default();
@@ -114,9 +135,21 @@ pub fn change_text(c: &Change, before: &str, after: &str) -> String {
                 _ => "Tell in both periods".to_string(),
             };
             let (sb, sa) = pair_text(c.before, c.after);
+            let tq = |x: Option<f64>| x.map(|q| q_text(q)).unwrap_or_else(|| "not tested".into());
+            let evidence = match (c.q, kind) {
+                (Some(_), _) if c.significant => format!("his mix in that count changed, {q}"),
+                (Some(_), _) => format!("his mix in that count did not change beyond chance ({q})"),
+                (None, "tell_held") => format!("tell search {} in {before}, {} in {after}", tq(c.tell_q_before), tq(c.tell_q_after)),
+                (None, _) => format!(
+                    "tell search {} in {before}, {} in {after}; not tested as a change",
+                    tq(c.tell_q_before),
+                    tq(c.tell_q_after)
+                ),
+            };
             format!(
-                "{lead}: {} his {t} share was {sb} in {before} (n = {}; {} otherwise) and {sa} in {after} (n = {}; {} otherwise), {q}.",
+                "{lead}: {} he threw the {t} {} — {sb} in {before} (n = {}; {} otherwise), {sa} in {after} (n = {}; {} otherwise); {evidence}.",
                 situation_phrase(&situation_of(c)),
+                lean(c),
                 c.n_before,
                 share_text(c.baseline_before.unwrap_or(0.0)),
                 c.n_after,
@@ -126,122 +159,175 @@ pub fn change_text(c: &Change, before: &str, after: &str) -> String {
     }
 }
 
+fn plural(n: usize, one: &str, many: &str) -> String {
+    format!("{n} {}", if n == 1 { one } else { many })
+}
+
 fn is_count_shift(c: &Change) -> bool {
     c.kind == "mix_shift" && c.situation.contains_key("count")
 }
 
+/// "fastball more often, slider and curveball less often"
+fn tell_list(tells: &[&Change]) -> String {
+    let mut parts = Vec::new();
+    for dir in ["more", "less"] {
+        let names: Vec<String> =
+            tells.iter().filter(|c| c.direction.as_deref() == Some(dir)).filter_map(|c| c.pitch_type.clone()).collect();
+        if names.is_empty() {
+            continue;
+        }
+        let joined = match names.len() {
+            1 => names[0].clone(),
+            n => format!("{} and {}", names[..n - 1].join(", "), names[n - 1]),
+        };
+        parts.push(format!("{joined} {}", if dir == "more" { "more often" } else { "less often" }));
+    }
+    parts.join(", ")
+}
+
 /// The plain-words summary of one pitcher: significant changes first (new
-/// and dropped pitches, with the mix shifts they explain folded in; the
-/// overall mix; counts; predictability; tells), then what held.
+/// and dropped pitches, the mix overall and count by count with the tells
+/// of those counts folded in, predictability), then what held, then tells
+/// seen in one period only.
 pub fn summary_lines(p: &PitcherChanges, before: &str, after: &str, fdr: f64) -> Vec<String> {
     let mut lines = Vec::new();
-    let tested_counts = p.changes.iter().filter(|c| is_count_shift(c)).count();
     let arsenal: Vec<&Change> = p.changes.iter().filter(|c| c.kind == "new_pitch" || c.kind == "dropped_pitch").collect();
     for c in arsenal.iter().filter(|c| c.significant) {
         let t = c.pitch_type.clone().unwrap_or_default();
-        let tag = format!("{} {t}", if c.kind == "new_pitch" { "new pitch" } else { "dropped pitch" });
-        let explained: Vec<&Change> =
-            p.changes.iter().filter(|x| x.significant && x.explained_by.as_deref() == Some(tag.as_str())).collect();
         let mut line = c.text.clone();
-        if !explained.is_empty() {
-            let overall = explained.iter().any(|x| x.situation.is_empty());
-            let n_counts = explained.iter().filter(|x| is_count_shift(x)).count();
-            let mut parts = Vec::new();
-            if overall {
-                parts.push("his overall mix".to_string());
-            }
-            if n_counts > 0 {
-                parts.push(format!("{n_counts} of the {tested_counts} counts tested"));
-            }
-            line.push_str(&format!(" It accounts for the shift in {}.", parts.join(" and in ")));
-        }
-        if c.kind == "new_pitch" {
-            // Where he throws the new pitch, count by count.
-            let by_count: Vec<(String, f64)> = p
-                .counts
-                .iter()
-                .filter(|k| k.tested)
-                .map(|k| (k.count.clone(), k.mix_after.get(&t).copied().unwrap_or(0.0)))
-                .collect();
-            if let (Some(lo), Some(hi)) = (
-                by_count.iter().min_by(|a, b| a.1.total_cmp(&b.1)),
-                by_count.iter().max_by(|a, b| a.1.total_cmp(&b.1)),
-            ) {
-                line.push_str(&format!(
-                    " In {after} he threw it {} of the time at {} (his least) up to {} at {} (his most).",
-                    share_text(lo.1),
-                    lo.0,
-                    share_text(hi.1),
-                    hi.0
-                ));
+        // Where he throws (threw) it, count by count.
+        let (when, side) = if c.kind == "new_pitch" { (after, true) } else { (before, false) };
+        let by_count: Vec<(String, f64)> = p
+            .counts
+            .iter()
+            .filter(|k| (if side { k.n_after } else { k.n_before }) >= 20)
+            .map(|k| (k.count.clone(), (if side { &k.mix_after } else { &k.mix_before }).get(&t).copied().unwrap_or(0.0)))
+            .collect();
+        if let (Some(lo), Some(hi)) =
+            (by_count.iter().min_by(|a, b| a.1.total_cmp(&b.1)), by_count.iter().max_by(|a, b| a.1.total_cmp(&b.1)))
+        {
+            line.push_str(&format!(
+                " In {when} he threw it in every count, from {} of pitches at {} to {} at {}.",
+                share_text(lo.1),
+                lo.0,
+                share_text(hi.1),
+                hi.0
+            ));
+            if lo.1 == 0.0 {
+                line = line.replace("in every count, from", "in some counts, from");
             }
         }
         lines.push(line);
     }
-    if let Some(k) = p.changes.iter().find(|c| c.kind == "kept_mix_shift") {
-        if k.significant {
-            lines.push(k.text.clone());
-        } else if arsenal.iter().any(|c| c.significant) {
-            let kept: Vec<String> = k
+    let overall = p.changes.iter().find(|c| c.kind == "mix_shift" && c.situation.is_empty());
+    let count_sig: Vec<&Change> = p.changes.iter().filter(|c| is_count_shift(c) && c.significant).collect();
+    if let Some(c) = overall {
+        if c.significant {
+            let mut line = c.text.trim_end_matches('.').to_string();
+            if count_sig.is_empty() {
+                line.push_str("; no single count changed enough to pass the test on its own.");
+            } else {
+                let names: Vec<&str> = count_sig.iter().filter_map(|x| x.situation.get("count").map(String::as_str)).collect();
+                line.push_str(&format!("; count by count, the change is at {}.", names.join(", ")));
+            }
+            lines.push(line);
+        } else if c.among.is_some() && arsenal.iter().any(|a| a.significant) {
+            let kept: Vec<String> = c
                 .mix_before
                 .iter()
                 .flatten()
                 .map(|(t, b)| {
-                    let a = k.mix_after.as_ref().and_then(|m| m.get(t)).copied().unwrap_or(0.0);
+                    let a = c.mix_after.as_ref().and_then(|m| m.get(t)).copied().unwrap_or(0.0);
                     format!("{t} {} → {}", share_text(*b), share_text(a))
                 })
                 .collect();
             lines.push(format!(
-                "Apart from that, the mix of the pitches he threw in both periods held ({}, as shares of those pitches; {}).",
+                "Apart from that, the mix of the pitches he threw in both periods held ({}, as shares of those pitches; {}), and so did his mix count by count.",
                 kept.join(", "),
-                q_text(k.q)
+                q_of(c)
             ));
+            if !count_sig.is_empty() {
+                let last = lines.last_mut().expect("just pushed");
+                *last = last.replace(", and so did his mix count by count.", ".");
+            }
         }
     }
-    let count_sig: Vec<&Change> = p.changes.iter().filter(|c| is_count_shift(c) && c.significant && c.explained_by.is_none()).collect();
-    if let Some(c) = p.changes.iter().find(|c| c.kind == "mix_shift" && c.situation.is_empty() && c.significant && c.explained_by.is_none()) {
+    for c in &count_sig {
+        let count = c.situation.get("count").cloned().unwrap_or_default();
         let mut line = c.text.trim_end_matches('.').to_string();
-        if count_sig.is_empty() {
-            line.push_str("; no single count changed enough to pass the test on its own.");
-        } else {
-            let names: Vec<&str> = count_sig.iter().filter_map(|x| x.situation.get("count").map(String::as_str)).collect();
-            line.push_str(&format!(
-                "; count by count, the change is at {}.",
-                names.join(", ")
-            ));
+        let here: Vec<&Change> = p
+            .changes
+            .iter()
+            .filter(|t| t.kind.starts_with("tell_") && t.situation.len() == 1 && t.situation.get("count") == Some(&count))
+            .collect();
+        for (kind, words) in [
+            ("tell_disappeared", format!("his {before} tell there ({{}}) is gone")),
+            ("tell_appeared", format!("a new tell there in {after} ({{}})")),
+            ("tell_held", format!("his tell there ({{}}) still shows in {after}")),
+        ] {
+            let these: Vec<&Change> = here.iter().copied().filter(|t| t.kind == kind).collect();
+            if !these.is_empty() {
+                line.push_str(&format!("; {}", words.replace("{}", &tell_list(&these))));
+            }
         }
+        line.push('.');
         lines.push(line);
     }
-    lines.extend(count_sig.iter().map(|c| c.text.clone()));
     for c in p.changes.iter().filter(|c| c.kind == "predictability" && c.significant) {
-        lines.push(c.text.clone());
-    }
-    for c in p.changes.iter().filter(|c| c.kind.starts_with("tell_") && c.significant) {
         lines.push(c.text.clone());
     }
     if lines.is_empty() {
         lines.push(format!(
-            "No change between {before} and {after} passed the test (q ≤ {fdr}): his pitch mix, overall and count by count, his predictability and his tells are the same within chance."
+            "No change between {before} and {after} passed the test (q ≤ {fdr}): his pitch mix, overall and count by count, and his predictability are the same within chance."
         ));
     }
-    let held: Vec<String> = p
+    let item = |c: &Change| {
+        format!(
+            "{} the {} {} ({} in {before}, {} in {after})",
+            situation_phrase(&situation_of(c)),
+            c.pitch_type.clone().unwrap_or_default(),
+            lean(c),
+            share_text(c.before),
+            share_text(c.after)
+        )
+    };
+    let listed = |items: Vec<String>| -> String {
+        let shown: Vec<String> = items.iter().take(3).cloned().collect();
+        let more = if items.len() > 3 { format!("; and {} more (see the tells table)", items.len() - 3) } else { String::new() };
+        format!("{}{more}", shown.join("; "))
+    };
+    let held: Vec<String> = p.changes.iter().filter(|c| c.kind == "tell_held" && !c.significant).map(item).collect();
+    if !held.is_empty() {
+        lines.push(format!("Tells that held in both periods: {}.", listed(held)));
+    }
+    // Tells flagged in one period only; those inside a count whose change is
+    // already stated above are narrower echoes of it.
+    let stated: Vec<&String> = count_sig.iter().filter_map(|c| c.situation.get("count")).collect();
+    let mut one_sided: Vec<&Change> = p
         .changes
         .iter()
-        .filter(|c| c.kind == "tell_held" && !c.significant)
-        .map(|c| {
-            format!(
-                "{} the {} ({} in {before}, {} in {after})",
-                situation_phrase(&situation_of(c)),
-                c.pitch_type.clone().unwrap_or_default(),
-                share_text(c.before),
-                share_text(c.after)
-            )
-        })
+        .filter(|c| (c.kind == "tell_disappeared" || c.kind == "tell_appeared") && !c.significant)
+        .filter(|c| !c.situation.get("count").map(|k| stated.contains(&k)).unwrap_or(false))
         .collect();
-    if !held.is_empty() {
-        let shown: Vec<String> = held.iter().take(4).cloned().collect();
-        let more = if held.len() > 4 { format!("; and {} more (see the table)", held.len() - 4) } else { String::new() };
-        lines.push(format!("Tells that held in both periods: {}{more}.", shown.join("; ")));
+    // Strongest first: the tell's shift in the period where it was flagged.
+    let strength = |c: &Change| {
+        let (s, b) = if c.kind == "tell_disappeared" {
+            (c.before, c.baseline_before.unwrap_or(0.0))
+        } else {
+            (c.after, c.baseline_after.unwrap_or(0.0))
+        };
+        (s - b).abs()
+    };
+    one_sided.sort_by(|a, b| strength(b).total_cmp(&strength(a)));
+    if !one_sided.is_empty() {
+        let gone = one_sided.iter().filter(|c| c.kind == "tell_disappeared").count();
+        let new = one_sided.len() - gone;
+        let strongest = one_sided.first().map(|c| format!("; the strongest: {}", item(c))).unwrap_or_default();
+        lines.push(format!(
+            "{} flagged in {before} only and {} in {after} only{strongest}. A tell can miss the bar in a period by chance, so these are not tested as changes (see the tells table).",
+            plural(gone, "tell was", "tells were"),
+            new
+        ));
     }
     lines
 }

@@ -188,42 +188,34 @@ pub fn fit_and_score(
         };
         let grown_p = smoothed_node_probs(&grown, mix, settings.leaf_smoothing);
         let node_p = smoothed_node_probs(&tree, mix, settings.leaf_smoothing);
-        if keep_trees {
-            for &r in &fold.test {
-                if usage.counts[labels[r as usize] as usize] == 0 {
-                    out.unseen += 1;
-                    continue;
-                }
-                let g = grown.leaf_of(&ws.x, r as usize);
-                let leaf = to_pruned[g];
+        // The statistic is summed the same way for the real labels and every
+        // permutation (logs of each node's probabilities taken once), so a
+        // refit that reproduces the observed model ties with it exactly.
+        let lg = |p: &[f64]| p.iter().map(|x| x.log2()).collect::<Vec<f64>>();
+        let (lm, lgr, lp) = (lg(&node_p), lg(&grown_p), lg(mix));
+        let am: Vec<usize> = (0..tree.nodes.len()).map(|i| argmax(&node_p[i * k..(i + 1) * k])).collect();
+        let ag: Vec<usize> = (0..grown.nodes.len()).map(|i| argmax(&grown_p[i * k..(i + 1) * k])).collect();
+        let top = argmax(mix);
+        for &r in &fold.test {
+            let y = labels[r as usize] as usize;
+            if usage.counts[y] == 0 {
+                out.unseen += 1;
+                continue;
+            }
+            let g = grown.leaf_of(&ws.x, r as usize);
+            let leaf = to_pruned[g];
+            let t = &mut out.totals;
+            t.n += 1;
+            t.bits += lm[leaf * k + y] - lp[y];
+            t.bits_grown += lgr[g * k + y] - lp[y];
+            let pr = (top == y) as i64;
+            t.acc += (am[leaf] == y) as i64 - pr;
+            t.acc_grown += (ag[g] == y) as i64 - pr;
+            if keep_trees {
                 out.rows.push(r);
                 out.model.extend_from_slice(&node_p[leaf * k..(leaf + 1) * k]);
                 out.grown.extend_from_slice(&grown_p[g * k..(g + 1) * k]);
                 out.prior.extend_from_slice(mix);
-            }
-        } else {
-            // A permutation refit needs only the statistic: sum it directly,
-            // with the logs of each node's probabilities taken once.
-            let lg = |p: &[f64]| p.iter().map(|x| x.log2()).collect::<Vec<f64>>();
-            let (lm, lgr, lp) = (lg(&node_p), lg(&grown_p), lg(mix));
-            let am: Vec<usize> = (0..tree.nodes.len()).map(|i| argmax(&node_p[i * k..(i + 1) * k])).collect();
-            let ag: Vec<usize> = (0..grown.nodes.len()).map(|i| argmax(&grown_p[i * k..(i + 1) * k])).collect();
-            let top = argmax(mix);
-            for &r in &fold.test {
-                let y = labels[r as usize] as usize;
-                if usage.counts[y] == 0 {
-                    out.unseen += 1;
-                    continue;
-                }
-                let g = grown.leaf_of(&ws.x, r as usize);
-                let leaf = to_pruned[g];
-                let t = &mut out.totals;
-                t.n += 1;
-                t.bits += lm[leaf * k + y] - lp[y];
-                t.bits_grown += lgr[g * k + y] - lp[y];
-                let pr = (top == y) as i64;
-                t.acc += (am[leaf] == y) as i64 - pr;
-                t.acc_grown += (ag[g] == y) as i64 - pr;
             }
         }
         if keep_trees {
@@ -291,39 +283,16 @@ pub fn smoothed_node_probs(tree: &Tree, mix: &[f64], a: f64) -> Vec<f64> {
 /// tree, a fixed function of the same labels, keeps exchangeability and so
 /// the test's validity, and makes its p-values close to uniform under the
 /// null (checked in tests/calibration.rs).
-pub fn statistic(scored: &Scored, labels: &[u8], which: crate::settings::Statistic) -> Stat {
-    if scored.rows.is_empty() && scored.totals.n > 0 {
-        let t = &scored.totals;
-        let n = t.n as f64;
-        return match which {
-            crate::settings::Statistic::Bits => Stat { primary: t.bits / n, secondary: t.bits_grown / n },
-            crate::settings::Statistic::Accuracy => Stat { primary: t.acc as f64 / n, secondary: t.acc_grown as f64 / n },
-        };
-    }
-    let n = scored.rows.len();
-    if n == 0 {
+pub fn statistic(scored: &Scored, which: crate::settings::Statistic) -> Stat {
+    let t = &scored.totals;
+    if t.n == 0 {
         return Stat { primary: 0.0, secondary: 0.0 };
     }
-    let k = scored.n_classes;
-    let (mut a, mut b) = (0.0, 0.0);
-    for (i, &r) in scored.rows.iter().enumerate() {
-        let y = labels[r as usize] as usize;
-        let m = scored.model_row(i);
-        let g = &scored.grown[i * k..(i + 1) * k];
-        let p = scored.prior_row(i);
-        match which {
-            crate::settings::Statistic::Bits => {
-                a += (m[y] / p[y]).log2();
-                b += (g[y] / p[y]).log2();
-            }
-            crate::settings::Statistic::Accuracy => {
-                let pr = (argmax(p) == y) as u8 as f64;
-                a += (argmax(m) == y) as u8 as f64 - pr;
-                b += (argmax(g) == y) as u8 as f64 - pr;
-            }
-        }
+    let n = t.n as f64;
+    match which {
+        crate::settings::Statistic::Bits => Stat { primary: t.bits / n, secondary: t.bits_grown / n },
+        crate::settings::Statistic::Accuracy => Stat { primary: t.acc as f64 / n, secondary: t.acc_grown as f64 / n },
     }
-    Stat { primary: a / n as f64, secondary: b / n as f64 }
 }
 
 /// A permutation statistic: compared on `primary`, ties broken by `secondary`.

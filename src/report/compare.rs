@@ -30,11 +30,7 @@ pub fn summary_json(s: &CompareSummary) -> Result<String> {
 
 fn situation_text(c: &Change) -> String {
     if c.situation.is_empty() {
-        if c.kind == "kept_mix_shift" {
-            "pitches thrown in both periods".into()
-        } else {
-            "all pitches".into()
-        }
+        "all pitches".into()
     } else {
         c.situation.iter().map(|(f, l)| format!("{f} {l}")).collect::<Vec<_>>().join(", ")
     }
@@ -58,13 +54,25 @@ pub fn changes_csv(s: &CompareSummary) -> Result<Vec<u8>> {
         .u64("n_before", rows.iter().map(|(_, c)| c.n_before as u64).collect())
         .u64("n_after", rows.iter().map(|(_, c)| c.n_after as u64).collect())
         .str("test", rows.iter().map(|(_, c)| c.test.clone()).collect())
-        .f64("statistic", rows.iter().map(|(_, c)| c.statistic).collect())
-        .f64("p", rows.iter().map(|(_, c)| c.p).collect())
-        .f64("q", rows.iter().map(|(_, c)| c.q).collect())
+        .opt_f64("statistic", rows.iter().map(|(_, c)| c.statistic).collect())
+        .opt_f64("p", rows.iter().map(|(_, c)| c.p).collect())
+        .opt_f64("q", rows.iter().map(|(_, c)| c.q).collect())
         .bool("significant", rows.iter().map(|(_, c)| c.significant).collect())
-        .opt_str("explained_by", rows.iter().map(|(_, c)| c.explained_by.clone()).collect())
+        .opt_str("among", rows.iter().map(|(_, c)| c.among.clone()).collect())
+        .opt_f64("tell_q_before", rows.iter().map(|(_, c)| c.tell_q_before).collect())
+        .opt_f64("tell_q_after", rows.iter().map(|(_, c)| c.tell_q_after).collect())
         .str("text", rows.iter().map(|(_, c)| c.text.clone()).collect())
         .to_csv(rows.len())
+}
+
+/// Bits for a chart: values that print as ±0.000 are drawn at 0, so a label
+/// never reads "-0.000" (monotone, so an interval still holds its estimate).
+fn tidy(x: f64) -> f64 {
+    if x.abs() < 5e-4 {
+        0.0
+    } else {
+        x
+    }
 }
 
 /// The charts of one pitcher, named by his unique stem.
@@ -107,9 +115,9 @@ fn pitcher_charts(s: &CompareSummary, p: &PitcherChanges, stem: &str) -> Result<
         let period = |f: &crate::compare::summary::PeriodFigures| charts::PeriodPredictability {
             label: f.label.clone(),
             n: f.n_test as u64,
-            bits_gained: f.bits_gained,
-            lower: f.bits_interval.low,
-            upper: f.bits_interval.high,
+            bits_gained: tidy(f.bits_gained),
+            lower: tidy(f.bits_interval.low),
+            upper: tidy(f.bits_interval.high),
         };
         let c = charts::compare_predictability(&charts::ComparePredictabilityInput {
             pitcher: p.pitcher.clone(),
@@ -128,9 +136,9 @@ fn pitcher_charts(s: &CompareSummary, p: &PitcherChanges, stem: &str) -> Result<
                 .map(|f| charts::PeriodPredictability {
                     label: f.label.clone(),
                     n: f.n_test as u64,
-                    bits_gained: f.bits_gained,
-                    lower: f.bits_interval.low,
-                    upper: f.bits_interval.high,
+                    bits_gained: tidy(f.bits_gained),
+                    lower: tidy(f.bits_interval.low),
+                    upper: tidy(f.bits_interval.high),
                 })
                 .collect(),
             interval_label: "95% bootstrap interval (games resampled), each season scored on its own".into(),
@@ -184,6 +192,7 @@ struct TellRow {
     before: String,
     after: String,
     q: String,
+    tell_q: String,
     significant: bool,
 }
 
@@ -267,7 +276,6 @@ fn kind_text(k: &str) -> &'static str {
         "new_pitch" => "new pitch",
         "dropped_pitch" => "dropped pitch",
         "mix_shift" => "mix shift",
-        "kept_mix_shift" => "mix of kept pitches",
         "predictability" => "predictability",
         "tell_appeared" => "tell appeared",
         "tell_disappeared" => "tell gone",
@@ -279,7 +287,9 @@ fn test_text(t: &str) -> &'static str {
     match t {
         "g_test" => "G-test",
         "monte_carlo_g" => "Monte Carlo",
-        _ => "label swap",
+        "label_swap_permutation" => "label swap",
+        t if t.starts_with("mix_shift count") => "count's mix test",
+        _ => "—",
     }
 }
 
@@ -334,9 +344,9 @@ fn pitcher_view(s: &CompareSummary, p: &PitcherChanges, anchor: &str, svgs: Vec<
                     .unwrap_or_else(|| "too few pitches to test".into()),
                 shift: ch.map(|c| format!("{:.0}", 100.0 * c.effect)).unwrap_or_default(),
                 test: ch.map(|c| test_text(&c.test).to_string()).unwrap_or_default(),
-                q: ch.map(|c| p_text(c.q)).unwrap_or_else(|| "—".into()),
+                q: ch.and_then(|c| c.q).map(p_text).unwrap_or_else(|| "—".into()),
                 significant: ch.map(|c| c.significant).unwrap_or(false),
-                explained: ch.and_then(|c| c.explained_by.clone()).unwrap_or_default(),
+                explained: ch.and_then(|c| c.among.as_ref()).map(|_| "among kept pitches".to_string()).unwrap_or_default(),
             }
         })
         .collect();
@@ -394,13 +404,19 @@ fn pitcher_view(s: &CompareSummary, p: &PitcherChanges, anchor: &str, svgs: Vec<
             pitch: format!("{}{}", c.pitch_type.clone().unwrap_or_default(), if c.direction.as_deref() == Some("less") { " (avoided)" } else { "" }),
             before: format!("{} (n = {}; {} otherwise)", share_text(c.before), c.n_before, share_text(c.baseline_before.unwrap_or(0.0))),
             after: format!("{} (n = {}; {} otherwise)", share_text(c.after), c.n_after, share_text(c.baseline_after.unwrap_or(0.0))),
-            q: p_text(c.q),
+            q: c.q.map(p_text).unwrap_or_else(|| "not tested".into()),
+            tell_q: format!(
+                "{} / {}",
+                c.tell_q_before.map(p_text).unwrap_or_else(|| "—".into()),
+                c.tell_q_after.map(p_text).unwrap_or_else(|| "—".into())
+            ),
             significant: c.significant,
         })
         .collect();
     let tests = p
         .changes
         .iter()
+        .filter(|c| c.is_test())
         .map(|c| TestRow {
             kind: kind_text(&c.kind).into(),
             situation: situation_text(c),
@@ -409,8 +425,8 @@ fn pitcher_view(s: &CompareSummary, p: &PitcherChanges, anchor: &str, svgs: Vec<
             after: shares_or_bits(c, c.after),
             effect: effect_text(c),
             test: test_text(&c.test).into(),
-            p: p_text(c.p),
-            q: p_text(c.q),
+            p: c.p.map(p_text).unwrap_or_default(),
+            q: c.q.map(p_text).unwrap_or_default(),
             significant: c.significant,
         })
         .collect();
@@ -426,7 +442,7 @@ fn pitcher_view(s: &CompareSummary, p: &PitcherChanges, anchor: &str, svgs: Vec<
         cautions: p.cautions.clone(),
         charts: svgs,
         mix,
-        mix_q: overall.map(|c| q_text(c.q)).unwrap_or_default(),
+        mix_q: overall.and_then(|c| c.q).map(q_text).unwrap_or_default(),
         mix_shift: overall.map(|c| format!("{:.0}", 100.0 * c.effect)).unwrap_or_default(),
         counts,
         periods,
@@ -468,8 +484,8 @@ pub fn compare_files(cmp: &Comparison) -> Result<Vec<ReportFile>> {
             n_after: p.n_after,
             mix_shift: overall.map(|c| format!("{:.0}", 100.0 * c.effect)).unwrap_or_default(),
             mix_shift_v: overall.map(|c| c.effect).unwrap_or(0.0),
-            mix_q: overall.map(|c| p_text(c.q)).unwrap_or_default(),
-            mix_q_v: overall.map(|c| c.q).unwrap_or(1.0),
+            mix_q: overall.and_then(|c| c.q).map(p_text).unwrap_or_default(),
+            mix_q_v: overall.and_then(|c| c.q).unwrap_or(1.0),
             bits_before: pr.map(|x| bits_text(x.before.bits_gained)).unwrap_or_default(),
             bits_before_v: pr.map(|x| x.before.bits_gained).unwrap_or(0.0),
             bits_after: pr.map(|x| bits_text(x.after.bits_gained)).unwrap_or_default(),

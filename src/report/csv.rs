@@ -52,6 +52,27 @@ impl Table {
     }
 }
 
+/// Write tells.csv in chunks of rows, so a league's hundreds of thousands
+/// of tests never sit in memory as one table.
+pub fn write_tells_csv(tests: &[TellTest], w: &mut impl std::io::Write) -> Result<()> {
+    const CHUNK: usize = 50_000;
+    if tests.is_empty() {
+        return w.write_all(&tells_csv(tests)?).map_err(|e| Error::Io(format!("tells.csv: {e}")));
+    }
+    for (i, chunk) in tests.chunks(CHUNK).enumerate() {
+        let bytes = tells_csv(chunk)?;
+        let body = if i == 0 {
+            &bytes[..]
+        } else {
+            // Drop the header line of later chunks.
+            let at = bytes.iter().position(|&b| b == b'\n').map(|p| p + 1).unwrap_or(bytes.len());
+            &bytes[at..]
+        };
+        w.write_all(body).map_err(|e| Error::Io(format!("tells.csv: {e}")))?;
+    }
+    Ok(())
+}
+
 pub fn tells_csv(tests: &[TellTest]) -> Result<Vec<u8>> {
     let f = |i: usize| -> (Vec<Option<String>>, Vec<Option<String>>) {
         tests

@@ -8,11 +8,6 @@ use crate::error::{Error, Result};
 use crate::situations::levels::Factor;
 use std::collections::BTreeMap;
 
-#[derive(Default)]
-pub struct BuiltCharts {
-    pub staff: Vec<Chart>,
-    pub per_pitcher: BTreeMap<String, Vec<Chart>>,
-}
 
 fn chart_err(e: ChartError) -> Error {
     Error::Internal(format!("drawing a chart: {e:?}"))
@@ -30,11 +25,17 @@ fn staff_labels(s: &Summary) -> Vec<String> {
     v
 }
 
-pub fn audit_charts(s: &Summary, stems: &BTreeMap<String, String>) -> Result<BuiltCharts> {
-    let mut out = BuiltCharts::default();
+/// Draw every chart of an audit in turn, handing each to `sink` with its
+/// pitcher (`None` for the staff chart), so a league's charts are never all
+/// held in memory.
+pub fn for_each_chart(
+    s: &Summary,
+    stems: &BTreeMap<String, String>,
+    mut sink: impl FnMut(Option<&str>, Chart) -> Result<()>,
+) -> Result<()> {
     let ok: Vec<_> = s.pitchers.iter().filter(|p| p.is_ok()).collect();
     if ok.is_empty() {
-        return Ok(out);
+        return Ok(());
     }
     let staff = charts::staff_predictability(&charts::StaffPredictabilityInput {
         staff: String::new(),
@@ -52,7 +53,7 @@ pub fn audit_charts(s: &Summary, stems: &BTreeMap<String, String>) -> Result<Bui
         fdr: s.settings.fdr,
     })
     .map_err(chart_err)?;
-    out.staff.push(Chart { name: "staff-bits-gained".into(), ..staff });
+    sink(None, Chart { name: "staff-bits-gained".into(), ..staff })?;
     let labels = staff_labels(s);
     for p in ok {
         let stem = stems.get(&p.pitcher).cloned().unwrap_or_else(|| "pitcher".into());
@@ -96,10 +97,8 @@ pub fn audit_charts(s: &Summary, stems: &BTreeMap<String, String>) -> Result<Bui
             staff_labels: labels.clone(),
         })
         .map_err(chart_err)?;
-        let mut list = vec![
-            Chart { name: format!("count-grid-{stem}"), ..grid },
-            Chart { name: format!("mix-by-count-{stem}"), ..mix },
-        ];
+        sink(Some(&p.pitcher), Chart { name: format!("count-grid-{stem}"), ..grid })?;
+        sink(Some(&p.pitcher), Chart { name: format!("mix-by-count-{stem}"), ..mix })?;
         if !p.null_statistics.is_empty() {
             let null = charts::null_distribution(&charts::NullDistributionInput {
                 pitcher: p.pitcher.clone(),
@@ -108,9 +107,8 @@ pub fn audit_charts(s: &Summary, stems: &BTreeMap<String, String>) -> Result<Bui
                 p_value: p.p_value.unwrap_or(1.0),
             })
             .map_err(chart_err)?;
-            list.push(Chart { name: format!("null-distribution-{stem}"), ..null });
+            sink(Some(&p.pitcher), Chart { name: format!("null-distribution-{stem}"), ..null })?;
         }
-        out.per_pitcher.insert(p.pitcher.clone(), list);
     }
-    Ok(out)
+    Ok(())
 }

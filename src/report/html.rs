@@ -17,6 +17,8 @@ const TEMPLATE: &str = include_str!("templates/index.html");
 pub struct ChartSvgs {
     pub staff: Option<String>,
     pub per_pitcher: BTreeMap<String, Vec<String>>,
+    /// Some pitchers' charts are in charts/ only (a large staff).
+    pub omitted: bool,
 }
 
 #[derive(Serialize)]
@@ -190,6 +192,7 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
         staff => staff,
         insufficient => insufficient,
         staff_chart => charts.staff.clone(),
+        charts_omitted => charts.omitted,
     };
     tmpl.render(ctx).map_err(|e| Error::Internal(format!("rendering index.html: {e}")))
 }

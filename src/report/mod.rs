@@ -62,29 +62,120 @@ pub fn unique_stems(names: &[String]) -> Vec<String> {
         .collect()
 }
 
-/// Write all files under `dir`: first every file to a temporary sibling
-/// name, then rename each into place. Paths must be relative and free of
-/// `..` (checked), so nothing is written outside `dir`.
-pub fn write_all(dir: &Path, files: &[ReportFile]) -> Result<()> {
-    for f in files {
-        if f.path.is_absolute() || f.path.components().any(|c| !matches!(c, std::path::Component::Normal(_))) {
-            return Err(Error::Internal(format!("refusing to write {} outside the report folder", f.path.display())));
-        }
+/// A report being written: each file goes to a temporary sibling name as
+/// soon as it is rendered (so a large report is never held in memory whole),
+/// and `commit` renames them all into place. Dropped uncommitted, it removes
+/// its temporary files, so an interrupted or failed run leaves the old
+/// report (or none), never a half-written one.
+pub struct Staging {
+    dir: PathBuf,
+    staged: Vec<(PathBuf, PathBuf)>,
+    committed: bool,
+}
+
+impl Staging {
+    pub fn new(dir: &Path) -> Staging {
+        Staging { dir: dir.to_path_buf(), staged: Vec::new(), committed: false }
     }
-    let mut staged = Vec::new();
-    for f in files {
-        let target = dir.join(&f.path);
-        let parent = target.parent().unwrap_or(dir);
-        std::fs::create_dir_all(parent).map_err(|e| Error::io(parent, "create the report folder", e))?;
+
+    /// Paths must be relative and free of `..`, so nothing is written
+    /// outside the report folder.
+    fn target(&self, rel: &Path) -> Result<PathBuf> {
+        if rel.is_absolute() || rel.components().any(|c| !matches!(c, std::path::Component::Normal(_))) {
+            return Err(Error::Internal(format!("refusing to write {} outside the report folder", rel.display())));
+        }
+        Ok(self.dir.join(rel))
+    }
+
+    /// Stage a file written by `write` (e.g. a CSV streamed in chunks).
+    pub fn add_with(&mut self, rel: impl AsRef<Path>, write: impl FnOnce(&mut std::io::BufWriter<std::fs::File>) -> Result<()>) -> Result<()> {
+        let target = self.target(rel.as_ref())?;
+        let parent = target.parent().unwrap_or(&self.dir).to_path_buf();
+        std::fs::create_dir_all(&parent).map_err(|e| Error::io(&parent, "create the report folder", e))?;
         let name = target.file_name().and_then(|n| n.to_str()).unwrap_or("file");
         let tmp = parent.join(format!(".{name}.partial-{}", std::process::id()));
-        std::fs::write(&tmp, &f.bytes).map_err(|e| Error::io(&tmp, "write", e))?;
-        staged.push((tmp, target));
+        let file = std::fs::File::create(&tmp).map_err(|e| Error::io(&tmp, "write", e))?;
+        // Recorded first, so a failed write is still cleaned up.
+        self.staged.push((tmp.clone(), target));
+        let mut w = std::io::BufWriter::new(file);
+        write(&mut w)?;
+        use std::io::Write;
+        w.flush().map_err(|e| Error::io(&tmp, "write", e))?;
+        Ok(())
     }
-    for (tmp, target) in staged {
-        std::fs::rename(&tmp, &target).map_err(|e| Error::io(&target, "rename into place", e))?;
+
+    pub fn add(&mut self, rel: impl AsRef<Path>, bytes: &[u8]) -> Result<()> {
+        let rel = rel.as_ref().to_path_buf();
+        self.add_with(&rel, |w| {
+            use std::io::Write;
+            w.write_all(bytes).map_err(|e| Error::io(&rel, "write", e))
+        })
     }
-    Ok(())
+
+    /// Rename every staged file into place.
+    pub fn commit(mut self) -> Result<()> {
+        for (tmp, target) in &self.staged {
+            std::fs::rename(tmp, target).map_err(|e| Error::io(target, "rename into place", e))?;
+        }
+        self.committed = true;
+        Ok(())
+    }
+}
+
+impl Drop for Staging {
+    fn drop(&mut self) {
+        if !self.committed {
+            for (tmp, _) in &self.staged {
+                let _ = std::fs::remove_file(tmp);
+            }
+        }
+    }
+}
+
+/// Write all files under `dir` at once (see [`Staging`]).
+pub fn write_all(dir: &Path, files: &[ReportFile]) -> Result<()> {
+    let mut st = Staging::new(dir);
+    for f in files {
+        st.add(&f.path, &f.bytes)?;
+    }
+    st.commit()
+}
+
+/// Above this many pitchers, index.html inlines the charts of only the
+/// pitchers with a significant model or a flagged tell (every chart is still
+/// written under charts/), so a league-wide page stays light enough to open.
+pub const INLINE_ALL_CHARTS_UP_TO: usize = 60;
+
+/// Render and write an audit's report folder.
+pub fn write_audit_report(dir: &Path, audit: &crate::audit::Audit) -> Result<()> {
+    let s = &audit.summary;
+    let names: Vec<String> = s.pitchers.iter().map(|p| p.pitcher.clone()).collect();
+    let stems: std::collections::BTreeMap<String, String> = names.iter().cloned().zip(unique_stems(&names)).collect();
+    let ok = s.pitchers.iter().filter(|p| p.is_ok()).count();
+    let inline = |pitcher: &str| {
+        ok <= INLINE_ALL_CHARTS_UP_TO
+            || s.pitchers.iter().any(|p| p.pitcher == pitcher && (p.significant == Some(true) || !p.tells.is_empty()))
+    };
+    let mut st = Staging::new(dir);
+    let mut svgs = html::ChartSvgs::default();
+    figures::for_each_chart(s, &stems, |pitcher, chart| {
+        st.add(format!("charts/{}.svg", chart.name), chart.svg.as_bytes())?;
+        st.add(format!("charts/{}.png", chart.name), &chart.png)?;
+        match pitcher {
+            None => svgs.staff = Some(chart.svg),
+            Some(p) if inline(p) => svgs.per_pitcher.entry(p.to_string()).or_default().push(chart.svg),
+            Some(_) => {}
+        }
+        Ok(())
+    })?;
+    svgs.omitted = ok > INLINE_ALL_CHARTS_UP_TO;
+    st.add("index.html", html::render(s, &audit.tests, &svgs, &stems)?.as_bytes())?;
+    drop(svgs);
+    st.add("summary.json", json::summary_json(s)?.as_bytes())?;
+    st.add_with("tells.csv", |w| csv::write_tells_csv(&audit.tests, w))?;
+    st.add("counts.csv", &csv::counts_csv(s)?)?;
+    st.add("rejected.csv", &csv::rejected_csv(&audit.rejected)?)?;
+    st.commit()
 }
 
 #[cfg(test)]
@@ -114,29 +205,3 @@ mod tests {
     }
 }
 
-/// Every file of an audit report, rendered from the one results value.
-pub fn audit_files(audit: &crate::audit::Audit) -> Result<Vec<ReportFile>> {
-    let s = &audit.summary;
-    let names: Vec<String> = s.pitchers.iter().map(|p| p.pitcher.clone()).collect();
-    let stems: std::collections::BTreeMap<String, String> =
-        names.iter().cloned().zip(unique_stems(&names)).collect();
-    let mut files = Vec::new();
-    let built = figures::audit_charts(s, &stems)?;
-    let mut svgs = html::ChartSvgs::default();
-    for c in &built.staff {
-        svgs.staff = Some(c.svg.clone());
-    }
-    for (pitcher, list) in &built.per_pitcher {
-        svgs.per_pitcher.insert(pitcher.clone(), list.iter().map(|c| c.svg.clone()).collect());
-    }
-    for c in built.staff.iter().chain(built.per_pitcher.values().flatten()) {
-        files.push(ReportFile::new(format!("charts/{}.svg", c.name), c.svg.clone()));
-        files.push(ReportFile::new(format!("charts/{}.png", c.name), c.png.clone()));
-    }
-    files.push(ReportFile::new("index.html", html::render(s, &audit.tests, &svgs, &stems)?));
-    files.push(ReportFile::new("summary.json", json::summary_json(s)?));
-    files.push(ReportFile::new("tells.csv", csv::tells_csv(&audit.tests)?));
-    files.push(ReportFile::new("counts.csv", csv::counts_csv(s)?));
-    files.push(ReportFile::new("rejected.csv", csv::rejected_csv(&audit.rejected)?));
-    Ok(files)
-}
