@@ -12,7 +12,7 @@ use super::LogArgs;
 use std::path::{Path, PathBuf};
 use tellscope::compare::{self, period::PeriodSpec, Comparison, Request};
 use tellscope::report;
-use tellscope::settings::Overrides;
+use tellscope::settings::{ConfigFile, Overrides, Settings};
 use tellscope::Result;
 
 #[derive(clap::Args, Debug)]
@@ -87,15 +87,20 @@ pub fn print_table(cmp: &Comparison, out: &Path) {
     println!("{:<22} {:>7} {:>7} {:>6} {:>7} {:>8} {:>8} {:>7} {:>7}", "pitcher", "before", "after", "shift", "q", "bits B", "bits A", "q", "changes");
     let qt = |q: f64| if q < 0.001 { "<0.001".to_string() } else { format!("{q:.3}") };
     for p in s.pitchers.iter().filter(|p| p.is_ok()) {
-        let overall = p.changes.iter().find(|c| c.kind == "mix_shift" && c.situation.is_empty());
+        let mix_q = p
+            .changes
+            .iter()
+            .filter(|c| c.kind == "new_pitch" || c.kind == "dropped_pitch" || (c.kind == "mix_shift" && c.situation.is_empty()))
+            .filter_map(|c| c.q)
+            .fold(f64::NAN, f64::min);
         let pr = p.predictability.as_ref();
         println!(
             "{:<22} {:>7} {:>7} {:>6.0} {:>7} {:>+8.3} {:>+8.3} {:>7} {:>7}",
             p.pitcher.chars().take(22).collect::<String>(),
             p.n_before,
             p.n_after,
-            overall.map(|c| 100.0 * c.effect).unwrap_or(0.0),
-            overall.and_then(|c| c.q).map(qt).unwrap_or_default(),
+            100.0 * p.mix_shift.unwrap_or(0.0),
+            if mix_q.is_nan() { String::new() } else { qt(mix_q) },
             pr.map(|x| x.before.bits_gained).unwrap_or(0.0),
             pr.map(|x| x.after.bits_gained).unwrap_or(0.0),
             pr.map(|x| qt(x.q)).unwrap_or_default(),
@@ -105,7 +110,8 @@ pub fn print_table(cmp: &Comparison, out: &Path) {
     for p in s.pitchers.iter().filter(|p| !p.is_ok()) {
         println!("{:<22} {:>7} {:>7}  insufficient data", p.pitcher.chars().take(22).collect::<String>(), p.n_before, p.n_after);
     }
-    println!("  shift: pitches in every 100 that changed type (total variation of the mix); bits: held-out bits gained per pitch in each period");
+    println!("  shift: pitches in every 100 that changed type (total variation of the whole mix), q: its strongest test (overall mix, new or dropped pitch)");
+    println!("  bits: held-out bits gained per pitch in each period, q: the label-swap test of their difference");
     for p in s.pitchers.iter().filter(|p| p.is_ok() && p.significant_changes > 0) {
         println!();
         println!("{}:", p.pitcher);
@@ -115,4 +121,23 @@ pub fn print_table(cmp: &Comparison, out: &Path) {
     }
     println!();
     println!("Report: {}", out.join("index.html").display());
+}
+
+/// Label swaps of the demo's comparison: enough that a predictability
+/// change can reach the bar of its BH family (the default 199 cannot).
+pub const DEMO_PERMUTATIONS: usize = 1999;
+
+/// The demo's comparison, 2025 against 2026, into `<audit folder>-compare`
+/// (`reports/demo-compare` by default); called at the end of `tellscope demo`.
+pub fn run_demo(log_path: &Path, cfg: &ConfigFile, audit_out: &Path, permutations: Option<usize>) -> Result<()> {
+    let permutations = permutations.unwrap_or(DEMO_PERMUTATIONS);
+    let settings = Settings::resolve(cfg, &Overrides { permutations: Some(permutations), ..Overrides::default() })?;
+    let request = Request { before: PeriodSpec::Season(2025), after: PeriodSpec::Season(2026), permutations };
+    let cmp = compare::run(log_path, &settings, &request, true)?;
+    let name = audit_out.file_name().and_then(|n| n.to_str()).unwrap_or("demo");
+    let out = audit_out.with_file_name(format!("{name}-compare"));
+    report::write_all(&out, &report::compare::compare_files(&cmp)?)?;
+    println!();
+    print_table(&cmp, &out);
+    Ok(())
 }

@@ -2,8 +2,9 @@
 //!
 //! Runs the bundled demo end to end: simulates the invented club of
 //! `demo-data/scenario.toml` (seed of `demo-data/README.md`), checks that
-//! the result equals the committed `demo-data/demo-log.csv`, and audits it
-//! into `reports/demo`.
+//! the result equals the committed `demo-data/demo-log.csv`, audits it
+//! into `reports/demo`, and compares 2025 with 2026 into
+//! `reports/demo-compare` (beside the audit's folder).
 
 use std::path::{Path, PathBuf};
 use tellscope::audit;
@@ -24,7 +25,7 @@ pub struct Args {
     /// Report folder.
     #[arg(long, value_name = "DIR", default_value = "reports/demo")]
     pub out: PathBuf,
-    /// Permutations per pitcher (default 999).
+    /// Permutations per pitcher (default 999 for the audit, 1999 label swaps for the comparison).
     #[arg(long, value_name = "N")]
     pub permutations: Option<usize>,
 }
@@ -53,7 +54,7 @@ pub fn run(args: Args) -> Result<()> {
     let a = audit::run(&log_path, &settings, true)?;
     report::write_audit_report(&args.out, &a)?;
     super::audit::print_table(&a, &args.out);
-    Ok(())
+    super::compare::run_demo(&log_path, &cfg, &args.out, args.permutations)
 }
 
 fn files_equal(a: &Path, b: &Path) -> bool {

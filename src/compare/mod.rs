@@ -468,6 +468,7 @@ pub fn compare_log(
                     games_after: games_of(log, &rows[1]),
                     mix_before: None,
                     mix_after: None,
+                    mix_shift: None,
                     predictability: None,
                     seasons: Vec::new(),
                     counts: Vec::new(),
@@ -538,6 +539,10 @@ pub fn compare_log(
                     games_after: games_of(log, &rows[1]),
                     mix_before: Some(mix_map(names, &types, &all_b)),
                     mix_after: Some(mix_map(names, &types, &all_a)),
+                    mix_shift: crate::significance::resample::total_variation(
+                        &all_b.iter().map(|&x| x as f64).collect::<Vec<_>>(),
+                        &all_a.iter().map(|&x| x as f64).collect::<Vec<_>>(),
+                    ),
                     predictability: Some(Predictability {
                         before: fb,
                         after: fa,

@@ -207,6 +207,10 @@ pub struct PitcherChanges {
     pub mix_before: Option<BTreeMap<String, f64>>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub mix_after: Option<BTreeMap<String, f64>>,
+    /// Total variation distance between the two whole mixes (new and
+    /// dropped pitches included): pitches in every one that changed type.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub mix_shift: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub predictability: Option<Predictability>,
     /// Held-out figures per season, when the log has more than two seasons.

@@ -323,10 +323,13 @@ pub fn summary_lines(p: &PitcherChanges, before: &str, after: &str, fdr: f64) ->
         let gone = one_sided.iter().filter(|c| c.kind == "tell_disappeared").count();
         let new = one_sided.len() - gone;
         let strongest = one_sided.first().map(|c| format!("; the strongest: {}", item(c))).unwrap_or_default();
+        let counted = match (gone, new) {
+            (g, 0) => format!("{} flagged in {before} only", plural(g, "tell was", "tells were")),
+            (0, n) => format!("{} flagged in {after} only", plural(n, "tell was", "tells were")),
+            (g, n) => format!("{} flagged in {before} only and {n} in {after} only", plural(g, "tell was", "tells were")),
+        };
         lines.push(format!(
-            "{} flagged in {before} only and {} in {after} only{strongest}. A tell can miss the bar in a period by chance, so these are not tested as changes (see the tells table).",
-            plural(gone, "tell was", "tells were"),
-            new
+            "{counted}{strongest}. A tell can miss the bar in a period by chance, so these are not tested as changes (see the tells table)."
         ));
     }
     lines

@@ -283,112 +283,70 @@ pub fn load(path: &Path, settings: &Settings) -> Result<Ingested> {
     Ok(Ingested { log, rejected, source })
 }
 
-/// One valid row before ordering and interning is finished.
-struct Row {
-    game: u32,
-    date: i32,
-    season: i32,
-    pitcher: u32,
-    throws: Hand,
-    batter: u32,
-    bats: Hand,
-    inning: u16,
-    outs: u8,
-    balls: u8,
-    strikes: u8,
-    bases: [bool; 3],
-    pitch_type: u32,
-    pa: u32,
-    pitch_no: u32,
-    score_diff: Option<i32>,
-    result: Option<PitchResult>,
-    speed: Option<f32>,
-    side: Option<f32>,
-    height: Option<f32>,
-    team: Option<u32>,
-    file_index: u32,
-}
-
+/// Validate every row straight into the log's columns (file order), then
+/// order them: one column at a time is permuted, so no row-sized copy of the
+/// whole log is ever made.
 fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, usize) {
     let col = |c: &str| table.column(settings.file_column(c));
-    let req: Vec<&polars::prelude::StringChunked> =
-        REQUIRED_COLUMNS.iter().map(|c| col(c).expect("checked above")).collect();
-    let [c_game, c_date, c_pitcher, c_throws, c_batter, c_bats, c_inning, c_outs, c_balls, c_strikes, c_on1, c_on2, c_on3, c_type] =
-        req.as_slice()
-    else {
-        unreachable!()
-    };
-    let c_season = col("season");
-    let c_pa = col("pa");
-    let c_pitch_no = col("pitch_no");
-    let c_score = col("score_diff");
-    let c_result = col("result");
-    let c_speed = col("speed_mph");
-    let c_side = col("loc_side_ft");
-    let c_height = col("loc_height_ft");
-    let c_team = col("team");
+    let cols: Vec<Option<&read::TextColumn>> =
+        REQUIRED_COLUMNS.iter().chain(OPTIONAL_COLUMNS.iter()).map(|c| col(c)).collect();
+    let has = |c: &str| col(c).is_some();
+    let (has_pa, has_pitch_no) = (has("pa"), has("pitch_no"));
 
     let mut games = Interner::default();
     let mut pitchers = Interner::default();
     let mut batters = Interner::default();
     let mut types = Interner::default();
     let mut teams = Interner::default();
-    let mut rows: Vec<Row> = Vec::with_capacity(table.n_rows);
     let mut rejected = Vec::new();
-
-    // Iterate all columns in lockstep.
-    let mut its: Vec<Box<dyn Iterator<Item = Option<&str>>>> = Vec::new();
-    for c in [c_game, c_date, c_pitcher, c_throws, c_batter, c_bats, c_inning, c_outs, c_balls, c_strikes, c_on1, c_on2, c_on3, c_type] {
-        its.push(Box::new(c.iter()));
-    }
-    let opt_cols = [c_season, c_pa, c_pitch_no, c_score, c_result, c_speed, c_side, c_height, c_team];
-    for c in opt_cols {
-        match c {
-            Some(c) => its.push(Box::new(c.iter())),
-            None => its.push(Box::new(std::iter::repeat(None))),
-        }
-    }
-    let mut vals: Vec<Option<&str>> = vec![None; its.len()];
     let mut blank = 0usize;
+    let mut log = PitchLog::default();
+    let mut pa = Vec::new();
+    let mut pitch_no = Vec::new();
+    let mut score = Vec::new();
+    let mut result = Vec::new();
+    let mut speed = Vec::new();
+    let mut side = Vec::new();
+    let mut height = Vec::new();
+    let mut team = Vec::new();
+    let mut vals: Vec<Option<&str>> = vec![None; cols.len()];
     for i in 0..table.n_rows {
-        for (v, it) in vals.iter_mut().zip(its.iter_mut()) {
-            *v = it.next().flatten().map(str::trim).filter(|s| !s.is_empty());
+        for (v, c) in vals.iter_mut().zip(&cols) {
+            *v = c.and_then(|c| c.get(i));
         }
-        let line = table.location(i);
         if vals.iter().all(Option::is_none) {
             blank += 1;
             continue; // a blank line is not a pitch
         }
-        match parse_row(&vals, c_pa.is_some(), c_pitch_no.is_some()) {
+        match parse_row(&vals, has_pa, has_pitch_no) {
             Ok(p) => {
-                let pitch_type = settings.pitch_group(p.pitch_type);
-                rows.push(Row {
-                    game: games.get(p.game),
-                    date: p.date,
-                    season: p.season,
-                    pitcher: pitchers.get(p.pitcher),
-                    throws: p.throws,
-                    batter: batters.get(p.batter),
-                    bats: p.bats,
-                    inning: p.inning,
-                    outs: p.outs,
-                    balls: p.balls,
-                    strikes: p.strikes,
-                    bases: p.bases,
-                    pitch_type: types.get(pitch_type),
-                    pa: p.pa.unwrap_or(0),
-                    pitch_no: p.pitch_no.unwrap_or(0),
-                    score_diff: p.score_diff,
-                    result: p.result,
-                    speed: p.speed,
-                    side: p.side,
-                    height: p.height,
-                    team: p.team.map(|t| teams.get(t)),
-                    file_index: i as u32,
-                });
+                log.game.push(games.get(p.game));
+                log.date.push(p.date);
+                log.season.push(p.season);
+                log.pitcher.push(pitchers.get(p.pitcher));
+                log.throws.push(p.throws);
+                log.batter.push(batters.get(p.batter));
+                log.bats.push(p.bats);
+                log.inning.push(p.inning);
+                log.outs.push(p.outs);
+                log.balls.push(p.balls);
+                log.strikes.push(p.strikes);
+                log.on_first.push(p.bases[0]);
+                log.on_second.push(p.bases[1]);
+                log.on_third.push(p.bases[2]);
+                log.pitch_type.push(types.get(settings.pitch_group(p.pitch_type)) as u16);
+                log.source_line.push(table.location(i));
+                pa.push(p.pa.unwrap_or(0));
+                pitch_no.push(p.pitch_no.unwrap_or(0));
+                score.push(p.score_diff);
+                result.push(p.result);
+                speed.push(p.speed);
+                side.push(p.side);
+                height.push(p.height);
+                team.push(p.team.map(|t| teams.get(t)));
             }
             Err((column, value, reason)) => rejected.push(Rejected {
-                line,
+                line: table.location(i),
                 column: column.to_string(),
                 value: value.unwrap_or("").to_string(),
                 reason,
@@ -401,67 +359,60 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
     let (batter_names, batter_map) = batters.finish();
     let (type_names, type_map) = types.finish();
     let (team_names, team_map) = teams.finish();
+    log.game.iter_mut().for_each(|g| *g = game_map[*g as usize]);
+    log.pitcher.iter_mut().for_each(|g| *g = pitcher_map[*g as usize]);
+    log.batter.iter_mut().for_each(|g| *g = batter_map[*g as usize]);
+    log.pitch_type.iter_mut().for_each(|g| *g = type_map[*g as usize] as u16);
+    team.iter_mut().for_each(|t| *t = t.map(|t| team_map[t as usize]));
+    log.games = game_names;
+    log.pitchers = pitcher_names;
+    log.batters = batter_names;
+    log.pitch_types = type_names;
+    log.teams = team_names;
 
     // CONTRACT §1: order by date, game, pa, pitch_no; file order within a
     // game when pa/pitch_no are absent (they are then 0 for every row, so
-    // the file index decides).
-    rows.sort_by(|a, b| {
-        (a.date, game_map[a.game as usize], a.pa, a.pitch_no, a.file_index)
-            .cmp(&(b.date, game_map[b.game as usize], b.pa, b.pitch_no, b.file_index))
+    // the file position decides). The sort is stable.
+    let mut order: Vec<u32> = (0..log.game.len() as u32).collect();
+    order.sort_by_key(|&i| {
+        let i = i as usize;
+        (log.date[i], log.game[i], pa[i], pitch_no[i])
     });
-
-    let n = rows.len();
-    let mut log = PitchLog {
-        games: game_names,
-        pitchers: pitcher_names,
-        batters: batter_names,
-        pitch_types: type_names,
-        teams: team_names,
-        ..PitchLog::default()
-    };
-    log.game.reserve(n);
-    for r in &rows {
-        log.game.push(game_map[r.game as usize]);
-        log.date.push(r.date);
-        log.season.push(r.season);
-        log.pitcher.push(pitcher_map[r.pitcher as usize]);
-        log.throws.push(r.throws);
-        log.batter.push(batter_map[r.batter as usize]);
-        log.bats.push(r.bats);
-        log.inning.push(r.inning);
-        log.outs.push(r.outs);
-        log.balls.push(r.balls);
-        log.strikes.push(r.strikes);
-        log.on_first.push(r.bases[0]);
-        log.on_second.push(r.bases[1]);
-        log.on_third.push(r.bases[2]);
-        log.pitch_type.push(type_map[r.pitch_type as usize] as u16);
-        log.source_line.push(table.location(r.file_index as usize));
+    fn reorder<T: Copy>(v: &mut Vec<T>, order: &[u32]) {
+        *v = order.iter().map(|&i| v[i as usize]).collect();
     }
-    if c_pa.is_some() {
-        log.pa = Some(rows.iter().map(|r| r.pa).collect());
+    reorder(&mut log.game, &order);
+    reorder(&mut log.date, &order);
+    reorder(&mut log.season, &order);
+    reorder(&mut log.pitcher, &order);
+    reorder(&mut log.throws, &order);
+    reorder(&mut log.batter, &order);
+    reorder(&mut log.bats, &order);
+    reorder(&mut log.inning, &order);
+    reorder(&mut log.outs, &order);
+    reorder(&mut log.balls, &order);
+    reorder(&mut log.strikes, &order);
+    reorder(&mut log.on_first, &order);
+    reorder(&mut log.on_second, &order);
+    reorder(&mut log.on_third, &order);
+    reorder(&mut log.pitch_type, &order);
+    reorder(&mut log.source_line, &order);
+    fn opt<T: Copy>(present: bool, mut v: Vec<T>, order: &[u32]) -> Option<Vec<T>> {
+        if present {
+            reorder(&mut v, order);
+            Some(v)
+        } else {
+            None
+        }
     }
-    if c_pitch_no.is_some() {
-        log.pitch_no = Some(rows.iter().map(|r| r.pitch_no).collect());
-    }
-    if c_score.is_some() {
-        log.score_diff = Some(rows.iter().map(|r| r.score_diff).collect());
-    }
-    if c_result.is_some() {
-        log.result = Some(rows.iter().map(|r| r.result).collect());
-    }
-    if c_speed.is_some() {
-        log.speed_mph = Some(rows.iter().map(|r| r.speed).collect());
-    }
-    if c_side.is_some() {
-        log.loc_side_ft = Some(rows.iter().map(|r| r.side).collect());
-    }
-    if c_height.is_some() {
-        log.loc_height_ft = Some(rows.iter().map(|r| r.height).collect());
-    }
-    if c_team.is_some() {
-        log.team = Some(rows.iter().map(|r| r.team.map(|t| team_map[t as usize])).collect());
-    }
+    log.pa = opt(has_pa, pa, &order);
+    log.pitch_no = opt(has_pitch_no, pitch_no, &order);
+    log.score_diff = opt(has("score_diff"), score, &order);
+    log.result = opt(has("result"), result, &order);
+    log.speed_mph = opt(has("speed_mph"), speed, &order);
+    log.loc_side_ft = opt(has("loc_side_ft"), side, &order);
+    log.loc_height_ft = opt(has("loc_height_ft"), height, &order);
+    log.team = opt(has("team"), team, &order);
     (log, rejected, blank)
 }
 

@@ -31,16 +31,59 @@ impl Format {
     }
 }
 
+/// One text column held as a dictionary of its distinct (trimmed) values
+/// and a code per row: memory grows with the rows and the columns kept, not
+/// with the length of the text.
+pub struct TextColumn {
+    pub dict: Vec<String>,
+    /// Index into `dict`, or [`NULL_CODE`] for an empty cell.
+    pub codes: Vec<u32>,
+}
+
+pub const NULL_CODE: u32 = u32::MAX;
+
+impl TextColumn {
+    fn from_chunked(ca: &StringChunked) -> TextColumn {
+        let mut index: std::collections::HashMap<&str, u32> = std::collections::HashMap::new();
+        let mut dict = Vec::new();
+        let mut codes = Vec::with_capacity(ca.len());
+        for v in ca.iter() {
+            match v.map(str::trim).filter(|s| !s.is_empty()) {
+                None => codes.push(NULL_CODE),
+                Some(s) => {
+                    let next = dict.len() as u32;
+                    let c = *index.entry(s).or_insert_with(|| {
+                        dict.push(s.to_string());
+                        next
+                    });
+                    codes.push(c);
+                }
+            }
+        }
+        TextColumn { dict, codes }
+    }
+
+    #[inline]
+    pub fn get(&self, row: usize) -> Option<&str> {
+        let c = self.codes[row];
+        if c == NULL_CODE {
+            None
+        } else {
+            Some(&self.dict[c as usize])
+        }
+    }
+}
+
 /// Text columns read from a file, by the file's own header names.
 pub struct RawTable {
     pub format: Format,
     pub header: Vec<String>,
     pub n_rows: usize,
-    pub columns: Vec<(String, StringChunked)>,
+    pub columns: Vec<(String, TextColumn)>,
 }
 
 impl RawTable {
-    pub fn column(&self, file_name: &str) -> Option<&StringChunked> {
+    pub fn column(&self, file_name: &str) -> Option<&TextColumn> {
         self.columns.iter().find(|(n, _)| n == file_name).map(|(_, c)| c)
     }
 
@@ -126,44 +169,53 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
         )));
     }
     let format = Format::of(path);
-    let (header, df) = match format {
-        Format::Csv => {
-            let header = csv_header(path)?;
-            let keep: Vec<PlSmallStr> = header
-                .iter()
-                .filter(|h| wanted.contains(h))
-                .map(|h| PlSmallStr::from(h.as_str()))
-                .collect();
-            let df = CsvReadOptions::default()
-                .with_has_header(true)
-                .with_infer_schema_length(Some(0))
-                .with_columns(Some(keep.into()))
-                .try_into_reader_with_file_path(Some(path.to_path_buf()))
-                .map_err(|e| polars_err(path, e))?
-                .finish()
-                .map_err(|e| polars_err(path, e))?;
-            (header, df)
-        }
+    let header: Vec<String> = match format {
+        Format::Csv => csv_header(path)?,
         Format::Parquet => {
             let file = std::fs::File::open(path).map_err(|e| Error::io(path, "open the file", e))?;
-            let mut reader = ParquetReader::new(file);
-            let schema = reader.schema().map_err(|e| polars_err(path, e))?;
-            let header: Vec<String> = schema.iter_names().map(|s| s.to_string()).collect();
-            let keep: Vec<String> = header.iter().filter(|h| wanted.contains(h)).cloned().collect();
-            let df = reader.with_columns(Some(keep)).finish().map_err(|e| polars_err(path, e))?;
-            (header, df)
+            let schema = ParquetReader::new(file).schema().map_err(|e| polars_err(path, e))?;
+            schema.iter_names().map(|s| s.to_string()).collect()
         }
     };
-    let n_rows = df.height();
-    let mut columns = Vec::new();
-    for col in df.columns() {
-        let name = col.name().to_string();
-        let s = col
-            .as_materialized_series()
-            .cast(&DataType::String)
-            .map_err(|e| Error::Data(format!("{}: column {name} cannot be read as text ({e}); store it as text or numbers", path.display())))?;
-        let ca = s.str().map_err(|e| Error::Internal(e.to_string()))?.clone();
-        columns.push((name, ca));
+    let mut keep: Vec<String> = Vec::new();
+    for h in &header {
+        if wanted.contains(h) && !keep.contains(h) {
+            keep.push(h.clone());
+        }
     }
-    Ok(RawTable { format, header, n_rows, columns })
+    // Columns are read a few at a time and turned into dictionary codes at
+    // once, so the text of the whole file is never held in memory.
+    const GROUP: usize = 6;
+    let mut columns = Vec::new();
+    let mut n_rows = None;
+    let groups: Vec<&[String]> = if keep.is_empty() { vec![&keep[..]] } else { keep.chunks(GROUP).collect() };
+    for group in groups {
+        let df = match format {
+            Format::Csv => {
+                let names: Vec<PlSmallStr> = group.iter().map(|h| PlSmallStr::from(h.as_str())).collect();
+                CsvReadOptions::default()
+                    .with_has_header(true)
+                    .with_infer_schema_length(Some(0))
+                    .with_columns(Some(names.into()))
+                    .try_into_reader_with_file_path(Some(path.to_path_buf()))
+                    .map_err(|e| polars_err(path, e))?
+                    .finish()
+                    .map_err(|e| polars_err(path, e))?
+            }
+            Format::Parquet => {
+                let file = std::fs::File::open(path).map_err(|e| Error::io(path, "open the file", e))?;
+                ParquetReader::new(file).with_columns(Some(group.to_vec())).finish().map_err(|e| polars_err(path, e))?
+            }
+        };
+        n_rows = Some(df.height());
+        for col in df.columns() {
+            let name = col.name().to_string();
+            let s = col.as_materialized_series().cast(&DataType::String).map_err(|e| {
+                Error::Data(format!("{}: column {name} cannot be read as text ({e}); store it as text or numbers", path.display()))
+            })?;
+            let ca = s.str().map_err(|e| Error::Internal(e.to_string()))?;
+            columns.push((name, TextColumn::from_chunked(ca)));
+        }
+    }
+    Ok(RawTable { format, header, n_rows: n_rows.unwrap_or(0), columns })
 }

@@ -224,6 +224,7 @@ struct PitcherView {
     charts: Vec<String>,
     mix: Vec<MixRow>,
     mix_q: String,
+    mix_kept: bool,
     mix_shift: String,
     counts: Vec<CountRow>,
     periods: Vec<PeriodRow>,
@@ -369,13 +370,23 @@ fn pitcher_view(s: &CompareSummary, p: &PitcherChanges, anchor: &str, svgs: Vec<
             .lift_difference_interval
             .map(|i| format!(" (95% interval {:+.0} to {:+.0} points)", 100.0 * i.low, 100.0 * i.high))
             .unwrap_or_default();
+        let test = if pr.stopped_early {
+            format!("stopped early after {} shuffles", pr.permutations)
+        } else {
+            format!("{} shuffles", pr.permutations)
+        };
+        let iv = pr.bits_difference_interval;
+        let caveat = if (iv.low > 0.0 || iv.high < 0.0) && pr.q > s.settings.fdr {
+            " The interval leaves out 0, but it only counts which games happened to be scored, with the fitted models held fixed; the test also refits the models and is corrected for every test of the report, and it does not find the change beyond chance."
+        } else {
+            ""
+        };
         difference = format!(
-            "Change from {bl} to {al}: {} bits per pitch (95% interval {} to {}); lift {:+.0} points{lift_iv}. Label-swap test over {} shuffles: p = {}, {}.",
+            "Change from {bl} to {al}: {} bits per pitch (95% interval {} to {}); lift {:+.0} points{lift_iv}. Label-swap test ({test}): p = {}, {}.{caveat}",
             bits_text(pr.bits_difference),
-            bits_text(pr.bits_difference_interval.low),
-            bits_text(pr.bits_difference_interval.high),
+            bits_text(iv.low),
+            bits_text(iv.high),
             100.0 * pr.lift_difference,
-            pr.permutations,
             p_text(pr.p),
             q_text(pr.q)
         );
@@ -443,7 +454,8 @@ fn pitcher_view(s: &CompareSummary, p: &PitcherChanges, anchor: &str, svgs: Vec<
         charts: svgs,
         mix,
         mix_q: overall.and_then(|c| c.q).map(q_text).unwrap_or_default(),
-        mix_shift: overall.map(|c| format!("{:.0}", 100.0 * c.effect)).unwrap_or_default(),
+        mix_kept: overall.map(|c| c.among.is_some()).unwrap_or(false),
+        mix_shift: p.mix_shift.map(|x| format!("{:.0}", 100.0 * x)).unwrap_or_default(),
         counts,
         periods,
         seasons,
@@ -474,7 +486,14 @@ pub fn compare_files(cmp: &Comparison) -> Result<Vec<ReportFile>> {
             files.push(ReportFile::new(format!("charts/{}.svg", c.name), c.svg.clone()));
             files.push(ReportFile::new(format!("charts/{}.png", c.name), c.png.clone()));
         }
-        let overall = p.changes.iter().find(|c| c.kind == "mix_shift" && c.situation.is_empty());
+        // The strongest evidence of a changed mix: a new or dropped pitch,
+        // or the overall mix test.
+        let mix_q = p
+            .changes
+            .iter()
+            .filter(|c| c.kind == "new_pitch" || c.kind == "dropped_pitch" || (c.kind == "mix_shift" && c.situation.is_empty()))
+            .filter_map(|c| c.q)
+            .fold(f64::NAN, f64::min);
         let pr = p.predictability.as_ref();
         staff.push(StaffRow {
             pitcher: p.pitcher.clone(),
@@ -482,10 +501,10 @@ pub fn compare_files(cmp: &Comparison) -> Result<Vec<ReportFile>> {
             throws: p.throws.clone(),
             n_before: p.n_before,
             n_after: p.n_after,
-            mix_shift: overall.map(|c| format!("{:.0}", 100.0 * c.effect)).unwrap_or_default(),
-            mix_shift_v: overall.map(|c| c.effect).unwrap_or(0.0),
-            mix_q: overall.and_then(|c| c.q).map(p_text).unwrap_or_default(),
-            mix_q_v: overall.and_then(|c| c.q).unwrap_or(1.0),
+            mix_shift: p.mix_shift.map(|x| format!("{:.0}", 100.0 * x)).unwrap_or_default(),
+            mix_shift_v: p.mix_shift.unwrap_or(0.0),
+            mix_q: if mix_q.is_nan() { String::new() } else { p_text(mix_q) },
+            mix_q_v: if mix_q.is_nan() { 1.0 } else { mix_q },
             bits_before: pr.map(|x| bits_text(x.before.bits_gained)).unwrap_or_default(),
             bits_before_v: pr.map(|x| x.before.bits_gained).unwrap_or(0.0),
             bits_after: pr.map(|x| bits_text(x.after.bits_gained)).unwrap_or_default(),
