@@ -70,20 +70,25 @@ pub fn permutation_test(
     let mut seq = SequentialPermutation::new(0.5, m, settings.stop_after_exceedances);
     let mut null = Vec::new();
     let mut start = 0usize;
+    let pool: Vec<std::sync::Mutex<Option<(Workspace, Vec<u8>)>>> =
+        (0..rayon::current_num_threads().max(1)).map(|_| std::sync::Mutex::new(None)).collect();
     while start < m && !seq.is_done() {
         let end = (start + BATCH).min(m);
         let stats: Vec<Stat> = (start..end)
             .into_par_iter()
-            .map_init(
-                || (Workspace::new(task), task.labels.clone()),
-                |(ws, labels), j| {
-                    labels.copy_from_slice(&task.labels);
-                    let mut rng = permutation_rng(settings.seed, &task.name, j as u64);
-                    shuffle_within(labels, &task.strata, &mut rng);
-                    let scored = fit_and_score(task, labels, settings, ws, false);
-                    statistic(&scored, settings.statistic)
-                },
-            )
+            .map(|j| {
+                // One workspace per worker thread, kept across batches: a
+                // refit's result never depends on what the workspace held
+                // before (same output at any thread count, tested).
+                let slot = rayon::current_thread_index().unwrap_or(0) % pool.len();
+                let mut guard = pool[slot].lock().unwrap_or_else(|e| e.into_inner());
+                let (ws, labels) = guard.get_or_insert_with(|| (Workspace::new(task), task.labels.clone()));
+                labels.copy_from_slice(&task.labels);
+                let mut rng = permutation_rng(settings.seed, &task.name, j as u64);
+                shuffle_within(labels, &task.strata, &mut rng);
+                let scored = fit_and_score(task, labels, settings, ws, false);
+                statistic(&scored, settings.statistic)
+            })
             .collect();
         for s in stats {
             if seq.is_done() {

@@ -116,9 +116,12 @@ fn selected_pitchers(log: &PitchLog, settings: &Settings) -> Result<Vec<u32>> {
     Ok(out)
 }
 
+/// A prepared pitcher, borrowed: (pitcher, rows before/after, fits).
+type Ready<'a> = (u32, &'a [Vec<u32>; 2], &'a [PeriodFit; 2]);
+
 /// A pitcher ready to compare, or why not.
 enum Prepared {
-    Ready { pitcher: u32, rows: [Vec<u32>; 2], fits: [PeriodFit; 2] },
+    Ready { pitcher: u32, rows: [Vec<u32>; 2], fits: Box<[PeriodFit; 2]> },
     Short { pitcher: u32, rows: [Vec<u32>; 2], why: String },
 }
 
@@ -164,7 +167,7 @@ fn prepare(log: &PitchLog, sit: &Situations, p: u32, rows: [Vec<u32>; 2], labels
     }
     let b = fits.remove(0);
     let a = fits.remove(0);
-    let fits = [predictability::fit_period(b, settings), predictability::fit_period(a, settings)];
+    let fits = Box::new([predictability::fit_period(b, settings), predictability::fit_period(a, settings)]);
     Prepared::Ready { pitcher: p, rows, fits }
 }
 
@@ -388,10 +391,10 @@ pub fn compare_log(
         .collect();
     let prepared: Vec<Prepared> =
         chosen.par_iter().map(|&p| prepare(log, sit, p, rows_of[p as usize].clone(), labels, settings)).collect();
-    let ready: Vec<(u32, &[Vec<u32>; 2], &[PeriodFit; 2])> = prepared
+    let ready: Vec<Ready> = prepared
         .iter()
         .filter_map(|x| match x {
-            Prepared::Ready { pitcher, rows, fits } => Some((*pitcher, rows, fits)),
+            Prepared::Ready { pitcher, rows, fits } => Some((*pitcher, rows, &**fits)),
             Prepared::Short { .. } => None,
         })
         .collect();
@@ -474,6 +477,7 @@ pub fn compare_log(
                     counts: Vec::new(),
                     changes: Vec::new(),
                     significant_changes: 0,
+                    headline: "insufficient data".into(),
                     summary_lines: Vec::new(),
                     cautions: vec![why.clone()],
                 });
@@ -559,6 +563,7 @@ pub fn compare_log(
                     counts,
                     changes,
                     significant_changes: 0,
+                    headline: String::new(),
                     summary_lines: Vec::new(),
                     cautions,
                 });
@@ -604,6 +609,7 @@ pub fn compare_log(
         p.significant_changes = p.changes.iter().filter(|c| c.is_test() && c.significant).count();
         if p.is_ok() {
             p.summary_lines = wording::summary_lines(p, labels[0], labels[1], settings.fdr);
+            p.headline = wording::headline(p);
         }
     }
     let tests = all_p.len();

@@ -221,6 +221,8 @@ pub struct PitcherChanges {
     /// Every tested change, in report order.
     pub changes: Vec<Change>,
     pub significant_changes: usize,
+    /// His most telling significant change in one sentence, or "no change".
+    pub headline: String,
     /// The plain-words summary: one line per significant change, then what
     /// held.
     pub summary_lines: Vec<String>,

@@ -135,7 +135,7 @@ pub fn change_text(c: &Change, before: &str, after: &str) -> String {
                 _ => "Tell in both periods".to_string(),
             };
             let (sb, sa) = pair_text(c.before, c.after);
-            let tq = |x: Option<f64>| x.map(|q| q_text(q)).unwrap_or_else(|| "not tested".into());
+            let tq = |x: Option<f64>| x.map(q_text).unwrap_or_else(|| "not tested".into());
             let evidence = match (c.q, kind) {
                 (Some(_), _) if c.significant => format!("his mix in that count changed, {q}"),
                 (Some(_), _) => format!("his mix in that count did not change beyond chance ({q})"),
@@ -183,6 +183,18 @@ fn tell_list(tells: &[&Change]) -> String {
         parts.push(format!("{joined} {}", if dir == "more" { "more often" } else { "less often" }));
     }
     parts.join(", ")
+}
+
+/// The one sentence for a staff table: his most telling significant change
+/// (a new or dropped pitch, then a count, then his overall mix, then his
+/// predictability), or "no change".
+pub fn headline(p: &PitcherChanges) -> String {
+    let sig = |f: &dyn Fn(&Change) -> bool| p.changes.iter().find(|c| c.is_test() && c.significant && f(c)).map(|c| c.text.clone());
+    sig(&|c| c.kind == "new_pitch" || c.kind == "dropped_pitch")
+        .or_else(|| sig(&is_count_shift))
+        .or_else(|| sig(&|c| c.kind == "mix_shift"))
+        .or_else(|| sig(&|c| c.kind == "predictability"))
+        .unwrap_or_else(|| "no change".into())
 }
 
 /// The plain-words summary of one pitcher: significant changes first (new
@@ -261,7 +273,7 @@ pub fn summary_lines(p: &PitcherChanges, before: &str, after: &str, fdr: f64) ->
             .filter(|t| t.kind.starts_with("tell_") && t.situation.len() == 1 && t.situation.get("count") == Some(&count))
             .collect();
         for (kind, words) in [
-            ("tell_disappeared", format!("his {before} tell there ({{}}) is gone")),
+            ("tell_disappeared", format!("his tell there in {before} ({{}}) is gone")),
             ("tell_appeared", format!("a new tell there in {after} ({{}})")),
             ("tell_held", format!("his tell there ({{}}) still shows in {after}")),
         ] {

@@ -58,6 +58,8 @@ pub struct Workspace {
     trees: Vec<Option<crate::model::fast_tree::FastTreeWorkspace>>,
     count_codes: Vec<u8>,
     batter_codes: Vec<u8>,
+    leaves: Vec<u32>,
+    criticals: crate::model::prune::Criticals,
     prior_features: Vec<usize>,
     situational_candidates: Vec<usize>,
     count_all: GroupCounts,
@@ -74,6 +76,8 @@ impl Workspace {
             trees: (0..task.folds.len()).map(|_| None).collect(),
             count_codes: Vec::new(),
             batter_codes: Vec::new(),
+            leaves: Vec::new(),
+            criticals: crate::model::prune::Criticals::new(0.0),
             prior_features: (task.n_situational..task.x.n_features()).collect(),
             situational_candidates: task
                 .folds
@@ -109,6 +113,9 @@ pub fn fit_and_score(
     let k = task.n_classes;
     let mut out = Scored { n_classes: k, ..Scored::default() };
     let prior_col0 = task.n_situational;
+    if ws.criticals.alpha() != settings.split_alpha {
+        ws.criticals = crate::model::prune::Criticals::new(settings.split_alpha);
+    }
     for (fi, fold) in task.folds.iter().enumerate() {
         if fold.test.is_empty() {
             continue;
@@ -182,7 +189,7 @@ pub fn fit_and_score(
         };
         let (tree, to_pruned) = if settings.split_alpha < 1.0 {
             let m = ws.situational_candidates[fi] + prior_candidates(&ws.x, &ws.prior_features, &fold.train);
-            crate::model::prune::prune_with_map(&grown, settings.split_alpha, m)
+            crate::model::prune::prune_fast(&grown, &mut ws.criticals, m)
         } else {
             (grown.clone(), (0..grown.nodes.len()).collect())
         };
@@ -196,13 +203,14 @@ pub fn fit_and_score(
         let am: Vec<usize> = (0..tree.nodes.len()).map(|i| argmax(&node_p[i * k..(i + 1) * k])).collect();
         let ag: Vec<usize> = (0..grown.nodes.len()).map(|i| argmax(&grown_p[i * k..(i + 1) * k])).collect();
         let top = argmax(mix);
-        for &r in &fold.test {
+        grown.flat().leaves(&ws.x, &fold.test, &mut ws.leaves);
+        for (&r, &g) in fold.test.iter().zip(&ws.leaves) {
+            let g = g as usize;
             let y = labels[r as usize] as usize;
             if usage.counts[y] == 0 {
                 out.unseen += 1;
                 continue;
             }
-            let g = grown.leaf_of(&ws.x, r as usize);
             let leaf = to_pruned[g];
             let t = &mut out.totals;
             t.n += 1;
@@ -232,15 +240,11 @@ fn prior_candidates(x: &crate::model::FeatureMatrix, features: &[usize], rows: &
     let mut total = 0;
     for &f in features {
         let col = x.column(f);
-        let mut seen = [false; 256];
-        let mut distinct = 0usize;
+        let mut seen = [0u8; 256];
         for &r in rows {
-            let c = col[r as usize] as usize;
-            if !seen[c] {
-                seen[c] = true;
-                distinct += 1;
-            }
+            seen[col[r as usize] as usize] = 1;
         }
+        let distinct: usize = seen.iter().map(|&b| b as usize).sum();
         total += distinct.saturating_sub(1);
     }
     total

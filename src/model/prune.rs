@@ -41,6 +41,88 @@ pub fn split_p_value(left: &Node, right: &Node, candidates: usize) -> f64 {
     (p * candidates as f64).min(1.0)
 }
 
+/// The G statistic (2 Σ O ln(O/E)) of a split's 2 × K table and its
+/// degrees of freedom (classes present − 1).
+pub fn split_g(left: &Node, right: &Node) -> (f64, usize) {
+    let nl: u64 = left.class_counts.iter().map(|&c| c as u64).sum();
+    let nr: u64 = right.class_counts.iter().map(|&c| c as u64).sum();
+    let n = (nl + nr) as f64;
+    if nl == 0 || nr == 0 {
+        return (0.0, 0);
+    }
+    let mut g = 0.0;
+    let mut cols = 0usize;
+    for (&l, &r) in left.class_counts.iter().zip(&right.class_counts) {
+        let c = (l + r) as f64;
+        if c == 0.0 {
+            continue;
+        }
+        cols += 1;
+        for (o, row) in [(l as f64, nl as f64), (r as f64, nr as f64)] {
+            if o > 0.0 {
+                g += o * (o * n / (row * c)).ln();
+            }
+        }
+    }
+    (2.0 * g, cols.saturating_sub(1))
+}
+
+/// Critical values of the G-test, χ²(dof) upper quantiles at α/m, cached by
+/// (dof, m): comparing G with them decides a split exactly as comparing the
+/// Bonferroni-adjusted p-value with α does, without a gamma function per node.
+#[derive(Debug, Default, Clone)]
+pub struct Criticals {
+    alpha: f64,
+    cache: std::collections::BTreeMap<(usize, usize), f64>,
+}
+
+impl Criticals {
+    pub fn new(alpha: f64) -> Self {
+        Criticals { alpha, cache: Default::default() }
+    }
+
+    pub fn alpha(&self) -> f64 {
+        self.alpha
+    }
+
+    pub fn get(&mut self, dof: usize, candidates: usize) -> f64 {
+        use statrs::distribution::{ChiSquared, ContinuousCDF};
+        let alpha = self.alpha;
+        *self.cache.entry((dof, candidates)).or_insert_with(|| {
+            let tail = (alpha / candidates as f64).min(1.0);
+            if dof == 0 || tail >= 1.0 {
+                return if dof == 0 { f64::INFINITY } else { 0.0 };
+            }
+            ChiSquared::new(dof as f64).map(|d| d.inverse_cdf(1.0 - tail)).unwrap_or(f64::INFINITY)
+        })
+    }
+}
+
+/// [`prune_with_map`] deciding each split by its G statistic against the
+/// cached critical value (the fast path used by every refit).
+pub fn prune_fast(tree: &Tree, crit: &mut Criticals, candidates: usize) -> (Tree, Vec<usize>) {
+    let mut nodes = tree.nodes.clone();
+    fn visit(nodes: &mut Vec<Node>, i: usize, crit: &mut Criticals, m: usize) {
+        if let Some(s) = nodes[i].split {
+            visit(nodes, s.left, crit, m);
+            visit(nodes, s.right, crit, m);
+            let (l, r) = (&nodes[s.left], &nodes[s.right]);
+            if l.split.is_none() && r.split.is_none() {
+                let (g, dof) = split_g(l, r);
+                if !(g >= crit.get(dof, m)) {
+                    nodes[i].split = None;
+                }
+            }
+        }
+    }
+    if !nodes.is_empty() {
+        visit(&mut nodes, 0, crit, candidates);
+    }
+    let mut map = vec![0usize; tree.nodes.len()];
+    let t = compact(&tree.nodes, &nodes, tree.n_classes, &mut map);
+    (t, map)
+}
+
 /// Collapse every split whose adjusted p-value is above `alpha`, bottom-up,
 /// and renumber the surviving nodes in pre-order.
 pub fn prune(tree: &Tree, alpha: f64, candidates: usize) -> Tree {
@@ -156,6 +238,33 @@ mod tests {
         };
         assert_eq!(prune(&t, 0.05, 5).nodes.len(), 3);
         assert_eq!(prune(&t, 0.05, 20).nodes.len(), 1);
+    }
+
+    // The fast path (G against a cached χ² quantile) decides every split as
+    // the p-value path does (helper's table_test, checked against scipy).
+    #[test]
+    fn fast_pruning_matches_p_value_pruning() {
+        use rand::{Rng, SeedableRng};
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(4);
+        let mut crit = Criticals::new(0.05);
+        for _ in 0..300 {
+            let k = rng.random_range(2..5);
+            let mk = |rng: &mut rand_chacha::ChaCha8Rng| (0..k).map(|_| rng.random_range(0..60)).collect::<Vec<u32>>();
+            let (l, r) = (mk(&mut rng), mk(&mut rng));
+            let root: Vec<u32> = l.iter().zip(&r).map(|(a, b)| a + b).collect();
+            let t = Tree {
+                nodes: vec![
+                    Node { class_counts: root, split: Some(Split { feature: 0, threshold: 0, left: 1, right: 2 }) },
+                    leaf(l),
+                    leaf(r),
+                ],
+                n_classes: k,
+            };
+            let m = rng.random_range(1..40);
+            let slow = prune(&t, 0.05, m);
+            let (fast, _) = prune_fast(&t, &mut crit, m);
+            assert_eq!(slow, fast);
+        }
     }
 
     #[test]

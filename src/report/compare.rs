@@ -29,10 +29,15 @@ pub fn summary_json(s: &CompareSummary) -> Result<String> {
 }
 
 fn situation_text(c: &Change) -> String {
-    if c.situation.is_empty() {
-        "all pitches".into()
+    let s = if c.situation.is_empty() {
+        "all pitches".to_string()
     } else {
         c.situation.iter().map(|(f, l)| format!("{f} {l}")).collect::<Vec<_>>().join(", ")
+    };
+    match &c.among {
+        Some(a) if c.situation.is_empty() => a.clone(),
+        Some(a) => format!("{s} ({a})"),
+        None => s,
     }
 }
 
@@ -306,7 +311,17 @@ fn effect_text(c: &Change) -> String {
     match c.effect_measure.as_str() {
         "total_variation" => format!("shift {:.0} / 100", 100.0 * c.effect),
         "bits_difference" => bits_text(c.effect),
-        _ => format!("{:+.0} points", 100.0 * c.effect),
+        _ => points(c.effect),
+    }
+}
+
+/// A share difference in percentage points, "+3 points", never "-0".
+fn points(d: f64) -> String {
+    let r = (100.0 * d).round();
+    if r == 0.0 {
+        "0 points".into()
+    } else {
+        format!("{r:+.0} points")
     }
 }
 
@@ -321,7 +336,7 @@ fn pitcher_view(s: &CompareSummary, p: &PitcherChanges, anchor: &str, svgs: Vec<
         .iter()
         .map(|t| {
             let (b, a) = (mb.get(*t).copied().unwrap_or(0.0), ma.get(*t).copied().unwrap_or(0.0));
-            MixRow { pitch: t.to_string(), before: share_text(b), after: share_text(a), change: format!("{:+.0} points", 100.0 * (a - b)) }
+            MixRow { pitch: t.to_string(), before: share_text(b), after: share_text(a), change: points(a - b) }
         })
         .collect();
     let overall = p.changes.iter().find(|c| c.kind == "mix_shift" && c.situation.is_empty());
@@ -368,7 +383,7 @@ fn pitcher_view(s: &CompareSummary, p: &PitcherChanges, anchor: &str, svgs: Vec<
         }
         let lift_iv = pr
             .lift_difference_interval
-            .map(|i| format!(" (95% interval {:+.0} to {:+.0} points)", 100.0 * i.low, 100.0 * i.high))
+            .map(|i| format!(" (95% interval {} to {})", points(i.low).trim_end_matches(" points"), points(i.high)))
             .unwrap_or_default();
         let test = if pr.stopped_early {
             format!("stopped early after {} shuffles", pr.permutations)
@@ -382,11 +397,11 @@ fn pitcher_view(s: &CompareSummary, p: &PitcherChanges, anchor: &str, svgs: Vec<
             ""
         };
         difference = format!(
-            "Change from {bl} to {al}: {} bits per pitch (95% interval {} to {}); lift {:+.0} points{lift_iv}. Label-swap test ({test}): p = {}, {}.{caveat}",
+            "Change from {bl} to {al}: {} bits per pitch (95% interval {} to {}); lift {}{lift_iv}. Label-swap test ({test}): p = {}, {}.{caveat}",
             bits_text(pr.bits_difference),
             bits_text(iv.low),
             bits_text(iv.high),
-            100.0 * pr.lift_difference,
+            points(pr.lift_difference),
             p_text(pr.p),
             q_text(pr.q)
         );
@@ -512,7 +527,7 @@ pub fn compare_files(cmp: &Comparison) -> Result<Vec<ReportFile>> {
             pred_q: pr.map(|x| p_text(x.q)).unwrap_or_default(),
             pred_q_v: pr.map(|x| x.q).unwrap_or(1.0),
             significant: p.significant_changes,
-            headline: if p.significant_changes > 0 { p.summary_lines.first().cloned().unwrap_or_default() } else { "no change".into() },
+            headline: p.headline.clone(),
         });
         views.push(pitcher_view(s, p, &stem, built.into_iter().map(|c| c.svg).collect()));
     }

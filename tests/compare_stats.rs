@@ -1,0 +1,135 @@
+//! The statistics of `compare` on cases worked by hand: the total
+//! variation distance, the two-sample game bootstrap of a change in bits
+//! gained, and the Monte Carlo mix test against the exact conditional test
+//! enumerated here. (The G-test and chi-square statistics and p-values
+//! themselves are checked against scipy.stats.chi2_contingency in
+//! tests/stats_reference.rs.)
+
+use rand::SeedableRng;
+use rand_chacha::ChaCha8Rng;
+use tellscope::compare::mix::{mix_test, TestKind, MONTE_CARLO_PERMUTATIONS};
+use tellscope::compare::predictability::{difference_interval, figures_of, resample_period, GameScore};
+use tellscope::significance::contingency::{table_test, TableStatistic};
+use tellscope::significance::resample::total_variation;
+
+#[test]
+fn total_variation_by_hand() {
+    // ½ Σ |p − q| (Levin, Peres & Wilmer, "Markov Chains and Mixing Times",
+    // Prop. 4.2). Shares 0.59, 0.24, 0.17 against 0.49, 0.31, 0.20:
+    // ½ (0.10 + 0.07 + 0.03) = 0.10 — ten of every 100 pitches change type.
+    let d = total_variation(&[59.0, 24.0, 17.0], &[49.0, 31.0, 20.0]).unwrap();
+    assert!((d - 0.10).abs() < 1e-12, "{d}");
+    // The mix test reports the same distance from counts of unequal totals:
+    // 118/200 = 0.59 ... against 49/100 ...
+    let t = mix_test(&[118, 48, 34], &[49, 31, 20], &mut ChaCha8Rng::seed_from_u64(1));
+    assert!((t.tvd - 0.10).abs() < 1e-12, "{}", t.tvd);
+    // A new pitch at 25%, the rest scaled down: exactly the new share.
+    let d = total_variation(&[55.0, 25.0, 20.0, 0.0], &[41.25, 18.75, 15.0, 25.0]).unwrap();
+    assert!((d - 0.25).abs() < 1e-12, "{d}");
+}
+
+fn game(n: f64, bits: f64, model_right: f64, prior_right: f64) -> GameScore {
+    GameScore { n, bits, model_right, prior_right }
+}
+
+#[test]
+fn bits_difference_interval_by_hand() {
+    // Before: three games of 0.1 bits per pitch, so every resample of them
+    // gives 0.1. After: a game of 10 pitches with 2 bits (0.2 per pitch) and
+    // one of 30 with 12 (0.4 per pitch). Drawing two games with replacement:
+    // both the first (1/4) → 2/20 = 0.2; both the second (1/4) → 24/60 =
+    // 0.4; one of each (1/2) → 14/40 = 0.35 (bits pooled over pitches, not
+    // averaged over games). So after − before is 0.1, 0.25 or 0.3 with
+    // probabilities 1/4, 1/2, 1/4, and its 2.5% and 97.5% percentiles are
+    // 0.1 and 0.3 (each end holds a quarter of the resamples); the estimate
+    // on the games as observed is 14/40 − 0.1 = 0.25.
+    let before = [game(10.0, 1.0, 5.0, 5.0), game(20.0, 2.0, 10.0, 10.0), game(5.0, 0.5, 2.0, 2.0)];
+    let after = [game(10.0, 2.0, 6.0, 5.0), game(30.0, 12.0, 18.0, 15.0)];
+    let b = resample_period(&before, 2000, 7).unwrap();
+    let a = resample_period(&after, 2000, 8).unwrap();
+    assert!((b.bits.estimate - 0.1).abs() < 1e-12);
+    assert!((b.bits.interval.low - 0.1).abs() < 1e-12 && (b.bits.interval.high - 0.1).abs() < 1e-12);
+    assert!((a.bits.estimate - 0.35).abs() < 1e-12);
+    assert!((a.bits.interval.low - 0.2).abs() < 1e-12 && (a.bits.interval.high - 0.4).abs() < 1e-12, "{:?}", a.bits.interval);
+    let d = difference_interval(&b, &a, |x| x.0).unwrap();
+    assert!((d.low - 0.1).abs() < 1e-12 && (d.high - 0.3).abs() < 1e-12, "{d:?}");
+    // The middle value turns up about half the time.
+    let mid = a.draws.iter().filter(|x| (x.0 - 0.35).abs() < 1e-12).count() as f64 / a.draws.len() as f64;
+    assert!((mid - 0.5).abs() < 0.05, "{mid}");
+    // Lift, (model right − prior right) / prior right, pooled the same way:
+    // before 0 in every resample; after 1/5 (first game twice), 3/15 = 1/5
+    // (second twice) or 4/20 = 1/5 (one of each) — always 0.2.
+    let l = difference_interval(&b, &a, |x| x.1).unwrap();
+    assert!((l.low - 0.2).abs() < 1e-12 && (l.high - 0.2).abs() < 1e-12, "{l:?}");
+    assert_eq!(figures_of(&after.iter().collect::<Vec<_>>()), (14.0 / 40.0, 0.2));
+    // Same seed, same interval; another seed, the same here (by hand).
+    assert_eq!(resample_period(&after, 2000, 8).unwrap().draws, a.draws);
+}
+
+fn ln_choose(n: u64, k: u64) -> f64 {
+    (1..=k).map(|i| ((n - k + i) as f64).ln() - (i as f64).ln()).sum()
+}
+
+/// The exact conditional p-value of the G statistic for a 2 × K table with
+/// both margins fixed: every "before" row with the observed row total and
+/// column totals, weighted by its multivariate hypergeometric probability
+/// Π C(c_j, x_j) / C(N, n) (the Freeman–Halton test, with G as the ordering
+/// statistic; Freeman & Halton 1951, Biometrika 38, 141–149 (from memory)).
+fn exact_p(before: &[u64], after: &[u64]) -> f64 {
+    let cols: Vec<u64> = before.iter().zip(after).map(|(b, a)| b + a).collect();
+    let n: u64 = before.iter().sum();
+    let total: u64 = cols.iter().sum();
+    let g = |b: &[u64]| {
+        let a: Vec<u64> = cols.iter().zip(b).map(|(c, x)| c - x).collect();
+        table_test(&[b.to_vec(), a], TableStatistic::LogLikelihoodRatio, false).unwrap().statistic
+    };
+    let observed = g(before);
+    let mut p = 0.0;
+    let mut x = vec![0u64; cols.len()];
+    // Odometer over 0..=c_j for each column.
+    loop {
+        if x.iter().sum::<u64>() == n {
+            let lp: f64 = x.iter().zip(&cols).map(|(&k, &c)| ln_choose(c, k)).sum::<f64>() - ln_choose(total, n);
+            if g(&x) >= observed - 1e-9 {
+                p += lp.exp();
+            }
+        }
+        let mut j = 0;
+        loop {
+            if j == x.len() {
+                return p;
+            }
+            if x[j] < cols[j] {
+                x[j] += 1;
+                break;
+            }
+            x[j] = 0;
+            j += 1;
+        }
+    }
+}
+
+#[test]
+fn monte_carlo_mix_test_matches_the_exact_conditional_test() {
+    for (before, after) in [(vec![5u64, 1, 0], vec![1u64, 3, 3]), (vec![4, 2, 2, 0], vec![1, 1, 3, 4]), (vec![3, 3, 1], vec![2, 4, 2])] {
+        let t = mix_test(&before, &after, &mut ChaCha8Rng::seed_from_u64(3));
+        assert_eq!(t.test, TestKind::MonteCarloG, "{before:?} {after:?} should be too sparse for the chi-square");
+        let exact = exact_p(&before, &after);
+        // Monte Carlo error of (b + 1)/(m + 1): four binomial standard errors.
+        let m = MONTE_CARLO_PERMUTATIONS as f64;
+        let tol = 4.0 * (exact * (1.0 - exact) / m).sqrt() + 2.0 / m;
+        assert!((t.p - exact).abs() <= tol, "{before:?} {after:?}: Monte Carlo {} vs exact {exact}", t.p);
+    }
+}
+
+#[test]
+fn the_asymptotic_test_is_the_scipy_checked_g_test() {
+    // Large counts: the p-value is table_test's G-test (no continuity
+    // correction), the one checked against scipy.stats.chi2_contingency(
+    // ..., correction=False, lambda_="log-likelihood") in stats_reference.rs.
+    let (b, a) = ([300u64, 200, 100], [250u64, 250, 150]);
+    let t = mix_test(&b, &a, &mut ChaCha8Rng::seed_from_u64(1));
+    let r = table_test(&[b, a], TableStatistic::LogLikelihoodRatio, false).unwrap();
+    assert_eq!(t.test, TestKind::GTest);
+    assert_eq!((t.statistic, t.p, t.dof), (r.statistic, r.p_value, 2));
+}
