@@ -133,23 +133,7 @@ pub fn prune(tree: &Tree, alpha: f64, candidates: usize) -> Tree {
 /// the pruned tree that contains it (so a row's pruned leaf follows from its
 /// grown leaf without walking the tree again).
 pub fn prune_with_map(tree: &Tree, alpha: f64, candidates: usize) -> (Tree, Vec<usize>) {
-    let mut nodes = tree.nodes.clone();
-    fn visit(nodes: &mut Vec<Node>, i: usize, alpha: f64, m: usize) {
-        if let Some(s) = nodes[i].split {
-            visit(nodes, s.left, alpha, m);
-            visit(nodes, s.right, alpha, m);
-            let (l, r) = (&nodes[s.left], &nodes[s.right]);
-            if l.split.is_none() && r.split.is_none() && split_p_value(l, r, m) > alpha {
-                nodes[i].split = None;
-            }
-        }
-    }
-    if !nodes.is_empty() {
-        visit(&mut nodes, 0, alpha, candidates);
-    }
-    let mut map = vec![0usize; tree.nodes.len()];
-    let t = compact(&tree.nodes, &nodes, tree.n_classes, &mut map);
-    (t, map)
+    prune_fast(tree, &mut Criticals::new(alpha), candidates)
 }
 
 /// Keep only nodes reachable from the root, in pre-order; `map` gets, for
@@ -240,10 +224,11 @@ mod tests {
         assert_eq!(prune(&t, 0.05, 20).nodes.len(), 1);
     }
 
-    // The fast path (G against a cached χ² quantile) decides every split as
-    // the p-value path does (helper's table_test, checked against scipy).
+    // Comparing G with a cached χ² quantile decides every split as comparing
+    // the Bonferroni-adjusted p-value of significance::contingency (checked
+    // against scipy's chi2_contingency) with α does.
     #[test]
-    fn fast_pruning_matches_p_value_pruning() {
+    fn critical_values_decide_as_p_values_do() {
         use rand::{Rng, SeedableRng};
         let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(4);
         let mut crit = Criticals::new(0.05);
@@ -261,9 +246,10 @@ mod tests {
                 n_classes: k,
             };
             let m = rng.random_range(1..40);
-            let slow = prune(&t, 0.05, m);
-            let (fast, _) = prune_fast(&t, &mut crit, m);
-            assert_eq!(slow, fast);
+            let by_p = split_p_value(&t.nodes[1], &t.nodes[2], m) <= 0.05;
+            let (g, dof) = split_g(&t.nodes[1], &t.nodes[2]);
+            assert_eq!(by_p, g >= crit.get(dof, m), "G = {g}, dof = {dof}, m = {m}");
+            assert_eq!(prune(&t, 0.05, m).nodes.len() == 3, by_p);
         }
     }
 
