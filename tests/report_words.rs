@@ -1,0 +1,76 @@
+//! The words of the report agree with its numbers: every flagged tell's
+//! sentence in index.html carries the share, n, baseline and held-out share
+//! that summary.json gives for it, and the staff table the pitchers' figures.
+
+use std::path::Path;
+use tellscope::audit;
+use tellscope::settings::{ConfigFile, Overrides, Settings};
+
+fn pct(x: f64) -> String {
+    format!("{:.0}%", 100.0 * x)
+}
+
+/// The page's text with tags dropped and entities decoded (enough for
+/// minijinja's escaping).
+fn text_of(html: &str) -> String {
+    let mut out = String::new();
+    let mut in_tag = false;
+    for c in html.chars() {
+        match c {
+            '<' => in_tag = true,
+            '>' => in_tag = false,
+            _ if !in_tag => out.push(c),
+            _ => {}
+        }
+    }
+    out.replace("&lt;", "<").replace("&gt;", ">").replace("&#x27;", "'").replace("&#x2f;", "/").replace("&quot;", "\"").replace("&amp;", "&")
+}
+
+#[test]
+fn tell_sentences_carry_the_summary_numbers() {
+    let s = Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(49), ..Overrides::default() }).unwrap();
+    let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv");
+    let a = audit::run(&log, &s, false).unwrap();
+    let dir = std::env::temp_dir().join(format!("tellscope-words-{}", std::process::id()));
+    tellscope::report::write_audit_report(&dir, &a).unwrap();
+    let text = text_of(&std::fs::read_to_string(dir.join("index.html")).unwrap());
+    let json: serde_json::Value = serde_json::from_str(&std::fs::read_to_string(dir.join("summary.json")).unwrap()).unwrap();
+    let mut checked = 0;
+    for p in json["pitchers"].as_array().unwrap() {
+        for t in p["tells"].as_array().unwrap() {
+            if !t["within"].is_null() {
+                continue; // narrower versions are listed in a fold, worded the same way
+            }
+            let n = t["n"].as_u64().unwrap();
+            let share = pct(t["share"].as_f64().unwrap());
+            let base = pct(t["baseline_share"].as_f64().unwrap());
+            let pitch = t["pitch_type"].as_str().unwrap();
+            // The sentence holding this tell's pitch, n and baseline.
+            let found = text.lines().any(|l| {
+                let l = l.trim();
+                l.contains(pitch)
+                    && (l.contains(&format!("(n = {n})")) || l.contains(&format!("(0 of {n} pitches)")))
+                    && l.contains(&format!("against {base} otherwise"))
+                    && (l.contains(&format!(" {share} of the time")) || t["k"].as_u64() == Some(0))
+                    && match t["held_out_share"].as_f64() {
+                        Some(h) => l.contains(&format!("{} (n = {})", pct(h), t["held_out_n"])),
+                        None => true,
+                    }
+            });
+            assert!(found, "no sentence for {} {} {}", p["pitcher"], t["situation"], pitch);
+            checked += 1;
+        }
+        if p["status"] == "ok" {
+            // The per-pitcher summary line uses the same accuracies.
+            let prior = pct(p["prior_accuracy"].as_f64().unwrap());
+            let model = pct(p["model_accuracy"].as_f64().unwrap());
+            assert!(
+                text.contains(&format!("was right {prior} of the time; the situational model {model}")),
+                "{}: summary line",
+                p["pitcher"]
+            );
+        }
+    }
+    assert!(checked >= 10, "only {checked} tells checked");
+    std::fs::remove_dir_all(&dir).ok();
+}
