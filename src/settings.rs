@@ -83,6 +83,9 @@ pub struct CompareConfig {
     /// ... and below this share in the other is new (or dropped).
     pub absent_share: Option<f64>,
     pub bootstrap: Option<usize>,
+    /// Label-swap permutations per pitcher for the predictability change
+    /// (default 1999, enough to pass a false-discovery bar over ~150 tests).
+    pub permutations: Option<usize>,
 }
 
 /// Which held-out statistic the permutation test scores.
@@ -136,6 +139,7 @@ pub struct Settings {
     pub new_pitch_share: f64,
     pub absent_share: f64,
     pub bootstrap: usize,
+    pub compare_permutations: usize,
     pub strict: bool,
     pub test_season: Option<i32>,
     pub pitchers: Vec<String>,
@@ -306,6 +310,12 @@ impl Settings {
             new_pitch_share: check_range("[compare] new_pitch_share", cfg.compare.new_pitch_share.unwrap_or(0.05), 0.0, 1.0)?,
             absent_share: check_range("[compare] absent_share", cfg.compare.absent_share.unwrap_or(0.01), 0.0, 1.0)?,
             bootstrap: check_range("[compare] bootstrap", cfg.compare.bootstrap.unwrap_or(400), 50, 100_000)?,
+            compare_permutations: check_range(
+                "[compare] permutations",
+                cfg.compare.permutations.unwrap_or(crate::compare::DEFAULT_PERMUTATIONS),
+                0,
+                1_000_000,
+            )?,
             strict: o.strict,
             test_season: o.test_season,
             pitchers: o.pitchers.clone(),

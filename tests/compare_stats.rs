@@ -133,3 +133,39 @@ fn the_asymptotic_test_is_the_scipy_checked_g_test() {
     assert_eq!(t.test, TestKind::GTest);
     assert_eq!((t.statistic, t.p, t.dof), (r.statistic, r.p_value, 2));
 }
+
+#[test]
+fn forward_chaining_within_a_period_by_hand() {
+    use tellscope::evaluate::split::Plan;
+    use tellscope::ingest::PitchLog;
+    // Twelve pitches: games 0..6 on days 0..6, two pitches each, across two
+    // seasons (the plan ignores seasons). Listed: games 1..6 only (game 0
+    // is another period), so six games dealt into three blocks of two by
+    // date: {1, 2}, {3, 4}, {5, 6}.
+    let game: Vec<u32> = (0..12).map(|i| i / 2).collect();
+    let log = PitchLog {
+        date: game.iter().map(|&g| 100 + g as i32).collect(),
+        season: game.iter().map(|&g| if g < 4 { 2025 } else { 2026 }).collect(),
+        game: game.clone(),
+        ..PitchLog::default()
+    };
+    let rows: Vec<u32> = (2..12).collect();
+    let plan = Plan::forward_chaining(&log, &rows, 3, "test period").unwrap();
+    assert_eq!(plan.n_folds, 2);
+    for (r, &g) in game.iter().enumerate() {
+        // Block of the game (None outside the period).
+        let b = match g {
+            1 | 2 => Some(0),
+            3 | 4 => Some(1),
+            5 | 6 => Some(2),
+            _ => None,
+        };
+        // Fold f trains on blocks 0..=f and scores block f + 1.
+        assert_eq!(plan.test_fold[r], b.and_then(|b: u8| b.checked_sub(1)), "row {r}");
+        assert_eq!(plan.trains(r, 0), b == Some(0), "row {r}");
+        assert_eq!(plan.trains(r, 1), matches!(b, Some(0) | Some(1)), "row {r}");
+        assert_eq!(plan.held_out[r], b == Some(2));
+    }
+    // Fewer games than blocks is an error, not a plan.
+    assert!(Plan::forward_chaining(&log, &rows[..4], 3, "short").is_err());
+}

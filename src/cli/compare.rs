@@ -54,7 +54,8 @@ pub fn run(args: Args) -> Result<()> {
     // The periods' text is checked before the log is read.
     let before = PeriodSpec::parse("--before", &args.before)?;
     let after = PeriodSpec::parse("--after", &args.after)?;
-    let permutations = args.permutations.unwrap_or(compare::DEFAULT_PERMUTATIONS);
+    let from_config = args.log.settings(Overrides::default())?.compare_permutations;
+    let permutations = args.permutations.unwrap_or(from_config);
     let settings = args.log.settings(Overrides {
         seed: args.seed,
         permutations: Some(permutations),

@@ -29,7 +29,7 @@ pub enum Command {
     Compare(compare::Args),
     /// Write a synthetic pitch log from a scenario file.
     Simulate(simulate::Args),
-    /// Run the bundled demo end to end into reports/demo.
+    /// Run the bundled demo end to end: the audit into reports/demo and the 2025-2026 comparison into reports/demo-compare.
     Demo(demo::Args),
 }
 

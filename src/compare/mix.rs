@@ -10,6 +10,12 @@
 //!   distribution is the exact conditional one; the Monte Carlo version of
 //!   the Freeman–Halton test), G is recomputed on each shuffle and
 //!   p = (b + 1) / (m + 1) (Phipson & Smyth 2010).
+//! * Both treat each pitch as an independent draw from the period's mix.
+//!   Pitches of one game share its opponent and the pitcher's feel that
+//!   night, so a real log can vary more than that (overdispersion) and
+//!   these p-values can then be too small; shuffling whole games between
+//!   the periods would allow for it (see the label-swap test in
+//!   `predictability`). The simulator draws pitches independently.
 //! * Effect size: the total variation distance between the two mixes,
 //!   ½ Σ |p_i − q_i|: the share of pitches that would have to change type
 //!   to turn one mix into the other.

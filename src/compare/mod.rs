@@ -44,8 +44,10 @@ use std::path::Path;
 use summary::*;
 use tells_change::TellChange;
 
-/// Label-swap permutations per pitcher when none are asked for.
-pub const DEFAULT_PERMUTATIONS: usize = 199;
+/// Label-swap permutations per pitcher when none are asked for: enough for
+/// the smallest p-value, 1/(m + 1), to pass a BH bar over the ~150 tests of a
+/// staff's comparison.
+pub const DEFAULT_PERMUTATIONS: usize = 1999;
 
 /// What to compare.
 #[derive(Debug, Clone)]
@@ -153,7 +155,7 @@ fn prepare(log: &PitchLog, sit: &Situations, p: u32, rows: [Vec<u32>; 2], labels
             return Prepared::Short {
                 pitcher: p,
                 why: format!(
-                    "Only {} pitches in {label} ({} to train on and {} to score, forward-chained); at least {} and {} are needed in each period before any figure is shown.",
+                    "Only {} pitches in {label} ({} to train on and {} to score, forward-chained); at least {} to train on and {} to score are needed in each period before any figure is shown.",
                     rows_k.len(),
                     task.n_train(),
                     task.n_test(),

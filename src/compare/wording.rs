@@ -308,7 +308,12 @@ pub fn summary_lines(p: &PitcherChanges, before: &str, after: &str, fdr: f64) ->
         let more = if items.len() > 3 { format!("; and {} more (see the tells table)", items.len() - 3) } else { String::new() };
         format!("{}{more}", shown.join("; "))
     };
-    let held: Vec<String> = p.changes.iter().filter(|c| c.kind == "tell_held" && !c.significant).map(item).collect();
+    // Held tells, most marked first (the shift from his baseline, averaged
+    // over the two periods), so the tells that matter lead the line.
+    let mut held: Vec<&Change> = p.changes.iter().filter(|c| c.kind == "tell_held" && !c.significant).collect();
+    let lean_of = |c: &Change| ((c.before - c.baseline_before.unwrap_or(0.0)).abs() + (c.after - c.baseline_after.unwrap_or(0.0)).abs()) / 2.0;
+    held.sort_by(|a, b| lean_of(b).total_cmp(&lean_of(a)));
+    let held: Vec<String> = held.into_iter().map(item).collect();
     if !held.is_empty() {
         lines.push(format!("Tells that held in both periods: {}.", listed(held)));
     }
@@ -334,7 +339,7 @@ pub fn summary_lines(p: &PitcherChanges, before: &str, after: &str, fdr: f64) ->
     if !one_sided.is_empty() {
         let gone = one_sided.iter().filter(|c| c.kind == "tell_disappeared").count();
         let new = one_sided.len() - gone;
-        let strongest = one_sided.first().map(|c| format!("; the strongest: {}", item(c))).unwrap_or_default();
+        let strongest = one_sided.first().map(|c| format!("; the most marked: {}", item(c))).unwrap_or_default();
         let counted = match (gone, new) {
             (g, 0) => format!("{} flagged in {before} only", plural(g, "tell was", "tells were")),
             (0, n) => format!("{} flagged in {after} only", plural(n, "tell was", "tells were")),

@@ -546,6 +546,9 @@ pub fn compare_files(cmp: &Comparison) -> Result<Vec<ReportFile>> {
         rows_read => s.input.rows_read,
         before => b.label.clone(),
         after => a.label.clone(),
+        // Column headings: a season reads well, a date range is too long.
+        before_short => if b.label.len() <= 8 { b.label.clone() } else { "before".to_string() },
+        after_short => if a.label.len() <= 8 { a.label.clone() } else { "after".to_string() },
         before_span => format!("{} to {}, {} games, {} pitches", b.first_date, b.last_date, b.games, b.pitches),
         after_span => format!("{} to {}, {} games, {} pitches", a.first_date, a.last_date, a.games, a.pitches),
         evaluation => s.evaluation.description.clone(),
