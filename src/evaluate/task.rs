@@ -5,7 +5,7 @@
 use super::split::Plan;
 use crate::ingest::PitchLog;
 use crate::model::FeatureMatrix;
-use crate::situations::{levels::Factor, Situations, UNKNOWN};
+use crate::situations::{levels::Factor, Situations};
 
 /// Bins of a shrunk prior probability feature: code = round(p · BINS).
 pub const PRIOR_BINS: u8 = 20;
@@ -121,7 +121,16 @@ impl PitcherTask {
         let mut names = Vec::new();
         let mut kinds = Vec::new();
         let mut cols: Vec<Vec<u8>> = Vec::new();
+        let one_hand = {
+            let h0 = rows.first().map(|&r| log.throws[r as usize]);
+            rows.iter().all(|&r| Some(log.throws[r as usize]) == h0)
+        };
         for fc in &sit.factors {
+            // For a pitcher with one throwing hand, batter side and platoon
+            // are the same split; keep the platoon (the coach's word for it).
+            if fc.factor == Factor::Bats && one_hand && sit.has(Factor::Platoon) {
+                continue;
+            }
             if fc.factor == Factor::PrevPitch {
                 // Only levels he can produce: none and his own types.
                 let mut lv = vec![0u8];
@@ -154,11 +163,6 @@ impl PitcherTask {
             names.push("score margin".into());
             kinds.push(FeatureKind::Ordinal { name: "score margin", offset: -5 });
             cols.push(rows.iter().map(|&r| (sd[r as usize].unwrap_or(0).clamp(-5, 5) + 5) as u8).collect());
-        }
-        if let Some(tt) = sit.get(Factor::TimesThrough) {
-            names.push("times through".into());
-            kinds.push(FeatureKind::Ordinal { name: "times through", offset: 1 });
-            cols.push(rows.iter().map(|&r| if tt.codes[r as usize] == UNKNOWN { 0 } else { tt.codes[r as usize] }).collect());
         }
         let n_situational = names.len();
         for given in ["count", "batter"] {

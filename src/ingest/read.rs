@@ -185,10 +185,11 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
     }
     // Columns are read a few at a time and turned into dictionary codes at
     // once, so the text of the whole file is never held in memory.
-    const GROUP: usize = 6;
+    // A small file is read in one pass; a large one six columns at a time.
+    let group_size = if std::fs::metadata(path).map(|m| m.len()).unwrap_or(0) < 256 << 20 { keep.len().max(1) } else { 6 };
     let mut columns = Vec::new();
     let mut n_rows = None;
-    let groups: Vec<&[String]> = if keep.is_empty() { vec![&keep[..]] } else { keep.chunks(GROUP).collect() };
+    let groups: Vec<&[String]> = if keep.is_empty() { vec![&keep[..]] } else { keep.chunks(group_size).collect() };
     for group in groups {
         let df = match format {
             Format::Csv => {

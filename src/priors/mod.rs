@@ -128,20 +128,34 @@ fn dm_summary(groups: &GroupCounts) -> DmSummary {
     DmSummary { totals, cells }
 }
 
+/// ln Γ(a + x) − ln Γ(a), the log of the rising factorial a(a+1)…(a+x−1):
+/// for small x one log of the product (exact up to rounding), else two
+/// log-gamma calls.
+#[inline]
+fn ln_rising(a: f64, x: u32) -> f64 {
+    use statrs::function::gamma::ln_gamma;
+    if x <= 12 {
+        let mut prod = 1.0;
+        for j in 0..x {
+            prod *= a + j as f64;
+        }
+        prod.ln()
+    } else {
+        ln_gamma(a + x as f64) - ln_gamma(a)
+    }
+}
+
 /// Dirichlet-multinomial log-likelihood in s, less terms constant in s:
 /// Σ_g [ln Γ(s) − ln Γ(n_g + s) + Σ_k ln Γ(c_gk + s m_k) − ln Γ(s m_k)].
 fn dm_objective(sum: &DmSummary, mix: &[f64], s: f64) -> f64 {
-    use statrs::function::gamma::ln_gamma;
-    let lg_s = ln_gamma(s);
     let mut ll = 0.0;
     for &(n, mult) in &sum.totals {
-        ll += mult as f64 * (lg_s - ln_gamma(n as f64 + s));
+        ll -= mult as f64 * ln_rising(s, n);
     }
     for (c, cells) in sum.cells.iter().enumerate() {
         let a = s * mix[c];
-        let lg_a = ln_gamma(a);
         for &(x, mult) in cells {
-            ll += mult as f64 * (ln_gamma(x as f64 + a) - lg_a);
+            ll += mult as f64 * ln_rising(a, x);
         }
     }
     ll
