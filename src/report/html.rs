@@ -35,6 +35,15 @@ struct CountRow {
 }
 
 #[derive(Serialize)]
+struct TypeRow {
+    pitch_type: String,
+    train_share: String,
+    prior: String,
+    model: String,
+    bits: String,
+}
+
+#[derive(Serialize)]
 struct PitcherView {
     pitcher: String,
     anchor: String,
@@ -64,6 +73,7 @@ struct PitcherView {
     cautions: Vec<String>,
     charts: Vec<String>,
     counts: Vec<CountRow>,
+    types: Vec<TypeRow>,
 }
 
 #[derive(Serialize)]
@@ -167,6 +177,17 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
             cautions: p.cautions.clone(),
             charts: charts.per_pitcher.get(&p.pitcher).cloned().unwrap_or_default(),
             counts,
+            types: p
+                .types
+                .iter()
+                .map(|t| TypeRow {
+                    pitch_type: t.pitch_type.clone(),
+                    train_share: wording::pct(t.train_share),
+                    prior: wording::pct(t.prior_accuracy),
+                    model: wording::pct(t.model_accuracy),
+                    bits: format!("{:+.3}", t.bits_gained),
+                })
+                .collect(),
         });
     }
     // Most predictable first; the table can be re-sorted in the page.
