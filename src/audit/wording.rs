@@ -126,6 +126,41 @@ pub fn tell_sentence(t: &TellTest, test_label: &str) -> String {
     format!("{main}{held}.")
 }
 
+/// Shares for the other pitches that add up to `total`. When they must grow
+/// (the tell pitch gives up share), the least used grow first, up to a common
+/// level ("water filling"), so the change never makes another pitch the
+/// obvious guess; when they must shrink, they shrink in proportion.
+pub fn rebalance(others: &[(String, f64)], total: f64) -> Vec<(String, f64)> {
+    let have: f64 = others.iter().map(|x| x.1).sum();
+    if others.is_empty() {
+        return Vec::new();
+    }
+    if total <= have || have <= 0.0 {
+        let f = if have > 0.0 { total / have } else { 0.0 };
+        return others.iter().map(|(n, s)| (n.clone(), s * f)).collect();
+    }
+    let mut free = total - have;
+    let mut sorted: Vec<f64> = others.iter().map(|x| x.1).collect();
+    sorted.sort_by(f64::total_cmp);
+    // Find the level L with Σ max(0, L − s_i) = free.
+    let mut level = sorted[0];
+    let mut k = 0;
+    while k < sorted.len() {
+        let next = if k + 1 < sorted.len() { sorted[k + 1] } else { f64::INFINITY };
+        let need = (next - level) * (k + 1) as f64;
+        if need >= free {
+            level += free / (k + 1) as f64;
+            free = 0.0;
+            break;
+        }
+        free -= need;
+        level = next;
+        k += 1;
+    }
+    let _ = free;
+    others.iter().map(|(n, s)| (n.clone(), s.max(level))).collect()
+}
+
 /// Advice for a flagged tell: the situation's mix that brings a hitter's
 /// guess-right rate back toward the pitcher's baseline, and how many
 /// pitches a season that means changing.
@@ -134,13 +169,9 @@ pub fn advice(t: &TellTest, situation_mix: &[(String, f64)], per_season: f64) ->
     let change = (t.share - target).abs();
     let moved = (change * per_season).round() as i64;
     // The rest of the mix scales to fill what the tell pitch gives up or takes.
-    let others: Vec<&(String, f64)> = situation_mix.iter().filter(|(n, _)| *n != t.pitch_type).collect();
-    let rest: f64 = others.iter().map(|(_, s)| s).sum();
+    let others: Vec<(String, f64)> = situation_mix.iter().filter(|(n, _)| *n != t.pitch_type).cloned().collect();
     let mut new_mix: Vec<(String, f64)> = vec![(t.pitch_type.clone(), target)];
-    for (n, s) in &others {
-        let scaled = if rest > 0.0 { s / rest * (1.0 - target) } else { 0.0 };
-        new_mix.push((n.clone(), scaled));
-    }
+    new_mix.extend(rebalance(&others, 1.0 - target));
     new_mix.sort_by(|a, b| b.1.partial_cmp(&a.1).unwrap().then(a.0.cmp(&b.0)));
     let guess_after = new_mix.first().map(|x| x.1).unwrap_or(0.0);
     let guess_now = situation_mix.iter().map(|x| x.1).fold(0.0, f64::max);
@@ -148,17 +179,27 @@ pub fn advice(t: &TellTest, situation_mix: &[(String, f64)], per_season: f64) ->
     let sit = situation_phrase(&t.situation);
     let faded = if held(t) == Some(false) { "It faded in the held-out games, so check it before acting. " } else { "" };
     let text = match t.direction {
-        Direction::More => format!(
-            "Throw the {} {sit} about {} of the time, his rate elsewhere, instead of {}: a mix near {} takes a hitter sitting on his most likely pitch from {} to {} right. That means changing about {} of every 100 such pitches, roughly {} pitches a season.",
-            t.pitch_type,
-            pct(target),
-            pct(t.share),
-            mix_text.join(", "),
-            pct(guess_now),
-            pct(guess_after),
-            (change * 100.0).round(),
-            moved
-        ),
+        Direction::More => {
+            // Say what a hitter gains only when the change lowers his best
+            // single guess; a lean toward a pitch that is not the likeliest
+            // still tells him what is coming, so the advice stands.
+            let effect = if guess_after < guess_now - 0.005 {
+                format!("takes a hitter sitting on his most likely pitch from {} to {} right", pct(guess_now), pct(guess_after))
+            } else if guess_after <= guess_now + 0.005 {
+                format!("removes the lean without making any pitch easier to sit on (best single guess {})", pct(guess_now))
+            } else {
+                format!("removes the lean, though a hitter's best single guess rises from {} to {}", pct(guess_now), pct(guess_after))
+            };
+            format!(
+                "Throw the {} {sit} about {} of the time, his rate elsewhere, instead of {}: a mix near {} {effect}. That means changing about {} of every 100 such pitches, roughly {} pitches a season.",
+                t.pitch_type,
+                pct(target),
+                pct(t.share),
+                mix_text.join(", "),
+                (change * 100.0).round(),
+                moved
+            )
+        }
         Direction::Less => format!(
             "Bring the {} back {sit}, at about {} (his rate elsewhere) instead of {}, so a hitter cannot rule it out: a mix near {}. That means changing about {} of every 100 such pitches, roughly {} pitches a season.",
             t.pitch_type,
@@ -241,4 +282,22 @@ pub fn rules(task: &PitcherTask, scored: &Scored, names: &[String]) -> Vec<RuleS
         });
     }
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // Worked by hand: others 0.10 and 0.30 must grow to 0.60 in all; the
+    // smaller rises to meet the larger (0.30), then both rise to 0.30 each.
+    #[test]
+    fn rebalance_fills_the_least_used_first() {
+        let o = vec![("a".to_string(), 0.10), ("b".to_string(), 0.30)];
+        let r = rebalance(&o, 0.60);
+        assert!((r[0].1 - 0.30).abs() < 1e-12 && (r[1].1 - 0.30).abs() < 1e-12, "{r:?}");
+        let r = rebalance(&o, 0.50);
+        assert!((r[0].1 - 0.20).abs() < 1e-12 && (r[1].1 - 0.30).abs() < 1e-12, "{r:?}");
+        let r = rebalance(&o, 0.20);
+        assert!((r[0].1 - 0.05).abs() < 1e-12 && (r[1].1 - 0.15).abs() < 1e-12, "{r:?}");
+    }
 }
