@@ -161,15 +161,18 @@ pub fn fit_and_score(
         code_table(&ws.count_all, &ws.count_oof, s_count, &mut ws.count_codes);
         code_table(&ws.batter_all, &ws.batter_oof, s_batter, &mut ws.batter_codes);
         let (gc, gb) = (ws.count_all.n_groups, ws.batter_all.n_groups);
-        for (rows, train) in [(&fold.train, true), (&fold.test, false)] {
-            for &r in rows.iter() {
-                let r = r as usize;
-                let part = if train { task.oof[r] as usize } else { OOF_FOLDS };
-                let ci = (part * gc + task.count[r] as usize) * k;
-                let bi = (part * gb + task.batter[r] as usize) * k;
-                for cls in 0..k {
-                    ws.x.codes[(prior_col0 + cls) * n_rows + r] = ws.count_codes[ci + cls];
-                    ws.x.codes[(prior_col0 + k + cls) * n_rows + r] = ws.batter_codes[bi + cls];
+        // Written one feature column at a time (sequential writes).
+        let (codes, cc, bc) = (&mut ws.x.codes, &ws.count_codes, &ws.batter_codes);
+        for cls in 0..k {
+            for (f, table, groups, by_batter) in [(prior_col0 + cls, cc, gc, false), (prior_col0 + k + cls, bc, gb, true)] {
+                let col = &mut codes[f * n_rows..(f + 1) * n_rows];
+                for (rows, train) in [(&fold.train, true), (&fold.test, false)] {
+                    for &r in rows.iter() {
+                        let r = r as usize;
+                        let part = if train { task.oof[r] as usize } else { OOF_FOLDS };
+                        let group = if by_batter { task.batter[r] as usize } else { task.count[r] as usize };
+                        col[r] = table[(part * groups + group) * k + cls];
+                    }
                 }
             }
         }

@@ -202,7 +202,9 @@ pub fn load(path: &Path, settings: &Settings) -> Result<Ingested> {
         .chain(OPTIONAL_COLUMNS.iter())
         .map(|c| settings.file_column(c).to_string())
         .collect();
-    let table = read::read_table(path, &wanted)?;
+    // The file's checksum is computed while polars reads it.
+    let (table, sha) = rayon::join(|| read::read_table(path, &wanted), || sha256_of(path));
+    let table = table?;
     let missing: Vec<String> = REQUIRED_COLUMNS
         .iter()
         .filter(|c| table.column(settings.file_column(c)).is_none())
@@ -252,7 +254,7 @@ pub fn load(path: &Path, settings: &Settings) -> Result<Ingested> {
         format: table.format,
         rows_read: table.n_rows - blank,
         rows_rejected: rejected.len(),
-        sha256: sha256_of(path)?,
+        sha256: sha?,
         optional_present: present,
         optional_missing: absent,
     };

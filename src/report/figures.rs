@@ -6,6 +6,7 @@ use super::charts::{self, Chart, ChartError};
 use crate::audit::summary::Summary;
 use crate::error::{Error, Result};
 use crate::situations::levels::Factor;
+use rayon::prelude::*;
 use std::collections::BTreeMap;
 
 
@@ -55,7 +56,25 @@ pub fn for_each_chart(
     .map_err(chart_err)?;
     sink(None, Chart { name: "staff-bits-gained".into(), ..staff })?;
     let labels = staff_labels(s);
-    for p in ok {
+    // Pitchers' charts are drawn in parallel a few dozen at a time and
+    // handed on in staff order (the output does not depend on threads).
+    for chunk in ok.chunks(32) {
+        let drawn: Vec<Result<Vec<Chart>>> = chunk.par_iter().map(|p| pitcher_charts(s, stems, &labels, p)).collect();
+        for (p, charts) in chunk.iter().zip(drawn) {
+            for c in charts? {
+                sink(Some(&p.pitcher), c)?;
+            }
+        }
+    }
+    Ok(())
+}
+
+fn pitcher_charts(
+    s: &Summary,
+    stems: &BTreeMap<String, String>,
+    labels: &[String],
+    p: &crate::audit::summary::PitcherSummary,
+) -> Result<Vec<Chart>> {
         let stem = stems.get(&p.pitcher).cloned().unwrap_or_else(|| "pitcher".into());
         // A count cell is marked when a flagged tell (not a narrower
         // version of another) is about that count alone.
@@ -94,11 +113,13 @@ pub fn for_each_chart(
                     shares: c.mix.iter().map(|(k, v)| (k.clone(), *v)).collect(),
                 })
                 .collect(),
-            staff_labels: labels.clone(),
+            staff_labels: labels.to_vec(),
         })
         .map_err(chart_err)?;
-        sink(Some(&p.pitcher), Chart { name: format!("count-grid-{stem}"), ..grid })?;
-        sink(Some(&p.pitcher), Chart { name: format!("mix-by-count-{stem}"), ..mix })?;
+        let mut out = vec![
+            Chart { name: format!("count-grid-{stem}"), ..grid },
+            Chart { name: format!("mix-by-count-{stem}"), ..mix },
+        ];
         if !p.null_statistics.is_empty() {
             let null = charts::null_distribution(&charts::NullDistributionInput {
                 pitcher: p.pitcher.clone(),
@@ -107,8 +128,7 @@ pub fn for_each_chart(
                 p_value: p.p_value.unwrap_or(1.0),
             })
             .map_err(chart_err)?;
-            sink(Some(&p.pitcher), Chart { name: format!("null-distribution-{stem}"), ..null })?;
+            out.push(Chart { name: format!("null-distribution-{stem}"), ..null });
         }
-    }
-    Ok(())
+    Ok(out)
 }
