@@ -302,15 +302,36 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
     let mut teams = Interner::default();
     let mut rejected = Vec::new();
     let mut blank = 0usize;
-    let mut log = PitchLog::default();
-    let mut pa = Vec::new();
-    let mut pitch_no = Vec::new();
-    let mut score = Vec::new();
-    let mut result = Vec::new();
-    let mut speed = Vec::new();
-    let mut side = Vec::new();
-    let mut height = Vec::new();
-    let mut team = Vec::new();
+    let cap = table.n_rows;
+    let mut log = PitchLog {
+        game: Vec::with_capacity(cap),
+        date: Vec::with_capacity(cap),
+        season: Vec::with_capacity(cap),
+        pitcher: Vec::with_capacity(cap),
+        throws: Vec::with_capacity(cap),
+        batter: Vec::with_capacity(cap),
+        bats: Vec::with_capacity(cap),
+        inning: Vec::with_capacity(cap),
+        outs: Vec::with_capacity(cap),
+        balls: Vec::with_capacity(cap),
+        strikes: Vec::with_capacity(cap),
+        on_first: Vec::with_capacity(cap),
+        on_second: Vec::with_capacity(cap),
+        on_third: Vec::with_capacity(cap),
+        pitch_type: Vec::with_capacity(cap),
+        source_line: Vec::with_capacity(cap),
+        ..PitchLog::default()
+    };
+    // Optional columns are only gathered when the file has them.
+    let want = |c: &str| if has(c) { cap } else { 0 };
+    let mut pa = Vec::with_capacity(cap);
+    let mut pitch_no = Vec::with_capacity(cap);
+    let mut score = Vec::with_capacity(want("score_diff"));
+    let mut result = Vec::with_capacity(want("result"));
+    let mut speed = Vec::with_capacity(want("speed_mph"));
+    let mut side = Vec::with_capacity(want("loc_side_ft"));
+    let mut height = Vec::with_capacity(want("loc_height_ft"));
+    let mut team = Vec::with_capacity(want("team"));
     let mut vals: Vec<Option<&str>> = vec![None; cols.len()];
     for i in 0..table.n_rows {
         for (v, c) in vals.iter_mut().zip(&cols) {
@@ -340,12 +361,24 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
                 log.source_line.push(table.location(i));
                 pa.push(p.pa.unwrap_or(0));
                 pitch_no.push(p.pitch_no.unwrap_or(0));
-                score.push(p.score_diff);
-                result.push(p.result);
-                speed.push(p.speed);
-                side.push(p.side);
-                height.push(p.height);
-                team.push(p.team.map(|t| teams.get(t)));
+                if score.capacity() > 0 {
+                    score.push(p.score_diff);
+                }
+                if result.capacity() > 0 {
+                    result.push(p.result);
+                }
+                if speed.capacity() > 0 {
+                    speed.push(p.speed);
+                }
+                if side.capacity() > 0 {
+                    side.push(p.side);
+                }
+                if height.capacity() > 0 {
+                    height.push(p.height);
+                }
+                if team.capacity() > 0 {
+                    team.push(p.team.map(|t| teams.get(t)));
+                }
             }
             Err((column, value, reason)) => rejected.push(Rejected {
                 line: table.location(i),

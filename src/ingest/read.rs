@@ -33,20 +33,68 @@ impl Format {
 
 /// One text column held as a dictionary of its distinct (trimmed) values
 /// and a code per row: memory grows with the rows and the columns kept, not
-/// with the length of the text.
+/// with the length of the text. Codes take one byte while the column has
+/// under 255 distinct values (balls, outs, hands, pitch types...), two under
+/// 65,535, else four.
 pub struct TextColumn {
     pub dict: Vec<String>,
-    /// Index into `dict`, or [`NULL_CODE`] for an empty cell.
-    pub codes: Vec<u32>,
+    codes: Codes,
+}
+
+enum Codes {
+    U8(Vec<u8>),
+    U16(Vec<u16>),
+    U32(Vec<u32>),
 }
 
 pub const NULL_CODE: u32 = u32::MAX;
+
+impl Codes {
+    #[inline]
+    fn get(&self, i: usize) -> u32 {
+        match self {
+            Codes::U8(v) => if v[i] == u8::MAX { NULL_CODE } else { v[i] as u32 },
+            Codes::U16(v) => if v[i] == u16::MAX { NULL_CODE } else { v[i] as u32 },
+            Codes::U32(v) => v[i],
+        }
+    }
+
+    /// Append a code (NULL_CODE for empty), widening when it no longer fits.
+    fn push(&mut self, c: u32) {
+        loop {
+            match self {
+                Codes::U8(v) if c == NULL_CODE || c < u8::MAX as u32 => {
+                    v.push(if c == NULL_CODE { u8::MAX } else { c as u8 });
+                    return;
+                }
+                Codes::U16(v) if c == NULL_CODE || c < u16::MAX as u32 => {
+                    v.push(if c == NULL_CODE { u16::MAX } else { c as u16 });
+                    return;
+                }
+                Codes::U32(v) => {
+                    v.push(c);
+                    return;
+                }
+                Codes::U8(v) => {
+                    let mut w: Vec<u16> = Vec::with_capacity(v.capacity());
+                    w.extend(v.iter().map(|&x| if x == u8::MAX { u16::MAX } else { x as u16 }));
+                    *self = Codes::U16(w);
+                }
+                Codes::U16(v) => {
+                    let mut w: Vec<u32> = Vec::with_capacity(v.capacity());
+                    w.extend(v.iter().map(|&x| if x == u16::MAX { NULL_CODE } else { x as u32 }));
+                    *self = Codes::U32(w);
+                }
+            }
+        }
+    }
+}
 
 impl TextColumn {
     fn from_chunked(ca: &StringChunked) -> TextColumn {
         let mut index: std::collections::HashMap<&str, u32> = std::collections::HashMap::new();
         let mut dict = Vec::new();
-        let mut codes = Vec::with_capacity(ca.len());
+        let mut codes = Codes::U8(Vec::with_capacity(ca.len()));
         for v in ca.iter() {
             match v.map(str::trim).filter(|s| !s.is_empty()) {
                 None => codes.push(NULL_CODE),
@@ -65,7 +113,7 @@ impl TextColumn {
 
     #[inline]
     pub fn get(&self, row: usize) -> Option<&str> {
-        let c = self.codes[row];
+        let c = self.codes.get(row);
         if c == NULL_CODE {
             None
         } else {
@@ -185,8 +233,8 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
     }
     // Columns are read a few at a time and turned into dictionary codes at
     // once, so the text of the whole file is never held in memory.
-    // A small file is read in one pass; a large one six columns at a time.
-    let group_size = if std::fs::metadata(path).map(|m| m.len()).unwrap_or(0) < 256 << 20 { keep.len().max(1) } else { 6 };
+    // A small file is read in one pass; a large one three columns at a time.
+    let group_size = if std::fs::metadata(path).map(|m| m.len()).unwrap_or(0) < 256 << 20 { keep.len().max(1) } else { 3 };
     let mut columns = Vec::new();
     let mut n_rows = None;
     let groups: Vec<&[String]> = if keep.is_empty() { vec![&keep[..]] } else { keep.chunks(group_size).collect() };
