@@ -85,7 +85,9 @@ pub fn run(path: &Path, settings: &Settings, show_progress: bool) -> Result<Audi
     audit_log(&log, &sit, &plan, rejected, source, settings, show_progress)
 }
 
-fn selected_pitchers(log: &ingest::PitchLog, settings: &Settings) -> Result<Vec<u32>> {
+/// The pitchers a run covers: all, or those named by --pitcher (a name not
+/// in the log is a usage error).
+pub fn selected_pitchers(log: &ingest::PitchLog, settings: &Settings) -> Result<Vec<u32>> {
     if settings.pitchers.is_empty() {
         return Ok((0..log.pitchers.len() as u32).collect());
     }

@@ -28,7 +28,7 @@ pub mod tells_change;
 pub mod wording;
 
 use crate::audit::summary::{Input, Tool};
-use crate::error::{Error, Result};
+use crate::error::Result;
 use crate::ingest::{self, Ingested, PitchLog, Rejected, SourceInfo};
 use crate::settings::{FdrMethod, Settings, Statistic};
 use crate::significance::{fdr, Interval};
@@ -98,25 +98,6 @@ pub fn run(path: &Path, settings: &Settings, request: &Request, show_progress: b
     compare_log(&log, &sit, before, after, rejected, source, settings, request.permutations, show_progress)
 }
 
-fn selected_pitchers(log: &PitchLog, settings: &Settings) -> Result<Vec<u32>> {
-    if settings.pitchers.is_empty() {
-        return Ok((0..log.pitchers.len() as u32).collect());
-    }
-    let mut out = Vec::new();
-    for p in &settings.pitchers {
-        match log.pitchers.iter().position(|q| q == p) {
-            Some(i) => out.push(i as u32),
-            None => {
-                return Err(Error::Usage(format!(
-                    "--pitcher \"{p}\" is not in the log; run `tellscope check` to list the pitchers"
-                )))
-            }
-        }
-    }
-    out.sort_unstable();
-    out.dedup();
-    Ok(out)
-}
 
 /// A prepared pitcher, borrowed: (pitcher, rows before/after, fits).
 type Ready<'a> = (u32, &'a [Vec<u32>; 2], &'a [PeriodFit; 2]);
@@ -376,7 +357,7 @@ pub fn compare_log(
 ) -> Result<Comparison> {
     let names = &log.pitch_types;
     let labels = [before.label.as_str(), after.label.as_str()];
-    let chosen = selected_pitchers(log, settings)?;
+    let chosen = crate::audit::selected_pitchers(log, settings)?;
     let mut rows_of: Vec<[Vec<u32>; 2]> = vec![[Vec::new(), Vec::new()]; log.pitchers.len()];
     for i in 0..log.len() {
         let p = log.pitcher[i] as usize;
