@@ -60,6 +60,13 @@ pub struct Workspace {
     batter_codes: Vec<u8>,
     leaves: Vec<u32>,
     criticals: crate::model::prune::Criticals,
+    collapsed: Vec<bool>,
+    kept: Vec<usize>,
+    parent: Vec<usize>,
+    grown_p: Vec<f64>,
+    log_p: Vec<f64>,
+    top: Vec<usize>,
+    flat: crate::model::FlatTree,
     prior_features: Vec<usize>,
     situational_candidates: Vec<usize>,
     count_all: GroupCounts,
@@ -78,6 +85,13 @@ impl Workspace {
             batter_codes: Vec::new(),
             leaves: Vec::new(),
             criticals: crate::model::prune::Criticals::new(0.0),
+            collapsed: Vec::new(),
+            kept: Vec::new(),
+            parent: Vec::new(),
+            grown_p: Vec::new(),
+            log_p: Vec::new(),
+            top: Vec::new(),
+            flat: crate::model::FlatTree::default(),
             prior_features: (task.n_situational..task.x.n_features()).collect(),
             situational_candidates: task
                 .folds
@@ -190,23 +204,28 @@ pub fn fit_and_score(
                 tree
             }
         };
-        let (tree, to_pruned) = if settings.split_alpha < 1.0 {
-            let m = ws.situational_candidates[fi] + prior_candidates(&ws.x, &ws.prior_features, &fold.train);
-            crate::model::prune::prune_fast(&grown, &mut ws.criticals, m)
+        // Pruning is read off the grown tree: each grown node's kept node
+        // (a kept node's smoothed probabilities are the same on either tree).
+        let m = ws.situational_candidates[fi] + prior_candidates(&ws.x, &ws.prior_features, &fold.train);
+        if settings.split_alpha < 1.0 {
+            crate::model::prune::kept_nodes(&grown, &mut ws.criticals, m, &mut ws.collapsed, &mut ws.kept);
         } else {
-            (grown.clone(), (0..grown.nodes.len()).collect())
-        };
-        let grown_p = smoothed_node_probs(&grown, mix, settings.leaf_smoothing);
-        let node_p = smoothed_node_probs(&tree, mix, settings.leaf_smoothing);
+            ws.kept.clear();
+            ws.kept.extend(0..grown.nodes.len());
+        }
+        smoothed_node_probs_into(&grown, mix, settings.leaf_smoothing, &mut ws.parent, &mut ws.grown_p);
         // The statistic is summed the same way for the real labels and every
         // permutation (logs of each node's probabilities taken once), so a
         // refit that reproduces the observed model ties with it exactly.
-        let lg = |p: &[f64]| p.iter().map(|x| x.log2()).collect::<Vec<f64>>();
-        let (lm, lgr, lp) = (lg(&node_p), lg(&grown_p), lg(mix));
-        let am: Vec<usize> = (0..tree.nodes.len()).map(|i| argmax(&node_p[i * k..(i + 1) * k])).collect();
-        let ag: Vec<usize> = (0..grown.nodes.len()).map(|i| argmax(&grown_p[i * k..(i + 1) * k])).collect();
+        let nn = grown.nodes.len();
+        ws.log_p.clear();
+        ws.log_p.extend(ws.grown_p.iter().map(|x| x.log2()));
+        ws.top.clear();
+        ws.top.extend((0..nn).map(|i| argmax(&ws.grown_p[i * k..(i + 1) * k])));
+        let lp: Vec<f64> = mix.iter().map(|x| x.log2()).collect();
         let top = argmax(mix);
-        grown.flat().leaves(&ws.x, &fold.test, &mut ws.leaves);
+        ws.flat.rebuild(&grown);
+        ws.flat.leaves(&ws.x, &fold.test, &mut ws.leaves);
         for (&r, &g) in fold.test.iter().zip(&ws.leaves) {
             let g = g as usize;
             let y = labels[r as usize] as usize;
@@ -214,21 +233,30 @@ pub fn fit_and_score(
                 out.unseen += 1;
                 continue;
             }
-            let leaf = to_pruned[g];
+            let leaf = ws.kept[g];
             let t = &mut out.totals;
             t.n += 1;
-            t.bits += lm[leaf * k + y] - lp[y];
-            t.bits_grown += lgr[g * k + y] - lp[y];
+            t.bits += ws.log_p[leaf * k + y] - lp[y];
+            t.bits_grown += ws.log_p[g * k + y] - lp[y];
             let pr = (top == y) as i64;
-            t.acc += (am[leaf] == y) as i64 - pr;
-            t.acc_grown += (ag[g] == y) as i64 - pr;
+            t.acc += (ws.top[leaf] == y) as i64 - pr;
+            t.acc_grown += (ws.top[g] == y) as i64 - pr;
             if keep_trees {
                 out.rows.push(r);
-                out.model.extend_from_slice(&node_p[leaf * k..(leaf + 1) * k]);
-                out.grown.extend_from_slice(&grown_p[g * k..(g + 1) * k]);
+                out.model.extend_from_slice(&ws.grown_p[leaf * k..(leaf + 1) * k]);
+                out.grown.extend_from_slice(&ws.grown_p[g * k..(g + 1) * k]);
                 out.prior.extend_from_slice(mix);
             }
         }
+        let tree = if keep_trees {
+            if settings.split_alpha < 1.0 {
+                crate::model::prune::prune_fast(&grown, &mut ws.criticals, m).0
+            } else {
+                grown.clone()
+            }
+        } else {
+            Tree { nodes: Vec::new(), n_classes: k }
+        };
         if keep_trees {
             out.trees.push(tree);
             out.usage.push(usage);
@@ -260,7 +288,41 @@ fn prior_candidates(x: &crate::model::FeatureMatrix, features: &[usize], rows: &
 /// the upper splits learned in small leaves and keeps every probability off
 /// 0 and 1 (Ferri, Flach & Hernández-Orallo 2003, "Improving the AUC of
 /// probabilistic estimation trees", the m-estimate smoothed along the path).
+pub fn smoothed_node_probs_into(tree: &Tree, mix: &[f64], a: f64, parent: &mut Vec<usize>, p: &mut Vec<f64>) {
+    // Nodes are numbered in pre-order (a parent before its children), so
+    // one forward sweep smooths every node after its parent.
+    let k = mix.len();
+    let n = tree.nodes.len();
+    parent.clear();
+    parent.resize(n, usize::MAX);
+    for (i, node) in tree.nodes.iter().enumerate() {
+        if let Some(s) = node.split {
+            parent[s.left] = i;
+            parent[s.right] = i;
+        }
+    }
+    p.clear();
+    p.resize(n * k, 0.0);
+    for i in 0..n {
+        let node = &tree.nodes[i];
+        let total: u32 = node.class_counts.iter().sum();
+        for c in 0..k {
+            let up = if parent[i] == usize::MAX { mix[c] } else { p[parent[i] * k + c] };
+            p[i * k + c] = (node.class_counts[c] as f64 + a * up) / (total as f64 + a);
+        }
+    }
+}
+
+/// [`smoothed_node_probs_into`] into a new vector.
 pub fn smoothed_node_probs(tree: &Tree, mix: &[f64], a: f64) -> Vec<f64> {
+    let (mut parent, mut p) = (Vec::new(), Vec::new());
+    smoothed_node_probs_into(tree, mix, a, &mut parent, &mut p);
+    p
+}
+
+/// The recursive form, kept as the reference for the test below.
+#[cfg(test)]
+fn smoothed_node_probs_recursive(tree: &Tree, mix: &[f64], a: f64) -> Vec<f64> {
     let k = mix.len();
     let mut p = vec![0.0; tree.nodes.len() * k];
     let mut stack: Vec<(usize, Vec<f64>)> = vec![(0, mix.to_vec())];
@@ -333,4 +395,31 @@ pub fn argmax(v: &[f64]) -> usize {
         }
     }
     best
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::model::{Node, Split};
+
+    #[test]
+    fn smoothing_sweep_equals_the_recursive_form() {
+        let leaf = |c: Vec<u32>| Node { class_counts: c, split: None };
+        let t = Tree {
+            nodes: vec![
+                Node { class_counts: vec![60, 40], split: Some(Split { feature: 0, threshold: 0, left: 1, right: 4 }) },
+                Node { class_counts: vec![50, 10], split: Some(Split { feature: 1, threshold: 0, left: 2, right: 3 }) },
+                leaf(vec![30, 2]),
+                leaf(vec![20, 8]),
+                leaf(vec![10, 30]),
+            ],
+            n_classes: 2,
+        };
+        let mix = [0.6, 0.4];
+        assert_eq!(smoothed_node_probs(&t, &mix, 10.0), smoothed_node_probs_recursive(&t, &mix, 10.0));
+        // By hand for node 2: parent 1 = (50 + 10·0.6)/70 = 0.8; node 2 =
+        // (30 + 10·0.8)/42 = 0.904762.
+        let p = smoothed_node_probs(&t, &mix, 10.0);
+        assert!((p[2] - 0.8).abs() < 1e-12 && (p[4] - 38.0 / 42.0).abs() < 1e-12);
+    }
 }

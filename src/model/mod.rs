@@ -141,7 +141,7 @@ impl Tree {
 /// (feature, threshold, left, right) and a leaf points to itself, so a row
 /// reaches its leaf after exactly `depth` branch-free steps, and several rows
 /// can walk side by side (their memory latencies overlap).
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, Default)]
 pub struct FlatTree {
     feature: Vec<u32>,
     threshold: Vec<u8>,
@@ -151,8 +151,21 @@ pub struct FlatTree {
 
 impl FlatTree {
     pub fn new(tree: &Tree) -> FlatTree {
+        let mut f = FlatTree::default();
+        f.rebuild(tree);
+        f
+    }
+
+    /// Lay out `tree`, reusing this value's buffers.
+    pub fn rebuild(&mut self, tree: &Tree) {
         let n = tree.nodes.len();
-        let mut f = FlatTree { feature: vec![0; n], threshold: vec![u8::MAX; n], next: vec![[0, 0]; n], depth: 0 };
+        let f = self;
+        f.feature.clear();
+        f.feature.resize(n, 0);
+        f.threshold.clear();
+        f.threshold.resize(n, u8::MAX);
+        f.next.clear();
+        f.next.resize(n, [0, 0]);
         let mut depth = vec![0usize; n];
         for (i, node) in tree.nodes.iter().enumerate() {
             match node.split {
@@ -168,7 +181,6 @@ impl FlatTree {
             }
         }
         f.depth = depth.into_iter().max().unwrap_or(0);
-        f
     }
 
     /// The leaf of every row of `rows`, in order, into `out`.

@@ -123,6 +123,42 @@ pub fn prune_fast(tree: &Tree, crit: &mut Criticals, candidates: usize) -> (Tree
     (t, map)
 }
 
+/// The pruning of [`prune_fast`] without building the pruned tree: for every
+/// node of the grown tree, the grown-tree index of the node that holds it
+/// after pruning (itself when it survives). A kept node's class counts and
+/// ancestors are those of the grown tree, so its smoothed probabilities can
+/// be read straight off the grown tree. `collapsed` is scratch space.
+pub fn kept_nodes(tree: &Tree, crit: &mut Criticals, candidates: usize, collapsed: &mut Vec<bool>, map: &mut Vec<usize>) {
+    let n = tree.nodes.len();
+    collapsed.clear();
+    collapsed.resize(n, false);
+    map.clear();
+    map.resize(n, 0);
+    // A node "ends" when it is a leaf or its split is collapsed; children
+    // come after their parent in pre-order, so a reverse sweep is bottom-up.
+    for i in (0..n).rev() {
+        if let Some(s) = tree.nodes[i].split {
+            let ends = |j: usize| tree.nodes[j].split.is_none() || collapsed[j];
+            if ends(s.left) && ends(s.right) {
+                let (g, dof) = split_g(&tree.nodes[s.left], &tree.nodes[s.right]);
+                collapsed[i] = !(g >= crit.get(dof, candidates));
+            }
+        }
+    }
+    // Top-down: a node inside a collapsed subtree belongs to its root.
+    fn assign(tree: &Tree, collapsed: &[bool], i: usize, to: usize, map: &mut [usize]) {
+        map[i] = to;
+        if let Some(s) = tree.nodes[i].split {
+            let next = |j: usize| if collapsed[i] || to != i { to } else { j };
+            assign(tree, collapsed, s.left, next(s.left), map);
+            assign(tree, collapsed, s.right, next(s.right), map);
+        }
+    }
+    if n > 0 {
+        assign(tree, collapsed, 0, 0, map);
+    }
+}
+
 /// Collapse every split whose adjusted p-value is above `alpha`, bottom-up,
 /// and renumber the surviving nodes in pre-order.
 pub fn prune(tree: &Tree, alpha: f64, candidates: usize) -> Tree {
@@ -250,6 +286,34 @@ mod tests {
             let (g, dof) = split_g(&t.nodes[1], &t.nodes[2]);
             assert_eq!(by_p, g >= crit.get(dof, m), "G = {g}, dof = {dof}, m = {m}");
             assert_eq!(prune(&t, 0.05, m).nodes.len() == 3, by_p);
+        }
+    }
+
+    // The kept-node map agrees with the pruned tree: every grown node's kept
+    // node has the class counts of the pruned node the grown node maps to.
+    #[test]
+    fn kept_nodes_agree_with_the_pruned_tree() {
+        use rand::{Rng, SeedableRng};
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(9);
+        let mut crit = Criticals::new(0.05);
+        let (mut collapsed, mut map) = (Vec::new(), Vec::new());
+        for case in 0..100 {
+            let n = 300 + case * 5;
+            let mut x = crate::model::FeatureMatrix::new(n, (0..5).map(|f| format!("f{f}")).collect());
+            for c in x.codes.iter_mut() {
+                *c = rng.random_range(0..4);
+            }
+            // Labels lean on feature 0 now and then, so some splits survive.
+            let labels: Vec<u8> = (0..n).map(|r| if case % 2 == 0 && x.get(r, 0) == 0 && rng.random::<f64>() < 0.6 { 0 } else { rng.random_range(0..3) }).collect();
+            let rows: Vec<u32> = (0..n as u32).collect();
+            let settings = crate::model::TreeSettings { max_depth: 4, min_samples_leaf: 10, min_samples_split: 20, min_impurity_decrease: 0.0 };
+            use crate::model::Learner;
+            let grown = crate::model::AuditTree(settings).fit(&x, &rows, &labels, 3);
+            let (pruned, to_pruned) = prune_fast(&grown, &mut crit, 20);
+            kept_nodes(&grown, &mut crit, 20, &mut collapsed, &mut map);
+            for g in 0..grown.nodes.len() {
+                assert_eq!(grown.nodes[map[g]].class_counts, pruned.nodes[to_pruned[g]].class_counts, "case {case} node {g}");
+            }
         }
     }
 
