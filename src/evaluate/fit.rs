@@ -62,6 +62,7 @@ pub struct Workspace {
     criticals: crate::model::prune::Criticals,
     collapsed: Vec<bool>,
     kept: Vec<usize>,
+    row_slots: Vec<Vec<(u32, u32, u32)>>,
     parent: Vec<usize>,
     grown_p: Vec<f64>,
     log_p: Vec<f64>,
@@ -87,6 +88,7 @@ impl Workspace {
             criticals: crate::model::prune::Criticals::new(0.0),
             collapsed: Vec::new(),
             kept: Vec::new(),
+            row_slots: vec![Vec::new(); task.folds.len()],
             parent: Vec::new(),
             grown_p: Vec::new(),
             log_p: Vec::new(),
@@ -111,9 +113,10 @@ impl Workspace {
     }
 }
 
+/// A share already multiplied by the number of bins, rounded to its bin.
 #[inline]
-fn bin(p: f64) -> u8 {
-    (p * PRIOR_BINS as f64).round().clamp(0.0, PRIOR_BINS as f64) as u8
+fn bin_scaled(x: f64) -> u8 {
+    (x + 0.5).clamp(0.0, PRIOR_BINS as f64) as u8
 }
 
 /// Fit every fold on `labels` and score the held-out rows.
@@ -163,12 +166,22 @@ pub fn fit_and_score(
             let g = all.n_groups;
             table.clear();
             table.resize(parts * g * k, 0);
+            let sm: Vec<f64> = mix.iter().map(|m| s * m).collect();
             for grp in 0..g {
-                for cls in 0..k {
-                    for (o, part) in oof.iter().enumerate() {
-                        table[(o * g + grp) * k + cls] = bin(all.shrunk_without(part, grp, cls, mix, s));
+                for part in 0..parts {
+                    // Shrunk share (c + s·m) / (n + s), binned: one division
+                    // per group and part, not per class.
+                    let (n, base) = match oof.get(part) {
+                        Some(o) => (all.totals[grp] - o.totals[grp], Some(o)),
+                        None => (all.totals[grp], None),
+                    };
+                    let scale = PRIOR_BINS as f64 / (n as f64 + s);
+                    let row = &mut table[(part * g + grp) * k..(part * g + grp + 1) * k];
+                    for cls in 0..k {
+                        let i = grp * k + cls;
+                        let c = all.counts[i] - base.map_or(0, |o| o.counts[i]);
+                        row[cls] = bin_scaled((c as f64 + sm[cls]) * scale);
                     }
-                    table[(OOF_FOLDS * g + grp) * k + cls] = bin(all.shrunk(grp, cls, mix, s));
                 }
             }
         };
@@ -176,18 +189,27 @@ pub fn fit_and_score(
         code_table(&ws.batter_all, &ws.batter_oof, s_batter, &mut ws.batter_codes);
         let (gc, gb) = (ws.count_all.n_groups, ws.batter_all.n_groups);
         // Written one feature column at a time (sequential writes).
+        // Each row's place in the two code tables depends only on its game
+        // fold, count and batter, so it is worked out once per fold.
+        if ws.row_slots[fi].is_empty() {
+            let slot = |r: u32, train: bool| {
+                let r = r as usize;
+                let part = if train { task.oof[r] as usize } else { OOF_FOLDS };
+                (r as u32, ((part * gc + task.count[r] as usize) * k) as u32, ((part * gb + task.batter[r] as usize) * k) as u32)
+            };
+            let slots: Vec<(u32, u32, u32)> =
+                fold.train.iter().map(|&r| slot(r, true)).chain(fold.test.iter().map(|&r| slot(r, false))).collect();
+            ws.row_slots[fi] = slots;
+        }
         let (codes, cc, bc) = (&mut ws.x.codes, &ws.count_codes, &ws.batter_codes);
         for cls in 0..k {
-            for (f, table, groups, by_batter) in [(prior_col0 + cls, cc, gc, false), (prior_col0 + k + cls, bc, gb, true)] {
-                let col = &mut codes[f * n_rows..(f + 1) * n_rows];
-                for (rows, train) in [(&fold.train, true), (&fold.test, false)] {
-                    for &r in rows.iter() {
-                        let r = r as usize;
-                        let part = if train { task.oof[r] as usize } else { OOF_FOLDS };
-                        let group = if by_batter { task.batter[r] as usize } else { task.count[r] as usize };
-                        col[r] = table[(part * groups + group) * k + cls];
-                    }
-                }
+            let (fc, fb) = (prior_col0 + cls, prior_col0 + k + cls);
+            let (head, tail) = codes.split_at_mut(fb * n_rows);
+            let col_c = &mut head[fc * n_rows..(fc + 1) * n_rows];
+            let col_b = &mut tail[..n_rows];
+            for &(r, cb, bb) in &ws.row_slots[fi] {
+                col_c[r as usize] = cc[cb as usize + cls];
+                col_b[r as usize] = bc[bb as usize + cls];
             }
         }
         let train_labels: Vec<u8> = fold.train.iter().map(|&r| labels[r as usize]).collect();

@@ -13,7 +13,7 @@ use parse::*;
 use read::{Format, RawTable};
 use serde::Serialize;
 use sha2::{Digest, Sha256};
-use std::collections::{BTreeMap, BTreeSet, HashMap};
+use std::collections::{BTreeMap, BTreeSet};
 use std::path::{Path, PathBuf};
 
 /// The outcome of a pitch (optional column `result`).
@@ -152,7 +152,9 @@ impl PitchLog {
 /// indices do not depend on file order.
 #[derive(Default)]
 struct Interner {
-    index: HashMap<String, u32>,
+    // polars' hash map (a fast non-cryptographic hasher): interning is
+    // done per row.
+    index: polars::prelude::PlHashMap<String, u32>,
     names: Vec<String>,
 }
 

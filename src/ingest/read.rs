@@ -92,7 +92,7 @@ impl Codes {
 
 impl TextColumn {
     fn from_chunked(ca: &StringChunked) -> TextColumn {
-        let mut index: std::collections::HashMap<&str, u32> = std::collections::HashMap::new();
+        let mut index: PlHashMap<&str, u32> = PlHashMap::default();
         let mut dict = Vec::new();
         let mut codes = Codes::U8(Vec::with_capacity(ca.len()));
         for v in ca.iter() {

@@ -165,7 +165,15 @@ fn dm_objective(sum: &DmSummary, mix: &[f64], s: f64) -> f64 {
 /// d/da ln(a(a+1)…(a+x−1)) = Σ 1/(a+j), d²/da² = −Σ 1/(a+j)², with a = s
 /// for the totals and a = s·m_k for the cells.
 fn dm_derivatives(sum: &DmSummary, mix: &[f64], s: f64) -> (f64, f64) {
+    // Short sums directly; long ones as ψ(a + x) − ψ(a) and ψ'(a) − ψ'(a + x)
+    // (the same sums by the recurrences ψ(z + 1) = ψ(z) + 1/z and
+    // ψ'(z + 1) = ψ'(z) − 1/z², Abramowitz & Stegun 6.3.5 and 6.4.6).
     let sums = |a: f64, x: u32| {
+        if x > 32 {
+            use statrs::function::gamma::digamma;
+            let z = a + x as f64;
+            return (digamma(z) - digamma(a), shrink::trigamma(a) - shrink::trigamma(z));
+        }
         let (mut d1, mut d2) = (0.0, 0.0);
         for j in 0..x {
             let r = 1.0 / (a + j as f64);
@@ -267,6 +275,18 @@ mod tests {
     // The fast search maximises the same likelihood as
     // shrink::fit_dirichlet_strength (checked against scipy's
     // dirichlet_multinomial in tests/stats_reference.rs): the two agree.
+    // The long-sum branch (digamma/trigamma) equals the direct sums.
+    #[test]
+    fn derivative_sums_agree_on_both_branches() {
+        use statrs::function::gamma::digamma;
+        for &(a, x) in &[(0.7, 40u32), (3.2, 100), (50.0, 500)] {
+            let direct: f64 = (0..x).map(|j| 1.0 / (a + j as f64)).sum();
+            let direct2: f64 = (0..x).map(|j| 1.0 / ((a + j as f64) * (a + j as f64))).sum();
+            assert!((digamma(a + x as f64) - digamma(a) - direct).abs() < 1e-9 * direct);
+            assert!((shrink::trigamma(a) - shrink::trigamma(a + x as f64) - direct2).abs() < 1e-9 * direct2);
+        }
+    }
+
     #[test]
     fn fast_strength_matches_the_reference_fit() {
         let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(3);

@@ -94,7 +94,7 @@ fn ln_rising(x: f64, c: u64) -> f64 {
 /// Trigamma ψ'(x) for x > 0: recurrence ψ'(x) = ψ'(x+1) + 1/x² up to x >= 10,
 /// then the asymptotic series 1/x + 1/2x² + Σ B_2k / x^(2k+1)
 /// (Abramowitz & Stegun 6.4.12); error below 1e-14 relative at x = 10.
-fn trigamma(x: f64) -> f64 {
+pub(crate) fn trigamma(x: f64) -> f64 {
     let mut r = 0.0;
     let mut z = x;
     while z < 10.0 {
