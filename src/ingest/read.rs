@@ -234,7 +234,7 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
     // Columns are read a few at a time and turned into dictionary codes at
     // once, so the text of the whole file is never held in memory.
     // A small file is read in one pass; a large one three columns at a time.
-    let group_size = if std::fs::metadata(path).map(|m| m.len()).unwrap_or(0) < 256 << 20 { keep.len().max(1) } else { 3 };
+    let group_size = if std::fs::metadata(path).map(|m| m.len()).unwrap_or(0) < 64 << 20 { keep.len().max(1) } else { 3 };
     let mut columns = Vec::new();
     let mut n_rows = None;
     let groups: Vec<&[String]> = if keep.is_empty() { vec![&keep[..]] } else { keep.chunks(group_size).collect() };
