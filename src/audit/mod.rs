@@ -347,6 +347,7 @@ pub fn audit_log(
             scheme: plan.scheme_name().into(),
             train: plan.train_label.clone(),
             test: plan.test_label.clone(),
+            tells_checked_on: plan.tells_label.clone(),
         },
         notes,
         tell_tests: tests.len(),

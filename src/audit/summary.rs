@@ -65,6 +65,8 @@ pub struct EvaluationOut {
     pub scheme: String,
     pub train: String,
     pub test: String,
+    /// Where tells found on the training rows are checked.
+    pub tells_checked_on: String,
 }
 
 #[derive(Debug, Clone, Serialize)]

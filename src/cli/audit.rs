@@ -121,7 +121,7 @@ pub fn print_table(audit: &Audit, out: &Path) {
         println!();
         println!("Top tells:");
         for t in top.iter().take(8) {
-            println!("  {}: {}", t.pitcher, wording::tell_sentence(t, &s.evaluation.test));
+            println!("  {}: {}", t.pitcher, wording::tell_sentence(t, &s.evaluation.tells_checked_on));
         }
     }
     println!();

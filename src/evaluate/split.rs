@@ -32,6 +32,8 @@ pub struct Plan {
     pub held_out: Vec<bool>,
     pub train_label: String,
     pub test_label: String,
+    /// Where tells are checked (the held-out rows), in words.
+    pub tells_label: String,
 }
 
 impl Plan {
@@ -66,6 +68,7 @@ impl Plan {
                 held_out,
                 train_label,
                 test_label: format!("season {test}"),
+                tells_label: format!("season {test}"),
             });
         }
         // Forward-chaining within the (only, or earliest chosen) season.
@@ -103,8 +106,10 @@ impl Plan {
             n_folds: blocks - 1,
             discovery,
             held_out,
-            train_label: format!("season {season}, earlier blocks of games"),
-            test_label: format!("season {season}, each later block of {} ({} games in all)", blocks, n_games),
+            // Fold f trains on blocks 0..=f and scores block f + 1.
+            train_label: format!("the earlier games of {season}"),
+            test_label: format!("the later games of {season} ({} blocks of about {} games, each scored by the blocks before it)", blocks - 1, n_games / blocks),
+            tells_label: format!("the last {} games of {season}", n_games - (blocks - 1) * n_games / blocks),
         })
     }
 
@@ -154,8 +159,9 @@ impl Plan {
             n_folds: blocks - 1,
             discovery,
             held_out,
-            train_label: format!("{label}, earlier blocks of games"),
-            test_label: format!("{label}, each later block of {blocks} ({n_games} games in all)"),
+            train_label: format!("the earlier games of {label}"),
+            test_label: format!("the later games of {label} ({} blocks of about {} games, each scored by the blocks before it)", blocks - 1, n_games / blocks),
+            tells_label: format!("the last {} games of {label}", n_games - (blocks - 1) * n_games / blocks),
         })
     }
 

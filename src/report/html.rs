@@ -113,7 +113,7 @@ pub fn per_season(t: &TellTest, discovery_seasons: usize) -> f64 {
 }
 
 pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, stems: &BTreeMap<String, String>) -> Result<String> {
-    let test_label = &summary.evaluation.test;
+    let test_label = &summary.evaluation.tells_checked_on;
     let discovery_seasons = summary.input.seasons.len().saturating_sub(1).max(1);
     let mut staff = Vec::new();
     let mut insufficient = Vec::new();
