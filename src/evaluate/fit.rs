@@ -228,7 +228,21 @@ pub fn fit_and_score(
         };
         // Pruning is read off the grown tree: each grown node's kept node
         // (a kept node's smoothed probabilities are the same on either tree).
-        let m = ws.situational_candidates[fi] + prior_candidates(&ws.x, &ws.prior_features, &fold.train);
+        // Candidate splits among the prior features: distinct codes over
+        // training rows, read off the code tables (a training row with game
+        // fold o in group g uses entry (o, g); it exists when that fold has
+        // training pitches in g), which equals counting over the rows.
+        let m = ws.situational_candidates[fi]
+            + table_candidates(&ws.count_codes, &ws.count_oof, k)
+            + table_candidates(&ws.batter_codes, &ws.batter_oof, k);
+        if keep_trees {
+            // The observed fit checks the shortcut against the plain count.
+            assert_eq!(
+                m,
+                ws.situational_candidates[fi] + prior_candidates(&ws.x, &ws.prior_features, &fold.train),
+                "candidate splits from the code tables disagree with the rows"
+            );
+        }
         if settings.split_alpha < 1.0 {
             crate::model::prune::kept_nodes(&grown, &mut ws.criticals, m, &mut ws.collapsed, &mut ws.kept);
         } else {
@@ -288,7 +302,28 @@ pub fn fit_and_score(
     out
 }
 
-/// Candidate splits among the prior features (their codes change per fit).
+/// Distinct codes per class column among the table entries training rows
+/// use, minus one each: the candidate splits of those prior features.
+fn table_candidates(table: &[u8], oof: &[GroupCounts], k: usize) -> usize {
+    let mut total = 0;
+    for cls in 0..k {
+        let mut seen = [0u8; 256];
+        for (o, part) in oof.iter().enumerate() {
+            let g = part.n_groups;
+            for grp in 0..g {
+                if part.totals[grp] > 0 {
+                    seen[table[(o * g + grp) * k + cls] as usize] = 1;
+                }
+            }
+        }
+        let distinct: usize = seen.iter().map(|&b| b as usize).sum();
+        total += distinct.saturating_sub(1);
+    }
+    total
+}
+
+/// Candidate splits among the prior features (their codes change per fit),
+/// counted over the rows (the reference for `table_candidates`).
 fn prior_candidates(x: &crate::model::FeatureMatrix, features: &[usize], rows: &[u32]) -> usize {
     let mut total = 0;
     for &f in features {
