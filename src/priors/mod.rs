@@ -98,10 +98,22 @@ pub fn strength(groups: &GroupCounts, mix: &[f64], setting: PriorStrength) -> f6
 }
 
 /// Distinct values and how often each occurs.
-fn histogram(mut v: Vec<u32>) -> Vec<(u32, u32)> {
-    v.sort_unstable();
-    let mut out: Vec<(u32, u32)> = Vec::new();
-    for x in v {
+/// Distinct values and how often each occurs, ascending. Small values (most
+/// of a batter's counts) are tallied directly; the few large ones sorted.
+fn histogram(values: impl Iterator<Item = u32>) -> Vec<(u32, u32)> {
+    const SMALL: usize = 64;
+    let mut tally = [0u32; SMALL];
+    let mut large: Vec<u32> = Vec::new();
+    for x in values {
+        if (x as usize) < SMALL {
+            tally[x as usize] += 1;
+        } else {
+            large.push(x);
+        }
+    }
+    let mut out: Vec<(u32, u32)> = tally.iter().enumerate().filter(|(_, &m)| m > 0).map(|(x, &m)| (x as u32, m)).collect();
+    large.sort_unstable();
+    for x in large {
         match out.last_mut() {
             Some((y, m)) if *y == x => *m += 1,
             _ => out.push((x, 1)),
@@ -121,10 +133,8 @@ struct DmSummary {
 
 fn dm_summary(groups: &GroupCounts) -> DmSummary {
     let k = groups.n_classes;
-    let totals = histogram(groups.totals.iter().copied().filter(|&n| n > 0).collect());
-    let cells = (0..k)
-        .map(|c| histogram((0..groups.n_groups).map(|g| groups.counts[g * k + c]).filter(|&x| x > 0).collect()))
-        .collect();
+    let totals = histogram(groups.totals.iter().copied().filter(|&n| n > 0));
+    let cells = (0..k).map(|c| histogram((0..groups.n_groups).map(|g| groups.counts[g * k + c]).filter(|&x| x > 0))).collect();
     DmSummary { totals, cells }
 }
 
