@@ -209,7 +209,6 @@ pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[&Pitc
                 if (n as usize) < settings.tell_min_n || big_n - n < settings.tell_min_n as u32 {
                     continue;
                 }
-                let situation = key_situation(&cols, k);
                 for cls in 0..kc {
                     let big_k = total[cls];
                     if big_k == 0 {
@@ -217,15 +216,12 @@ pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[&Pitc
                     }
                     let x = disc[k * kc + cls];
                     let gtype = task.class_types[cls] as usize;
-                    let sn = staff_n[team * n_keys + k];
-                    let staff_share = if sn > 0 { staff[(team * n_keys + k) * n_types + gtype] as f64 / sn as f64 } else { 0.0 };
-                    let share = x as f64 / n as f64;
-                    let baseline_share = (big_k - x) as f64 / (big_n - n) as f64;
-                    let ci = wilson::wilson_95(x as u64, n as u64);
-                    let hn = held_n[k];
-                    let hk = held[k * kc + cls];
-                    let hout = held_all - hn;
-                    let hkout = held_total[cls] - hk;
+                    let staff_share = |key: usize| {
+                        let sn = staff_n[team * n_keys + key];
+                        if sn > 0 { staff[(team * n_keys + key) * n_types + gtype] as f64 / sn as f64 } else { 0.0 }
+                    };
+                    let (hn, hk) = (held_n[k], held[k * kc + cls]);
+                    let (hout, hkout) = (held_all - hn, held_total[cls] - hk);
                     for dir in [Direction::More, Direction::Less] {
                         if binary && dir == Direction::Less {
                             continue; // the other level's "more" is the same test
@@ -237,59 +233,35 @@ pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[&Pitc
                             Direction::More => hypergeom::upper_tail(x as u64, big_n as u64, big_k as u64, n as u64),
                             Direction::Less => hypergeom::lower_tail(x as u64, big_n as u64, big_k as u64, n as u64),
                         };
+                        // The situation's side and the rest: (pitches, of this
+                        // type) on discovery and on held-out rows.
+                        let mut at = (k, dir, (n, x), (big_n - n, big_k - x), (hn, hk), (hout, hkout));
                         // A two-level factor's "more at A" is "less at B"; it is
                         // told the way a coach would say it: as an avoidance when
                         // he throws the pitch at under half the rate at B.
-                        if binary && baseline_share < 0.5 * share {
-                            let other = 1 - k;
-                            let osn = staff_n[team * n_keys + other];
-                            let oci = wilson::wilson_95((big_k - x) as u64, (big_n - n) as u64);
-                            tests.push(TellTest {
-                                pitcher: task.name.clone(),
-                                situation: key_situation(&cols, other),
-                                pitch_type: log.pitch_types[gtype].clone(),
-                                direction: Direction::Less,
-                                n: (big_n - n) as usize,
-                                k: (big_k - x) as usize,
-                                share: baseline_share,
-                                share_low: oci.low,
-                                share_high: oci.high,
-                                baseline_share: share,
-                                baseline_n: n as usize,
-                                staff_share: if osn > 0 {
-                                    staff[(team * n_keys + other) * n_types + gtype] as f64 / osn as f64
-                                } else {
-                                    0.0
-                                },
-                                p_value: p.clamp(0.0, 1.0),
-                                q_value: 1.0,
-                                held_out_n: hout as usize,
-                                held_out_share: (hout > 0).then(|| hkout as f64 / hout as f64),
-                                held_out_baseline_share: (hn > 0).then(|| hk as f64 / hn as f64),
-                                flagged: false,
-                                family_q: 1.0,
-                                within: None,
-                            });
-                            continue;
+                        if binary && ((big_k - x) as f64 / (big_n - n) as f64) < 0.5 * (x as f64 / n as f64) {
+                            at = (1 - k, Direction::Less, at.3, at.2, at.5, at.4);
                         }
+                        let (key, direction, (n_in, k_in), (n_out, k_out), (h_in, hk_in), (h_out, hk_out)) = at;
+                        let ci = wilson::wilson_95(k_in as u64, n_in as u64);
                         tests.push(TellTest {
                             pitcher: task.name.clone(),
-                            situation: situation.clone(),
+                            situation: key_situation(&cols, key),
                             pitch_type: log.pitch_types[gtype].clone(),
-                            direction: dir,
-                            n: n as usize,
-                            k: x as usize,
-                            share,
+                            direction,
+                            n: n_in as usize,
+                            k: k_in as usize,
+                            share: k_in as f64 / n_in as f64,
                             share_low: ci.low,
                             share_high: ci.high,
-                            baseline_share,
-                            baseline_n: (big_n - n) as usize,
-                            staff_share,
+                            baseline_share: k_out as f64 / n_out as f64,
+                            baseline_n: n_out as usize,
+                            staff_share: staff_share(key),
                             p_value: p.clamp(0.0, 1.0),
                             q_value: 1.0,
-                            held_out_n: hn as usize,
-                            held_out_share: (hn > 0).then(|| hk as f64 / hn as f64),
-                            held_out_baseline_share: (hout > 0).then(|| hkout as f64 / hout as f64),
+                            held_out_n: h_in as usize,
+                            held_out_share: (h_in > 0).then(|| hk_in as f64 / h_in as f64),
+                            held_out_baseline_share: (h_out > 0).then(|| hk_out as f64 / h_out as f64),
                             flagged: false,
                             family_q: 1.0,
                             within: None,
