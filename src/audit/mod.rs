@@ -85,6 +85,25 @@ pub fn run(path: &Path, settings: &Settings, show_progress: bool) -> Result<Audi
     audit_log(&log, &sit, &plan, rejected, source, settings, show_progress)
 }
 
+/// The report's notes about its input: factors left out (`left_out` says
+/// of what), caveats on how factors were built, rejected rows.
+pub fn input_notes(sit: &Situations, source: &ingest::SourceInfo, left_out: &str) -> Vec<String> {
+    let mut notes = Vec::new();
+    for (f, why) in &sit.dropped {
+        notes.push(format!("The {f} factor is {left_out}: {why}."));
+    }
+    for n in &sit.notes {
+        notes.push(format!("Note: {n}."));
+    }
+    if source.rows_rejected > 0 {
+        notes.push(format!(
+            "{} of {} input rows broke the data contract and were left out; they are listed with reasons in rejected.csv.",
+            source.rows_rejected, source.rows_read
+        ));
+    }
+    notes
+}
+
 /// The pitchers a run covers: all, or those named by --pitcher (a name not
 /// in the log is a usage error).
 pub fn selected_pitchers(log: &ingest::PitchLog, settings: &Settings) -> Result<Vec<u32>> {
@@ -290,19 +309,7 @@ pub fn audit_log(
             cautions,
         });
     }
-    let mut notes = Vec::new();
-    for (f, why) in &sit.dropped {
-        notes.push(format!("The {f} factor is left out: {why}."));
-    }
-    for n in &sit.notes {
-        notes.push(format!("Note: {n}."));
-    }
-    if source.rows_rejected > 0 {
-        notes.push(format!(
-            "{} of {} input rows broke the data contract and were left out; they are listed with reasons in rejected.csv.",
-            source.rows_rejected, source.rows_read
-        ));
-    }
+    let notes = input_notes(sit, &source, "left out");
     let summary = Summary {
         tool: Tool { name: "tellscope".into(), version: env!("CARGO_PKG_VERSION").into() },
         input: Input {

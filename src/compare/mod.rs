@@ -598,19 +598,7 @@ pub fn compare_log(
     let tests = all_p.len();
     let significant = pitchers.iter().map(|p| p.significant_changes).sum();
 
-    let mut notes = Vec::new();
-    for (f, why) in &sit.dropped {
-        notes.push(format!("The {f} factor is left out of the tells: {why}."));
-    }
-    for n in &sit.notes {
-        notes.push(format!("Note: {n}."));
-    }
-    if source.rows_rejected > 0 {
-        notes.push(format!(
-            "{} of {} input rows broke the data contract and were left out; they are listed with reasons in rejected.csv.",
-            source.rows_rejected, source.rows_read
-        ));
-    }
+    let mut notes = crate::audit::input_notes(sit, &source, "left out of the tells");
     if before.first_date > after.first_date {
         notes.push(format!(
             "--before {} is later than --after {}: every \"rose\" and \"fell\" reads from the first to the second as given.",
