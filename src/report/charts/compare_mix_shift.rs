@@ -6,9 +6,9 @@ use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
 use super::{
+    share_mesh,
     category_ticks_x, check_share, file_stem, fmt_n, font, header, legend_row, palette, render,
-    text, Chart, ChartError, Mark, Painter, AXIS_TITLE_SIZE, MARGIN, TICK_SIZE,
-};
+    text, Chart, ChartError, Mark, Painter, MARGIN, };
 
 #[derive(Debug, Clone, PartialEq)]
 pub struct MixShiftInput {
@@ -122,20 +122,7 @@ impl Painter for ShiftPainter<'_> {
             .x_label_area_size(62)
             .y_label_area_size(66)
             .build_cartesian_2d(-0.5f64..(k as f64 - 0.5), 0f64..y_max)?;
-        chart
-            .configure_mesh()
-            .disable_x_mesh()
-            .x_labels(0)
-            .y_labels(6)
-            .y_label_formatter(&|v| format!("{:.0}%", v * 100.0))
-            .x_desc("pitch type")
-            .y_desc("share of his pitches (%)")
-            .label_style(font::regular(TICK_SIZE).color(&palette::INK))
-            .axis_desc_style(font::regular(AXIS_TITLE_SIZE).color(&palette::INK))
-            .bold_line_style(palette::GRID.stroke_width(1))
-            .light_line_style(TRANSPARENT)
-            .axis_style(palette::INK.stroke_width(1))
-            .draw()?;
+        share_mesh(&mut chart, "pitch type", "share of his pitches (%)")?;
         category_ticks_x(root, &self.labels, |i| {
             chart.backend_coord(&(i as f64, 0.0))
         })?;

@@ -5,9 +5,9 @@ use plotters::coord::Shift;
 use plotters::prelude::*;
 
 use super::{
-    category_ticks_x, check_share, count_index, file_stem, fmt_n, font, header, legend_row,
-    palette, render, Chart, ChartError, Mark, Painter, AXIS_TITLE_SIZE, COUNTS, MARGIN, TICK_SIZE,
-};
+    share_mesh,
+    category_ticks_x, check_share, count_index, file_stem, fmt_n, header, legend_row,
+    palette, render, Chart, ChartError, Mark, Painter, COUNTS, MARGIN, };
 
 /// One count in both periods. A share is `None` when he threw no pitch in
 /// that count in that period.
@@ -120,20 +120,7 @@ impl Painter for TopSharePainter<'_> {
             .x_label_area_size(50)
             .y_label_area_size(66)
             .build_cartesian_2d(-0.5f64..11.5f64, 0f64..1.0f64)?;
-        chart
-            .configure_mesh()
-            .disable_x_mesh()
-            .x_labels(0)
-            .y_labels(6)
-            .y_label_formatter(&|v| format!("{:.0}%", v * 100.0))
-            .x_desc("count (balls-strikes)")
-            .y_desc("share of his top pitch (%)")
-            .label_style(font::regular(TICK_SIZE).color(&palette::INK))
-            .axis_desc_style(font::regular(AXIS_TITLE_SIZE).color(&palette::INK))
-            .bold_line_style(palette::GRID.stroke_width(1))
-            .light_line_style(TRANSPARENT)
-            .axis_style(palette::INK.stroke_width(1))
-            .draw()?;
+        share_mesh(&mut chart, "count (balls-strikes)", "share of his top pitch (%)")?;
         category_ticks_x(root, &COUNTS.map(String::from), |i| {
             chart.backend_coord(&(i as f64, 0.0))
         })?;

@@ -270,11 +270,13 @@ impl Grid<'_> {
                     )?;
                 }
             }
-            Some(c) if c.n > 0 => {
+            other => {
+                // Too few pitches to colour, or none at all.
+                let n = other.map_or(0, |c| c.n);
                 self.few(root, (x0, y0), (x1, y1))?;
                 text(
                     root,
-                    "few pitches",
+                    if n > 0 { "few pitches" } else { "no pitches" },
                     (cx, cy - 10),
                     &font::regular(15.0),
                     palette::INK,
@@ -283,28 +285,7 @@ impl Grid<'_> {
                 )?;
                 text(
                     root,
-                    &format!("n = {}", fmt_n(c.n)),
-                    (cx, cy + 14),
-                    &n_font,
-                    palette::INK,
-                    HPos::Center,
-                    VPos::Center,
-                )?;
-            }
-            _ => {
-                self.few(root, (x0, y0), (x1, y1))?;
-                text(
-                    root,
-                    "no pitches",
-                    (cx, cy - 10),
-                    &font::regular(15.0),
-                    palette::INK,
-                    HPos::Center,
-                    VPos::Center,
-                )?;
-                text(
-                    root,
-                    "n = 0",
+                    &format!("n = {}", fmt_n(n)),
                     (cx, cy + 14),
                     &n_font,
                     palette::INK,

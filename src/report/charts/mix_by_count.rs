@@ -6,10 +6,10 @@ use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
 use super::{
+    share_mesh,
     category_ticks_x, check_share, count_index, file_stem, fmt_n, font, header, legend_column,
-    palette, render, text, Chart, ChartError, Mark, Painter, AXIS_TITLE_SIZE, COUNTS, MARGIN,
-    NOTE_SIZE, TICK_SIZE,
-};
+    palette, render, text, Chart, ChartError, Mark, Painter, COUNTS, MARGIN,
+    NOTE_SIZE, };
 
 /// One count's pitch mix.
 #[derive(Debug, Clone, PartialEq)]
@@ -161,20 +161,7 @@ impl Painter for MixPainter {
             .x_label_area_size(50)
             .y_label_area_size(66)
             .build_cartesian_2d(-0.5f64..11.5f64, 0f64..1f64)?;
-        chart
-            .configure_mesh()
-            .disable_x_mesh()
-            .x_labels(0)
-            .y_labels(6)
-            .y_label_formatter(&|v| format!("{:.0}%", v * 100.0))
-            .x_desc("count (balls-strikes)")
-            .y_desc("share of pitches in the count (%)")
-            .label_style(font::regular(TICK_SIZE).color(&palette::INK))
-            .axis_desc_style(font::regular(AXIS_TITLE_SIZE).color(&palette::INK))
-            .bold_line_style(palette::GRID.stroke_width(1))
-            .light_line_style(TRANSPARENT)
-            .axis_style(palette::INK.stroke_width(1))
-            .draw()?;
+        share_mesh(&mut chart, "count (balls-strikes)", "share of pitches in the count (%)")?;
         category_ticks_x(root, &COUNTS.map(String::from), |i| {
             chart.backend_coord(&(i as f64, 0.0))
         })?;

@@ -474,6 +474,30 @@ pub(crate) fn legend_row<DB: DrawingBackend>(
 /// explicit lines separated by `\n`; a one-line label too wide for its slot
 /// is broken at the space or hyphen nearest its middle. Every line is then
 /// cut to the slot width. Two lines need an x label area of about 62 px.
+/// The mesh of a share chart: categories along x (their ticks are drawn by
+/// [`category_ticks_x`]), shares 0–100% up the y axis, in our font and colours.
+pub(crate) fn share_mesh<DB: DrawingBackend>(
+    chart: &mut ChartContext<'_, DB, Cartesian2d<plotters::coord::types::RangedCoordf64, plotters::coord::types::RangedCoordf64>>,
+    x_desc: &str,
+    y_desc: &str,
+) -> Result<(), ChartError> {
+    chart
+        .configure_mesh()
+        .disable_x_mesh()
+        .x_labels(0)
+        .y_labels(6)
+        .y_label_formatter(&|v| format!("{:.0}%", v * 100.0))
+        .x_desc(x_desc)
+        .y_desc(y_desc)
+        .label_style(font::regular(TICK_SIZE).color(&palette::INK))
+        .axis_desc_style(font::regular(AXIS_TITLE_SIZE).color(&palette::INK))
+        .bold_line_style(palette::GRID.stroke_width(1))
+        .light_line_style(TRANSPARENT)
+        .axis_style(palette::INK.stroke_width(1))
+        .draw()?;
+    Ok(())
+}
+
 pub(crate) fn category_ticks_x<DB: DrawingBackend>(
     root: &DrawingArea<DB, Shift>,
     labels: &[String],
