@@ -536,8 +536,7 @@ pub fn compare_files(cmp: &Comparison) -> Result<Vec<ReportFile>> {
     staff.sort_by(|a, b| order(&a.significant, &a.pitcher, &b.significant, &b.pitcher));
     views.sort_by(|a, b| order(&a.significant, &a.pitcher, &b.significant, &b.pitcher));
 
-    let mut env = minijinja::Environment::new();
-    env.add_template("compare.html", TEMPLATE).map_err(|e| Error::Internal(format!("template: {e}")))?;
+    let env = super::html::environment("compare.html", TEMPLATE)?;
     let tmpl = env.get_template("compare.html").map_err(|e| Error::Internal(format!("template: {e}")))?;
     let (b, a) = (&s.periods.before, &s.periods.after);
     let ctx = minijinja::context! {

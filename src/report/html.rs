@@ -11,6 +11,18 @@ use serde::Serialize;
 use std::collections::BTreeMap;
 
 const TEMPLATE: &str = include_str!("templates/index.html");
+/// The staff table's click-to-sort script, shared by both report pages.
+const SORT_TABLE: &str = include_str!("templates/sort_table.html");
+
+/// A template environment holding `name` and the shared pieces it includes.
+/// Names end in `.html`, so minijinja escapes every value for HTML.
+pub fn environment(name: &'static str, source: &'static str) -> Result<minijinja::Environment<'static>> {
+    let mut env = minijinja::Environment::new();
+    for (n, text) in [("sort_table.html", SORT_TABLE), (name, source)] {
+        env.add_template(n, text).map_err(|e| Error::Internal(format!("template {n}: {e}")))?;
+    }
+    Ok(env)
+}
 
 /// Inline SVG of each chart: the staff chart and each pitcher's charts.
 #[derive(Default)]
@@ -192,8 +204,7 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
     }
     // Most predictable first; the table can be re-sorted in the page.
     staff.sort_by(|a, b| b.bits_gained.partial_cmp(&a.bits_gained).unwrap().then(a.pitcher.cmp(&b.pitcher)));
-    let mut env = minijinja::Environment::new();
-    env.add_template("index.html", TEMPLATE).map_err(|e| Error::Internal(format!("template: {e}")))?;
+    let env = environment("index.html", TEMPLATE)?;
     let tmpl = env.get_template("index.html").map_err(|e| Error::Internal(format!("template: {e}")))?;
     let ctx = minijinja::context! {
         title => summary.input.path.clone(),
