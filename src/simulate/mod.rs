@@ -50,14 +50,23 @@ impl PitchResult {
         PitchResult::HitByPitch,
     ];
 
+    /// The contract's spelling, from the one list the reader checks against.
     pub fn as_str(self) -> &'static str {
-        match self {
-            PitchResult::Ball => "ball",
-            PitchResult::CalledStrike => "called_strike",
-            PitchResult::SwingingStrike => "swinging_strike",
-            PitchResult::Foul => "foul",
-            PitchResult::InPlay => "in_play",
-            PitchResult::HitByPitch => "hit_by_pitch",
+        crate::ingest::PitchResult::from(self).as_str()
+    }
+}
+
+/// The engine's outcomes are the contract's `result` values but `other`.
+impl From<PitchResult> for crate::ingest::PitchResult {
+    fn from(r: PitchResult) -> Self {
+        use crate::ingest::PitchResult as Logged;
+        match r {
+            PitchResult::Ball => Logged::Ball,
+            PitchResult::CalledStrike => Logged::CalledStrike,
+            PitchResult::SwingingStrike => Logged::SwingingStrike,
+            PitchResult::Foul => Logged::Foul,
+            PitchResult::InPlay => Logged::InPlay,
+            PitchResult::HitByPitch => Logged::HitByPitch,
         }
     }
 }
