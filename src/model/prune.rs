@@ -217,27 +217,27 @@ mod tests {
         Node { class_counts: c, split: None }
     }
 
+    /// A root split into two leaves with these class counts.
+    fn stump(l: Vec<u32>, r: Vec<u32>) -> Tree {
+        let root: Vec<u32> = l.iter().zip(&r).map(|(a, b)| a + b).collect();
+        let n_classes = root.len();
+        Tree {
+            nodes: vec![
+                Node { class_counts: root, split: Some(Split { feature: 0, threshold: 0, left: 1, right: 2 }) },
+                leaf(l),
+                leaf(r),
+            ],
+            n_classes,
+        }
+    }
+
     #[test]
     fn a_clear_split_survives_and_a_noise_split_goes() {
         // Root 200 = left 100 (90/10) + right 100 (10/90): G is huge.
-        let strong = Tree {
-            nodes: vec![
-                Node { class_counts: vec![100, 100], split: Some(Split { feature: 0, threshold: 0, left: 1, right: 2 }) },
-                leaf(vec![90, 10]),
-                leaf(vec![10, 90]),
-            ],
-            n_classes: 2,
-        };
+        let strong = stump(vec![90, 10], vec![10, 90]);
         assert_eq!(prune(&strong, 0.05, 50).nodes.len(), 3);
         // 52/48 vs 48/52: G ≈ 0.32, p ≈ 0.57 before any correction.
-        let weak = Tree {
-            nodes: vec![
-                Node { class_counts: vec![100, 100], split: Some(Split { feature: 0, threshold: 0, left: 1, right: 2 }) },
-                leaf(vec![52, 48]),
-                leaf(vec![48, 52]),
-            ],
-            n_classes: 2,
-        };
+        let weak = stump(vec![52, 48], vec![48, 52]);
         let p = prune(&weak, 0.05, 1);
         assert_eq!(p.nodes.len(), 1);
         assert_eq!(p.nodes[0].class_counts, vec![100, 100]);
@@ -248,14 +248,7 @@ mod tests {
         // 60/40 vs 40/60 on 100 + 100: G-test p ≈ 0.0045 (scipy
         // chi2_contingency(lambda_="log-likelihood", correction=False) on
         // [[60,40],[40,60]] gives G = 8.05, p = 0.00455; from memory).
-        let t = Tree {
-            nodes: vec![
-                Node { class_counts: vec![100, 100], split: Some(Split { feature: 0, threshold: 0, left: 1, right: 2 }) },
-                leaf(vec![60, 40]),
-                leaf(vec![40, 60]),
-            ],
-            n_classes: 2,
-        };
+        let t = stump(vec![60, 40], vec![40, 60]);
         assert_eq!(prune(&t, 0.05, 5).nodes.len(), 3);
         assert_eq!(prune(&t, 0.05, 20).nodes.len(), 1);
     }
@@ -271,16 +264,7 @@ mod tests {
         for _ in 0..300 {
             let k = rng.random_range(2..5);
             let mk = |rng: &mut rand_chacha::ChaCha8Rng| (0..k).map(|_| rng.random_range(0..60)).collect::<Vec<u32>>();
-            let (l, r) = (mk(&mut rng), mk(&mut rng));
-            let root: Vec<u32> = l.iter().zip(&r).map(|(a, b)| a + b).collect();
-            let t = Tree {
-                nodes: vec![
-                    Node { class_counts: root, split: Some(Split { feature: 0, threshold: 0, left: 1, right: 2 }) },
-                    leaf(l),
-                    leaf(r),
-                ],
-                n_classes: k,
-            };
+            let t = stump(mk(&mut rng), mk(&mut rng));
             let m = rng.random_range(1..40);
             let by_p = split_p_value(&t.nodes[1], &t.nodes[2], m) <= 0.05;
             let (g, dof) = split_g(&t.nodes[1], &t.nodes[2]);
