@@ -253,28 +253,7 @@ pub fn strength_mle(groups: &GroupCounts, mix: &[f64]) -> f64 {
     if let Some(s) = newton_strength(&sum, mix, lo, hi) {
         return s;
     }
-    let f = |t: f64| dm_objective(&sum, mix, t.exp());
-    let inv_phi = (5f64.sqrt() - 1.0) / 2.0;
-    let (mut a, mut b) = (lo, hi);
-    let mut c = b - inv_phi * (b - a);
-    let mut d = a + inv_phi * (b - a);
-    let (mut fc, mut fd) = (f(c), f(d));
-    while b - a > 0.02 {
-        if fc >= fd {
-            b = d;
-            d = c;
-            fd = fc;
-            c = b - inv_phi * (b - a);
-            fc = f(c);
-        } else {
-            a = c;
-            c = d;
-            fc = fd;
-            d = a + inv_phi * (b - a);
-            fd = f(d);
-        }
-    }
-    (0.5 * (a + b)).exp()
+    shrink::golden_section_max(|t: f64| dm_objective(&sum, mix, t.exp()), lo, hi, 0.02).exp()
 }
 
 #[cfg(test)]

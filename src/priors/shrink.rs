@@ -533,6 +533,32 @@ pub fn dirichlet_shrink(counts: &[f64], mix: &[f64], strength: f64) -> Vec<f64> 
         .collect()
 }
 
+/// Golden-section search for the maximum of a unimodal `f` on [a, b]; the
+/// midpoint of the final bracket, once it is narrower than `tol` (the end
+/// points themselves are never evaluated).
+pub fn golden_section_max(f: impl Fn(f64) -> f64, mut a: f64, mut b: f64, tol: f64) -> f64 {
+    let inv_phi = (5f64.sqrt() - 1.0) / 2.0;
+    let mut c = b - inv_phi * (b - a);
+    let mut d = a + inv_phi * (b - a);
+    let (mut fc, mut fd) = (f(c), f(d));
+    while b - a > tol {
+        if fc >= fd {
+            b = d;
+            d = c;
+            fd = fc;
+            c = b - inv_phi * (b - a);
+            fc = f(c);
+        } else {
+            a = c;
+            c = d;
+            fc = fd;
+            d = a + inv_phi * (b - a);
+            fd = f(d);
+        }
+    }
+    0.5 * (a + b)
+}
+
 /// Result of [`fit_dirichlet_strength`].
 #[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct StrengthFit {
@@ -638,28 +664,8 @@ pub fn fit_dirichlet_strength<R: AsRef<[u64]>>(
         .collect();
     let vals: Vec<f64> = grid.iter().map(|&t| f(t)).collect();
     let best = (0..GRID).fold(0, |b, i| if vals[i] > vals[b] { i } else { b });
-    let (mut a, mut b) = (grid[best.saturating_sub(1)], grid[(best + 1).min(GRID - 1)]);
-    // Golden-section search for the maximum on [a, b].
-    let inv_phi = (5f64.sqrt() - 1.0) / 2.0;
-    let mut c = b - inv_phi * (b - a);
-    let mut d = a + inv_phi * (b - a);
-    let (mut fc, mut fd) = (f(c), f(d));
-    while b - a > 1e-10 {
-        if fc >= fd {
-            b = d;
-            d = c;
-            fd = fc;
-            c = b - inv_phi * (b - a);
-            fc = f(c);
-        } else {
-            a = c;
-            c = d;
-            fc = fd;
-            d = a + inv_phi * (b - a);
-            fd = f(d);
-        }
-    }
-    let mut t = 0.5 * (a + b);
+    let (a, b) = (grid[best.saturating_sub(1)], grid[(best + 1).min(GRID - 1)]);
+    let mut t = golden_section_max(&f, a, b, 1e-10);
     // The ends of the range are candidates too (golden section never
     // evaluates the bracket's end points).
     for end in [lo, hi] {
