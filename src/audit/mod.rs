@@ -311,17 +311,8 @@ pub fn audit_log(
     }
     let notes = input_notes(sit, &source, "left out");
     let summary = Summary {
-        tool: Tool { name: "tellscope".into(), version: env!("CARGO_PKG_VERSION").into() },
-        input: Input {
-            path: source.path.display().to_string(),
-            rows_read: source.rows_read,
-            rows_rejected: source.rows_rejected,
-            rows_kept: log.len(),
-            sha256: source.sha256.clone(),
-            optional_present: source.optional_present.clone(),
-            optional_missing: source.optional_missing.clone(),
-            seasons: log.seasons(),
-        },
+        tool: Tool::this(),
+        input: Input::of(&source, log),
         settings: SettingsOut {
             seed: settings.seed,
             permutations: settings.permutations,

@@ -39,6 +39,27 @@ pub struct Input {
     pub seasons: Vec<i32>,
 }
 
+impl Tool {
+    pub fn this() -> Tool {
+        Tool { name: "tellscope".into(), version: env!("CARGO_PKG_VERSION").into() }
+    }
+}
+
+impl Input {
+    pub fn of(source: &crate::ingest::SourceInfo, log: &crate::ingest::PitchLog) -> Input {
+        Input {
+            path: source.path.display().to_string(),
+            rows_read: source.rows_read,
+            rows_rejected: source.rows_rejected,
+            rows_kept: log.len(),
+            sha256: source.sha256.clone(),
+            optional_present: source.optional_present.clone(),
+            optional_missing: source.optional_missing.clone(),
+            seasons: log.seasons(),
+        }
+    }
+}
+
 #[derive(Debug, Clone, Serialize)]
 pub struct SettingsOut {
     pub seed: u64,

@@ -619,17 +619,8 @@ pub fn compare_log(
         ));
     }
     let summary = CompareSummary {
-        tool: Tool { name: "tellscope".into(), version: env!("CARGO_PKG_VERSION").into() },
-        input: Input {
-            path: source.path.display().to_string(),
-            rows_read: source.rows_read,
-            rows_rejected: source.rows_rejected,
-            rows_kept: log.len(),
-            sha256: source.sha256.clone(),
-            optional_present: source.optional_present.clone(),
-            optional_missing: source.optional_missing.clone(),
-            seasons: log.seasons(),
-        },
+        tool: Tool::this(),
+        input: Input::of(&source, log),
         settings: CompareSettingsOut {
             seed: settings.seed,
             permutations,
