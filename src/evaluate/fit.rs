@@ -99,10 +99,8 @@ impl Workspace {
                 .folds
                 .iter()
                 .map(|f| {
-                    let mut sub = task.x.clone();
-                    sub.names.truncate(task.n_situational);
-                    sub.codes.truncate(task.n_situational * task.x.n_rows);
-                    crate::model::prune::candidate_splits(&sub, &f.train)
+                    let situational: Vec<usize> = (0..task.n_situational).collect();
+                    crate::model::prune::candidate_splits(&task.x, &situational, &f.train).max(1)
                 })
                 .collect(),
             count_all: GroupCounts::new(12, k),
@@ -239,7 +237,7 @@ pub fn fit_and_score(
             // The observed fit checks the shortcut against the plain count.
             assert_eq!(
                 m,
-                ws.situational_candidates[fi] + prior_candidates(&ws.x, &ws.prior_features, &fold.train),
+                ws.situational_candidates[fi] + crate::model::prune::candidate_splits(&ws.x, &ws.prior_features, &fold.train),
                 "candidate splits from the code tables disagree with the rows"
             );
         }
@@ -315,22 +313,6 @@ fn table_candidates(table: &[u8], oof: &[GroupCounts], k: usize) -> usize {
                     seen[table[(o * g + grp) * k + cls] as usize] = 1;
                 }
             }
-        }
-        let distinct: usize = seen.iter().map(|&b| b as usize).sum();
-        total += distinct.saturating_sub(1);
-    }
-    total
-}
-
-/// Candidate splits among the prior features (their codes change per fit),
-/// counted over the rows (the reference for `table_candidates`).
-fn prior_candidates(x: &crate::model::FeatureMatrix, features: &[usize], rows: &[u32]) -> usize {
-    let mut total = 0;
-    for &f in features {
-        let col = x.column(f);
-        let mut seen = [0u8; 256];
-        for &r in rows {
-            seen[col[r as usize] as usize] = 1;
         }
         let distinct: usize = seen.iter().map(|&b| b as usize).sum();
         total += distinct.saturating_sub(1);

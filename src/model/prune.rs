@@ -11,24 +11,20 @@
 use super::{FeatureMatrix, Node, Tree};
 use crate::significance::contingency::{table_test, TableStatistic};
 
-/// Candidate splits of a matrix on some rows: for each feature, one fewer
-/// than its number of distinct codes.
-pub fn candidate_splits(x: &FeatureMatrix, rows: &[u32]) -> usize {
+/// Candidate splits among some features of a matrix on some rows: for each
+/// feature, one fewer than its number of distinct codes on those rows.
+pub fn candidate_splits(x: &FeatureMatrix, features: &[usize], rows: &[u32]) -> usize {
     let mut total = 0;
-    for f in 0..x.n_features() {
+    for &f in features {
         let col = x.column(f);
-        let mut seen = [false; 256];
-        let mut distinct: usize = 0;
+        let mut seen = [0u8; 256];
         for &r in rows {
-            let c = col[r as usize] as usize;
-            if !seen[c] {
-                seen[c] = true;
-                distinct += 1;
-            }
+            seen[col[r as usize] as usize] = 1;
         }
+        let distinct: usize = seen.iter().map(|&b| b as usize).sum();
         total += distinct.saturating_sub(1);
     }
-    total.max(1)
+    total
 }
 
 /// The Bonferroni-adjusted p-value of a split's two children.
