@@ -14,9 +14,6 @@ pub struct Scored {
     pub rows: Vec<u32>,
     /// `n_scored × n_classes` probabilities.
     pub model: Vec<f64>,
-    /// The same from the tree before significance pruning (the permutation
-    /// test's tie-breaker).
-    pub grown: Vec<f64>,
     pub prior: Vec<f64>,
     pub n_classes: usize,
     pub trees: Vec<Tree>,
@@ -278,7 +275,6 @@ pub fn fit_and_score(
             if keep_trees {
                 out.rows.push(r);
                 out.model.extend_from_slice(&ws.grown_p[leaf * k..(leaf + 1) * k]);
-                out.grown.extend_from_slice(&ws.grown_p[g * k..(g + 1) * k]);
                 out.prior.extend_from_slice(mix);
             }
         }

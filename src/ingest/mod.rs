@@ -457,7 +457,8 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
 pub fn group_rejections(rejected: &[Rejected], keep_lines: usize) -> Vec<(String, usize, Vec<u64>)> {
     let mut map: BTreeMap<String, (usize, Vec<u64>)> = BTreeMap::new();
     for r in rejected {
-        let key = format!("{}: {}", r.column, generic_reason(&r.reason));
+        // Reasons are written without the value, so they group as they are.
+        let key = format!("{}: {}", r.column, r.reason);
         let e = map.entry(key).or_default();
         e.0 += 1;
         if e.1.len() < keep_lines {

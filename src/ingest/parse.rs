@@ -33,11 +33,6 @@ pub struct ParsedRow<'a> {
 /// (contract column, offending value, reason)
 pub type Breach<'a> = (&'static str, Option<&'a str>, String);
 
-/// Reasons are written without the value, so they group as they are.
-pub fn generic_reason(reason: &str) -> &str {
-    reason
-}
-
 fn required<'a>(v: Option<&'a str>, col: &'static str) -> Result<&'a str, Breach<'a>> {
     v.ok_or((col, None, "is empty; every pitch needs a value here".to_string()))
 }
