@@ -675,6 +675,70 @@ fn refresh_features_matches_fresh_prepare() {
     }
 }
 
+/// The leaves the learner finds for the scored rows while growing (sending
+/// them down with the training rows) are those of walking each row down the
+/// finished tree (`Tree::leaf_of`), for both grow options (linfa's
+/// collapsing moves rows of a collapsed subtree to its root) and after the
+/// scored rows' features are rewritten.
+#[test]
+fn scored_leaves_equal_walking_the_tree() {
+    let mut rng = ChaCha8Rng::seed_from_u64(77);
+    let (n, nf) = (500usize, 9usize);
+    let mut x = FeatureMatrix::new(n, (0..nf).map(|f| format!("f{f}")).collect());
+    for f in 0..nf {
+        for r in 0..n {
+            x.set(r, f, if f < 6 { rng.random_range(0..=1u8) } else { rng.random_range(0..=20u8) });
+        }
+    }
+    let train: Vec<u32> = (0..n as u32).filter(|r| r % 3 != 0).collect();
+    let scored: Vec<u32> = (0..n as u32).filter(|r| r % 3 == 0).collect();
+    let s = TreeSettings { max_depth: 5, min_samples_leaf: 6, min_samples_split: 12, min_impurity_decrease: 0.0 };
+    for options in [
+        GrowOptions::default(),
+        GrowOptions { scan: ThresholdScan::EveryNode, prune: false },
+    ] {
+        let mut ws = FastTreeWorkspace::with_options(s, options);
+        ws.prepare(&x, &train);
+        ws.prepare_scored(&x, &scored);
+        let mut collapsed_some = false;
+        for round in 0..8 {
+            if round > 0 {
+                for f in 6..nf {
+                    for r in 0..n {
+                        x.set(r, f, rng.random_range(0..=20u8));
+                    }
+                }
+                let features = [6, 7, 8];
+                ws.rewrite_features(&features, |f, rows, dst| {
+                    for (d, &r) in dst.iter_mut().zip(rows) {
+                        *d = x.get(r as usize, f);
+                    }
+                });
+                ws.rewrite_scored_features(&features, |f, rows, dst| {
+                    for (d, &r) in dst.iter_mut().zip(rows) {
+                        *d = x.get(r as usize, f);
+                    }
+                });
+            }
+            let labels: Vec<u8> = train
+                .iter()
+                .map(|&r| (x.get(r as usize, 6) / 7 + x.get(r as usize, 0) + rng.random_range(0..2u8)) % 3)
+                .collect();
+            let tree = ws.fit(&labels, 3);
+            assert!(tree.nodes.len() > 1, "round {round}: a tree with splits");
+            let walked: Vec<u32> = scored.iter().map(|&r| tree.leaf_of(&x, r as usize) as u32).collect();
+            assert_eq!(ws.scored_leaves(), &walked[..], "{options:?}, round {round}");
+            let mut plain = FastTreeWorkspace::with_options(s, GrowOptions { prune: false, ..options });
+            plain.prepare(&x, &train);
+            let unpruned = plain.fit(&labels, 3);
+            collapsed_some |= unpruned.nodes.len() > tree.nodes.len();
+        }
+        if options.prune {
+            assert!(collapsed_some, "the data should make linfa's rule collapse some split");
+        }
+    }
+}
+
 // ---------- (b) against scikit-learn ----------
 
 #[derive(Deserialize)]

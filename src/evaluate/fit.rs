@@ -134,21 +134,20 @@ pub fn fit_and_score(
         }
         let usage = UsagePrior::fit(&fold.train, labels, k);
         let mix = &usage.probs;
-        ws.count_all.clear();
-        ws.batter_all.clear();
+        // Counted per game fold; the training totals are their sums.
         ws.count_oof.iter_mut().for_each(GroupCounts::clear);
         ws.batter_oof.iter_mut().for_each(GroupCounts::clear);
         for &r in &fold.train {
             let r = r as usize;
             let y = labels[r] as usize;
-            let c = task.count[r] as usize;
-            let b = task.batter[r] as usize;
-            ws.count_all.add(c, y);
-            ws.batter_all.add(b, y);
             let o = task.oof[r] as usize;
-            ws.count_oof[o].add(c, y);
-            ws.batter_oof[o].add(b, y);
+            ws.count_oof[o].add_count(task.count[r] as usize, y);
+            ws.batter_oof[o].add_count(task.batter[r] as usize, y);
         }
+        ws.count_oof.iter_mut().for_each(GroupCounts::fill_totals);
+        ws.batter_oof.iter_mut().for_each(GroupCounts::fill_totals);
+        ws.count_all.set_sum(&ws.count_oof);
+        ws.batter_all.set_sum(&ws.batter_oof);
         let s_count = priors::strength(&ws.count_all, mix, settings.prior_strength);
         let s_batter = priors::strength(&ws.batter_all, mix, settings.prior_strength);
         // Prior features: out-of-fold for training rows, full training
@@ -196,31 +195,42 @@ pub fn fit_and_score(
                 fold.train.iter().map(|&r| slot(r, true)).chain(fold.test.iter().map(|&r| slot(r, false))).collect();
             ws.row_slots[fi] = slots;
         }
-        let (codes, cc, bc) = (&mut ws.x.codes, &ws.count_codes, &ws.batter_codes);
-        for cls in 0..k {
-            let (fc, fb) = (prior_col0 + cls, prior_col0 + k + cls);
-            let (head, tail) = codes.split_at_mut(fb * n_rows);
-            let col_c = &mut head[fc * n_rows..(fc + 1) * n_rows];
-            let col_b = &mut tail[..n_rows];
-            for &(r, cb, bb) in &ws.row_slots[fi] {
-                col_c[r as usize] = cc[cb as usize + cls];
-                col_b[r as usize] = bc[bb as usize + cls];
+        // The codes go straight into the prepared learner (training and
+        // held-out rows), except on a workspace's first fit, which prepares
+        // the learner from the matrix, and on the observed fit, whose checks
+        // below read the matrix.
+        let n_train = fold.train.len();
+        let (cc, bc) = (&ws.count_codes, &ws.batter_codes);
+        if ws.trees[fi].is_none() || keep_trees {
+            let codes = &mut ws.x.codes;
+            for cls in 0..k {
+                let (fc, fb) = (prior_col0 + cls, prior_col0 + k + cls);
+                let (head, tail) = codes.split_at_mut(fb * n_rows);
+                let col_c = &mut head[fc * n_rows..(fc + 1) * n_rows];
+                let col_b = &mut tail[..n_rows];
+                for &(r, cb, bb) in &ws.row_slots[fi] {
+                    col_c[r as usize] = cc[cb as usize + cls];
+                    col_b[r as usize] = bc[bb as usize + cls];
+                }
             }
         }
         let train_labels: Vec<u8> = fold.train.iter().map(|&r| labels[r as usize]).collect();
-        let grown = match &mut ws.trees[fi] {
+        let learner = match &mut ws.trees[fi] {
             Some(t) => {
-                t.refresh_features(&ws.x, &ws.prior_features);
-                t.fit(&train_labels, k)
+                let (train, test) = ws.row_slots[fi].split_at(n_train);
+                t.rewrite_features(&ws.prior_features, |f, _, dst| prior_codes(cc, bc, k, f - prior_col0, train, dst));
+                t.rewrite_scored_features(&ws.prior_features, |f, _, dst| prior_codes(cc, bc, k, f - prior_col0, test, dst));
+                t
             }
             slot @ None => {
                 let mut t = crate::model::fast_tree::FastTreeWorkspace::with_options(settings.tree, AuditTree::options());
                 t.prepare(&ws.x, &fold.train);
-                let tree = t.fit(&train_labels, k);
-                *slot = Some(t);
-                tree
+                t.prepare_scored(&ws.x, &fold.test);
+                slot.insert(t)
             }
         };
+        let grown = learner.fit(&train_labels, k);
+        let leaves = learner.scored_leaves();
         // Pruning is read off the grown tree: each grown node's kept node
         // (a kept node's smoothed probabilities are the same on either tree).
         // Candidate splits among the prior features: distinct codes over
@@ -255,9 +265,14 @@ pub fn fit_and_score(
         ws.top.extend((0..nn).map(|i| argmax(&ws.grown_p[i * k..(i + 1) * k])));
         let lp: Vec<f64> = mix.iter().map(|x| x.log2()).collect();
         let top = argmax(mix);
-        ws.flat.rebuild(&grown);
-        ws.flat.leaves(&ws.x, &fold.test, &mut ws.leaves);
-        for (&r, &g) in fold.test.iter().zip(&ws.leaves) {
+        if keep_trees {
+            // The observed fit checks the leaves found while growing against
+            // walking each held-out row down the finished tree.
+            ws.flat.rebuild(&grown);
+            ws.flat.leaves(&ws.x, &fold.test, &mut ws.leaves);
+            assert_eq!(ws.leaves, leaves, "held-out leaves from growing disagree with the tree");
+        }
+        for (&r, &g) in fold.test.iter().zip(leaves) {
             let g = g as usize;
             let y = labels[r as usize] as usize;
             if usage.counts[y] == 0 {
@@ -294,6 +309,20 @@ pub fn fit_and_score(
         }
     }
     out
+}
+
+/// Prior feature `j`'s codes (count priors `0..k`, then batter priors) of
+/// the rows at `slots` (row, count-table place, batter-table place).
+fn prior_codes(count_codes: &[u8], batter_codes: &[u8], k: usize, j: usize, slots: &[(u32, u32, u32)], dst: &mut [u8]) {
+    if j < k {
+        for (d, s) in dst.iter_mut().zip(slots) {
+            *d = count_codes[s.1 as usize + j];
+        }
+    } else {
+        for (d, s) in dst.iter_mut().zip(slots) {
+            *d = batter_codes[s.2 as usize + j - k];
+        }
+    }
 }
 
 /// Distinct codes per class column among the table entries training rows

@@ -8,22 +8,33 @@
 //! matters at the codes present in the training rows. Each feature with
 //! present codes `u_0 < u_1 < ... < u_m` becomes `m` *cut bits*, bit `j`
 //! saying `code > u_j` (a one-hot level is one bit, a prior binned 0..=20 at
-//! most 20). The cut bits of a training row are packed into a few bytes, row
-//! by row. For a node, the count of rows of class `k` on the right of every
-//! threshold of every feature is then a column sum of those bits over the
-//! node's rows of class `k`; it is taken eight columns at a time by adding a
-//! table-spread byte (`SPREAD`, one bit per byte lane) into a `u64`, flushed
-//! before a lane can overflow. The larger child's sums are the parent's minus
-//! the smaller child's (the usual histogram subtraction), and nodes that
-//! cannot be split (too deep, too small, pure) get no sums at all.
+//! most 20). For a node, the count of rows of class `k` on the right of
+//! every threshold of every feature is then a column sum of those bits over
+//! the node's rows of class `k`, taken two ways:
+//! * features with one cut (one-hot levels) have their bits packed into a
+//!   few bytes per row and are summed eight columns at a time by adding a
+//!   table-spread byte (`SPREAD`, one bit per byte lane) into a `u64`,
+//!   flushed before a lane can overflow;
+//! * wider features (balls, strikes, binned priors) are counted in a
+//!   histogram of their codes per class, one increment per row and feature,
+//!   and the right-side counts are its suffix sums over the present codes.
+//!
+//! The larger child's sums are the parent's minus the smaller child's (the
+//! usual histogram subtraction), and nodes that cannot be split (too deep,
+//! too small, pure) get no sums at all.
 //!
 //! Per pitcher the caller builds a [`FastTreeWorkspace`] once with
 //! [`FastTreeWorkspace::prepare`] (gathers and packs the training rows),
 //! after each change of a few feature columns calls
-//! [`FastTreeWorkspace::refresh_features`] (repacks only those), and fits with
-//! [`FastTreeWorkspace::fit`] for each new set of labels. Nothing is sorted
-//! and, after the first fit, nothing but the returned [`Tree`] is allocated.
-//!
+//! [`FastTreeWorkspace::refresh_features`] or
+//! [`FastTreeWorkspace::rewrite_features`] (repacks only those), and fits
+//! with [`FastTreeWorkspace::fit`] for each new set of labels. Rows to score
+//! (the held-out pitches) can be registered with
+//! [`FastTreeWorkspace::prepare_scored`]: they are sent down with the
+//! training rows as the tree grows, and their leaves read off
+//! [`FastTreeWorkspace::scored_leaves`]. Nothing is sorted and, after the
+//! first fit, nothing but the returned [`Tree`] is allocated.
+
 //! # Same tree as linfa
 //!
 //! With the default [`GrowOptions`] the tree equals the reference learner's,
@@ -168,11 +179,30 @@ pub struct FastTreeWorkspace {
     /// `codes[f * n + i]`: feature `f` of training row `rows[i]`.
     codes: Vec<u8>,
     cuts: Vec<FeatureCuts>,
-    /// Bytes per packed row.
+    /// Bytes per packed row (the narrow features' cut bits).
     stride: usize,
-    /// Row-major cut bits, `stride` bytes per training row.
+    /// Row-major cut bits of the narrow features, `stride` bytes per
+    /// training row.
     packed: Vec<u8>,
-    thermometer: Vec<u8>,
+    /// Sum slots per class: every feature's cut bits, rounded up to 8.
+    lanes: usize,
+    /// The wide features (more than one cut), in index order.
+    wide: Vec<usize>,
+    /// Row-major codes of the wide features, `wide.len()` bytes per row.
+    wide_codes: Vec<u8>,
+    /// Per wide feature, its first slot in a class's code histogram (one
+    /// slot per code up to its largest present code).
+    hist_base: Vec<usize>,
+    /// Histogram slots per class.
+    hist_len: usize,
+    hist: Vec<u32>,
+    /// Rows to be scored by each fitted tree (see [`Self::prepare_scored`]).
+    scored_rows: Vec<u32>,
+    /// `scored_codes[f * m + i]`: feature `f` of scored row `scored_rows[i]`.
+    scored_codes: Vec<u8>,
+    sidx: Vec<u32>,
+    sspill: Vec<u32>,
+    scored_leaf: Vec<u32>,
     // Scratch for growing, reused across fits.
     labels: Vec<u8>,
     n_classes: usize,
@@ -182,7 +212,7 @@ pub struct FastTreeWorkspace {
     next_id: u32,
     acc: Vec<u64>,
     /// Right-side class counts per cut bit, one slot per (depth, side):
-    /// `sums[slot * slot_len + k * stride * 8 + bit]`.
+    /// `sums[slot * slot_len + k * lanes + bit]`.
     sums: Vec<u32>,
     candidates: Vec<(usize, usize, f64)>,
     score_left: Vec<u32>,
@@ -204,7 +234,17 @@ impl FastTreeWorkspace {
             cuts: Vec::new(),
             stride: 0,
             packed: Vec::new(),
-            thermometer: Vec::new(),
+            lanes: 0,
+            wide: Vec::new(),
+            wide_codes: Vec::new(),
+            hist_base: Vec::new(),
+            hist_len: 0,
+            hist: Vec::new(),
+            scored_rows: Vec::new(),
+            scored_codes: Vec::new(),
+            sidx: Vec::new(),
+            sspill: Vec::new(),
+            scored_leaf: Vec::new(),
             labels: Vec::new(),
             n_classes: 0,
             idx: Vec::new(),
@@ -239,6 +279,8 @@ impl FastTreeWorkspace {
         self.rows.clear();
         self.rows.extend_from_slice(rows);
         self.n_features = x.n_features();
+        self.scored_rows.clear();
+        self.scored_codes.clear();
         self.codes.clear();
         self.codes.resize(n * self.n_features, 0);
         for f in 0..self.n_features {
@@ -261,19 +303,28 @@ impl FastTreeWorkspace {
     /// features are repacked unless one now needs more cut bits than it had
     /// room for, which relays out every row.
     pub fn refresh_features(&mut self, x: &FeatureMatrix, features: &[usize]) {
-        let n = self.rows.len();
         assert_eq!(
             x.n_features(),
             self.n_features,
             "refresh with the prepared matrix"
         );
-        let mut relayout = false;
-        for &f in features {
+        self.rewrite_features(features, |f, rows, dst| {
             let col = x.column(f);
-            let dst = &mut self.codes[f * n..(f + 1) * n];
-            for (d, &r) in dst.iter_mut().zip(&self.rows) {
+            for (d, &r) in dst.iter_mut().zip(rows) {
                 *d = col[r as usize];
             }
+        });
+    }
+
+    /// Like [`Self::refresh_features`], with the caller writing the new
+    /// codes itself: `fill(f, rows, codes)` gets feature `f`'s codes of the
+    /// training `rows` (as prepared, in that order) to overwrite. This saves
+    /// the caller a feature matrix of the training rows.
+    pub fn rewrite_features(&mut self, features: &[usize], mut fill: impl FnMut(usize, &[u32], &mut [u8])) {
+        let n = self.rows.len();
+        let mut relayout = false;
+        for &f in features {
+            fill(f, &self.rows, &mut self.codes[f * n..(f + 1) * n]);
             self.scan_values(f);
             if self.cuts[f].n_cuts() > self.cuts[f].capacity {
                 relayout = true;
@@ -285,7 +336,42 @@ impl FastTreeWorkspace {
             for &f in features {
                 self.pack_feature(f);
             }
+            self.layout_hist();
         }
+    }
+
+    /// Gathers every feature of `rows` of `x`, the rows each later fit
+    /// scores: [`Self::scored_leaves`] then gives the leaf of each, found by
+    /// sending them down with the training rows as the tree grows (cheaper
+    /// than walking each row down the finished tree). Call after `prepare`.
+    pub fn prepare_scored(&mut self, x: &FeatureMatrix, rows: &[u32]) {
+        assert_eq!(x.n_features(), self.n_features, "score rows of the prepared matrix");
+        let m = rows.len();
+        self.scored_rows.clear();
+        self.scored_rows.extend_from_slice(rows);
+        self.scored_codes.clear();
+        self.scored_codes.resize(m * self.n_features, 0);
+        for f in 0..self.n_features {
+            let col = x.column(f);
+            for (d, &r) in self.scored_codes[f * m..(f + 1) * m].iter_mut().zip(rows) {
+                *d = col[r as usize];
+            }
+        }
+    }
+
+    /// Rewrites features of the scored rows, as [`Self::rewrite_features`]
+    /// does for the training rows: `fill(f, rows, codes)`.
+    pub fn rewrite_scored_features(&mut self, features: &[usize], mut fill: impl FnMut(usize, &[u32], &mut [u8])) {
+        let m = self.scored_rows.len();
+        for &f in features {
+            fill(f, &self.scored_rows, &mut self.scored_codes[f * m..(f + 1) * m]);
+        }
+    }
+
+    /// The leaf (node index of the last fitted tree) of each scored row, in
+    /// the order given to [`Self::prepare_scored`].
+    pub fn scored_leaves(&self) -> &[u32] {
+        &self.scored_leaf
     }
 
     /// Whether the prepared codes are those of `x` at the prepared rows
@@ -322,6 +408,12 @@ impl FastTreeWorkspace {
         self.next_id = 1;
         self.acc.clear();
         self.acc.resize(n_classes * self.stride, 0);
+        let m = self.scored_rows.len();
+        self.sidx.clear();
+        self.sidx.extend(0..m as u32);
+        self.sspill.resize(m, 0);
+        self.scored_leaf.clear();
+        self.scored_leaf.resize(m, 0);
 
         let mut counts = vec![0u32; n_classes];
         for &l in labels {
@@ -332,7 +424,7 @@ impl FastTreeWorkspace {
             self.ensure_slot(0);
             self.accumulate(0, n, 0);
         }
-        self.grow(&mut nodes, 0, n, 0, 0, 0, counts);
+        self.grow(&mut nodes, 0, n, (0, m), 0, 0, 0, counts);
         Tree { nodes, n_classes }
     }
 
@@ -369,10 +461,12 @@ impl FastTreeWorkspace {
         }
     }
 
-    /// Places every feature's cut bits: features with at most one cut share
-    /// bytes one bit each; wider ones get whole bytes, so a prior binned
-    /// 0..=20 keeps room for all its 20 cuts whichever codes a permutation
-    /// leaves present.
+    /// Places every feature's cut bits. Features with at most one cut (a
+    /// one-hot level, say) share bytes one bit each and are counted by
+    /// [`SPREAD`]; wider ones (a prior binned 0..=20) are counted through a
+    /// histogram of their codes, and their bits are only the places of their
+    /// sums, rounded up to whole bytes so that a permutation leaving a few
+    /// more codes present rarely needs a new layout.
     fn layout_and_pack(&mut self) {
         let mut bit = 0;
         for c in self.cuts.iter_mut().filter(|c| c.n_cuts() <= 1) {
@@ -381,62 +475,62 @@ impl FastTreeWorkspace {
             bit += 1;
         }
         bit = bit.div_ceil(8) * 8;
-        for c in self.cuts.iter_mut().filter(|c| c.n_cuts() > 1) {
-            c.bit = bit;
-            c.capacity = c.n_cuts().div_ceil(8) * 8;
-            bit += c.capacity;
+        self.stride = bit / 8;
+        self.wide.clear();
+        for (f, c) in self.cuts.iter_mut().enumerate() {
+            if c.n_cuts() > 1 {
+                c.bit = bit;
+                c.capacity = c.n_cuts().div_ceil(8) * 8;
+                bit += c.capacity;
+                self.wide.push(f);
+            }
         }
-        self.stride = bit.div_ceil(8);
+        self.lanes = bit.div_ceil(8) * 8;
         self.packed.clear();
         self.packed.resize(self.rows.len() * self.stride, 0);
+        self.wide_codes.clear();
+        self.wide_codes.resize(self.rows.len() * self.wide.len(), 0);
         for f in 0..self.n_features {
             self.pack_feature(f);
         }
+        self.layout_hist();
     }
 
-    /// Writes feature `f`'s cut bits into every packed row: a row with the
-    /// `r`-th present code has its first `r` cut bits set.
+    /// Histogram slots of the wide features: codes 0 to the largest present.
+    fn layout_hist(&mut self) {
+        self.hist_base.clear();
+        let mut at = 0;
+        for &f in &self.wide {
+            self.hist_base.push(at);
+            at += *self.cuts[f].values.last().unwrap_or(&0) as usize + 1;
+        }
+        self.hist_len = at;
+    }
+
+    /// Writes feature `f` into the packed rows: its cut bit (a narrow
+    /// feature: set when the row's code is above the lowest present code) or
+    /// its code (a wide feature).
     fn pack_feature(&mut self, f: usize) {
         let n = self.rows.len();
-        let s = self.stride;
         let cuts = &self.cuts[f];
-        let mut rank = [0u8; 256];
-        for (j, &v) in cuts.values.iter().enumerate() {
-            rank[v as usize] = j as u8;
-        }
         let col = &self.codes[f * n..(f + 1) * n];
         if cuts.capacity == 1 {
+            let s = self.stride;
+            let lowest = cuts.values.first().copied().unwrap_or(0);
             let (byte, mask) = (cuts.bit / 8, 1u8 << (cuts.bit % 8));
             for (row, &c) in self.packed.chunks_exact_mut(s).zip(col) {
-                let set = (rank[c as usize] >= 1) as u8;
+                let set = (c > lowest) as u8;
                 row[byte] = (row[byte] & !mask) | (set * mask);
             }
         } else {
-            let first = cuts.bit / 8;
-            let n_bytes = cuts.capacity / 8;
-            // thermometer[r]: the bytes of a row whose code has rank r.
-            let mut thermometer = std::mem::take(&mut self.thermometer);
-            thermometer.clear();
-            thermometer.resize(cuts.values.len() * n_bytes, 0);
-            for (r, bytes) in thermometer.chunks_exact_mut(n_bytes).enumerate() {
-                for (q, b) in bytes.iter_mut().enumerate() {
-                    let below = r.saturating_sub(8 * q).min(8);
-                    *b = ((1u16 << below) - 1) as u8;
-                }
+            let w = self.wide.len();
+            let at = self.wide.iter().position(|&g| g == f).expect("a wide feature");
+            for (row, &c) in self.wide_codes.chunks_exact_mut(w).zip(col) {
+                row[at] = c;
             }
-            for (row, &c) in self.packed.chunks_exact_mut(s).zip(col) {
-                let r = rank[c as usize] as usize;
-                // A byte loop: a few bytes, too short to pay for a memcpy call.
-                for (d, &t) in row[first..first + n_bytes]
-                    .iter_mut()
-                    .zip(&thermometer[r * n_bytes..(r + 1) * n_bytes])
-                {
-                    *d = t;
-                }
-            }
-            self.thermometer = thermometer;
         }
     }
+
 
     // ---- growing ----
 
@@ -457,7 +551,7 @@ impl FastTreeWorkspace {
     }
 
     fn slot_len(&self) -> usize {
-        self.n_classes * self.stride * 8
+        self.n_classes * self.lanes
     }
 
     fn ensure_slot(&mut self, slot: usize) {
@@ -470,13 +564,21 @@ impl FastTreeWorkspace {
     /// Column sums of the cut bits over `idx[lo..hi]`, per class, into `slot`.
     fn accumulate(&mut self, lo: usize, hi: usize, slot: usize) {
         let s = self.stride;
-        let lanes = s * 8;
+        let lanes = self.lanes;
+        let w = self.wide.len();
+        let h = self.hist_len;
         let slot_len = self.slot_len();
         let out = &mut self.sums[slot * slot_len..(slot + 1) * slot_len];
         out.fill(0);
         let acc = &mut self.acc;
         acc.fill(0);
+        let hist = &mut self.hist;
+        hist.clear();
+        hist.resize(self.n_classes * h, 0);
         let flush = |acc: &mut [u64], out: &mut [u32]| {
+            if s == 0 {
+                return;
+            }
             for (a_class, o_class) in acc.chunks_exact_mut(s).zip(out.chunks_exact_mut(lanes)) {
                 for (a, o) in a_class.iter_mut().zip(o_class.chunks_exact_mut(8)) {
                     let v = *a;
@@ -490,6 +592,7 @@ impl FastTreeWorkspace {
             }
         };
         let mut since_flush = 0;
+        let base = &self.hist_base;
         for &p in &self.idx[lo..hi] {
             let p = p as usize;
             let l = self.labels[p] as usize;
@@ -497,6 +600,10 @@ impl FastTreeWorkspace {
             let a = &mut acc[l * s..(l + 1) * s];
             for (a, &b) in a.iter_mut().zip(row) {
                 *a += SPREAD[b as usize];
+            }
+            let hist_l = &mut hist[l * h..(l + 1) * h];
+            for (&c, &b) in self.wide_codes[p * w..(p + 1) * w].iter().zip(base) {
+                hist_l[b + c as usize] += 1;
             }
             since_flush += 1;
             // A byte lane holds at most 255.
@@ -506,6 +613,20 @@ impl FastTreeWorkspace {
             }
         }
         flush(acc, out);
+        // A wide feature's right count at cut j: rows with a code above
+        // values[j], a suffix sum of its histogram over the present codes.
+        for (wi, &f) in self.wide.iter().enumerate() {
+            let cuts = &self.cuts[f];
+            for class in 0..self.n_classes {
+                let hist_f = &hist[class * h + base[wi]..];
+                let o = &mut out[class * lanes + cuts.bit..];
+                let mut run = 0;
+                for j in (0..cuts.n_cuts()).rev() {
+                    run += hist_f[cuts.values[j + 1] as usize];
+                    o[j] = run;
+                }
+            }
+        }
     }
 
     /// `slot dst = slot parent - slot sub`.
@@ -526,6 +647,7 @@ impl FastTreeWorkspace {
         nodes: &mut Vec<Node>,
         lo: usize,
         hi: usize,
+        scored: (usize, usize),
         depth: usize,
         side: usize,
         id: u32,
@@ -539,14 +661,17 @@ impl FastTreeWorkspace {
             split: None,
         });
         if !splittable {
+            self.assign_scored(scored, me);
             return me;
         }
         let slot = if depth == 0 { 0 } else { 2 * depth - 1 + side };
         let Some((feature, cut_bit, threshold)) =
             self.best_split(lo, hi, slot, id, &nodes[me].class_counts)
         else {
+            self.assign_scored(scored, me);
             return me;
         };
+        let scored_mid = self.partition_scored(scored, feature, threshold);
 
         // Partition stably: left rows stay in order in place, right rows go
         // through `spill`.
@@ -557,10 +682,12 @@ impl FastTreeWorkspace {
         let mut w = lo;
         let mut spilled = 0;
         {
-            // Branch-free: the side of a row is as good as random.
+            // Branch-free: the side of a row is as good as random. Node ids
+            // are kept only for linfa's last-row rule.
             let col = &self.codes[feature * n..(feature + 1) * n];
             let idx = &mut self.idx[..hi];
             let spill = &mut self.spill[..hi - lo];
+            let track = self.options.scan == ThresholdScan::Linfa;
             for i in lo..hi {
                 let p = idx[i];
                 let goes_left = (col[p as usize] <= threshold) as usize;
@@ -568,11 +695,13 @@ impl FastTreeWorkspace {
                 spill[spilled] = p; // spilled <= i - lo
                 w += goes_left;
                 spilled += 1 - goes_left;
-                self.node_id[p as usize] = if goes_left == 1 { left_id } else { right_id };
+                if track {
+                    self.node_id[p as usize] = if goes_left == 1 { left_id } else { right_id };
+                }
             }
         }
         // The children's class counts are the parent's sums at the cut.
-        let lanes = self.stride * 8;
+        let lanes = self.lanes;
         let parent_sums = &self.sums[slot * self.slot_len()..];
         let right_counts: Vec<u32> = (0..k).map(|c| parent_sums[c * lanes + cut_bit]).collect();
         let left_counts: Vec<u32> = nodes[me]
@@ -615,8 +744,8 @@ impl FastTreeWorkspace {
             }
         }
 
-        let left = self.grow(nodes, lo, mid, depth + 1, 0, left_id, left_counts);
-        let right = self.grow(nodes, mid, hi, depth + 1, 1, right_id, right_counts);
+        let left = self.grow(nodes, lo, mid, (scored.0, scored_mid), depth + 1, 0, left_id, left_counts);
+        let right = self.grow(nodes, mid, hi, (scored_mid, scored.1), depth + 1, 1, right_id, right_counts);
         nodes[me].split = Some(Split {
             feature,
             threshold,
@@ -632,8 +761,36 @@ impl FastTreeWorkspace {
             // truncation.
             nodes.truncate(me + 1);
             nodes[me].split = None;
+            self.assign_scored(scored, me);
         }
         me
+    }
+
+    /// The scored rows `sidx[lo..hi]` end in leaf `node`.
+    fn assign_scored(&mut self, (lo, hi): (usize, usize), node: usize) {
+        for &q in &self.sidx[lo..hi] {
+            self.scored_leaf[q as usize] = node as u32;
+        }
+    }
+
+    /// Splits the scored rows `sidx[lo..hi]` as their node splits: left
+    /// (`code <= threshold`) first. Returns where the right ones start.
+    fn partition_scored(&mut self, (lo, hi): (usize, usize), feature: usize, threshold: u8) -> usize {
+        let m = self.scored_rows.len();
+        let col = &self.scored_codes[feature * m..(feature + 1) * m];
+        let idx = &mut self.sidx[..hi];
+        let spill = &mut self.sspill[..hi - lo];
+        let (mut w, mut spilled) = (lo, 0);
+        for i in lo..hi {
+            let q = idx[i];
+            let goes_left = (col[q as usize] <= threshold) as usize;
+            idx[w] = q;
+            spill[spilled] = q;
+            w += goes_left;
+            spilled += 1 - goes_left;
+        }
+        self.sidx[w..hi].copy_from_slice(&self.sspill[..spilled]);
+        w
     }
 
     /// linfa's split choice for the node over `idx[lo..hi]` with sums in
@@ -649,7 +806,7 @@ impl FastTreeWorkspace {
         let n_node = (hi - lo) as u32;
         let min_leaf = self.min_leaf() as u32;
         let k = self.n_classes;
-        let lanes = self.stride * 8;
+        let lanes = self.lanes;
         let slot_len = self.slot_len();
         let sums = &self.sums[slot * slot_len..(slot + 1) * slot_len];
         let right_of = |bit: usize, class: usize| sums[class * lanes + bit];

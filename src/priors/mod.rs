@@ -72,6 +72,33 @@ impl GroupCounts {
         self.totals[group] += 1;
     }
 
+    /// Counts one pitch without its group total; call [`Self::fill_totals`]
+    /// once all are counted.
+    #[inline]
+    pub fn add_count(&mut self, group: usize, class: usize) {
+        self.counts[group * self.n_classes + class] += 1;
+    }
+
+    /// Sets each group's total from its class counts.
+    pub fn fill_totals(&mut self) {
+        for (t, c) in self.totals.iter_mut().zip(self.counts.chunks_exact(self.n_classes)) {
+            *t = c.iter().sum();
+        }
+    }
+
+    /// Sets this table to the sum of `parts` (tables of the same shape).
+    pub fn set_sum(&mut self, parts: &[GroupCounts]) {
+        self.clear();
+        for part in parts {
+            for (a, b) in self.counts.iter_mut().zip(&part.counts) {
+                *a += b;
+            }
+            for (a, b) in self.totals.iter_mut().zip(&part.totals) {
+                *a += b;
+            }
+        }
+    }
+
     /// Shrunk probability of `class` in `group`:
     /// (c_gk + s·m_k) / (n_g + s).
     #[inline]
