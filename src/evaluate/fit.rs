@@ -60,6 +60,10 @@ pub struct Workspace {
     collapsed: Vec<bool>,
     kept: Vec<usize>,
     row_slots: Vec<Vec<(u32, u32, u32)>>,
+    /// Per fold: the count- and batter-table entries (part · groups + group)
+    /// some row uses.
+    used_entries: Vec<(Vec<u32>, Vec<u32>)>,
+    train_labels: Vec<u8>,
     parent: Vec<usize>,
     grown_p: Vec<f64>,
     log_p: Vec<f64>,
@@ -86,6 +90,8 @@ impl Workspace {
             collapsed: Vec::new(),
             kept: Vec::new(),
             row_slots: vec![Vec::new(); task.folds.len()],
+            used_entries: vec![(Vec::new(), Vec::new()); task.folds.len()],
+            train_labels: Vec::new(),
             parent: Vec::new(),
             grown_p: Vec::new(),
             log_p: Vec::new(),
@@ -156,35 +162,10 @@ pub fn fit_and_score(
         // codes are tabled per group first and rows only look them up.
         let n_rows = task.x.n_rows;
         let parts = OOF_FOLDS + 1; // the OOF parts, then "all training rows"
-        let code_table = |all: &GroupCounts, oof: &[GroupCounts], s: f64, table: &mut Vec<u8>| {
-            let g = all.n_groups;
-            table.clear();
-            table.resize(parts * g * k, 0);
-            let sm: Vec<f64> = mix.iter().map(|m| s * m).collect();
-            for grp in 0..g {
-                for part in 0..parts {
-                    // Shrunk share (c + s·m) / (n + s), binned: one division
-                    // per group and part, not per class.
-                    let (n, base) = match oof.get(part) {
-                        Some(o) => (all.totals[grp] - o.totals[grp], Some(o)),
-                        None => (all.totals[grp], None),
-                    };
-                    let scale = PRIOR_BINS as f64 / (n as f64 + s);
-                    let row = &mut table[(part * g + grp) * k..(part * g + grp + 1) * k];
-                    for cls in 0..k {
-                        let i = grp * k + cls;
-                        let c = all.counts[i] - base.map_or(0, |o| o.counts[i]);
-                        row[cls] = bin_scaled((c as f64 + sm[cls]) * scale);
-                    }
-                }
-            }
-        };
-        code_table(&ws.count_all, &ws.count_oof, s_count, &mut ws.count_codes);
-        code_table(&ws.batter_all, &ws.batter_oof, s_batter, &mut ws.batter_codes);
         let (gc, gb) = (ws.count_all.n_groups, ws.batter_all.n_groups);
-        // Written one feature column at a time (sequential writes).
         // Each row's place in the two code tables depends only on its game
-        // fold, count and batter, so it is worked out once per fold.
+        // fold, count and batter, so it is worked out once per fold, with
+        // the table entries some row uses (only those are computed).
         if ws.row_slots[fi].is_empty() {
             let slot = |r: u32, train: bool| {
                 let r = r as usize;
@@ -193,8 +174,45 @@ pub fn fit_and_score(
             };
             let slots: Vec<(u32, u32, u32)> =
                 fold.train.iter().map(|&r| slot(r, true)).chain(fold.test.iter().map(|&r| slot(r, false))).collect();
+            let used = |at: &dyn Fn(&(u32, u32, u32)) -> u32, g: usize| {
+                let mut seen = vec![false; parts * g];
+                for s in &slots {
+                    seen[at(s) as usize / k] = true;
+                }
+                (0..parts * g).filter(|&e| seen[e]).map(|e| e as u32).collect::<Vec<u32>>()
+            };
+            ws.used_entries[fi] = (used(&|s| s.1, gc), used(&|s| s.2, gb));
             ws.row_slots[fi] = slots;
         }
+        // Prior features: out-of-fold for training rows, full training
+        // counts for scored rows (they are never in the training counts).
+        // A feature's code depends only on (fold part, group, class), so the
+        // codes are tabled per used (part, group) first and rows only look
+        // them up.
+        let code_table = |all: &GroupCounts, oof: &[GroupCounts], s: f64, used: &[u32], table: &mut Vec<u8>| {
+            let g = all.n_groups;
+            table.resize(parts * g * k, 0);
+            let sm: Vec<f64> = mix.iter().map(|m| s * m).collect();
+            for &e in used {
+                let (part, grp) = (e as usize / g, e as usize % g);
+                // Shrunk share (c + s·m) / (n + s), binned: one division
+                // per group and part, not per class.
+                let (n, base) = match oof.get(part) {
+                    Some(o) => (all.totals[grp] - o.totals[grp], Some(o)),
+                    None => (all.totals[grp], None),
+                };
+                let scale = PRIOR_BINS as f64 / (n as f64 + s);
+                let row = &mut table[e as usize * k..(e as usize + 1) * k];
+                for cls in 0..k {
+                    let i = grp * k + cls;
+                    let c = all.counts[i] - base.map_or(0, |o| o.counts[i]);
+                    row[cls] = bin_scaled((c as f64 + sm[cls]) * scale);
+                }
+            }
+        };
+        let (used_c, used_b) = &ws.used_entries[fi];
+        code_table(&ws.count_all, &ws.count_oof, s_count, used_c, &mut ws.count_codes);
+        code_table(&ws.batter_all, &ws.batter_oof, s_batter, used_b, &mut ws.batter_codes);
         // The codes go straight into the prepared learner (training and
         // held-out rows), except on a workspace's first fit, which prepares
         // the learner from the matrix, and on the observed fit, whose checks
@@ -214,7 +232,8 @@ pub fn fit_and_score(
                 }
             }
         }
-        let train_labels: Vec<u8> = fold.train.iter().map(|&r| labels[r as usize]).collect();
+        ws.train_labels.clear();
+        ws.train_labels.extend(fold.train.iter().map(|&r| labels[r as usize]));
         let learner = match &mut ws.trees[fi] {
             Some(t) => {
                 let (train, test) = ws.row_slots[fi].split_at(n_train);
@@ -229,7 +248,7 @@ pub fn fit_and_score(
                 slot.insert(t)
             }
         };
-        let grown = learner.fit(&train_labels, k);
+        let grown = learner.fit(&ws.train_labels, k);
         let leaves = learner.scored_leaves();
         // Pruning is read off the grown tree: each grown node's kept node
         // (a kept node's smoothed probabilities are the same on either tree).

@@ -205,33 +205,37 @@ fn dm_derivatives(sum: &DmSummary, mix: &[f64], s: f64) -> (f64, f64) {
     // Short sums directly; long ones as ψ(a + x) − ψ(a) and ψ'(a) − ψ'(a + x)
     // (the same sums by the recurrences ψ(z + 1) = ψ(z) + 1/z and
     // ψ'(z + 1) = ψ'(z) − 1/z², Abramowitz & Stegun 6.3.5 and 6.4.6).
-    let sums = |a: f64, x: u32| {
-        if x > 32 {
-            use statrs::function::gamma::digamma;
-            let z = a + x as f64;
-            return (digamma(z) - digamma(a), shrink::trigamma(a) - shrink::trigamma(z));
+    // The values come ascending, so a short sum extends the one before it
+    // (the same additions in the same order as summing from j = 0).
+    fn sums_of(a: f64, values: &[(u32, u32)], mut each: impl FnMut(f64, f64, u32)) {
+        let (mut d1, mut d2, mut j) = (0.0, 0.0, 0u32);
+        for &(x, mult) in values {
+            if x > 32 {
+                use statrs::function::gamma::digamma;
+                let z = a + x as f64;
+                each(digamma(z) - digamma(a), shrink::trigamma(a) - shrink::trigamma(z), mult);
+                continue;
+            }
+            while j < x {
+                let r = 1.0 / (a + j as f64);
+                d1 += r;
+                d2 += r * r;
+                j += 1;
+            }
+            each(d1, d2, mult);
         }
-        let (mut d1, mut d2) = (0.0, 0.0);
-        for j in 0..x {
-            let r = 1.0 / (a + j as f64);
-            d1 += r;
-            d2 += r * r;
-        }
-        (d1, d2)
-    };
+    }
     let (mut g1, mut g2) = (0.0, 0.0);
-    for &(n, mult) in &sum.totals {
-        let (d1, d2) = sums(s, n);
+    sums_of(s, &sum.totals, |d1, d2, mult| {
         g1 -= mult as f64 * d1;
         g2 += mult as f64 * d2;
-    }
+    });
     for (c, cells) in sum.cells.iter().enumerate() {
         let m = mix[c];
-        for &(x, mult) in cells {
-            let (d1, d2) = sums(s * m, x);
+        sums_of(s * m, cells, |d1, d2, mult| {
             g1 += mult as f64 * m * d1;
             g2 -= mult as f64 * m * m * d2;
-        }
+        });
     }
     (g1, g2)
 }
