@@ -188,14 +188,13 @@ pub struct FastTreeWorkspace {
     lanes: usize,
     /// The wide features (more than one cut), in index order.
     wide: Vec<usize>,
-    /// Row-major codes of the wide features, `wide.len()` bytes per row.
-    wide_codes: Vec<u8>,
     /// Per wide feature, its first slot in a class's code histogram (one
     /// slot per code up to its largest present code).
     hist_base: Vec<usize>,
     /// Histogram slots per class.
     hist_len: usize,
     hist: Vec<u32>,
+    wide_columns: Vec<(usize, usize)>,
     /// Rows to be scored by each fitted tree (see [`Self::prepare_scored`]).
     scored_rows: Vec<u32>,
     /// `scored_codes[f * m + i]`: feature `f` of scored row `scored_rows[i]`.
@@ -236,10 +235,10 @@ impl FastTreeWorkspace {
             packed: Vec::new(),
             lanes: 0,
             wide: Vec::new(),
-            wide_codes: Vec::new(),
             hist_base: Vec::new(),
             hist_len: 0,
             hist: Vec::new(),
+            wide_columns: Vec::new(),
             scored_rows: Vec::new(),
             scored_codes: Vec::new(),
             sidx: Vec::new(),
@@ -488,8 +487,6 @@ impl FastTreeWorkspace {
         self.lanes = bit.div_ceil(8) * 8;
         self.packed.clear();
         self.packed.resize(self.rows.len() * self.stride, 0);
-        self.wide_codes.clear();
-        self.wide_codes.resize(self.rows.len() * self.wide.len(), 0);
         for f in 0..self.n_features {
             self.pack_feature(f);
         }
@@ -507,9 +504,9 @@ impl FastTreeWorkspace {
         self.hist_len = at;
     }
 
-    /// Writes feature `f` into the packed rows: its cut bit (a narrow
-    /// feature: set when the row's code is above the lowest present code) or
-    /// its code (a wide feature).
+    /// Writes a narrow feature `f`'s cut bit into the packed rows (set when
+    /// the row's code is above the lowest present code). A wide feature is
+    /// counted from its code column, which needs no packing.
     fn pack_feature(&mut self, f: usize) {
         let n = self.rows.len();
         let cuts = &self.cuts[f];
@@ -521,12 +518,6 @@ impl FastTreeWorkspace {
             for (row, &c) in self.packed.chunks_exact_mut(s).zip(col) {
                 let set = (c > lowest) as u8;
                 row[byte] = (row[byte] & !mask) | (set * mask);
-            }
-        } else {
-            let w = self.wide.len();
-            let at = self.wide.iter().position(|&g| g == f).expect("a wide feature");
-            for (row, &c) in self.wide_codes.chunks_exact_mut(w).zip(col) {
-                row[at] = c;
             }
         }
     }
@@ -565,8 +556,8 @@ impl FastTreeWorkspace {
     fn accumulate(&mut self, lo: usize, hi: usize, slot: usize) {
         let s = self.stride;
         let lanes = self.lanes;
-        let w = self.wide.len();
         let h = self.hist_len;
+        let n = self.rows.len();
         let slot_len = self.slot_len();
         let out = &mut self.sums[slot * slot_len..(slot + 1) * slot_len];
         out.fill(0);
@@ -593,6 +584,10 @@ impl FastTreeWorkspace {
         };
         let mut since_flush = 0;
         let base = &self.hist_base;
+        // Each wide feature's code column, offset by its first histogram slot.
+        let mut columns = std::mem::take(&mut self.wide_columns);
+        columns.clear();
+        columns.extend(self.wide.iter().zip(base).map(|(&f, &b)| (f * n, b)));
         for &p in &self.idx[lo..hi] {
             let p = p as usize;
             let l = self.labels[p] as usize;
@@ -602,8 +597,8 @@ impl FastTreeWorkspace {
                 *a += SPREAD[b as usize];
             }
             let hist_l = &mut hist[l * h..(l + 1) * h];
-            for (&c, &b) in self.wide_codes[p * w..(p + 1) * w].iter().zip(base) {
-                hist_l[b + c as usize] += 1;
+            for &(col, b) in &columns {
+                hist_l[b + self.codes[col + p] as usize] += 1;
             }
             since_flush += 1;
             // A byte lane holds at most 255.
@@ -613,6 +608,7 @@ impl FastTreeWorkspace {
             }
         }
         flush(acc, out);
+        self.wide_columns = columns;
         // A wide feature's right count at cut j: rows with a code above
         // values[j], a suffix sum of its histogram over the present codes.
         for (wi, &f) in self.wide.iter().enumerate() {
