@@ -156,17 +156,21 @@ pub fn audit_log(
     let total: u64 = (ok_tasks.len() * settings.permutations) as u64;
     let bar = crate::progress::bar(total, "permutations", show_progress);
     let tick = |n: u64| bar.inc(n);
-    let perms: Vec<permute::PermutationResult> = ok_tasks
-        .par_iter()
-        .zip(observed.par_iter())
-        .map(|(t, o)| permute::permutation_test(t, o.statistic, settings, &tick))
-        .collect();
+    // The tell tests do not depend on the permutation tests; they run
+    // alongside them and fill the workers' idle moments.
+    let (perms, tests) = rayon::join(
+        || -> Vec<permute::PermutationResult> {
+            ok_tasks
+                .par_iter()
+                .zip(observed.par_iter())
+                .map(|(t, o)| permute::permutation_test(t, o.statistic, settings, &tick))
+                .collect()
+        },
+        || tells::find(log, sit, &plan.discovery, &ok_tasks, settings),
+    );
     bar.finish_and_clear();
-    timer.lap("permutation tests");
+    timer.lap("permutation and tell tests");
     let model_q = fdr::bh_q_values(&perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
-
-    let tests = tells::find(log, sit, &plan.discovery, &ok_tasks, settings);
-    timer.lap("tell tests");
 
     let mut pitchers = Vec::new();
     let mut ok_iter = 0usize;

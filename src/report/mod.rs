@@ -157,24 +157,33 @@ pub fn write_audit_report(dir: &Path, audit: &crate::audit::Audit) -> Result<()>
             || s.pitchers.iter().any(|p| p.pitcher == pitcher && (p.significant == Some(true) || !p.tells.is_empty()))
     };
     let mut st = Staging::new(dir);
-    let mut svgs = html::ChartSvgs::default();
-    figures::for_each_chart(s, &stems, |pitcher, chart| {
-        st.add(format!("charts/{}.svg", chart.name), chart.svg.as_bytes())?;
-        st.add(format!("charts/{}.png", chart.name), &chart.png)?;
-        match pitcher {
-            None => svgs.staff = Some(chart.svg),
-            Some(p) if inline(p) => svgs.per_pitcher.entry(p.to_string()).or_default().push(chart.svg),
-            Some(_) => {}
-        }
-        Ok(())
-    })?;
-    svgs.omitted = ok > INLINE_ALL_CHARTS_UP_TO;
-    st.add("index.html", html::render(s, &audit.tests, &svgs, &stems)?.as_bytes())?;
-    drop(svgs);
-    st.add("summary.json", json::summary_json(s)?.as_bytes())?;
+    // The charts and the page are drawn while the data files are formatted.
+    let (drawn, data) = rayon::join(
+        || -> Result<()> {
+            let mut svgs = html::ChartSvgs::default();
+            figures::for_each_chart(s, &stems, |pitcher, chart| {
+                st.add(format!("charts/{}.svg", chart.name), chart.svg.as_bytes())?;
+                st.add(format!("charts/{}.png", chart.name), &chart.png)?;
+                match pitcher {
+                    None => svgs.staff = Some(chart.svg),
+                    Some(p) if inline(p) => svgs.per_pitcher.entry(p.to_string()).or_default().push(chart.svg),
+                    Some(_) => {}
+                }
+                Ok(())
+            })?;
+            svgs.omitted = ok > INLINE_ALL_CHARTS_UP_TO;
+            st.add("index.html", html::render(s, &audit.tests, &svgs, &stems)?.as_bytes())
+        },
+        || -> Result<(String, Vec<u8>, Vec<u8>)> {
+            Ok((json::summary_json(s)?, csv::counts_csv(s)?, csv::rejected_csv(&audit.rejected)?))
+        },
+    );
+    drawn?;
+    let (summary, counts, rejected) = data?;
+    st.add("summary.json", summary.as_bytes())?;
     st.add_with("tells.csv", |w| csv::write_tells_csv(&audit.tests, w))?;
-    st.add("counts.csv", &csv::counts_csv(s)?)?;
-    st.add("rejected.csv", &csv::rejected_csv(&audit.rejected)?)?;
+    st.add("counts.csv", &counts)?;
+    st.add("rejected.csv", &rejected)?;
     st.commit()
 }
 
