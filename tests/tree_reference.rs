@@ -708,17 +708,15 @@ fn scored_leaves_equal_walking_the_tree() {
                         x.set(r, f, rng.random_range(0..=20u8));
                     }
                 }
-                let features = [6, 7, 8];
-                ws.rewrite_features(&features, |f, rows, dst| {
-                    for (d, &r) in dst.iter_mut().zip(rows) {
-                        *d = x.get(r as usize, f);
+                let fill = |rows: &[u32], dst: &mut [u8]| {
+                    for (f, col) in (6..nf).zip(dst.chunks_exact_mut(rows.len())) {
+                        for (d, &r) in col.iter_mut().zip(rows) {
+                            *d = x.get(r as usize, f);
+                        }
                     }
-                });
-                ws.rewrite_scored_features(&features, |f, rows, dst| {
-                    for (d, &r) in dst.iter_mut().zip(rows) {
-                        *d = x.get(r as usize, f);
-                    }
-                });
+                };
+                ws.rewrite_features(6..nf, fill);
+                ws.rewrite_scored_features(6..nf, fill);
             }
             let labels: Vec<u8> = train
                 .iter()

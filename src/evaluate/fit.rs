@@ -237,8 +237,9 @@ pub fn fit_and_score(
         let learner = match &mut ws.trees[fi] {
             Some(t) => {
                 let (train, test) = ws.row_slots[fi].split_at(n_train);
-                t.rewrite_features(&ws.prior_features, |f, _, dst| prior_codes(cc, bc, k, f - prior_col0, train, dst));
-                t.rewrite_scored_features(&ws.prior_features, |f, _, dst| prior_codes(cc, bc, k, f - prior_col0, test, dst));
+                let priors = prior_col0..prior_col0 + 2 * k;
+                t.rewrite_features(priors.clone(), |_, dst| prior_codes(cc, bc, k, train, dst));
+                t.rewrite_scored_features(priors, |_, dst| prior_codes(cc, bc, k, test, dst));
                 t
             }
             slot @ None => {
@@ -330,16 +331,18 @@ pub fn fit_and_score(
     out
 }
 
-/// Prior feature `j`'s codes (count priors `0..k`, then batter priors) of
-/// the rows at `slots` (row, count-table place, batter-table place).
-fn prior_codes(count_codes: &[u8], batter_codes: &[u8], k: usize, j: usize, slots: &[(u32, u32, u32)], dst: &mut [u8]) {
-    if j < k {
-        for (d, s) in dst.iter_mut().zip(slots) {
-            *d = count_codes[s.1 as usize + j];
-        }
-    } else {
-        for (d, s) in dst.iter_mut().zip(slots) {
-            *d = batter_codes[s.2 as usize + j - k];
+/// The prior features' codes of the rows at `slots` (row, count-table
+/// place, batter-table place) into `dst`: the `k` count-prior columns, then
+/// the `k` batter-prior columns, `slots.len()` codes each. One pass over the
+/// rows reads each row's two table entries once.
+fn prior_codes(count_codes: &[u8], batter_codes: &[u8], k: usize, slots: &[(u32, u32, u32)], dst: &mut [u8]) {
+    let n = slots.len();
+    for (i, s) in slots.iter().enumerate() {
+        let c = &count_codes[s.1 as usize..s.1 as usize + k];
+        let b = &batter_codes[s.2 as usize..s.2 as usize + k];
+        for cls in 0..k {
+            dst[cls * n + i] = c[cls];
+            dst[(k + cls) * n + i] = b[cls];
         }
     }
 }

@@ -307,23 +307,33 @@ impl FastTreeWorkspace {
             self.n_features,
             "refresh with the prepared matrix"
         );
-        self.rewrite_features(features, |f, rows, dst| {
+        let n = self.rows.len();
+        for &f in features {
             let col = x.column(f);
-            for (d, &r) in dst.iter_mut().zip(rows) {
+            for (d, &r) in self.codes[f * n..(f + 1) * n].iter_mut().zip(&self.rows) {
                 *d = col[r as usize];
             }
-        });
+        }
+        self.rescan(features.iter().copied());
     }
 
     /// Like [`Self::refresh_features`], with the caller writing the new
-    /// codes itself: `fill(f, rows, codes)` gets feature `f`'s codes of the
-    /// training `rows` (as prepared, in that order) to overwrite. This saves
-    /// the caller a feature matrix of the training rows.
-    pub fn rewrite_features(&mut self, features: &[usize], mut fill: impl FnMut(usize, &[u32], &mut [u8])) {
+    /// codes itself: `fill(rows, codes)` gets the training `rows` (as
+    /// prepared, in that order) and the codes of the features in
+    /// `features`, column after column (`rows.len()` codes each), to
+    /// overwrite. This saves the caller a feature matrix of the training
+    /// rows, and lets it write several columns in one pass over the rows.
+    pub fn rewrite_features(&mut self, features: std::ops::Range<usize>, fill: impl FnOnce(&[u32], &mut [u8])) {
         let n = self.rows.len();
+        fill(&self.rows, &mut self.codes[features.start * n..features.end * n]);
+        self.rescan(features);
+    }
+
+    /// After features' codes changed: their present codes, and their
+    /// packing (or a new layout when one outgrew its room).
+    fn rescan(&mut self, features: impl Iterator<Item = usize> + Clone) {
         let mut relayout = false;
-        for &f in features {
-            fill(f, &self.rows, &mut self.codes[f * n..(f + 1) * n]);
+        for f in features.clone() {
             self.scan_values(f);
             if self.cuts[f].n_cuts() > self.cuts[f].capacity {
                 relayout = true;
@@ -332,7 +342,7 @@ impl FastTreeWorkspace {
         if relayout {
             self.layout_and_pack();
         } else {
-            for &f in features {
+            for f in features {
                 self.pack_feature(f);
             }
             self.layout_hist();
@@ -359,12 +369,10 @@ impl FastTreeWorkspace {
     }
 
     /// Rewrites features of the scored rows, as [`Self::rewrite_features`]
-    /// does for the training rows: `fill(f, rows, codes)`.
-    pub fn rewrite_scored_features(&mut self, features: &[usize], mut fill: impl FnMut(usize, &[u32], &mut [u8])) {
+    /// does for the training rows: `fill(rows, codes)`.
+    pub fn rewrite_scored_features(&mut self, features: std::ops::Range<usize>, fill: impl FnOnce(&[u32], &mut [u8])) {
         let m = self.scored_rows.len();
-        for &f in features {
-            fill(f, &self.scored_rows, &mut self.scored_codes[f * m..(f + 1) * m]);
-        }
+        fill(&self.scored_rows, &mut self.scored_codes[features.start * m..features.end * m]);
     }
 
     /// The leaf (node index of the last fitted tree) of each scored row, in
@@ -669,21 +677,35 @@ impl FastTreeWorkspace {
         };
         let scored_mid = self.partition_scored(scored, feature, threshold);
 
-        // Partition stably: left rows stay in order in place, right rows go
-        // through `spill`.
+        // The children's class counts are the parent's sums at the cut.
         let (left_id, right_id) = (self.next_id, self.next_id + 1);
         self.next_id += 2;
         let n = self.rows.len();
         let k = self.n_classes;
-        let mut w = lo;
-        let mut spilled = 0;
-        {
+        let lanes = self.lanes;
+        let parent_sums = &self.sums[slot * self.slot_len()..];
+        let right_counts: Vec<u32> = (0..k).map(|c| parent_sums[c * lanes + cut_bit]).collect();
+        let left_counts: Vec<u32> = nodes[me]
+            .class_counts
+            .iter()
+            .zip(&right_counts)
+            .map(|(t, r)| t - r)
+            .collect();
+        let mid = lo + left_counts.iter().sum::<u32>() as usize;
+        let need_left = self.splittable(mid - lo, depth + 1, &left_counts);
+        let need_right = self.splittable(hi - mid, depth + 1, &right_counts);
+
+        // Partition stably (left rows stay in order in place, right rows go
+        // through `spill`), unless neither child is split further: a leaf
+        // needs only its class counts.
+        if need_left || need_right {
             // Branch-free: the side of a row is as good as random. Node ids
             // are kept only for linfa's last-row rule.
             let col = &self.codes[feature * n..(feature + 1) * n];
             let idx = &mut self.idx[..hi];
             let spill = &mut self.spill[..hi - lo];
             let track = self.options.scan == ThresholdScan::Linfa;
+            let (mut w, mut spilled) = (lo, 0);
             for i in lo..hi {
                 let p = idx[i];
                 let goes_left = (col[p as usize] <= threshold) as usize;
@@ -695,24 +717,12 @@ impl FastTreeWorkspace {
                     self.node_id[p as usize] = if goes_left == 1 { left_id } else { right_id };
                 }
             }
+            debug_assert_eq!(w, mid, "the partition agrees with the cut's counts");
+            self.idx[mid..hi].copy_from_slice(&self.spill[..spilled]);
         }
-        // The children's class counts are the parent's sums at the cut.
-        let lanes = self.lanes;
-        let parent_sums = &self.sums[slot * self.slot_len()..];
-        let right_counts: Vec<u32> = (0..k).map(|c| parent_sums[c * lanes + cut_bit]).collect();
-        let left_counts: Vec<u32> = nodes[me]
-            .class_counts
-            .iter()
-            .zip(&right_counts)
-            .map(|(t, r)| t - r)
-            .collect();
-        let mid = w;
-        self.idx[mid..hi].copy_from_slice(&self.spill[..spilled]);
 
         // Sums for the children that will be scanned: the smaller side is
         // counted, the other is the parent minus it.
-        let need_left = self.splittable(mid - lo, depth + 1, &left_counts);
-        let need_right = self.splittable(hi - mid, depth + 1, &right_counts);
         let (ls, rs) = (2 * depth + 1, 2 * depth + 2);
         if need_left || need_right {
             self.ensure_slot(rs);
