@@ -475,8 +475,12 @@ impl FastTreeWorkspace {
     /// sums, rounded up to whole bytes so that a permutation leaving a few
     /// more codes present rarely needs a new layout.
     fn layout_and_pack(&mut self) {
+        // A feature once laid out wide stays wide (with at least the room it
+        // had), so a prior whose present codes come and go between
+        // permutations is laid out again at most a few times.
+        let narrow = |c: &FeatureCuts| c.n_cuts() <= 1 && c.capacity <= 1;
         let mut bit = 0;
-        for c in self.cuts.iter_mut().filter(|c| c.n_cuts() <= 1) {
+        for c in self.cuts.iter_mut().filter(|c| narrow(c)) {
             c.bit = bit;
             c.capacity = 1;
             bit += 1;
@@ -485,9 +489,9 @@ impl FastTreeWorkspace {
         self.stride = bit / 8;
         self.wide.clear();
         for (f, c) in self.cuts.iter_mut().enumerate() {
-            if c.n_cuts() > 1 {
+            if !narrow(c) {
                 c.bit = bit;
-                c.capacity = c.n_cuts().div_ceil(8) * 8;
+                c.capacity = (c.n_cuts().div_ceil(8) * 8).max(8).max(c.capacity);
                 bit += c.capacity;
                 self.wide.push(f);
             }
