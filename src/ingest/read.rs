@@ -257,13 +257,23 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
             }
         };
         n_rows = Some(df.height());
-        for col in df.columns() {
-            let name = col.name().to_string();
-            let s = col.as_materialized_series().cast(&DataType::String).map_err(|e| {
-                Error::Data(format!("{}: column {name} cannot be read as text ({e}); store it as text or numbers", path.display()))
-            })?;
-            let ca = s.str().map_err(|e| Error::Internal(e.to_string()))?;
-            columns.push((name, TextColumn::from_chunked(ca)));
+        // Each column is dictionary-coded on its own, so columns are coded
+        // in parallel (the result does not depend on the thread count).
+        use rayon::prelude::*;
+        let coded: Vec<Result<(String, TextColumn)>> = df
+            .columns()
+            .par_iter()
+            .map(|col| {
+                let name = col.name().to_string();
+                let s = col.as_materialized_series().cast(&DataType::String).map_err(|e| {
+                    Error::Data(format!("{}: column {name} cannot be read as text ({e}); store it as text or numbers", path.display()))
+                })?;
+                let ca = s.str().map_err(|e| Error::Internal(e.to_string()))?;
+                Ok((name, TextColumn::from_chunked(ca)))
+            })
+            .collect();
+        for c in coded {
+            columns.push(c?);
         }
     }
     Ok(RawTable { format, header, n_rows: n_rows.unwrap_or(0), columns })
