@@ -721,7 +721,7 @@ impl FastTreeWorkspace {
                     self.node_id[p as usize] = if goes_left == 1 { left_id } else { right_id };
                 }
             }
-            debug_assert_eq!(w, mid, "the partition agrees with the cut's counts");
+            assert_eq!(w, mid, "the partition agrees with the cut's counts");
             self.idx[mid..hi].copy_from_slice(&self.spill[..spilled]);
         }
 
