@@ -334,60 +334,79 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
     let mut side = Vec::with_capacity(want("loc_side_ft"));
     let mut height = Vec::with_capacity(want("loc_height_ft"));
     let mut team = Vec::with_capacity(want("team"));
-    let mut vals: Vec<Option<&str>> = vec![None; cols.len()];
-    for i in 0..table.n_rows {
+    // Rows are parsed in parallel a chunk at a time (memory stays bounded),
+    // then taken in file order: the result does not depend on threads.
+    const CHUNK: usize = 1 << 15;
+    use rayon::prelude::*;
+    enum Parsed<'a> {
+        Blank,
+        Row(parse::ParsedRow<'a>),
+        Breach(parse::Breach<'a>),
+    }
+    let parse_at = |i: usize| {
+        let mut vals = [None; REQUIRED_COLUMNS.len() + OPTIONAL_COLUMNS.len()];
         for (v, c) in vals.iter_mut().zip(&cols) {
             *v = c.and_then(|c| c.get(i));
         }
         if vals.iter().all(Option::is_none) {
-            blank += 1;
-            continue; // a blank line is not a pitch
+            return Parsed::Blank; // a blank line is not a pitch
         }
         match parse_row(&vals, has_pa, has_pitch_no) {
-            Ok(p) => {
-                log.game.push(games.get(p.game));
-                log.date.push(p.date);
-                log.season.push(p.season);
-                log.pitcher.push(pitchers.get(p.pitcher));
-                log.throws.push(p.throws);
-                log.batter.push(batters.get(p.batter));
-                log.bats.push(p.bats);
-                log.inning.push(p.inning);
-                log.outs.push(p.outs);
-                log.balls.push(p.balls);
-                log.strikes.push(p.strikes);
-                log.on_first.push(p.bases[0]);
-                log.on_second.push(p.bases[1]);
-                log.on_third.push(p.bases[2]);
-                log.pitch_type.push(types.get(settings.pitch_group(p.pitch_type)) as u16);
-                log.source_line.push(table.location(i));
-                pa.push(p.pa.unwrap_or(0));
-                pitch_no.push(p.pitch_no.unwrap_or(0));
-                if score.capacity() > 0 {
-                    score.push(p.score_diff);
+            Ok(p) => Parsed::Row(p),
+            Err(b) => Parsed::Breach(b),
+        }
+    };
+    for start in (0..table.n_rows).step_by(CHUNK) {
+        let end = (start + CHUNK).min(table.n_rows);
+        let parsed: Vec<Parsed> = (start..end).into_par_iter().map(parse_at).collect();
+        for (i, parsed) in (start..end).zip(parsed) {
+            match parsed {
+                Parsed::Blank => blank += 1,
+                Parsed::Row(p) => {
+                    log.game.push(games.get(p.game));
+                    log.date.push(p.date);
+                    log.season.push(p.season);
+                    log.pitcher.push(pitchers.get(p.pitcher));
+                    log.throws.push(p.throws);
+                    log.batter.push(batters.get(p.batter));
+                    log.bats.push(p.bats);
+                    log.inning.push(p.inning);
+                    log.outs.push(p.outs);
+                    log.balls.push(p.balls);
+                    log.strikes.push(p.strikes);
+                    log.on_first.push(p.bases[0]);
+                    log.on_second.push(p.bases[1]);
+                    log.on_third.push(p.bases[2]);
+                    log.pitch_type.push(types.get(settings.pitch_group(p.pitch_type)) as u16);
+                    log.source_line.push(table.location(i));
+                    pa.push(p.pa.unwrap_or(0));
+                    pitch_no.push(p.pitch_no.unwrap_or(0));
+                    if score.capacity() > 0 {
+                        score.push(p.score_diff);
+                    }
+                    if result.capacity() > 0 {
+                        result.push(p.result);
+                    }
+                    if speed.capacity() > 0 {
+                        speed.push(p.speed);
+                    }
+                    if side.capacity() > 0 {
+                        side.push(p.side);
+                    }
+                    if height.capacity() > 0 {
+                        height.push(p.height);
+                    }
+                    if team.capacity() > 0 {
+                        team.push(p.team.map(|t| teams.get(t)));
+                    }
                 }
-                if result.capacity() > 0 {
-                    result.push(p.result);
-                }
-                if speed.capacity() > 0 {
-                    speed.push(p.speed);
-                }
-                if side.capacity() > 0 {
-                    side.push(p.side);
-                }
-                if height.capacity() > 0 {
-                    height.push(p.height);
-                }
-                if team.capacity() > 0 {
-                    team.push(p.team.map(|t| teams.get(t)));
-                }
+                Parsed::Breach((column, value, reason)) => rejected.push(Rejected {
+                    line: table.location(i),
+                    column: column.to_string(),
+                    value: value.unwrap_or("").to_string(),
+                    reason,
+                }),
             }
-            Err((column, value, reason)) => rejected.push(Rejected {
-                line: table.location(i),
-                column: column.to_string(),
-                value: value.unwrap_or("").to_string(),
-                reason,
-            }),
         }
     }
 
