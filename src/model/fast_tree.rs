@@ -34,7 +34,7 @@
 //! training rows as the tree grows, and their leaves read off
 //! [`FastTreeWorkspace::scored_leaves`]. Nothing is sorted and, after the
 //! first fit, nothing but the returned [`Tree`] is allocated.
-
+//!
 //! # Same tree as linfa
 //!
 //! With the default [`GrowOptions`] the tree equals the reference learner's,
@@ -194,6 +194,7 @@ pub struct FastTreeWorkspace {
     /// Histogram slots per class.
     hist_len: usize,
     hist: Vec<u32>,
+    /// Scratch: each wide feature's offset in `codes` and first histogram slot.
     wide_columns: Vec<(usize, usize)>,
     /// Rows to be scored by each fitted tree (see [`Self::prepare_scored`]).
     scored_rows: Vec<u32>,
@@ -534,7 +535,6 @@ impl FastTreeWorkspace {
         }
     }
 
-
     // ---- growing ----
 
     fn min_leaf(&self) -> usize {
@@ -703,26 +703,17 @@ impl FastTreeWorkspace {
         // through `spill`), unless neither child is split further: a leaf
         // needs only its class counts.
         if need_left || need_right {
-            // Branch-free: the side of a row is as good as random. Node ids
-            // are kept only for linfa's last-row rule.
+            // Node ids are kept only for linfa's last-row rule.
             let col = &self.codes[feature * n..(feature + 1) * n];
-            let idx = &mut self.idx[..hi];
-            let spill = &mut self.spill[..hi - lo];
-            let track = self.options.scan == ThresholdScan::Linfa;
-            let (mut w, mut spilled) = (lo, 0);
-            for i in lo..hi {
-                let p = idx[i];
-                let goes_left = (col[p as usize] <= threshold) as usize;
-                idx[w] = p;
-                spill[spilled] = p; // spilled <= i - lo
-                w += goes_left;
-                spilled += 1 - goes_left;
-                if track {
-                    self.node_id[p as usize] = if goes_left == 1 { left_id } else { right_id };
-                }
-            }
+            let w = if self.options.scan == ThresholdScan::Linfa {
+                let node_id = &mut self.node_id;
+                partition_stably(&mut self.idx, &mut self.spill, (lo, hi), col, threshold, |p, left| {
+                    node_id[p as usize] = if left { left_id } else { right_id };
+                })
+            } else {
+                partition_stably(&mut self.idx, &mut self.spill, (lo, hi), col, threshold, |_, _| {})
+            };
             assert_eq!(w, mid, "the partition agrees with the cut's counts");
-            self.idx[mid..hi].copy_from_slice(&self.spill[..spilled]);
         }
 
         // Sums for the children that will be scanned: the smaller side is
@@ -785,22 +776,10 @@ impl FastTreeWorkspace {
 
     /// Splits the scored rows `sidx[lo..hi]` as their node splits: left
     /// (`code <= threshold`) first. Returns where the right ones start.
-    fn partition_scored(&mut self, (lo, hi): (usize, usize), feature: usize, threshold: u8) -> usize {
+    fn partition_scored(&mut self, range: (usize, usize), feature: usize, threshold: u8) -> usize {
         let m = self.scored_rows.len();
         let col = &self.scored_codes[feature * m..(feature + 1) * m];
-        let idx = &mut self.sidx[..hi];
-        let spill = &mut self.sspill[..hi - lo];
-        let (mut w, mut spilled) = (lo, 0);
-        for i in lo..hi {
-            let q = idx[i];
-            let goes_left = (col[q as usize] <= threshold) as usize;
-            idx[w] = q;
-            spill[spilled] = q;
-            w += goes_left;
-            spilled += 1 - goes_left;
-        }
-        self.sidx[w..hi].copy_from_slice(&self.sspill[..spilled]);
-        w
+        partition_stably(&mut self.sidx, &mut self.sspill, range, col, threshold, |_, _| {})
     }
 
     /// linfa's split choice for the node over `idx[lo..hi]` with sums in
@@ -904,6 +883,33 @@ impl FastTreeWorkspace {
         };
         Some((f, self.cuts[f].bit + j, midpoint_floor(values[j], next)))
     }
+}
+
+/// Splits `idx[lo..hi]` stably by `col[p] <= threshold` (left first, left
+/// rows in place, right rows through `spill`), telling `side` each row's
+/// side; returns where the right rows start. Branch-free: the side of a row
+/// is as good as random.
+fn partition_stably(
+    idx: &mut [u32],
+    spill: &mut [u32],
+    (lo, hi): (usize, usize),
+    col: &[u8],
+    threshold: u8,
+    mut side: impl FnMut(u32, bool),
+) -> usize {
+    let spill = &mut spill[..hi - lo];
+    let (mut w, mut spilled) = (lo, 0);
+    for i in lo..hi {
+        let p = idx[i];
+        let goes_left = (col[p as usize] <= threshold) as usize;
+        idx[w] = p;
+        spill[spilled] = p; // spilled <= i - lo
+        w += goes_left;
+        spilled += 1 - goes_left;
+        side(p, goes_left == 1);
+    }
+    idx[w..hi].copy_from_slice(&spill[..spilled]);
+    w
 }
 
 /// Floor of the midpoint of two codes, the threshold linfa's `f64` midpoint
