@@ -54,6 +54,17 @@ pub fn shuffle_within(labels: &mut [u8], strata: &[Vec<u32>], rng: &mut ChaCha8R
     }
 }
 
+/// The statistic of permutation `j` of a pitcher: his labels shuffled
+/// within seasons by that permutation's own stream, then the whole fit
+/// rerun. `labels` is scratch of his labels' length.
+pub fn permuted_statistic(task: &PitcherTask, settings: &Settings, j: u64, ws: &mut Workspace, labels: &mut [u8]) -> Stat {
+    labels.copy_from_slice(&task.labels);
+    let mut rng = permutation_rng(settings.seed, &task.name, j);
+    shuffle_within(labels, &task.strata, &mut rng);
+    let scored = fit_and_score(task, labels, settings, ws, false);
+    statistic(&scored, settings.statistic)
+}
+
 /// Permutations are run in batches of this size in parallel, then read in
 /// order for the stopping rule.
 const BATCH: usize = 32;
@@ -83,11 +94,7 @@ pub fn permutation_test(
                 let slot = rayon::current_thread_index().unwrap_or(0) % pool.len();
                 let mut guard = pool[slot].lock().unwrap_or_else(|e| e.into_inner());
                 let (ws, labels) = guard.get_or_insert_with(|| (Workspace::new(task), task.labels.clone()));
-                labels.copy_from_slice(&task.labels);
-                let mut rng = permutation_rng(settings.seed, &task.name, j as u64);
-                shuffle_within(labels, &task.strata, &mut rng);
-                let scored = fit_and_score(task, labels, settings, ws, false);
-                statistic(&scored, settings.statistic)
+                permuted_statistic(task, settings, j as u64, ws, labels)
             })
             .collect();
         for s in stats {
