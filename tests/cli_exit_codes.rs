@@ -179,6 +179,17 @@ fn a_columns_config_reads_own_header_names() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+/// A file whose header has none of the contract's names (its own names,
+/// no mapping given) gets the one-line missing-columns error, not a crash.
+#[test]
+fn own_header_names_without_a_mapping_name_the_missing_columns() {
+    let o = check(&fixture("logs/own_headers.csv"), &[]);
+    assert_eq!(code(&o), 3, "{}", stderr(&o));
+    let err = stderr(&o);
+    assert_eq!(err.trim_end().lines().count(), 1, "{err}");
+    assert!(err.contains("own_headers.csv") && err.contains("pitch_type") && err.contains("[columns]"), "{err}");
+}
+
 #[test]
 fn strict_exits_3_on_a_rejected_row() {
     let o = check(&fixture("logs/bad_rows.csv"), &["--strict"]);

@@ -111,6 +111,13 @@ impl TextColumn {
         TextColumn { dict, codes }
     }
 
+    /// The dictionary index of `row`'s value, `None` when it is empty.
+    #[inline]
+    pub fn code(&self, row: usize) -> Option<usize> {
+        let c = self.codes.get(row);
+        (c != NULL_CODE).then_some(c as usize)
+    }
+
     #[inline]
     pub fn get(&self, row: usize) -> Option<&str> {
         let c = self.codes.get(row);
@@ -237,7 +244,9 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
     let group_size = if std::fs::metadata(path).map(|m| m.len()).unwrap_or(0) < 64 << 20 { keep.len().max(1) } else { 3 };
     let mut columns = Vec::new();
     let mut n_rows = None;
-    let groups: Vec<&[String]> = if keep.is_empty() { vec![&keep[..]] } else { keep.chunks(group_size).collect() };
+    // A file with none of the wanted columns has nothing to read (the
+    // caller then names the missing columns).
+    let groups: Vec<&[String]> = keep.chunks(group_size).collect();
     for group in groups {
         let df = match format {
             Format::Csv => {
