@@ -291,6 +291,7 @@ pub fn load(path: &Path, settings: &Settings) -> Result<Ingested> {
 /// order them: one column at a time is permuted, so no row-sized copy of the
 /// whole log is ever made.
 fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, usize) {
+    use rayon::prelude::*;
     let col = |c: &str| table.column(settings.file_column(c));
     let cols: Vec<Option<&read::TextColumn>> =
         REQUIRED_COLUMNS.iter().chain(OPTIONAL_COLUMNS.iter()).map(|c| col(c)).collect();
@@ -337,16 +338,21 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
     // Rows are parsed in parallel a chunk at a time (memory stays bounded),
     // then taken in file order: the result does not depend on threads.
     const CHUNK: usize = 1 << 15;
-    use rayon::prelude::*;
     enum Parsed<'a> {
         Blank,
         Row(parse::ParsedRow<'a>),
         Breach(parse::Breach<'a>),
     }
+    // Each column's distinct values are checked once; rows look them up.
+    let checks: Vec<Vec<std::result::Result<parse::Cell, String>>> = cols
+        .par_iter()
+        .enumerate()
+        .map(|(ci, c)| c.map_or_else(Vec::new, |c| c.dict.iter().map(|v| parse::parse_cell(ci, v)).collect()))
+        .collect();
     let parse_at = |i: usize| {
-        let mut vals = [None; REQUIRED_COLUMNS.len() + OPTIONAL_COLUMNS.len()];
-        for (v, c) in vals.iter_mut().zip(&cols) {
-            *v = c.and_then(|c| c.get(i));
+        let mut vals: [parse::Value; REQUIRED_COLUMNS.len() + OPTIONAL_COLUMNS.len()] = [None; REQUIRED_COLUMNS.len() + OPTIONAL_COLUMNS.len()];
+        for ((v, c), check) in vals.iter_mut().zip(&cols).zip(&checks) {
+            *v = c.and_then(|c| c.code(i).map(|code| (c.dict[code].as_str(), &check[code])));
         }
         if vals.iter().all(Option::is_none) {
             return Parsed::Blank; // a blank line is not a pitch
@@ -356,6 +362,19 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
             Err(b) => Parsed::Breach(b),
         }
     };
+    // Names are interned once per distinct value (first seen in a kept
+    // row, in file order, as interning row by row would).
+    let cache = |c: Option<&read::TextColumn>| vec![u32::MAX; c.map_or(0, |c| c.dict.len())];
+    let (mut game_ids, mut pitcher_ids, mut batter_ids, mut type_ids, mut team_ids) =
+        (cache(cols[0]), cache(cols[2]), cache(cols[4]), cache(cols[13]), cache(cols[22]));
+    fn intern(ids: &mut [u32], code: Option<usize>, name: impl FnOnce(&mut Interner) -> u32, interner: &mut Interner) -> u32 {
+        let code = code.expect("a kept row has this value");
+        if ids[code] == u32::MAX {
+            ids[code] = name(interner);
+        }
+        ids[code]
+    }
+    let code = |ci: usize, i: usize| cols[ci].and_then(|c| c.code(i));
     for start in (0..table.n_rows).step_by(CHUNK) {
         let end = (start + CHUNK).min(table.n_rows);
         let parsed: Vec<Parsed> = (start..end).into_par_iter().map(parse_at).collect();
@@ -363,12 +382,12 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
             match parsed {
                 Parsed::Blank => blank += 1,
                 Parsed::Row(p) => {
-                    log.game.push(games.get(p.game));
+                    log.game.push(intern(&mut game_ids, code(0, i), |t| t.get(p.game), &mut games));
                     log.date.push(p.date);
                     log.season.push(p.season);
-                    log.pitcher.push(pitchers.get(p.pitcher));
+                    log.pitcher.push(intern(&mut pitcher_ids, code(2, i), |t| t.get(p.pitcher), &mut pitchers));
                     log.throws.push(p.throws);
-                    log.batter.push(batters.get(p.batter));
+                    log.batter.push(intern(&mut batter_ids, code(4, i), |t| t.get(p.batter), &mut batters));
                     log.bats.push(p.bats);
                     log.inning.push(p.inning);
                     log.outs.push(p.outs);
@@ -377,7 +396,8 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
                     log.on_first.push(p.bases[0]);
                     log.on_second.push(p.bases[1]);
                     log.on_third.push(p.bases[2]);
-                    log.pitch_type.push(types.get(settings.pitch_group(p.pitch_type)) as u16);
+                    log.pitch_type
+                        .push(intern(&mut type_ids, code(13, i), |t| t.get(settings.pitch_group(p.pitch_type)), &mut types) as u16);
                     log.source_line.push(table.location(i));
                     pa.push(p.pa.unwrap_or(0));
                     pitch_no.push(p.pitch_no.unwrap_or(0));
@@ -397,7 +417,7 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
                         height.push(p.height);
                     }
                     if team.capacity() > 0 {
-                        team.push(p.team.map(|t| teams.get(t)));
+                        team.push(p.team.map(|t| intern(&mut team_ids, code(22, i), |tab| tab.get(t), &mut teams)));
                     }
                 }
                 Parsed::Breach((column, value, reason)) => rejected.push(Rejected {

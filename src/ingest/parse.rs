@@ -33,10 +33,6 @@ pub struct ParsedRow<'a> {
 /// (contract column, offending value, reason)
 pub type Breach<'a> = (&'static str, Option<&'a str>, String);
 
-fn required<'a>(v: Option<&'a str>, col: &'static str) -> Result<&'a str, Breach<'a>> {
-    v.ok_or((col, None, "is empty; every pitch needs a value here".to_string()))
-}
-
 fn int_in<'a>(v: &'a str, col: &'static str, lo: i64, hi: i64) -> Result<i64, Breach<'a>> {
     // Whole numbers stored as floats ("3.0", as Parquet files with nulls
     // often hold them) are accepted; "3.5" is not.
@@ -65,11 +61,6 @@ pub fn parse_bool(v: &str) -> Option<bool> {
         "0" | "false" | "no" => Some(false),
         _ => None,
     }
-}
-
-fn base<'a>(v: Option<&'a str>, col: &'static str) -> Result<bool, Breach<'a>> {
-    let v = required(v, col)?;
-    parse_bool(v).ok_or((col, Some(v), "is not 0/1, true/false or yes/no".to_string()))
 }
 
 /// Days from 1970-01-01 of a proleptic Gregorian date
@@ -137,58 +128,149 @@ fn number<'a>(v: Option<&'a str>, col: &'static str, lo: f32, hi: f32) -> Result
     }
 }
 
+/// A value of one column, checked by that column's rule (see [`parse_cell`]).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub enum Cell {
+    /// A name (game, pitcher, batter, pitch type, team): any text.
+    Text,
+    Int(i64),
+    /// Days since 1970-01-01 and the year.
+    Date(i32, i32),
+    Hand(Hand),
+    Bool(bool),
+    Result(PitchResult),
+    Num(f32),
+}
+
+/// Checks one non-empty value of contract column `column` (an index into
+/// REQUIRED_COLUMNS then OPTIONAL_COLUMNS) against its rule; the error is
+/// the reason. A value's check does not depend on its row, so a column's
+/// distinct values are each checked once.
+pub fn parse_cell(column: usize, v: &str) -> Result<Cell, String> {
+    let int = |col, lo, hi| int_in(v, col, lo, hi).map(Cell::Int).map_err(|b| b.2);
+    match column {
+        0 | 2 | 4 | 13 | 22 => Ok(Cell::Text),
+        1 => parse_date(v)
+            .map(|(d, y)| Cell::Date(d, y))
+            .ok_or_else(|| "is not a calendar date written YYYY-MM-DD".to_string()),
+        3 => hand(v, "throws").map(Cell::Hand).map_err(|b| b.2),
+        5 => hand(v, "bats").map(Cell::Hand).map_err(|b| b.2),
+        6 => int("inning", 1, 99),
+        7 => int("outs", 0, 2),
+        8 => int("balls", 0, 3),
+        9 => int("strikes", 0, 2),
+        10..=12 => parse_bool(v).map(Cell::Bool).ok_or_else(|| "is not 0/1, true/false or yes/no".to_string()),
+        14 => int("season", 1800, 3000),
+        15 => int("pa", 1, i64::from(u32::MAX)),
+        16 => int("pitch_no", 1, i64::from(u32::MAX)),
+        17 => int("score_diff", -200, 200),
+        18 => PitchResult::parse(v).map(Cell::Result).ok_or_else(|| {
+            "is not one of ball, called_strike, swinging_strike, foul, in_play, hit_by_pitch, other".to_string()
+        }),
+        19 => number(Some(v), "speed_mph", 0.0, 125.0).map(|x| Cell::Num(x.unwrap_or(0.0))).map_err(|b| b.2),
+        20 => number(Some(v), "loc_side_ft", -20.0, 20.0).map(|x| Cell::Num(x.unwrap_or(0.0))).map_err(|b| b.2),
+        21 => number(Some(v), "loc_height_ft", -10.0, 20.0).map(|x| Cell::Num(x.unwrap_or(0.0))).map_err(|b| b.2),
+        _ => Ok(Cell::Text),
+    }
+}
+
+/// One row's value of a column: its text and its check, or `None` when empty.
+pub type Value<'a, 'c> = Option<(&'a str, &'c Result<Cell, String>)>;
+
+/// The checked value of a column every pitch needs.
+fn needed<'a, 'c>(v: Value<'a, 'c>, col: &'static str) -> Result<(&'a str, Cell), Breach<'a>> {
+    match v {
+        None => Err((col, None, "is empty; every pitch needs a value here".to_string())),
+        Some((s, Err(reason))) => Err((col, Some(s), reason.clone())),
+        Some((s, Ok(c))) => Ok((s, *c)),
+    }
+}
+
+/// The checked value of an optional column, `None` when empty.
+fn optional<'a>(v: Value<'a, '_>, col: &'static str) -> Result<Option<Cell>, Breach<'a>> {
+    match v {
+        None => Ok(None),
+        Some((s, Err(reason))) => Err((col, Some(s), reason.clone())),
+        Some((_, Ok(c))) => Ok(Some(*c)),
+    }
+}
+
+fn as_int(c: Cell) -> i64 {
+    match c {
+        Cell::Int(n) => n,
+        _ => unreachable!("an integer column"),
+    }
+}
+
+fn as_hand(c: Cell) -> Hand {
+    match c {
+        Cell::Hand(h) => h,
+        _ => unreachable!("a hand column"),
+    }
+}
+
+fn as_bool(c: Cell) -> bool {
+    match c {
+        Cell::Bool(b) => b,
+        _ => unreachable!("a base column"),
+    }
+}
+
+fn as_num(c: Option<Cell>) -> Option<f32> {
+    c.map(|c| match c {
+        Cell::Num(x) => x,
+        _ => unreachable!("a number column"),
+    })
+}
+
 /// Parse the values of one row, given in the order of REQUIRED_COLUMNS then
-/// OPTIONAL_COLUMNS (absent optional columns are `None`).
-pub fn parse_row<'a>(
-    v: &[Option<&'a str>],
-    has_pa: bool,
-    has_pitch_no: bool,
-) -> Result<ParsedRow<'a>, Breach<'a>> {
-    let game = required(v[0], "game")?;
-    let date_s = required(v[1], "date")?;
-    let (date, year) =
-        parse_date(date_s).ok_or(("date", Some(date_s), "is not a calendar date written YYYY-MM-DD".to_string()))?;
-    let pitcher = required(v[2], "pitcher")?;
-    let throws = hand(required(v[3], "throws")?, "throws")?;
-    let batter = required(v[4], "batter")?;
-    let bats = hand(required(v[5], "bats")?, "bats")?;
-    let inning = int_in(required(v[6], "inning")?, "inning", 1, 99)? as u16;
-    let outs = int_in(required(v[7], "outs")?, "outs", 0, 2)? as u8;
-    let balls = int_in(required(v[8], "balls")?, "balls", 0, 3)? as u8;
-    let strikes = int_in(required(v[9], "strikes")?, "strikes", 0, 2)? as u8;
-    let bases = [base(v[10], "on_first")?, base(v[11], "on_second")?, base(v[12], "on_third")?];
-    let pitch_type = required(v[13], "pitch_type")?;
-    let season = match v[14] {
-        None => year,
-        Some(s) => int_in(s, "season", 1800, 3000)? as i32,
+/// OPTIONAL_COLUMNS (absent optional columns are `None`), each with its
+/// column's check ([`parse_cell`]). The first breach in column order is
+/// reported.
+pub fn parse_row<'a>(v: &[Value<'a, '_>], has_pa: bool, has_pitch_no: bool) -> Result<ParsedRow<'a>, Breach<'a>> {
+    let (game, _) = needed(v[0], "game")?;
+    let (date, year) = match needed(v[1], "date")?.1 {
+        Cell::Date(d, y) => (d, y),
+        _ => unreachable!("the date column"),
     };
+    let (pitcher, _) = needed(v[2], "pitcher")?;
+    let throws = as_hand(needed(v[3], "throws")?.1);
+    let (batter, _) = needed(v[4], "batter")?;
+    let bats = as_hand(needed(v[5], "bats")?.1);
+    let inning = as_int(needed(v[6], "inning")?.1) as u16;
+    let outs = as_int(needed(v[7], "outs")?.1) as u8;
+    let balls = as_int(needed(v[8], "balls")?.1) as u8;
+    let strikes = as_int(needed(v[9], "strikes")?.1) as u8;
+    let bases = [
+        as_bool(needed(v[10], "on_first")?.1),
+        as_bool(needed(v[11], "on_second")?.1),
+        as_bool(needed(v[12], "on_third")?.1),
+    ];
+    let (pitch_type, _) = needed(v[13], "pitch_type")?;
+    let season = optional(v[14], "season")?.map_or(year, |c| as_int(c) as i32);
     // When the file has pa / pitch_no, every row needs them: a row without
     // would sort to the front of its game and break the plate appearance.
-    let pa = match (v[15], has_pa) {
-        (Some(s), _) => Some(int_in(s, "pa", 1, i64::from(u32::MAX))? as u32),
+    let pa = match (optional(v[15], "pa")?, has_pa) {
+        (Some(c), _) => Some(as_int(c) as u32),
         (None, true) => return Err(("pa", None, "is empty; the file has a pa column, so every pitch needs one".to_string())),
         (None, false) => None,
     };
-    let pitch_no = match (v[16], has_pitch_no) {
-        (Some(s), _) => Some(int_in(s, "pitch_no", 1, i64::from(u32::MAX))? as u32),
+    let pitch_no = match (optional(v[16], "pitch_no")?, has_pitch_no) {
+        (Some(c), _) => Some(as_int(c) as u32),
         (None, true) => {
             return Err(("pitch_no", None, "is empty; the file has a pitch_no column, so every pitch needs one".to_string()))
         }
         (None, false) => None,
     };
-    let score_diff = v[17].map(|s| int_in(s, "score_diff", -200, 200).map(|n| n as i32)).transpose()?;
-    let result = match v[18] {
-        None => None,
-        Some(s) => Some(PitchResult::parse(s).ok_or((
-            "result",
-            Some(s),
-            "is not one of ball, called_strike, swinging_strike, foul, in_play, hit_by_pitch, other".to_string(),
-        ))?),
-    };
-    let speed = number(v[19], "speed_mph", 0.0, 125.0)?;
-    let side = number(v[20], "loc_side_ft", -20.0, 20.0)?;
-    let height = number(v[21], "loc_height_ft", -10.0, 20.0)?;
-    let team = v[22];
+    let score_diff = optional(v[17], "score_diff")?.map(|c| as_int(c) as i32);
+    let result = optional(v[18], "result")?.map(|c| match c {
+        Cell::Result(r) => r,
+        _ => unreachable!("the result column"),
+    });
+    let speed = as_num(optional(v[19], "speed_mph")?);
+    let side = as_num(optional(v[20], "loc_side_ft")?);
+    let height = as_num(optional(v[21], "loc_height_ft")?);
+    let team = v[22].map(|(s, _)| s);
     Ok(ParsedRow {
         game,
         date,
