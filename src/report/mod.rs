@@ -112,6 +112,11 @@ impl Staging {
         })
     }
 
+    /// Takes over `other`'s staged files, to be committed with these.
+    pub fn absorb(&mut self, mut other: Staging) {
+        self.staged.append(&mut other.staged);
+    }
+
     /// Rename every staged file into place.
     pub fn commit(mut self) -> Result<()> {
         for (tmp, target) in &self.staged {
@@ -157,7 +162,8 @@ pub fn write_audit_report(dir: &Path, audit: &crate::audit::Audit) -> Result<()>
             || s.pitchers.iter().any(|p| p.pitcher == pitcher && (p.significant == Some(true) || !p.tells.is_empty()))
     };
     let mut st = Staging::new(dir);
-    // The charts and the page are drawn while the data files are formatted.
+    // The charts and the page are drawn while the data files are written
+    // (to a staging of their own, committed with the rest).
     let (drawn, data) = rayon::join(
         || -> Result<()> {
             let mut svgs = html::ChartSvgs::default();
@@ -174,16 +180,19 @@ pub fn write_audit_report(dir: &Path, audit: &crate::audit::Audit) -> Result<()>
             svgs.omitted = ok > INLINE_ALL_CHARTS_UP_TO;
             st.add("index.html", html::render(s, &audit.tests, &svgs, &stems)?.as_bytes())
         },
-        || -> Result<(String, Vec<u8>, Vec<u8>)> {
-            Ok((json::summary_json(s)?, csv::counts_csv(s)?, csv::rejected_csv(&audit.rejected)?))
+        || -> Result<Staging> {
+            let mut data = Staging::new(dir);
+            data.add("summary.json", json::summary_json(s)?.as_bytes())?;
+            data.add_with("tells.csv", |w| csv::write_tells_csv(&audit.tests, w))?;
+            data.add("counts.csv", &csv::counts_csv(s)?)?;
+            data.add("rejected.csv", &csv::rejected_csv(&audit.rejected)?)?;
+            Ok(data)
         },
     );
+    // Both stagings clean up after themselves if either failed.
+    let data = data?;
     drawn?;
-    let (summary, counts, rejected) = data?;
-    st.add("summary.json", summary.as_bytes())?;
-    st.add_with("tells.csv", |w| csv::write_tells_csv(&audit.tests, w))?;
-    st.add("counts.csv", &counts)?;
-    st.add("rejected.csv", &rejected)?;
+    st.absorb(data);
     st.commit()
 }
 
