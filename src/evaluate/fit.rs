@@ -138,22 +138,26 @@ pub fn fit_and_score(
         if fold.test.is_empty() {
             continue;
         }
-        let usage = UsagePrior::fit(&fold.train, labels, k);
-        let mix = &usage.probs;
-        // Counted per game fold; the training totals are their sums.
+        // Counted per game fold; the training totals are their sums. The
+        // same pass gathers the training labels for the tree.
         ws.count_oof.iter_mut().for_each(GroupCounts::clear);
         ws.batter_oof.iter_mut().for_each(GroupCounts::clear);
+        ws.train_labels.clear();
         for &r in &fold.train {
             let r = r as usize;
-            let y = labels[r] as usize;
+            let y = labels[r];
             let o = task.oof[r] as usize;
-            ws.count_oof[o].add_count(task.count[r] as usize, y);
-            ws.batter_oof[o].add_count(task.batter[r] as usize, y);
+            ws.count_oof[o].add_count(task.count[r] as usize, y as usize);
+            ws.batter_oof[o].add_count(task.batter[r] as usize, y as usize);
+            ws.train_labels.push(y);
         }
         ws.count_oof.iter_mut().for_each(GroupCounts::fill_totals);
         ws.batter_oof.iter_mut().for_each(GroupCounts::fill_totals);
         ws.count_all.set_sum(&ws.count_oof);
         ws.batter_all.set_sum(&ws.batter_oof);
+        // His usage on the training rows: the count table's class sums.
+        let usage = UsagePrior::from_counts(ws.count_all.class_totals());
+        let mix = &usage.probs;
         let s_count = priors::strength(&ws.count_all, mix, settings.prior_strength);
         let s_batter = priors::strength(&ws.batter_all, mix, settings.prior_strength);
         // Prior features: out-of-fold for training rows, full training
@@ -232,8 +236,6 @@ pub fn fit_and_score(
                 }
             }
         }
-        ws.train_labels.clear();
-        ws.train_labels.extend(fold.train.iter().map(|&r| labels[r as usize]));
         let learner = match &mut ws.trees[fi] {
             Some(t) => {
                 let (train, test) = ws.row_slots[fi].split_at(n_train);

@@ -401,12 +401,15 @@ impl FastTreeWorkspace {
     pub fn fit(&mut self, labels: &[u8], n_classes: usize) -> Tree {
         let n = self.rows.len();
         assert_eq!(labels.len(), n, "one label per training row");
-        assert!(
-            labels.iter().all(|&l| (l as usize) < n_classes),
-            "labels must be below n_classes = {n_classes}"
-        );
+        // One pass copies the labels, counts the classes and checks them.
         self.labels.clear();
         self.labels.extend_from_slice(labels);
+        let mut counts = vec![0u32; n_classes.max(256)];
+        for &l in labels {
+            counts[l as usize] += 1;
+        }
+        assert!(counts[n_classes..].iter().all(|&c| c == 0), "labels must be below n_classes = {n_classes}");
+        counts.truncate(n_classes);
         self.n_classes = n_classes;
         self.idx.clear();
         self.idx.extend(0..n as u32);
@@ -423,10 +426,6 @@ impl FastTreeWorkspace {
         self.scored_leaf.clear();
         self.scored_leaf.resize(m, 0);
 
-        let mut counts = vec![0u32; n_classes];
-        for &l in labels {
-            counts[l as usize] += 1;
-        }
         let mut nodes = Vec::new();
         if self.splittable(n, 0, &counts) {
             self.ensure_slot(0);
@@ -600,17 +599,33 @@ impl FastTreeWorkspace {
         let mut columns = std::mem::take(&mut self.wide_columns);
         columns.clear();
         columns.extend(self.wide.iter().zip(base).map(|(&f, &b)| (f * n, b)));
-        for &p in &self.idx[lo..hi] {
+        // The checks the loop below relies on, once per call: every row
+        // index is below n, every label below the class count, and the
+        // buffers have a stride (or histogram) per row and class.
+        let (idx, labels, packed, codes) = (&self.idx[lo..hi], &self.labels[..n], &self.packed[..n * s], &self.codes[..]);
+        assert!(acc.len() >= self.n_classes * s && hist.len() >= self.n_classes * h);
+        assert!(columns.iter().all(|&(col, _)| col + n <= codes.len()));
+        for &p in idx {
             let p = p as usize;
-            let l = self.labels[p] as usize;
-            let row = &self.packed[p * s..(p + 1) * s];
-            let a = &mut acc[l * s..(l + 1) * s];
-            for (a, &b) in a.iter_mut().zip(row) {
-                *a += SPREAD[b as usize];
-            }
-            let hist_l = &mut hist[l * h..(l + 1) * h];
-            for &(col, b) in &columns {
-                hist_l[b + self.codes[col + p] as usize] += 1;
+            assert!(p < n);
+            // SAFETY (all unchecked reads below): p < n (checked), labels
+            // are below the class count (checked by `fit`), so the slices
+            // are in range by the asserts above; a wide feature's histogram
+            // has a slot for every code up to its largest present code
+            // (`layout_hist`) and every training row's code is present.
+            unsafe {
+                let l = *labels.get_unchecked(p) as usize;
+                let row = packed.get_unchecked(p * s..(p + 1) * s);
+                let a = acc.get_unchecked_mut(l * s..(l + 1) * s);
+                for (a, &b) in a.iter_mut().zip(row) {
+                    *a += SPREAD[b as usize];
+                }
+                let hist_l = hist.get_unchecked_mut(l * h..(l + 1) * h);
+                for &(col, b) in &columns {
+                    let slot = b + *codes.get_unchecked(col + p) as usize;
+                    debug_assert!(slot < hist_l.len());
+                    *hist_l.get_unchecked_mut(slot) += 1;
+                }
             }
             since_flush += 1;
             // A byte lane holds at most 255.
@@ -898,15 +913,20 @@ fn partition_stably(
     mut side: impl FnMut(u32, bool),
 ) -> usize {
     let spill = &mut spill[..hi - lo];
+    assert!(hi <= idx.len());
     let (mut w, mut spilled) = (lo, 0);
     for i in lo..hi {
-        let p = idx[i];
-        let goes_left = (col[p as usize] <= threshold) as usize;
-        idx[w] = p;
-        spill[spilled] = p; // spilled <= i - lo
-        w += goes_left;
-        spilled += 1 - goes_left;
-        side(p, goes_left == 1);
+        // SAFETY: lo <= w <= i < hi <= idx.len() and spilled <= i - lo <
+        // spill.len(), by counting; i is in range by the loop.
+        unsafe {
+            let p = *idx.get_unchecked(i);
+            let goes_left = (col[p as usize] <= threshold) as usize;
+            *idx.get_unchecked_mut(w) = p;
+            *spill.get_unchecked_mut(spilled) = p;
+            w += goes_left;
+            spilled += 1 - goes_left;
+            side(p, goes_left == 1);
+        }
     }
     idx[w..hi].copy_from_slice(&spill[..spilled]);
     w

@@ -86,6 +86,17 @@ impl GroupCounts {
         }
     }
 
+    /// Pitches of each class over all groups.
+    pub fn class_totals(&self) -> Vec<u32> {
+        let mut t = vec![0u32; self.n_classes];
+        for row in self.counts.chunks_exact(self.n_classes) {
+            for (a, &b) in t.iter_mut().zip(row) {
+                *a += b;
+            }
+        }
+        t
+    }
+
     /// Sets this table to the sum of `parts` (tables of the same shape).
     pub fn set_sum(&mut self, parts: &[GroupCounts]) {
         self.clear();
