@@ -64,6 +64,9 @@ pub struct Workspace {
     /// some row uses.
     used_entries: Vec<(Vec<u32>, Vec<u32>)>,
     train_labels: Vec<u8>,
+    /// Training counts of every game fold, `(fold · groups + group) · k + class`.
+    flat_count: Vec<u32>,
+    flat_batter: Vec<u32>,
     parent: Vec<usize>,
     grown_p: Vec<f64>,
     log_p: Vec<f64>,
@@ -92,6 +95,8 @@ impl Workspace {
             row_slots: vec![Vec::new(); task.folds.len()],
             used_entries: vec![(Vec::new(), Vec::new()); task.folds.len()],
             train_labels: Vec::new(),
+            flat_count: Vec::new(),
+            flat_batter: Vec::new(),
             parent: Vec::new(),
             grown_p: Vec::new(),
             log_p: Vec::new(),
@@ -138,33 +143,6 @@ pub fn fit_and_score(
         if fold.test.is_empty() {
             continue;
         }
-        // Counted per game fold; the training totals are their sums. The
-        // same pass gathers the training labels for the tree.
-        ws.count_oof.iter_mut().for_each(GroupCounts::clear);
-        ws.batter_oof.iter_mut().for_each(GroupCounts::clear);
-        ws.train_labels.clear();
-        for &r in &fold.train {
-            let r = r as usize;
-            let y = labels[r];
-            let o = task.oof[r] as usize;
-            ws.count_oof[o].add_count(task.count[r] as usize, y as usize);
-            ws.batter_oof[o].add_count(task.batter[r] as usize, y as usize);
-            ws.train_labels.push(y);
-        }
-        ws.count_oof.iter_mut().for_each(GroupCounts::fill_totals);
-        ws.batter_oof.iter_mut().for_each(GroupCounts::fill_totals);
-        ws.count_all.set_sum(&ws.count_oof);
-        ws.batter_all.set_sum(&ws.batter_oof);
-        // His usage on the training rows: the count table's class sums.
-        let usage = UsagePrior::from_counts(ws.count_all.class_totals());
-        let mix = &usage.probs;
-        let s_count = priors::strength(&ws.count_all, mix, settings.prior_strength);
-        let s_batter = priors::strength(&ws.batter_all, mix, settings.prior_strength);
-        // Prior features: out-of-fold for training rows, full training
-        // counts for scored rows (they are never in the training counts).
-        // A feature's code depends only on (fold part, group, class), so the
-        // codes are tabled per group first and rows only look them up.
-        let n_rows = task.x.n_rows;
         let parts = OOF_FOLDS + 1; // the OOF parts, then "all training rows"
         let (gc, gb) = (ws.count_all.n_groups, ws.batter_all.n_groups);
         // Each row's place in the two code tables depends only on its game
@@ -188,6 +166,39 @@ pub fn fit_and_score(
             ws.used_entries[fi] = (used(&|s| s.1, gc), used(&|s| s.2, gb));
             ws.row_slots[fi] = slots;
         }
+        // Counted per game fold; the training totals are their sums. A
+        // training row's table place is also its place in the flat counts
+        // of all game folds. The same pass gathers the labels for the tree.
+        let n_train = fold.train.len();
+        ws.train_labels.clear();
+        ws.flat_count.clear();
+        ws.flat_count.resize(OOF_FOLDS * gc * k, 0);
+        ws.flat_batter.clear();
+        ws.flat_batter.resize(OOF_FOLDS * gb * k, 0);
+        for &(r, cb, bb) in &ws.row_slots[fi][..n_train] {
+            let y = labels[r as usize];
+            ws.flat_count[cb as usize + y as usize] += 1;
+            ws.flat_batter[bb as usize + y as usize] += 1;
+            ws.train_labels.push(y);
+        }
+        for (o, (c, b)) in ws.count_oof.iter_mut().zip(&mut ws.batter_oof).enumerate() {
+            c.counts.copy_from_slice(&ws.flat_count[o * gc * k..(o + 1) * gc * k]);
+            b.counts.copy_from_slice(&ws.flat_batter[o * gb * k..(o + 1) * gb * k]);
+            c.fill_totals();
+            b.fill_totals();
+        }
+        ws.count_all.set_sum(&ws.count_oof);
+        ws.batter_all.set_sum(&ws.batter_oof);
+        // His usage on the training rows: the count table's class sums.
+        let usage = UsagePrior::from_counts(ws.count_all.class_totals());
+        let mix = &usage.probs;
+        let s_count = priors::strength(&ws.count_all, mix, settings.prior_strength);
+        let s_batter = priors::strength(&ws.batter_all, mix, settings.prior_strength);
+        // Prior features: out-of-fold for training rows, full training
+        // counts for scored rows (they are never in the training counts).
+        // A feature's code depends only on (fold part, group, class), so the
+        // codes are tabled per group first and rows only look them up.
+        let n_rows = task.x.n_rows;
         // Prior features: out-of-fold for training rows, full training
         // counts for scored rows (they are never in the training counts).
         // A feature's code depends only on (fold part, group, class), so the
@@ -221,7 +232,6 @@ pub fn fit_and_score(
         // held-out rows), except on a workspace's first fit, which prepares
         // the learner from the matrix, and on the observed fit, whose checks
         // below read the matrix.
-        let n_train = fold.train.len();
         let (cc, bc) = (&ws.count_codes, &ws.batter_codes);
         if ws.trees[fi].is_none() || keep_trees {
             let codes = &mut ws.x.codes;
@@ -294,6 +304,8 @@ pub fn fit_and_score(
             ws.flat.leaves(&ws.x, &fold.test, &mut ws.leaves);
             assert_eq!(ws.leaves, leaves, "held-out leaves from growing disagree with the tree");
         }
+        // The sums run in locals (row order, on from the earlier folds').
+        let mut t = out.totals;
         for (&r, &g) in fold.test.iter().zip(leaves) {
             let g = g as usize;
             let y = labels[r as usize] as usize;
@@ -302,7 +314,6 @@ pub fn fit_and_score(
                 continue;
             }
             let leaf = ws.kept[g];
-            let t = &mut out.totals;
             t.n += 1;
             t.bits += ws.log_p[leaf * k + y] - lp[y];
             t.bits_grown += ws.log_p[g * k + y] - lp[y];
@@ -315,6 +326,7 @@ pub fn fit_and_score(
                 out.prior.extend_from_slice(mix);
             }
         }
+        out.totals = t;
         let tree = if keep_trees {
             if settings.split_alpha < 1.0 {
                 crate::model::prune::prune_fast(&grown, &mut ws.criticals, m).0
