@@ -265,13 +265,9 @@ pub fn fit_and_score(
         let leaves = learner.scored_leaves();
         // Pruning is read off the grown tree: each grown node's kept node
         // (a kept node's smoothed probabilities are the same on either tree).
-        // Candidate splits among the prior features: distinct codes over
-        // training rows, read off the code tables (a training row with game
-        // fold o in group g uses entry (o, g); it exists when that fold has
-        // training pitches in g), which equals counting over the rows.
-        let m = ws.situational_candidates[fi]
-            + table_candidates(&ws.count_codes, &ws.count_oof, k)
-            + table_candidates(&ws.batter_codes, &ws.batter_oof, k);
+        // Candidate splits among the prior features: one fewer than their
+        // distinct codes over the training rows, as the learner found them.
+        let m = ws.situational_candidates[fi] + ws.prior_features.iter().map(|&f| learner.cuts_of(f)).sum::<usize>();
         if keep_trees {
             // The observed fit checks the shortcut against the plain count.
             assert_eq!(
@@ -359,26 +355,6 @@ fn prior_codes(count_codes: &[u8], batter_codes: &[u8], k: usize, slots: &[(u32,
             dst[(k + cls) * n + i] = b[cls];
         }
     }
-}
-
-/// Distinct codes per class column among the table entries training rows
-/// use, minus one each: the candidate splits of those prior features.
-fn table_candidates(table: &[u8], oof: &[GroupCounts], k: usize) -> usize {
-    let mut total = 0;
-    for cls in 0..k {
-        let mut seen = [0u8; 256];
-        for (o, part) in oof.iter().enumerate() {
-            let g = part.n_groups;
-            for grp in 0..g {
-                if part.totals[grp] > 0 {
-                    seen[table[(o * g + grp) * k + cls] as usize] = 1;
-                }
-            }
-        }
-        let distinct: usize = seen.iter().map(|&b| b as usize).sum();
-        total += distinct.saturating_sub(1);
-    }
-    total
 }
 
 /// Class probabilities of every node, each node's counts pulled toward its

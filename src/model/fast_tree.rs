@@ -376,6 +376,12 @@ impl FastTreeWorkspace {
         fill(&self.scored_rows, &mut self.scored_codes[features.start * m..features.end * m]);
     }
 
+    /// Thresholds feature `f` offers on the training rows: one fewer than
+    /// its distinct codes there.
+    pub fn cuts_of(&self, f: usize) -> usize {
+        self.cuts[f].n_cuts()
+    }
+
     /// The leaf (node index of the last fitted tree) of each scored row, in
     /// the order given to [`Self::prepare_scored`].
     pub fn scored_leaves(&self) -> &[u32] {
