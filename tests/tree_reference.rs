@@ -737,6 +737,51 @@ fn scored_leaves_equal_walking_the_tree() {
     }
 }
 
+/// Scored rows whose codes of some features are read through a key table
+/// (`set_scored_keys`) end in the leaves of walking the tree with those
+/// codes written out in the matrix, round after round of new tables.
+#[test]
+fn scored_keys_give_the_leaves_of_the_written_codes() {
+    let mut rng = ChaCha8Rng::seed_from_u64(91);
+    let (n, nf, n_keys) = (600usize, 9usize, 40usize);
+    let mut x = FeatureMatrix::new(n, (0..nf).map(|f| format!("f{f}")).collect());
+    for f in 0..nf {
+        for r in 0..n {
+            x.set(r, f, if f < 6 { rng.random_range(0..=1u8) } else { rng.random_range(0..=20u8) });
+        }
+    }
+    let train: Vec<u32> = (0..n as u32).filter(|r| r % 3 != 0).collect();
+    let scored: Vec<u32> = (0..n as u32).filter(|r| r % 3 == 0).collect();
+    let keys: Vec<u32> = scored.iter().map(|_| rng.random_range(0..n_keys as u32)).collect();
+    let s = TreeSettings { max_depth: 5, min_samples_leaf: 6, min_samples_split: 12, min_impurity_decrease: 0.0 };
+    for options in [GrowOptions::default(), GrowOptions { scan: ThresholdScan::EveryNode, prune: false }] {
+        let mut ws = FastTreeWorkspace::with_options(s, options);
+        ws.prepare(&x, &train);
+        ws.prepare_scored(&x, &scored);
+        let g = ws.set_scored_keys(6..nf, &keys, n_keys);
+        let mut split_on_keyed = false;
+        for round in 0..8 {
+            // New codes for every key; the matrix gets them written out.
+            let table: Vec<u8> = (0..n_keys * (nf - 6)).map(|_| rng.random_range(0..=20u8)).collect();
+            ws.scored_table(g).copy_from_slice(&table);
+            for (&r, &q) in scored.iter().zip(&keys) {
+                for f in 6..nf {
+                    x.set(r as usize, f, table[q as usize * (nf - 6) + f - 6]);
+                }
+            }
+            let labels: Vec<u8> = train
+                .iter()
+                .map(|&r| (x.get(r as usize, 6) / 7 + x.get(r as usize, 0) + rng.random_range(0..2u8)) % 3)
+                .collect();
+            let tree = ws.fit(&labels, 3);
+            split_on_keyed |= tree.nodes.iter().any(|nd| nd.split.is_some_and(|sp| sp.feature >= 6));
+            let walked: Vec<u32> = scored.iter().map(|&r| tree.leaf_of(&x, r as usize) as u32).collect();
+            assert_eq!(ws.scored_leaves(), &walked[..], "{options:?}, round {round}");
+        }
+        assert!(split_on_keyed, "some tree should split on a keyed feature");
+    }
+}
+
 // ---------- (b) against scikit-learn ----------
 
 #[derive(Deserialize)]

@@ -246,21 +246,28 @@ pub fn fit_and_score(
                 }
             }
         }
+        // The held-out rows' prior codes are read through the code tables
+        // themselves (a held-out row's key is its table entry).
+        let (train, test) = ws.row_slots[fi].split_at(n_train);
         let learner = match &mut ws.trees[fi] {
             Some(t) => {
-                let (train, test) = ws.row_slots[fi].split_at(n_train);
-                let priors = prior_col0..prior_col0 + 2 * k;
-                t.rewrite_features(priors.clone(), |_, dst| prior_codes(cc, bc, k, train, dst));
-                t.rewrite_scored_features(priors, |_, dst| prior_codes(cc, bc, k, test, dst));
+                t.rewrite_features(prior_col0..prior_col0 + 2 * k, |_, dst| prior_codes(cc, bc, k, train, dst));
                 t
             }
             slot @ None => {
                 let mut t = crate::model::fast_tree::FastTreeWorkspace::with_options(settings.tree, AuditTree::options());
                 t.prepare(&ws.x, &fold.train);
                 t.prepare_scored(&ws.x, &fold.test);
+                let keys = |at: fn(&(u32, u32, u32)) -> u32| test.iter().map(|s| at(s) / k as u32).collect::<Vec<u32>>();
+                let g = t.set_scored_keys(prior_col0..prior_col0 + k, &keys(|s| s.1), parts * gc);
+                debug_assert_eq!(g, 0);
+                let g = t.set_scored_keys(prior_col0 + k..prior_col0 + 2 * k, &keys(|s| s.2), parts * gb);
+                debug_assert_eq!(g, 1);
                 slot.insert(t)
             }
         };
+        learner.scored_table(0).copy_from_slice(cc);
+        learner.scored_table(1).copy_from_slice(bc);
         let grown = learner.fit(&ws.train_labels, k);
         let leaves = learner.scored_leaves();
         // Pruning is read off the grown tree: each grown node's kept node
@@ -341,10 +348,10 @@ pub fn fit_and_score(
     out
 }
 
-/// The prior features' codes of the rows at `slots` (row, count-table
-/// place, batter-table place) into `dst`: the `k` count-prior columns, then
-/// the `k` batter-prior columns, `slots.len()` codes each. One pass over the
-/// rows reads each row's two table entries once.
+/// The prior features' codes of the training rows at `slots` (row,
+/// count-table place, batter-table place) into `dst`: the `k` count-prior
+/// columns, then the `k` batter-prior columns, `slots.len()` codes each. One
+/// pass over the rows reads each row's two table entries once.
 fn prior_codes(count_codes: &[u8], batter_codes: &[u8], k: usize, slots: &[(u32, u32, u32)], dst: &mut [u8]) {
     let n = slots.len();
     for (i, s) in slots.iter().enumerate() {

@@ -167,6 +167,17 @@ impl FeatureCuts {
     }
 }
 
+/// Scored rows' codes of features `first..first + width` read through a
+/// table: feature `first + j` of scored row `i` has code
+/// `table[keys[i] * width + j]` (see [`FastTreeWorkspace::set_scored_keys`]).
+#[derive(Debug, Clone, Default)]
+struct ScoredKeys {
+    first: usize,
+    width: usize,
+    keys: Vec<u32>,
+    table: Vec<u8>,
+}
+
 /// Reusable state for fitting many trees on the same training rows of one
 /// feature matrix. See the module doc for the intended loop.
 #[derive(Debug, Clone)]
@@ -200,6 +211,7 @@ pub struct FastTreeWorkspace {
     scored_rows: Vec<u32>,
     /// `scored_codes[f * m + i]`: feature `f` of scored row `scored_rows[i]`.
     scored_codes: Vec<u8>,
+    scored_keyed: Vec<ScoredKeys>,
     sidx: Vec<u32>,
     sspill: Vec<u32>,
     scored_leaf: Vec<u32>,
@@ -242,6 +254,7 @@ impl FastTreeWorkspace {
             wide_columns: Vec::new(),
             scored_rows: Vec::new(),
             scored_codes: Vec::new(),
+            scored_keyed: Vec::new(),
             sidx: Vec::new(),
             sspill: Vec::new(),
             scored_leaf: Vec::new(),
@@ -361,6 +374,7 @@ impl FastTreeWorkspace {
         self.scored_rows.extend_from_slice(rows);
         self.scored_codes.clear();
         self.scored_codes.resize(m * self.n_features, 0);
+        self.scored_keyed.clear();
         for f in 0..self.n_features {
             let col = x.column(f);
             for (d, &r) in self.scored_codes[f * m..(f + 1) * m].iter_mut().zip(rows) {
@@ -374,6 +388,31 @@ impl FastTreeWorkspace {
     pub fn rewrite_scored_features(&mut self, features: std::ops::Range<usize>, fill: impl FnOnce(&[u32], &mut [u8])) {
         let m = self.scored_rows.len();
         fill(&self.scored_rows, &mut self.scored_codes[features.start * m..features.end * m]);
+    }
+
+    /// From now on the scored rows' codes of `features` are read through a
+    /// table the caller writes with [`Self::scored_table`] before each fit:
+    /// feature `features.start + j` of scored row `i` has code
+    /// `table[keys[i] * features.len() + j]`. A refit whose scored codes are
+    /// a function of a few keys (a pitch's count or batter, say) then writes
+    /// the table instead of a code per row and feature. Returns the group's
+    /// number for `scored_table`. Call after `prepare_scored`.
+    pub fn set_scored_keys(&mut self, features: std::ops::Range<usize>, keys: &[u32], n_keys: usize) -> usize {
+        assert_eq!(keys.len(), self.scored_rows.len(), "one key per scored row");
+        assert!(keys.iter().all(|&q| (q as usize) < n_keys), "keys below n_keys");
+        assert!(features.end <= self.n_features);
+        self.scored_keyed.push(ScoredKeys {
+            first: features.start,
+            width: features.len(),
+            keys: keys.to_vec(),
+            table: vec![0; n_keys * features.len()],
+        });
+        self.scored_keyed.len() - 1
+    }
+
+    /// The code table of scored key group `group` (`n_keys × width` codes).
+    pub fn scored_table(&mut self, group: usize) -> &mut [u8] {
+        &mut self.scored_keyed[group].table
     }
 
     /// Thresholds feature `f` offers on the training rows: one fewer than
@@ -728,11 +767,11 @@ impl FastTreeWorkspace {
             let col = &self.codes[feature * n..(feature + 1) * n];
             let w = if self.options.scan == ThresholdScan::Linfa {
                 let node_id = &mut self.node_id;
-                partition_stably(&mut self.idx, &mut self.spill, (lo, hi), col, threshold, |p, left| {
+                partition_stably(&mut self.idx, &mut self.spill, (lo, hi), |p| col[p], threshold, |p, left| {
                     node_id[p as usize] = if left { left_id } else { right_id };
                 })
             } else {
-                partition_stably(&mut self.idx, &mut self.spill, (lo, hi), col, threshold, |_, _| {})
+                partition_stably(&mut self.idx, &mut self.spill, (lo, hi), |p| col[p], threshold, |_, _| {})
             };
             assert_eq!(w, mid, "the partition agrees with the cut's counts");
         }
@@ -799,8 +838,16 @@ impl FastTreeWorkspace {
     /// (`code <= threshold`) first. Returns where the right ones start.
     fn partition_scored(&mut self, range: (usize, usize), feature: usize, threshold: u8) -> usize {
         let m = self.scored_rows.len();
-        let col = &self.scored_codes[feature * m..(feature + 1) * m];
-        partition_stably(&mut self.sidx, &mut self.sspill, range, col, threshold, |_, _| {})
+        match self.scored_keyed.iter().find(|g| (g.first..g.first + g.width).contains(&feature)) {
+            Some(g) => {
+                let (keys, table, w, j) = (&g.keys, &g.table, g.width, feature - g.first);
+                partition_stably(&mut self.sidx, &mut self.sspill, range, |q| table[keys[q] as usize * w + j], threshold, |_, _| {})
+            }
+            None => {
+                let col = &self.scored_codes[feature * m..(feature + 1) * m];
+                partition_stably(&mut self.sidx, &mut self.sspill, range, |q| col[q], threshold, |_, _| {})
+            }
+        }
     }
 
     /// linfa's split choice for the node over `idx[lo..hi]` with sums in
@@ -906,7 +953,7 @@ impl FastTreeWorkspace {
     }
 }
 
-/// Splits `idx[lo..hi]` stably by `col[p] <= threshold` (left first, left
+/// Splits `idx[lo..hi]` stably by `code(p) <= threshold` (left first, left
 /// rows in place, right rows through `spill`), telling `side` each row's
 /// side; returns where the right rows start. Branch-free: the side of a row
 /// is as good as random.
@@ -914,7 +961,7 @@ fn partition_stably(
     idx: &mut [u32],
     spill: &mut [u32],
     (lo, hi): (usize, usize),
-    col: &[u8],
+    code: impl Fn(usize) -> u8,
     threshold: u8,
     mut side: impl FnMut(u32, bool),
 ) -> usize {
@@ -926,7 +973,7 @@ fn partition_stably(
         // spill.len(), by counting; i is in range by the loop.
         unsafe {
             let p = *idx.get_unchecked(i);
-            let goes_left = (col[p as usize] <= threshold) as usize;
+            let goes_left = (code(p as usize) <= threshold) as usize;
             *idx.get_unchecked_mut(w) = p;
             *spill.get_unchecked_mut(spilled) = p;
             w += goes_left;
