@@ -65,9 +65,17 @@ pub fn permuted_statistic(task: &PitcherTask, settings: &Settings, j: u64, ws: &
     statistic(&scored, settings.statistic)
 }
 
-/// Permutations are run in batches of this size in parallel, then read in
-/// order for the stopping rule.
+/// Permutations are run in parallel batches of at most this size, then read
+/// in order for the stopping rule.
 const BATCH: usize = 32;
+
+/// While a test could soon stop (in its first `2 · BATCH` permutations), a
+/// batch is only as large as the fewest permutations after which it could
+/// stop, but not below this: a pitcher with no tell stops after about
+/// twenty, so whole batches of 32 would mostly be thrown away. Which
+/// permutations are drawn, and so every result, does not depend on batch
+/// sizes (the stopping rule reads them in order).
+const MIN_BATCH: usize = 4;
 
 pub fn permutation_test(
     task: &PitcherTask,
@@ -84,7 +92,8 @@ pub fn permutation_test(
     let pool: Vec<std::sync::Mutex<Option<(Workspace, Vec<u8>)>>> =
         (0..rayon::current_num_threads().max(1)).map(|_| std::sync::Mutex::new(None)).collect();
     while start < m && !seq.is_done() {
-        let end = (start + BATCH).min(m);
+        let size = if start < 2 * BATCH { seq.fewest_left().clamp(MIN_BATCH, BATCH) } else { BATCH };
+        let end = (start + size).min(m);
         let stats: Vec<Stat> = (start..end)
             .into_par_iter()
             .map(|j| {

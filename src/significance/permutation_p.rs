@@ -91,6 +91,16 @@ impl SequentialPermutation {
         self.is_done()
     }
 
+    /// The fewest further permutations after which the test could be
+    /// finished: the exceedances still missing, or what is left of the
+    /// budget (0 once finished).
+    pub fn fewest_left(&self) -> usize {
+        if self.is_done() {
+            return 0;
+        }
+        (self.target_exceedances - self.exceedances).min(self.max_permutations - self.run)
+    }
+
     /// Whether no more permutations are needed.
     pub fn is_done(&self) -> bool {
         self.exceedances >= self.target_exceedances || self.run >= self.max_permutations
@@ -201,5 +211,24 @@ mod tests {
         assert!((s.p_value() - 2.0 / 5.0).abs() < 1e-15);
         assert!(s.push(100.0));
         assert_eq!(s.permutations_run(), 4);
+    }
+
+    #[test]
+    fn fewest_left_is_the_soonest_possible_stop() {
+        // h = 3: no stop before 3 exceedances; with 1 in, 2 more are needed.
+        let mut s = SequentialPermutation::new(1.0, 10, 3);
+        assert_eq!(s.fewest_left(), 3);
+        s.push(2.0);
+        s.push(0.0);
+        assert_eq!(s.fewest_left(), 2);
+        // Near the budget the budget decides: 8 run, 2 left.
+        for _ in 0..6 {
+            s.push(0.0);
+        }
+        assert_eq!(s.fewest_left(), 2);
+        s.push(0.0);
+        s.push(0.0);
+        assert!(s.is_done());
+        assert_eq!(s.fewest_left(), 0);
     }
 }
