@@ -377,8 +377,20 @@ fn mark_narrowings(tests: &mut [TellTest], min_effect: f64) {
 /// Flagged tells, strongest first: the most pitches given away, i.e. the
 /// shift times the pitches in the situation, (share − baseline) × n; then
 /// the smallest q.
-pub fn flagged_sorted<'a>(tests: &'a [TellTest], pitcher: &str) -> Vec<&'a TellTest> {
-    let mut v: Vec<&TellTest> = tests.iter().filter(|t| t.flagged && t.pitcher == pitcher).collect();
+/// Each pitcher's tests, in their order in `tests`: looked up once per
+/// pitcher instead of scanning a league's tests for each.
+pub fn by_pitcher(tests: &[TellTest]) -> std::collections::HashMap<&str, Vec<&TellTest>> {
+    let mut map: std::collections::HashMap<&str, Vec<&TellTest>> = std::collections::HashMap::new();
+    for t in tests {
+        map.entry(t.pitcher.as_str()).or_default().push(t);
+    }
+    map
+}
+
+/// A pitcher's flagged tells (from his own tests, see [`by_pitcher`]),
+/// largest effect first.
+pub fn flagged_sorted<'a>(his: &[&'a TellTest]) -> Vec<&'a TellTest> {
+    let mut v: Vec<&TellTest> = his.iter().copied().filter(|t| t.flagged).collect();
     v.sort_by(|a, b| {
         (b.effect() * b.n as f64)
             .partial_cmp(&(a.effect() * a.n as f64))

@@ -172,6 +172,7 @@ pub fn audit_log(
     timer.lap("permutation and tell tests");
     let model_q = fdr::bh_q_values(&perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
 
+    let tests_of = tells::by_pitcher(&tests);
     let mut pitchers = Vec::new();
     let mut ok_iter = 0usize;
     for task in &tasks {
@@ -225,8 +226,9 @@ pub fn audit_log(
         let test_mix = mix_of(names, task, &task.held_out);
         let usage = &o.scored.usage[o.scored.usage.len() - 1];
         let prior_pitch = names[task.class_types[usage.top] as usize].clone();
-        let flagged = tells::flagged_sorted(&tests, &task.name);
-        let counts = count_summaries(task, o, &tests, names, settings);
+        let his: &[&TellTest] = tests_of.get(task.name.as_str()).map_or(&[], |v| &v[..]);
+        let flagged = tells::flagged_sorted(his);
+        let counts = count_summaries(task, o, his, names, settings);
         let n_leaves = o.scored.trees.iter().map(|t| t.n_leaves()).max().unwrap_or(1);
         // Margin of bits gained under no situational signal: the expected
         // overfit of L leaves × (K − 1) free shares fitted on n training
@@ -309,7 +311,7 @@ pub fn audit_log(
             tells: flagged.into_iter().cloned().collect(),
             rules,
             n_unseen_type: Some(o.scored.unseen),
-            tell_family_q: tests.iter().find(|t| t.pitcher == task.name).map(|t| t.family_q),
+            tell_family_q: his.first().map(|t| t.family_q),
             cautions,
         });
     }
@@ -362,7 +364,7 @@ pub fn audit_log(
 fn count_summaries(
     task: &PitcherTask,
     o: &Observed,
-    tests: &[TellTest],
+    his_tests: &[&TellTest],
     names: &[String],
     settings: &Settings,
 ) -> Vec<CountSummary> {
@@ -387,9 +389,8 @@ fn count_summaries(
         let dt = argmax(&disc.iter().map(|&x| x as f64).collect::<Vec<_>>());
         let ci = wilson::wilson_95(held[ht] as u64, hn as u64);
         let dtop = names[task.class_types[dt] as usize].clone();
-        let test = tests.iter().find(|t| {
-            t.pitcher == task.name
-                && t.direction == Direction::More
+        let test = his_tests.iter().find(|t| {
+            t.direction == Direction::More
                 && t.pitch_type == dtop
                 && t.situation.len() == 1
                 && t.situation.get(&crate::situations::levels::Factor::Count).map(String::as_str) == Some(COUNTS[c])

@@ -106,9 +106,9 @@ fn p_text(p: f64) -> String {
 
 /// The mix of a pitcher's pitch types in a tell's situation, from the tell
 /// tests of that situation (every type he throws is tested there).
-pub fn situation_mix(all: &[TellTest], t: &TellTest) -> Vec<(String, f64)> {
+pub fn situation_mix(his: &[&TellTest], t: &TellTest) -> Vec<(String, f64)> {
     let mut mix: BTreeMap<String, f64> = BTreeMap::new();
-    for o in all.iter().filter(|o| o.pitcher == t.pitcher && o.situation == t.situation) {
+    for o in his.iter().filter(|o| o.pitcher == t.pitcher && o.situation == t.situation) {
         mix.insert(o.pitch_type.clone(), o.share);
     }
     mix.into_iter().collect()
@@ -127,6 +127,7 @@ pub fn per_season(t: &TellTest, discovery_seasons: usize) -> f64 {
 pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, stems: &BTreeMap<String, String>) -> Result<String> {
     let test_label = &summary.evaluation.tells_checked_on;
     let discovery_seasons = summary.input.seasons.len().saturating_sub(1).max(1);
+    let tests_of = crate::tells::by_pitcher(all_tests);
     let mut staff = Vec::new();
     let mut insufficient = Vec::new();
     for p in &summary.pitchers {
@@ -142,7 +143,10 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
         let (main, narrow): (Vec<&TellTest>, Vec<&TellTest>) = p.tells.iter().partition(|t| t.within.is_none());
         let advice = main
             .iter()
-            .map(|t| wording::advice(t, &situation_mix(all_tests, t), per_season(t, discovery_seasons)))
+            .map(|t| {
+                let his: &[&TellTest] = tests_of.get(t.pitcher.as_str()).map_or(&[], |v| &v[..]);
+                wording::advice(t, &situation_mix(his, t), per_season(t, discovery_seasons))
+            })
             .collect();
         let counts = p
             .counts
