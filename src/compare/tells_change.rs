@@ -136,11 +136,13 @@ pub fn changes(
     name: &str,
     rows_before: &[u32],
     rows_after: &[u32],
-    before: &[TellTest],
-    after: &[TellTest],
+    before: &[&TellTest],
+    after: &[&TellTest],
 ) -> Vec<TellChange> {
-    let mine = |v: &[TellTest]| -> BTreeMap<Key, TellTest> {
-        v.iter().filter(|t| t.pitcher == name).map(|t| (key(t), t.clone())).collect()
+    // His tests of each period (see tells::by_pitcher); the filter keeps
+    // the function right if given more.
+    let mine = |v: &[&TellTest]| -> BTreeMap<Key, TellTest> {
+        v.iter().filter(|t| t.pitcher == name).map(|t| (key(t), (*t).clone())).collect()
     };
     let (b, a) = (mine(before), mine(after));
     let main = |t: Option<&TellTest>| t.map(|t| t.flagged && t.within.is_none()).unwrap_or(false);
