@@ -675,6 +675,20 @@ fn refresh_features_matches_fresh_prepare() {
     }
 }
 
+/// `n` rows of `nf` features, six one-hot-like 0/1 columns then binned
+/// 0..=20 ones, with every third row set aside to be scored.
+fn binary_then_binned(rng: &mut ChaCha8Rng, n: usize, nf: usize) -> (FeatureMatrix, Vec<u32>, Vec<u32>) {
+    let mut x = FeatureMatrix::new(n, (0..nf).map(|f| format!("f{f}")).collect());
+    for f in 0..nf {
+        for r in 0..n {
+            x.set(r, f, if f < 6 { rng.random_range(0..=1u8) } else { rng.random_range(0..=20u8) });
+        }
+    }
+    let train: Vec<u32> = (0..n as u32).filter(|r| r % 3 != 0).collect();
+    let scored: Vec<u32> = (0..n as u32).filter(|r| r % 3 == 0).collect();
+    (x, train, scored)
+}
+
 /// The leaves the learner finds for the scored rows while growing (sending
 /// them down with the training rows) are those of walking each row down the
 /// finished tree (`Tree::leaf_of`), for both grow options (linfa's
@@ -684,14 +698,7 @@ fn refresh_features_matches_fresh_prepare() {
 fn scored_leaves_equal_walking_the_tree() {
     let mut rng = ChaCha8Rng::seed_from_u64(77);
     let (n, nf) = (500usize, 9usize);
-    let mut x = FeatureMatrix::new(n, (0..nf).map(|f| format!("f{f}")).collect());
-    for f in 0..nf {
-        for r in 0..n {
-            x.set(r, f, if f < 6 { rng.random_range(0..=1u8) } else { rng.random_range(0..=20u8) });
-        }
-    }
-    let train: Vec<u32> = (0..n as u32).filter(|r| r % 3 != 0).collect();
-    let scored: Vec<u32> = (0..n as u32).filter(|r| r % 3 == 0).collect();
+    let (mut x, train, scored) = binary_then_binned(&mut rng, n, nf);
     let s = TreeSettings { max_depth: 5, min_samples_leaf: 6, min_samples_split: 12, min_impurity_decrease: 0.0 };
     for options in [
         GrowOptions::default(),
@@ -744,14 +751,7 @@ fn scored_leaves_equal_walking_the_tree() {
 fn scored_keys_give_the_leaves_of_the_written_codes() {
     let mut rng = ChaCha8Rng::seed_from_u64(91);
     let (n, nf, n_keys) = (600usize, 9usize, 40usize);
-    let mut x = FeatureMatrix::new(n, (0..nf).map(|f| format!("f{f}")).collect());
-    for f in 0..nf {
-        for r in 0..n {
-            x.set(r, f, if f < 6 { rng.random_range(0..=1u8) } else { rng.random_range(0..=20u8) });
-        }
-    }
-    let train: Vec<u32> = (0..n as u32).filter(|r| r % 3 != 0).collect();
-    let scored: Vec<u32> = (0..n as u32).filter(|r| r % 3 == 0).collect();
+    let (mut x, train, scored) = binary_then_binned(&mut rng, n, nf);
     let keys: Vec<u32> = scored.iter().map(|_| rng.random_range(0..n_keys as u32)).collect();
     let s = TreeSettings { max_depth: 5, min_samples_leaf: 6, min_samples_split: 12, min_impurity_decrease: 0.0 };
     for options in [GrowOptions::default(), GrowOptions { scan: ThresholdScan::EveryNode, prune: false }] {
