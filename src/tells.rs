@@ -374,21 +374,28 @@ fn mark_narrowings(tests: &mut [TellTest], min_effect: f64) {
     }
 }
 
-/// Flagged tells, strongest first: the most pitches given away, i.e. the
-/// shift times the pitches in the situation, (share − baseline) × n; then
-/// the smallest q.
-/// Each pitcher's tests, in their order in `tests`: looked up once per
-/// pitcher instead of scanning a league's tests for each.
-pub fn by_pitcher(tests: &[TellTest]) -> std::collections::HashMap<&str, Vec<&TellTest>> {
-    let mut map: std::collections::HashMap<&str, Vec<&TellTest>> = std::collections::HashMap::new();
-    for t in tests {
-        map.entry(t.pitcher.as_str()).or_default().push(t);
+/// Each pitcher's tests, in their order in the list they came from, grouped
+/// once so that per-pitcher work never scans a league's tests for each.
+pub struct ByPitcher<'a>(std::collections::HashMap<&'a str, Vec<&'a TellTest>>);
+
+impl<'a> ByPitcher<'a> {
+    pub fn new(tests: &'a [TellTest]) -> Self {
+        let mut map: std::collections::HashMap<&str, Vec<&TellTest>> = std::collections::HashMap::new();
+        for t in tests {
+            map.entry(t.pitcher.as_str()).or_default().push(t);
+        }
+        ByPitcher(map)
     }
-    map
+
+    /// The tests of `pitcher` (none if he has none).
+    pub fn of(&self, pitcher: &str) -> &[&'a TellTest] {
+        self.0.get(pitcher).map_or(&[], |v| &v[..])
+    }
 }
 
-/// A pitcher's flagged tells (from his own tests, see [`by_pitcher`]),
-/// largest effect first.
+/// A pitcher's flagged tells (from his own tests, [`ByPitcher::of`]),
+/// strongest first: the most pitches given away, i.e. the shift times the
+/// pitches in the situation, (share − baseline) × n; then the smallest q.
 pub fn flagged_sorted<'a>(his: &[&'a TellTest]) -> Vec<&'a TellTest> {
     let mut v: Vec<&TellTest> = his.iter().copied().filter(|t| t.flagged).collect();
     v.sort_by(|a, b| {

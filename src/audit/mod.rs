@@ -172,7 +172,7 @@ pub fn audit_log(
     timer.lap("permutation and tell tests");
     let model_q = fdr::bh_q_values(&perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
 
-    let tests_of = tells::by_pitcher(&tests);
+    let tests_of = tells::ByPitcher::new(&tests);
     let mut pitchers = Vec::new();
     let mut ok_iter = 0usize;
     for task in &tasks {
@@ -226,7 +226,7 @@ pub fn audit_log(
         let test_mix = mix_of(names, task, &task.held_out);
         let usage = &o.scored.usage[o.scored.usage.len() - 1];
         let prior_pitch = names[task.class_types[usage.top] as usize].clone();
-        let his: &[&TellTest] = tests_of.get(task.name.as_str()).map_or(&[], |v| &v[..]);
+        let his = tests_of.of(&task.name);
         let flagged = tells::flagged_sorted(his);
         let counts = count_summaries(task, o, his, names, settings);
         let n_leaves = o.scored.trees.iter().map(|t| t.n_leaves()).max().unwrap_or(1);

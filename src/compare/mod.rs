@@ -436,7 +436,7 @@ pub fn compare_log(
     let tells_b = tells_change::period_tells(log, sit, &before.rows, &tasks_b, settings);
     let tells_a = tells_change::period_tells(log, sit, &after.rows, &tasks_a, settings);
     // Each pitcher's tests, looked up per pitcher below.
-    let (tells_b_of, tells_a_of) = (crate::tells::by_pitcher(&tells_b), crate::tells::by_pitcher(&tells_a));
+    let (tells_b_of, tells_a_of) = (crate::tells::ByPitcher::new(&tells_b), crate::tells::ByPitcher::new(&tells_a));
 
     // Every change of every pitcher, then one BH family.
     let mut pitchers: Vec<PitcherChanges> = Vec::new();
@@ -500,11 +500,7 @@ pub fn compare_log(
                 pc.permutations = Some(swap.permutations);
                 pc.p = Some(swap.p);
                 changes.push(pc);
-                let (his_b, his_a) = (
-                    tells_b_of.get(name.as_str()).map_or(&[][..], |v| &v[..]),
-                    tells_a_of.get(name.as_str()).map_or(&[][..], |v| &v[..]),
-                );
-                for t in tells_change::changes(log, sit, &name, &rows[0], &rows[1], his_b, his_a) {
+                for t in tells_change::changes(log, sit, &name, &rows[0], &rows[1], tells_b_of.of(&name), tells_a_of.of(&name)) {
                     changes.push(tell_change(&t));
                 }
                 let mut cautions = Vec::new();

@@ -139,7 +139,7 @@ pub fn changes(
     before: &[&TellTest],
     after: &[&TellTest],
 ) -> Vec<TellChange> {
-    // His tests of each period (see tells::by_pitcher); the filter keeps
+    // His tests of each period (tells::ByPitcher::of); the filter keeps
     // the function right if given more.
     let mine = |v: &[&TellTest]| -> BTreeMap<Key, TellTest> {
         v.iter().filter(|t| t.pitcher == name).map(|t| (key(t), (*t).clone())).collect()

@@ -127,7 +127,7 @@ pub fn per_season(t: &TellTest, discovery_seasons: usize) -> f64 {
 pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, stems: &BTreeMap<String, String>) -> Result<String> {
     let test_label = &summary.evaluation.tells_checked_on;
     let discovery_seasons = summary.input.seasons.len().saturating_sub(1).max(1);
-    let tests_of = crate::tells::by_pitcher(all_tests);
+    let tests_of = crate::tells::ByPitcher::new(all_tests);
     let mut staff = Vec::new();
     let mut insufficient = Vec::new();
     for p in &summary.pitchers {
@@ -143,10 +143,7 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
         let (main, narrow): (Vec<&TellTest>, Vec<&TellTest>) = p.tells.iter().partition(|t| t.within.is_none());
         let advice = main
             .iter()
-            .map(|t| {
-                let his: &[&TellTest] = tests_of.get(t.pitcher.as_str()).map_or(&[], |v| &v[..]);
-                wording::advice(t, &situation_mix(his, t), per_season(t, discovery_seasons))
-            })
+            .map(|t| wording::advice(t, &situation_mix(tests_of.of(&t.pitcher), t), per_season(t, discovery_seasons)))
             .collect();
         let counts = p
             .counts
