@@ -194,10 +194,6 @@ pub fn fit_and_score(
         let mix = &usage.probs;
         let s_count = priors::strength(&ws.count_all, mix, settings.prior_strength);
         let s_batter = priors::strength(&ws.batter_all, mix, settings.prior_strength);
-        // Prior features: out-of-fold for training rows, full training
-        // counts for scored rows (they are never in the training counts).
-        // A feature's code depends only on (fold part, group, class), so the
-        // codes are tabled per group first and rows only look them up.
         let n_rows = task.x.n_rows;
         // Prior features: out-of-fold for training rows, full training
         // counts for scored rows (they are never in the training counts).

@@ -117,16 +117,6 @@ impl TextColumn {
         let c = self.codes.get(row);
         (c != NULL_CODE).then_some(c as usize)
     }
-
-    #[inline]
-    pub fn get(&self, row: usize) -> Option<&str> {
-        let c = self.codes.get(row);
-        if c == NULL_CODE {
-            None
-        } else {
-            Some(&self.dict[c as usize])
-        }
-    }
 }
 
 /// Text columns read from a file, by the file's own header names.

@@ -32,7 +32,9 @@
 //! (the held-out pitches) can be registered with
 //! [`FastTreeWorkspace::prepare_scored`]: they are sent down with the
 //! training rows as the tree grows, and their leaves read off
-//! [`FastTreeWorkspace::scored_leaves`]. Nothing is sorted and, after the
+//! [`FastTreeWorkspace::scored_leaves`]; features of theirs that are a
+//! function of a few keys can be read through a table instead
+//! ([`FastTreeWorkspace::set_scored_keys`]). Nothing is sorted and, after the
 //! first fit, nothing but the returned [`Tree`] is allocated.
 //!
 //! # Same tree as linfa

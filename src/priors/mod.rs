@@ -37,14 +37,6 @@ impl UsagePrior {
         }
         UsagePrior { counts, probs, top }
     }
-
-    pub fn fit(rows: &[u32], labels: &[u8], n_classes: usize) -> UsagePrior {
-        let mut counts = vec![0u32; n_classes];
-        for &r in rows {
-            counts[labels[r as usize] as usize] += 1;
-        }
-        UsagePrior::from_counts(counts)
-    }
 }
 
 /// Per-group counts of pitch types, `counts[g * k + class]`.
@@ -70,13 +62,6 @@ impl GroupCounts {
     pub fn add(&mut self, group: usize, class: usize) {
         self.counts[group * self.n_classes + class] += 1;
         self.totals[group] += 1;
-    }
-
-    /// Counts one pitch without its group total; call [`Self::fill_totals`]
-    /// once all are counted.
-    #[inline]
-    pub fn add_count(&mut self, group: usize, class: usize) {
-        self.counts[group * self.n_classes + class] += 1;
     }
 
     /// Sets each group's total from its class counts.
