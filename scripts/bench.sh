@@ -2,6 +2,7 @@
 # Benchmarks of the audit. Prints figures; asserts nothing.
 #   scripts/bench.sh            demo staff and a staff 10x larger
 #   scripts/bench.sh league     also the league-scale log (768 pitchers, 1.6M pitches)
+#   scripts/bench.sh realistic  also the realistic league (32 clubs, ~1,400 pitchers, 1.5M pitches)
 #   scripts/bench.sh ingest     also a 10-million-row CSV ingest
 set -euo pipefail
 cd "$(dirname "$0")/.."
@@ -57,6 +58,13 @@ if [ "${1:-}" = "league" ] || [ "${1:-}" = "all" ]; then
         "$BIN" simulate tests/fixtures/scenarios/league.toml --out "$WORK/league.csv" --seed 1 > /dev/null
     fi
     run league audit "$WORK/league.csv" --permutations 999
+fi
+
+if [ "${1:-}" = "realistic" ] || [ "${1:-}" = "all" ]; then
+    if [ ! -f "$WORK/realistic-league.csv" ]; then
+        "$BIN" simulate tests/fixtures/scenarios/realistic_league.toml --out "$WORK/realistic-league.csv" --seed 1 > /dev/null
+    fi
+    run realistic-league audit "$WORK/realistic-league.csv" --permutations 999
 fi
 
 if [ "${1:-}" = "ingest" ] || [ "${1:-}" = "all" ]; then

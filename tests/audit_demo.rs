@@ -1,5 +1,5 @@
 //! The audit on the demo log against the demo's answer key
-//! (demo-data/README.md), and the audit's reproducibility and honesty
+//! (tests/fixtures/plain-staff/README.md), and the audit's reproducibility and honesty
 //! guarantees: no leakage from held-out labels, byte-identical output for the
 //! same seed at any thread count.
 
@@ -11,7 +11,7 @@ use tellscope::situations::levels::Factor;
 use tellscope::tells::Direction;
 
 fn demo_log() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv")
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/plain-staff/demo-log.csv")
 }
 
 fn settings(permutations: usize) -> Settings {

@@ -1,4 +1,4 @@
-//! `compare` on the demo log against its answer key (demo-data/README.md,
+//! `compare` on the demo log against its answer key (tests/fixtures/plain-staff/README.md,
 //! "Changes between seasons"): the planted new pitch and the planted mix
 //! shift are found, nobody else changes at the report's false discovery
 //! rate; the report's files agree with summary.json; same seed, same bytes
@@ -15,7 +15,7 @@ use tellscope::compare::{self, Comparison, Request};
 use tellscope::settings::{ConfigFile, Overrides, Settings};
 
 fn demo_log() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv")
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/plain-staff/demo-log.csv")
 }
 
 fn settings(permutations: usize) -> Settings {
@@ -247,7 +247,7 @@ fn pitchers_too_small_in_a_period_are_insufficient_data() {
 fn more_than_two_seasons_give_predictability_per_season() {
     // The demo scenario with a 2024 season in front.
     let root = Path::new(env!("CARGO_MANIFEST_DIR"));
-    let text = std::fs::read_to_string(root.join("demo-data/scenario.toml")).unwrap();
+    let text = std::fs::read_to_string(root.join("tests/fixtures/plain-staff/scenario.toml")).unwrap();
     let text = text.replacen("[[season]]", "[[season]]\nyear = 2024\ngames = 130\nstart = \"2024-04-04\"\n\n[[season]]", 1);
     let scenario = tellscope::simulate::Scenario::from_toml_str(&text).unwrap();
     let sim = tellscope::simulate::simulate(&scenario, 7);

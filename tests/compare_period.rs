@@ -8,7 +8,7 @@ use tellscope::compare::period::{resolve, PeriodSpec};
 use tellscope::settings::{ConfigFile, Overrides, Settings};
 
 fn demo_log() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv")
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/plain-staff/demo-log.csv")
 }
 
 fn log() -> tellscope::ingest::PitchLog {
@@ -20,7 +20,7 @@ fn log() -> tellscope::ingest::PitchLog {
 fn seasons_and_ranges_select_the_right_pitches() {
     let log = log();
     let (b, a) = resolve(&log, &PeriodSpec::Season(2025), &PeriodSpec::Season(2026)).unwrap();
-    // demo-data/README.md: 130 games a season, 19,628 and 19,796 pitches.
+    // tests/fixtures/plain-staff/README.md: 130 games a season, 19,628 and 19,796 pitches.
     assert_eq!((b.games, b.pitches, a.games, a.pitches), (130, 19_628, 130, 19_796));
     assert_eq!((b.label.as_str(), a.label.as_str()), ("2025", "2026"));
     // Both ends of a range are included: the first game of 2025 is on

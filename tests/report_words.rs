@@ -29,7 +29,7 @@ fn text_of(html: &str) -> String {
 #[test]
 fn tell_sentences_carry_the_summary_numbers() {
     let s = Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(49), ..Overrides::default() }).unwrap();
-    let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv");
+    let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/plain-staff/demo-log.csv");
     let a = audit::run(&log, &s, false).unwrap();
     let dir = std::env::temp_dir().join(format!("tellscope-words-{}", std::process::id()));
     tellscope::report::write_audit_report(&dir, &a).unwrap();

@@ -1,6 +1,10 @@
 //! Facts the simulator must honour: the planted truth shows in the log at
 //! its planted rate, a pitcher with no rule is a true null, the game looks
-//! like baseball, and the same seed gives the same log.
+//! like baseball, and the same seed gives the same log. The plain staff of
+//! the first release (tests/fixtures/plain-staff, no shared habits) is the
+//! null world; the realistic demo club (demo-data) and the realistic league
+//! (tests/fixtures/scenarios/realistic_league.toml) must look like a real
+//! club's and a real league's logs (the bands at the end of this file).
 //!
 //! Situation levels are recomputed here from the log's own columns (count,
 //! bases, outs, the previous pitch of the plate appearance, this batter's
@@ -19,6 +23,9 @@ use tellscope::situations::levels::{
 /// The demo's seed, as `tellscope demo` uses it (src/cli/demo.rs, demo-data/README.md).
 const DEMO_SEED: u64 = 2026;
 
+/// The plain staff of the first release: every pitch drawn from the mix or
+/// a rule, no shared habits (tests/fixtures/plain-staff/README.md).
+
 fn read(path: &str) -> String {
     std::fs::read_to_string(path).unwrap_or_else(|e| panic!("{path}: {e}"))
 }
@@ -28,9 +35,9 @@ fn demo_scenario() -> &'static Scenario {
     S.get_or_init(|| {
         Scenario::from_toml_str(&read(concat!(
             env!("CARGO_MANIFEST_DIR"),
-            "/demo-data/scenario.toml"
+            "/tests/fixtures/plain-staff/scenario.toml"
         )))
-        .expect("the demo scenario is valid")
+        .expect("the plain staff scenario is valid")
     })
 }
 
@@ -464,6 +471,11 @@ fn chi_square(log: &SimLog, lv: &[[String; 9]], rows: &[usize], factor: Factor) 
     (stat, df)
 }
 
+/// Upper 0.99 quantile of chi-square with df = 1..10:
+/// `[round(float(scipy.stats.chi2.ppf(0.99, d)), 3) for d in range(1, 11)]`
+/// (scipy 1.17.1, recomputed with the script's environment).
+const CHI2_99: [f64; 10] = [6.635, 9.21, 11.345, 13.277, 15.086, 16.812, 18.475, 20.09, 21.666, 23.209];
+
 const NULL_FACTORS: [Factor; 8] = [
     Factor::Count,
     Factor::Platoon,
@@ -726,7 +738,45 @@ fn thread_count_does_not_change_the_log() {
     assert_eq!(one.games.len(), 6 * 24);
     assert_eq!(one, run(2));
     assert_eq!(one, run(5));
+    // With every kind of churn and the shared habits.
+    let churned = Scenario::from_toml_str(&format!(
+        "{}\narsenal = \"full\"\nturnover = 0.3\ntrades = 0.2\ncall_ups = 2\ninjuries = 0.3\nadds = 0.3\ndrops = 0.2\ndrift = 0.2\n[habits]\n",
+        REALISTIC_HEAD
+    ))
+    .unwrap();
+    let run = |threads| {
+        rayon::ThreadPoolBuilder::new()
+            .num_threads(threads)
+            .build()
+            .unwrap()
+            .install(|| simulate(&churned, 9))
+    };
+    let one = run(1);
+    assert_eq!(one, run(2));
+    assert_eq!(one, run(5));
 }
+
+const REALISTIC_HEAD: &str = r#"
+[club]
+name = "Churn Check"
+[[season]]
+year = 2025
+games = 30
+start = "2025-04-03"
+[[season]]
+year = 2026
+games = 30
+start = "2026-04-03"
+[batters]
+pool = 120
+left = 0.4
+right = 0.5
+switch = 0.1
+[league]
+teams = 6
+starters = 5
+relievers = 8
+planted_share = 0.5"#;
 
 #[test]
 fn the_first_listed_rule_wins() {
@@ -900,6 +950,27 @@ fn errors_name_the_pitcher_and_the_key() {
     // A club without a starter cannot field a rotation.
     let e = error_of(HEAD);
     assert!(e.contains("starter"), "{e}");
+
+    // The keys of the realistic world.
+    let e = error_of(&with_pitcher("seasons = [2027]\n"));
+    assert!(e.contains("Ace Testa") && e.contains("2027"), "{e}");
+    let e = error_of(&with_pitcher("joins = \"2025-04-31\"\n"));
+    assert!(e.contains("Ace Testa") && e.contains("joins") && e.contains("YYYY-MM-DD"), "{e}");
+    // The only starter leaves after the first game: games without a starter.
+    let e = error_of(&with_pitcher("leaves = \"2025-04-03\"\n"));
+    assert!(e.contains("no starter") && e.contains("2025-04-04"), "{e}");
+    let e = error_of(&with_pitcher("[[pitcher.change]]\nseason = 2025\ndrop = [\"cutter\"]\n"));
+    assert!(e.contains("Ace Testa") && e.contains("cutter"), "{e}");
+    let e = error_of(&with_pitcher("[[pitcher.change]]\nseason = 2025\nsplit = { slider = { sweeper = 1.5 } }\n"));
+    assert!(e.contains("split.slider"), "{e}");
+    let e = error_of(&format!("{}\n[habits]\noutcomes = \"real\"\n", with_pitcher("")));
+    assert!(e.contains("[habits]") && e.contains("league"), "{e}");
+    let e = error_of(&format!("{}\n[habits]\nfastball_share = {{ \"4-0\" = 0.9 }}\n", with_pitcher("")));
+    assert!(e.contains("4-0") && e.contains("3-2"), "{e}");
+    let e = error_of(&format!("{REALISTIC_HEAD}\narsenal = \"huge\"\n"));
+    assert!(e.contains("arsenal") && e.contains("full"), "{e}");
+    let e = error_of(&format!("{REALISTIC_HEAD}\ntrades = 1.5\n"));
+    assert!(e.contains("trades"), "{e}");
 }
 
 #[test]
@@ -915,4 +986,304 @@ fn a_valid_scenario_round_trips_its_keys() {
         vec!["-2-".to_string(), "12-".to_string()]
     );
     assert!(rule.active_in(2025));
+}
+
+// ---------------------------------------------------------------------------
+// The realistic world (issue: a simulated league that looks like the real
+// one). The bands below are facts of the trade measured on a real
+// two-season league log (common practice, no published source), taken as
+// loose bands, never as tuned targets; each band is several times wider
+// than the sampling error of a log this size.
+
+fn realistic_demo() -> &'static SimLog {
+    static L: OnceLock<SimLog> = OnceLock::new();
+    L.get_or_init(|| {
+        let text = read(concat!(env!("CARGO_MANIFEST_DIR"), "/demo-data/scenario.toml"));
+        simulate(&Scenario::from_toml_str(&text).expect("the demo scenario is valid"), DEMO_SEED)
+    })
+}
+
+fn realistic_league() -> &'static SimLog {
+    static L: OnceLock<SimLog> = OnceLock::new();
+    L.get_or_init(|| simulate(&fixture("realistic_league.toml"), 1))
+}
+
+/// Per pitcher and season: pitches by pitch label, and the teams he pitched for.
+#[derive(Default)]
+struct PitcherSeason {
+    n: usize,
+    by_type: BTreeMap<String, usize>,
+    teams: std::collections::BTreeSet<String>,
+    first_day: String,
+}
+
+fn pitcher_seasons(log: &SimLog) -> BTreeMap<(u32, i32), PitcherSeason> {
+    let mut out: BTreeMap<(u32, i32), PitcherSeason> = BTreeMap::new();
+    for r in &log.rows {
+        let g = &log.games[r.game as usize];
+        let ps = out.entry((r.pitcher, g.season)).or_default();
+        ps.n += 1;
+        *ps.by_type.entry(log.pitch_types[r.pitch_type as usize].clone()).or_default() += 1;
+        ps.teams.insert(g.team.clone());
+        if ps.first_day.is_empty() || g.date < ps.first_day {
+            ps.first_day = g.date.clone();
+        }
+    }
+    out
+}
+
+fn share_in(ps: Option<&PitcherSeason>, label: &str) -> f64 {
+    ps.map_or(0.0, |p| p.by_type.get(label).copied().unwrap_or(0) as f64 / p.n as f64)
+}
+
+fn assert_band(what: &str, value: f64, low: f64, high: f64) {
+    assert!((low..=high).contains(&value), "{what}: {value:.4} outside {low}..{high}");
+}
+
+/// Result shares of a real league (common practice, measured on a real
+/// league log): ball 35.5%, called strike 16.4%, swinging strike 12.2%,
+/// foul 18.1%, in play 17.4%, hit by pitch 0.3%; about 3.9 pitches per
+/// plate appearance.
+fn assert_real_results(what: &str, log: &SimLog) {
+    let n = log.rows.len() as f64;
+    for (kind, real) in [
+        (PitchResult::Ball, 0.355),
+        (PitchResult::CalledStrike, 0.164),
+        (PitchResult::SwingingStrike, 0.122),
+        (PitchResult::Foul, 0.181),
+        (PitchResult::InPlay, 0.174),
+        (PitchResult::HitByPitch, 0.003),
+    ] {
+        let share = log.rows.iter().filter(|r| r.result == kind).count() as f64 / n;
+        assert_band(&format!("{what} {kind:?} share"), share, real - 0.02, real + 0.02);
+    }
+    let r = rates(log);
+    assert_band(&format!("{what} pitches per plate appearance"), r.pitches_per_pa, 3.6, 4.1);
+    assert_trade_facts(what, &r);
+    // Fouls never make strike three: a two-strike foul ends no plate appearance.
+    for i in 0..log.rows.len() {
+        if ends_pa(&log.rows, i) {
+            assert_ne!(log.rows[i].result, PitchResult::Foul, "{what}: a plate appearance ended on a foul");
+        }
+    }
+}
+
+#[test]
+fn realistic_demo_and_league_have_real_result_shares() {
+    assert_real_results("realistic demo", realistic_demo());
+    assert_real_results("realistic league", realistic_league());
+}
+
+const FASTBALLS: [&str; 2] = ["fastball", "sinker"];
+
+/// Fastball share (four-seam and sinker) by count across the league
+/// (common practice, measured on a real league log): about 52% at 0-0, 40%
+/// at 0-2 and 1-2, 61% at 2-0, 68% at 3-1, 90% at 3-0; the average
+/// pitcher's top-pitch share rising from about 0.47 at 0-2 to 0.82 at 3-0.
+#[test]
+fn count_habits_look_real() {
+    for (what, log) in [("realistic league", realistic_league()), ("realistic demo", realistic_demo())] {
+        let mut by_count: BTreeMap<(u8, u8), (usize, usize)> = BTreeMap::new();
+        // (pitcher, count) -> pitches by type
+        let mut per: BTreeMap<(u32, u8, u8), BTreeMap<u16, usize>> = BTreeMap::new();
+        for r in &log.rows {
+            let e = by_count.entry((r.balls, r.strikes)).or_default();
+            e.1 += 1;
+            if FASTBALLS.contains(&log.pitch_types[r.pitch_type as usize].as_str()) {
+                e.0 += 1;
+            }
+            *per.entry((r.pitcher, r.balls, r.strikes)).or_default().entry(r.pitch_type).or_default() += 1;
+        }
+        let fb = |b, s| {
+            let (f, n) = by_count[&(b, s)];
+            f as f64 / n as f64
+        };
+        for (b, s, real) in [(0, 0, 0.52), (0, 2, 0.40), (1, 2, 0.40), (2, 0, 0.61), (3, 1, 0.68), (3, 0, 0.90)] {
+            assert_band(&format!("{what} fastball share at {b}-{s}"), fb(b, s), real - 0.08, real + 0.08);
+        }
+        // The average pitcher's top-pitch share, over pitchers with 30 or
+        // more pitches at that count.
+        let top = |b: u8, s: u8| {
+            let shares: Vec<f64> = per
+                .iter()
+                .filter(|((_, pb, ps), t)| *pb == b && *ps == s && t.values().sum::<usize>() >= 30)
+                .map(|(_, t)| *t.values().max().unwrap() as f64 / t.values().sum::<usize>() as f64)
+                .collect();
+            shares.iter().sum::<f64>() / shares.len() as f64
+        };
+        let (t02, t31, t30) = (top(0, 2), top(3, 1), top(3, 0));
+        assert_band(&format!("{what} mean top-pitch share at 0-2"), t02, 0.38, 0.60);
+        assert_band(&format!("{what} mean top-pitch share at 3-0"), t30, 0.70, 0.95);
+        assert!(t02 < t31 && t31 < t30, "{what}: top-pitch share does not rise toward hitters' counts: {t02} {t31} {t30}");
+    }
+}
+
+/// Against same-side batters more sliders and sinkers (about 21% and 20%
+/// against 12% and 12%), against opposite-side batters more changeups and
+/// four-seams (common practice, measured on a real league log); and a
+/// platoon difference in every pitcher's mix (each pitcher-season of 1,000
+/// or more pitches rejects independence of type and platoon at 0.9999).
+#[test]
+fn platoon_habits_look_real() {
+    for (what, log) in [("realistic league", realistic_league()), ("realistic demo", realistic_demo())] {
+        let lv = levels(log);
+        let pl = slot(Factor::Platoon);
+        let mut count: BTreeMap<(&str, &str), usize> = BTreeMap::new();
+        let mut side_total: BTreeMap<&str, usize> = BTreeMap::new();
+        for (i, r) in log.rows.iter().enumerate() {
+            let side = lv[i][pl].as_str();
+            *count.entry((side, log.pitch_types[r.pitch_type as usize].as_str())).or_default() += 1;
+            *side_total.entry(side).or_default() += 1;
+        }
+        let share = |side: &str, label: &str| {
+            count.get(&(side, label)).copied().unwrap_or(0) as f64 / side_total[side] as f64
+        };
+        for label in ["slider", "sinker"] {
+            let ratio = share("same", label) / share("opposite", label);
+            assert_band(&format!("{what} {label} same/opposite"), ratio, 1.3, 2.4);
+        }
+        for label in ["changeup", "fastball"] {
+            assert!(share("opposite", label) > share("same", label), "{what}: {label} not more often to opposite-side batters");
+        }
+        let seasons = pitcher_seasons(log);
+        let (mut tested, mut rejected) = (0usize, 0usize);
+        for ((p, season), ps) in &seasons {
+            if ps.n < 1000 {
+                continue;
+            }
+            let rows: Vec<usize> = (0..log.rows.len())
+                .filter(|&i| log.rows[i].pitcher == *p && season_of(log, &log.rows[i]) == *season)
+                .collect();
+            let (stat, df) = chi_square(log, &lv, &rows, Factor::Platoon);
+            tested += 1;
+            rejected += (stat > CHI2_99[df - 1]) as usize;
+            if tested >= 150 {
+                break; // enough pitcher-seasons; the chi-square scans are slow on the league
+            }
+        }
+        // The league's tilts give each such pitcher-season a noncentrality
+        // of about 20 or more at 1,000 pitches (the weakest arsenal, cutter,
+        // curveball, four-seam and changeup, is about 22), so each rejects
+        // at 0.99 with probability about 0.9 or more; three in four is many
+        // standard errors below that.
+        assert!(rejected as f64 >= 0.75 * tested as f64, "{what}: only {rejected} of {tested} pitcher-seasons show a platoon difference");
+        assert!(tested >= 10, "{what}: only {tested} pitcher-seasons tested");
+    }
+}
+
+/// Who pitches (common practice, measured on a real league log): of the
+/// pitchers with 300 pitches in a season about half (389 of 758) reach it
+/// in both seasons, 177 arrive in the second and 192 leave after the first;
+/// about 1 pitcher-season in 9 is split between two clubs; half the
+/// pitchers throw fewer than 800 pitches over two seasons.
+#[test]
+fn the_league_turns_over_like_a_real_one() {
+    let log = realistic_league();
+    let seasons = pitcher_seasons(log);
+    assert!(log.rows.len() >= 1_300_000, "{} pitches", log.rows.len());
+    let ids: std::collections::BTreeSet<u32> = seasons.keys().map(|k| k.0).collect();
+    let big = |p: u32, y: i32| seasons.get(&(p, y)).is_some_and(|s| s.n >= 300);
+    let regulars: Vec<u32> = ids.iter().copied().filter(|&p| big(p, 2025) || big(p, 2026)).collect();
+    assert!(regulars.len() >= 600, "{} pitchers with a 300-pitch season", regulars.len());
+    let frac = |f: &dyn Fn(u32) -> bool| regulars.iter().filter(|&&p| f(p)).count() as f64 / regulars.len() as f64;
+    assert_band("both seasons", frac(&|p| big(p, 2025) && big(p, 2026)), 0.35, 0.70);
+    assert_band("second season only", frac(&|p| !big(p, 2025) && big(p, 2026)), 0.12, 0.40);
+    assert_band("first season only", frac(&|p| big(p, 2025) && !big(p, 2026)), 0.12, 0.40);
+    let split = seasons.values().filter(|s| s.teams.len() >= 2).count() as f64 / seasons.len() as f64;
+    assert_band("pitcher-seasons split between two clubs", split, 0.05, 0.20);
+    let totals: Vec<usize> = ids.iter().map(|&p| seasons.range((p, i32::MIN)..=(p, i32::MAX)).map(|(_, s)| s.n).sum()).collect();
+    let small = totals.iter().filter(|&&n| n < 800).count() as f64 / totals.len() as f64;
+    assert_band("pitchers under 800 pitches over two seasons", small, 0.30, 0.70);
+    // Mid-season arrivals: a first game more than a month into the season.
+    let late = seasons.iter().filter(|((_, y), s)| s.first_day.as_str() > format!("{y}-05-01").as_str()).count();
+    assert!(late >= 50, "{late} mid-season arrivals");
+}
+
+/// Arsenals (common practice, measured on a real league log): 3-6 pitch
+/// types used at least 3% in a pitcher-season, mostly 4; between seasons
+/// 22% add a pitch (5% or more after, under 1% before), 12% drop one; the
+/// median total-variation change of the mix is 0.13, a quarter exceed 0.20.
+#[test]
+fn arsenals_look_and_move_like_real_ones() {
+    let log = realistic_league();
+    let seasons = pitcher_seasons(log);
+    let used = |ps: &PitcherSeason| ps.by_type.values().filter(|&&n| n as f64 >= 0.03 * ps.n as f64).count();
+    let sizes: Vec<usize> = seasons.values().filter(|s| s.n >= 300).map(used).collect();
+    let in_range = sizes.iter().filter(|&&k| (3..=6).contains(&k)).count() as f64 / sizes.len() as f64;
+    assert!(in_range >= 0.85, "only {in_range:.3} of pitcher-seasons use 3-6 types");
+    let mut hist = [0usize; 8];
+    for &k in &sizes {
+        hist[k.min(7)] += 1;
+    }
+    let mode = (0..8).max_by_key(|&k| hist[k]).unwrap();
+    assert_eq!(mode, 4, "types per pitcher-season: {hist:?}");
+
+    let ids: std::collections::BTreeSet<u32> = seasons.keys().map(|k| k.0).collect();
+    let (mut both, mut adds, mut drops) = (0usize, 0usize, 0usize);
+    let mut tv = Vec::new();
+    for p in ids {
+        let (a, b) = (seasons.get(&(p, 2025)), seasons.get(&(p, 2026)));
+        if !(a.is_some_and(|s| s.n >= 300) && b.is_some_and(|s| s.n >= 300)) {
+            continue;
+        }
+        both += 1;
+        let labels: std::collections::BTreeSet<&String> = a.unwrap().by_type.keys().chain(b.unwrap().by_type.keys()).collect();
+        adds += labels.iter().any(|l| share_in(a, l) < 0.01 && share_in(b, l) >= 0.05) as usize;
+        drops += labels.iter().any(|l| share_in(a, l) >= 0.05 && share_in(b, l) < 0.01) as usize;
+        tv.push(labels.iter().map(|l| (share_in(a, l) - share_in(b, l)).abs()).sum::<f64>() / 2.0);
+    }
+    assert!(both >= 200, "{both} pitchers with two 300-pitch seasons");
+    assert_band("share adding a pitch", adds as f64 / both as f64, 0.10, 0.35);
+    assert_band("share dropping a pitch", drops as f64 / both as f64, 0.05, 0.25);
+    tv.sort_by(f64::total_cmp);
+    assert_band("median total-variation change", tv[tv.len() / 2], 0.07, 0.22);
+    let over = tv.iter().filter(|&&x| x > 0.20).count() as f64 / tv.len() as f64;
+    assert_band("share changing by more than 0.20", over, 0.08, 0.45);
+}
+
+/// The realistic demo club is shaped like a real club's two seasons
+/// (demo-data/README.md): 20-30 pitchers, some in one season only, a
+/// mid-season arrival, pitches added between seasons, a label split in two.
+#[test]
+fn the_realistic_demo_is_shaped_like_a_club() {
+    let log = realistic_demo();
+    let seasons = pitcher_seasons(log);
+    assert_band("pitchers", log.pitchers.len() as f64, 20.0, 30.0);
+    let in_season = |p: u32, y: i32| seasons.contains_key(&(p, y));
+    let n = log.pitchers.len() as u32;
+    assert!((0..n).filter(|&p| in_season(p, 2025) != in_season(p, 2026)).count() >= 4);
+    assert!(seasons.iter().any(|((_, y), s)| s.first_day.as_str() > format!("{y}-06-01").as_str()), "no mid-season arrival");
+    let adds = (0..n)
+        .filter(|&p| {
+            let (a, b) = (seasons.get(&(p, 2025)), seasons.get(&(p, 2026)));
+            a.is_some() && b.is_some_and(|b| b.by_type.keys().any(|l| share_in(a, l) < 0.01 && share_in(Some(b), l) >= 0.05))
+        })
+        .count();
+    assert!(adds >= 2, "{adds} pitchers added a pitch");
+    assert!(log.pitch_types.iter().any(|t| t == "sweeper"), "no split label");
+    for ((p, y), s) in &seasons {
+        if s.n >= 300 {
+            let used = s.by_type.values().filter(|&&k| k as f64 >= 0.03 * s.n as f64).count();
+            assert_band(&format!("{} {y} pitch types", log.pitchers[*p as usize].name), used as f64, 3.0, 6.0);
+        }
+    }
+}
+
+/// Planted rules still show at their planted rate, on top of the shared
+/// habits: within 4 binomial standard errors (see `assert_near`).
+#[test]
+fn planted_rules_show_at_their_rate_on_top_of_the_habits() {
+    let log = realistic_demo();
+    let lv = levels(log);
+    assert!(log.planted.len() >= 8);
+    let mut order: BTreeMap<(u32, i32), usize> = BTreeMap::new();
+    for tell in &log.planted {
+        let k = order.entry((tell.pitcher, tell.season)).or_insert(0);
+        let (mine, _) = rule_rows(log, &lv, tell.pitcher, tell.season, *k);
+        *k += 1;
+        let who = format!("{} {} {:?} -> {}", log.pitchers[tell.pitcher as usize].name, tell.season, tell.when, tell.throw);
+        assert!(mine.len() >= 100, "{who}: only {} pitches in the situation", mine.len());
+        let (share, n) = share_of(log, &mine, &tell.throw);
+        assert_near(&who, share, tell.rate, n);
+    }
 }

@@ -15,7 +15,7 @@ pub fn sim_frame(log: &SimLog) -> Result<DataFrame> {
         Column::new("game".into(), s(&|p| log.games[p.game as usize].id.clone())),
         Column::new("date".into(), s(&|p| log.games[p.game as usize].date.clone())),
         Column::new("season".into(), r.iter().map(|p| log.games[p.game as usize].season).collect::<Vec<i32>>()),
-        Column::new("team".into(), s(&|p| log.pitchers[p.pitcher as usize].team.clone())),
+        Column::new("team".into(), s(&|p| log.games[p.game as usize].team.clone())),
         Column::new("pitcher".into(), s(&|p| log.pitchers[p.pitcher as usize].name.clone())),
         Column::new("throws".into(), s(&|p| log.pitchers[p.pitcher as usize].throws.as_str().to_string())),
         Column::new("batter".into(), s(&|p| log.batters[p.batter as usize].name.clone())),

@@ -20,7 +20,7 @@
 
 use super::flight;
 use super::roster::{Roster, SeasonPlan, Team, NO_PREV};
-use super::scenario::Scenario;
+use super::scenario::{Outcomes, Scenario};
 use super::{PitchResult, SimGame, SimPitch};
 use crate::situations::levels::{
     bases_index, count_index, inning_index, platoon_index, score_index, times_through_index, Hand,
@@ -47,6 +47,15 @@ const BY_COUNT: [[f64; 5]; 12] = [
     [0.205, 0.070, 0.120, 0.345, 0.260], // 3-2
 ];
 
+/// The league table: each kind of [`BY_COUNT`] scaled by these factors
+/// (ball, called strike, swinging strike, foul, in play) so a season's
+/// shares come out near a real league's (common practice, measured on a
+/// real league log: ball 35.5%, called strike 16.4%, swinging strike 12.2%,
+/// foul 18.1%, in play 17.4%, hit by pitch 0.3%). The factors were found
+/// by solving the count chain for those shares (tests/simulate_facts.rs
+/// checks the shares on simulated logs).
+const LEAGUE_SCALE: [f64; 5] = [1.0, 0.94, 1.34, 0.82, 1.0];
+
 /// Hit by pitch, per pitch (about 1 in 100 plate appearances; common practice).
 const HBP: f64 = 0.0028;
 
@@ -67,6 +76,11 @@ pub(crate) fn play_team_season(
 ) -> (Vec<SimGame>, Vec<SimPitch>) {
     let season = &scenario.seasons[season_index];
     let team = &roster.teams[team_index];
+    let outcomes = scenario
+        .habits
+        .as_ref()
+        .map_or(Outcomes::Simple, |h| h.outcomes);
+    let mut rotation = 0usize;
     // Pitches by each reliever in the last game and the one before.
     let mut rest = vec![[0u32; 2]; team.relievers.len()];
     let mut games = Vec::with_capacity(season.games as usize);
@@ -81,12 +95,38 @@ pub(crate) fn play_team_season(
             None => format!("G{}-{:03}", season.year, k + 1),
             Some(code) => format!("G{}-{}-{:03}", season.year, code, k + 1),
         };
+        let date = season.game_date(k);
+        let day = date.to_days();
         games.push(SimGame {
             id,
-            date: season.game_date(k).to_string(),
+            date: date.to_string(),
             season: season.year,
+            team: team.name.clone(),
         });
-        let starter = team.starters[k as usize % team.starters.len()];
+        // The next starter of the rotation on the staff today (the listed
+        // order; with everyone on the staff, game k's starter is k mod n).
+        let n = team.starters.len();
+        let starter = (0..n)
+            .map(|j| (rotation + j) % n)
+            .find(|&j| roster.on_team(team.starters[j], team_index, day))
+            .map(|j| {
+                rotation = j + 1;
+                team.starters[j]
+            })
+            // Validation keeps a starter on every club's staff; a league
+            // team without one opens with a reliever.
+            .or_else(|| {
+                team.relievers
+                    .iter()
+                    .copied()
+                    .find(|&p| roster.on_team(p, team_index, day))
+            })
+            .unwrap_or(team.starters[k as usize % n]);
+        let on_staff: Vec<bool> = team
+            .relievers
+            .iter()
+            .map(|&p| p != starter && roster.on_team(p, team_index, day))
+            .collect();
         let mut g = Game::new(
             &mut rng,
             roster,
@@ -97,6 +137,8 @@ pub(crate) fn play_team_season(
             &rest,
             &mut rows,
         );
+        g.on_staff = on_staff;
+        g.outcomes = outcomes;
         g.play(&mut rng, k % 2 == 0);
         let pitched = g.finish();
         for (r, p) in rest.iter_mut().zip(pitched) {
@@ -179,6 +221,9 @@ struct Game<'a> {
     /// Pitches by each reliever this game (0: did not pitch).
     bullpen_pitches: Vec<u32>,
     used: Vec<bool>,
+    /// Relievers on the staff today (by bullpen slot).
+    on_staff: Vec<bool>,
+    outcomes: Outcomes,
 }
 
 impl<'a> Game<'a> {
@@ -222,6 +267,8 @@ impl<'a> Game<'a> {
             arm,
             bullpen_pitches: vec![0; n],
             used: vec![false; n],
+            on_staff: vec![true; n],
+            outcomes: Outcomes::Simple,
         }
     }
 
@@ -276,18 +323,24 @@ impl<'a> Game<'a> {
         let [last, before] = self.rest[slot];
         let pitched_twice = last > 0 && before > 0;
         let worked_hard = last >= 30;
-        !(self.used[slot] || pitched_twice || worked_hard)
+        self.on_staff[slot] && !(self.used[slot] || pitched_twice || worked_hard)
+    }
+
+    /// The closer: the first-listed reliever on the staff today.
+    fn closer(&self) -> usize {
+        self.on_staff.iter().position(|&x| x).unwrap_or(0)
     }
 
     fn bring_reliever(&mut self, rng: &mut ChaCha8Rng, inning: u8) {
         let n = self.team.relievers.len();
-        let slot = if self.closer_spot(inning) && self.fresh(0) {
-            Some(0)
+        let closer = self.closer();
+        let slot = if self.closer_spot(inning) && self.fresh(closer) {
+            Some(closer)
         } else {
-            let fresh: Vec<usize> = (1..n).filter(|&s| self.fresh(s)).collect();
+            let fresh: Vec<usize> = (0..n).filter(|&s| s != closer && self.fresh(s)).collect();
             let pool = if fresh.is_empty() {
-                // Everyone tired: anyone not yet used this game.
-                (0..n).filter(|&s| !self.used[s]).collect()
+                // Everyone tired: anyone on the staff not yet used this game.
+                (0..n).filter(|&s| self.on_staff[s] && !self.used[s]).collect()
             } else {
                 fresh
             };
@@ -308,8 +361,9 @@ impl<'a> Game<'a> {
         if self.arm.halves == 0 {
             return; // the starter's first inning
         }
-        let is_closer = self.arm.bullpen_slot == Some(0);
-        let closer_due = self.closer_spot(inning) && !is_closer && self.fresh(0);
+        let closer = self.closer();
+        let is_closer = self.arm.bullpen_slot == Some(closer);
+        let closer_due = self.closer_spot(inning) && !is_closer && self.fresh(closer);
         let pull = if self.arm.bullpen_slot.is_none() {
             // A starter near his limit does not begin another inning.
             closer_due || self.arm.pitches + 12 >= self.arm.limit || self.arm.runs >= self.arm.shell
@@ -385,7 +439,13 @@ impl<'a> Game<'a> {
             pitch_no = pitch_no.saturating_add(1);
             situation[0] = count_index(balls, strikes) as u8;
             let pitch_type = choose_pitch(rng, plan, &situation);
-            let result = draw_result(rng, balls, strikes);
+            let result = draw_result(rng, balls, strikes, self.outcomes);
+            // How the log writes it (a relabelled or split pitch); one more
+            // draw only for a split, so other logs are unchanged.
+            let written = match &plan.written[pitch_type as usize] {
+                None => pitch_type,
+                Some(cdf) => cdf.sample(rng.random::<f64>()),
+            };
             let (speed, side, height) = flight::draw(
                 rng,
                 &roster.profiles[pitch_type as usize],
@@ -402,7 +462,7 @@ impl<'a> Game<'a> {
                 loc_side_ft: side,
                 loc_height_ft: height,
                 pa: self.pa,
-                pitch_type,
+                pitch_type: written,
                 score_diff,
                 bats,
                 inning,
@@ -449,27 +509,35 @@ impl<'a> Game<'a> {
     }
 }
 
-/// The planted rules first (the first that holds decides), else the mix.
+/// The planted rules first (the first that holds decides), else the mix
+/// (with shared habits, the mix of this count and platoon).
 #[inline]
 fn choose_pitch(rng: &mut ChaCha8Rng, plan: &SeasonPlan, situation: &[u8; 9]) -> u16 {
+    let (count, platoon) = (situation[0], situation[2]);
     for rule in &plan.rules {
         if rule.holds(situation) {
             return if rng.random::<f64>() < rule.rate {
                 rule.throw
             } else {
-                rule.rest.sample(rng.random::<f64>())
+                SeasonPlan::slot(&rule.rest, count, platoon).sample(rng.random::<f64>())
             };
         }
     }
-    plan.mix.sample(rng.random::<f64>())
+    SeasonPlan::slot(&plan.mix, count, platoon).sample(rng.random::<f64>())
 }
 
-fn draw_result(rng: &mut ChaCha8Rng, balls: u8, strikes: u8) -> PitchResult {
+fn draw_result(rng: &mut ChaCha8Rng, balls: u8, strikes: u8, outcomes: Outcomes) -> PitchResult {
     let u = rng.random::<f64>();
     if u < HBP {
         return PitchResult::HitByPitch;
     }
-    let row = &BY_COUNT[count_index(balls, strikes)];
+    let mut row = BY_COUNT[count_index(balls, strikes)];
+    if outcomes == Outcomes::League {
+        for (p, f) in row.iter_mut().zip(LEAGUE_SCALE) {
+            *p *= f;
+        }
+    }
+    let row = &row;
     let mut v = (u - HBP) / (1.0 - HBP) * row.iter().sum::<f64>();
     const KINDS: [PitchResult; 5] = [
         PitchResult::Ball,

@@ -16,14 +16,15 @@
 //! season are played in order (bullpen rest carries from game to game),
 //! team-seasons run in parallel. The log is the same at any thread count.
 
+mod churn;
 mod engine;
 mod flight;
 mod roster;
 pub mod scenario;
 
 pub use scenario::{
-    BatterPool, Date, League, Mix, MixChange, MixChangeKind, PitcherSpec, Role, Rule, Scenario,
-    Season,
+    BatterPool, Date, Habits, LabelChange, League, LeagueChurn, Mix, MixChange, MixChangeKind,
+    Outcomes, PitcherSpec, Role, Rule, Scenario, Season,
 };
 
 use crate::situations::levels::{Factor, Hand};
@@ -109,6 +110,8 @@ pub struct SimGame {
     /// `YYYY-MM-DD`.
     pub date: String,
     pub season: i32,
+    /// The team whose staff pitched it (the `team` column).
+    pub team: String,
 }
 
 /// A pitcher's mix in one season.
@@ -122,6 +125,8 @@ pub struct SeasonMix {
 pub struct SimPitcher {
     pub name: String,
     pub throws: Hand,
+    /// His first team in the log (a traded pitcher pitches for two: see
+    /// each game's `team`).
     pub team: String,
     pub role: Role,
     /// His mix in every season of the scenario (the truth the base rates

@@ -2,7 +2,7 @@
 //! and each pitcher's season plan compiled for fast pitch choice.
 
 use super::flight::{self, PitchProfile};
-use super::scenario::{label_order, normalise, Mix, PitcherSpec, Role, Rule, Scenario};
+use super::scenario::{label_order, normalise, Habits, Mix, PitcherSpec, Role, Rule, Scenario};
 use super::{BatSide, PlantedTell, SeasonMix, SimBatter, SimPitcher};
 use crate::situations::levels::{Factor, Hand, NO_PREV_PITCH};
 use rand::{Rng, SeedableRng};
@@ -11,6 +11,18 @@ use std::collections::{BTreeMap, BTreeSet};
 
 /// The roster stream; game streams are numbered from 0 by game index.
 const ROSTER_STREAM: u64 = u64::MAX;
+/// The stream of a league's churn (turnover, trades, call-ups, injuries,
+/// arsenal changes): its own, so a scenario without churn draws exactly
+/// what it drew before churn existed.
+pub(crate) const CHURN_STREAM: u64 = u64::MAX - 1;
+
+/// A spell of a pitcher with one team: days since 1970, inclusive.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct Stint {
+    pub team: usize,
+    pub from: i64,
+    pub until: i64,
+}
 
 /// Code of "no previous pitch" in the `prev_pitch` slot of a situation.
 pub(crate) const NO_PREV: u8 = 63;
@@ -67,8 +79,9 @@ pub(crate) struct CompiledRule {
     masks: [u64; 9],
     pub throw: u16,
     pub rate: f64,
-    /// The season mix without `throw`, renormalised.
-    pub rest: Cdf,
+    /// The season mix without `throw`, renormalised (by count x platoon
+    /// with shared habits, as [`SeasonPlan::mix`]).
+    pub rest: Vec<Cdf>,
 }
 
 impl CompiledRule {
@@ -84,8 +97,37 @@ impl CompiledRule {
 /// What a pitcher throws in one season.
 #[derive(Debug, Clone)]
 pub(crate) struct SeasonPlan {
-    pub mix: Cdf,
+    /// One table, or 24 with shared habits: by count x platoon
+    /// ([`SeasonPlan::slot`]).
+    pub mix: Vec<Cdf>,
     pub rules: Vec<CompiledRule>,
+    /// How the log writes each pitch type (by type code), where it differs
+    /// from the type itself.
+    pub written: Vec<Option<Cdf>>,
+}
+
+impl SeasonPlan {
+    /// The table for this count (`count_index`) and platoon (`platoon_index`).
+    #[inline]
+    pub fn slot(tables: &[Cdf], count: u8, platoon: u8) -> &Cdf {
+        if tables.len() == 1 {
+            &tables[0]
+        } else {
+            &tables[count as usize * 2 + platoon as usize]
+        }
+    }
+}
+
+/// The tables of a season mix: one without habits, else one per count x
+/// platoon (same side first, as `platoon_index`).
+fn habit_tables(mix: &Mix, habits: Option<&Habits>, code: &dyn Fn(&str) -> u16) -> Vec<Cdf> {
+    let coded = |m: &Mix| -> Vec<(u16, f64)> { m.iter().map(|(l, s)| (code(l), *s)).collect() };
+    match habits {
+        None => vec![Cdf::new(&coded(mix))],
+        Some(h) => (0..12)
+            .flat_map(|c| [true, false].map(|same| Cdf::new(&coded(&h.apply(mix, c, same)))))
+            .collect(),
+    }
 }
 
 pub(crate) struct Roster {
@@ -99,6 +141,18 @@ pub(crate) struct Roster {
     pub pitch_types: Vec<String>,
     pub profiles: Vec<PitchProfile>,
     pub planted: Vec<PlantedTell>,
+    /// When each pitcher is on which team.
+    pub stints: Vec<Vec<Stint>>,
+}
+
+impl Roster {
+    /// Whether `pitcher` is on `team`'s staff on `day`.
+    #[inline]
+    pub fn on_team(&self, pitcher: u32, team: usize, day: i64) -> bool {
+        self.stints[pitcher as usize]
+            .iter()
+            .any(|s| s.team == team && s.from <= day && day <= s.until)
+    }
 }
 
 pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
@@ -122,6 +176,11 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
             specs.push((p.clone(), 0));
         }
     }
+    // Club pitchers' stints from their seasons, joins and leaves.
+    let mut stints: Vec<Vec<Stint>> = specs
+        .iter()
+        .map(|(p, team)| club_stints(scenario, p, *team))
+        .collect();
     if let Some(league) = &scenario.league {
         for _ in 0..league.teams {
             let team = teams.len();
@@ -133,13 +192,20 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
                 } else {
                     Role::Reliever
                 };
-                let spec = generated_pitcher(&mut rng, &mut names, role, league.planted_share);
+                let spec = generated_pitcher(
+                    &mut rng,
+                    &mut names,
+                    role,
+                    league.planted_share,
+                    league.churn.full_arsenal,
+                );
                 let idx = specs.len() as u32;
                 if role == Role::Starter {
                     starters.push(idx)
                 } else {
                     relievers.push(idx)
                 }
+                stints.push(club_stints(scenario, &spec, team));
                 specs.push((spec, team));
             }
             teams.push(Team {
@@ -156,10 +222,27 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
             team.code = Some(format!("T{:02}", i + 1));
         }
     }
+    if let Some(league) = &scenario.league {
+        let first_generated = usize::from(!scenario.pitchers.is_empty());
+        super::churn::apply(
+            scenario,
+            league,
+            seed,
+            first_generated,
+            &mut names,
+            &mut specs,
+            &mut stints,
+            &mut teams,
+        );
+    }
 
     let labels: BTreeSet<(usize, String)> = specs
         .iter()
-        .flat_map(|(s, _)| s.labels(&scenario.seasons))
+        .flat_map(|(s, _)| {
+            let mut l = s.labels(&scenario.seasons);
+            l.extend(s.written_labels(&scenario.seasons));
+            l
+        })
         .map(|l| label_order(&l))
         .collect();
     let pitch_types: Vec<String> = labels.into_iter().map(|(_, l)| l).collect();
@@ -172,17 +255,16 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
     for (pi, (spec, team)) in specs.iter().enumerate() {
         let mut mixes = Vec::new();
         let mut season_plans = Vec::new();
+        let habits = scenario.habits.as_ref().filter(|_| spec.habits);
         for season in &scenario.seasons {
             let mix = spec.mix_in(season.year);
-            let coded: Vec<(u16, f64)> = mix.iter().map(|(l, s)| (type_index(l), *s)).collect();
             let mut rules = Vec::new();
             for rule in spec.rules.iter().filter(|r| r.active_in(season.year)) {
                 let throw = type_index(&rule.throw);
-                let rest: Vec<(u16, f64)> =
-                    coded.iter().copied().filter(|(t, _)| *t != throw).collect();
+                let rest: Mix = mix.iter().filter(|(l, _)| *l != rule.throw).cloned().collect();
                 // With rate 1 the rest is never drawn; keep a valid table anyway.
                 let rest = if rest.is_empty() {
-                    vec![(throw, 1.0)]
+                    vec![(rule.throw.clone(), 1.0)]
                 } else {
                     rest
                 };
@@ -190,8 +272,16 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
                     masks: masks(rule, &type_index),
                     throw,
                     rate: rule.rate,
-                    rest: Cdf::new(&rest),
+                    rest: habit_tables(&rest, habits, &type_index),
                 });
+                // The planted truth lists only seasons he pitched in.
+                let (first, last) = (
+                    season.game_date(0).to_days(),
+                    season.game_date(season.games - 1).to_days(),
+                );
+                if !stints[pi].iter().any(|s| s.from <= last && s.until >= first) {
+                    continue;
+                }
                 planted.push(PlantedTell {
                     pitcher: pi as u32,
                     season: season.year,
@@ -204,9 +294,15 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
                         .map_or(0.0, |m| m.1),
                 });
             }
+            let mut written: Vec<Option<Cdf>> = vec![None; pitch_types.len()];
+            for (from, to) in spec.written_in(season.year) {
+                let coded: Vec<(u16, f64)> = to.iter().map(|(l, s)| (type_index(l), *s)).collect();
+                written[type_index(&from) as usize] = Some(Cdf::new(&coded));
+            }
             season_plans.push(SeasonPlan {
-                mix: Cdf::new(&coded),
+                mix: habit_tables(&mix, habits, &type_index),
                 rules,
+                written,
             });
             mixes.push(SeasonMix {
                 season: season.year,
@@ -220,7 +316,12 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
         pitchers.push(SimPitcher {
             name: spec.name.clone(),
             throws: spec.throws,
-            team: teams[*team].name.clone(),
+            team: teams[stints[pi]
+                .iter()
+                .min_by_key(|s| s.from)
+                .map_or(*team, |s| s.team)]
+            .name
+            .clone(),
             role: spec.role,
             mixes,
         });
@@ -264,7 +365,25 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
         pitch_types,
         profiles,
         planted,
+        stints,
     }
+}
+
+/// A club pitcher's stints on `team`: each season he is on the staff, from
+/// the later of the season's first game and `joins` to the earlier of its
+/// last game and `leaves`.
+pub(crate) fn club_stints(scenario: &Scenario, spec: &PitcherSpec, team: usize) -> Vec<Stint> {
+    let mut out = Vec::new();
+    for season in &scenario.seasons {
+        let days: Vec<i64> = (0..season.games)
+            .map(|k| season.game_date(k).to_days())
+            .filter(|&d| spec.on_staff(season.year, d))
+            .collect();
+        if let (Some(&from), Some(&until)) = (days.first(), days.last()) {
+            out.push(Stint { team, from, until });
+        }
+    }
+    out
 }
 
 fn masks(rule: &Rule, type_index: &dyn Fn(&str) -> u16) -> [u64; 9] {
@@ -331,6 +450,26 @@ const RELIEVER_MIXES: [&[(&str, f64)]; 4] = [
     &[("cutter", 0.50), ("curveball", 0.30), ("fastball", 0.20)],
 ];
 
+/// Archetypes of a full arsenal (invented, common practice in shape: a
+/// pitcher-season has 3-6 pitch types used at least 3% of the time, most
+/// often 4; fastball and sinker together about half of all pitches).
+const FULL_STARTER_MIXES: [&[(&str, f64)]; 6] = [
+    &[("fastball", 0.44), ("sinker", 0.10), ("slider", 0.20), ("curveball", 0.10), ("changeup", 0.16)],
+    &[("sinker", 0.48), ("cutter", 0.12), ("slider", 0.24), ("changeup", 0.16)],
+    &[("fastball", 0.52), ("slider", 0.22), ("curveball", 0.12), ("changeup", 0.14)],
+    &[("fastball", 0.46), ("splitter", 0.20), ("slider", 0.18), ("cutter", 0.10), ("curveball", 0.06)],
+    &[("fastball", 0.36), ("sinker", 0.18), ("cutter", 0.16), ("curveball", 0.16), ("changeup", 0.14)],
+    &[("sinker", 0.54), ("slider", 0.26), ("changeup", 0.20)],
+];
+const FULL_RELIEVER_MIXES: [&[(&str, f64)]; 6] = [
+    &[("fastball", 0.58), ("slider", 0.32), ("changeup", 0.10)],
+    &[("sinker", 0.50), ("slider", 0.28), ("changeup", 0.12), ("fastball", 0.10)],
+    &[("fastball", 0.56), ("splitter", 0.28), ("slider", 0.16)],
+    &[("cutter", 0.34), ("curveball", 0.22), ("fastball", 0.34), ("changeup", 0.10)],
+    &[("fastball", 0.52), ("slider", 0.24), ("curveball", 0.12), ("changeup", 0.12)],
+    &[("sinker", 0.54), ("sweeper", 0.30), ("changeup", 0.16)],
+];
+
 /// Situations a random rule may key on: factor and the levels that make it
 /// hold. Each is common enough to give a few hundred pitches a season.
 const RANDOM_SITUATIONS: [(Factor, &[&str]); 14] = [
@@ -350,11 +489,12 @@ const RANDOM_SITUATIONS: [(Factor, &[&str]); 14] = [
     (Factor::PrevPitch, &[]), // levels: one of his own pitches, chosen below
 ];
 
-fn generated_pitcher(
+pub(crate) fn generated_pitcher(
     rng: &mut ChaCha8Rng,
     names: &mut NameMaker,
     role: Role,
     planted_share: f64,
+    full_arsenal: bool,
 ) -> PitcherSpec {
     // About seven pitchers in ten throw right-handed (common practice).
     let throws = if rng.random_bool(0.72) {
@@ -362,10 +502,11 @@ fn generated_pitcher(
     } else {
         Hand::L
     };
-    let shapes: &[&[(&str, f64)]] = if role == Role::Starter {
-        &STARTER_MIXES
-    } else {
-        &RELIEVER_MIXES
+    let shapes: &[&[(&str, f64)]] = match (role, full_arsenal) {
+        (Role::Starter, false) => &STARTER_MIXES,
+        (Role::Reliever, false) => &RELIEVER_MIXES,
+        (Role::Starter, true) => &FULL_STARTER_MIXES,
+        (Role::Reliever, true) => &FULL_RELIEVER_MIXES,
     };
     let shape = shapes[rng.random_range(0..shapes.len())];
     // Jitter each weight by a log-normal factor so no two mixes are alike,
@@ -403,19 +544,14 @@ fn generated_pitcher(
             until: None,
         });
     }
-    PitcherSpec {
-        name: names.make(rng),
-        throws,
-        role,
-        mix,
-        changes: Vec::new(),
-        rules,
-    }
+    let mut spec = PitcherSpec::plain(names.make(rng), throws, role, mix);
+    spec.rules = rules;
+    spec
 }
 
 /// Invented names from syllables, never repeated within a scenario.
 #[derive(Default)]
-struct NameMaker {
+pub(crate) struct NameMaker {
     taken: BTreeSet<String>,
 }
 
@@ -440,7 +576,7 @@ impl NameMaker {
         self.taken.insert(name.to_string());
     }
 
-    fn make(&mut self, rng: &mut ChaCha8Rng) -> String {
+    pub(crate) fn make(&mut self, rng: &mut ChaCha8Rng) -> String {
         loop {
             let pick = |rng: &mut ChaCha8Rng, list: &[&str]| {
                 list[rng.random_range(0..list.len())].to_string()

@@ -23,18 +23,49 @@
 //! starters = 5                      # per generated team
 //! relievers = 21                    # per generated team (the first one closes)
 //! planted_share = 0.1               # share of generated pitchers given one random rule
+//! # The keys below are optional; each defaults to "off" (today's fixed staffs).
+//! arsenal = "full"                  # "small" (2-4 pitch types, the default) or
+//!                                   # "full" (3-6 types used at least 3%, mostly 4)
+//! turnover = 0.33                   # share of a team's pitchers replaced between seasons
+//! trades = 0.11                     # share of pitcher-seasons split between two clubs
+//!                                   # (same-role pairs swapped on a mid-season date)
+//! call_ups = 5                      # relievers per team-season called up for 2-12 weeks
+//! injuries = 0.2                    # share of starter-seasons cut short, a call-up
+//!                                   # starter taking the turn from the next day
+//! adds = 0.22                       # share of pitchers adding a pitch between seasons
+//!                                   # (5-20% after; some threw it under 1% before)
+//! drops = 0.12                      # share of pitchers dropping a pitch between seasons
+//! drift = 0.25                      # sd of the log-normal change of each mix weight
+//!                                   # between seasons
+//!
+//! [habits]                          # optional: habits every pitcher shares
+//! fastballs = ["fastball", "sinker"]            # labels that count as fastballs
+//! fastball_share = { "0-0" = 0.52, "3-0" = 0.90 }  # the league's fastball share by
+//!                                   # count; counts not listed keep their default
+//! platoon = { slider = 0.28 }       # log tilt of a label toward same-side batters
+//!                                   # (negative: toward opposite-side); unlisted
+//!                                   # labels keep their default tilt
+//! outcomes = "league"               # "league": ball/strike/foul/in-play shares of a
+//!                                   # real league; "simple": the engine's plain table
 //!
 //! [[pitcher]]                       # the club's own pitchers, any number
 //! name = "Oren Vasquell"
 //! throws = "R"                      # L or R
 //! role = "starter"                  # starter or reliever
 //! mix = { fastball = 55, slider = 25, changeup = 20 }   # weights, normalised to 1
+//! seasons = [2026]                  # optional: the seasons he pitches for the club
+//! joins = "2025-07-15"              # optional: first day he is on the staff
+//! leaves = "2026-06-30"             # optional: last day he is on the staff
+//! habits = false                    # optional: leave him out of the shared habits
 //!
 //!   [[pitcher.change]]              # a change of his mix from a season on
 //!   season = 2026
 //!   add = { cutter = 0.25 }         # a new pitch at that share; the others keep
 //!                                   # their proportions in the remaining 0.75
 //!   # mix = { fastball = 50, slider = 50 }   # or: a whole new mix
+//!   # drop = ["curveball"]          # pitches he stops throwing (others renormalised)
+//!   # relabel = { slider = "sweeper" }        # the log writes his slider as "sweeper"
+//!   # split = { slider = { sweeper = 0.5 } }  # half his sliders are written "sweeper"
 //!
 //!   [[pitcher.rule]]                # a planted tell
 //!   when = { count = ["0-2", "1-2"] }        # the situation (several keys: all must hold)
@@ -64,9 +95,35 @@
 //!
 //! Season changes apply from their season on, in season order (a change in
 //! 2026 also holds in 2027). Mix weights may be any positive numbers; they
-//! are normalised to shares.
+//! are normalised to shares. `add` may name a pitch he threw at under 1% (a
+//! trace pitch becoming a real one); it then takes the new share. `relabel`
+//! and `split` change only how the log writes a pitch: mixes, rules and
+//! `prev_pitch` conditions keep using the scenario's own label.
+//!
+//! Shared habits (`[habits]`). With the table present, every pitcher (but
+//! those with `habits = false`) leans the way real pitchers do: his
+//! fastball share moves with the count, on the logit scale, by the league's
+//! move (the logit of `fastball_share` at that count minus the logit of its
+//! average over a typical spread of counts), his fastballs and other
+//! pitches each keeping their proportions; then each label is tilted by
+//! `exp(+t)` against same-side batters and `exp(-t)` against opposite-side
+//! batters and the mix renormalised. A rule still decides its situation
+//! exactly as above; when it holds, the rest of the pitch is drawn from the
+//! habit-adjusted mix. "Nothing planted" then means: only the shared
+//! habits. The defaults are facts of the trade (common practice, measured
+//! on a real league log, no published source): fastballs 52% of pitches at
+//! 0-0, 40% at 0-2 and 1-2, 61% at 2-0, 68% at 3-1, 90% at 3-0 (the other
+//! counts interpolated by us); sliders and sinkers about 21% and 20% of
+//! pitches to same-side batters against 12% and 12% to opposite-side ones,
+//! changeups and four-seams the other way.
+//!
+//! Staff changes. `seasons`, `joins` and `leaves` say when a pitcher is on
+//! the club: a starter takes his turn in the rotation (the listed order,
+//! skipping those not on the staff that day), a reliever is in the bullpen.
+//! Every game date must find at least one starter and one reliever on the
+//! staff.
 
-use crate::situations::levels::{Factor, Hand, NO_PREV_PITCH};
+use crate::situations::levels::{Factor, Hand, COUNTS, NO_PREV_PITCH};
 use serde::Deserialize;
 use std::collections::{BTreeMap, BTreeSet};
 use std::fmt;
@@ -213,6 +270,130 @@ pub struct League {
     pub relievers: u32,
     /// Share of generated pitchers given one random rule (the rest are nulls).
     pub planted_share: f64,
+    pub churn: LeagueChurn,
+}
+
+/// How much of the league's turnover a generated league carries.
+#[derive(Debug, Clone, PartialEq, Default)]
+pub struct LeagueChurn {
+    /// Generated pitchers carry 3-6 pitch types instead of 2-4.
+    pub full_arsenal: bool,
+    pub turnover: f64,
+    pub trades: f64,
+    pub call_ups: u32,
+    pub injuries: f64,
+    pub adds: f64,
+    pub drops: f64,
+    pub drift: f64,
+}
+
+/// Pitch outcome table of the engine.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Outcomes {
+    /// The engine's plain per-count table (about 22% fouls, 9% whiffs).
+    Simple,
+    /// Rescaled to a real league's shares: ball 35.5%, called strike 16.4%,
+    /// swinging strike 12.2%, foul 18.1%, in play 17.4%, hit by pitch 0.3%.
+    League,
+}
+
+/// Habits every pitcher shares (see the module documentation).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Habits {
+    pub fastballs: Vec<String>,
+    /// The league's fastball share at each count, by `count_index`.
+    pub fastball_share: [f64; 12],
+    /// Log tilt toward same-side batters, by label; unlisted labels 0.
+    pub platoon: BTreeMap<String, f64>,
+    pub outcomes: Outcomes,
+}
+
+/// Default fastball share by count, `count_index` order (0-0, 0-1, 0-2,
+/// 1-0, ...). 0-0, 0-2, 1-2, 2-0, 3-0 and 3-1 are facts of the trade
+/// measured on a real league log (common practice, no published source);
+/// 0-1, 1-0, 1-1, 2-1, 2-2 and 3-2 are our interpolations between them.
+pub const DEFAULT_FASTBALL_SHARE: [f64; 12] =
+    [0.52, 0.45, 0.40, 0.57, 0.47, 0.40, 0.61, 0.55, 0.45, 0.90, 0.68, 0.56];
+
+/// Typical share of pitches thrown at each count, `count_index` order
+/// (common practice, round figures): the weights of the league's average
+/// fastball share, the point a pitcher's listed mix is read at.
+pub const TYPICAL_COUNT_SHARE: [f64; 12] =
+    [0.26, 0.13, 0.06, 0.10, 0.10, 0.09, 0.04, 0.05, 0.07, 0.01, 0.02, 0.05];
+
+/// Default platoon tilts (log scale, + toward same-side batters): sliders
+/// and sinkers about 1.7 times as often to same-side batters as to
+/// opposite-side ones (21% vs 12%, 20% vs 12%; common practice, measured on
+/// a real league log), changeups, splitters and four-seams the other way.
+pub const DEFAULT_PLATOON_TILT: [(&str, f64); 8] = [
+    ("slider", 0.28),
+    ("sweeper", 0.35),
+    ("sinker", 0.30),
+    ("cutter", 0.08),
+    ("curveball", 0.0),
+    ("fastball", -0.12),
+    ("splitter", -0.35),
+    ("changeup", -0.45),
+];
+
+impl Habits {
+    pub fn defaults() -> Habits {
+        Habits {
+            fastballs: vec!["fastball".into(), "sinker".into()],
+            fastball_share: DEFAULT_FASTBALL_SHARE,
+            platoon: DEFAULT_PLATOON_TILT
+                .iter()
+                .map(|(l, t)| (l.to_string(), *t))
+                .collect(),
+            outcomes: Outcomes::League,
+        }
+    }
+
+    /// The league's average fastball share over a typical spread of counts.
+    pub fn average_fastball_share(&self) -> f64 {
+        let w: f64 = TYPICAL_COUNT_SHARE.iter().sum();
+        self.fastball_share
+            .iter()
+            .zip(TYPICAL_COUNT_SHARE)
+            .map(|(f, c)| f * c)
+            .sum::<f64>()
+            / w
+    }
+
+    /// His mix at count `count` (a `count_index`) against a batter on the
+    /// same side (`same`) or the opposite one: the count's fastball move,
+    /// then the platoon tilt, renormalised. Labels keep the mix's order.
+    pub fn apply(&self, mix: &Mix, count: usize, same: bool) -> Mix {
+        let logit = |p: f64| (p / (1.0 - p)).ln();
+        let f0: f64 = mix
+            .iter()
+            .filter(|(l, _)| self.fastballs.contains(l))
+            .map(|(_, s)| s)
+            .sum();
+        let (fast_scale, other_scale) = if f0 > 0.0 && f0 < 1.0 {
+            let z = logit(f0) + logit(self.fastball_share[count])
+                - logit(self.average_fastball_share());
+            let f = 1.0 / (1.0 + (-z).exp());
+            (f / f0, (1.0 - f) / (1.0 - f0))
+        } else {
+            (1.0, 1.0)
+        };
+        let sign = if same { 1.0 } else { -1.0 };
+        let tilted: Vec<(String, f64)> = mix
+            .iter()
+            .map(|(l, s)| {
+                let scale = if self.fastballs.contains(l) {
+                    fast_scale
+                } else {
+                    other_scale
+                };
+                let t = self.platoon.get(l).copied().unwrap_or(0.0);
+                (l.clone(), s * scale * (sign * t).exp())
+            })
+            .collect();
+        let total: f64 = tilted.iter().map(|(_, w)| w).sum();
+        tilted.into_iter().map(|(l, w)| (l, w / total)).collect()
+    }
 }
 
 /// Shares by pitch label, adding up to 1, in label order ([`label_order`]);
@@ -233,6 +414,21 @@ pub enum MixChangeKind {
     /// New pitches at these shares; the old ones keep their proportions in
     /// what is left.
     Add(Vec<(String, f64)>),
+    /// Pitches he stops throwing; the rest renormalised.
+    Drop(Vec<String>),
+    /// No change of the mix (only of how the log writes it).
+    Keep,
+}
+
+/// How the log writes one of his pitches: written labels with their
+/// shares (one label at share 1 for a relabel).
+pub type Written = BTreeMap<String, Vec<(String, f64)>>;
+
+/// A change of how the log writes his pitches, from `season` on.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LabelChange {
+    pub season: i32,
+    pub written: Written,
 }
 
 /// A planted tell (see the module documentation for its semantics).
@@ -273,6 +469,15 @@ pub struct PitcherSpec {
     pub changes: Vec<MixChange>,
     /// In the order listed: the first rule whose situation holds decides.
     pub rules: Vec<Rule>,
+    /// Sorted by season.
+    pub label_changes: Vec<LabelChange>,
+    /// The seasons he pitches for the club (`None`: all).
+    pub seasons: Option<Vec<i32>>,
+    /// First and last day on the staff.
+    pub joins: Option<Date>,
+    pub leaves: Option<Date>,
+    /// Whether the shared habits apply to him.
+    pub habits: bool,
 }
 
 impl PitcherSpec {
@@ -285,11 +490,26 @@ impl PitcherSpec {
                 MixChangeKind::Replace(new) => new.clone(),
                 MixChangeKind::Add(added) => {
                     let kept: f64 = 1.0 - added.iter().map(|(_, s)| s).sum::<f64>();
-                    let mut next: Vec<(String, f64)> =
-                        mix.iter().map(|(l, s)| (l.clone(), s * kept)).collect();
+                    // A trace pitch taking a real share leaves the mix first.
+                    let rest: Vec<(String, f64)> = mix
+                        .iter()
+                        .filter(|(l, _)| !added.iter().any(|(a, _)| a == l))
+                        .cloned()
+                        .collect();
+                    let total: f64 = rest.iter().map(|(_, s)| s).sum();
+                    let mut next: Vec<(String, f64)> = rest
+                        .iter()
+                        .map(|(l, s)| (l.clone(), s / total * kept))
+                        .collect();
                     next.extend(added.iter().cloned());
                     next
                 }
+                MixChangeKind::Drop(dropped) => mix
+                    .iter()
+                    .filter(|(l, _)| !dropped.contains(l))
+                    .cloned()
+                    .collect(),
+                MixChangeKind::Keep => mix,
             };
             mix = normalise(mix);
         }
@@ -303,6 +523,60 @@ impl PitcherSpec {
             .flat_map(|s| self.mix_in(s.year).into_iter().map(|(l, _)| l))
             .collect()
     }
+
+    /// How the log writes his pitches in season `year` (pitches not listed
+    /// are written as they are).
+    pub fn written_in(&self, year: i32) -> Written {
+        let mut out = Written::new();
+        for c in self.label_changes.iter().filter(|c| c.season <= year) {
+            for (k, v) in &c.written {
+                out.insert(k.clone(), v.clone());
+            }
+        }
+        out
+    }
+
+    /// Every label the log writes for him in some season.
+    pub fn written_labels(&self, seasons: &[Season]) -> BTreeSet<String> {
+        let mut out = BTreeSet::new();
+        for s in seasons {
+            let written = self.written_in(s.year);
+            for (l, _) in self.mix_in(s.year) {
+                match written.get(&l) {
+                    Some(ws) => out.extend(ws.iter().map(|(w, _)| w.clone())),
+                    None => {
+                        out.insert(l);
+                    }
+                }
+            }
+        }
+        out
+    }
+
+    /// A plain pitcher: on the club every season, shared habits on.
+    pub fn plain(name: String, throws: Hand, role: Role, mix: Mix) -> PitcherSpec {
+        PitcherSpec {
+            name,
+            throws,
+            role,
+            mix,
+            changes: Vec::new(),
+            rules: Vec::new(),
+            label_changes: Vec::new(),
+            seasons: None,
+            joins: None,
+            leaves: None,
+            habits: true,
+        }
+    }
+
+    /// Whether he is on the club on day `day` (days since 1970) of season
+    /// `year`.
+    pub fn on_staff(&self, year: i32, day: i64) -> bool {
+        self.seasons.as_ref().is_none_or(|s| s.contains(&year))
+            && self.joins.is_none_or(|d| day >= d.to_days())
+            && self.leaves.is_none_or(|d| day <= d.to_days())
+    }
 }
 
 /// A validated scenario. Build it with [`Scenario::from_toml_str`]; every
@@ -314,6 +588,7 @@ pub struct Scenario {
     pub seasons: Vec<Season>,
     pub batters: BatterPool,
     pub league: Option<League>,
+    pub habits: Option<Habits>,
     pub pitchers: Vec<PitcherSpec>,
 }
 
@@ -351,8 +626,18 @@ struct RawScenario {
     season: Vec<RawSeason>,
     batters: RawBatters,
     league: Option<RawLeague>,
+    habits: Option<RawHabits>,
     #[serde(default)]
     pitcher: Vec<RawPitcher>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawHabits {
+    fastballs: Option<Vec<String>>,
+    fastball_share: Option<BTreeMap<String, f64>>,
+    platoon: Option<BTreeMap<String, f64>>,
+    outcomes: Option<String>,
 }
 
 #[derive(Deserialize)]
@@ -386,6 +671,21 @@ struct RawLeague {
     relievers: u32,
     #[serde(default)]
     planted_share: f64,
+    arsenal: Option<String>,
+    #[serde(default)]
+    turnover: f64,
+    #[serde(default)]
+    trades: f64,
+    #[serde(default)]
+    call_ups: u32,
+    #[serde(default)]
+    injuries: f64,
+    #[serde(default)]
+    adds: f64,
+    #[serde(default)]
+    drops: f64,
+    #[serde(default)]
+    drift: f64,
 }
 
 #[derive(Deserialize)]
@@ -395,6 +695,10 @@ struct RawPitcher {
     throws: String,
     role: String,
     mix: BTreeMap<String, f64>,
+    seasons: Option<Vec<i32>>,
+    joins: Option<String>,
+    leaves: Option<String>,
+    habits: Option<bool>,
     #[serde(default)]
     change: Vec<RawChange>,
     #[serde(default)]
@@ -407,6 +711,9 @@ struct RawChange {
     season: i32,
     mix: Option<BTreeMap<String, f64>>,
     add: Option<BTreeMap<String, f64>>,
+    drop: Option<Vec<String>>,
+    relabel: Option<BTreeMap<String, String>>,
+    split: Option<BTreeMap<String, BTreeMap<String, f64>>>,
 }
 
 #[derive(Deserialize)]
@@ -583,13 +890,62 @@ fn validate(raw: RawScenario) -> Result<Scenario, String> {
                     l.planted_share
                 ));
             }
+            for (key, v) in [
+                ("turnover", l.turnover),
+                ("trades", l.trades),
+                ("injuries", l.injuries),
+                ("adds", l.adds),
+                ("drops", l.drops),
+            ] {
+                if !(v.is_finite() && (0.0..=1.0).contains(&v)) {
+                    return Err(format!(
+                        "scenario [league]: {key} = {v} must be a share in 0..1"
+                    ));
+                }
+            }
+            if !(l.drift.is_finite() && (0.0..=2.0).contains(&l.drift)) {
+                return Err(format!(
+                    "scenario [league]: drift = {} must lie in 0..2 (a log-scale sd)",
+                    l.drift
+                ));
+            }
+            if l.call_ups > 40 {
+                return Err(format!(
+                    "scenario [league]: call_ups = {} must lie in 0..40",
+                    l.call_ups
+                ));
+            }
+            let full_arsenal = match l.arsenal.as_deref().map(str::trim) {
+                None | Some("small") => false,
+                Some("full") => true,
+                Some(other) => {
+                    return Err(format!(
+                        "scenario [league]: arsenal = \"{other}\"; write \"small\" or \"full\""
+                    ))
+                }
+            };
             Some(League {
                 teams: l.teams,
                 starters: l.starters,
                 relievers: l.relievers,
                 planted_share: l.planted_share,
+                churn: LeagueChurn {
+                    full_arsenal,
+                    turnover: l.turnover,
+                    trades: l.trades,
+                    call_ups: l.call_ups,
+                    injuries: l.injuries,
+                    adds: l.adds,
+                    drops: l.drops,
+                    drift: l.drift,
+                },
             })
         }
+    };
+
+    let habits = match &raw.habits {
+        None => None,
+        Some(h) => Some(validate_habits(h)?),
     };
 
     let mut pitchers: Vec<PitcherSpec> = Vec::new();
@@ -616,17 +972,24 @@ fn validate(raw: RawScenario) -> Result<Scenario, String> {
         }
     }
 
+    check_staffed(&club, &seasons, &pitchers)?;
+
     let scenario = Scenario {
         club,
         seasons,
         batters,
         league,
+        habits,
         pitchers,
     };
     let mut labels: BTreeSet<String> = scenario
         .pitchers
         .iter()
-        .flat_map(|p| p.labels(&scenario.seasons))
+        .flat_map(|p| {
+            let mut l = p.labels(&scenario.seasons);
+            l.extend(p.written_labels(&scenario.seasons));
+            l
+        })
         .collect();
     if scenario.league.is_some() {
         labels.extend(PLAIN_LABELS.iter().map(|s| s.to_string()));
@@ -638,6 +1001,80 @@ fn validate(raw: RawScenario) -> Result<Scenario, String> {
         ));
     }
     Ok(scenario)
+}
+
+fn validate_habits(h: &RawHabits) -> Result<Habits, String> {
+    let at = "scenario [habits]";
+    let mut habits = Habits::defaults();
+    if let Some(f) = &h.fastballs {
+        for l in f {
+            check_text(&format!("{at} fastballs label"), l)?;
+        }
+        habits.fastballs = f.clone();
+    }
+    if let Some(shares) = &h.fastball_share {
+        for (count, &v) in shares {
+            let i = COUNTS.iter().position(|c| *c == count.trim()).ok_or_else(|| {
+                format!(
+                    "{at}: fastball_share.\"{count}\" is not a count; use one of {}",
+                    COUNTS.join(", ")
+                )
+            })?;
+            if !(v.is_finite() && v > 0.0 && v < 1.0) {
+                return Err(format!(
+                    "{at}: fastball_share.\"{count}\" = {v} must be a share strictly between 0 and 1"
+                ));
+            }
+            habits.fastball_share[i] = v;
+        }
+    }
+    if let Some(tilts) = &h.platoon {
+        for (label, &t) in tilts {
+            check_text(&format!("{at} platoon label"), label)?;
+            if !(t.is_finite() && t.abs() <= 3.0) {
+                return Err(format!(
+                    "{at}: platoon.{label} = {t} must be a log tilt in -3..3"
+                ));
+            }
+            habits.platoon.insert(label.clone(), t);
+        }
+    }
+    habits.outcomes = match h.outcomes.as_deref().map(str::trim) {
+        None | Some("league") => Outcomes::League,
+        Some("simple") => Outcomes::Simple,
+        Some(other) => {
+            return Err(format!(
+                "{at}: outcomes = \"{other}\"; write \"league\" or \"simple\""
+            ))
+        }
+    };
+    Ok(habits)
+}
+
+/// Every game date must find a starter and a reliever of the club on the staff.
+fn check_staffed(club: &str, seasons: &[Season], pitchers: &[PitcherSpec]) -> Result<(), String> {
+    if pitchers.is_empty() {
+        return Ok(());
+    }
+    for season in seasons {
+        for k in 0..season.games {
+            let date = season.game_date(k);
+            let day = date.to_days();
+            for role in [Role::Starter, Role::Reliever] {
+                if !pitchers
+                    .iter()
+                    .any(|p| p.role == role && p.on_staff(season.year, day))
+                {
+                    return Err(format!(
+                        "scenario: on {date} the club ({club}) has no {} on the staff; \
+                         widen a pitcher's seasons, joins or leaves",
+                        role.as_str()
+                    ));
+                }
+            }
+        }
+    }
+    Ok(())
 }
 
 /// Labels and names go into CSV cells: keep them plain.
@@ -695,6 +1132,7 @@ fn validate_pitcher(
     let mix = parse_mix(&at, "mix", &p.mix)?;
 
     let mut changes: Vec<MixChange> = Vec::new();
+    let mut label_changes: Vec<LabelChange> = Vec::new();
     for c in &p.change {
         let cat = format!("{at}, change for season {}", c.season);
         if !years.contains(&c.season) {
@@ -708,7 +1146,24 @@ fn validate_pitcher(
                 "{cat}: two changes in one season; merge them into one table"
             ));
         }
+        if c.drop.is_some() && (c.mix.is_some() || c.add.is_some()) {
+            return Err(format!(
+                "{cat}: write `drop` in a change of its own season, or fold it into `mix = {{...}}`"
+            ));
+        }
         let kind = match (&c.mix, &c.add) {
+            (None, None) => match &c.drop {
+                Some(d) if !d.is_empty() => {
+                    MixChangeKind::Drop(d.iter().map(|l| l.trim().to_string()).collect())
+                }
+                Some(_) => return Err(format!("{cat}: `drop` is empty; name the pitch he stops throwing")),
+                None if c.relabel.is_some() || c.split.is_some() => MixChangeKind::Keep,
+                None => {
+                    return Err(format!(
+                        "{cat}: the change changes nothing; write `mix`, `add`, `drop`, `relabel` or `split`"
+                    ))
+                }
+            },
             (Some(m), None) => MixChangeKind::Replace(parse_mix(&cat, "mix", m)?),
             (None, Some(a)) => {
                 if a.is_empty() {
@@ -738,13 +1193,73 @@ fn validate_pitcher(
                 ))
             }
         };
+        let mut written = Written::new();
+        for (from, to) in c.relabel.iter().flatten() {
+            check_text(&format!("{cat} relabel"), to)?;
+            written.insert(from.trim().to_string(), vec![(to.clone(), 1.0)]);
+        }
+        for (from, parts) in c.split.iter().flatten() {
+            let total: f64 = parts.values().sum();
+            if parts.is_empty()
+                || parts.values().any(|v| !(v.is_finite() && *v > 0.0))
+                || total >= 1.0
+            {
+                return Err(format!(
+                    "{cat}: split.{from}: give each new label a share above 0, together below 1 \
+                     (the rest keeps the label \"{from}\")"
+                ));
+            }
+            if written.contains_key(from.trim()) {
+                return Err(format!("{cat}: \"{from}\" is both relabelled and split; keep one"));
+            }
+            let mut ws = vec![(from.trim().to_string(), 1.0 - total)];
+            for (to, share) in parts {
+                check_text(&format!("{cat} split"), to)?;
+                ws.push((to.clone(), *share));
+            }
+            written.insert(from.trim().to_string(), ws);
+        }
+        if !written.is_empty() {
+            label_changes.push(LabelChange {
+                season: c.season,
+                written,
+            });
+        }
         changes.push(MixChange {
             season: c.season,
             kind,
         });
     }
     changes.sort_by_key(|c| c.season);
+    label_changes.sort_by_key(|c| c.season);
 
+    let day = |key: &str, text: &Option<String>| -> Result<Option<Date>, String> {
+        match text {
+            None => Ok(None),
+            Some(t) => Date::parse(t.trim()).map(Some).ok_or_else(|| {
+                format!("{at}: {key} = \"{t}\" is not a date; write it as YYYY-MM-DD")
+            }),
+        }
+    };
+    let joins = day("joins", &p.joins)?;
+    let leaves = day("leaves", &p.leaves)?;
+    if let (Some(j), Some(l)) = (joins, leaves) {
+        if j > l {
+            return Err(format!("{at}: joins = {j} is after leaves = {l}; swap them"));
+        }
+    }
+    if let Some(ss) = &p.seasons {
+        if ss.is_empty() {
+            return Err(format!("{at}: `seasons` is empty; list the seasons he pitches for the club"));
+        }
+        for y in ss {
+            if !years.contains(y) {
+                return Err(format!(
+                    "{at}: seasons lists {y}, not a [[season]] of the scenario ({years:?}); use one of them"
+                ));
+            }
+        }
+    }
     let mut spec = PitcherSpec {
         name: name.clone(),
         throws,
@@ -752,19 +1267,62 @@ fn validate_pitcher(
         mix,
         changes,
         rules: Vec::new(),
+        label_changes,
+        seasons: p.seasons.clone(),
+        joins,
+        leaves,
+        habits: p.habits.unwrap_or(true),
     };
-    // An added pitch must be new in that season.
+    if !seasons.iter().any(|s| {
+        (0..s.games).any(|k| spec.on_staff(s.year, s.game_date(k).to_days()))
+    }) {
+        return Err(format!(
+            "{at}: seasons, joins and leaves leave no game he could pitch in; widen them"
+        ));
+    }
+    // An added pitch must be new in that season (or a trace pitch, under
+    // 1%, becoming a real one); a dropped or relabelled one must be his.
     for c in &spec.changes {
-        if let MixChangeKind::Add(added) = &c.kind {
-            let before = spec.mix_in(c.season - 1);
-            for (label, _) in added {
-                if before.iter().any(|(l, _)| l == label) {
+        let before = spec.mix_in(c.season - 1);
+        match &c.kind {
+            MixChangeKind::Add(added) => {
+                for (label, _) in added {
+                    if before.iter().any(|(l, s)| l == label && *s >= 0.01) {
+                        return Err(format!(
+                            "{at}, change for season {}: add.{label}: he already throws it; \
+                             use `mix = {{...}}` to change its weight",
+                            c.season
+                        ));
+                    }
+                }
+            }
+            MixChangeKind::Drop(dropped) => {
+                for label in dropped {
+                    if !before.iter().any(|(l, _)| l == label) {
+                        return Err(format!(
+                            "{at}, change for season {}: drop: he does not throw \"{label}\" before then",
+                            c.season
+                        ));
+                    }
+                }
+                if before.len() <= dropped.len() {
                     return Err(format!(
-                        "{at}, change for season {}: add.{label}: he already throws it; \
-                         use `mix = {{...}}` to change its weight",
+                        "{at}, change for season {}: drop leaves him no pitch; keep one",
                         c.season
                     ));
                 }
+            }
+            _ => {}
+        }
+    }
+    for c in &spec.label_changes {
+        let mix = spec.mix_in(c.season);
+        for label in c.written.keys() {
+            if !mix.iter().any(|(l, _)| l == label) {
+                return Err(format!(
+                    "{at}, change for season {}: relabel/split of \"{label}\", which he does not throw then",
+                    c.season
+                ));
             }
         }
     }
@@ -904,19 +1462,61 @@ mod tests {
         }
     }
 
+    // Worked by hand (python3 arithmetic, in the commit that added it):
+    // the typical-count average of the default table is 0.5017347; a
+    // pitcher throwing fastballs half the time then throws them
+    // logistic(0 + logit(0.90) - logit(0.5017347)) = 0.8993738 at 3-0, and
+    // against a same-side batter (fastball x exp(-0.12), slider x
+    // exp(+0.28), renormalised) 0.8569623 fastballs, 0.1430377 sliders.
+    #[test]
+    fn habits_move_the_mix_by_count_and_platoon() {
+        let h = Habits::defaults();
+        assert!((h.average_fastball_share() - 0.501_734_7).abs() < 1e-6);
+        let mix = normalise(vec![("fastball".into(), 1.0), ("slider".into(), 1.0)]);
+        let count_3_0 = 9;
+        let same = h.apply(&mix, count_3_0, true);
+        assert!((same[0].1 - 0.856_962_3).abs() < 1e-6, "{same:?}");
+        assert!((same[1].1 - 0.143_037_7).abs() < 1e-6, "{same:?}");
+        // With no fastball in the mix the count leaves it alone; labels
+        // without a tilt do not move with the batter's side either.
+        let no_fb = normalise(vec![("curveball".into(), 1.0), ("knuckler".into(), 1.0)]);
+        assert_eq!(h.apply(&no_fb, count_3_0, true), no_fb);
+    }
+
+    #[test]
+    fn trace_pitch_becomes_real_and_a_drop_renormalises() {
+        let mut spec = PitcherSpec::plain(
+            "x".into(),
+            Hand::R,
+            Role::Starter,
+            normalise(vec![("fastball".into(), 59.5), ("slider".into(), 40.0), ("cutter".into(), 0.5)]),
+        );
+        spec.changes = vec![
+            MixChange { season: 2026, kind: MixChangeKind::Add(vec![("cutter".into(), 0.2)]) },
+            MixChange { season: 2027, kind: MixChangeKind::Drop(vec!["slider".into()]) },
+        ];
+        let m26 = spec.mix_in(2026);
+        let share = |m: &Mix, l: &str| m.iter().find(|x| x.0 == l).map_or(0.0, |x| x.1);
+        assert!((share(&m26, "cutter") - 0.2).abs() < 1e-12);
+        // The others keep their proportions (59.5 : 40) in the remaining 0.8.
+        assert!((share(&m26, "fastball") - 0.8 * 59.5 / 99.5).abs() < 1e-12);
+        let m27 = spec.mix_in(2027);
+        assert_eq!(m27.len(), 2);
+        assert!((share(&m27, "cutter") - 0.2 / (0.2 + 0.8 * 59.5 / 99.5)).abs() < 1e-12);
+    }
+
     #[test]
     fn add_keeps_proportions() {
-        let spec = PitcherSpec {
-            name: "x".into(),
-            throws: Hand::R,
-            role: Role::Starter,
-            mix: normalise(vec![("fastball".into(), 60.0), ("slider".into(), 40.0)]),
-            changes: vec![MixChange {
-                season: 2026,
-                kind: MixChangeKind::Add(vec![("cutter".into(), 0.25)]),
-            }],
-            rules: vec![],
-        };
+        let mut spec = PitcherSpec::plain(
+            "x".into(),
+            Hand::R,
+            Role::Starter,
+            normalise(vec![("fastball".into(), 60.0), ("slider".into(), 40.0)]),
+        );
+        spec.changes = vec![MixChange {
+            season: 2026,
+            kind: MixChangeKind::Add(vec![("cutter".into(), 0.25)]),
+        }];
         let m = spec.mix_in(2026);
         assert_eq!(
             m.iter().map(|(l, _)| l.as_str()).collect::<Vec<_>>(),
