@@ -28,7 +28,7 @@ fn main() {
     for name in ["Oren Vasquell", "Teodor Brimley", "Jory Kestenbaum"] {
         let p = ing.log.pitchers.iter().position(|x| x == name).unwrap() as u32;
         let rows: Vec<u32> = (0..ing.log.len() as u32).filter(|&i| ing.log.pitcher[i as usize] == p).collect();
-        let task = PitcherTask::build(&ing.log, &sit, &plan, p, rows);
+        let task = PitcherTask::build(&ing.log, &sit, &plan.local(&ing.log, &rows), p, rows);
         let mut ws = Workspace::new(&task);
         let mut labels = task.labels.clone();
         let mut best = f64::INFINITY;

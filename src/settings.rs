@@ -41,8 +41,12 @@ pub struct AuditConfig {
     pub stop_after_exceedances: Option<usize>,
     pub min_train_pitches: Option<usize>,
     pub min_test_pitches: Option<usize>,
-    /// Blocks of games for forward-chaining within one season.
+    /// Blocks of games: of each pitcher's latest season in the rolling
+    /// scheme, of a period in compare's forward-chaining.
     pub forward_blocks: Option<usize>,
+    /// A held-out pitch of a type under this share of the training pitches
+    /// is new to him: counted and explained, left out of the figures.
+    pub new_type_share: Option<f64>,
 }
 
 #[derive(Debug, Clone, Default, Deserialize)]
@@ -57,6 +61,9 @@ pub struct ModelConfig {
     pub split_alpha: Option<f64>,
     /// Pseudo-count pulling a leaf's pitch mix toward the pitcher's mix.
     pub leaf_smoothing: Option<f64>,
+    /// Weight of his usage prior blended into every node's mix, so no pitch
+    /// gets a held-out probability far below his plain mix's.
+    pub prior_blend: Option<f64>,
     /// Pseudo-count of the shrunk count and batter priors; "auto" (the
     /// default) estimates it by empirical Bayes.
     pub prior_strength: Option<toml::Value>,
@@ -127,8 +134,10 @@ pub struct Settings {
     pub min_train_pitches: usize,
     pub min_test_pitches: usize,
     pub forward_blocks: usize,
+    pub new_type_share: f64,
     pub tree: TreeSettings,
     pub leaf_smoothing: f64,
+    pub prior_blend: f64,
     pub split_alpha: f64,
     pub prior_strength: PriorStrength,
     pub min_type_pitches: usize,
@@ -189,7 +198,8 @@ impl ConfigFile {
 }
 
 fn check_range<T: PartialOrd + std::fmt::Display + Copy>(name: &str, v: T, lo: T, hi: T) -> Result<T> {
-    if v < lo || v > hi {
+    // Written so that NaN (which compares false with everything) fails too.
+    if !(v >= lo && v <= hi) {
         return Err(Error::Usage(format!("{name} = {v} is outside {lo}..{hi}; choose a value in that range")));
     }
     Ok(v)
@@ -290,8 +300,10 @@ impl Settings {
             min_train_pitches: check_range("[audit] min_train_pitches", a.min_train_pitches.unwrap_or(300), 50, 10_000_000)?,
             min_test_pitches: check_range("[audit] min_test_pitches", a.min_test_pitches.unwrap_or(100), 20, 10_000_000)?,
             forward_blocks: check_range("[audit] forward_blocks", a.forward_blocks.unwrap_or(5), 2, 50)?,
+            new_type_share: check_range("[audit] new_type_share", a.new_type_share.unwrap_or(0.01), 0.0, 0.5)?,
             tree,
             leaf_smoothing: check_range("[model] leaf_smoothing", m.leaf_smoothing.unwrap_or(10.0), 0.01, 1e6)?,
+            prior_blend: check_range("[model] prior_blend", m.prior_blend.unwrap_or(0.1), 0.0, 1.0)?,
             split_alpha: check_range("[model] split_alpha", m.split_alpha.unwrap_or(0.05), 1e-12, 1.0)?,
             prior_strength,
             min_type_pitches: check_range("[model] min_type_pitches", m.min_type_pitches.unwrap_or(30), 1, 1_000_000)?,

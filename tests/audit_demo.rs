@@ -93,11 +93,22 @@ fn every_planted_tell_is_flagged() {
     assert!(t.held_out_share.unwrap() < 0.6, "the 2026 drop to 50% shows held out");
 }
 
+/// Halloran's cutter is new in 2026 (a quarter of his pitches). Scored
+/// rolling, it is new only to the first block of 2026 (about 480 pitches, a
+/// quarter of them cutters: 60-200 with room for chance), and enters the
+/// model once he has thrown it; season-forward, every 2026 cutter is new
+/// (about 600).
 #[test]
 fn the_new_pitch_is_called_out() {
     let p = pitcher("Wes Halloran");
-    assert!(p.n_unseen_type.unwrap() > 400);
+    let unseen = p.n_unseen_type.unwrap();
+    assert!((60..=200).contains(&unseen), "{unseen} new-type pitches");
     assert!(p.cautions.iter().any(|c| c.contains("cutter")), "{:?}", p.cautions);
+    let s = Settings { test_season: Some(2026), ..settings(19) };
+    let a = audit::run(&demo_log(), &s, false).unwrap();
+    let p = a.summary.pitchers.iter().find(|p| p.pitcher == "Wes Halloran").unwrap();
+    assert_eq!(p.evaluation.scheme, "season-forward");
+    assert!(p.n_unseen_type.unwrap() > 400);
 }
 
 #[test]
@@ -152,7 +163,7 @@ fn held_out_labels_never_shape_the_fit() {
     for name in ["Oren Vasquell", "Jory Kestenbaum"] {
         let p = ing.log.pitchers.iter().position(|x| x == name).unwrap() as u32;
         let rows: Vec<u32> = (0..ing.log.len() as u32).filter(|&i| ing.log.pitcher[i as usize] == p).collect();
-        let task = PitcherTask::build(&ing.log, &sit, &plan, p, rows);
+        let task = PitcherTask::build(&ing.log, &sit, &plan.local(&ing.log, &rows), p, rows);
         let mut ws = Workspace::new(&task);
         let a = fit_and_score(&task, &task.labels, &s, &mut ws, true);
         // Shuffle the held-out season's labels only.

@@ -7,7 +7,7 @@ pub mod wording;
 
 use crate::error::{Error, Result};
 use crate::evaluate::fit::{argmax, fit_and_score, statistic, Workspace};
-use crate::evaluate::split::Plan;
+use crate::evaluate::split::{PitcherPlan, Plan};
 use crate::evaluate::task::PitcherTask;
 use crate::evaluate::{self, HeldOut};
 use crate::ingest::{self, Ingested, Rejected};
@@ -81,8 +81,46 @@ pub fn run(path: &Path, settings: &Settings, show_progress: bool) -> Result<Audi
     t.lap("ingest");
     let sit = situations::build(&log);
     t.lap("situations");
-    let plan = Plan::new(&log, settings.test_season, settings.forward_blocks)?;
-    audit_log(&log, &sit, &plan, rejected, source, settings, show_progress)
+    let scheme = match settings.test_season {
+        Some(test) => Evaluation::SeasonForward(Plan::season_forward(&log, test)?),
+        None => Evaluation::Rolling { blocks: settings.forward_blocks },
+    };
+    audit_log(&log, &sit, &scheme, rejected, source, settings, show_progress)
+}
+
+/// How the audit scores its pitchers.
+pub enum Evaluation {
+    /// Every pitcher: his latest season in blocks, each scored from
+    /// everything of his before it (the default).
+    Rolling { blocks: usize },
+    /// One plan for the whole log (`--test-season`).
+    SeasonForward(Plan),
+}
+
+impl Evaluation {
+    fn plan_for(&self, log: &ingest::PitchLog, rows: &[u32], settings: &Settings) -> PitcherPlan {
+        match self {
+            Evaluation::Rolling { blocks } => PitcherPlan::rolling(log, rows, *blocks, settings.min_train_pitches),
+            Evaluation::SeasonForward(plan) => plan.local(log, rows),
+        }
+    }
+
+    fn out(&self) -> EvaluationOut {
+        match self {
+            Evaluation::Rolling { blocks } => EvaluationOut {
+                scheme: "rolling".into(),
+                train: "for each pitcher, everything of his before each scored block (earlier seasons and earlier blocks)".into(),
+                test: format!("each pitcher's latest season in the log, split by date into up to {blocks} blocks, each scored by a model fitted on his pitches before it"),
+                tells_checked_on: "each pitcher's latest season (the later half of it when he has no earlier season to find tells on)".into(),
+            },
+            Evaluation::SeasonForward(plan) => EvaluationOut {
+                scheme: plan.scheme_name().into(),
+                train: plan.train_label.clone(),
+                test: plan.test_label.clone(),
+                tells_checked_on: plan.tells_label.clone(),
+            },
+        }
+    }
 }
 
 /// The report's notes about its input: factors left out (`left_out` says
@@ -129,7 +167,7 @@ pub fn selected_pitchers(log: &ingest::PitchLog, settings: &Settings) -> Result<
 pub fn audit_log(
     log: &ingest::PitchLog,
     sit: &Situations,
-    plan: &Plan,
+    scheme: &Evaluation,
     rejected: Vec<Rejected>,
     source: ingest::SourceInfo,
     settings: &Settings,
@@ -141,9 +179,26 @@ pub fn audit_log(
     for i in 0..log.len() {
         rows_of[log.pitcher[i] as usize].push(i as u32);
     }
+    // Every pitcher's plan (the tells' staff shares read all pitchers'
+    // discovery rows), then the chosen pitchers' tasks.
+    let plans: Vec<Option<PitcherPlan>> = rows_of
+        .par_iter()
+        .map(|rows| (!rows.is_empty()).then(|| scheme.plan_for(log, rows, settings)))
+        .collect();
+    let mut discovery = vec![false; log.len()];
+    for (rows, plan) in rows_of.iter().zip(&plans) {
+        if let Some(plan) = plan {
+            for (&r, &d) in rows.iter().zip(&plan.discovery) {
+                discovery[r as usize] = d;
+            }
+        }
+    }
     let tasks: Vec<PitcherTask> = chosen
         .par_iter()
-        .map(|&p| PitcherTask::build(log, sit, plan, p, rows_of[p as usize].clone()))
+        .map(|&p| {
+            let plan = plans[p as usize].as_ref().expect("a pitcher in the log has rows");
+            PitcherTask::build(log, sit, plan, p, rows_of[p as usize].clone())
+        })
         .collect();
     let enough = |t: &PitcherTask| t.n_train() >= settings.min_train_pitches && t.n_test() >= settings.min_test_pitches;
     let ok_tasks: Vec<&PitcherTask> = tasks.iter().filter(|t| enough(t)).collect();
@@ -166,7 +221,7 @@ pub fn audit_log(
                 .map(|(t, o)| permute::permutation_test(t, o.statistic, settings, &tick))
                 .collect()
         },
-        || tells::find(log, sit, &plan.discovery, &ok_tasks, settings),
+        || tells::find(log, sit, &discovery, &ok_tasks, settings),
     );
     bar.finish_and_clear();
     timer.lap("permutation and tell tests");
@@ -177,13 +232,29 @@ pub fn audit_log(
     let mut ok_iter = 0usize;
     for task in &tasks {
         let throws = log.throws[task.rows[0] as usize].as_str().to_string();
+        let mut pitches_by_season = BTreeMap::new();
+        for &r in &task.rows {
+            *pitches_by_season.entry(log.season[r as usize]).or_insert(0usize) += 1;
+        }
         if !enough(task) {
+            let reason = format!(
+                "{} pitches in the log ({}); the models could learn from at most {} of them and score {}, and at least {} to learn from and {} to score are needed before any figure is shown",
+                task.rows.len(),
+                pitches_by_season.iter().map(|(y, n)| format!("{n} in {y}")).collect::<Vec<_>>().join(", "),
+                task.n_train(),
+                task.n_test(),
+                settings.min_train_pitches,
+                settings.min_test_pitches
+            );
             pitchers.push(PitcherSummary {
                 pitcher: task.name.clone(),
                 throws,
                 status: "insufficient data".into(),
                 n_train: task.n_train(),
                 n_test: task.n_test(),
+                pitches_by_season,
+                evaluation: task.evaluation.clone(),
+                reason: Some(reason.clone()),
                 mix: None,
                 test_mix: None,
                 prior_pitch: None,
@@ -205,14 +276,9 @@ pub fn audit_log(
                 tells: Vec::new(),
                 rules: Vec::new(),
                 n_unseen_type: None,
+                arsenal_changes: Vec::new(),
                 tell_family_q: None,
-                cautions: vec![format!(
-                    "Only {} training and {} held-out pitches; at least {} and {} are needed before any figure is shown.",
-                    task.n_train(),
-                    task.n_test(),
-                    settings.min_train_pitches,
-                    settings.min_test_pitches
-                )],
+                cautions: vec![format!("No figures: {reason}.")],
             });
             continue;
         }
@@ -250,18 +316,38 @@ pub fn audit_log(
                 task.n_test()
             ));
         }
-        for (t, &share) in &test_mix {
-            let before = mix.get(t).copied().unwrap_or(0.0);
-            if share >= settings.new_pitch_share && before < settings.absent_share {
-                cautions.push(format!(
-                    "He threw a {t} in {} ({:.0}% of pitches) that he hardly threw in {} ({:.1}%). Neither guess could know a pitch it had not seen, so {} held-out pitches of types new to him are left out of his figures, and his tells describe the old arsenal.",
-                    plan.test_label,
-                    100.0 * share,
-                    plan.train_label,
-                    100.0 * before,
-                    o.scored.unseen
-                ));
+        // A changed arsenal: his mix where tells are found (earlier seasons,
+        // or the first half of his only season) against where they are
+        // checked.
+        let found_mix = mix_of(names, task, &task.discovery);
+        let mut arsenal_changes = Vec::new();
+        for t in found_mix.keys().chain(test_mix.keys()).collect::<std::collections::BTreeSet<_>>() {
+            let before = found_mix.get(t).copied().unwrap_or(0.0);
+            let after = test_mix.get(t).copied().unwrap_or(0.0);
+            if after >= settings.new_pitch_share && before < settings.absent_share {
+                arsenal_changes.push(ArsenalChange { pitch_type: t.clone(), change: "added".into(), before, after });
+            } else if before >= settings.new_pitch_share && after < settings.absent_share {
+                arsenal_changes.push(ArsenalChange { pitch_type: t.clone(), change: "dropped".into(), before, after });
             }
+        }
+        for c in &arsenal_changes {
+            let (what, t) = (&c.change, &c.pitch_type);
+            cautions.push(if what == "added" {
+                format!(
+                    "Changed arsenal: a {t} is {:.0}% of his pitches in {} but was {:.1}% before. Until he had thrown it in the games a model learned from, it was new to the models: {} pitches of types new to him are left out of his figures (counted, not scored); after that the {t} is scored like any other pitch. His tells found on the older games describe the old arsenal.",
+                    100.0 * c.after,
+                    task.evaluation.tells_checked_on,
+                    100.0 * c.before,
+                    o.scored.unseen
+                )
+            } else {
+                format!(
+                    "Changed arsenal: he dropped his {t} ({:.0}% of pitches before, {:.1}% in {}); tells about it describe a pitch he no longer throws.",
+                    100.0 * c.before,
+                    100.0 * c.after,
+                    task.evaluation.tells_checked_on
+                )
+            });
         }
         let tvd: f64 = mix
             .keys()
@@ -274,13 +360,13 @@ pub fn audit_log(
         if tvd >= 0.15 {
             cautions.push(format!(
                 "His pitch mix changed between {} and {} (total variation {:.2}); a changed role or arsenal makes held-out figures less comparable. See `tellscope compare`.",
-                plan.train_label, plan.test_label, tvd
+                task.evaluation.train, task.evaluation.scored, tvd
             ));
         }
         if o.figures.bits_gained < -margin {
             cautions.push(format!(
                 "His situational guess did worse on {} than his plain pitch mix ({:+.3} bits per pitch): the tendencies learned from {} did not carry over. Something changed; see `tellscope compare`.",
-                plan.test_label, o.figures.bits_gained, plan.train_label
+                task.evaluation.scored, o.figures.bits_gained, task.evaluation.train
             ));
         }
         let rules = wording::rules(task, &o.scored, names);
@@ -290,6 +376,9 @@ pub fn audit_log(
             status: "ok".into(),
             n_train: task.n_train(),
             n_test: task.n_test(),
+            pitches_by_season,
+            evaluation: task.evaluation.clone(),
+            reason: None,
             mix: Some(mix),
             test_mix: Some(test_mix),
             prior_pitch: Some(prior_pitch),
@@ -311,6 +400,7 @@ pub fn audit_log(
             tells: flagged.into_iter().cloned().collect(),
             rules,
             n_unseen_type: Some(o.scored.unseen),
+            arsenal_changes,
             tell_family_q: his.first().map(|t| t.family_q),
             cautions,
         });
@@ -347,12 +437,7 @@ pub fn audit_log(
                 crate::settings::FdrMethod::Pooled => "pooled".into(),
             },
         },
-        evaluation: EvaluationOut {
-            scheme: plan.scheme_name().into(),
-            train: plan.train_label.clone(),
-            test: plan.test_label.clone(),
-            tells_checked_on: plan.tells_label.clone(),
-        },
+        evaluation: scheme.out(),
         notes,
         tell_tests: tests.len(),
         tells_flagged: tests.iter().filter(|t| t.flagged).count(),

@@ -136,6 +136,13 @@ pub struct PitcherSummary {
     pub status: String,
     pub n_train: usize,
     pub n_test: usize,
+    /// His pitches in the log, by season.
+    pub pitches_by_season: BTreeMap<i32, usize>,
+    /// His own evaluation: scheme, what was trained on, what was scored.
+    pub evaluation: crate::evaluate::split::PitcherEvaluation,
+    /// Why he has no figures (insufficient data only).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub reason: Option<String>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub mix: Option<BTreeMap<String, f64>>,
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -183,11 +190,26 @@ pub struct PitcherSummary {
     /// Held-out pitches of a type unseen in training, left out of the figures.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub n_unseen_type: Option<usize>,
+    /// Pitches added to or dropped from his arsenal between where his tells
+    /// are found and where they are checked (`[compare] new_pitch_share` and
+    /// `absent_share` decide).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub arsenal_changes: Vec<ArsenalChange>,
     /// q-value of "he has some tell" (the first stage of the tell FDR control).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub tell_family_q: Option<f64>,
     /// Plain-words cautions for this pitcher (small samples, a changed mix).
     pub cautions: Vec<String>,
+}
+
+/// A pitch added to or dropped from a pitcher's arsenal.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ArsenalChange {
+    pub pitch_type: String,
+    /// `added` or `dropped`.
+    pub change: String,
+    pub before: f64,
+    pub after: f64,
 }
 
 impl PitcherSummary {

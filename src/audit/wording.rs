@@ -301,3 +301,18 @@ mod tests {
         assert!((r[0].1 - 0.05).abs() < 1e-12 && (r[1].1 - 0.15).abs() < 1e-12, "{r:?}");
     }
 }
+
+/// How a pitcher was scored, in a coach's words: "Scored on his 33 games of
+/// 2026 (3,047 pitches, 2026-03-26 to 2026-09-28), in 5 blocks by date, each
+/// from a model fitted on everything of his before it."
+pub fn evaluation_sentence(e: &crate::evaluate::split::PitcherEvaluation) -> String {
+    let dates = match (&e.scored_from, &e.scored_to) {
+        (Some(a), Some(b)) if a != b => format!(" ({a} to {b})"),
+        (Some(a), _) => format!(" ({a})"),
+        _ => String::new(),
+    };
+    format!(
+        "How he was scored: {}{dates}; the models learned from {}. An opponent could have done the same with the games he had seen.",
+        e.scored, e.train
+    )
+}

@@ -81,10 +81,17 @@ pub fn run(args: Args) -> Result<()> {
 /// The compact staff table and the top tells.
 pub fn print_table(audit: &Audit, out: &Path) {
     let s = &audit.summary;
-    println!(
-        "{} pitches ({} rejected); trained on {}, held out {}; {} permutations, FDR {}",
-        s.input.rows_kept, s.input.rows_rejected, s.evaluation.train, s.evaluation.test, s.settings.permutations, s.settings.fdr
-    );
+    if s.evaluation.scheme == "rolling" {
+        println!(
+            "{} pitches ({} rejected); scored: {}; {} permutations, FDR {}",
+            s.input.rows_kept, s.input.rows_rejected, s.evaluation.test, s.settings.permutations, s.settings.fdr
+        );
+    } else {
+        println!(
+            "{} pitches ({} rejected); trained on {}, held out {}; {} permutations, FDR {}",
+            s.input.rows_kept, s.input.rows_rejected, s.evaluation.train, s.evaluation.test, s.settings.permutations, s.settings.fdr
+        );
+    }
     println!();
     println!("{:<22} {:>6} {:>6} {:>7} {:>7} {:>7} {:>7} {:>7} {:>6}", "pitcher", "train", "test", "prior", "model", "lift", "bits", "q", "tells");
     let mut rows: Vec<_> = s.pitchers.iter().filter(|p| p.is_ok()).collect();
@@ -121,7 +128,12 @@ pub fn print_table(audit: &Audit, out: &Path) {
         println!();
         println!("Top tells:");
         for t in top.iter().take(8) {
-            println!("  {}: {}", t.pitcher, wording::tell_sentence(t, &s.evaluation.tells_checked_on));
+            let checked = s
+                .pitchers
+                .iter()
+                .find(|p| p.pitcher == t.pitcher)
+                .map_or(s.evaluation.tells_checked_on.as_str(), |p| p.evaluation.tells_checked_on.as_str());
+            println!("  {}: {}", t.pitcher, wording::tell_sentence(t, checked));
         }
     }
     println!();

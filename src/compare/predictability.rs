@@ -78,7 +78,7 @@ pub struct PeriodFit {
 /// within those rows' games.
 pub fn build_task(log: &PitchLog, sit: &Situations, pitcher: u32, rows: &[u32], blocks: usize, label: &str) -> Result<PitcherTask> {
     let plan = Plan::forward_chaining(log, rows, blocks, label)?;
-    Ok(PitcherTask::build(log, sit, &plan, pitcher, rows.to_vec()))
+    Ok(PitcherTask::build(log, sit, &plan.local(log, rows), pitcher, rows.to_vec()))
 }
 
 /// Fit and score a task. With `per_game` the held-out figures and each

@@ -286,6 +286,7 @@ pub fn fit_and_score(
             ws.kept.extend(0..grown.nodes.len());
         }
         smoothed_node_probs_into(&grown, mix, settings.leaf_smoothing, &mut ws.parent, &mut ws.grown_p);
+        blend_toward(&mut ws.grown_p, mix, settings.prior_blend);
         // The statistic is summed the same way for the real labels and every
         // permutation (logs of each node's probabilities taken once), so a
         // refit that reproduces the observed model ties with it exactly.
@@ -303,12 +304,17 @@ pub fn fit_and_score(
             ws.flat.leaves(&ws.x, &fold.test, &mut ws.leaves);
             assert_eq!(ws.leaves, leaves, "held-out leaves from growing disagree with the tree");
         }
+        // A type he threw under `new_type_share` of the training pitches is
+        // new to him: neither guess can know it, so its held-out pitches are
+        // counted (`unseen`) and left out of the figures, the same way for
+        // the real labels and every permutation.
+        let new_below = ((settings.new_type_share * n_train as f64).ceil() as u32).max(1);
         // The sums run in locals (row order, on from the earlier folds').
         let mut t = out.totals;
         for (&r, &g) in fold.test.iter().zip(leaves) {
             let g = g as usize;
             let y = labels[r as usize] as usize;
-            if usage.counts[y] == 0 {
+            if usage.counts[y] < new_below {
                 out.unseen += 1;
                 continue;
             }
@@ -360,9 +366,29 @@ fn prior_codes(count_codes: &[u8], batter_codes: &[u8], k: usize, slots: &[(u32,
     }
 }
 
+/// Every node's probabilities blended with the usage prior:
+/// p ← (1 − w)·p + w·mix. With the root equal to the prior, a model that
+/// keeps only its root is exactly the prior; in any leaf no pitch falls
+/// below w times his plain-mix probability, so a pitch that grows into his
+/// arsenal can cost the model at most log2(1/w) bits against the prior
+/// (w = 0.1: 3.3 bits), whatever the tree learned from older games.
+pub fn blend_toward(p: &mut [f64], mix: &[f64], w: f64) {
+    if w == 0.0 {
+        return;
+    }
+    let k = mix.len();
+    // Node 0 is the root (pre-order) and already the prior; it is left
+    // as it is so that it stays the prior to the last bit.
+    for node in p.chunks_mut(k).skip(1) {
+        for (x, m) in node.iter_mut().zip(mix) {
+            *x = (1.0 - w) * *x + w * m;
+        }
+    }
+}
+
 /// Class probabilities of every node, each node's counts pulled toward its
-/// parent's probabilities by `a` pseudo-pitches, starting from the usage
-/// prior at the root: p(node) = (c(node) + a·p(parent)) / (n(node) + a).
+/// parent's probabilities by `a` pseudo-pitches; the root is the usage
+/// prior itself: p(root) = mix, p(node) = (c(node) + a·p(parent)) / (n(node) + a).
 /// Smoothing toward the parent rather than straight to the prior keeps what
 /// the upper splits learned in small leaves and keeps every probability off
 /// 0 and 1 (Ferri, Flach & Hernández-Orallo 2003, "Improving the AUC of
@@ -385,8 +411,14 @@ pub fn smoothed_node_probs_into(tree: &Tree, mix: &[f64], a: f64, parent: &mut V
     for i in 0..n {
         let node = &tree.nodes[i];
         let total: u32 = node.class_counts.iter().sum();
+        if parent[i] == usize::MAX {
+            // The root is his usage prior exactly, so a tree pruned to its
+            // root scores exactly 0 bits gained (its ties are exact).
+            p[i * k..(i + 1) * k].copy_from_slice(mix);
+            continue;
+        }
         for c in 0..k {
-            let up = if parent[i] == usize::MAX { mix[c] } else { p[parent[i] * k + c] };
+            let up = p[parent[i] * k + c];
             p[i * k + c] = (node.class_counts[c] as f64 + a * up) / (total as f64 + a);
         }
     }
@@ -404,17 +436,20 @@ pub fn smoothed_node_probs(tree: &Tree, mix: &[f64], a: f64) -> Vec<f64> {
 fn smoothed_node_probs_recursive(tree: &Tree, mix: &[f64], a: f64) -> Vec<f64> {
     let k = mix.len();
     let mut p = vec![0.0; tree.nodes.len() * k];
-    let mut stack: Vec<(usize, Vec<f64>)> = vec![(0, mix.to_vec())];
+    let mut stack: Vec<(usize, Option<Vec<f64>>)> = vec![(0, None)];
     while let Some((i, parent)) = stack.pop() {
         let node = &tree.nodes[i];
         let n: u32 = node.class_counts.iter().sum();
         for c in 0..k {
-            p[i * k + c] = (node.class_counts[c] as f64 + a * parent[c]) / (n as f64 + a);
+            p[i * k + c] = match &parent {
+                None => mix[c],
+                Some(parent) => (node.class_counts[c] as f64 + a * parent[c]) / (n as f64 + a),
+            };
         }
         if let Some(s) = node.split {
             let me = p[i * k..(i + 1) * k].to_vec();
-            stack.push((s.right, me.clone()));
-            stack.push((s.left, me));
+            stack.push((s.right, Some(me.clone())));
+            stack.push((s.left, Some(me)));
         }
     }
     p
@@ -500,5 +535,18 @@ mod tests {
         // (30 + 10·0.8)/42 = 0.904762.
         let p = smoothed_node_probs(&t, &mix, 10.0);
         assert!((p[2] - 0.8).abs() < 1e-12 && (p[4] - 38.0 / 42.0).abs() < 1e-12);
+        // The root is the usage prior itself, even when the prior is
+        // smoothed differently from the root's counts.
+        let prior = [0.55, 0.45];
+        let q = smoothed_node_probs(&t, &prior, 10.0);
+        assert_eq!(&q[..2], &prior);
+        // Blended 0.1 toward the prior, node 2's first class is
+        // 0.9 · (30 + 10·(50 + 5.5)/70)/42 + 0.1 · 0.55 (by hand).
+        let mut b = q.clone();
+        blend_toward(&mut b, &prior, 0.1);
+        let node1 = (50.0 + 10.0 * 0.55) / 70.0;
+        let node2 = (30.0 + 10.0 * node1) / 42.0;
+        assert!((b[4] - (0.9 * node2 + 0.1 * 0.55)).abs() < 1e-12);
+        assert_eq!(&b[..2], &prior);
     }
 }

@@ -14,6 +14,169 @@ pub enum Scheme {
     /// One season: its games split by date into `blocks`; each block after
     /// the first is scored by a model fitted on the blocks before it.
     ForwardChaining { season: i32, blocks: usize },
+    /// Per pitcher: his latest season's games split by date into `blocks`,
+    /// each scored by a model fitted on everything of his before it
+    /// (earlier seasons and earlier blocks).
+    Rolling { blocks: usize },
+}
+
+/// One pitcher's evaluation, as `summary.json` and the report state it.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct PitcherEvaluation {
+    pub scheme: &'static str,
+    /// What the models learned from, in words.
+    pub train: String,
+    /// Which games and dates were scored, in words.
+    pub scored: String,
+    /// Pitches in the scored games (before any pitch new to him is left out).
+    pub n_scored: usize,
+    /// First and last date of the scored games (`YYYY-MM-DD`).
+    pub scored_from: Option<String>,
+    pub scored_to: Option<String>,
+    /// Games scored.
+    pub scored_games: usize,
+    /// Where his tells are checked (his held-out rows), in words.
+    pub tells_checked_on: String,
+}
+
+/// A plan for one pitcher's rows (local indices, his rows in log order):
+/// which fold scores each row, from which fold on it trains, the rows tells
+/// are found on and checked on, and the permutation stratum of each row
+/// (the unit within which his labels are exchangeable under the null).
+#[derive(Debug, Clone)]
+pub struct PitcherPlan {
+    pub n_folds: usize,
+    pub test_fold: Vec<Option<u8>>,
+    pub train_from: Vec<Option<u8>>,
+    pub discovery: Vec<bool>,
+    pub held_out: Vec<bool>,
+    /// Stratum of each row, numbered from 0.
+    pub stratum: Vec<u16>,
+    pub evaluation: PitcherEvaluation,
+}
+
+impl PitcherPlan {
+    /// Does local row `i` train fold `f`?
+    #[inline]
+    pub fn trains(&self, i: usize, f: usize) -> bool {
+        matches!(self.train_from[i], Some(b) if (b as usize) <= f)
+    }
+
+    /// The rolling scheme for one pitcher's `rows` (global indices, log
+    /// order): his latest season's games, in date order, dealt into
+    /// `blocks` consecutive blocks (fewer when he pitched fewer games); each
+    /// block scored by a model fitted on all his pitches before it. With no
+    /// earlier season the first block only trains. Tells are found on his
+    /// earlier seasons when they hold `min_discovery` pitches, and checked
+    /// on his latest season; otherwise found on the first half of the
+    /// latest season's blocks and checked on the rest.
+    ///
+    /// Permutation strata are his earlier seasons (one each) and the latest
+    /// season's blocks (one each): a null shuffle never moves a label across
+    /// the line between what a model learns from and what it scores, so a
+    /// mix that drifts during the season stays in the null.
+    pub fn rolling(log: &PitchLog, rows: &[u32], blocks: usize, min_discovery: usize) -> PitcherPlan {
+        let n = rows.len();
+        let latest = rows.iter().map(|&r| log.season[r as usize]).max().unwrap_or(0);
+        let mut games: Vec<(i32, u32)> = rows
+            .iter()
+            .filter(|&&r| log.season[r as usize] == latest)
+            .map(|&r| (log.date[r as usize], log.game[r as usize]))
+            .collect();
+        games.sort_unstable();
+        games.dedup();
+        let n_games = games.len();
+        let blocks = blocks.min(n_games).max(1);
+        let block_of = |r: usize| -> u8 {
+            let i = games.binary_search(&(log.date[r], log.game[r])).expect("a game of his latest season");
+            (i * blocks / n_games) as u8
+        };
+        let mut earlier_seasons: Vec<i32> =
+            rows.iter().map(|&r| log.season[r as usize]).filter(|&s| s < latest).collect();
+        earlier_seasons.sort_unstable();
+        earlier_seasons.dedup();
+        let n_earlier = rows.iter().filter(|&&r| log.season[r as usize] < latest).count();
+        // With earlier pitches, fold f scores block f; without, fold f
+        // scores block f + 1 (the first block has nothing before it).
+        let shift = usize::from(n_earlier == 0);
+        let n_folds = blocks - shift;
+        let last = (blocks - 1) as u8;
+        let first_held = if n_earlier >= min_discovery { 0 } else { blocks.div_ceil(2) as u8 };
+        let mut plan = PitcherPlan {
+            n_folds,
+            test_fold: vec![None; n],
+            train_from: vec![None; n],
+            discovery: vec![false; n],
+            held_out: vec![false; n],
+            stratum: vec![0; n],
+            evaluation: PitcherEvaluation {
+                scheme: "rolling",
+                train: String::new(),
+                scored: String::new(),
+                n_scored: 0,
+                scored_from: None,
+                scored_to: None,
+                scored_games: 0,
+                tells_checked_on: if first_held == 0 {
+                    format!("his {latest} games")
+                } else {
+                    format!("his later games of {latest}")
+                },
+            },
+        };
+        let mut scored_games = std::collections::BTreeSet::new();
+        for (i, &r) in rows.iter().enumerate() {
+            let r = r as usize;
+            if log.season[r] < latest {
+                plan.train_from[i] = Some(0);
+                plan.discovery[i] = true;
+                plan.stratum[i] = earlier_seasons.binary_search(&log.season[r]).unwrap() as u16;
+                continue;
+            }
+            let b = block_of(r);
+            plan.stratum[i] = (earlier_seasons.len() + b as usize) as u16;
+            // Block b trains every fold that scores a later block.
+            if b < last {
+                plan.train_from[i] = Some(b + 1 - shift as u8);
+            }
+            if b as usize >= shift {
+                plan.test_fold[i] = Some(b - shift as u8);
+                plan.evaluation.n_scored += 1;
+                scored_games.insert((log.date[r], log.game[r]));
+            }
+            plan.discovery[i] = b < first_held;
+            plan.held_out[i] = b >= first_held;
+        }
+        let day = crate::ingest::parse::format_date;
+        plan.evaluation.scored_games = scored_games.len();
+        plan.evaluation.scored_from = scored_games.first().map(|g| day(g.0));
+        plan.evaluation.scored_to = scored_games.last().map(|g| day(g.0));
+        let per_block = if n_folds > 1 { format!("in {n_folds} blocks by date, each") } else { "in one block".to_string() };
+        plan.evaluation.scored = if shift == 0 {
+            format!(
+                "his {} games of {latest} ({} pitches), {per_block} scored by a model fitted on everything of his before it",
+                scored_games.len(),
+                plan.evaluation.n_scored
+            )
+        } else {
+            format!(
+                "his last {} of {n_games} games of {latest} ({} pitches), {per_block} scored by a model fitted on his games before it; his first {} games only trained the models",
+                scored_games.len(),
+                plan.evaluation.n_scored,
+                n_games - scored_games.len()
+            )
+        };
+        plan.evaluation.train = match earlier_seasons.as_slice() {
+            [] => format!("his earlier games of {latest}"),
+            [one] => format!("his {one} games ({n_earlier} pitches) and his earlier games of {latest}"),
+            many => format!(
+                "his games of {}-{} ({n_earlier} pitches) and his earlier games of {latest}",
+                many[0],
+                many[many.len() - 1]
+            ),
+        };
+        plan
+    }
 }
 
 /// Which block (0-based) each row's game falls in, and the fold layout,
@@ -113,6 +276,25 @@ impl Plan {
         })
     }
 
+    /// Season-forward on `test`: train on every earlier season, score
+    /// `test`. A season with no season before it cannot be scored this way
+    /// (the audit's default rolling scheme can).
+    pub fn season_forward(log: &PitchLog, test: i32) -> Result<Plan> {
+        let seasons = log.seasons();
+        if !seasons.contains(&test) {
+            return Err(Error::Usage(format!(
+                "--test-season {test} is not in the log (seasons: {}); pick one of those",
+                seasons.iter().map(|s| s.to_string()).collect::<Vec<_>>().join(", ")
+            )));
+        }
+        if !seasons.iter().any(|&s| s < test) {
+            return Err(Error::Usage(format!(
+                "--test-season {test} is the log's earliest season, so no earlier season can train on it; pick a later season or leave --test-season out for the rolling scheme"
+            )));
+        }
+        Plan::new(log, Some(test), 2)
+    }
+
     /// Forward-chaining over the games of the listed rows only (one
     /// pitcher's games in one period, say), whatever their seasons: those
     /// games, in date order, are dealt into `blocks` consecutive blocks of
@@ -175,6 +357,39 @@ impl Plan {
         match self.scheme {
             Scheme::SeasonForward { .. } => "season-forward",
             Scheme::ForwardChaining { .. } => "forward-chaining",
+            Scheme::Rolling { .. } => "rolling",
+        }
+    }
+
+    /// This plan restricted to one pitcher's `rows` (global, log order);
+    /// permutation strata are his seasons.
+    pub fn local(&self, log: &PitchLog, rows: &[u32]) -> PitcherPlan {
+        let at = |r: &u32| *r as usize;
+        let mut seasons: Vec<i32> = rows.iter().map(|&r| log.season[r as usize]).collect();
+        seasons.sort_unstable();
+        seasons.dedup();
+        let mut scored_games = std::collections::BTreeSet::new();
+        for r in rows.iter().map(at).filter(|&r| self.test_fold[r].is_some()) {
+            scored_games.insert((log.date[r], log.game[r]));
+        }
+        let day = crate::ingest::parse::format_date;
+        PitcherPlan {
+            n_folds: self.n_folds,
+            test_fold: rows.iter().map(|r| self.test_fold[at(r)]).collect(),
+            train_from: rows.iter().map(|r| self.train_from[at(r)]).collect(),
+            discovery: rows.iter().map(|r| self.discovery[at(r)]).collect(),
+            held_out: rows.iter().map(|r| self.held_out[at(r)]).collect(),
+            stratum: rows.iter().map(|&r| seasons.binary_search(&log.season[r as usize]).unwrap() as u16).collect(),
+            evaluation: PitcherEvaluation {
+                scheme: self.scheme_name(),
+                train: self.train_label.clone(),
+                scored: self.test_label.clone(),
+                n_scored: rows.iter().filter(|r| self.test_fold[at(r)].is_some()).count(),
+                scored_from: scored_games.first().map(|g| day(g.0)),
+                scored_to: scored_games.last().map(|g| day(g.0)),
+                scored_games: scored_games.len(),
+                tells_checked_on: self.tells_label.clone(),
+            },
         }
     }
 }

@@ -2,7 +2,7 @@
 //! his rows, the folds, the situation features. Built once and reused by
 //! the observed fit and every permutation refit; only labels change.
 
-use super::split::Plan;
+use super::split::{PitcherEvaluation, PitcherPlan};
 use crate::ingest::PitchLog;
 use crate::model::FeatureMatrix;
 use crate::situations::{levels::Factor, Situations};
@@ -38,7 +38,9 @@ pub struct PitcherTask {
     pub class_types: Vec<u16>,
     pub labels: Vec<u8>,
     pub n_classes: usize,
-    /// Local rows per season: the permutation strata.
+    /// Local rows per permutation stratum (season, or season x block of
+    /// the rolling scheme): the units within which labels are exchangeable
+    /// under the null.
     pub strata: Vec<Vec<u32>>,
     pub count: Vec<u8>,
     pub batter: Vec<u32>,
@@ -54,6 +56,8 @@ pub struct PitcherTask {
     pub discovery: Vec<u32>,
     pub held_out: Vec<u32>,
     pub game: Vec<u32>,
+    /// How he was evaluated, in words and figures.
+    pub evaluation: PitcherEvaluation,
 }
 
 /// Folds for out-of-fold (target-encoded) prior features on training rows:
@@ -61,21 +65,19 @@ pub struct PitcherTask {
 pub const OOF_FOLDS: usize = 5;
 
 impl PitcherTask {
-    pub fn build(log: &PitchLog, sit: &Situations, plan: &Plan, pitcher: u32, rows: Vec<u32>) -> PitcherTask {
+    pub fn build(log: &PitchLog, sit: &Situations, plan: &PitcherPlan, pitcher: u32, rows: Vec<u32>) -> PitcherTask {
         let mut types: Vec<u16> = rows.iter().map(|&r| log.pitch_type[r as usize]).collect();
         types.sort_unstable();
         types.dedup();
         let class_of = |t: u16| types.binary_search(&t).unwrap() as u8;
         let labels: Vec<u8> = rows.iter().map(|&r| class_of(log.pitch_type[r as usize])).collect();
         let n_classes = types.len();
-        let mut seasons: Vec<i32> = rows.iter().map(|&r| log.season[r as usize]).collect();
-        seasons.sort_unstable();
-        seasons.dedup();
-        let mut strata = vec![Vec::new(); seasons.len()];
-        for (i, &r) in rows.iter().enumerate() {
-            let s = seasons.binary_search(&log.season[r as usize]).unwrap();
-            strata[s].push(i as u32);
+        let n_strata = plan.stratum.iter().map(|&s| s as usize + 1).max().unwrap_or(0);
+        let mut strata = vec![Vec::new(); n_strata];
+        for (i, &s) in plan.stratum.iter().enumerate() {
+            strata[s as usize].push(i as u32);
         }
+        strata.retain(|s| !s.is_empty());
         let count = rows.iter().map(|&r| log.balls[r as usize] * 3 + log.strikes[r as usize]).collect();
         let mut batters: Vec<u32> = rows.iter().map(|&r| log.batter[r as usize]).collect();
         batters.sort_unstable();
@@ -99,20 +101,19 @@ impl PitcherTask {
         let mut folds: Vec<Fold> = (0..plan.n_folds).map(|_| Fold { train: Vec::new(), test: Vec::new() }).collect();
         let mut discovery = Vec::new();
         let mut held_out = Vec::new();
-        for (i, &r) in rows.iter().enumerate() {
-            let r = r as usize;
+        for i in 0..rows.len() {
             for (f, fold) in folds.iter_mut().enumerate() {
-                if plan.trains(r, f) {
+                if plan.trains(i, f) {
                     fold.train.push(i as u32);
                 }
             }
-            if let Some(f) = plan.test_fold[r] {
+            if let Some(f) = plan.test_fold[i] {
                 folds[f as usize].test.push(i as u32);
             }
-            if plan.discovery[r] {
+            if plan.discovery[i] {
                 discovery.push(i as u32);
             }
-            if plan.held_out[r] {
+            if plan.held_out[i] {
                 held_out.push(i as u32);
             }
         }
@@ -196,6 +197,7 @@ impl PitcherTask {
             discovery,
             held_out,
             game,
+            evaluation: plan.evaluation.clone(),
         }
     }
 

@@ -58,6 +58,7 @@ struct TypeRow {
 #[derive(Serialize)]
 struct PitcherView {
     pitcher: String,
+    scheme_text: String,
     anchor: String,
     throws: String,
     n_train: usize,
@@ -125,7 +126,6 @@ pub fn per_season(t: &TellTest, discovery_seasons: usize) -> f64 {
 }
 
 pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, stems: &BTreeMap<String, String>) -> Result<String> {
-    let test_label = &summary.evaluation.tells_checked_on;
     let discovery_seasons = summary.input.seasons.len().saturating_sub(1).max(1);
     let tests_of = crate::tells::ByPitcher::new(all_tests);
     let mut staff = Vec::new();
@@ -183,8 +183,9 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
             permutations: p.permutations.unwrap_or(0),
             significant: p.significant.unwrap_or(false),
             n_tells: main.len(),
-            tells: main.iter().map(|t| wording::tell_sentence(t, test_label)).collect(),
-            narrow: narrow.iter().map(|t| wording::tell_sentence(t, test_label)).collect(),
+            tells: main.iter().map(|t| wording::tell_sentence(t, &p.evaluation.tells_checked_on)).collect(),
+            narrow: narrow.iter().map(|t| wording::tell_sentence(t, &p.evaluation.tells_checked_on)).collect(),
+            scheme_text: wording::evaluation_sentence(&p.evaluation),
             advice,
             rules: p.rules.iter().map(|r| r.text.clone()).collect(),
             cautions: p.cautions.clone(),

@@ -139,6 +139,7 @@ pub(crate) fn play_team_season(
         );
         g.on_staff = on_staff;
         g.outcomes = outcomes;
+        g.season_t = k as f64 / (season.games.max(2) - 1) as f64;
         g.play(&mut rng, k % 2 == 0);
         let pitched = g.finish();
         for (r, p) in rest.iter_mut().zip(pitched) {
@@ -224,6 +225,8 @@ struct Game<'a> {
     /// Relievers on the staff today (by bullpen slot).
     on_staff: Vec<bool>,
     outcomes: Outcomes,
+    /// How far into the season this game is (0 first game, 1 last).
+    season_t: f64,
 }
 
 impl<'a> Game<'a> {
@@ -269,6 +272,7 @@ impl<'a> Game<'a> {
             used: vec![false; n],
             on_staff: vec![true; n],
             outcomes: Outcomes::Simple,
+            season_t: 0.0,
         }
     }
 
@@ -438,7 +442,7 @@ impl<'a> Game<'a> {
         let end = loop {
             pitch_no = pitch_no.saturating_add(1);
             situation[0] = count_index(balls, strikes) as u8;
-            let pitch_type = choose_pitch(rng, plan, &situation);
+            let pitch_type = choose_pitch(rng, plan, &situation, self.season_t, &roster.pitch_types);
             let result = draw_result(rng, balls, strikes, self.outcomes);
             // How the log writes it (a relabelled or split pitch); one more
             // draw only for a split, so other logs are unchanged.
@@ -511,8 +515,9 @@ impl<'a> Game<'a> {
 
 /// The planted rules first (the first that holds decides), else the mix
 /// (with shared habits, the mix of this count and platoon).
+/// A drifting pitcher draws from the mix of this point of the season.
 #[inline]
-fn choose_pitch(rng: &mut ChaCha8Rng, plan: &SeasonPlan, situation: &[u8; 9]) -> u16 {
+fn choose_pitch(rng: &mut ChaCha8Rng, plan: &SeasonPlan, situation: &[u8; 9], t: f64, types: &[String]) -> u16 {
     let (count, platoon) = (situation[0], situation[2]);
     for rule in &plan.rules {
         if rule.holds(situation) {
@@ -521,6 +526,12 @@ fn choose_pitch(rng: &mut ChaCha8Rng, plan: &SeasonPlan, situation: &[u8; 9]) ->
             } else {
                 SeasonPlan::slot(&rule.rest, count, platoon).sample(rng.random::<f64>())
             };
+        }
+    }
+    if plan.drift.is_some() {
+        let code = |l: &str| types.iter().position(|x| x == l).expect("a label of the roster") as u16;
+        if let Some(table) = plan.drift_table(t, count, platoon, &code) {
+            return table.sample(rng.random::<f64>());
         }
     }
     SeasonPlan::slot(&plan.mix, count, platoon).sample(rng.random::<f64>())

@@ -104,9 +104,24 @@ pub(crate) struct SeasonPlan {
     /// How the log writes each pitch type (by type code), where it differs
     /// from the type itself.
     pub written: Vec<Option<Cdf>>,
+    /// A pitcher whose mix drifts through the season: his spec and the
+    /// habits he follows, to work out the mix of each game.
+    pub drift: Option<(PitcherSpec, Option<Habits>, i32)>,
 }
 
 impl SeasonPlan {
+    /// The drifting mix's table at fraction `t` of the season.
+    pub fn drift_table(&self, t: f64, count: u8, platoon: u8, code: &dyn Fn(&str) -> u16) -> Option<Cdf> {
+        let (spec, habits, year) = self.drift.as_ref()?;
+        let mix = spec.mix_at(*year, t);
+        let mix = match habits {
+            Some(h) => h.apply(&mix, count as usize, platoon == 0),
+            None => mix,
+        };
+        let coded: Vec<(u16, f64)> = mix.iter().map(|(l, s)| (code(l), *s)).collect();
+        Some(Cdf::new(&coded))
+    }
+
     /// The table for this count (`count_index`) and platoon (`platoon_index`).
     #[inline]
     pub fn slot(tables: &[Cdf], count: u8, platoon: u8) -> &Cdf {
@@ -303,6 +318,7 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
                 mix: habit_tables(&mix, habits, &type_index),
                 rules,
                 written,
+                drift: (spec.drift != 0.0).then(|| (spec.clone(), habits.cloned(), season.year)),
             });
             mixes.push(SeasonMix {
                 season: season.year,

@@ -57,6 +57,10 @@
 //! joins = "2025-07-15"              # optional: first day he is on the staff
 //! leaves = "2026-06-30"             # optional: last day he is on the staff
 //! habits = false                    # optional: leave him out of the shared habits
+//! drift = 0.20                      # optional: his most used pitch gains this much
+//!                                   # share from each season's first game to its
+//!                                   # last (his listed mix at mid-season; the rest
+//!                                   # scaled to fit; pitches no rule decides)
 //!
 //!   [[pitcher.change]]              # a change of his mix from a season on
 //!   season = 2026
@@ -478,6 +482,8 @@ pub struct PitcherSpec {
     pub leaves: Option<Date>,
     /// Whether the shared habits apply to him.
     pub habits: bool,
+    /// Share his most used pitch gains from a season's first game to its last.
+    pub drift: f64,
 }
 
 impl PitcherSpec {
@@ -514,6 +520,23 @@ impl PitcherSpec {
             mix = normalise(mix);
         }
         mix
+    }
+
+    /// His mix in season `year` at fraction `t` (0 first game, 1 last) of
+    /// the season: with `drift`, his most used pitch's share moves from
+    /// `share − drift/2` to `share + drift/2`, the others scaled to fit.
+    pub fn mix_at(&self, year: i32, t: f64) -> Mix {
+        let mix = self.mix_in(year);
+        if self.drift == 0.0 {
+            return mix;
+        }
+        let top = (0..mix.len()).fold(0, |b, i| if mix[i].1 > mix[b].1 { i } else { b });
+        let s0 = mix[top].1;
+        let st = s0 + self.drift * (t - 0.5);
+        mix.iter()
+            .enumerate()
+            .map(|(i, (l, s))| (l.clone(), if i == top { st } else { s * (1.0 - st) / (1.0 - s0) }))
+            .collect()
     }
 
     /// Every label he throws in some season.
@@ -567,6 +590,7 @@ impl PitcherSpec {
             joins: None,
             leaves: None,
             habits: true,
+            drift: 0.0,
         }
     }
 
@@ -699,6 +723,8 @@ struct RawPitcher {
     joins: Option<String>,
     leaves: Option<String>,
     habits: Option<bool>,
+    #[serde(default)]
+    drift: f64,
     #[serde(default)]
     change: Vec<RawChange>,
     #[serde(default)]
@@ -1272,7 +1298,21 @@ fn validate_pitcher(
         joins,
         leaves,
         habits: p.habits.unwrap_or(true),
+        drift: p.drift,
     };
+    if !(p.drift.is_finite() && p.drift.abs() < 1.0) {
+        return Err(format!("{at}: drift = {} must lie strictly between -1 and 1", p.drift));
+    }
+    for s in seasons {
+        let mix = spec.mix_in(s.year);
+        let top = mix.iter().map(|m| m.1).fold(0.0, f64::max);
+        if top + p.drift.abs() / 2.0 >= 1.0 || top - p.drift.abs() / 2.0 <= 0.0 {
+            return Err(format!(
+                "{at}: drift = {} takes his top pitch's {} share ({top:.2}) outside 0..1 within the season; use a smaller drift",
+                p.drift, s.year
+            ));
+        }
+    }
     if !seasons.iter().any(|s| {
         (0..s.games).any(|k| spec.on_staff(s.year, s.game_date(k).to_days()))
     }) {
