@@ -1303,7 +1303,7 @@ fn validate_pitcher(
     if !(p.drift.is_finite() && p.drift.abs() < 1.0) {
         return Err(format!("{at}: drift = {} must lie strictly between -1 and 1", p.drift));
     }
-    for s in seasons {
+    for s in seasons.iter().filter(|_| p.drift != 0.0) {
         let mix = spec.mix_in(s.year);
         let top = mix.iter().map(|m| m.1).fold(0.0, f64::max);
         if top + p.drift.abs() / 2.0 >= 1.0 || top - p.drift.abs() / 2.0 <= 0.0 {
