@@ -303,7 +303,7 @@ impl Settings {
             new_type_share: check_range("[audit] new_type_share", a.new_type_share.unwrap_or(0.01), 0.0, 0.5)?,
             tree,
             leaf_smoothing: check_range("[model] leaf_smoothing", m.leaf_smoothing.unwrap_or(10.0), 0.01, 1e6)?,
-            prior_blend: check_range("[model] prior_blend", m.prior_blend.unwrap_or(0.1), 0.0, 1.0)?,
+            prior_blend: check_range("[model] prior_blend", m.prior_blend.unwrap_or(0.3), 0.0, 1.0)?,
             split_alpha: check_range("[model] split_alpha", m.split_alpha.unwrap_or(0.05), 1e-12, 1.0)?,
             prior_strength,
             min_type_pitches: check_range("[model] min_type_pitches", m.min_type_pitches.unwrap_or(30), 1, 1_000_000)?,
