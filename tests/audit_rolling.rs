@@ -1,0 +1,212 @@
+//! The rolling evaluation: every pitcher with enough pitches is audited on
+//! his latest season, each block of it scored by a model fitted on
+//! everything of his before it; an added pitch does not wreck the headline;
+//! the permutation test keeps a drifting mix in its null; no label of a
+//! scored block ever shapes a model that scores it.
+//!
+//! Pass rules are binomial bands (statrs' binomial CDF) chosen so a correct
+//! procedure fails them less than 1% of the time, or sampling margins of
+//! three standard errors (see the README's "margins").
+
+use statrs::distribution::{Binomial, DiscreteCDF};
+use std::path::{Path, PathBuf};
+use tellscope::audit;
+use tellscope::ingest::write::{sim_frame, write_frame};
+use tellscope::settings::{ConfigFile, Overrides, Settings};
+use tellscope::simulate::{simulate, Scenario};
+
+fn root() -> &'static Path {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+}
+
+fn settings(permutations: usize) -> Settings {
+    Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(permutations), ..Overrides::default() }).unwrap()
+}
+
+fn scenario(name: &str) -> String {
+    std::fs::read_to_string(root().join("tests/fixtures/scenarios").join(name)).unwrap()
+}
+
+/// Simulate `text` with `seed` into a scratch CSV.
+fn log_of(text: &str, seed: u64, tag: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("tellscope-rolling-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join(format!("{tag}-{seed}.csv"));
+    let sim = simulate(&Scenario::from_toml_str(text).unwrap(), seed);
+    write_frame(&mut sim_frame(&sim).unwrap(), &path).unwrap();
+    path
+}
+
+/// demo-data/README.md: every pitcher of the realistic demo club with at
+/// least the documented minimum has figures (the models learn from at least
+/// 300 of his pitches and score at least 100), newcomers and mid-season
+/// arrivals included; the one below it is listed with his pitch counts and
+/// the reason.
+#[test]
+fn every_pitcher_with_the_minimum_is_audited_on_the_realistic_demo() {
+    let a = audit::run(&root().join("demo-data/demo-log.csv"), &settings(9), false).unwrap();
+    assert_eq!(a.summary.evaluation.scheme, "rolling");
+    assert_eq!(a.summary.pitchers.len(), 20);
+    for p in &a.summary.pitchers {
+        let total: usize = p.pitches_by_season.values().sum();
+        assert_eq!(p.evaluation.scheme, "rolling");
+        let enough = p.n_train >= 300 && p.n_test >= 100;
+        assert_eq!(p.is_ok(), enough, "{}: status {} with {} / {}", p.pitcher, p.status, p.n_train, p.n_test);
+        // A pitcher with one season of 400 pitches or more clears the bar
+        // (his last four blocks train on 4/5 of them and score 4/5).
+        if total >= 400 {
+            assert!(p.is_ok(), "{} ({total} pitches) has no figures", p.pitcher);
+        }
+        if !p.is_ok() {
+            let reason = p.reason.as_deref().unwrap();
+            assert!(reason.contains(&total.to_string()) && reason.contains("300"), "{reason}");
+        }
+    }
+    for name in ["Ned Castellane", "Kit Rennick", "Garrick Voss", "Linus Greaves", "Pell Ardmore", "Hob Farrant", "Callum Ashgrove"] {
+        let p = a.summary.pitchers.iter().find(|p| p.pitcher == name).unwrap();
+        assert!(p.is_ok(), "{name}: {:?}", p.reason);
+    }
+    // The newcomer's first block only trains; the rest of his season is scored.
+    let c = a.summary.pitchers.iter().find(|p| p.pitcher == "Ned Castellane").unwrap();
+    assert!(c.evaluation.scored.contains("his first") && c.evaluation.n_scored < 2912);
+    let talbot = a.summary.pitchers.iter().find(|p| p.pitcher == "Emory Talbot").unwrap();
+    assert!(!talbot.is_ok());
+}
+
+/// Pitchers with no situational habit who make a trace pitch a real one
+/// between seasons (tests/fixtures/scenarios/added_pitch_staff.toml): under
+/// the rolling scheme their bits gained lie within the sampling margin of 0.
+/// The regression case: season-forward without the new-pitch rule and the
+/// prior blend (the first release's fit) falls far below it.
+#[test]
+fn an_added_pitch_does_not_move_the_headline() {
+    let path = log_of(&scenario("added_pitch_staff.toml"), 1, "added");
+    let a = audit::run(&path, &settings(19), false).unwrap();
+    let added: Vec<_> = a.summary.pitchers.iter().filter(|p| p.pitcher.starts_with("Added")).collect();
+    assert_eq!(added.len(), 4);
+    for p in &added {
+        let (bits, margin) = (p.bits_gained.unwrap(), p.bits_margin.unwrap());
+        assert!(bits.abs() <= margin, "{}: bits {bits:.4}, margin {margin:.4}", p.pitcher);
+        assert!(p.arsenal_changes.iter().any(|c| c.change == "added"), "{}: no arsenal change flagged", p.pitcher);
+    }
+    let old = Settings { test_season: Some(2026), new_type_share: 0.0, prior_blend: 0.0, ..settings(19) };
+    let b = audit::run(&path, &old, false).unwrap();
+    let far: Vec<&str> = b
+        .summary
+        .pitchers
+        .iter()
+        .filter(|p| p.pitcher.starts_with("Added") && p.bits_gained.unwrap() < -p.bits_margin.unwrap())
+        .map(|p| p.pitcher.as_str())
+        .collect();
+    assert!(far.len() >= 2, "the first release's season-forward fit no longer shows the failure: {far:?}");
+}
+
+/// Central 99% band of Binomial(n, p).
+fn band(n: u64, p: f64) -> (u64, u64) {
+    let b = Binomial::new(p, n).unwrap();
+    let lo = (0..=n).find(|&k| b.cdf(k) >= 0.005).unwrap();
+    let hi = (0..=n).find(|&k| b.cdf(k) >= 0.995).unwrap();
+    (lo, hi)
+}
+
+/// Model p-values over `seeds` simulations of `text`, and the runs with a
+/// flagged tell.
+fn null_runs(text: &str, seeds: u64, tag: &str) -> (Vec<f64>, u64) {
+    let mut p_values = Vec::new();
+    let mut with_tell = 0;
+    for seed in 1..=seeds {
+        let path = log_of(text, 7000 + seed, tag);
+        let s = Settings { seed: 9000 + seed, ..settings(999) };
+        let a = audit::run(&path, &s, false).unwrap();
+        p_values.extend(a.summary.pitchers.iter().filter(|p| p.is_ok()).map(|p| p.p_value.unwrap()));
+        with_tell += (a.summary.tells_flagged > 0) as u64;
+        std::fs::remove_file(&path).ok();
+    }
+    (p_values, with_tell)
+}
+
+/// Uniform p-values: the count at or below 0.05 and at or below 0.5 each
+/// inside its 99% binomial band. "At or below": with Besag-Clifford
+/// stopping after h = 10 exceedances, 0.05 (10/200) and 0.5 (10/20) are
+/// attainable p-values, each holding an atom of probability, and a valid
+/// p-value has P(p <= a) = a at such points (Besag & Clifford 1991,
+/// Biometrika 78:301, recalled from memory).
+fn assert_uniform(what: &str, p_values: &[f64]) {
+    let n = p_values.len() as u64;
+    assert!(n >= 100, "{what}: only {n} p-values");
+    for cut in [0.05, 0.5] {
+        let below = p_values.iter().filter(|&&p| p <= cut + 1e-12).count() as u64;
+        let (lo, hi) = band(n, cut);
+        assert!((lo..=hi).contains(&below), "{what}: {below} of {n} p-values below {cut}; 99% band {lo}..={hi}");
+    }
+}
+
+/// A realistic null staff (newcomers, a mid-season call-up, added pitches,
+/// 4-5 types, a real league's results; no situational habit): uniform
+/// model p-values under the rolling scheme, and at least 95% of runs with
+/// no flagged tell (Benjamini & Hochberg 1995, Theorem 1: under the global
+/// null BH at q = 0.05 flags anything with probability at most 0.05;
+/// the 99% band of that count over 30 runs is at most 5 runs).
+#[test]
+fn realistic_null_staffs_give_uniform_p_values_under_the_rolling_scheme() {
+    let seeds = 30;
+    let (p, with_tell) = null_runs(&scenario("realistic_null_staff.toml"), seeds, "realnull");
+    assert_uniform("realistic null staff", &p);
+    let (_, hi) = band(seeds, 0.05);
+    assert!(with_tell <= hi, "{with_tell} of {seeds} null staffs had a flagged tell (99% band at most {hi})");
+}
+
+/// A staff with no situational habit whose top pitch gains 20 points of
+/// share from the first game of each season to the last: uniform p-values
+/// with one season and with two (shuffles stay within season x block, so
+/// the drift is part of the null).
+#[test]
+fn a_mix_that_drifts_through_the_season_is_not_a_tell() {
+    let one = scenario("drift_staff.toml");
+    let two = one.replacen(
+        "[batters]",
+        "[[season]]\nyear = 2026\ngames = 90\nstart = \"2026-04-02\"\n\n[batters]",
+        1,
+    );
+    for (what, text) in [("one season", &one), ("two seasons", &two)] {
+        let (p, _) = null_runs(text, 16, &what.replace(' ', "-"));
+        assert_uniform(&format!("drifting staff, {what}"), &p);
+    }
+}
+
+/// No leakage: shuffling the labels of the rows a fold scores leaves every
+/// model that scores them (that fold's and the earlier folds') unchanged.
+#[test]
+fn a_scored_blocks_labels_never_shape_the_models_that_score_it() {
+    use rand::{seq::SliceRandom, SeedableRng};
+    use tellscope::evaluate::{fit::fit_and_score, fit::Workspace, split::PitcherPlan, task::PitcherTask};
+    let s = settings(9);
+    let ing = tellscope::ingest::load(&root().join("demo-data/demo-log.csv"), &s).unwrap();
+    let sit = tellscope::situations::build(&ing.log);
+    for name in ["Oren Vasquell", "Ned Castellane", "Jory Kestenbaum"] {
+        let p = ing.log.pitchers.iter().position(|x| x == name).unwrap() as u32;
+        let rows: Vec<u32> = (0..ing.log.len() as u32).filter(|&i| ing.log.pitcher[i as usize] == p).collect();
+        let plan = PitcherPlan::rolling(&ing.log, &rows, 5, 300);
+        let task = PitcherTask::build(&ing.log, &sit, &plan, p, rows);
+        let a = fit_and_score(&task, &task.labels, &s, &mut Workspace::new(&task), true);
+        for f in 0..task.folds.len() {
+            let mut labels = task.labels.clone();
+            let test: Vec<usize> = task.folds[f].test.iter().map(|&i| i as usize).collect();
+            let mut vals: Vec<u8> = test.iter().map(|&i| labels[i]).collect();
+            vals.shuffle(&mut rand_chacha::ChaCha8Rng::seed_from_u64(f as u64));
+            for (i, v) in test.iter().zip(vals) {
+                labels[*i] = v;
+            }
+            let b = fit_and_score(&task, &labels, &s, &mut Workspace::new(&task), true);
+            assert_eq!(a.trees[..=f], b.trees[..=f], "{name}: fold {f}'s labels changed a model that scores them");
+            assert_eq!(a.usage[..=f], b.usage[..=f], "{name}: fold {f}'s labels changed a usage prior that scores them");
+        }
+        // And the folds are nested in time: each trains on every row the
+        // fold before it trained on, plus the block that fold scored.
+        for f in 1..task.folds.len() {
+            let mut want: Vec<u32> = task.folds[f - 1].train.iter().chain(&task.folds[f - 1].test).copied().collect();
+            want.sort_unstable();
+            assert_eq!(task.folds[f].train, want, "{name}: fold {f}");
+        }
+    }
+}
