@@ -3,6 +3,7 @@
 //! (scipy, statsmodels, a published worked example) in
 //! `tests/stats_reference.rs`.
 
+pub mod cmh;
 pub mod contingency;
 pub mod fdr;
 pub mod hypergeom;
