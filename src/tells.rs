@@ -3,10 +3,18 @@
 //! pitch in the situation different from his share outside it?
 //!
 //! Tells are found on the discovery rows (the training part of the
-//! evaluation) and checked on the held-out rows. Each test is a one-sided
-//! Fisher exact test (hypergeometric tail): share > baseline, or share <
-//! baseline ("he never throws it here" is as useful to a hitter). Every test
-//! of the run forms one Benjamini–Hochberg family.
+//! evaluation) and checked on the held-out rows, in two layers:
+//!
+//! - **sheet** tells (situations of count and batter side only: what every
+//!   opponent charts): a one-sided Fisher exact test (hypergeometric tail)
+//!   of his share there against his share elsewhere;
+//! - **beyond** tells (any other situation): a one-sided
+//!   Cochran–Mantel–Haenszel test stratified by game × count × batter side,
+//!   so the tell must add to what his sheet already predicts for those very
+//!   pitches (`expected_share`) and cannot be an outing's own mix (a game's
+//!   pitches are compared only with each other).
+//!
+//! Each layer has its own false-discovery control (see `control_fdr`).
 
 use crate::evaluate::task::PitcherTask;
 use crate::ingest::PitchLog;
@@ -32,6 +40,48 @@ impl Direction {
             Direction::Less => "less",
         }
     }
+}
+
+/// Which layer a tell belongs to.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, PartialOrd, Ord, Hash)]
+#[serde(rename_all = "snake_case")]
+pub enum Layer {
+    /// Count and batter side only: a cell of the sheet every opponent keeps.
+    Sheet,
+    /// Beyond the sheet: what only a good analyst would find.
+    Beyond,
+}
+
+impl Layer {
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Layer::Sheet => "sheet",
+            Layer::Beyond => "beyond",
+        }
+    }
+
+    /// The layer of a situation built from `factors`.
+    pub fn of(factors: &[Factor]) -> Layer {
+        if factors.iter().all(|f| matches!(f, Factor::Count | Factor::Bats | Factor::Platoon)) {
+            Layer::Sheet
+        } else {
+            Layer::Beyond
+        }
+    }
+}
+
+/// Whether the held-out pitches bear a tell out.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum Verdict {
+    /// The held-out share's 95% interval lies on the tell's side of what he
+    /// does otherwise (beyond tells: of what his sheet predicts).
+    Held,
+    /// The interval excludes the discovery share and reaches back to his
+    /// usual rate.
+    Faded,
+    /// Too few held-out pitches for the interval to say either.
+    TooFew,
 }
 
 /// A situation: one or two (factor, level) pairs, in factor order.
@@ -69,6 +119,18 @@ pub struct TellTest {
     /// narrows (shares within the minimum effect), if any.
     #[serde(serialize_with = "ser_opt_situation")]
     pub within: Option<Situation>,
+    pub layer: Layer,
+    /// Beyond tells: the share his sheet (his mix by count × batter side on
+    /// the discovery rows) predicts for the very pitches in the situation.
+    pub expected_share: Option<f64>,
+    /// Wilson 95% interval of the held-out share.
+    pub held_out_low: Option<f64>,
+    pub held_out_high: Option<f64>,
+    /// What the held-out pitches would show with no tell: his held-out share
+    /// elsewhere (sheet tells), or what his held-out sheet predicts for them
+    /// (beyond tells).
+    pub held_out_expected_share: Option<f64>,
+    pub verdict: Verdict,
 }
 
 impl TellTest {
@@ -78,12 +140,39 @@ impl TellTest {
         self.effect() * self.n as f64
     }
 
-    /// share − baseline, signed so a tell's effect is positive.
+    /// share − what he does otherwise (sheet tells: his share elsewhere;
+    /// beyond tells: what his sheet predicts), signed so a tell's effect is
+    /// positive.
     pub fn effect(&self) -> f64 {
+        let base = self.reference_share();
         match self.direction {
-            Direction::More => self.share - self.baseline_share,
-            Direction::Less => self.baseline_share - self.share,
+            Direction::More => self.share - base,
+            Direction::Less => base - self.share,
         }
+    }
+
+    /// The share a tell is measured against.
+    pub fn reference_share(&self) -> f64 {
+        match self.layer {
+            Layer::Sheet => self.baseline_share,
+            Layer::Beyond => self.expected_share.unwrap_or(self.baseline_share),
+        }
+    }
+}
+
+/// The verdict of the held-out pitches on a tell: held when the held-out
+/// share's Wilson 95% interval lies wholly on the tell's side of the
+/// held-out reference, faded when it lies wholly on the other side of the
+/// discovery share and reaches the reference, else too few to tell.
+pub fn verdict(direction: Direction, share: f64, k: u64, n: u64, reference: Option<f64>) -> Verdict {
+    let Some(reference) = reference.filter(|_| n > 0) else { return Verdict::TooFew };
+    let ci = wilson::wilson_95(k, n);
+    match direction {
+        Direction::More if ci.low > reference => Verdict::Held,
+        Direction::Less if ci.high < reference => Verdict::Held,
+        Direction::More if ci.high < share && ci.low <= reference => Verdict::Faded,
+        Direction::Less if ci.low > share && ci.high >= reference => Verdict::Faded,
+        _ => Verdict::TooFew,
     }
 }
 
@@ -175,7 +264,12 @@ pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[&Pitc
             }
         }
         let binary = def.len() == 1 && cols[0].levels.len() == 2;
+        let layer = Layer::of(def);
         for task in tasks {
+            if layer == Layer::Beyond {
+                beyond_tests(log, &cols, task, settings, &mut tests, &staff, &staff_n, n_keys, team_of_row);
+                continue;
+            }
             let kc = task.n_classes;
             let mut disc = vec![0u32; n_keys * kc];
             let mut disc_n = vec![0u32; n_keys];
@@ -244,6 +338,8 @@ pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[&Pitc
                         }
                         let (key, direction, (n_in, k_in), (n_out, k_out), (h_in, hk_in), (h_out, hk_out)) = at;
                         let ci = wilson::wilson_95(k_in as u64, n_in as u64);
+                        let held_ref = (h_out > 0).then(|| hk_out as f64 / h_out as f64);
+                        let hci = (h_in > 0).then(|| wilson::wilson_95(hk_in as u64, h_in as u64));
                         tests.push(TellTest {
                             pitcher: task.name.clone(),
                             situation: key_situation(&cols, key),
@@ -265,18 +361,199 @@ pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[&Pitc
                             flagged: false,
                             family_q: 1.0,
                             within: None,
+                            layer: Layer::Sheet,
+                            expected_share: None,
+                            held_out_low: hci.map(|c| c.low),
+                            held_out_high: hci.map(|c| c.high),
+                            held_out_expected_share: held_ref,
+                            verdict: verdict(direction, k_in as f64 / n_in as f64, hk_in as u64, h_in as u64, held_ref),
                         });
                     }
                 }
             }
         }
     }
-    control_fdr(&mut tests, settings);
+    // Each layer is its own family: the sheet's many count and side tests
+    // never lower (or raise) the bar for a tell beyond the sheet.
+    let (mut sheet, mut beyond): (Vec<TellTest>, Vec<TellTest>) = tests.into_iter().partition(|t| t.layer == Layer::Sheet);
+    control_fdr(&mut sheet, settings);
+    control_fdr(&mut beyond, settings);
+    let mut tests = sheet;
+    tests.extend(beyond);
     for t in tests.iter_mut() {
         t.flagged = t.q_value <= settings.fdr && t.effect() >= settings.tell_min_effect;
     }
     mark_narrowings(&mut tests, settings.tell_min_effect);
     tests
+}
+
+/// A beyond tell's tests for one pitcher and one situation definition: the
+/// one-sided Cochran–Mantel–Haenszel test over his discovery pitches
+/// stratified by game × count × batter side (`PitcherTask::beyond_strata`;
+/// a game's pitches lie wholly on the discovery or the held-out side).
+#[allow(clippy::too_many_arguments)]
+fn beyond_tests(
+    log: &PitchLog,
+    cols: &[&crate::situations::FactorColumn],
+    task: &PitcherTask,
+    settings: &Settings,
+    tests: &mut Vec<TellTest>,
+    staff: &[u32],
+    staff_n: &[u32],
+    n_keys: usize,
+    team_of_row: impl Fn(usize) -> u32,
+) {
+    let kc = task.n_classes;
+    let n_types = log.pitch_types.len();
+    let mut is_disc = vec![false; task.rows.len()];
+    for &i in &task.discovery {
+        is_disc[i as usize] = true;
+    }
+    let mut is_held = vec![false; task.rows.len()];
+    for &i in &task.held_out {
+        is_held[i as usize] = true;
+    }
+    // The sheet of each side: his shares by count × batter side on the
+    // discovery rows and on the held-out rows.
+    let sheet_of = |on: &[bool]| {
+        let mut c = vec![0u32; 24 * kc];
+        let mut n = vec![0u32; 24];
+        for (i, &yes) in on.iter().enumerate() {
+            if yes {
+                c[task.cell[i] as usize * kc + task.labels[i] as usize] += 1;
+                n[task.cell[i] as usize] += 1;
+            }
+        }
+        (0..24 * kc).map(|j| if n[j / kc] > 0 { c[j] as f64 / n[j / kc] as f64 } else { 0.0 }).collect::<Vec<f64>>()
+    };
+    let (sheet_d, sheet_h) = (sheet_of(&is_disc), sheet_of(&is_held));
+    let mut cmh = vec![crate::significance::cmh::Cmh::default(); n_keys * kc];
+    let mut disc = vec![0u32; n_keys * kc];
+    let mut disc_n = vec![0u32; n_keys];
+    let mut expected = vec![0.0f64; n_keys * kc];
+    let mut held = vec![0u32; n_keys * kc];
+    let mut held_n = vec![0u32; n_keys];
+    let mut held_expected = vec![0.0f64; n_keys * kc];
+    let mut total = vec![0u32; kc];
+    let mut held_total = vec![0u32; kc];
+    let mut in_stratum: Vec<(usize, usize)> = Vec::new();
+    for stratum in &task.beyond_strata {
+        let first = stratum[0] as usize;
+        if is_held[first] {
+            for &i in stratum {
+                let i = i as usize;
+                let y = task.labels[i] as usize;
+                held_total[y] += 1;
+                if let Some(k) = key(cols, task.rows[i] as usize) {
+                    held[k * kc + y] += 1;
+                    held_n[k] += 1;
+                    for c in 0..kc {
+                        held_expected[k * kc + c] += sheet_h[task.cell[i] as usize * kc + c];
+                    }
+                }
+            }
+            continue;
+        }
+        if !is_disc[first] {
+            continue;
+        }
+        // One stratum: its pitches by type, and by key and type.
+        let big_n = stratum.len() as u64;
+        let mut big_k = vec![0u64; kc];
+        in_stratum.clear();
+        for &i in stratum {
+            let i = i as usize;
+            let y = task.labels[i] as usize;
+            big_k[y] += 1;
+            total[y] += 1;
+            if let Some(k) = key(cols, task.rows[i] as usize) {
+                in_stratum.push((k, y));
+                disc[k * kc + y] += 1;
+                disc_n[k] += 1;
+                for c in 0..kc {
+                    expected[k * kc + c] += sheet_d[task.cell[i] as usize * kc + c];
+                }
+            }
+        }
+        in_stratum.sort_unstable();
+        let mut a = 0;
+        while a < in_stratum.len() {
+            let k = in_stratum[a].0;
+            let mut b = a;
+            let mut x = vec![0u64; kc];
+            while b < in_stratum.len() && in_stratum[b].0 == k {
+                x[in_stratum[b].1] += 1;
+                b += 1;
+            }
+            let n_in = (b - a) as u64;
+            for c in 0..kc {
+                cmh[k * kc + c].add(x[c], n_in, big_k[c], big_n);
+            }
+            a = b;
+        }
+    }
+    let big_n: u32 = total.iter().sum();
+    let held_all: u32 = held_total.iter().sum();
+    let team = task.rows.first().map(|&r| team_of_row(r as usize)).unwrap_or(0) as usize;
+    for k in 0..n_keys {
+        let n = disc_n[k];
+        if (n as usize) < settings.tell_min_n || big_n - n < settings.tell_min_n as u32 {
+            continue;
+        }
+        for cls in 0..kc {
+            let big_k = total[cls];
+            if big_k == 0 {
+                continue;
+            }
+            let x = disc[k * kc + cls];
+            let gtype = task.class_types[cls] as usize;
+            let sn = staff_n[team * n_keys + k];
+            let staff_share = if sn > 0 { staff[(team * n_keys + k) * n_types + gtype] as f64 / sn as f64 } else { 0.0 };
+            let (hn, hk) = (held_n[k], held[k * kc + cls]);
+            let t = &cmh[k * kc + cls];
+            let share = x as f64 / n as f64;
+            let exp = expected[k * kc + cls] / n as f64;
+            let held_exp = (hn > 0).then(|| held_expected[k * kc + cls] / hn as f64);
+            let hci = (hn > 0).then(|| wilson::wilson_95(hk as u64, hn as u64));
+            let ci = wilson::wilson_95(x as u64, n as u64);
+            let (n_out, k_out) = (big_n - n, big_k - x);
+            let (h_out, hk_out) = (held_all - hn, held_total[cls] - hk);
+            for direction in [Direction::More, Direction::Less] {
+                let p = match direction {
+                    Direction::More => t.p_more(),
+                    Direction::Less => t.p_less(),
+                };
+                tests.push(TellTest {
+                    pitcher: task.name.clone(),
+                    situation: key_situation(cols, k),
+                    pitch_type: log.pitch_types[gtype].clone(),
+                    direction,
+                    n: n as usize,
+                    k: x as usize,
+                    share,
+                    share_low: ci.low,
+                    share_high: ci.high,
+                    baseline_share: k_out as f64 / n_out as f64,
+                    baseline_n: n_out as usize,
+                    staff_share,
+                    p_value: p.clamp(0.0, 1.0),
+                    q_value: 1.0,
+                    held_out_n: hn as usize,
+                    held_out_share: (hn > 0).then(|| hk as f64 / hn as f64),
+                    held_out_baseline_share: (h_out > 0).then(|| hk_out as f64 / h_out as f64),
+                    flagged: false,
+                    family_q: 1.0,
+                    within: None,
+                    layer: Layer::Beyond,
+                    expected_share: Some(exp),
+                    held_out_low: hci.map(|c| c.low),
+                    held_out_high: hci.map(|c| c.high),
+                    held_out_expected_share: held_exp,
+                    verdict: verdict(direction, share, hk as u64, hn as u64, held_exp),
+                });
+            }
+        }
+    }
 }
 
 /// Simes' (1986) combined p-value of a family: min_i m·p_(i)/i. Valid for

@@ -43,17 +43,23 @@ fn tell_sentences_carry_the_summary_numbers() {
             }
             let n = t["n"].as_u64().unwrap();
             let share = pct(t["share"].as_f64().unwrap());
-            let base = pct(t["baseline_share"].as_f64().unwrap());
             let pitch = t["pitch_type"].as_str().unwrap();
-            // The sentence holding this tell's pitch, n and baseline.
+            // A sheet tell is measured against his share elsewhere; a tell
+            // beyond the sheet against what his sheet predicts.
+            let reference = if t["layer"] == "beyond" {
+                format!("would give {}", pct(t["expected_share"].as_f64().unwrap()))
+            } else {
+                format!("against {} otherwise", pct(t["baseline_share"].as_f64().unwrap()))
+            };
+            // The sentence holding this tell's pitch, n and reference share.
             let found = text.lines().any(|l| {
                 let l = l.trim();
                 l.contains(pitch)
-                    && (l.contains(&format!("(n = {n})")) || l.contains(&format!("(0 of {n} pitches)")))
-                    && l.contains(&format!("against {base} otherwise"))
+                    && (l.contains(&format!("(n = {n})")) || l.contains(&format!("(0 of {n} pitches)")) || l.contains(&format!("(n = {n}),")))
+                    && l.contains(&reference)
                     && (l.contains(&format!(" {share} of the time")) || t["k"].as_u64() == Some(0))
                     && match t["held_out_share"].as_f64() {
-                        Some(h) => l.contains(&format!("{} (n = {})", pct(h), t["held_out_n"])),
+                        Some(h) => l.contains(&format!("{} (n = {}", pct(h), t["held_out_n"])),
                         None => true,
                     }
             });

@@ -2,6 +2,7 @@
 //! [`summary::Summary`] value (plus the full tell tests for `tells.csv`).
 
 pub mod permute;
+pub mod sheet;
 pub mod summary;
 pub mod wording;
 
@@ -34,6 +35,10 @@ struct Observed {
     types: Vec<evaluate::TypeFigures>,
     scored: evaluate::fit::Scored,
     statistic: crate::evaluate::fit::Stat,
+    /// The beyond-the-sheet test's statistic.
+    beyond: crate::evaluate::fit::Stat,
+    /// Held-out bits of the sheet over his plain mix, per pitch.
+    sheet_bits: f64,
     sd_log_ratio: f64,
     /// Held-out pitches where exactly one of the two guesses was right.
     discordant: usize,
@@ -71,7 +76,9 @@ fn observe(task: &PitcherTask, settings: &Settings, names: &[String]) -> Observe
         })
         .count();
     let sd = if scored.rows.len() > 1 { (ss / (scored.rows.len() - 1) as f64).sqrt() } else { 0.0 };
-    Observed { figures, counts, types, scored, statistic: stat, sd_log_ratio: sd, discordant }
+    let beyond = crate::evaluate::fit::beyond_statistic(&scored);
+    let sheet_bits = if scored.totals.n > 0 { scored.totals.sheet_bits / scored.totals.n as f64 } else { 0.0 };
+    Observed { figures, counts, types, scored, statistic: stat, beyond, sheet_bits, sd_log_ratio: sd, discordant }
 }
 
 /// Run the audit of the log at `path`.
@@ -208,24 +215,31 @@ pub fn audit_log(
     let observed: Vec<Observed> = ok_tasks.par_iter().map(|t| observe(t, settings, names)).collect();
     timer.lap("observed fits");
 
-    let total: u64 = (ok_tasks.len() * settings.permutations) as u64;
+    let total: u64 = (2 * ok_tasks.len() * settings.permutations) as u64;
     let bar = crate::progress::bar(total, "permutations", show_progress);
     let tick = |n: u64| bar.inc(n);
     // The tell tests do not depend on the permutation tests; they run
     // alongside them and fill the workers' idle moments.
     let (perms, tests) = rayon::join(
-        || -> Vec<permute::PermutationResult> {
+        || -> Vec<(permute::PermutationResult, permute::PermutationResult)> {
             ok_tasks
                 .par_iter()
                 .zip(observed.par_iter())
-                .map(|(t, o)| permute::permutation_test(t, o.statistic, settings, &tick))
+                .map(|(t, o)| {
+                    let whole = permute::permutation_test(t, o.statistic, settings, &tick);
+                    let beyond = permute::null_test(permute::Null::BeyondSheet, t, o.beyond, settings, &tick);
+                    (whole, beyond)
+                })
                 .collect()
         },
         || tells::find(log, sit, &discovery, &ok_tasks, settings),
     );
     bar.finish_and_clear();
     timer.lap("permutation and tell tests");
+    let (perms, beyond_perms): (Vec<_>, Vec<_>) = perms.into_iter().unzip();
     let model_q = fdr::bh_q_values(&perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
+    // The beyond-the-sheet p-values form their own family over pitchers.
+    let beyond_q = fdr::bh_q_values(&beyond_perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
 
     let tests_of = tells::ByPitcher::new(&tests);
     let mut pitchers = Vec::new();
@@ -277,6 +291,15 @@ pub fn audit_log(
                 rules: Vec::new(),
                 n_unseen_type: None,
                 arsenal_changes: Vec::new(),
+                sheet: Vec::new(),
+                sheet_season: None,
+                sheet_bits: None,
+                beyond_bits: None,
+                beyond_p_value: None,
+                beyond_q_value: None,
+                beyond_permutations: None,
+                beyond_significant: None,
+                headline: Vec::new(),
                 tell_family_q: None,
                 cautions: vec![format!("No figures: {reason}.")],
             });
@@ -285,7 +308,10 @@ pub fn audit_log(
         let o = &observed[ok_iter];
         let perm = &perms[ok_iter];
         let q = model_q[ok_iter];
+        let bperm = &beyond_perms[ok_iter];
+        let bq = beyond_q[ok_iter];
         ok_iter += 1;
+        let (sheet_cells, sheet_season) = sheet::sheet(task, |i| log.season[task.rows[i] as usize], names, settings);
         let last_fold = task.folds.last().unwrap();
         let train_rows = &last_fold.train;
         let mix = mix_of(names, task, train_rows);
@@ -370,6 +396,7 @@ pub fn audit_log(
             ));
         }
         let rules = wording::rules(task, &o.scored, names);
+        let headline = headline(&sheet_cells, &flagged, &task.evaluation.tells_checked_on);
         pitchers.push(PitcherSummary {
             pitcher: task.name.clone(),
             throws,
@@ -401,6 +428,15 @@ pub fn audit_log(
             rules,
             n_unseen_type: Some(o.scored.unseen),
             arsenal_changes,
+            sheet: sheet_cells,
+            sheet_season: Some(sheet_season),
+            sheet_bits: Some(o.sheet_bits),
+            beyond_bits: Some(o.figures.bits_gained - o.sheet_bits),
+            beyond_p_value: Some(bperm.p_value),
+            beyond_q_value: Some(bq),
+            beyond_permutations: Some(bperm.permutations),
+            beyond_significant: Some(bq <= settings.fdr),
+            headline,
             tell_family_q: his.first().map(|t| t.family_q),
             cautions,
         });
@@ -444,6 +480,24 @@ pub fn audit_log(
         pitchers,
     };
     Ok(Audit { summary, tests, rejected })
+}
+
+/// At most three findings, most pitches given away a season first: the
+/// sheet's cells where he leans on one pitch beyond his season share of it,
+/// and his flagged tells beyond the sheet (the shift over what the sheet
+/// predicts, times the pitches in the situation a season).
+fn headline(cells: &[sheet::SheetCell], flagged: &[&TellTest], checked_on: &str) -> Vec<String> {
+    let mut found: Vec<(f64, String)> = cells
+        .iter()
+        .filter(|c| c.leans)
+        .map(|c| (c.given_away, sheet::cell_phrase(c)))
+        .collect();
+    for t in flagged.iter().filter(|t| t.layer == tells::Layer::Beyond && t.within.is_none()) {
+        let per_season = if t.held_out_n > 0 { t.held_out_n } else { t.n } as f64;
+        found.push((t.effect() * per_season, wording::tell_sentence(t, checked_on)));
+    }
+    found.sort_by(|a, b| b.0.total_cmp(&a.0).then(a.1.cmp(&b.1)));
+    found.into_iter().take(3).map(|(_, s)| s).collect()
 }
 
 fn count_summaries(

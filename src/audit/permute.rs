@@ -11,7 +11,7 @@
 //! Sequential stopping (Besag & Clifford 1991) is applied to the results in
 //! permutation order, so early stopping is deterministic too.
 
-use crate::evaluate::fit::{fit_and_score, statistic, Stat, Workspace};
+use crate::evaluate::fit::{beyond_statistic, fit_and_score, statistic, Stat, Workspace};
 use crate::evaluate::task::PitcherTask;
 use crate::settings::Settings;
 use crate::significance::permutation_p::SequentialPermutation;
@@ -32,10 +32,60 @@ pub struct PermutationResult {
     pub null: Vec<f64>,
 }
 
+/// Which null a permutation test asks about.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Null {
+    /// "The situation tells nothing beyond his mix": labels exchangeable
+    /// within each season (each block of the scored season); the statistic
+    /// is the model's held-out bits over his plain mix.
+    Situation,
+    /// "Nothing beyond his sheet": labels exchangeable within each game and
+    /// count × batter side, so his count and side habits and each outing's
+    /// own mix are all kept; the statistic is the model's held-out bits over
+    /// the sheet.
+    BeyondSheet,
+}
+
+impl Null {
+    fn strata(self, task: &PitcherTask) -> &[Vec<u32>] {
+        match self {
+            Null::Situation => &task.strata,
+            Null::BeyondSheet => &task.beyond_strata,
+        }
+    }
+
+    fn domain(self) -> &'static [u8] {
+        match self {
+            Null::Situation => b"tellscope permutation v1",
+            Null::BeyondSheet => b"tellscope beyond-sheet v1",
+        }
+    }
+
+    fn statistic(self, scored: &crate::evaluate::fit::Scored, settings: &Settings) -> Stat {
+        match self {
+            Null::Situation => statistic(scored, settings.statistic),
+            Null::BeyondSheet => beyond_statistic(scored),
+        }
+    }
+
+    /// A workspace for this test's refits.
+    pub fn workspace(self, task: &PitcherTask) -> Workspace {
+        let mut ws = Workspace::new(task);
+        ws.want_sheet = self == Null::BeyondSheet;
+        ws
+    }
+}
+
 /// The RNG of permutation `j` of a pitcher.
 pub fn permutation_rng(seed: u64, pitcher: &str, j: u64) -> ChaCha8Rng {
+    null_rng(Null::Situation, seed, pitcher, j)
+}
+
+/// The RNG of permutation `j` of a pitcher under `null` (each test draws
+/// its own shuffles).
+pub fn null_rng(null: Null, seed: u64, pitcher: &str, j: u64) -> ChaCha8Rng {
     let mut h = Sha256::new();
-    h.update(b"tellscope permutation v1");
+    h.update(null.domain());
     h.update(seed.to_le_bytes());
     h.update(pitcher.as_bytes());
     let key: [u8; 32] = h.finalize().into();
@@ -58,11 +108,16 @@ pub fn shuffle_within(labels: &mut [u8], strata: &[Vec<u32>], rng: &mut ChaCha8R
 /// within seasons by that permutation's own stream, then the whole fit
 /// rerun. `labels` is scratch of his labels' length.
 pub fn permuted_statistic(task: &PitcherTask, settings: &Settings, j: u64, ws: &mut Workspace, labels: &mut [u8]) -> Stat {
+    null_statistic(Null::Situation, task, settings, j, ws, labels)
+}
+
+/// The statistic of permutation `j` under `null`.
+pub fn null_statistic(null: Null, task: &PitcherTask, settings: &Settings, j: u64, ws: &mut Workspace, labels: &mut [u8]) -> Stat {
     labels.copy_from_slice(&task.labels);
-    let mut rng = permutation_rng(settings.seed, &task.name, j);
-    shuffle_within(labels, &task.strata, &mut rng);
+    let mut rng = null_rng(null, settings.seed, &task.name, j);
+    shuffle_within(labels, null.strata(task), &mut rng);
     let scored = fit_and_score(task, labels, settings, ws, false);
-    statistic(&scored, settings.statistic)
+    null.statistic(&scored, settings)
 }
 
 /// Permutations are run in parallel batches of at most this size, then read
@@ -83,11 +138,23 @@ pub fn permutation_test(
     settings: &Settings,
     progress: &(dyn Fn(u64) + Sync),
 ) -> PermutationResult {
+    null_test(Null::Situation, task, observed, settings, progress)
+}
+
+/// The permutation test of `null` (one driver for both tests): batches in
+/// parallel, read in order for Besag–Clifford stopping.
+pub fn null_test(
+    null: Null,
+    task: &PitcherTask,
+    observed: Stat,
+    settings: &Settings,
+    progress: &(dyn Fn(u64) + Sync),
+) -> PermutationResult {
     let m = settings.permutations;
     // The stopping rule counts exceedances; each null value is fed to it as
     // 1 (reaches the observed pair) or 0 against an observed 0.5.
     let mut seq = SequentialPermutation::new(0.5, m, settings.stop_after_exceedances);
-    let mut null = Vec::new();
+    let mut nulls = Vec::new();
     let mut start = 0usize;
     let pool: Vec<std::sync::Mutex<Option<(Workspace, Vec<u8>)>>> =
         (0..rayon::current_num_threads().max(1)).map(|_| std::sync::Mutex::new(None)).collect();
@@ -102,15 +169,15 @@ pub fn permutation_test(
                 // before (same output at any thread count, tested).
                 let slot = rayon::current_thread_index().unwrap_or(0) % pool.len();
                 let mut guard = pool[slot].lock().unwrap_or_else(|e| e.into_inner());
-                let (ws, labels) = guard.get_or_insert_with(|| (Workspace::new(task), task.labels.clone()));
-                permuted_statistic(task, settings, j as u64, ws, labels)
+                let (ws, labels) = guard.get_or_insert_with(|| (null.workspace(task), task.labels.clone()));
+                null_statistic(null, task, settings, j as u64, ws, labels)
             })
             .collect();
         for s in stats {
             if seq.is_done() {
                 break;
             }
-            null.push(s.primary);
+            nulls.push(s.primary);
             seq.push(if s.reaches(&observed) { 1.0 } else { 0.0 });
         }
         progress((end - start) as u64);
@@ -122,6 +189,6 @@ pub fn permutation_test(
         p_value: seq.p_value(),
         permutations: seq.permutations_run(),
         stopped_early: seq.stopped_early(),
-        null,
+        null: nulls,
     }
 }

@@ -195,6 +195,29 @@ pub struct PitcherSummary {
     /// `absent_share` decide).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub arsenal_changes: Vec<ArsenalChange>,
+    /// His mix by count × batter side in his latest season (`sheet_season`).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub sheet: Vec<crate::audit::sheet::SheetCell>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub sheet_season: Option<i32>,
+    /// Held-out bits per pitch the sheet gains over his plain mix, and the
+    /// full model over the sheet (the two add up to `bits_gained`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub sheet_bits: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub beyond_bits: Option<f64>,
+    /// The beyond-the-sheet permutation test (labels shuffled within game ×
+    /// count × batter side) and its BH q over pitchers.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub beyond_p_value: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub beyond_q_value: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub beyond_permutations: Option<usize>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub beyond_significant: Option<bool>,
+    /// At most three findings in words, most pitches given away first.
+    pub headline: Vec<String>,
     /// q-value of "he has some tell" (the first stage of the tell FDR control).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub tell_family_q: Option<f64>,

@@ -82,17 +82,19 @@ pub fn q_text(q: f64) -> String {
 /// Did the tell hold on the held-out rows: at least half its effect
 /// still there?
 pub fn held(t: &TellTest) -> Option<bool> {
-    let h = t.held_out_share.filter(|_| t.held_out_n > 0)?;
-    let base = t.held_out_baseline_share.unwrap_or(t.baseline_share);
-    Some(match t.direction {
-        Direction::More => h - base >= 0.5 * t.effect(),
-        Direction::Less => base - h >= 0.5 * t.effect(),
-    })
+    match t.verdict {
+        crate::tells::Verdict::Held => Some(true),
+        crate::tells::Verdict::Faded => Some(false),
+        crate::tells::Verdict::TooFew => None,
+    }
 }
 
 /// The tell as one sentence.
 pub fn tell_sentence(t: &TellTest, test_label: &str) -> String {
     let sit = capitalize(&situation_phrase(&t.situation));
+    if t.layer == crate::tells::Layer::Beyond {
+        return beyond_sentence(t, &sit, test_label);
+    }
     let main = match t.direction {
         Direction::More => format!(
             "{sit} he threw his {} {} of the time (n = {}) against {} otherwise; {}",
@@ -118,12 +120,44 @@ pub fn tell_sentence(t: &TellTest, test_label: &str) -> String {
             q_text(t.q_value)
         ),
     };
-    let held = match (held(t), t.held_out_share) {
-        (Some(true), Some(h)) => format!("; in {test_label} it held at {} (n = {})", pct(h), t.held_out_n),
-        (Some(false), Some(h)) => format!("; in {test_label} it did not hold: {} (n = {})", pct(h), t.held_out_n),
-        _ => format!("; no pitches in this situation in {test_label} to check it"),
+    format!("{main}{}.", held_phrase(t, test_label))
+}
+
+/// What the held-out pitches say, with the held-out share's interval.
+fn held_phrase(t: &TellTest, test_label: &str) -> String {
+    let interval = match (t.held_out_low, t.held_out_high) {
+        (Some(a), Some(b)) => format!(", 95% interval {}–{}", pct(a), pct(b)),
+        _ => String::new(),
     };
-    format!("{main}{held}.")
+    match (t.verdict, t.held_out_share) {
+        (crate::tells::Verdict::Held, Some(h)) => format!("; in {test_label} it held at {} (n = {}{interval})", pct(h), t.held_out_n),
+        (crate::tells::Verdict::Faded, Some(h)) => format!("; in {test_label} it faded: {} (n = {}{interval})", pct(h), t.held_out_n),
+        (_, Some(h)) => format!("; in {test_label}: {} (n = {}{interval}), too few pitches to tell whether it held", pct(h), t.held_out_n),
+        _ => format!("; no pitches in this situation in {test_label} to check it"),
+    }
+}
+
+/// A beyond tell: the share against what his count and side habits (his
+/// sheet) predict for the same pitches.
+fn beyond_sentence(t: &TellTest, sit: &str, test_label: &str) -> String {
+    let expected = pct(t.expected_share.unwrap_or(t.baseline_share));
+    let main = match t.direction {
+        Direction::More => format!(
+            "{sit} he threw his {} {} of the time (n = {}), where his count and batter-side habits alone would give {expected}; {}",
+            t.pitch_type,
+            pct(t.share),
+            t.n,
+            q_text(t.q_value)
+        ),
+        Direction::Less => format!(
+            "{sit} he threw his {} only {} of the time (n = {}), where his count and batter-side habits alone would give {expected}; {}",
+            t.pitch_type,
+            pct(t.share),
+            t.n,
+            q_text(t.q_value)
+        ),
+    };
+    format!("{main}{}.", held_phrase(t, test_label))
 }
 
 /// Shares for the other pitches that add up to `total`. When they must grow

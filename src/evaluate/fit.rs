@@ -15,6 +15,9 @@ pub struct Scored {
     /// `n_scored × n_classes` probabilities.
     pub model: Vec<f64>,
     pub prior: Vec<f64>,
+    /// The sheet's probabilities (his mix by count × batter side, shrunk
+    /// toward his mix), same layout; filled when the sheet is scored.
+    pub sheet: Vec<f64>,
     pub n_classes: usize,
     pub trees: Vec<Tree>,
     pub usage: Vec<UsagePrior>,
@@ -34,6 +37,9 @@ impl Scored {
     pub fn prior_row(&self, i: usize) -> &[f64] {
         &self.prior[i * self.n_classes..(i + 1) * self.n_classes]
     }
+    pub fn sheet_row(&self, i: usize) -> &[f64] {
+        &self.sheet[i * self.n_classes..(i + 1) * self.n_classes]
+    }
 }
 
 /// Sums behind the permutation statistic.
@@ -42,6 +48,8 @@ pub struct StatTotals {
     pub n: usize,
     pub bits: f64,
     pub bits_grown: f64,
+    /// Held-out bits of the sheet over the plain mix (when the sheet is scored).
+    pub sheet_bits: f64,
     pub acc: i64,
     pub acc_grown: i64,
 }
@@ -78,6 +86,11 @@ pub struct Workspace {
     batter_all: GroupCounts,
     count_oof: Vec<GroupCounts>,
     batter_oof: Vec<GroupCounts>,
+    /// The sheet's counts (24 cells) of the fold's training rows.
+    sheet: GroupCounts,
+    sheet_log: Vec<f64>,
+    /// Score the sheet in refits too (the beyond-the-sheet test).
+    pub want_sheet: bool,
 }
 
 impl Workspace {
@@ -115,6 +128,9 @@ impl Workspace {
             batter_all: GroupCounts::new(task.n_batters, k),
             count_oof: (0..OOF_FOLDS).map(|_| GroupCounts::new(12, k)).collect(),
             batter_oof: (0..OOF_FOLDS).map(|_| GroupCounts::new(task.n_batters, k)).collect(),
+            sheet: GroupCounts::new(24, k),
+            sheet_log: Vec::new(),
+            want_sheet: false,
         }
     }
 }
@@ -297,6 +313,23 @@ pub fn fit_and_score(
         ws.top.extend((0..nn).map(|i| argmax(&ws.grown_p[i * k..(i + 1) * k])));
         let lp: Vec<f64> = mix.iter().map(|x| x.log2()).collect();
         let top = argmax(mix);
+        // The sheet an opponent keeps: his training mix by count × batter
+        // side, each cell shrunk toward his mix by the empirical-Bayes
+        // Dirichlet strength (as the count prior), logs tabled per cell.
+        let with_sheet = keep_trees || ws.want_sheet;
+        if with_sheet {
+            ws.sheet.clear();
+            for &r in &fold.train {
+                ws.sheet.add(task.cell[r as usize] as usize, labels[r as usize] as usize);
+            }
+            let s_sheet = priors::strength(&ws.sheet, mix, settings.prior_strength);
+            ws.sheet_log.clear();
+            for g in 0..24 {
+                for cls in 0..k {
+                    ws.sheet_log.push(ws.sheet.shrunk(g, cls, mix, s_sheet).log2());
+                }
+            }
+        }
         if keep_trees {
             // The observed fit checks the leaves found while growing against
             // walking each held-out row down the finished tree.
@@ -322,6 +355,9 @@ pub fn fit_and_score(
             t.n += 1;
             t.bits += ws.log_p[leaf * k + y] - lp[y];
             t.bits_grown += ws.log_p[g * k + y] - lp[y];
+            if with_sheet {
+                t.sheet_bits += ws.sheet_log[task.cell[r as usize] as usize * k + y] - lp[y];
+            }
             let pr = (top == y) as i64;
             t.acc += (ws.top[leaf] == y) as i64 - pr;
             t.acc_grown += (ws.top[g] == y) as i64 - pr;
@@ -329,6 +365,8 @@ pub fn fit_and_score(
                 out.rows.push(r);
                 out.model.extend_from_slice(&ws.grown_p[leaf * k..(leaf + 1) * k]);
                 out.prior.extend_from_slice(mix);
+                let c = task.cell[r as usize] as usize * k;
+                out.sheet.extend(ws.sheet_log[c..c + k].iter().map(|l| l.exp2()));
             }
         }
         out.totals = t;
@@ -482,6 +520,19 @@ pub fn statistic(scored: &Scored, which: crate::settings::Statistic) -> Stat {
         crate::settings::Statistic::Bits => Stat { primary: t.bits / n, secondary: t.bits_grown / n },
         crate::settings::Statistic::Accuracy => Stat { primary: t.acc as f64 / n, secondary: t.acc_grown as f64 / n },
     }
+}
+
+/// The beyond-the-sheet test's statistic: held-out bits the situational
+/// model gains over the sheet (his mix by count × batter side), with the
+/// unpruned tree's as the tie-breaker. Needs the sheet scored
+/// (`Workspace::want_sheet`, or an observed fit).
+pub fn beyond_statistic(scored: &Scored) -> Stat {
+    let t = &scored.totals;
+    if t.n == 0 {
+        return Stat { primary: 0.0, secondary: 0.0 };
+    }
+    let n = t.n as f64;
+    Stat { primary: (t.bits - t.sheet_bits) / n, secondary: (t.bits_grown - t.sheet_bits) / n }
 }
 
 /// A permutation statistic: compared on `primary`, ties broken by `secondary`.

@@ -43,6 +43,14 @@ pub struct PitcherTask {
     /// under the null.
     pub strata: Vec<Vec<u32>>,
     pub count: Vec<u8>,
+    /// The sheet's cell of each row: count × batter side, `count · 2 + side`
+    /// (side 0 left, 1 right), 24 cells.
+    pub cell: Vec<u8>,
+    /// Local rows per (game, cell), in the order the groups first appear:
+    /// the units within which labels are exchangeable under "nothing beyond
+    /// his sheet" (a game lies wholly in one stratum of `strata`, so these
+    /// nest in them, and keep each outing's own mix in the null).
+    pub beyond_strata: Vec<Vec<u32>>,
     pub batter: Vec<u32>,
     pub n_batters: usize,
     /// Game-based fold (0..OOF_FOLDS) used for out-of-fold prior features.
@@ -78,7 +86,21 @@ impl PitcherTask {
             strata[s as usize].push(i as u32);
         }
         strata.retain(|s| !s.is_empty());
-        let count = rows.iter().map(|&r| log.balls[r as usize] * 3 + log.strikes[r as usize]).collect();
+        let count: Vec<u8> = rows.iter().map(|&r| log.balls[r as usize] * 3 + log.strikes[r as usize]).collect();
+        let cell: Vec<u8> = rows
+            .iter()
+            .zip(&count)
+            .map(|(&r, &c)| c * 2 + (log.bats[r as usize] == crate::situations::levels::Hand::R) as u8)
+            .collect();
+        let mut beyond_index: std::collections::HashMap<(u32, u8), usize> = std::collections::HashMap::new();
+        let mut beyond_strata: Vec<Vec<u32>> = Vec::new();
+        for (i, &r) in rows.iter().enumerate() {
+            let slot = *beyond_index.entry((log.game[r as usize], cell[i])).or_insert_with(|| {
+                beyond_strata.push(Vec::new());
+                beyond_strata.len() - 1
+            });
+            beyond_strata[slot].push(i as u32);
+        }
         let mut batters: Vec<u32> = rows.iter().map(|&r| log.batter[r as usize]).collect();
         batters.sort_unstable();
         batters.dedup();
@@ -187,6 +209,8 @@ impl PitcherTask {
             n_classes,
             strata,
             count,
+            cell,
+            beyond_strata,
             batter,
             n_batters: batters.len(),
             oof,

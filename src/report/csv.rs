@@ -108,6 +108,23 @@ pub fn tells_csv(tests: &[TellTest]) -> Result<Vec<u8>> {
         .opt_f64("held_out_share", tests.iter().map(|t| t.held_out_share).collect())
         .bool("flagged", tests.iter().map(|t| t.flagged).collect())
         .opt_str("within", tests.iter().map(|t| t.within.as_ref().map(situation_label)).collect())
+        .str("layer", tests.iter().map(|t| t.layer.as_str().to_string()).collect())
+        .opt_f64("expected_share", tests.iter().map(|t| t.expected_share).collect())
+        .opt_f64("held_out_low_95", tests.iter().map(|t| t.held_out_low).collect())
+        .opt_f64("held_out_high_95", tests.iter().map(|t| t.held_out_high).collect())
+        .opt_f64("held_out_expected_share", tests.iter().map(|t| t.held_out_expected_share).collect())
+        .str(
+            "held_out_verdict",
+            tests
+                .iter()
+                .map(|t| match t.verdict {
+                    crate::tells::Verdict::Held => "held",
+                    crate::tells::Verdict::Faded => "faded",
+                    crate::tells::Verdict::TooFew => "too few to tell",
+                })
+                .map(str::to_string)
+                .collect(),
+        )
         .to_csv(tests.len())
 }
 

@@ -1,0 +1,96 @@
+//! The sheet: a pitcher's mix by count × batter side, as any opponent
+//! charts it from his latest season's games. Everything on it is already
+//! given away; the audit shows how much and where, and looks for tells
+//! beyond it.
+
+use crate::evaluate::task::PitcherTask;
+use crate::priors::{self, GroupCounts, UsagePrior};
+use crate::settings::Settings;
+use crate::significance::wilson;
+use crate::situations::levels::COUNTS;
+use serde::Serialize;
+use std::collections::BTreeMap;
+
+/// One cell of the sheet.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct SheetCell {
+    pub count: String,
+    /// The batter's side, `L` or `R`.
+    pub bats: String,
+    pub n: usize,
+    pub top_pitch: String,
+    /// Raw share of the top pitch in the cell, with its Wilson 95% interval.
+    pub top_share: f64,
+    pub top_share_low: f64,
+    pub top_share_high: f64,
+    /// The cell's mix, shrunk toward his season mix (empirical-Bayes
+    /// Dirichlet strength over the 24 cells), so a thin cell leans on his
+    /// overall mix.
+    pub mix: BTreeMap<String, f64>,
+    /// His share of the top pitch over the whole season.
+    pub season_share: f64,
+    /// The cell leans on the top pitch: its interval lies above his season
+    /// share of it.
+    pub leans: bool,
+    /// Pitches a hitter sitting on the top pitch in this cell guesses right
+    /// beyond what the season share gives: (top_share − season_share) × n.
+    pub given_away: f64,
+}
+
+/// The sheet of his latest season in the task's rows, cells in count order,
+/// left-handed batters first; the season.
+pub fn sheet(task: &PitcherTask, season_of_row: impl Fn(usize) -> i32, names: &[String], settings: &Settings) -> (Vec<SheetCell>, i32) {
+    let k = task.n_classes;
+    let latest = (0..task.rows.len()).map(&season_of_row).max().unwrap_or(0);
+    let mut g = GroupCounts::new(24, k);
+    for i in (0..task.rows.len()).filter(|&i| season_of_row(i) == latest) {
+        g.add(task.cell[i] as usize, task.labels[i] as usize);
+    }
+    let season = UsagePrior::from_counts(g.class_totals());
+    let n_season: u32 = season.counts.iter().sum();
+    let raw_share = |cls: usize| season.counts[cls] as f64 / n_season.max(1) as f64;
+    let s = priors::strength(&g, &season.probs, settings.prior_strength);
+    let mut cells = Vec::new();
+    for (c, count) in COUNTS.iter().enumerate() {
+        for (side, bats) in ["L", "R"].iter().enumerate() {
+            let cell = c * 2 + side;
+            let n = g.totals[cell] as usize;
+            let row = &g.counts[cell * k..(cell + 1) * k];
+            let top = (0..k).fold(0, |b, j| if row[j] > row[b] { j } else { b });
+            let top_share = if n > 0 { row[top] as f64 / n as f64 } else { 0.0 };
+            let ci = wilson::wilson_95(row[top] as u64, n as u64);
+            let season_share = raw_share(top);
+            let leans = n >= settings.tell_min_n && ci.low > season_share;
+            cells.push(SheetCell {
+                count: count.to_string(),
+                bats: bats.to_string(),
+                n,
+                top_pitch: names[task.class_types[top] as usize].clone(),
+                top_share,
+                top_share_low: ci.low,
+                top_share_high: ci.high,
+                mix: (0..k)
+                    .map(|j| (names[task.class_types[j] as usize].clone(), g.shrunk(cell, j, &season.probs, s)))
+                    .collect(),
+                season_share,
+                leans,
+                given_away: if leans { (top_share - season_share) * n as f64 } else { 0.0 },
+            });
+        }
+    }
+    (cells, latest)
+}
+
+/// The sheet cell in a coach's words: "3-1 vs left-handed batters: fastball
+/// 88% (n = 41; 52% of his pitches all season)".
+pub fn cell_phrase(c: &SheetCell) -> String {
+    let side = if c.bats == "L" { "left-handed" } else { "right-handed" };
+    format!(
+        "{} vs {side} batters: {} {} (n = {}; {} of his pitches all season)",
+        c.count,
+        c.top_pitch,
+        crate::audit::wording::pct(c.top_share),
+        c.n,
+        crate::audit::wording::pct(c.season_share)
+    )
+}
