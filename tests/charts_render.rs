@@ -43,6 +43,7 @@ fn count_grid_sample(pitcher: &str) -> CountGridInput {
             .collect(),
         min_n: 20,
         fdr: 0.05,
+        side: None,
     }
 }
 

@@ -90,7 +90,7 @@ fn the_demo_report_loads_cleanly_with_every_chart() {
             assert!(img.width() > 100 && img.height() > 100);
         }
     }
-    assert_eq!(svgs, 1 + 3 * ok, "one staff chart and three per pitcher");
+    assert_eq!(svgs, 1 + 4 * ok, "one staff chart and four per pitcher (the sheet's two panels, mix by count, the null)");
     let html = std::fs::read_to_string(out.join("index.html")).unwrap();
     assert!(!html.contains("http://") || html.matches("http://").all(|_| html.contains("xmlns")), "no network resources");
     assert!(!html.contains("<link ") && !html.contains(" src=\""), "self-contained: no external files");

@@ -494,7 +494,7 @@ fn headline(cells: &[sheet::SheetCell], flagged: &[&TellTest], checked_on: &str)
         .collect();
     for t in flagged.iter().filter(|t| t.layer == tells::Layer::Beyond && t.within.is_none()) {
         let per_season = if t.held_out_n > 0 { t.held_out_n } else { t.n } as f64;
-        found.push((t.effect() * per_season, wording::tell_sentence(t, checked_on)));
+        found.push((t.effect() * per_season, wording::beyond_short(t, checked_on)));
     }
     found.sort_by(|a, b| b.0.total_cmp(&a.0).then(a.1.cmp(&b.1)));
     found.into_iter().take(3).map(|(_, s)| s).collect()

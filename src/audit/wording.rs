@@ -350,3 +350,17 @@ pub fn evaluation_sentence(e: &crate::evaluate::split::PitcherEvaluation) -> Str
         e.scored, e.train
     )
 }
+
+/// A tell beyond the sheet in a headline's few words: "The third time
+/// through the order or later: curveball 47% where his count and side
+/// habits give 24% (n = 641; held at 51% in his 2026 games)".
+pub fn beyond_short(t: &TellTest, test_label: &str) -> String {
+    let sit = capitalize(&situation_phrase(&t.situation));
+    let expected = pct(t.expected_share.unwrap_or(t.baseline_share));
+    let check = match (t.verdict, t.held_out_share) {
+        (crate::tells::Verdict::Held, Some(h)) => format!("; held at {} in {test_label}", pct(h)),
+        (crate::tells::Verdict::Faded, Some(h)) => format!("; faded to {} in {test_label}", pct(h)),
+        _ => String::new(),
+    };
+    format!("{sit}: {} {} where his count and side habits give {expected} (n = {}{check})", t.pitch_type, pct(t.share), t.n)
+}

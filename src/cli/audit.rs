@@ -117,7 +117,22 @@ pub fn print_table(audit: &Audit, out: &Path) {
         println!("{:<22} {:>6} {:>6}  insufficient data", p.pitcher.chars().take(22).collect::<String>(), p.n_train, p.n_test);
     }
     println!("  * the situation predicts his pitch beyond his mix (q <= {})", s.settings.fdr);
-    let mut top: Vec<_> = s.pitchers.iter().flat_map(|p| p.tells.iter().filter(|t| t.within.is_none())).collect();
+    // Each pitcher's first headline finding, in table order.
+    let mut heads: Vec<_> = s.pitchers.iter().filter(|p| p.is_ok() && !p.headline.is_empty()).collect();
+    heads.sort_by(|a, b| b.bits_gained.partial_cmp(&a.bits_gained).unwrap().then(a.pitcher.cmp(&b.pitcher)));
+    if !heads.is_empty() {
+        println!();
+        println!("Headlines (the most pitches given away; the report lists up to three per pitcher):");
+        for p in heads {
+            println!("  {}: {}", p.pitcher, p.headline[0]);
+        }
+    }
+    // Tells beyond the sheet (count and side tells are the headlines' sheet cells).
+    let mut top: Vec<_> = s
+        .pitchers
+        .iter()
+        .flat_map(|p| p.tells.iter().filter(|t| t.within.is_none() && t.layer == tellscope::tells::Layer::Beyond))
+        .collect();
     // Tells that held in the held-out games first, then the strongest.
     top.sort_by(|a, b| {
         let ha = wording::held(a) == Some(true);
@@ -126,7 +141,7 @@ pub fn print_table(audit: &Audit, out: &Path) {
     });
     if !top.is_empty() {
         println!();
-        println!("Top tells:");
+        println!("Top tells beyond the sheet:");
         for t in top.iter().take(8) {
             let checked = s
                 .pitchers

@@ -84,24 +84,31 @@ fn pitcher_charts(
             .filter(|t| t.within.is_none() && t.situation.len() == 1)
             .filter_map(|t| t.situation.get(&Factor::Count).map(String::as_str))
             .collect();
-        let grid = charts::count_grid(&charts::CountGridInput {
-            pitcher: p.pitcher.clone(),
-            cells: p
-                .counts
-                .iter()
-                .filter(|c| c.n > 0)
-                .map(|c| charts::CountCell {
-                    count: c.count.clone(),
-                    n: c.n as u64,
-                    top_pitch: c.top_pitch.clone(),
-                    top_share: c.top_share,
-                    flagged: c.more_predictable || flagged_counts.contains(&c.count.as_str()),
-                })
-                .collect(),
-            min_n: s.settings.tell_min_n as u64,
-            fdr: s.settings.fdr,
-        })
-        .map_err(chart_err)?;
+        let _ = flagged_counts;
+        // The sheet, one panel per batter side: his latest season's top
+        // pitch by count, marked where he leans on it beyond his season share.
+        let panel = |side: &str| {
+            charts::count_grid(&charts::CountGridInput {
+                pitcher: p.pitcher.clone(),
+                cells: p
+                    .sheet
+                    .iter()
+                    .filter(|c| c.bats == side && c.n > 0)
+                    .map(|c| charts::CountCell {
+                        count: c.count.clone(),
+                        n: c.n as u64,
+                        top_pitch: c.top_pitch.clone(),
+                        top_share: c.top_share,
+                        flagged: c.leans,
+                    })
+                    .collect(),
+                min_n: s.settings.tell_min_n as u64,
+                fdr: s.settings.fdr,
+                side: Some(side.to_string()),
+            })
+            .map_err(chart_err)
+        };
+        let (left, right) = (panel("L")?, panel("R")?);
         let mix = charts::mix_by_count(&charts::MixByCountInput {
             pitcher: p.pitcher.clone(),
             counts: p
@@ -117,7 +124,8 @@ fn pitcher_charts(
         })
         .map_err(chart_err)?;
         let mut out = vec![
-            Chart { name: format!("count-grid-{stem}"), ..grid },
+            Chart { name: format!("sheet-left-{stem}"), ..left },
+            Chart { name: format!("sheet-right-{stem}"), ..right },
             Chart { name: format!("mix-by-count-{stem}"), ..mix },
         ];
         if !p.null_statistics.is_empty() {

@@ -59,6 +59,11 @@ struct TypeRow {
 struct PitcherView {
     pitcher: String,
     scheme_text: String,
+    headline: Vec<String>,
+    sheet_lines: Vec<String>,
+    sheet_tells: Vec<String>,
+    layers_text: String,
+    beyond_significant: bool,
     anchor: String,
     throws: String,
     n_train: usize,
@@ -140,7 +145,25 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
             });
             continue;
         }
-        let (main, narrow): (Vec<&TellTest>, Vec<&TellTest>) = p.tells.iter().partition(|t| t.within.is_none());
+        // Tells beyond the sheet are listed; the sheet's own count and side
+        // tells fold away under the sheet (its cells say the same).
+        let g = |x: Option<f64>| x.unwrap_or(0.0);
+        let (beyond, sheet_layer): (Vec<&TellTest>, Vec<&TellTest>) =
+            p.tells.iter().partition(|t| t.layer == crate::tells::Layer::Beyond);
+        let (main, narrow): (Vec<&TellTest>, Vec<&TellTest>) = beyond.into_iter().partition(|t| t.within.is_none());
+        let mut leaning: Vec<&crate::audit::sheet::SheetCell> = p.sheet.iter().filter(|c| c.leans).collect();
+        leaning.sort_by(|a, b| b.given_away.total_cmp(&a.given_away).then(a.count.cmp(&b.count)).then(a.bats.cmp(&b.bats)));
+        let layers_text = match (p.sheet_bits, p.beyond_bits, p.beyond_p_value, p.beyond_q_value) {
+            (Some(sb), Some(bb), Some(bp), Some(bq)) => format!(
+                "Of his {:+.3} bits per pitch, his sheet (mix by count and batter side, what every opponent charts) gives {:+.3}; everything beyond it {:+.3} (beyond-the-sheet test, labels shuffled within each game's count and side: p = {}, q = {}).",
+                g(p.bits_gained),
+                sb,
+                bb,
+                p_text(bp),
+                p_text(bq)
+            ),
+            _ => String::new(),
+        };
         let advice = main
             .iter()
             .map(|t| wording::advice(t, &situation_mix(tests_of.of(&t.pitcher), t), per_season(t, discovery_seasons)))
@@ -160,9 +183,17 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
                 more_predictable: c.more_predictable,
             })
             .collect();
-        let g = |x: Option<f64>| x.unwrap_or(0.0);
         staff.push(PitcherView {
             pitcher: p.pitcher.clone(),
+            headline: p.headline.clone(),
+            sheet_lines: leaning.iter().take(6).map(|c| crate::audit::sheet::cell_phrase(c)).collect(),
+            sheet_tells: sheet_layer
+                .iter()
+                .filter(|t| t.within.is_none())
+                .map(|t| wording::tell_sentence(t, &p.evaluation.tells_checked_on))
+                .collect(),
+            layers_text,
+            beyond_significant: p.beyond_significant.unwrap_or(false),
             anchor: stems.get(&p.pitcher).cloned().unwrap_or_default(),
             throws: p.throws.clone(),
             n_train: p.n_train,

@@ -164,6 +164,8 @@ struct Arm {
     halves: u32,
     /// Plate appearances against each lineup slot, this outing.
     times: [u8; 9],
+    /// This outing's wobble factor by label (empty without wobble).
+    wobble: Vec<(String, f64)>,
 }
 
 impl Arm {
@@ -181,6 +183,7 @@ impl Arm {
             shell,
             halves: 0,
             times: [0; 9],
+            wobble: Vec::new(),
         }
     }
 
@@ -195,6 +198,7 @@ impl Arm {
             shell: 3,
             halves: 0,
             times: [0; 9],
+            wobble: Vec::new(),
         }
     }
 }
@@ -253,7 +257,8 @@ impl<'a> Game<'a> {
                 filled += 1;
             }
         }
-        let arm = Arm::starter(rng, starter);
+        let mut arm = Arm::starter(rng, starter);
+        arm.wobble = outing_wobble(rng, roster, starter, season);
         let n = team.relievers.len();
         Game {
             roster,
@@ -358,6 +363,7 @@ impl<'a> Game<'a> {
             self.close_outing();
             self.used[slot] = true;
             self.arm = Arm::reliever(rng, self.team.relievers[slot], slot);
+            self.arm.wobble = outing_wobble(rng, self.roster, self.arm.pitcher, self.season);
         }
     }
 
@@ -442,7 +448,7 @@ impl<'a> Game<'a> {
         let end = loop {
             pitch_no = pitch_no.saturating_add(1);
             situation[0] = count_index(balls, strikes) as u8;
-            let pitch_type = choose_pitch(rng, plan, &situation, self.season_t, &roster.pitch_types);
+            let pitch_type = choose_pitch(rng, plan, &situation, self.season_t, &self.arm.wobble, &roster.pitch_types);
             let result = draw_result(rng, balls, strikes, self.outcomes);
             // How the log writes it (a relabelled or split pitch); one more
             // draw only for a split, so other logs are unchanged.
@@ -515,9 +521,25 @@ impl<'a> Game<'a> {
 
 /// The planted rules first (the first that holds decides), else the mix
 /// (with shared habits, the mix of this count and platoon).
+/// An outing's own mix: each weight of his season mix times
+/// exp(wobble · Z), Z standard normal; nothing drawn for a pitcher without
+/// wobble, so other logs are unchanged.
+fn outing_wobble(rng: &mut ChaCha8Rng, roster: &Roster, pitcher: u32, season: usize) -> Vec<(String, f64)> {
+    let Some((spec, _, year)) = roster.plans[pitcher as usize][season].drift.as_ref() else {
+        return Vec::new();
+    };
+    if spec.outing_wobble == 0.0 {
+        return Vec::new();
+    }
+    spec.mix_in(*year)
+        .into_iter()
+        .map(|(l, _)| (l, (spec.outing_wobble * flight::normal(rng)).exp()))
+        .collect()
+}
+
 /// A drifting pitcher draws from the mix of this point of the season.
 #[inline]
-fn choose_pitch(rng: &mut ChaCha8Rng, plan: &SeasonPlan, situation: &[u8; 9], t: f64, types: &[String]) -> u16 {
+fn choose_pitch(rng: &mut ChaCha8Rng, plan: &SeasonPlan, situation: &[u8; 9], t: f64, wobble: &[(String, f64)], types: &[String]) -> u16 {
     let (count, platoon) = (situation[0], situation[2]);
     for rule in &plan.rules {
         if rule.holds(situation) {
@@ -530,7 +552,7 @@ fn choose_pitch(rng: &mut ChaCha8Rng, plan: &SeasonPlan, situation: &[u8; 9], t:
     }
     if plan.drift.is_some() {
         let code = |l: &str| types.iter().position(|x| x == l).expect("a label of the roster") as u16;
-        if let Some(table) = plan.drift_table(t, count, platoon, &code) {
+        if let Some(table) = plan.drift_table(t, wobble, count, platoon, &code) {
             return table.sample(rng.random::<f64>());
         }
     }

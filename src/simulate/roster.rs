@@ -104,16 +104,25 @@ pub(crate) struct SeasonPlan {
     /// How the log writes each pitch type (by type code), where it differs
     /// from the type itself.
     pub written: Vec<Option<Cdf>>,
-    /// A pitcher whose mix drifts through the season: his spec and the
-    /// habits he follows, to work out the mix of each game.
+    /// A pitcher whose mix drifts through the season or wobbles from
+    /// outing to outing: his spec and the habits he follows, to work out
+    /// the mix of each game.
     pub drift: Option<(PitcherSpec, Option<Habits>, i32)>,
 }
 
 impl SeasonPlan {
-    /// The drifting mix's table at fraction `t` of the season.
-    pub fn drift_table(&self, t: f64, count: u8, platoon: u8, code: &dyn Fn(&str) -> u16) -> Option<Cdf> {
+    /// The drifting mix's table at fraction `t` of the season, each weight
+    /// times this outing's wobble factor (by label).
+    pub fn drift_table(&self, t: f64, wobble: &[(String, f64)], count: u8, platoon: u8, code: &dyn Fn(&str) -> u16) -> Option<Cdf> {
         let (spec, habits, year) = self.drift.as_ref()?;
-        let mix = spec.mix_at(*year, t);
+        let mut mix = spec.mix_at(*year, t);
+        if !wobble.is_empty() {
+            for (l, w) in mix.iter_mut() {
+                *w *= wobble.iter().find(|x| x.0 == *l).map_or(1.0, |x| x.1);
+            }
+            let total: f64 = mix.iter().map(|x| x.1).sum();
+            mix.iter_mut().for_each(|x| x.1 /= total);
+        }
         let mix = match habits {
             Some(h) => h.apply(&mix, count as usize, platoon == 0),
             None => mix,
@@ -318,7 +327,7 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
                 mix: habit_tables(&mix, habits, &type_index),
                 rules,
                 written,
-                drift: (spec.drift != 0.0).then(|| (spec.clone(), habits.cloned(), season.year)),
+                drift: (spec.drift != 0.0 || spec.outing_wobble > 0.0).then(|| (spec.clone(), habits.cloned(), season.year)),
             });
             mixes.push(SeasonMix {
                 season: season.year,

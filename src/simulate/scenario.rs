@@ -61,6 +61,9 @@
 //!                                   # share from each season's first game to its
 //!                                   # last (his listed mix at mid-season; the rest
 //!                                   # scaled to fit; pitches no rule decides)
+//! outing_wobble = 0.4               # optional: each outing draws its own mix, every
+//!                                   # weight times exp(N(0, wobble²)) (pitches no
+//!                                   # rule decides)
 //!
 //!   [[pitcher.change]]              # a change of his mix from a season on
 //!   season = 2026
@@ -484,6 +487,8 @@ pub struct PitcherSpec {
     pub habits: bool,
     /// Share his most used pitch gains from a season's first game to its last.
     pub drift: f64,
+    /// Log-scale sd of each weight's outing-to-outing wobble.
+    pub outing_wobble: f64,
 }
 
 impl PitcherSpec {
@@ -591,6 +596,7 @@ impl PitcherSpec {
             leaves: None,
             habits: true,
             drift: 0.0,
+            outing_wobble: 0.0,
         }
     }
 
@@ -725,6 +731,8 @@ struct RawPitcher {
     habits: Option<bool>,
     #[serde(default)]
     drift: f64,
+    #[serde(default)]
+    outing_wobble: f64,
     #[serde(default)]
     change: Vec<RawChange>,
     #[serde(default)]
@@ -1299,7 +1307,11 @@ fn validate_pitcher(
         leaves,
         habits: p.habits.unwrap_or(true),
         drift: p.drift,
+        outing_wobble: p.outing_wobble,
     };
+    if !(p.outing_wobble.is_finite() && (0.0..=2.0).contains(&p.outing_wobble)) {
+        return Err(format!("{at}: outing_wobble = {} must lie in 0..2 (a log-scale sd)", p.outing_wobble));
+    }
     if !(p.drift.is_finite() && p.drift.abs() < 1.0) {
         return Err(format!("{at}: drift = {} must lie strictly between -1 and 1", p.drift));
     }

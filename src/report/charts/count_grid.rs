@@ -37,6 +37,9 @@ pub struct CountGridInput {
     pub min_n: u64,
     /// False-discovery rate behind the flags, named in the legend.
     pub fdr: f64,
+    /// For one panel of a pitcher's sheet: the batters' side it shows
+    /// (`"L"` or `"R"`); the title and the marker's key say so.
+    pub side: Option<String>,
 }
 
 const W: u32 = 720;
@@ -63,14 +66,23 @@ pub fn count_grid(input: &CountGridInput) -> Result<Chart, ChartError> {
         *slot = Some(c.clone());
     }
     let total: u64 = cells.iter().flatten().map(|c| c.n).sum();
-    let title = format!("Top pitch by count: {}", input.pitcher);
+    let title = match input.side.as_deref() {
+        Some("L") => format!("His sheet vs left-handed batters: {}", input.pitcher),
+        Some(_) => format!("His sheet vs right-handed batters: {}", input.pitcher),
+        None => format!("Top pitch by count: {}", input.pitcher),
+    };
     let painter = Grid {
         input,
         cells,
         total,
         title: title.clone(),
     };
-    render(file_stem("count-grid", &input.pitcher), title, &painter)
+    let kind = match input.side.as_deref() {
+        Some("L") => "sheet-left",
+        Some(_) => "sheet-right",
+        None => "count-grid",
+    };
+    render(file_stem(kind, &input.pitcher), title, &painter)
 }
 
 struct Grid<'a> {
@@ -424,16 +436,20 @@ impl Grid<'_> {
             HPos::Left,
             VPos::Top,
         )?;
+        let (key, note) = match self.input.side {
+            Some(_) => ("leans on it:".to_string(), "above his season share".to_string()),
+            None => ("flagged tell".to_string(), format!("in this count (q ≤ {})", self.input.fdr)),
+        };
         text(
             root,
-            "flagged tell",
+            &key,
             (x + 40, y + 9),
             &f,
             palette::INK,
             HPos::Left,
             VPos::Center,
         )?;
-        let q = format!("in this count (q ≤ {})", self.input.fdr);
+        let q = note;
         text(
             root,
             &font::fit(&q, &f, max_w)?,

@@ -1,0 +1,194 @@
+//! What every opponent already knows (the sheet: a pitcher's mix by count ×
+//! batter side) and what lies beyond it, on the realistic demo club and on
+//! nulls with real structure: labels shuffled within each count and side
+//! cell, and outings that each draw their own mix.
+//!
+//! Pass rules are 99% binomial bands (statrs' binomial CDF): a correct
+//! procedure fails them less than 1% of the time.
+
+use statrs::distribution::{Binomial, DiscreteCDF};
+use std::path::{Path, PathBuf};
+use std::sync::OnceLock;
+use tellscope::audit::{self, summary::PitcherSummary, Audit};
+use tellscope::ingest::write::{sim_frame, write_frame};
+use tellscope::settings::{ConfigFile, Overrides, Settings};
+use tellscope::simulate::{simulate, Scenario, SimLog};
+use tellscope::situations::levels::Factor;
+use tellscope::tells::{Direction, Layer};
+
+fn root() -> &'static Path {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+}
+
+fn settings(permutations: usize) -> Settings {
+    Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(permutations), ..Overrides::default() }).unwrap()
+}
+
+fn demo() -> &'static Audit {
+    static A: OnceLock<Audit> = OnceLock::new();
+    A.get_or_init(|| audit::run(&root().join("demo-data/demo-log.csv"), &settings(199), false).unwrap())
+}
+
+fn pitcher(name: &str) -> &'static PitcherSummary {
+    demo().summary.pitchers.iter().find(|p| p.pitcher == name).unwrap_or_else(|| panic!("{name}"))
+}
+
+fn beyond_tells(p: &PitcherSummary) -> Vec<&tellscope::tells::TellTest> {
+    p.tells.iter().filter(|t| t.layer == Layer::Beyond).collect()
+}
+
+fn has_beyond(name: &str, factor: Factor, level: &str, pitch: &str, dir: Direction) -> bool {
+    beyond_tells(pitcher(name)).iter().any(|t| {
+        t.situation.len() == 1 && t.situation.get(&factor).map(String::as_str) == Some(level) && t.pitch_type == pitch && t.direction == dir
+    })
+}
+
+/// demo-data/README.md: the previous-pitch (Drury), base-state (Kestenbaum)
+/// and times-through (Marchetti) tells lie beyond the sheet and are flagged
+/// there; the count (Vasquell), platoon (Brimley) and batter-side
+/// (Castellane) tells are the sheet's and are not flagged beyond it; the
+/// pitchers with only the shared habits have no tell beyond the sheet.
+#[test]
+fn planted_tells_land_in_their_layer_on_the_realistic_demo() {
+    use Direction::*;
+    use Factor::*;
+    assert!(has_beyond("Anselm Drury", PrevPitch, "curveball", "fastball", More));
+    assert!(has_beyond("Inigo Marchetti", TimesThrough, "3+", "curveball", More));
+    assert!(
+        has_beyond("Jory Kestenbaum", Bases, "1--", "sinker", More) || has_beyond("Jory Kestenbaum", Bases, "---", "sinker", Less),
+        "{:?}",
+        beyond_tells(pitcher("Jory Kestenbaum")).iter().map(|t| (&t.situation, &t.pitch_type)).collect::<Vec<_>>()
+    );
+    for name in ["Anselm Drury", "Inigo Marchetti", "Jory Kestenbaum"] {
+        assert_eq!(pitcher(name).beyond_significant, Some(true), "{name}: beyond q {:?}", pitcher(name).beyond_q_value);
+    }
+    // Sheet tells: on the sheet (a flagged sheet-layer tell), none beyond.
+    let sheet_tell = |name: &str, f: Factor, level: &str, pitch: &str| {
+        pitcher(name).tells.iter().any(|t| t.layer == Layer::Sheet && t.situation.get(&f).map(String::as_str) == Some(level) && t.pitch_type == pitch)
+    };
+    assert!(sheet_tell("Oren Vasquell", Count, "1-2", "slider"));
+    assert!(sheet_tell("Teodor Brimley", Platoon, "same", "changeup") || sheet_tell("Teodor Brimley", Platoon, "opposite", "changeup"));
+    assert!(sheet_tell("Ned Castellane", Platoon, "opposite", "changeup") || sheet_tell("Ned Castellane", Platoon, "same", "changeup"));
+    for name in ["Oren Vasquell", "Teodor Brimley", "Ned Castellane"] {
+        assert!(beyond_tells(pitcher(name)).is_empty(), "{name}: {:?}", beyond_tells(pitcher(name)).iter().map(|t| &t.situation).collect::<Vec<_>>());
+    }
+    // Vasquell's count tell shows as leaning sheet cells at two strikes.
+    assert!(pitcher("Oren Vasquell").sheet.iter().any(|c| c.leans && c.count == "1-2" && c.top_pitch == "slider"));
+    for name in [
+        "Wes Halloran", "Pell Ardmore", "Linus Greaves", "Rafe Dunmore", "Silas Wetherby", "Ulric Penhallow", "Callum Ashgrove",
+        "Hob Farrant", "Niall Oberon", "Kit Rennick", "Garrick Voss",
+    ] {
+        let p = pitcher(name);
+        assert!(beyond_tells(p).is_empty(), "{name} has a tell beyond the sheet: {:?}", beyond_tells(p).iter().map(|t| &t.situation).collect::<Vec<_>>());
+    }
+    // At most three headline findings, the first section of each page.
+    for p in demo().summary.pitchers.iter().filter(|p| p.is_ok()) {
+        assert!(p.headline.len() <= 3);
+    }
+    assert!(!pitcher("Oren Vasquell").headline.is_empty());
+}
+
+/// The sheet's 24 cells hold exactly his latest season's pitches, each
+/// cell's mix adds up to 1, and the two layers' held-out bits add up to the
+/// whole model's (bits are log ratios: log(model/prior) = log(sheet/prior)
+/// + log(model/sheet), on the same scored pitches).
+#[test]
+fn sheet_cells_sum_and_layers_add_up() {
+    for p in demo().summary.pitchers.iter().filter(|p| p.is_ok()) {
+        assert_eq!(p.sheet.len(), 24);
+        let season = p.sheet_season.unwrap();
+        let n: usize = p.sheet.iter().map(|c| c.n).sum();
+        assert_eq!(n, p.pitches_by_season[&season], "{}", p.pitcher);
+        for c in &p.sheet {
+            let total: f64 = c.mix.values().sum();
+            assert!((total - 1.0).abs() < 1e-9, "{} {} {}: mix sums to {total}", p.pitcher, c.count, c.bats);
+            assert!(c.top_share_low <= c.top_share + 1e-12 && c.top_share <= c.top_share_high + 1e-12, "{} {} {}: {} outside {}..{}", p.pitcher, c.count, c.bats, c.top_share, c.top_share_low, c.top_share_high);
+        }
+        let (bits, sheet, beyond) = (p.bits_gained.unwrap(), p.sheet_bits.unwrap(), p.beyond_bits.unwrap());
+        assert!((sheet + beyond - bits).abs() < 1e-9, "{}: {sheet} + {beyond} != {bits}", p.pitcher);
+    }
+}
+
+/// 99% band of Binomial(n, p).
+fn band(n: u64, p: f64) -> (u64, u64) {
+    let b = Binomial::new(p, n).unwrap();
+    ((0..=n).find(|&k| b.cdf(k) >= 0.005).unwrap(), (0..=n).find(|&k| b.cdf(k) >= 0.995).unwrap())
+}
+
+fn write(log: &SimLog, tag: &str, seed: u64) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("tellscope-layers-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join(format!("{tag}-{seed}.csv"));
+    write_frame(&mut sim_frame(log).unwrap(), &path).unwrap();
+    path
+}
+
+/// Runs with any flagged beyond tell, and every beyond-the-sheet p-value.
+fn beyond_runs(logs: impl Iterator<Item = (u64, SimLog)>, tag: &str) -> (u64, u64, Vec<f64>) {
+    let (mut runs, mut with_tell, mut p) = (0, 0, Vec::new());
+    for (seed, log) in logs {
+        let path = write(&log, tag, seed);
+        let a = audit::run(&path, &Settings { seed: 31 + seed, ..settings(199) }, false).unwrap();
+        runs += 1;
+        with_tell += a.summary.pitchers.iter().any(|p| p.tells.iter().any(|t| t.layer == Layer::Beyond)) as u64;
+        p.extend(a.summary.pitchers.iter().filter_map(|p| p.beyond_p_value));
+        std::fs::remove_file(&path).ok();
+    }
+    (runs, with_tell, p)
+}
+
+/// A null with real structure: the realistic demo club re-simulated, each
+/// pitcher's labels shuffled within season × count × batter side, so that
+/// nothing beyond his sheet is left (his count and side habits, his arsenal,
+/// who pitched when all stay). No beyond tell in at least 95% of runs
+/// (Benjamini & Hochberg 1995: at most 5% of runs under the global null;
+/// the 99% band of that count) and uniform beyond-the-sheet p-values.
+#[test]
+fn a_staff_shuffled_within_count_and_side_has_nothing_beyond_its_sheet() {
+    use rand::seq::SliceRandom;
+    use rand::SeedableRng;
+    let text = std::fs::read_to_string(root().join("demo-data/scenario.toml")).unwrap();
+    let scenario = Scenario::from_toml_str(&text).unwrap();
+    let seeds = 16u64;
+    let logs = (1..=seeds).map(|seed| {
+        let mut log = simulate(&scenario, 500 + seed);
+        let mut groups: std::collections::BTreeMap<(u32, i32, u8, u8, bool), Vec<usize>> = Default::default();
+        for (i, r) in log.rows.iter().enumerate() {
+            let season = log.games[r.game as usize].season;
+            groups.entry((r.pitcher, season, r.balls, r.strikes, r.bats == tellscope::situations::levels::Hand::R)).or_default().push(i);
+        }
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(seed);
+        for rows in groups.values() {
+            let mut types: Vec<u16> = rows.iter().map(|&i| log.rows[i].pitch_type).collect();
+            types.shuffle(&mut rng);
+            for (&i, t) in rows.iter().zip(types) {
+                log.rows[i].pitch_type = t;
+            }
+        }
+        (seed, log)
+    });
+    let (runs, with_tell, p) = beyond_runs(logs, "shuffled");
+    let (_, hi) = band(runs, 0.05);
+    assert!(with_tell <= hi, "{with_tell} of {runs} shuffled staffs had a tell beyond the sheet (99% band at most {hi})");
+    let n = p.len() as u64;
+    assert!(n >= 200, "only {n} beyond-the-sheet p-values");
+    for cut in [0.05, 0.5] {
+        // "At or below": Besag–Clifford p-values have atoms at h/l (see tests/audit_rolling.rs).
+        let below = p.iter().filter(|&&x| x <= cut + 1e-12).count() as u64;
+        let (lo, hi) = band(n, cut);
+        assert!((lo..=hi).contains(&below), "{below} of {n} beyond p-values at or below {cut}; 99% band {lo}..={hi}");
+    }
+}
+
+/// Outing wobble: a staff whose outings each draw their own mix around his
+/// usual one, with no situational habit (tests/fixtures/scenarios/
+/// wobble_staff.toml), flags no beyond tell in at least 95% of runs.
+#[test]
+fn outing_wobble_is_not_a_tell() {
+    let text = std::fs::read_to_string(root().join("tests/fixtures/scenarios/wobble_staff.toml")).unwrap();
+    let scenario = Scenario::from_toml_str(&text).unwrap();
+    let seeds = 20u64;
+    let (runs, with_tell, _) = beyond_runs((1..=seeds).map(|seed| (seed, simulate(&scenario, 900 + seed))), "wobble");
+    let (_, hi) = band(runs, 0.05);
+    assert!(with_tell <= hi, "{with_tell} of {runs} wobbling staffs had a tell beyond the sheet (99% band at most {hi})");
+}
