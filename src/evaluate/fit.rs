@@ -91,6 +91,12 @@ pub struct Workspace {
     sheet_log: Vec<f64>,
     /// Score the sheet in refits too (the beyond-the-sheet test).
     pub want_sheet: bool,
+    /// The sheet's logs per fold, kept across refits when every refit's
+    /// labels keep each cell's training counts (the beyond-the-sheet
+    /// shuffles, within game × cell, do: a game lies wholly on one side of
+    /// every fold), so its strength is estimated once.
+    pub sheet_fixed: bool,
+    sheet_cache: Vec<Vec<f64>>,
 }
 
 impl Workspace {
@@ -131,6 +137,8 @@ impl Workspace {
             sheet: GroupCounts::new(24, k),
             sheet_log: Vec::new(),
             want_sheet: false,
+            sheet_fixed: false,
+            sheet_cache: vec![Vec::new(); task.folds.len()],
         }
     }
 }
@@ -317,7 +325,9 @@ pub fn fit_and_score(
         // side, each cell shrunk toward his mix by the empirical-Bayes
         // Dirichlet strength (as the count prior), logs tabled per cell.
         let with_sheet = keep_trees || ws.want_sheet;
-        if with_sheet {
+        if with_sheet && ws.sheet_fixed && !ws.sheet_cache[fi].is_empty() {
+            std::mem::swap(&mut ws.sheet_log, &mut ws.sheet_cache[fi]);
+        } else if with_sheet {
             ws.sheet.clear();
             for &r in &fold.train {
                 ws.sheet.add(task.cell[r as usize] as usize, labels[r as usize] as usize);
@@ -370,6 +380,9 @@ pub fn fit_and_score(
             }
         }
         out.totals = t;
+        if with_sheet && ws.sheet_fixed {
+            std::mem::swap(&mut ws.sheet_log, &mut ws.sheet_cache[fi]);
+        }
         let tree = if keep_trees {
             if settings.split_alpha < 1.0 {
                 crate::model::prune::prune_fast(&grown, &mut ws.criticals, m).0
