@@ -131,6 +131,10 @@ pub struct TellTest {
     /// (beyond tells).
     pub held_out_expected_share: Option<f64>,
     pub verdict: Verdict,
+    /// Does the tell cost him? Filled for flagged tells when the log has
+    /// `result` (crate::outcomes).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub cost: Option<crate::outcomes::TellCost>,
 }
 
 impl TellTest {
@@ -367,6 +371,7 @@ pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[&Pitc
                             held_out_high: hci.map(|c| c.high),
                             held_out_expected_share: held_ref,
                             verdict: verdict(direction, k_in as f64 / n_in as f64, hk_in as u64, h_in as u64, held_ref),
+                            cost: None,
                         });
                     }
                 }
@@ -550,6 +555,7 @@ fn beyond_tests(
                     held_out_high: hci.map(|c| c.high),
                     held_out_expected_share: held_exp,
                     verdict: verdict(direction, share, hk as u64, hn as u64, held_exp),
+                    cost: None,
                 });
             }
         }

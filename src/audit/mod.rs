@@ -237,6 +237,8 @@ pub fn audit_log(
     bar.finish_and_clear();
     timer.lap("permutation and tell tests");
     let (perms, beyond_perms): (Vec<_>, Vec<_>) = perms.into_iter().unzip();
+    let mut tests = tests;
+    crate::outcomes::cost_of_tells(log, sit, &ok_tasks, &mut tests, settings.fdr);
     let model_q = fdr::bh_q_values(&perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
     // The beyond-the-sheet p-values form their own family over pitchers.
     let beyond_q = fdr::bh_q_values(&beyond_perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
@@ -441,7 +443,12 @@ pub fn audit_log(
             cautions,
         });
     }
-    let notes = input_notes(sit, &source, "left out");
+    let mut notes = input_notes(sit, &source, "left out");
+    if log.result.is_none() {
+        notes.push(
+            "The log has no `result` column, so whether a tell costs him (whiffs, called and swinging strikes, balls in play of the tell's pitch against comparable spots) cannot be shown; add `result` to see it.".into(),
+        );
+    }
     let summary = Summary {
         tool: Tool::this(),
         input: Input::of(&source, log),

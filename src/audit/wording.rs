@@ -364,3 +364,34 @@ pub fn beyond_short(t: &TellTest, test_label: &str) -> String {
     };
     format!("{sit}: {} {} where his count and side habits give {expected} (n = {}{check})", t.pitch_type, pct(t.share), t.n)
 }
+
+/// Whether a tell costs him, in a coach's words, with the figures behind it.
+pub fn cost_sentence(t: &TellTest, c: &crate::outcomes::TellCost) -> String {
+    let sit = situation_phrase(&t.situation);
+    let figures = format!(
+        "whiffs {} of {} swings against {} expected from {} (difference {:+.0} points, 95% interval {:+.0} to {:+.0}); called and swinging strikes {} against {}; in play {} against {}",
+        pct(c.whiff_rate),
+        c.swings,
+        pct(c.expected_whiff_rate),
+        c.compared_with,
+        100.0 * (c.whiff_rate - c.expected_whiff_rate),
+        100.0 * c.whiff_diff_low,
+        100.0 * c.whiff_diff_high,
+        pct(c.csw_rate),
+        pct(c.expected_csw_rate),
+        pct(c.in_play_rate),
+        pct(c.expected_in_play_rate)
+    );
+    if c.costly {
+        format!(
+            "It costs him: his {} {sit} fares worse than it does elsewhere — {figures}; {}.",
+            t.pitch_type,
+            q_text(c.q_value)
+        )
+    } else {
+        format!(
+            "{}: predictable, and it still works — {figures}. No change is suggested on this evidence.",
+            capitalize(&format!("his {} {sit}", t.pitch_type))
+        )
+    }
+}

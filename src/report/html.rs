@@ -164,9 +164,26 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
             ),
             _ => String::new(),
         };
-        let advice = main
+        // "What to change": tells that cost him first (beyond the sheet or
+        // on it), then the rest beyond the sheet, most pitches given away
+        // first; a tell that is predictable but still works says so and is
+        // left alone.
+        let mut to_weigh: Vec<&TellTest> = main.clone();
+        to_weigh.extend(sheet_layer.iter().copied().filter(|t| t.within.is_none() && t.cost.as_ref().is_some_and(|c| c.costly)));
+        to_weigh.sort_by(|a, b| {
+            let costly = |t: &TellTest| t.cost.as_ref().is_some_and(|c| c.costly);
+            costly(b).cmp(&costly(a)).then(b.strength().total_cmp(&a.strength()))
+        });
+        let advice = to_weigh
             .iter()
-            .map(|t| wording::advice(t, &situation_mix(tests_of.of(&t.pitcher), t), per_season(t, discovery_seasons)))
+            .map(|t| {
+                let base = wording::advice(t, &situation_mix(tests_of.of(&t.pitcher), t), per_season(t, discovery_seasons));
+                match &t.cost {
+                    Some(c) if c.costly => format!("{} {}", wording::cost_sentence(t, c), base),
+                    Some(c) => wording::cost_sentence(t, c),
+                    None => base,
+                }
+            })
             .collect();
         let counts = p
             .counts

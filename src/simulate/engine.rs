@@ -449,7 +449,15 @@ impl<'a> Game<'a> {
             pitch_no = pitch_no.saturating_add(1);
             situation[0] = count_index(balls, strikes) as u8;
             let pitch_type = choose_pitch(rng, plan, &situation, self.season_t, &self.arm.wobble, &roster.pitch_types);
-            let result = draw_result(rng, balls, strikes, self.outcomes);
+            // A planted cost: the first rule that holds decides, and only
+            // when its own pitch came.
+            let cost = plan
+                .rules
+                .iter()
+                .find(|r| r.holds(&situation))
+                .filter(|r| r.throw == pitch_type)
+                .map_or(0.0, |r| r.cost);
+            let result = draw_result(rng, balls, strikes, self.outcomes, cost);
             // How the log writes it (a relabelled or split pitch); one more
             // draw only for a split, so other logs are unchanged.
             let written = match &plan.written[pitch_type as usize] {
@@ -559,7 +567,10 @@ fn choose_pitch(rng: &mut ChaCha8Rng, plan: &SeasonPlan, situation: &[u8; 9], t:
     SeasonPlan::slot(&plan.mix, count, platoon).sample(rng.random::<f64>())
 }
 
-fn draw_result(rng: &mut ChaCha8Rng, balls: u8, strikes: u8, outcomes: Outcomes) -> PitchResult {
+/// `cost`: the share of the swinging-strike chance turned into balls in play
+/// (a pitch batters sit on); no extra draw, so logs without costs are
+/// unchanged.
+fn draw_result(rng: &mut ChaCha8Rng, balls: u8, strikes: u8, outcomes: Outcomes, cost: f64) -> PitchResult {
     let u = rng.random::<f64>();
     if u < HBP {
         return PitchResult::HitByPitch;
@@ -569,6 +580,11 @@ fn draw_result(rng: &mut ChaCha8Rng, balls: u8, strikes: u8, outcomes: Outcomes)
         for (p, f) in row.iter_mut().zip(LEAGUE_SCALE) {
             *p *= f;
         }
+    }
+    if cost > 0.0 {
+        let moved = row[2] * cost;
+        row[2] -= moved;
+        row[4] += moved;
     }
     let row = &row;
     let mut v = (u - HBP) / (1.0 - HBP) * row.iter().sum::<f64>();

@@ -82,6 +82,7 @@ pub(crate) struct CompiledRule {
     /// The season mix without `throw`, renormalised (by count x platoon
     /// with shared habits, as [`SeasonPlan::mix`]).
     pub rest: Vec<Cdf>,
+    pub cost: f64,
 }
 
 impl CompiledRule {
@@ -297,6 +298,7 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
                     throw,
                     rate: rule.rate,
                     rest: habit_tables(&rest, habits, &type_index),
+                    cost: rule.cost,
                 });
                 // The planted truth lists only seasons he pitched in.
                 let (first, last) = (
@@ -567,6 +569,7 @@ pub(crate) fn generated_pitcher(
             rate,
             from: None,
             until: None,
+            cost: 0.0,
         });
     }
     let mut spec = PitcherSpec::plain(names.make(rng), throws, role, mix);

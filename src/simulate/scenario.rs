@@ -80,6 +80,9 @@
 //!   rate = 0.80                     # P(slider | situation); 0.0 plants an avoidance
 //!   from = 2025                     # optional: first season the rule holds
 //!   until = 2026                    # optional: last season the rule holds
+//!   cost = 0.6                      # optional: batters hit the rule's pitch harder
+//!                                   # in its situation: its swinging-strike chance
+//!                                   # cut by this share, the rest put in play
 //! ```
 //!
 //! Condition keys and their levels are those of the data contract (§2):
@@ -449,6 +452,10 @@ pub struct Rule {
     pub from: Option<i32>,
     /// Last season the rule holds (inclusive); `None`: to the last.
     pub until: Option<i32>,
+    /// When the rule's situation holds and its pitch comes, batters hit it
+    /// harder: its swinging-strike chance is cut by this share, the rest
+    /// becoming balls in play (0: the pitch fares as any other).
+    pub cost: f64,
 }
 
 impl Rule {
@@ -758,6 +765,8 @@ struct RawRule {
     rate: f64,
     from: Option<i32>,
     until: Option<i32>,
+    #[serde(default)]
+    cost: f64,
 }
 
 #[derive(Deserialize)]
@@ -1453,12 +1462,16 @@ fn validate_pitcher(
             levels.dedup();
             when.insert(factor, levels);
         }
+        if !(r.cost.is_finite() && (0.0..=1.0).contains(&r.cost)) {
+            return Err(format!("{rat}: cost = {} must be a share in 0..1", r.cost));
+        }
         let rule = Rule {
             when,
             throw: throw.clone(),
             rate: r.rate,
             from: r.from,
             until: r.until,
+            cost: r.cost,
         };
         let mut active_any = false;
         for s in seasons.iter().filter(|s| rule.active_in(s.year)) {

@@ -1,0 +1,100 @@
+//! Does a tell cost him? The realistic demo plants one tell that hitters
+//! cash in (Anselm Drury's fastball after a curveball: batters sit on it,
+//! fewer whiffs, more balls in play) and one that costs nothing (Inigo
+//! Marchetti's curveball the third time through). The cost test is the
+//! Cochran–Mantel–Haenszel test of tellscope::significance::cmh, checked
+//! against statsmodels' StratifiedTable in tests/stats_reference.rs.
+
+use std::path::{Path, PathBuf};
+use std::sync::OnceLock;
+use tellscope::audit::{self, Audit};
+use tellscope::settings::{ConfigFile, Overrides, Settings};
+use tellscope::situations::levels::Factor;
+
+fn demo_log() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv")
+}
+
+fn settings() -> Settings {
+    Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(19), ..Overrides::default() }).unwrap()
+}
+
+fn demo() -> &'static Audit {
+    static A: OnceLock<Audit> = OnceLock::new();
+    A.get_or_init(|| audit::run(&demo_log(), &settings(), false).unwrap())
+}
+
+#[test]
+fn the_tell_hitters_cash_in_is_costly_and_the_other_is_not() {
+    let a = demo();
+    let tell = |name: &str, f: Factor, level: &str, pitch: &str| {
+        a.summary
+            .pitchers
+            .iter()
+            .find(|p| p.pitcher == name)
+            .unwrap()
+            .tells
+            .iter()
+            .find(|t| t.situation.len() == 1 && t.situation.get(&f).map(String::as_str) == Some(level) && t.pitch_type == pitch)
+            .unwrap_or_else(|| panic!("{name}: no {f} {level} {pitch} tell"))
+    };
+    let drury = tell("Anselm Drury", Factor::PrevPitch, "curveball", "fastball");
+    let c = drury.cost.as_ref().expect("a cost with a result column");
+    assert!(c.costly, "Drury's fastball after a curveball: {c:?}");
+    assert!(c.whiff_rate < c.expected_whiff_rate && c.in_play_rate > c.expected_in_play_rate);
+    assert!(c.whiff_diff_high < 0.0, "the interval of the difference excludes 0: {c:?}");
+    let marchetti = tell("Inigo Marchetti", Factor::TimesThrough, "3+", "curveball");
+    let c = marchetti.cost.as_ref().unwrap();
+    assert!(!c.costly, "Marchetti's curveball third time through: {c:?}");
+    assert!(c.whiff_diff_low <= 0.0 && 0.0 <= c.whiff_diff_high + 0.05);
+    // Nobody else's flagged tell costs him: every other pitch fares by the
+    // count alone in the simulator.
+    for p in &a.summary.pitchers {
+        for t in &p.tells {
+            let costly = t.cost.as_ref().is_some_and(|c| c.costly);
+            let is_drury = p.pitcher == "Anselm Drury" && t.pitch_type == "fastball" && t.situation.get(&Factor::PrevPitch).map(String::as_str) == Some("curveball");
+            assert!(!costly || is_drury, "{} {:?} {} is called costly", p.pitcher, t.situation, t.pitch_type);
+        }
+    }
+    // The page says which tells cost and which do not.
+    let dir = std::env::temp_dir().join(format!("tellscope-cost-{}", std::process::id()));
+    tellscope::report::write_audit_report(&dir, a).unwrap();
+    let html = std::fs::read_to_string(dir.join("index.html")).unwrap();
+    assert!(html.contains("It costs him: his fastball right after a curveball"));
+    assert!(html.contains("predictable, and it still works"));
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+/// Without a `result` column the audit runs, says cost figures need it, and
+/// nothing else changes.
+#[test]
+fn without_results_the_audit_is_the_same_but_for_cost() {
+    let text = std::fs::read_to_string(demo_log()).unwrap();
+    let mut lines = text.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let at = header.iter().position(|h| *h == "result").unwrap();
+    let keep = |l: &str| l.split(',').enumerate().filter(|(i, _)| *i != at).map(|(_, v)| v).collect::<Vec<_>>().join(",");
+    let mut out = keep(&header.join(","));
+    out.push('\n');
+    for l in lines {
+        out.push_str(&keep(l));
+        out.push('\n');
+    }
+    let dir = std::env::temp_dir().join(format!("tellscope-noresult-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("demo-log.csv");
+    std::fs::write(&path, out).unwrap();
+    let b = audit::run(&path, &settings(), false).unwrap();
+    let a = demo();
+    assert!(b.summary.notes.iter().any(|n| n.contains("result")), "{:?}", b.summary.notes);
+    assert_eq!(a.summary.pitchers.len(), b.summary.pitchers.len());
+    for (x, y) in a.summary.pitchers.iter().zip(&b.summary.pitchers) {
+        assert_eq!(x.pitcher, y.pitcher);
+        assert_eq!(x.bits_gained, y.bits_gained);
+        assert_eq!(x.p_value, y.p_value);
+        assert_eq!(x.beyond_p_value, y.beyond_p_value);
+        assert_eq!(x.tells.len(), y.tells.len());
+        assert!(y.tells.iter().all(|t| t.cost.is_none()));
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
