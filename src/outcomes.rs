@@ -62,7 +62,7 @@ impl Outcomes {
         }
     }
 
-    fn sub(&self, o: &Outcomes) -> Outcomes {
+    pub fn sub(&self, o: &Outcomes) -> Outcomes {
         Outcomes {
             pitches: self.pitches - o.pitches,
             swings: self.swings - o.swings,
@@ -95,6 +95,56 @@ fn ratio(a: u64, b: u64) -> f64 {
     }
 }
 
+/// Rate differences standardised to the first group's strata: over strata
+/// s of (x1 of n1) against (x2 of n2), the first group's rate minus the
+/// second group's rates weighted by the first group's n1_s (indirect
+/// standardisation), with a Wald 95% interval from the strata's binomial
+/// variances. Strata missing either group are skipped.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct Standardised {
+    n1: f64,
+    x1: f64,
+    expected: f64,
+    var: f64,
+}
+
+impl Standardised {
+    pub fn add(&mut self, x1: u64, n1: u64, x2: u64, n2: u64) {
+        if n1 == 0 || n2 == 0 {
+            return;
+        }
+        let (x1, n1, x2, n2) = (x1 as f64, n1 as f64, x2 as f64, n2 as f64);
+        let (r1, r2) = (x1 / n1, x2 / n2);
+        self.n1 += n1;
+        self.x1 += x1;
+        self.expected += n1 * r2;
+        self.var += n1 * n1 * (r1 * (1.0 - r1) / n1 + r2 * (1.0 - r2) / n2);
+    }
+
+    pub fn rate(&self) -> f64 {
+        if self.n1 > 0.0 { self.x1 / self.n1 } else { 0.0 }
+    }
+
+    /// Sums over independent strata add.
+    pub fn merge(&mut self, o: &Standardised) {
+        self.n1 += o.n1;
+        self.x1 += o.x1;
+        self.expected += o.expected;
+        self.var += o.var;
+    }
+
+    pub fn expected_rate(&self) -> f64 {
+        if self.n1 > 0.0 { self.expected / self.n1 } else { 0.0 }
+    }
+
+    /// (low, high) of rate − expected_rate.
+    pub fn interval(&self) -> (f64, f64) {
+        let d = self.rate() - self.expected_rate();
+        let half = if self.n1 > 0.0 { 1.96 * self.var.sqrt() / self.n1 } else { 0.0 };
+        (d - half, d + half)
+    }
+}
+
 /// The cost of one tell (CONTRACT: `cost` on a tell).
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct TellCost {
@@ -103,8 +153,10 @@ pub struct TellCost {
     pub swings: u64,
     pub whiff_rate: f64,
     pub expected_whiff_rate: f64,
-    /// 95% interval of whiff_rate − expected_whiff_rate (normal
-    /// approximation with the stratified variance).
+    /// 95% interval of the whiff rate minus the expected one (stratified
+    /// Wald interval, `Standardised`). The whiff rate is over all his swings
+    /// at the tell's pitch there; the expectation and interval rest on the
+    /// counts where comparable swings exist.
     pub whiff_diff_low: f64,
     pub whiff_diff_high: f64,
     pub csw_rate: f64,
@@ -201,54 +253,41 @@ pub fn cost_of_tells(log: &PitchLog, sit: &Situations, tasks: &[&PitcherTask], t
             continue;
         }
         let fixes_count = count_col.is_some_and(|cc| codes.iter().any(|&(i, _)| i == cc));
-        let (whiff, csw, in_play, compared_with) = if fixes_count {
+        // The test (Cmh, pooled margins) and the figures (standardised to
+        // the tell's own pitches) over the same strata.
+        let (mut w, mut sw, mut scsw, mut splay) = (Cmh::default(), Standardised::default(), Standardised::default(), Standardised::default());
+        let compared_with = if fixes_count {
             // Everyone's pitches of this type in the situation, less his own.
             let all = wanted.get(&(codes.clone(), ty)).copied().unwrap_or_default();
-            let others = all.sub(&mine);
-            let mut w = Cmh::default();
+            let o = all.sub(&mine);
             w.add(mine.whiffs, mine.swings, all.whiffs, all.swings);
-            (
-                (w, others.whiff_rate()),
-                others.csw_rate(),
-                others.in_play_rate(),
-                format!("the rest of the log's {}s in the same situation", t.pitch_type),
-            )
+            sw.add(mine.whiffs, mine.swings, o.whiffs, o.swings);
+            scsw.add(mine.csw, mine.pitches, o.csw, o.pitches);
+            splay.add(mine.in_play, mine.pitches, o.in_play, o.pitches);
+            format!("the rest of the log's {}s in the same situation", t.pitch_type)
         } else {
             // His own pitches of the type elsewhere, count by count.
-            let (mut w, mut e_csw, mut e_play) = (Cmh::default(), 0.0, 0.0);
             for c in 0..12 {
                 let (a, b) = (&inside[c], &outside[c]);
-                let swings = a.swings + b.swings;
-                w.add(a.whiffs, a.swings, a.whiffs + b.whiffs, swings);
-                if a.pitches > 0 {
-                    let p = (a.pitches + b.pitches) as f64;
-                    e_csw += a.pitches as f64 * (a.csw + b.csw) as f64 / p;
-                    e_play += a.pitches as f64 * (a.in_play + b.in_play) as f64 / p;
-                }
+                w.add(a.whiffs, a.swings, a.whiffs + b.whiffs, a.swings + b.swings);
+                sw.add(a.whiffs, a.swings, b.whiffs, b.swings);
+                scsw.add(a.csw, a.pitches, b.csw, b.pitches);
+                splay.add(a.in_play, a.pitches, b.in_play, b.pitches);
             }
-            let expected_whiff = if mine.swings > 0 { w.expected / mine.swings as f64 } else { 0.0 };
-            (
-                (w, expected_whiff),
-                e_csw / mine.pitches as f64,
-                e_play / mine.pitches as f64,
-                format!("his {}s outside the situation in the same counts", t.pitch_type),
-            )
+            format!("his {}s outside the situation in the same counts", t.pitch_type)
         };
-        let (w, expected_whiff) = whiff;
-        let n_sw = mine.swings.max(1) as f64;
-        let half = 1.96 * w.variance.sqrt() / n_sw;
-        let diff = mine.whiff_rate() - expected_whiff;
+        let (low, high) = sw.interval();
         t.cost = Some(TellCost {
             n: mine.pitches,
             swings: mine.swings,
             whiff_rate: mine.whiff_rate(),
-            expected_whiff_rate: expected_whiff,
-            whiff_diff_low: diff - half,
-            whiff_diff_high: diff + half,
+            expected_whiff_rate: sw.expected_rate(),
+            whiff_diff_low: low,
+            whiff_diff_high: high,
             csw_rate: mine.csw_rate(),
-            expected_csw_rate: csw,
+            expected_csw_rate: scsw.expected_rate(),
             in_play_rate: mine.in_play_rate(),
-            expected_in_play_rate: in_play,
+            expected_in_play_rate: splay.expected_rate(),
             p_value: w.p_less(),
             q_value: 1.0,
             costly: false,
@@ -262,4 +301,120 @@ pub fn cost_of_tells(log: &PitchLog, sit: &Situations, tasks: &[&PitcherTask], t
         c.q_value = q;
         c.costly = q <= fdr_level && c.whiff_rate < c.expected_whiff_rate;
     }
+}
+
+/// Do his pitches fare worse when the held-out model called them? One
+/// pitch type (or `"all"`): the whiff rate of swings at pitches the model
+/// gave the highest probability ("called"), against what the same type got
+/// in the same counts when the model guessed otherwise.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CalledFigure {
+    pub pitch_type: String,
+    /// Swings at called pitches, and at the others, in the counts where
+    /// both occur (the only ones that compare anything).
+    pub called_swings: u64,
+    pub other_swings: u64,
+    pub whiff_rate_called: f64,
+    /// Standardised by count (and type, when pooled): the other swings'
+    /// whiff rate in the same strata.
+    pub expected_whiff_rate: f64,
+    /// 95% interval of whiff_rate_called − expected_whiff_rate.
+    pub diff_low: f64,
+    pub diff_high: f64,
+    /// One-sided: fewer whiffs when called.
+    pub p_value: f64,
+}
+
+impl CalledFigure {
+    fn from(pitch_type: String, w: &Cmh, st: &Standardised, called: u64, other: u64) -> CalledFigure {
+        let (low, high) = st.interval();
+        CalledFigure {
+            pitch_type,
+            called_swings: called,
+            other_swings: other,
+            whiff_rate_called: st.rate(),
+            expected_whiff_rate: st.expected_rate(),
+            diff_low: low,
+            diff_high: high,
+            p_value: w.p_less(),
+        }
+    }
+}
+
+/// A pitcher's held-out pitches called or not: per pitch type and pooled,
+/// with the pooled test's sums for the staff figure.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct CalledOutcomes {
+    pub pooled: CalledFigure,
+    pub by_type: Vec<CalledFigure>,
+    #[serde(skip)]
+    pub sums: (Cmh, Standardised, u64, u64),
+}
+
+/// For a scored fit: each held-out pitch is "called" when the model's most
+/// likely pitch was the one thrown. Swings are compared count by count
+/// (Cochran–Mantel–Haenszel over type × count strata when pooled). `None`
+/// without a `result` column or without swings.
+pub fn called_outcomes(log: &PitchLog, task: &PitcherTask, scored: &crate::evaluate::fit::Scored, names: &[String]) -> Option<CalledOutcomes> {
+    let results = log.result.as_ref()?;
+    let k = task.n_classes;
+    // [type][count]: (called swings, called whiffs, other swings, other whiffs)
+    let mut cells = vec![[0u64; 4]; k * 12];
+    for (i, &r) in scored.rows.iter().enumerate() {
+        let y = task.labels[r as usize] as usize;
+        let Some(res) = results[task.rows[r as usize] as usize] else { continue };
+        let swing = matches!(res, PitchResult::SwingingStrike | PitchResult::Foul | PitchResult::InPlay);
+        if !swing {
+            continue;
+        }
+        let whiff = (res == PitchResult::SwingingStrike) as u64;
+        let called = crate::evaluate::fit::argmax(scored.model_row(i)) == y;
+        let c = &mut cells[y * 12 + task.count[r as usize] as usize];
+        if called {
+            c[0] += 1;
+            c[1] += whiff;
+        } else {
+            c[2] += 1;
+            c[3] += whiff;
+        }
+    }
+    let mut pooled = (Cmh::default(), Standardised::default(), 0u64, 0u64);
+    let mut by_type = Vec::new();
+    for y in 0..k {
+        let mut w = Cmh::default();
+        let mut st = Standardised::default();
+        let (mut called, mut other) = (0, 0);
+        // Only counts where some swings were called and some not compare
+        // anything; the figure rests on those swings alone.
+        for c in cells[y * 12..(y + 1) * 12].iter().filter(|c| c[0] > 0 && c[2] > 0) {
+            w.add(c[1], c[0], c[1] + c[3], c[0] + c[2]);
+            st.add(c[1], c[0], c[3], c[2]);
+            called += c[0];
+            other += c[2];
+        }
+        if called > 0 {
+            by_type.push(CalledFigure::from(names[task.class_types[y] as usize].clone(), &w, &st, called, other));
+        }
+        pooled.0.merge(&w);
+        pooled.1.merge(&st);
+        pooled.2 += called;
+        pooled.3 += other;
+    }
+    if pooled.2 == 0 {
+        return None;
+    }
+    Some(CalledOutcomes { pooled: CalledFigure::from("all".into(), &pooled.0, &pooled.1, pooled.2, pooled.3), by_type, sums: pooled })
+}
+
+/// The staff's pooled figure: every pitcher's strata together.
+pub fn staff_called(all: &[&CalledOutcomes]) -> Option<CalledFigure> {
+    let (mut w, mut st) = (Cmh::default(), Standardised::default());
+    let (mut called, mut other) = (0, 0);
+    for c in all {
+        w.merge(&c.sums.0);
+        st.merge(&c.sums.1);
+        called += c.sums.2;
+        other += c.sums.3;
+    }
+    (called > 0).then(|| CalledFigure::from("all".into(), &w, &st, called, other))
 }

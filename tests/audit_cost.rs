@@ -56,6 +56,19 @@ fn the_tell_hitters_cash_in_is_costly_and_the_other_is_not() {
             assert!(!costly || is_drury, "{} {:?} {} is called costly", p.pitcher, t.situation, t.pitch_type);
         }
     }
+    // Predictability against outcomes: per pitcher (by type and pooled) and
+    // for the staff, each with its interval around its difference.
+    let staff = a.summary.staff_called_outcomes.as_ref().expect("a staff figure with results");
+    let d = staff.whiff_rate_called - staff.expected_whiff_rate;
+    assert!(staff.diff_low <= d && d <= staff.diff_high && staff.called_swings > 500);
+    let with_figures = a.summary.pitchers.iter().filter_map(|p| p.called_outcomes.as_ref()).count();
+    assert!(with_figures >= 10);
+    for p in a.summary.pitchers.iter().filter_map(|p| p.called_outcomes.as_ref()) {
+        for f in p.by_type.iter().chain(std::iter::once(&p.pooled)) {
+            let d = f.whiff_rate_called - f.expected_whiff_rate;
+            assert!(f.diff_low <= d + 1e-12 && d <= f.diff_high + 1e-12 && (0.0..=1.0).contains(&f.p_value));
+        }
+    }
     // The page says which tells cost and which do not.
     let dir = std::env::temp_dir().join(format!("tellscope-cost-{}", std::process::id()));
     tellscope::report::write_audit_report(&dir, a).unwrap();
@@ -95,6 +108,8 @@ fn without_results_the_audit_is_the_same_but_for_cost() {
         assert_eq!(x.beyond_p_value, y.beyond_p_value);
         assert_eq!(x.tells.len(), y.tells.len());
         assert!(y.tells.iter().all(|t| t.cost.is_none()));
+        assert!(y.called_outcomes.is_none());
     }
+    assert!(b.summary.staff_called_outcomes.is_none());
     std::fs::remove_dir_all(&dir).ok();
 }

@@ -90,7 +90,10 @@ fn the_demo_report_loads_cleanly_with_every_chart() {
             assert!(img.width() > 100 && img.height() > 100);
         }
     }
-    assert_eq!(svgs, 1 + 4 * ok, "one staff chart and four per pitcher (the sheet's two panels, mix by count, the null)");
+    // The staff chart, with results the called-pitch outcomes chart, and four
+    // per pitcher (the sheet's two panels, mix by count, the null).
+    let staff_charts = if summary["staff_called_outcomes"].is_null() { 1 } else { 2 };
+    assert_eq!(svgs, staff_charts + 4 * ok, "staff charts and four per pitcher");
     let html = std::fs::read_to_string(out.join("index.html")).unwrap();
     assert!(!html.contains("http://") || html.matches("http://").all(|_| html.contains("xmlns")), "no network resources");
     assert!(!html.contains("<link ") && !html.contains(" src=\""), "self-contained: no external files");

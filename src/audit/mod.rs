@@ -293,6 +293,7 @@ pub fn audit_log(
                 rules: Vec::new(),
                 n_unseen_type: None,
                 arsenal_changes: Vec::new(),
+                called_outcomes: None,
                 sheet: Vec::new(),
                 sheet_season: None,
                 sheet_bits: None,
@@ -399,6 +400,7 @@ pub fn audit_log(
         }
         let rules = wording::rules(task, &o.scored, names);
         let headline = headline(&sheet_cells, &flagged, &task.evaluation.tells_checked_on);
+        let called = crate::outcomes::called_outcomes(log, task, &o.scored, names);
         pitchers.push(PitcherSummary {
             pitcher: task.name.clone(),
             throws,
@@ -430,6 +432,7 @@ pub fn audit_log(
             rules,
             n_unseen_type: Some(o.scored.unseen),
             arsenal_changes,
+            called_outcomes: called,
             sheet: sheet_cells,
             sheet_season: Some(sheet_season),
             sheet_bits: Some(o.sheet_bits),
@@ -449,6 +452,7 @@ pub fn audit_log(
             "The log has no `result` column, so whether a tell costs him (whiffs, called and swinging strikes, balls in play of the tell's pitch against comparable spots) cannot be shown; add `result` to see it.".into(),
         );
     }
+    let staff_called = crate::outcomes::staff_called(&pitchers.iter().filter_map(|p| p.called_outcomes.as_ref()).collect::<Vec<_>>());
     let summary = Summary {
         tool: Tool::this(),
         input: Input::of(&source, log),
@@ -482,6 +486,7 @@ pub fn audit_log(
         },
         evaluation: scheme.out(),
         notes,
+        staff_called_outcomes: staff_called,
         tell_tests: tests.len(),
         tells_flagged: tests.iter().filter(|t| t.flagged).count(),
         pitchers,

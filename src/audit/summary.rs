@@ -16,6 +16,10 @@ pub struct Summary {
     /// Plain-words cautions about the whole run.
     pub notes: Vec<String>,
     pub pitchers: Vec<PitcherSummary>,
+    /// The staff's held-out pitches called by the model against the others
+    /// (every pitcher's count × type strata pooled), when the log has results.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub staff_called_outcomes: Option<crate::outcomes::CalledFigure>,
     /// Tell tests run, flagged, and the family size of the BH correction.
     pub tell_tests: usize,
     pub tells_flagged: usize,
@@ -195,6 +199,9 @@ pub struct PitcherSummary {
     /// `absent_share` decide).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub arsenal_changes: Vec<ArsenalChange>,
+    /// Do his pitches fare worse when the held-out model called them?
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub called_outcomes: Option<crate::outcomes::CalledOutcomes>,
     /// His mix by count × batter side in his latest season (`sheet_season`).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub sheet: Vec<crate::audit::sheet::SheetCell>,

@@ -55,6 +55,34 @@ pub fn for_each_chart(
     })
     .map_err(chart_err)?;
     sink(None, Chart { name: "staff-bits-gained".into(), ..staff })?;
+    // With results: do predictable pitches cost them? The staff first, then
+    // each pitcher, most costly first.
+    if let Some(staff_fig) = &s.staff_called_outcomes {
+        let mut rows = vec![charts::CalledRow {
+            label: "whole staff".into(),
+            n: staff_fig.called_swings,
+            diff: staff_fig.whiff_rate_called - staff_fig.expected_whiff_rate,
+            low: staff_fig.diff_low,
+            high: staff_fig.diff_high,
+        }];
+        let mut per: Vec<charts::CalledRow> = ok
+            .iter()
+            .filter_map(|p| p.called_outcomes.as_ref().map(|c| (p, c)))
+            // No called-versus-other contrast in any count: nothing to draw.
+            .filter(|(_, c)| c.pooled.diff_high > c.pooled.diff_low)
+            .map(|(p, c)| charts::CalledRow {
+                label: p.pitcher.clone(),
+                n: c.pooled.called_swings,
+                diff: c.pooled.whiff_rate_called - c.pooled.expected_whiff_rate,
+                low: c.pooled.diff_low,
+                high: c.pooled.diff_high,
+            })
+            .collect();
+        per.sort_by(|a, b| a.diff.total_cmp(&b.diff).then(a.label.cmp(&b.label)));
+        rows.extend(per);
+        let chart = charts::called_outcomes(&charts::CalledOutcomesInput { rows }).map_err(chart_err)?;
+        sink(None, Chart { name: "called-outcomes".into(), ..chart })?;
+    }
     let labels = staff_labels(s);
     // Pitchers' charts are drawn in parallel a few dozen at a time and
     // handed on in staff order (the output does not depend on threads).

@@ -28,6 +28,8 @@ pub fn environment(name: &'static str, source: &'static str) -> Result<minijinja
 #[derive(Default)]
 pub struct ChartSvgs {
     pub staff: Option<String>,
+    /// Do predictable pitches cost them? (with results only)
+    pub called: Option<String>,
     pub per_pitcher: BTreeMap<String, Vec<String>>,
     /// Some pitchers' charts are in charts/ only (a large staff).
     pub omitted: bool,
@@ -274,6 +276,16 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
         staff => staff,
         insufficient => insufficient,
         staff_chart => charts.staff.clone(),
+        called_chart => charts.called.clone(),
+        called_text => summary.staff_called_outcomes.as_ref().map(|c| format!(
+            "Across the staff, swings at pitches the held-out model called drew whiffs {} of the time, against {} for the same pitch types in the same counts when it guessed otherwise (difference {:+.1} points, 95% interval {:+.1} to {:+.1}; {} called swings in counts where both happened). These are associations in past games: the log never says what the hitter was sitting on.",
+            wording::pct(c.whiff_rate_called),
+            wording::pct(c.expected_whiff_rate),
+            100.0 * (c.whiff_rate_called - c.expected_whiff_rate),
+            100.0 * c.diff_low,
+            100.0 * c.diff_high,
+            c.called_swings
+        )),
         charts_omitted => charts.omitted,
     };
     tmpl.render(ctx).map_err(|e| Error::Internal(format!("rendering index.html: {e}")))

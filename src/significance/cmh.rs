@@ -39,6 +39,13 @@ impl Cmh {
         self.variance += n * (nn - n) * k * (nn - k) / (nn * nn * (nn - 1.0));
     }
 
+    /// Sums over independent strata add.
+    pub fn merge(&mut self, o: &Cmh) {
+        self.x += o.x;
+        self.expected += o.expected;
+        self.variance += o.variance;
+    }
+
     /// The continuity-corrected statistic (|x − E| − ½)² / V (chi-square
     /// with one degree of freedom under the null); 0 with no information.
     pub fn chi2(&self) -> f64 {

@@ -24,6 +24,7 @@ pub mod compare_top_share;
 pub mod count_grid;
 pub mod mix_by_count;
 pub mod null_distribution;
+pub mod called_outcomes;
 pub mod staff_predictability;
 
 pub use compare_mix_shift::{compare_mix_shift, MixShiftInput};
@@ -34,6 +35,7 @@ pub use compare_top_share::{compare_top_share, CompareTopShareInput, TopSharePai
 pub use count_grid::{count_grid, CountCell, CountGridInput};
 pub use mix_by_count::{mix_by_count, CountMix, MixByCountInput};
 pub use null_distribution::{null_distribution, NullDistributionInput};
+pub use called_outcomes::{called_outcomes, CalledOutcomesInput, CalledRow};
 pub use staff_predictability::{
     staff_predictability, StaffMetric, StaffPitcher, StaffPredictabilityInput,
 };
