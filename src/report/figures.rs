@@ -10,6 +10,10 @@ use rayon::prelude::*;
 use std::collections::BTreeMap;
 
 
+/// Pitchers need this many called swings, and as many other swings, in
+/// counts where both happened, to get a row in the called-outcomes chart.
+pub const CALLED_MIN_SWINGS: u64 = 50;
+
 fn chart_err(e: ChartError) -> Error {
     Error::Internal(format!("drawing a chart: {e:?}"))
 }
@@ -68,8 +72,9 @@ pub fn for_each_chart(
         let mut per: Vec<charts::CalledRow> = ok
             .iter()
             .filter_map(|p| p.called_outcomes.as_ref().map(|c| (p, c)))
-            // No called-versus-other contrast in any count: nothing to draw.
-            .filter(|(_, c)| c.pooled.diff_high > c.pooled.diff_low)
+            // Too few called swings in counts where both happened for the
+            // interval to mean much (its normal approximation needs them).
+            .filter(|(_, c)| c.pooled.called_swings >= CALLED_MIN_SWINGS && c.pooled.other_swings >= CALLED_MIN_SWINGS)
             .map(|(p, c)| charts::CalledRow {
                 label: p.pitcher.clone(),
                 n: c.pooled.called_swings,

@@ -69,7 +69,7 @@ impl Painter for CalledPainter {
             &[
                 "Held-out swings: whiff rate at pitches his model made its likeliest guess, minus the same".to_string(),
                 "types' rate in the same counts otherwise (points, 95% interval). Left of 0: hitters miss less.".to_string(),
-                "Pitchers whose model never told called from other pitches of a type in a count are left out.".to_string(),
+                "Pitchers with fewer than 50 called and 50 other swings in comparable counts are left out.".to_string(),
             ],
         )?;
         let tick_font = font::regular(TICK_SIZE);
