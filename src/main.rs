@@ -20,8 +20,19 @@ fn main() {
         libc::signal(libc::SIGPIPE, libc::SIG_DFL);
     }
     let args = cli::Cli::parse();
-    if let Err(e) = cli::run(args) {
-        eprintln!("tellscope: {e}");
-        std::process::exit(e.exit_code());
+    // A last-resort guard: a panic anywhere becomes exit 1 with one
+    // sentence, never a backtrace (the report, written whole or not at
+    // all, is left as it was).
+    std::panic::set_hook(Box::new(|info| {
+        let at = info.location().map(|l| format!(" at {}:{}", l.file(), l.line())).unwrap_or_default();
+        eprintln!("tellscope: internal error{at}; please report it with the command you ran.");
+    }));
+    match std::panic::catch_unwind(|| cli::run(args)) {
+        Ok(Ok(())) => {}
+        Ok(Err(e)) => {
+            eprintln!("tellscope: {e}");
+            std::process::exit(e.exit_code());
+        }
+        Err(_) => std::process::exit(1),
     }
 }

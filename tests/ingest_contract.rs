@@ -477,3 +477,28 @@ fn absent_optional_columns_are_listed_and_empty_cells_are_missing_values() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+
+/// Silent wrong data and injection (issue: nothing breaks, nothing is lost,
+/// nothing is injected): a name holding a terminal escape, a 250-character
+/// name and a date in year 9999 are each rejected with their line and
+/// column; the good row is kept.
+#[test]
+fn control_characters_long_names_and_far_years_are_rejected_with_their_line() {
+    let dir = scratch("hostile-cells");
+    let long = "x".repeat(250);
+    let text = format!(
+        "{HEADER}\nG1,2025-04-03,Plain Arm,R,B1,L,1,0,0,0,0,0,0,fastball\nG1,2025-04-03,Evil\u{1b}[31mArm,R,B1,L,1,0,0,1,0,0,0,fastball\nG1,2025-04-03,{long},R,B1,L,1,0,0,2,0,0,0,fastball\nG2,9999-04-03,Plain Arm,R,B1,L,1,0,0,0,0,0,0,fastball\n"
+    );
+    let ing = load(&write(&dir, "hostile.csv", &text));
+    assert_eq!(ing.log.len(), 1);
+    let r: Vec<(u64, &str, &str)> = ing.rejected.iter().map(|r| (r.line, r.column.as_str(), r.reason.as_str())).collect();
+    assert_eq!(r.len(), 3, "{r:?}");
+    assert!(r.iter().any(|(l, c, why)| *l == 3 && *c == "pitcher" && why.contains("control character")), "{r:?}");
+    assert!(r.iter().any(|(l, c, why)| *l == 4 && *c == "pitcher" && why.contains("longer than")), "{r:?}");
+    assert!(r.iter().any(|(l, c, why)| *l == 5 && *c == "date" && why.contains("1800..3000")), "{r:?}");
+    // The kept value of the long name is clipped, its length stated.
+    let long_row = ing.rejected.iter().find(|r| r.line == 4).unwrap();
+    assert!(long_row.value.contains("(250 characters)") && long_row.value.chars().count() < 230);
+    assert!(!ing.rejected.iter().any(|r| r.value.contains('\u{1b}')));
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -68,6 +68,18 @@ pub struct Rejected {
     pub reason: String,
 }
 
+/// A rejected value as kept in rejected.csv: whole up to 200 characters,
+/// else its first 200 and its length; control characters shown escaped.
+fn clip_value(v: &str) -> String {
+    let n = v.chars().count();
+    let shown: String = v.chars().take(200).flat_map(|c| if c.is_control() { c.escape_default().collect::<Vec<_>>() } else { vec![c] }).collect();
+    if n > 200 {
+        format!("{shown}… ({n} characters)")
+    } else {
+        shown
+    }
+}
+
 /// Facts about the file that was read.
 #[derive(Debug, Clone, Serialize)]
 pub struct SourceInfo {
@@ -423,7 +435,9 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
                 Parsed::Breach((column, value, reason)) => rejected.push(Rejected {
                     line: table.location(i),
                     column: column.to_string(),
-                    value: value.unwrap_or("").to_string(),
+                    // A rejected value is kept, but an absurdly long one only
+                    // in part (with its length), so rejected.csv stays small.
+                    value: clip_value(value.unwrap_or("")),
                     reason,
                 }),
             }

@@ -142,6 +142,24 @@ pub enum Cell {
     Num(f32),
 }
 
+/// The longest text value accepted (a name, an id or a pitch label): an
+/// absurd value is refused with its line rather than carried into every
+/// table and chart of the report.
+pub const MAX_TEXT_CHARS: usize = 200;
+
+/// A name, id or label: printable text of at most [`MAX_TEXT_CHARS`]
+/// characters. Control characters (a terminal escape, say) are refused: the
+/// name would otherwise reach the terminal, the CSV files and the charts.
+fn text_cell(v: &str) -> Result<Cell, String> {
+    if v.chars().any(char::is_control) {
+        return Err("holds a control character; remove it".to_string());
+    }
+    if v.chars().count() > MAX_TEXT_CHARS {
+        return Err(format!("is longer than {MAX_TEXT_CHARS} characters"));
+    }
+    Ok(Cell::Text)
+}
+
 /// Checks one non-empty value of contract column `column` (an index into
 /// REQUIRED_COLUMNS then OPTIONAL_COLUMNS) against its rule; the error is
 /// the reason. A value's check does not depend on its row, so a column's
@@ -149,10 +167,14 @@ pub enum Cell {
 pub fn parse_cell(column: usize, v: &str) -> Result<Cell, String> {
     let int = |col, lo, hi| int_in(v, col, lo, hi).map(Cell::Int).map_err(|b| b.2);
     match column {
-        0 | 2 | 4 | 13 | 22 => Ok(Cell::Text),
-        1 => parse_date(v)
-            .map(|(d, y)| Cell::Date(d, y))
-            .ok_or_else(|| "is not a calendar date written YYYY-MM-DD".to_string()),
+        0 | 2 | 4 | 13 | 22 => text_cell(v),
+        1 => match parse_date(v) {
+            // The same plausible years as the `season` column: a year 0 or
+            // 9999 would otherwise become a season of its own.
+            Some((_, y)) if !(1800..=3000).contains(&y) => Err("has a year outside the plausible 1800..3000".to_string()),
+            Some((d, y)) => Ok(Cell::Date(d, y)),
+            None => Err("is not a calendar date written YYYY-MM-DD".to_string()),
+        },
         3 => hand(v, "throws").map(Cell::Hand).map_err(|b| b.2),
         5 => hand(v, "bats").map(Cell::Hand).map_err(|b| b.2),
         6 => int("inning", 1, 99),
@@ -316,6 +338,23 @@ mod tests {
             let s = format_date(d);
             assert_eq!(parse_date(&s).unwrap().0, d);
         }
+    }
+
+    #[test]
+    fn text_cells_are_printable_and_bounded() {
+        assert!(parse_cell(2, "Oren Vasquell").is_ok());
+        assert!(parse_cell(2, "Evil\u{1b}[31mName").unwrap_err().contains("control character"));
+        assert!(parse_cell(13, &"x".repeat(MAX_TEXT_CHARS + 1)).unwrap_err().contains("longer than"));
+        assert!(parse_cell(13, &"é".repeat(MAX_TEXT_CHARS)).is_ok());
+    }
+
+    #[test]
+    fn implausible_years_are_refused() {
+        for v in ["0000-01-01", "9999-12-31", "1799-12-31", "3001-01-01"] {
+            assert!(parse_cell(1, v).unwrap_err().contains("1800..3000"), "{v}");
+        }
+        assert!(parse_cell(1, "-001-01-01").is_err());
+        assert!(parse_cell(1, "1800-01-01").is_ok() && parse_cell(1, "3000-12-31").is_ok());
     }
 
     #[test]

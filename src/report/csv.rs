@@ -12,12 +12,26 @@ pub struct Table {
     cols: Vec<Column>,
 }
 
+/// A text cell a spreadsheet would run as a formula (it starts with `=`,
+/// `+`, `-`, `@`, a tab or a carriage return) gets a leading apostrophe,
+/// the common neutralisation (OWASP, "CSV injection"): spreadsheets show
+/// the text and do not evaluate it. So a situation level such as `---`
+/// (bases empty) reads `'---` in the CSV files.
+pub fn neutralise(cell: String) -> String {
+    match cell.chars().next() {
+        Some('=' | '+' | '-' | '@' | '\t' | '\r') => format!("'{cell}"),
+        _ => cell,
+    }
+}
+
 impl Table {
     pub fn str(mut self, name: &str, v: Vec<String>) -> Self {
+        let v: Vec<String> = v.into_iter().map(neutralise).collect();
         self.cols.push(Column::new(name.into(), v));
         self
     }
     pub fn opt_str(mut self, name: &str, v: Vec<Option<String>>) -> Self {
+        let v: Vec<Option<String>> = v.into_iter().map(|c| c.map(neutralise)).collect();
         self.cols.push(Column::new(name.into(), v));
         self
     }
@@ -161,4 +175,23 @@ pub fn rejected_csv(rejected: &[Rejected]) -> Result<Vec<u8>> {
         .str("value", rejected.iter().map(|r| r.value.clone()).collect())
         .str("reason", rejected.iter().map(|r| r.reason.clone()).collect())
         .to_csv(rejected.len())
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // Cells that spreadsheets run as formulas (OWASP's list: = + - @ tab
+    // CR) are prefixed with an apostrophe; others are left alone.
+    #[test]
+    fn formula_cells_are_neutralised() {
+        for bad in ["=HYPERLINK(\"x\")", "+1", "-2+3", "@SUM(A1)", "\tx", "\rx"] {
+            assert_eq!(neutralise(bad.to_string()), format!("'{bad}"));
+        }
+        for ok in ["fastball", "0-2", "", "'quoted"] {
+            assert_eq!(neutralise(ok.to_string()), ok);
+        }
+        let csv = Table::default().str("pitcher", vec!["=cmd".into()]).to_csv(1).unwrap();
+        assert_eq!(String::from_utf8(csv).unwrap(), "pitcher\n'=cmd\n");
+    }
 }

@@ -192,7 +192,7 @@ pub(crate) fn render<P: Painter>(
         painter.paint(&root)?;
         root.present()?;
     }
-    let svg = add_svg_title(svg, &title);
+    let svg = add_svg_title(strip_controls(svg), &strip_controls(title.clone()));
 
     let mut rgb = vec![0u8; w as usize * h as usize * 3];
     {
@@ -237,6 +237,16 @@ fn add_svg_title(svg: String, title: &str) -> String {
         }
         _ => svg,
     }
+}
+
+/// Control characters (a name holding a terminal escape, say) have no
+/// place in XML 1.0 text: each becomes U+FFFD, so the SVG still parses.
+/// Tabs and line ends are kept.
+pub fn strip_controls(s: String) -> String {
+    if !s.chars().any(|c| c.is_control() && !matches!(c, '\n' | '\t' | '\r')) {
+        return s;
+    }
+    s.chars().map(|c| if c.is_control() && !matches!(c, '\n' | '\t' | '\r') { '\u{FFFD}' } else { c }).collect()
 }
 
 /// The same escaping plotters' SVG backend applies to text.
