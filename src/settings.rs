@@ -215,6 +215,16 @@ impl Settings {
                 )));
             }
         }
+        // Two contract columns read from one header would read one column
+        // twice, silently.
+        let mut mapped: BTreeMap<&str, &str> = BTreeMap::new();
+        for (contract, file) in &cfg.columns {
+            if let Some(other) = mapped.insert(file.as_str(), contract.as_str()) {
+                return Err(Error::Usage(format!(
+                    "[columns] {other} and {contract} are both mapped to the header \"{file}\"; map each contract column to its own header"
+                )));
+            }
+        }
         let mut groups = BTreeMap::new();
         for (group, members) in &cfg.pitch_groups {
             if group.trim().is_empty() {
@@ -364,6 +374,11 @@ mod tests {
         assert_eq!(e.exit_code(), 2);
         let cfg: ConfigFile = toml::from_str("[columns]\npitcherz = \"P\"\n").unwrap();
         assert!(Settings::resolve(&cfg, &Overrides::default()).unwrap_err().to_string().contains("pitcherz"));
+        let cfg: ConfigFile = toml::from_str("[columns]\npitcher = \"P\"\nbatter = \"P\"\n").unwrap();
+        let e = Settings::resolve(&cfg, &Overrides::default()).unwrap_err();
+        assert!(e.to_string().contains("pitcher") && e.to_string().contains("batter") && e.exit_code() == 2, "{e}");
+        let cfg: ConfigFile = toml::from_str("[model]\nsplit_alpha = nan\n").unwrap();
+        assert_eq!(Settings::resolve(&cfg, &Overrides::default()).unwrap_err().exit_code(), 2);
         let cfg: ConfigFile = toml::from_str("[pitch_groups]\nfastball = [\"FF\"]\ncutter = [\"FF\"]\n").unwrap();
         assert!(Settings::resolve(&cfg, &Overrides::default()).is_err());
         assert!(toml::from_str::<ConfigFile>("[audit]\nbogus = 1\n").is_err());

@@ -502,3 +502,15 @@ fn control_characters_long_names_and_far_years_are_rejected_with_their_line() {
     assert!(!ing.rejected.iter().any(|r| r.value.contains('\u{1b}')));
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A header naming a contract column twice is refused (exit 3), naming the
+/// column and both positions, instead of being read first-wins.
+#[test]
+fn a_header_naming_a_column_twice_is_refused() {
+    let dir = scratch("dup-header");
+    let text = format!("{HEADER},pitch_type\nG1,2025-04-03,Plain Arm,R,B1,L,1,0,0,0,0,0,0,fastball,slider\n");
+    let e = ingest::load(&write(&dir, "dup.csv", &text), &defaults()).err().expect("refused");
+    assert_eq!(e.exit_code(), 3);
+    assert!(e.to_string().contains("pitch_type") && e.to_string().contains("twice"), "{e}");
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -188,6 +188,30 @@ fn polars_err(path: &Path, e: PolarsError) -> Error {
     }
 }
 
+/// The CSV header as written (first line, comma-separated, double quotes
+/// honoured, values trimmed); `None` when it cannot be read as text.
+fn raw_csv_header(path: &Path) -> Option<Vec<String>> {
+    use std::io::{BufRead, Read};
+    let mut line = String::new();
+    std::io::BufReader::new(std::fs::File::open(path).ok()?.take(1 << 20)).read_line(&mut line).ok()?;
+    let line = line.trim_end_matches(['\n', '\r']).trim_start_matches('\u{feff}');
+    let (mut out, mut cur, mut quoted) = (Vec::new(), String::new(), false);
+    let mut chars = line.chars().peekable();
+    while let Some(c) = chars.next() {
+        match c {
+            '"' if quoted && chars.peek() == Some(&'"') => {
+                cur.push('"');
+                chars.next();
+            }
+            '"' => quoted = !quoted,
+            ',' if !quoted => out.push(std::mem::take(&mut cur).trim().to_string()),
+            c => cur.push(c),
+        }
+    }
+    out.push(cur.trim().to_string());
+    Some(out)
+}
+
 /// Read the header names only.
 fn csv_header(path: &Path) -> Result<Vec<String>> {
     let df = CsvReadOptions::default()
@@ -222,6 +246,23 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
             schema.iter_names().map(|s| s.to_string()).collect()
         }
     };
+    // A wanted column named twice in the header would be read first-wins,
+    // silently: refuse it, naming it. (Polars renames a CSV's duplicate
+    // names, so the CSV header is checked as written.)
+    let written = match format {
+        Format::Csv => raw_csv_header(path).unwrap_or_else(|| header.clone()),
+        Format::Parquet => header.clone(),
+    };
+    for (i, h) in written.iter().enumerate() {
+        if wanted.contains(h) && written[..i].contains(h) {
+            return Err(Error::Data(format!(
+                "{}: the header names the column \"{h}\" twice (columns {} and {}); rename or remove one so it is clear which to read",
+                path.display(),
+                written.iter().position(|x| x == h).unwrap() + 1,
+                i + 1
+            )));
+        }
+    }
     let mut keep: Vec<String> = Vec::new();
     for h in &header {
         if wanted.contains(h) && !keep.contains(h) {
