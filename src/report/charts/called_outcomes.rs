@@ -9,7 +9,7 @@ use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
 use super::{
-    category_ticks_y, check_finite, file_stem, fmt_n, font, header, palette, render, text, Chart,
+    category_ticks_y, check_finite, file_stem, font, header, palette, render, text, Chart,
     ChartError, Painter, AXIS_TITLE_SIZE, MARGIN, TICK_SIZE,
 };
 
@@ -73,15 +73,7 @@ impl Painter for CalledPainter {
             ],
         )?;
         let tick_font = font::regular(TICK_SIZE);
-        let mut label_w = 0;
-        let mut labels = Vec::with_capacity(self.rows.len());
-        for r in &self.rows {
-            let n = format!(" (n = {})", fmt_n(r.n));
-            let room = MAX_LABEL_W.saturating_sub(font::text_width(&n, &tick_font)?);
-            let l = font::fit(&r.label, &tick_font, room)? + &n;
-            label_w = label_w.max(font::text_width(&l, &tick_font)?);
-            labels.push(l);
-        }
+        let (labels, label_w) = super::n_labels(self.rows.iter().map(|r| (r.label.as_str(), r.n)), &tick_font, MAX_LABEL_W)?;
         let (lo, hi) = self.rows.iter().fold((0.0f64, 0.0f64), |(lo, hi), r| (lo.min(r.low * 100.0), hi.max(r.high * 100.0)));
         let pad = ((hi - lo) * 0.08).max(1.0);
         let x_range = (lo - pad, hi + pad);

@@ -239,6 +239,25 @@ fn add_svg_title(svg: String, title: &str) -> String {
     }
 }
 
+/// Row labels "name (n = 1,234)" fitted to `max_w` pixels (the name gives
+/// way before the n does), and the widest label's width.
+pub(crate) fn n_labels<'a>(
+    rows: impl Iterator<Item = (&'a str, u64)>,
+    tick_font: &FontDesc,
+    max_w: u32,
+) -> Result<(Vec<String>, u32), ChartError> {
+    let mut width = 0;
+    let mut labels = Vec::new();
+    for (name, n) in rows {
+        let n = format!(" (n = {})", fmt_n(n));
+        let room = max_w.saturating_sub(font::text_width(&n, tick_font)?);
+        let l = font::fit(name, tick_font, room)? + &n;
+        width = width.max(font::text_width(&l, tick_font)?);
+        labels.push(l);
+    }
+    Ok((labels, width))
+}
+
 /// Control characters (a name holding a terminal escape, say) have no
 /// place in XML 1.0 text: each becomes U+FFFD, so the SVG still parses.
 /// Tabs and line ends are kept.

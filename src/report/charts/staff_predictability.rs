@@ -164,16 +164,7 @@ impl Painter for StaffPainter {
         legend_row(root, &legend, (MARGIN, top + 6))?;
 
         let tick_font = font::regular(TICK_SIZE);
-        let mut label_w = 0;
-        let mut labels = Vec::with_capacity(self.rows.len());
-        for r in &self.rows {
-            // The name gives way before the n does.
-            let n = format!(" (n = {})", fmt_n(r.n));
-            let room = MAX_LABEL_W.saturating_sub(font::text_width(&n, &tick_font)?);
-            let l = font::fit(&r.pitcher, &tick_font, room)? + &n;
-            label_w = label_w.max(font::text_width(&l, &tick_font)?);
-            labels.push(l);
-        }
+        let (labels, label_w) = super::n_labels(self.rows.iter().map(|r| (r.pitcher.as_str(), r.n)), &tick_font, MAX_LABEL_W)?;
 
         let (lo, hi) = self.rows.iter().fold((0.0f64, 0.0f64), |(lo, hi), r| {
             (lo.min(r.value), hi.max(r.value))
