@@ -35,6 +35,8 @@ pub fn safe_stem(name: &str) -> String {
     while s.contains("__") {
         s = s.replace("__", "_");
     }
+    // Bounded, so "<chart>-<stem>-<n>.svg" stays far below file-name limits.
+    let s: String = s.trim_matches('_').chars().take(80).collect();
     let s = s.trim_matches('_').to_string();
     if s.is_empty() {
         "pitcher".to_string()
@@ -62,20 +64,36 @@ pub fn unique_stems(names: &[String]) -> Vec<String> {
         .collect()
 }
 
-/// A report being written: each file goes to a temporary sibling name as
-/// soon as it is rendered (so a large report is never held in memory whole),
-/// and `commit` renames them all into place. Dropped uncommitted, it removes
-/// its temporary files, so an interrupted or failed run leaves the old
-/// report (or none), never a half-written one.
+/// A report being written. Every file goes, as soon as it is rendered (so
+/// a large report is never held in memory whole), into a staging folder
+/// beside the report folder; `commit` then swaps the staging folder in for
+/// the old report in one step (on Linux an atomic exchange of the two
+/// folders, `renameat2` with `RENAME_EXCHANGE`; elsewhere two renames), and
+/// removes the old one. A kill at any moment leaves the old report or the
+/// new one, never a mix, and never files of pitchers no longer in the log.
+/// Dropped uncommitted (a failed run, Ctrl-C caught by the binary), it
+/// removes its staging folder.
 pub struct Staging {
     dir: PathBuf,
-    staged: Vec<(PathBuf, PathBuf)>,
+    tmp: PathBuf,
     committed: bool,
+    /// This staging removes `tmp` when dropped uncommitted.
+    owner: bool,
 }
+
+/// The staging folder of a report folder `dir`, for this process.
+fn staging_of(dir: &Path) -> PathBuf {
+    let name = dir.file_name().and_then(|n| n.to_str()).unwrap_or("report");
+    let parent = dir.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    parent.join(format!(".{name}.tellscope-new-{}", std::process::id()))
+}
+
+/// Files a tellscope report folder holds at its top level.
+const REPORT_FILES: [&str; 7] = ["index.html", "summary.json", "tells.csv", "counts.csv", "rejected.csv", "changes.csv", "charts"];
 
 impl Staging {
     pub fn new(dir: &Path) -> Staging {
-        Staging { dir: dir.to_path_buf(), staged: Vec::new(), committed: false }
+        Staging { dir: dir.to_path_buf(), tmp: staging_of(dir), committed: false, owner: true }
     }
 
     /// Paths must be relative and free of `..`, so nothing is written
@@ -84,23 +102,19 @@ impl Staging {
         if rel.is_absolute() || rel.components().any(|c| !matches!(c, std::path::Component::Normal(_))) {
             return Err(Error::Internal(format!("refusing to write {} outside the report folder", rel.display())));
         }
-        Ok(self.dir.join(rel))
+        Ok(self.tmp.join(rel))
     }
 
     /// Stage a file written by `write` (e.g. a CSV streamed in chunks).
     pub fn add_with(&mut self, rel: impl AsRef<Path>, write: impl FnOnce(&mut std::io::BufWriter<std::fs::File>) -> Result<()>) -> Result<()> {
         let target = self.target(rel.as_ref())?;
-        let parent = target.parent().unwrap_or(&self.dir).to_path_buf();
+        let parent = target.parent().unwrap_or(&self.tmp).to_path_buf();
         std::fs::create_dir_all(&parent).map_err(|e| Error::io(&parent, "create the report folder", e))?;
-        let name = target.file_name().and_then(|n| n.to_str()).unwrap_or("file");
-        let tmp = parent.join(format!(".{name}.partial-{}", std::process::id()));
-        let file = std::fs::File::create(&tmp).map_err(|e| Error::io(&tmp, "write", e))?;
-        // Recorded first, so a failed write is still cleaned up.
-        self.staged.push((tmp.clone(), target));
+        let file = std::fs::File::create(&target).map_err(|e| Error::io(&target, "write", e))?;
         let mut w = std::io::BufWriter::new(file);
         write(&mut w)?;
         use std::io::Write;
-        w.flush().map_err(|e| Error::io(&tmp, "write", e))?;
+        w.flush().map_err(|e| Error::io(&target, "write", e))?;
         Ok(())
     }
 
@@ -112,29 +126,103 @@ impl Staging {
         })
     }
 
-    /// Takes over `other`'s staged files, to be committed with these.
+    /// Takes over `other`'s staged files (a staging of the same report
+    /// folder: its files are already in the same staging folder).
     pub fn absorb(&mut self, mut other: Staging) {
-        self.staged.append(&mut other.staged);
+        debug_assert_eq!(self.tmp, other.tmp);
+        other.owner = false;
     }
 
-    /// Rename every staged file into place.
+    /// Swap the staged report in for the old one.
     pub fn commit(mut self) -> Result<()> {
-        for (tmp, target) in &self.staged {
-            std::fs::rename(tmp, target).map_err(|e| Error::io(target, "rename into place", e))?;
+        std::fs::create_dir_all(&self.tmp).map_err(|e| Error::io(&self.tmp, "create the report folder", e))?;
+        let dir = self.dir.clone();
+        match std::fs::symlink_metadata(&dir) {
+            Err(_) => {
+                if let Some(parent) = dir.parent().filter(|p| !p.as_os_str().is_empty()) {
+                    std::fs::create_dir_all(parent).map_err(|e| Error::io(parent, "create the report folder", e))?;
+                }
+                std::fs::rename(&self.tmp, &dir).map_err(|e| Error::io(&dir, "move the report into place", e))?;
+            }
+            Ok(m) if !m.is_dir() => {
+                return Err(Error::Usage(format!("--out {}: a file of that name exists; choose a folder name", dir.display())));
+            }
+            Ok(_) => {
+                // Never replace a folder that holds anything but a report.
+                let foreign: Vec<String> = std::fs::read_dir(&dir)
+                    .map_err(|e| Error::io(&dir, "read the report folder", e))?
+                    .filter_map(|e| e.ok())
+                    .map(|e| e.file_name().to_string_lossy().to_string())
+                    .filter(|n| !REPORT_FILES.contains(&n.as_str()) && !n.starts_with('.'))
+                    .collect();
+                if !foreign.is_empty() {
+                    return Err(Error::Usage(format!(
+                        "--out {}: the folder holds files that are not part of a tellscope report ({}); choose a new or empty folder",
+                        dir.display(),
+                        foreign.iter().take(3).cloned().collect::<Vec<_>>().join(", ")
+                    )));
+                }
+                swap_in(&self.tmp, &dir)?;
+                // The old report now sits at the staging path.
+                let _ = std::fs::remove_dir_all(&self.tmp);
+            }
         }
         self.committed = true;
+        remove_stale_stagings(&dir);
         Ok(())
     }
 }
 
-impl Drop for Staging {
-    fn drop(&mut self) {
-        if !self.committed {
-            for (tmp, _) in &self.staged {
-                let _ = std::fs::remove_file(tmp);
-            }
+/// Staging folders of earlier runs on `dir` that were killed before they
+/// could clean up (their process ids differ from ours).
+fn remove_stale_stagings(dir: &Path) {
+    let Some(name) = dir.file_name().and_then(|n| n.to_str()) else { return };
+    let parent = dir.parent().filter(|p| !p.as_os_str().is_empty()).unwrap_or(Path::new("."));
+    let prefix = format!(".{name}.tellscope-new-");
+    let Ok(entries) = std::fs::read_dir(parent) else { return };
+    for e in entries.filter_map(|e| e.ok()) {
+        let n = e.file_name().to_string_lossy().to_string();
+        if n.starts_with(&prefix) && e.path() != staging_of(dir) {
+            let _ = std::fs::remove_dir_all(e.path());
         }
     }
+}
+
+/// Put `new` at `dir` and the old `dir` at `new`, atomically where the
+/// system can (Linux: `renameat2(RENAME_EXCHANGE)`).
+fn swap_in(new: &Path, dir: &Path) -> Result<()> {
+    #[cfg(target_os = "linux")]
+    {
+        use std::ffi::CString;
+        use std::os::unix::ffi::OsStrExt;
+        let a = CString::new(new.as_os_str().as_bytes()).map_err(|_| Error::Internal("a path holds a NUL byte".into()))?;
+        let b = CString::new(dir.as_os_str().as_bytes()).map_err(|_| Error::Internal("a path holds a NUL byte".into()))?;
+        // SAFETY: both are valid NUL-terminated paths for the call's duration.
+        let r = unsafe { libc::renameat2(libc::AT_FDCWD, a.as_ptr(), libc::AT_FDCWD, b.as_ptr(), libc::RENAME_EXCHANGE) };
+        if r == 0 {
+            return Ok(());
+        }
+    }
+    // Elsewhere (or a file system without the exchange): old aside, new in.
+    let aside = new.with_extension("old");
+    std::fs::rename(dir, &aside).map_err(|e| Error::io(dir, "move the old report aside", e))?;
+    std::fs::rename(new, dir).map_err(|e| Error::io(dir, "move the report into place", e))?;
+    std::fs::rename(&aside, new).map_err(|e| Error::io(new, "remove the old report", e))?;
+    Ok(())
+}
+
+impl Drop for Staging {
+    fn drop(&mut self) {
+        if self.owner && !self.committed {
+            let _ = std::fs::remove_dir_all(&self.tmp);
+        }
+    }
+}
+
+/// The staging folder this process would use for `dir`, for the binary's
+/// Ctrl-C handler to remove.
+pub fn staging_folder(dir: &Path) -> PathBuf {
+    staging_of(dir)
 }
 
 /// Write all files under `dir` at once (see [`Staging`]).
