@@ -245,3 +245,23 @@ fn a_bad_scenario_exits_2() {
     assert!(!dir.join("x.csv").exists());
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// Nothing lost: a log with no valid row fails with exit 3, and its
+/// rejected rows are still kept, with a short page saying why.
+#[test]
+fn an_unusable_log_still_keeps_its_rejected_rows() {
+    let dir = scratch("unusable");
+    let log = dir.join("allbad.csv");
+    std::fs::write(
+        &log,
+        "game,date,pitcher,throws,batter,bats,inning,outs,balls,strikes,on_first,on_second,on_third,pitch_type\nG1,2025-04-03,A,X,B,L,1,0,0,0,0,0,0,fastball\nG1,2025-04-03,A,R,B,L,1,0,5,0,0,0,0,fastball\n",
+    )
+    .unwrap();
+    let out = dir.join("report");
+    let o = run(&["audit", log.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    assert_eq!(code(&o), 3, "{}", stderr(&o));
+    let rejected = std::fs::read_to_string(out.join("rejected.csv")).unwrap();
+    assert_eq!(rejected.lines().count(), 3, "{rejected}");
+    assert!(rejected.contains("2,throws,X,") && rejected.contains("3,balls,5,"));
+    assert!(std::fs::read_to_string(out.join("index.html")).unwrap().contains("No audit was possible"));
+}

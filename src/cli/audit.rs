@@ -66,7 +66,21 @@ pub fn default_out(file: &Path) -> PathBuf {
 pub fn run(args: Args) -> Result<()> {
     let settings = args.log.settings(args.opts.overrides())?;
     let out = args.out.clone().unwrap_or_else(|| default_out(&args.log.file));
-    let audit = audit::run(&args.log.file, &settings, !args.json)?;
+    let audit = match audit::run(&args.log.file, &settings, !args.json) {
+        Ok(a) => a,
+        Err(e) => {
+            // Unusable data: the rejected rows are still kept, with a short
+            // page saying why (the run still fails with its exit code).
+            if e.exit_code() == 3 {
+                if let Ok(rejected) = tellscope::ingest::rejected_rows(&args.log.file, &settings) {
+                    if !rejected.is_empty() && report::write_failed_report(&out, &e.to_string(), &rejected).is_ok() {
+                        eprintln!("note: {} rejected rows and why are in {}", rejected.len(), out.join("rejected.csv").display());
+                    }
+                }
+            }
+            return Err(e);
+        }
+    };
     let t = tellscope::progress::Timer::start();
     report::write_audit_report(&out, &audit)?;
     t.lap("report");

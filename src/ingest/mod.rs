@@ -210,7 +210,24 @@ fn sha256_of(path: &Path) -> Result<String> {
 }
 
 /// Read, validate and order a pitch log.
+/// The rows of `path` the contract rejects, with their reasons, even when
+/// the log as a whole is unusable (no valid row, `--strict`): so a failed
+/// run can still keep them. An error only when the file cannot be read.
+pub fn rejected_rows(path: &Path, settings: &Settings) -> Result<Vec<Rejected>> {
+    let lenient = Settings { strict: false, ..settings.clone() };
+    match load_checked(path, &lenient, false) {
+        Ok(i) => Ok(i.rejected),
+        Err(e) => Err(e),
+    }
+}
+
 pub fn load(path: &Path, settings: &Settings) -> Result<Ingested> {
+    load_checked(path, settings, true)
+}
+
+/// `load`, with or without the checks that turn an unusable log into an
+/// error.
+fn load_checked(path: &Path, settings: &Settings, checked: bool) -> Result<Ingested> {
     let wanted: Vec<String> = REQUIRED_COLUMNS
         .iter()
         .chain(OPTIONAL_COLUMNS.iter())
@@ -272,6 +289,9 @@ pub fn load(path: &Path, settings: &Settings) -> Result<Ingested> {
         optional_present: present,
         optional_missing: absent,
     };
+    if !checked {
+        return Ok(Ingested { log, rejected, source });
+    }
     if log.is_empty() {
         let why = rejected
             .first()

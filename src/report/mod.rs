@@ -234,6 +234,22 @@ pub fn write_all(dir: &Path, files: &[ReportFile]) -> Result<()> {
     st.commit()
 }
 
+/// When a run cannot go on (no valid row, `--strict`): a report folder of
+/// its own holding `rejected.csv` (every rejected row, line, column, value,
+/// reason) and a short `index.html` saying why, so nothing is lost.
+pub fn write_failed_report(dir: &Path, why: &str, rejected: &[crate::ingest::Rejected]) -> Result<()> {
+    let mut st = Staging::new(dir);
+    st.add("rejected.csv", &csv::rejected_csv(rejected)?)?;
+    let esc = |t: &str| t.replace('&', "&amp;").replace('<', "&lt;").replace('>', "&gt;").replace('"', "&quot;");
+    let page = format!(
+        "<!DOCTYPE html><html lang=\"en\"><head><meta charset=\"utf-8\"><title>tellscope: no audit</title></head><body style=\"font-family:sans-serif;max-width:50rem;margin:2rem auto\"><h1>No audit was possible</h1><p>{}</p><p>{} rows were rejected; each is listed with its line, column, value and reason in <a href=\"rejected.csv\">rejected.csv</a>. Fix them (or the export) and run the audit again.</p></body></html>\n",
+        esc(why),
+        rejected.len()
+    );
+    st.add("index.html", page.as_bytes())?;
+    st.commit()
+}
+
 /// Above this many pitchers, index.html inlines the charts of only the
 /// pitchers with a significant model or a flagged tell (every chart is still
 /// written under charts/), so a league-wide page stays light enough to open.
