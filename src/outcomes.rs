@@ -418,3 +418,40 @@ pub fn staff_called(all: &[&CalledOutcomes]) -> Option<CalledFigure> {
     }
     (called > 0).then(|| CalledFigure::from("all".into(), &w, &st, called, other))
 }
+
+/// Outcome figures of one pitch type of a pitcher (all his pitches in the
+/// log with a result).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TypeOutcomes {
+    pub pitch_type: String,
+    pub pitches: u64,
+    pub swings: u64,
+    pub whiff_rate: f64,
+    pub csw_rate: f64,
+    pub ball_rate: f64,
+    pub in_play_rate: f64,
+}
+
+/// His outcome figures by pitch type (empty without a `result` column).
+pub fn by_type(log: &PitchLog, task: &PitcherTask, names: &[String]) -> Vec<TypeOutcomes> {
+    let Some(results) = log.result.as_ref() else { return Vec::new() };
+    let mut o = vec![Outcomes::default(); task.n_classes];
+    for (i, &r) in task.rows.iter().enumerate() {
+        if let Some(res) = results[r as usize] {
+            o[task.labels[i] as usize].add(res);
+        }
+    }
+    o.iter()
+        .enumerate()
+        .filter(|(_, x)| x.pitches > 0)
+        .map(|(c, x)| TypeOutcomes {
+            pitch_type: names[task.class_types[c] as usize].clone(),
+            pitches: x.pitches,
+            swings: x.swings,
+            whiff_rate: x.whiff_rate(),
+            csw_rate: x.csw_rate(),
+            ball_rate: x.ball_rate(),
+            in_play_rate: x.in_play_rate(),
+        })
+        .collect()
+}

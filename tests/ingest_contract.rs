@@ -514,3 +514,19 @@ fn a_header_naming_a_column_twice_is_refused() {
     assert!(e.to_string().contains("pitch_type") && e.to_string().contains("twice"), "{e}");
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A Parquet export's integer, unsigned, decimal and boolean column types
+/// are read as the values they hold (tests/fixtures/logs/typed.parquet,
+/// made by make_typed_parquet.py with pyarrow).
+#[test]
+fn parquet_integer_and_decimal_types_are_read() {
+    let ing = load(&fixture("typed.parquet"));
+    assert_eq!(ing.rejected.len(), 0, "{:?}", ing.rejected.iter().map(|r| &r.reason).collect::<Vec<_>>());
+    assert_eq!(ing.log.len(), 3);
+    let mut balls = ing.log.balls.clone();
+    balls.sort_unstable();
+    assert_eq!(balls, vec![0, 1, 2]);
+    let mut outs = ing.log.outs.clone();
+    outs.sort_unstable();
+    assert_eq!(outs, vec![0, 1, 2]);
+}

@@ -199,6 +199,10 @@ pub struct PitcherSummary {
     /// `absent_share` decide).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub arsenal_changes: Vec<ArsenalChange>,
+    /// Outcomes of each of his pitch types (with `result`): pitches, swings,
+    /// whiff, called-plus-swinging-strike, ball and in-play rates.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub outcomes_by_type: Vec<crate::outcomes::TypeOutcomes>,
     /// Do his pitches fare worse when the held-out model called them?
     #[serde(skip_serializing_if = "Option::is_none")]
     pub called_outcomes: Option<crate::outcomes::CalledOutcomes>,
