@@ -530,3 +530,23 @@ fn parquet_integer_and_decimal_types_are_read() {
     outs.sort_unstable();
     assert_eq!(outs, vec![0, 1, 2]);
 }
+
+/// A row with a field missing or one too many is rejected whole, with its
+/// line, never read with its values shifted into other columns; the rest of
+/// the file is read.
+#[test]
+fn rows_with_too_few_or_too_many_fields_are_rejected_with_their_line() {
+    let dir = scratch("ragged");
+    // Line 3 lacks `inning` (every later value would shift left); line 4
+    // has an extra field.
+    let text = format!(
+        "{HEADER}\nG1,2025-04-03,Plain Arm,R,B1,L,1,0,0,0,0,0,0,fastball\nG1,2025-04-03,Plain Arm,R,B1,L,0,0,1,0,0,0,slider\nG1,2025-04-03,Plain Arm,R,B1,L,1,0,0,2,0,0,0,fastball,extra\nG1,2025-04-03,Plain Arm,R,B1,L,1,1,0,0,0,0,0,slider\n"
+    );
+    let ing = load(&write(&dir, "ragged.csv", &text));
+    assert_eq!(ing.log.len(), 2);
+    let r: Vec<(u64, &str)> = ing.rejected.iter().map(|r| (r.line, r.reason.as_str())).collect();
+    assert_eq!(r.len(), 2, "{r:?}");
+    assert!(r[0].0 == 3 && r[0].1.contains("13 fields where the header has 14"), "{r:?}");
+    assert!(r[1].0 == 4 && r[1].1.contains("15 fields where the header has 14"), "{r:?}");
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -386,6 +386,18 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
         for ((v, c), check) in vals.iter_mut().zip(&cols).zip(&checks) {
             *v = c.and_then(|c| c.code(i).map(|code| (c.dict[code].as_str(), &check[code])));
         }
+        if let Ok(k) = table.ragged.binary_search_by_key(&i, |r| r.0) {
+            // Too few or too many fields: its values would land in the wrong
+            // columns, so the row is rejected whole.
+            return Parsed::Breach((
+                "(whole row)",
+                None,
+                format!(
+                    "has {} fields where the header has {} (a missing or extra comma); quote values holding commas or fix the row",
+                    table.ragged[k].1, table.width
+                ),
+            ));
+        }
         if vals.iter().all(Option::is_none) {
             return Parsed::Blank; // a blank line is not a pitch
         }

@@ -125,6 +125,12 @@ pub struct RawTable {
     pub header: Vec<String>,
     pub n_rows: usize,
     pub columns: Vec<(String, TextColumn)>,
+    /// CSV rows (0-based, as `location` counts them) whose number of fields
+    /// differs from the header's, with that number, ascending: their
+    /// values cannot be placed in their columns, so they are rejected.
+    pub ragged: Vec<(usize, usize)>,
+    /// Fields in the header.
+    pub width: usize,
 }
 
 impl RawTable {
@@ -139,6 +145,51 @@ impl RawTable {
             Format::Parquet => i as u64,
         }
     }
+}
+
+/// Every CSV data line (0-based row index) whose number of fields differs
+/// from the header's, quote-aware, read as a stream so a large file is
+/// never held in memory; blank lines are left alone (they are not pitches).
+fn ragged_rows(path: &Path) -> (Vec<(usize, usize)>, usize) {
+    use std::io::BufRead;
+    let Ok(file) = std::fs::File::open(path) else { return (Vec::new(), 0) };
+    let fields = |l: &[u8]| {
+        let mut n = 1;
+        let mut quoted = false;
+        for &c in l {
+            match c {
+                b'"' => quoted = !quoted,
+                b',' if !quoted => n += 1,
+                _ => {}
+            }
+        }
+        n
+    };
+    let mut reader = std::io::BufReader::with_capacity(1 << 20, file);
+    let mut line = Vec::new();
+    let mut width = 0;
+    let mut out = Vec::new();
+    let mut i = 0usize;
+    loop {
+        line.clear();
+        match reader.read_until(b'\n', &mut line) {
+            Ok(0) | Err(_) => break,
+            Ok(_) => {}
+        }
+        while matches!(line.last(), Some(b'\n' | b'\r')) {
+            line.pop();
+        }
+        if i == 0 {
+            width = fields(&line);
+        } else if !line.iter().all(|c| c.is_ascii_whitespace()) {
+            let f = fields(&line);
+            if f != width {
+                out.push((i - 1, f));
+            }
+        }
+        i += 1;
+    }
+    (out, width)
 }
 
 /// The first CSV line with more fields than the header (quote-aware), for
@@ -217,6 +268,7 @@ fn csv_header(path: &Path) -> Result<Vec<String>> {
     let df = CsvReadOptions::default()
         .with_has_header(true)
         .with_infer_schema_length(Some(0))
+        .map_parse_options(|o| o.with_truncate_ragged_lines(true))
         .with_n_rows(Some(0))
         .try_into_reader_with_file_path(Some(path.to_path_buf()))
         .map_err(|e| polars_err(path, e))?
@@ -285,6 +337,9 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
                 CsvReadOptions::default()
                     .with_has_header(true)
                     .with_infer_schema_length(Some(0))
+                    // Extra fields are cut off here; such rows are rejected
+                    // whole by their line (`ragged`), never read shifted.
+                    .map_parse_options(|o| o.with_truncate_ragged_lines(true))
                     .with_columns(Some(names.into()))
                     .try_into_reader_with_file_path(Some(path.to_path_buf()))
                     .map_err(|e| polars_err(path, e))?
@@ -316,5 +371,9 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
             columns.push(c?);
         }
     }
-    Ok(RawTable { format, header, n_rows: n_rows.unwrap_or(0), columns })
+    let (ragged, width) = match format {
+        Format::Csv => ragged_rows(path),
+        Format::Parquet => (Vec::new(), header.len()),
+    };
+    Ok(RawTable { format, header, n_rows: n_rows.unwrap_or(0), columns, ragged, width })
 }
