@@ -325,55 +325,62 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
     // once, so the text of the whole file is never held in memory.
     // A small file is read in one pass; a large one three columns at a time.
     let group_size = if std::fs::metadata(path).map(|m| m.len()).unwrap_or(0) < 64 << 20 { keep.len().max(1) } else { 3 };
-    let mut columns = Vec::new();
-    let mut n_rows = None;
-    // A file with none of the wanted columns has nothing to read (the
-    // caller then names the missing columns).
-    let groups: Vec<&[String]> = keep.chunks(group_size).collect();
-    for group in groups {
-        let df = match format {
-            Format::Csv => {
-                let names: Vec<PlSmallStr> = group.iter().map(|h| PlSmallStr::from(h.as_str())).collect();
-                CsvReadOptions::default()
-                    .with_has_header(true)
-                    .with_infer_schema_length(Some(0))
-                    // Extra fields are cut off here; such rows are rejected
-                    // whole by their line (`ragged`), never read shifted.
-                    .map_parse_options(|o| o.with_truncate_ragged_lines(true))
-                    .with_columns(Some(names.into()))
-                    .try_into_reader_with_file_path(Some(path.to_path_buf()))
-                    .map_err(|e| polars_err(path, e))?
-                    .finish()
-                    .map_err(|e| polars_err(path, e))?
+    // The lines' field counts are taken while the columns are read (the
+    // scan reads the file once more, on the other core).
+    let read_columns = || -> Result<(Vec<(String, TextColumn)>, Option<usize>)> {
+        let mut columns = Vec::new();
+        let mut n_rows = None;
+        // A file with none of the wanted columns has nothing to read (the
+        // caller then names the missing columns).
+        let groups: Vec<&[String]> = keep.chunks(group_size).collect();
+        for group in groups {
+            let df = match format {
+                Format::Csv => {
+                    let names: Vec<PlSmallStr> = group.iter().map(|h| PlSmallStr::from(h.as_str())).collect();
+                    CsvReadOptions::default()
+                        .with_has_header(true)
+                        .with_infer_schema_length(Some(0))
+                        // Extra fields are cut off here; such rows are rejected
+                        // whole by their line (`ragged`), never read shifted.
+                        .map_parse_options(|o| o.with_truncate_ragged_lines(true))
+                        .with_columns(Some(names.into()))
+                        .try_into_reader_with_file_path(Some(path.to_path_buf()))
+                        .map_err(|e| polars_err(path, e))?
+                        .finish()
+                        .map_err(|e| polars_err(path, e))?
+                }
+                Format::Parquet => {
+                    let file = std::fs::File::open(path).map_err(|e| Error::io(path, "open the file", e))?;
+                    ParquetReader::new(file).with_columns(Some(group.to_vec())).finish().map_err(|e| polars_err(path, e))?
+                }
+            };
+            n_rows = Some(df.height());
+            // Each column is dictionary-coded on its own, so columns are coded
+            // in parallel (the result does not depend on the thread count).
+            use rayon::prelude::*;
+            let coded: Vec<Result<(String, TextColumn)>> = df
+                .columns()
+                .par_iter()
+                .map(|col| {
+                    let name = col.name().to_string();
+                    let s = col.as_materialized_series().cast(&DataType::String).map_err(|e| {
+                        Error::Data(format!("{}: column {name} cannot be read as text ({e}); store it as text or numbers", path.display()))
+                    })?;
+                    let ca = s.str().map_err(|e| Error::Internal(e.to_string()))?;
+                    Ok((name, TextColumn::from_chunked(ca)))
+                })
+                .collect();
+            for c in coded {
+                columns.push(c?);
             }
-            Format::Parquet => {
-                let file = std::fs::File::open(path).map_err(|e| Error::io(path, "open the file", e))?;
-                ParquetReader::new(file).with_columns(Some(group.to_vec())).finish().map_err(|e| polars_err(path, e))?
-            }
-        };
-        n_rows = Some(df.height());
-        // Each column is dictionary-coded on its own, so columns are coded
-        // in parallel (the result does not depend on the thread count).
-        use rayon::prelude::*;
-        let coded: Vec<Result<(String, TextColumn)>> = df
-            .columns()
-            .par_iter()
-            .map(|col| {
-                let name = col.name().to_string();
-                let s = col.as_materialized_series().cast(&DataType::String).map_err(|e| {
-                    Error::Data(format!("{}: column {name} cannot be read as text ({e}); store it as text or numbers", path.display()))
-                })?;
-                let ca = s.str().map_err(|e| Error::Internal(e.to_string()))?;
-                Ok((name, TextColumn::from_chunked(ca)))
-            })
-            .collect();
-        for c in coded {
-            columns.push(c?);
         }
-    }
-    let (ragged, width) = match format {
+        Ok((columns, n_rows))
+    };
+    let scan = || match format {
         Format::Csv => ragged_rows(path),
         Format::Parquet => (Vec::new(), header.len()),
     };
+    let (read, (ragged, width)) = rayon::join(read_columns, scan);
+    let (columns, n_rows) = read?;
     Ok(RawTable { format, header, n_rows: n_rows.unwrap_or(0), columns, ragged, width })
 }
