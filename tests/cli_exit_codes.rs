@@ -265,3 +265,17 @@ fn an_unusable_log_still_keeps_its_rejected_rows() {
     assert!(rejected.contains("2,throws,X,") && rejected.contains("3,balls,5,"));
     assert!(std::fs::read_to_string(out.join("index.html")).unwrap().contains("No audit was possible"));
 }
+
+/// A setting's error names the config file and the key, and NaN is no
+/// number a setting accepts (exit 2).
+#[test]
+fn a_bad_setting_names_the_config_file_and_key() {
+    let dir = scratch("badcfg");
+    let cfg = dir.join("club.toml");
+    std::fs::write(&cfg, "[model]\nsplit_alpha = nan\n").unwrap();
+    let log = fixture("logs/good.csv");
+    let o = run(&["audit", log.to_str().unwrap(), "--config", cfg.to_str().unwrap(), "--out", dir.join("r").to_str().unwrap()]);
+    assert_eq!(code(&o), 2, "{}", stderr(&o));
+    let e = stderr(&o);
+    assert!(e.contains("club.toml") && e.contains("[model] split_alpha"), "{e}");
+}

@@ -52,7 +52,12 @@ impl LogArgs {
             Some(p) => ConfigFile::load(p)?,
             None => ConfigFile::default(),
         };
-        Settings::resolve(&cfg, &Overrides { strict: self.strict, ..o })
+        // A setting's error names its key (`[audit] fdr = ...`); with a
+        // config file it also names the file the key is in.
+        Settings::resolve(&cfg, &Overrides { strict: self.strict, ..o }).map_err(|e| match (&self.config, e) {
+            (Some(p), tellscope::Error::Usage(m)) if m.starts_with('[') => tellscope::Error::Usage(format!("{}: {m}", p.display())),
+            (_, e) => e,
+        })
     }
 }
 
