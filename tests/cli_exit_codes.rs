@@ -279,3 +279,29 @@ fn a_bad_setting_names_the_config_file_and_key() {
     let e = stderr(&o);
     assert!(e.contains("club.toml") && e.contains("[model] split_alpha"), "{e}");
 }
+
+/// A device or a folder given as the log is refused at once (exit 3)
+/// instead of being read forever. A hang fails the test after a minute
+/// (a bound on waiting, not a speed check).
+#[test]
+fn a_device_or_a_folder_is_refused_not_read_forever() {
+    for path in ["/dev/zero", env!("CARGO_MANIFEST_DIR")] {
+        if !Path::new(path).exists() {
+            continue;
+        }
+        let mut child = bin().args(["check", path]).stdout(std::process::Stdio::null()).stderr(std::process::Stdio::piped()).spawn().unwrap();
+        let mut status = None;
+        for _ in 0..600 {
+            if let Some(s) = child.try_wait().unwrap() {
+                status = Some(s);
+                break;
+            }
+            std::thread::sleep(std::time::Duration::from_millis(100));
+        }
+        let Some(status) = status else {
+            child.kill().ok();
+            panic!("check {path} did not end");
+        };
+        assert_eq!(status.code(), Some(3), "check {path}");
+    }
+}

@@ -228,6 +228,17 @@ pub fn load(path: &Path, settings: &Settings) -> Result<Ingested> {
 /// `load`, with or without the checks that turn an unusable log into an
 /// error.
 fn load_checked(path: &Path, settings: &Settings, checked: bool) -> Result<Ingested> {
+    // Only a regular file is read: a device (/dev/zero) or a pipe would
+    // never end, or block before the first byte.
+    if let Ok(meta) = std::fs::metadata(path) {
+        if !meta.is_file() {
+            let what = if meta.is_dir() { "a folder" } else { "not a regular file (a device or a pipe)" };
+            return Err(Error::Data(format!(
+                "{}: is {what}; save the pitch log to a CSV or Parquet file and give its path",
+                path.display()
+            )));
+        }
+    }
     let wanted: Vec<String> = REQUIRED_COLUMNS
         .iter()
         .chain(OPTIONAL_COLUMNS.iter())
