@@ -702,31 +702,7 @@ fn same_seed_same_log_other_seed_other_log() {
 
 #[test]
 fn thread_count_does_not_change_the_log() {
-    let s = Scenario::from_toml_str(
-        r#"
-        [club]
-        name = "Thread Check"
-        [[season]]
-        year = 2025
-        games = 12
-        start = "2025-04-03"
-        [[season]]
-        year = 2026
-        games = 12
-        start = "2026-04-03"
-        [batters]
-        pool = 120
-        left = 0.4
-        right = 0.5
-        switch = 0.1
-        [league]
-        teams = 6
-        starters = 5
-        relievers = 8
-        planted_share = 0.5
-        "#,
-    )
-    .unwrap();
+    let s = Scenario::from_toml_str(&REALISTIC_HEAD.replace("games = 30", "games = 12")).unwrap();
     assert_eq!(same_at_any_thread_count(&s).games.len(), 6 * 24);
     // With every kind of churn and the shared habits.
     let churned = Scenario::from_toml_str(&format!(
