@@ -15,9 +15,6 @@ pub struct Scored {
     /// `n_scored × n_classes` probabilities.
     pub model: Vec<f64>,
     pub prior: Vec<f64>,
-    /// The sheet's probabilities (his mix by count × batter side, shrunk
-    /// toward his mix), same layout; filled when the sheet is scored.
-    pub sheet: Vec<f64>,
     pub n_classes: usize,
     pub trees: Vec<Tree>,
     pub usage: Vec<UsagePrior>,
@@ -36,9 +33,6 @@ impl Scored {
     }
     pub fn prior_row(&self, i: usize) -> &[f64] {
         &self.prior[i * self.n_classes..(i + 1) * self.n_classes]
-    }
-    pub fn sheet_row(&self, i: usize) -> &[f64] {
-        &self.sheet[i * self.n_classes..(i + 1) * self.n_classes]
     }
 }
 
@@ -375,8 +369,6 @@ pub fn fit_and_score(
                 out.rows.push(r);
                 out.model.extend_from_slice(&ws.grown_p[leaf * k..(leaf + 1) * k]);
                 out.prior.extend_from_slice(mix);
-                let c = task.cell[r as usize] as usize * k;
-                out.sheet.extend(ws.sheet_log[c..c + k].iter().map(|l| l.exp2()));
             }
         }
         out.totals = t;

@@ -215,10 +215,7 @@ fn sha256_of(path: &Path) -> Result<String> {
 /// run can still keep them. An error only when the file cannot be read.
 pub fn rejected_rows(path: &Path, settings: &Settings) -> Result<Vec<Rejected>> {
     let lenient = Settings { strict: false, ..settings.clone() };
-    match load_checked(path, &lenient, false) {
-        Ok(i) => Ok(i.rejected),
-        Err(e) => Err(e),
-    }
+    load_checked(path, &lenient, false).map(|i| i.rejected)
 }
 
 pub fn load(path: &Path, settings: &Settings) -> Result<Ingested> {

@@ -192,41 +192,9 @@ fn ragged_rows(path: &Path) -> (Vec<(usize, usize)>, usize) {
     (out, width)
 }
 
-/// The first CSV line with more fields than the header (quote-aware), for
-/// an error message polars gives without a line.
-fn first_ragged_line(path: &Path) -> Option<(usize, usize, usize)> {
-    let text = std::fs::read_to_string(path).ok()?;
-    let fields = |l: &str| {
-        let mut n = 1;
-        let mut quoted = false;
-        for c in l.chars() {
-            match c {
-                '"' => quoted = !quoted,
-                ',' if !quoted => n += 1,
-                _ => {}
-            }
-        }
-        n
-    };
-    let mut lines = text.lines();
-    let width = fields(lines.next()?);
-    lines.enumerate().find_map(|(i, l)| {
-        let f = fields(l);
-        (f > width).then_some((i + 2, f, width))
-    })
-}
-
 fn polars_err(path: &Path, e: PolarsError) -> Error {
     let text = e.to_string();
     let lower = text.to_lowercase();
-    if lower.contains("more fields") {
-        if let Some((line, f, w)) = first_ragged_line(path) {
-            return Error::Data(format!(
-                "{} line {line}: {f} fields where the header has {w} (often an unquoted comma inside a name); quote such values or remove the extra commas",
-                path.display()
-            ));
-        }
-    }
     if lower.contains("empty") {
         Error::Data(format!("{}: the file is empty; export the pitch log with a header row and at least one pitch", path.display()))
     } else {

@@ -1,11 +1,11 @@
-//! The audit's charts, filled from the results value: the staff chart, and
-//! per pitcher the count grid, the pitch mix by count and the permutation
+//! The audit's charts, filled from the results value: the staff chart, the
+//! called-pitch outcomes chart (with results), and per pitcher the sheet's two
+//! panels, the pitch mix by count and the permutation
 //! null distribution. File names come from the pitchers' unique safe stems.
 
 use super::charts::{self, Chart, ChartError};
 use crate::audit::summary::Summary;
 use crate::error::{Error, Result};
-use crate::situations::levels::Factor;
 use rayon::prelude::*;
 use std::collections::BTreeMap;
 
@@ -109,15 +109,6 @@ fn pitcher_charts(
     p: &crate::audit::summary::PitcherSummary,
 ) -> Result<Vec<Chart>> {
         let stem = stems.get(&p.pitcher).cloned().unwrap_or_else(|| "pitcher".into());
-        // A count cell is marked when a flagged tell (not a narrower
-        // version of another) is about that count alone.
-        let flagged_counts: Vec<&str> = p
-            .tells
-            .iter()
-            .filter(|t| t.within.is_none() && t.situation.len() == 1)
-            .filter_map(|t| t.situation.get(&Factor::Count).map(String::as_str))
-            .collect();
-        let _ = flagged_counts;
         // The sheet, one panel per batter side: his latest season's top
         // pitch by count, marked where he leans on it beyond his season share.
         let panel = |side: &str| {

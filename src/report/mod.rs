@@ -219,12 +219,6 @@ impl Drop for Staging {
     }
 }
 
-/// The staging folder this process would use for `dir`, for the binary's
-/// Ctrl-C handler to remove.
-pub fn staging_folder(dir: &Path) -> PathBuf {
-    staging_of(dir)
-}
-
 /// Write all files under `dir` at once (see [`Staging`]).
 pub fn write_all(dir: &Path, files: &[ReportFile]) -> Result<()> {
     let mut st = Staging::new(dir);
@@ -240,10 +234,9 @@ pub fn write_all(dir: &Path, files: &[ReportFile]) -> Result<()> {
 pub fn write_failed_report(dir: &Path, why: &str, rejected: &[crate::ingest::Rejected]) -> Result<()> {
     let mut st = Staging::new(dir);
     st.add("rejected.csv", &csv::rejected_csv(rejected)?)?;
-    let esc = |t: &str| t.replace('&', "&amp;").replace('<', "&lt;").replace('>', "&gt;").replace('"', "&quot;");
     let page = format!(
         "<!DOCTYPE html><html lang=\"en\"><head><meta charset=\"utf-8\"><title>tellscope: no audit</title></head><body style=\"font-family:sans-serif;max-width:50rem;margin:2rem auto\"><h1>No audit was possible</h1><p>{}</p><p>{} rows were rejected; each is listed with its line, column, value and reason in <a href=\"rejected.csv\">rejected.csv</a>. Fix them (or the export) and run the audit again.</p></body></html>\n",
-        esc(why),
+        charts::escape_xml(why),
         rejected.len()
     );
     st.add("index.html", page.as_bytes())?;
