@@ -62,6 +62,19 @@ impl Outcomes {
         }
     }
 
+    /// These counts with `o`'s added.
+    pub fn plus(&self, o: &Outcomes) -> Outcomes {
+        Outcomes {
+            pitches: self.pitches + o.pitches,
+            swings: self.swings + o.swings,
+            whiffs: self.whiffs + o.whiffs,
+            csw: self.csw + o.csw,
+            balls: self.balls + o.balls,
+            in_play: self.in_play + o.in_play,
+        }
+    }
+
+    /// These counts with `o`'s (a part of them) taken away.
     pub fn sub(&self, o: &Outcomes) -> Outcomes {
         Outcomes {
             pitches: self.pitches - o.pitches,
@@ -241,14 +254,7 @@ pub fn cost_of_tells(log: &PitchLog, sit: &Situations, tasks: &[&PitcherTask], t
                 outside[c].add(res);
             }
         }
-        let mine: Outcomes = inside.iter().fold(Outcomes::default(), |a, o| Outcomes {
-            pitches: a.pitches + o.pitches,
-            swings: a.swings + o.swings,
-            whiffs: a.whiffs + o.whiffs,
-            csw: a.csw + o.csw,
-            balls: a.balls + o.balls,
-            in_play: a.in_play + o.in_play,
-        });
+        let mine: Outcomes = inside.iter().fold(Outcomes::default(), |a, o| a.plus(o));
         if mine.pitches == 0 {
             continue;
         }

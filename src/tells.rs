@@ -314,10 +314,7 @@ pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[&Pitc
                     }
                     let x = disc[k * kc + cls];
                     let gtype = task.class_types[cls] as usize;
-                    let staff_share = |key: usize| {
-                        let sn = staff_n[team * n_keys + key];
-                        if sn > 0 { staff[(team * n_keys + key) * n_types + gtype] as f64 / sn as f64 } else { 0.0 }
-                    };
+                    let staff_share = |key: usize| staff_share(&staff, &staff_n, n_keys, n_types, team, key, gtype);
                     let (hn, hk) = (held_n[k], held[k * kc + cls]);
                     let (hout, hkout) = (held_all - hn, held_total[cls] - hk);
                     for dir in [Direction::More, Direction::Less] {
@@ -390,6 +387,17 @@ pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[&Pitc
     }
     mark_narrowings(&mut tests, settings.tell_min_effect);
     tests
+}
+
+/// The staff's share of pitch type `gtype` in situation `key` (discovery
+/// rows of his team, `[team][key][type]` counts), 0 with no pitches there.
+fn staff_share(staff: &[u32], staff_n: &[u32], n_keys: usize, n_types: usize, team: usize, key: usize, gtype: usize) -> f64 {
+    let sn = staff_n[team * n_keys + key];
+    if sn > 0 {
+        staff[(team * n_keys + key) * n_types + gtype] as f64 / sn as f64
+    } else {
+        0.0
+    }
 }
 
 /// A beyond tell's tests for one pitcher and one situation definition: the
@@ -512,8 +520,7 @@ fn beyond_tests(
             }
             let x = disc[k * kc + cls];
             let gtype = task.class_types[cls] as usize;
-            let sn = staff_n[team * n_keys + k];
-            let staff_share = if sn > 0 { staff[(team * n_keys + k) * n_types + gtype] as f64 / sn as f64 } else { 0.0 };
+            let staff_share = staff_share(staff, staff_n, n_keys, n_types, team, k, gtype);
             let (hn, hk) = (held_n[k], held[k * kc + cls]);
             let t = &cmh[k * kc + cls];
             let share = x as f64 / n as f64;
