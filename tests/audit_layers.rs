@@ -6,7 +6,9 @@
 //! Pass rules are 99% binomial bands (statrs' binomial CDF): a correct
 //! procedure fails them less than 1% of the time.
 
-use statrs::distribution::{Binomial, DiscreteCDF};
+mod common;
+
+use common::{assert_uniform, band};
 use std::path::{Path, PathBuf};
 use std::sync::OnceLock;
 use tellscope::audit::{self, summary::PitcherSummary, Audit};
@@ -109,12 +111,6 @@ fn sheet_cells_sum_and_layers_add_up() {
     }
 }
 
-/// 99% band of Binomial(n, p).
-fn band(n: u64, p: f64) -> (u64, u64) {
-    let b = Binomial::new(p, n).unwrap();
-    ((0..=n).find(|&k| b.cdf(k) >= 0.005).unwrap(), (0..=n).find(|&k| b.cdf(k) >= 0.995).unwrap())
-}
-
 fn write(log: &SimLog, tag: &str, seed: u64) -> PathBuf {
     let dir = std::env::temp_dir().join(format!("tellscope-layers-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
@@ -170,14 +166,8 @@ fn a_staff_shuffled_within_count_and_side_has_nothing_beyond_its_sheet() {
     let (runs, with_tell, p) = beyond_runs(logs, "shuffled");
     let (_, hi) = band(runs, 0.05);
     assert!(with_tell <= hi, "{with_tell} of {runs} shuffled staffs had a tell beyond the sheet (99% band at most {hi})");
-    let n = p.len() as u64;
-    assert!(n >= 200, "only {n} beyond-the-sheet p-values");
-    for cut in [0.05, 0.5] {
-        // "At or below": Besag–Clifford p-values have atoms at h/l (see tests/audit_rolling.rs).
-        let below = p.iter().filter(|&&x| x <= cut + 1e-12).count() as u64;
-        let (lo, hi) = band(n, cut);
-        assert!((lo..=hi).contains(&below), "{below} of {n} beyond p-values at or below {cut}; 99% band {lo}..={hi}");
-    }
+    assert!(p.len() >= 200, "only {} beyond-the-sheet p-values", p.len());
+    assert_uniform("beyond-the-sheet", &p);
 }
 
 /// Outing wobble: a staff whose outings each draw their own mix around his

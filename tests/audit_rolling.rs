@@ -8,7 +8,9 @@
 //! procedure fails them less than 1% of the time, or sampling margins of
 //! three standard errors (see the README's "margins").
 
-use statrs::distribution::{Binomial, DiscreteCDF};
+mod common;
+
+use common::{assert_uniform, band};
 use std::path::{Path, PathBuf};
 use tellscope::audit;
 use tellscope::ingest::write::{sim_frame, write_frame};
@@ -101,14 +103,6 @@ fn an_added_pitch_does_not_move_the_headline() {
     assert!(far.len() >= 2, "the first release's season-forward fit no longer shows the failure: {far:?}");
 }
 
-/// Central 99% band of Binomial(n, p).
-fn band(n: u64, p: f64) -> (u64, u64) {
-    let b = Binomial::new(p, n).unwrap();
-    let lo = (0..=n).find(|&k| b.cdf(k) >= 0.005).unwrap();
-    let hi = (0..=n).find(|&k| b.cdf(k) >= 0.995).unwrap();
-    (lo, hi)
-}
-
 /// Model p-values over `seeds` simulations of `text`, and the runs with a
 /// flagged tell.
 fn null_runs(text: &str, seeds: u64, tag: &str) -> (Vec<f64>, u64) {
@@ -123,22 +117,6 @@ fn null_runs(text: &str, seeds: u64, tag: &str) -> (Vec<f64>, u64) {
         std::fs::remove_file(&path).ok();
     }
     (p_values, with_tell)
-}
-
-/// Uniform p-values: the count at or below 0.05 and at or below 0.5 each
-/// inside its 99% binomial band. "At or below": with Besag-Clifford
-/// stopping after h = 10 exceedances, 0.05 (10/200) and 0.5 (10/20) are
-/// attainable p-values, each holding an atom of probability, and a valid
-/// p-value has P(p <= a) = a at such points (Besag & Clifford 1991,
-/// Biometrika 78:301, recalled from memory).
-fn assert_uniform(what: &str, p_values: &[f64]) {
-    let n = p_values.len() as u64;
-    assert!(n >= 100, "{what}: only {n} p-values");
-    for cut in [0.05, 0.5] {
-        let below = p_values.iter().filter(|&&p| p <= cut + 1e-12).count() as u64;
-        let (lo, hi) = band(n, cut);
-        assert!((lo..=hi).contains(&below), "{what}: {below} of {n} p-values below {cut}; 99% band {lo}..={hi}");
-    }
 }
 
 /// A realistic null staff (newcomers, a mid-season call-up, added pitches,

@@ -6,7 +6,9 @@
 //! (BH-type control at q = 0.05 bounds the chance of any false flag under
 //! the global null by 0.05; Benjamini & Hochberg 1995, Theorem 1).
 
-use statrs::distribution::{Binomial, DiscreteCDF};
+mod common;
+
+use common::band;
 use tellscope::audit;
 use tellscope::ingest::write::{sim_frame, write_frame};
 use tellscope::settings::{ConfigFile, Overrides, Settings};
@@ -41,9 +43,7 @@ fn null_staffs_give_uniform_model_p_values_and_no_tells() {
     let n = p_values.len() as u64;
     let below = p_values.iter().filter(|&&p| p < 0.05).count() as u64;
     // Central 99% band of Binomial(n, 0.05) (statrs' binomial CDF).
-    let b = Binomial::new(0.05, n).unwrap();
-    let lo = (0..=n).find(|&k| b.cdf(k) >= 0.005).unwrap();
-    let hi = (0..=n).find(|&k| b.cdf(k) >= 0.995).unwrap();
+    let (lo, hi) = band(n, 0.05);
     assert!(n >= 200, "only {n} null pitchers were audited");
     assert!((lo..=hi).contains(&below), "{below} of {n} model p-values below 0.05; 99% band {lo}..={hi}");
     let clean = (SEEDS - runs_with_a_tell) as f64 / SEEDS as f64;

@@ -1,0 +1,31 @@
+//! Pass rules shared by the statistical tests: 99% binomial bands, so a
+//! correct procedure fails a rule less than 1% of the time. Not every test
+//! file uses every rule.
+#![allow(dead_code)]
+
+use statrs::distribution::{Binomial, DiscreteCDF};
+
+/// Central 99% band of Binomial(n, p).
+pub fn band(n: u64, p: f64) -> (u64, u64) {
+    let b = Binomial::new(p, n).unwrap();
+    let lo = (0..=n).find(|&k| b.cdf(k) >= 0.005).unwrap();
+    let hi = (0..=n).find(|&k| b.cdf(k) >= 0.995).unwrap();
+    (lo, hi)
+}
+
+/// Uniform p-values: the count at or below 0.05 and at or below 0.5 each
+/// inside its 99% binomial band. "At or below": with Besag-Clifford
+/// stopping after h = 10 exceedances, 0.05 (10/200) and 0.5 (10/20) are
+/// attainable p-values, each holding an atom of probability, and a valid
+/// p-value has P(p <= a) = a at such points (Besag & Clifford 1991,
+/// Biometrika 78:301, recalled from memory).
+pub fn assert_uniform(what: &str, p_values: &[f64]) {
+    let n = p_values.len() as u64;
+    assert!(n >= 100, "{what}: only {n} p-values");
+    for cut in [0.05, 0.5] {
+        let below = p_values.iter().filter(|&&p| p <= cut + 1e-12).count() as u64;
+        let (lo, hi) = band(n, cut);
+        assert!((lo..=hi).contains(&below), "{what}: {below} of {n} p-values below {cut}; 99% band {lo}..={hi}");
+    }
+}
+
