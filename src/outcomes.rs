@@ -153,7 +153,8 @@ impl Standardised {
     /// (low, high) of rate − expected_rate.
     pub fn interval(&self) -> (f64, f64) {
         let d = self.rate() - self.expected_rate();
-        let half = if self.n1 > 0.0 { 1.96 * self.var.sqrt() / self.n1 } else { 0.0 };
+        // z = 1.959963984540054, the 97.5% normal quantile.
+        let half = if self.n1 > 0.0 { 1.959_963_984_540_054 * self.var.sqrt() / self.n1 } else { 0.0 };
         (d - half, d + half)
     }
 }
@@ -436,6 +437,11 @@ pub struct TypeOutcomes {
     pub csw_rate: f64,
     pub ball_rate: f64,
     pub in_play_rate: f64,
+    /// Wilson 95% intervals of the four rates above.
+    pub whiff_rate_95: (f64, f64),
+    pub csw_rate_95: (f64, f64),
+    pub ball_rate_95: (f64, f64),
+    pub in_play_rate_95: (f64, f64),
 }
 
 /// His outcome figures by pitch type (empty without a `result` column).
@@ -458,6 +464,97 @@ pub fn by_type(log: &PitchLog, task: &PitcherTask, names: &[String]) -> Vec<Type
             csw_rate: x.csw_rate(),
             ball_rate: x.ball_rate(),
             in_play_rate: x.in_play_rate(),
+            whiff_rate_95: Rate::of(x.whiffs, x.swings).bounds(),
+            csw_rate_95: Rate::of(x.csw, x.pitches).bounds(),
+            ball_rate_95: Rate::of(x.balls, x.pitches).bounds(),
+            in_play_rate_95: Rate::of(x.in_play, x.pitches).bounds(),
         })
         .collect()
+}
+
+/// A rate with its Wilson 95% interval (`significance::wilson`).
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct Rate {
+    pub rate: f64,
+    pub low: f64,
+    pub high: f64,
+}
+
+impl Rate {
+    pub fn of(k: u64, n: u64) -> Rate {
+        let iv = crate::significance::wilson::wilson_95(k, n);
+        Rate { rate: ratio(k, n), low: iv.low, high: iv.high }
+    }
+
+    pub fn bounds(&self) -> (f64, f64) {
+        (self.low, self.high)
+    }
+}
+
+/// His outcome figures for one pitch type in one situation (a level of one
+/// factor, or `all` for every pitch of the type): `outcomes.csv`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct SituationOutcomes {
+    pub pitcher: String,
+    pub pitch_type: String,
+    /// Factor name, or `all`.
+    pub factor: String,
+    pub level: String,
+    pub pitches: u64,
+    pub swings: u64,
+    pub whiff: Rate,
+    pub csw: Rate,
+    pub ball: Rate,
+    pub in_play: Rate,
+}
+
+/// His outcome figures per pitch type and per level of every situation
+/// factor (empty without a `result` column). Rows run type by type, `all`
+/// first, then factor by factor in the situations' order, levels in their
+/// order; cells without a pitch are left out.
+pub fn by_situation(log: &PitchLog, sit: &Situations, task: &PitcherTask, names: &[String]) -> Vec<SituationOutcomes> {
+    let Some(results) = log.result.as_ref() else { return Vec::new() };
+    let k = task.n_classes;
+    let mut all = vec![Outcomes::default(); k];
+    let mut cells: Vec<Vec<Outcomes>> = sit.factors.iter().map(|f| vec![Outcomes::default(); k * f.levels.len()]).collect();
+    for (i, &r) in task.rows.iter().enumerate() {
+        let Some(res) = results[r as usize] else { continue };
+        let c = task.labels[i] as usize;
+        all[c].add(res);
+        for (f, col) in sit.factors.iter().enumerate() {
+            let code = col.codes[r as usize] as usize;
+            if code < col.levels.len() {
+                cells[f][c * col.levels.len() + code].add(res);
+            }
+        }
+    }
+    let mut rows = Vec::new();
+    let row = |ty: &str, factor: &str, level: &str, o: &Outcomes| SituationOutcomes {
+        pitcher: task.name.clone(),
+        pitch_type: ty.to_string(),
+        factor: factor.to_string(),
+        level: level.to_string(),
+        pitches: o.pitches,
+        swings: o.swings,
+        whiff: Rate::of(o.whiffs, o.swings),
+        csw: Rate::of(o.csw, o.pitches),
+        ball: Rate::of(o.balls, o.pitches),
+        in_play: Rate::of(o.in_play, o.pitches),
+    };
+    for c in 0..k {
+        if all[c].pitches == 0 {
+            continue;
+        }
+        let ty = &names[task.class_types[c] as usize];
+        rows.push(row(ty, "all", "all", &all[c]));
+        for (f, col) in sit.factors.iter().enumerate() {
+            for (l, level) in col.levels.iter().enumerate() {
+                let o = &cells[f][c * col.levels.len() + l];
+                if o.pitches > 0 {
+                    rows.push(row(ty, col.factor.name(), level, o));
+                }
+            }
+        }
+    }
+    rows
 }

@@ -113,3 +113,59 @@ fn without_results_the_audit_is_the_same_but_for_cost() {
     assert!(b.summary.staff_called_outcomes.is_none());
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// Outcome figures per pitch type and situation: the `outcomes.csv` rows
+/// against a hand count over the log's own text (a swing is a swinging
+/// strike, a foul or a ball in play; the whiff rate is swinging strikes per
+/// swing — common practice), with the Wilson interval of
+/// tellscope::significance::wilson (checked against statsmodels in
+/// tests/stats_reference.rs) around each rate.
+#[test]
+fn outcome_figures_by_situation_match_a_hand_count() {
+    let a = demo();
+    let text = std::fs::read_to_string(demo_log()).unwrap();
+    let mut lines = text.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let col = |n: &str| header.iter().position(|h| *h == n).unwrap();
+    let (pc, ty, balls, strikes, res) = (col("pitcher"), col("pitch_type"), col("balls"), col("strikes"), col("result"));
+    let (who, pitch) = ("Anselm Drury", "curveball");
+    let (mut pitches, mut swings, mut whiffs, mut in_play, mut all) = (0u64, 0u64, 0u64, 0u64, 0u64);
+    for l in lines {
+        let f: Vec<&str> = l.split(',').collect();
+        if f[pc] != who || f[ty] != pitch {
+            continue;
+        }
+        all += 1;
+        if f[balls] != "0" || f[strikes] != "2" {
+            continue;
+        }
+        pitches += 1;
+        match f[res] {
+            "swinging_strike" => {
+                swings += 1;
+                whiffs += 1
+            }
+            "foul" => swings += 1,
+            "in_play" => {
+                swings += 1;
+                in_play += 1
+            }
+            _ => {}
+        }
+    }
+    assert!(pitches > 30, "the demo's {who} throws {pitch} at 0-2");
+    let row = a
+        .outcomes
+        .iter()
+        .find(|r| r.pitcher == who && r.pitch_type == pitch && r.factor == "count" && r.level == "0-2")
+        .expect("a 0-2 row");
+    assert_eq!((row.pitches, row.swings), (pitches, swings));
+    assert!((row.whiff.rate - whiffs as f64 / swings as f64).abs() < 1e-12);
+    assert!((row.in_play.rate - in_play as f64 / pitches as f64).abs() < 1e-12);
+    assert!(row.whiff.low < row.whiff.rate && row.whiff.rate < row.whiff.high);
+    let whole = a.outcomes.iter().find(|r| r.pitcher == who && r.pitch_type == pitch && r.factor == "all").unwrap();
+    assert_eq!(whole.pitches, all);
+    // Every level of a factor adds up to his pitches of the type.
+    let count_total: u64 = a.outcomes.iter().filter(|r| r.pitcher == who && r.pitch_type == pitch && r.factor == "count").map(|r| r.pitches).sum();
+    assert_eq!(count_total, all);
+}

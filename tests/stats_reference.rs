@@ -748,3 +748,27 @@ fn cmh_rabbits_worked_example() {
     close(t.chi2(), 3.928_571_428_571_429, 1e-12, 1e-12, "rabbits statistic");
     close(t.p_two_sided(), 0.047_472_255_142_918_196, 1e-9, 1e-12, "rabbits p-value");
 }
+
+/// The cost's standardised rate difference and its Wald interval against
+/// statsmodels' `test_proportions_2indep(method="wald", compare="diff")`
+/// per stratum, weighted by the tell's stratum sizes (fixture
+/// standardised.json, made by make_standardised_fixture.py).
+#[test]
+fn standardised_difference_matches_statsmodels() {
+    use tellscope::outcomes::Standardised;
+    let f = fixture("standardised.json");
+    let cases = f["cases"].as_array().unwrap();
+    assert!(cases.len() >= 20);
+    for (i, c) in cases.iter().enumerate() {
+        let mut st = Standardised::default();
+        for s in c["strata"].as_array().unwrap() {
+            let v: Vec<u64> = s.as_array().unwrap().iter().map(|x| x.as_u64().unwrap()).collect();
+            st.add(v[0], v[1], v[2], v[3]);
+        }
+        close(st.rate(), num(&c["rate"]), 1e-12, 1e-12, &format!("case {i} rate"));
+        close(st.expected_rate(), num(&c["expected_rate"]), 1e-12, 1e-12, &format!("case {i} expected"));
+        let (lo, hi) = st.interval();
+        close(lo, num(&c["low"]), 1e-9, 1e-12, &format!("case {i} low"));
+        close(hi, num(&c["high"]), 1e-9, 1e-12, &format!("case {i} high"));
+    }
+}

@@ -26,6 +26,9 @@ pub struct Audit {
     pub summary: Summary,
     pub tests: Vec<TellTest>,
     pub rejected: Vec<Rejected>,
+    /// Outcome figures per audited pitcher, pitch type and situation level
+    /// (`outcomes.csv`; empty without a `result` column).
+    pub outcomes: Vec<crate::outcomes::SituationOutcomes>,
 }
 
 /// Observed-fit results of one pitcher, before significance.
@@ -245,6 +248,7 @@ pub fn audit_log(
 
     let tests_of = tells::ByPitcher::new(&tests);
     let mut pitchers = Vec::new();
+    let mut outcomes = Vec::new();
     let mut ok_iter = 0usize;
     for task in &tasks {
         let throws = log.throws[task.rows[0] as usize].as_str().to_string();
@@ -402,6 +406,7 @@ pub fn audit_log(
         let rules = wording::rules(task, &o.scored, names);
         let headline = headline(&sheet_cells, &flagged, &task.evaluation.tells_checked_on);
         let called = crate::outcomes::called_outcomes(log, task, &o.scored, names);
+        outcomes.extend(crate::outcomes::by_situation(log, sit, task, names));
         pitchers.push(PitcherSummary {
             pitcher: task.name.clone(),
             throws,
@@ -493,7 +498,7 @@ pub fn audit_log(
         tells_flagged: tests.iter().filter(|t| t.flagged).count(),
         pitchers,
     };
-    Ok(Audit { summary, tests, rejected })
+    Ok(Audit { summary, tests, rejected, outcomes })
 }
 
 /// At most three findings, most pitches given away a season first: the

@@ -168,6 +168,29 @@ pub fn counts_csv(summary: &Summary) -> Result<Vec<u8>> {
         .to_csv(rows.len())
 }
 
+/// One row per audited pitcher, pitch type and situation level (`all`
+/// first): pitches, swings and each outcome rate with its Wilson 95%
+/// interval.
+pub fn outcomes_csv(rows: &[crate::outcomes::SituationOutcomes]) -> Result<Vec<u8>> {
+    let rate = |t: Table, name: &str, f: &dyn Fn(&crate::outcomes::SituationOutcomes) -> crate::outcomes::Rate| {
+        t.f64(name, rows.iter().map(|r| f(r).rate).collect())
+            .f64(&format!("{name}_low_95"), rows.iter().map(|r| f(r).low).collect())
+            .f64(&format!("{name}_high_95"), rows.iter().map(|r| f(r).high).collect())
+    };
+    let t = Table::default()
+        .str("pitcher", rows.iter().map(|r| r.pitcher.clone()).collect())
+        .str("pitch_type", rows.iter().map(|r| r.pitch_type.clone()).collect())
+        .str("factor", rows.iter().map(|r| r.factor.clone()).collect())
+        .str("level", rows.iter().map(|r| r.level.clone()).collect())
+        .u64("pitches", rows.iter().map(|r| r.pitches).collect())
+        .u64("swings", rows.iter().map(|r| r.swings).collect());
+    let t = rate(t, "whiff_rate", &|r| r.whiff);
+    let t = rate(t, "csw_rate", &|r| r.csw);
+    let t = rate(t, "ball_rate", &|r| r.ball);
+    let t = rate(t, "in_play_rate", &|r| r.in_play);
+    t.to_csv(rows.len())
+}
+
 pub fn rejected_csv(rejected: &[Rejected]) -> Result<Vec<u8>> {
     Table::default()
         .u64("line", rejected.iter().map(|r| r.line).collect())

@@ -283,6 +283,9 @@ pub fn write_audit_report(dir: &Path, audit: &crate::audit::Audit) -> Result<()>
             data.add("summary.json", json::summary_json(s)?.as_bytes())?;
             data.add_with("tells.csv", |w| csv::write_tells_csv(&audit.tests, w))?;
             data.add("counts.csv", &csv::counts_csv(s)?)?;
+            if !audit.outcomes.is_empty() {
+                data.add("outcomes.csv", &csv::outcomes_csv(&audit.outcomes)?)?;
+            }
             data.add("rejected.csv", &csv::rejected_csv(&audit.rejected)?)?;
             Ok(data)
         },
