@@ -388,6 +388,15 @@ pub fn cost_sentence(t: &TellTest, c: &crate::outcomes::TellCost) -> String {
             t.pitch_type,
             q_text(c.q_value)
         )
+    } else if c.whiff_diff_high < 0.0 || c.whiff_rate - c.expected_whiff_rate <= -0.03 {
+        // Worse on the face of it, but not by enough to call it a cost
+        // once every tell of the run is weighed (the FDR family).
+        format!(
+            "{}: predictable, and it may be costing him, but the evidence is thin ({}, {} swings) — {figures}. Worth watching; no change is suggested on this evidence yet.",
+            capitalize(&format!("his {} {sit}", t.pitch_type)),
+            q_text(c.q_value),
+            c.swings
+        )
     } else {
         format!(
             "{}: predictable, and it still works — {figures}. No change is suggested on this evidence.",
