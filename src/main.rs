@@ -20,6 +20,14 @@ fn main() {
         libc::signal(libc::SIGPIPE, libc::SIG_DFL);
     }
     let args = cli::Cli::parse();
+    // Ctrl-C or SIGTERM: the report being written is abandoned (its staging
+    // folder removed, the old report untouched) and the process ends with
+    // the shell's code for an interrupt, 130.
+    let _ = ctrlc::set_handler(|| {
+        tellscope::report::abandon_stagings();
+        eprintln!("tellscope: interrupted; the report folder was left as it was.");
+        std::process::exit(130);
+    });
     // A last-resort guard: a panic anywhere becomes exit 1 with one
     // sentence, never a backtrace (the report, written whole or not at
     // all, is left as it was).

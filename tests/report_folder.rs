@@ -44,3 +44,58 @@ fn a_report_folder_is_replaced_whole() {
     assert!(beside.is_empty(), "staging left behind: {beside:?}");
     std::fs::remove_dir_all(&root).ok();
 }
+
+/// Ctrl-C while the report is being written: the process exits 130, the
+/// old report is untouched byte for byte and no staging folder is left.
+/// Signalled as soon as the staging folder appears (and, in case the run
+/// wins the race, the finished report must then be whole instead).
+#[cfg(unix)]
+#[test]
+fn an_interrupted_audit_leaves_the_old_report_and_no_staging() {
+    use std::process::{Command, Stdio};
+    let root = std::env::temp_dir().join(format!("tellscope-interrupt-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&root);
+    std::fs::create_dir_all(&root).unwrap();
+    let out = root.join("report");
+    let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv");
+    let bin = env!("CARGO_BIN_EXE_tellscope");
+    let run = |perms: &str| {
+        Command::new(bin)
+            .args(["audit", log.to_str().unwrap(), "--out", out.to_str().unwrap(), "--permutations", perms])
+            .stdout(Stdio::null())
+            .stderr(Stdio::piped())
+            .spawn()
+            .unwrap()
+    };
+    assert!(run("9").wait().unwrap().success());
+    let old = std::fs::read(out.join("index.html")).unwrap();
+    let old_summary = std::fs::read(out.join("summary.json")).unwrap();
+    let mut interrupted = 0;
+    for _ in 0..3 {
+        let mut child = run("19");
+        let pid = child.id() as i32;
+        let staging = root.join(format!(".report.tellscope-new-{pid}"));
+        let start = std::time::Instant::now();
+        while !staging.exists() && child.try_wait().unwrap().is_none() && start.elapsed().as_secs() < 120 {
+            std::thread::sleep(std::time::Duration::from_millis(1));
+        }
+        // SAFETY: sends a signal to our own child process.
+        unsafe { libc::kill(pid, libc::SIGINT) };
+        let status = child.wait().unwrap();
+        let left: Vec<String> = std::fs::read_dir(&root).unwrap().map(|e| e.unwrap().file_name().to_string_lossy().to_string()).filter(|n| n.starts_with('.')).collect();
+        assert!(left.is_empty(), "staging left behind: {left:?}");
+        if status.code() == Some(130) {
+            interrupted += 1;
+            assert_eq!(std::fs::read(out.join("index.html")).unwrap(), old, "the old page changed");
+            assert_eq!(std::fs::read(out.join("summary.json")).unwrap(), old_summary, "the old summary changed");
+        } else {
+            assert!(status.success(), "{status:?}");
+            // The run won the race: its report is whole.
+            let s: serde_json::Value = serde_json::from_slice(&std::fs::read(out.join("summary.json")).unwrap()).unwrap();
+            assert_eq!(s["settings"]["permutations"], 19);
+            return;
+        }
+    }
+    assert!(interrupted > 0);
+    std::fs::remove_dir_all(&root).ok();
+}

@@ -89,11 +89,39 @@ fn staging_of(dir: &Path) -> PathBuf {
 }
 
 /// Files a tellscope report folder holds at its top level.
-const REPORT_FILES: [&str; 7] = ["index.html", "summary.json", "tells.csv", "counts.csv", "rejected.csv", "changes.csv", "charts"];
+const REPORT_FILES: [&str; 8] = ["index.html", "summary.json", "tells.csv", "counts.csv", "outcomes.csv", "rejected.csv", "changes.csv", "charts"];
+
+/// Staging folders of this process not yet committed or removed: what an
+/// interrupt (Ctrl-C, SIGTERM) removes before the process exits. The lock
+/// is also held across a commit's swap, so an interrupt lands before the
+/// swap or after it, never inside.
+static IN_FLIGHT: std::sync::Mutex<Vec<PathBuf>> = std::sync::Mutex::new(Vec::new());
+
+fn in_flight() -> std::sync::MutexGuard<'static, Vec<PathBuf>> {
+    IN_FLIGHT.lock().unwrap_or_else(|e| e.into_inner())
+}
+
+/// Called on an interrupt: remove every staging folder of this process
+/// (the old reports stay as they were), and hold the lock so no commit
+/// starts before the process exits. Returns how many were removed.
+pub fn abandon_stagings() -> usize {
+    let mut g = in_flight();
+    let n = g.len();
+    for p in g.drain(..) {
+        let _ = std::fs::remove_dir_all(p);
+    }
+    std::mem::forget(g);
+    n
+}
 
 impl Staging {
     pub fn new(dir: &Path) -> Staging {
-        Staging { dir: dir.to_path_buf(), tmp: staging_of(dir), committed: false, owner: true }
+        let tmp = staging_of(dir);
+        let mut g = in_flight();
+        if !g.contains(&tmp) {
+            g.push(tmp.clone());
+        }
+        Staging { dir: dir.to_path_buf(), tmp, committed: false, owner: true }
     }
 
     /// Paths must be relative and free of `..`, so nothing is written
@@ -109,8 +137,16 @@ impl Staging {
     pub fn add_with(&mut self, rel: impl AsRef<Path>, write: impl FnOnce(&mut std::io::BufWriter<std::fs::File>) -> Result<()>) -> Result<()> {
         let target = self.target(rel.as_ref())?;
         let parent = target.parent().unwrap_or(&self.tmp).to_path_buf();
-        std::fs::create_dir_all(&parent).map_err(|e| Error::io(&parent, "create the report folder", e))?;
-        let file = std::fs::File::create(&target).map_err(|e| Error::io(&target, "write", e))?;
+        // Created under the lock an interrupt takes, so a staging folder it
+        // has removed is never made again.
+        let file = {
+            let g = in_flight();
+            if !g.contains(&self.tmp) {
+                return Err(Error::Internal("the report was abandoned".into()));
+            }
+            std::fs::create_dir_all(&parent).map_err(|e| Error::io(&parent, "create the report folder", e))?;
+            std::fs::File::create(&target).map_err(|e| Error::io(&target, "write", e))?
+        };
         let mut w = std::io::BufWriter::new(file);
         write(&mut w)?;
         use std::io::Write;
@@ -135,6 +171,17 @@ impl Staging {
 
     /// Swap the staged report in for the old one.
     pub fn commit(mut self) -> Result<()> {
+        let mut g = in_flight();
+        let r = self.swap_into_place();
+        g.retain(|p| *p != self.tmp);
+        drop(g);
+        r?;
+        self.committed = true;
+        remove_stale_stagings(&self.dir);
+        Ok(())
+    }
+
+    fn swap_into_place(&mut self) -> Result<()> {
         std::fs::create_dir_all(&self.tmp).map_err(|e| Error::io(&self.tmp, "create the report folder", e))?;
         let dir = self.dir.clone();
         match std::fs::symlink_metadata(&dir) {
@@ -167,8 +214,6 @@ impl Staging {
                 let _ = std::fs::remove_dir_all(&self.tmp);
             }
         }
-        self.committed = true;
-        remove_stale_stagings(&dir);
         Ok(())
     }
 }
@@ -214,7 +259,9 @@ fn swap_in(new: &Path, dir: &Path) -> Result<()> {
 impl Drop for Staging {
     fn drop(&mut self) {
         if self.owner && !self.committed {
+            let mut g = in_flight();
             let _ = std::fs::remove_dir_all(&self.tmp);
+            g.retain(|p| *p != self.tmp);
         }
     }
 }
