@@ -42,3 +42,28 @@ impl fmt::Display for Error {
 impl std::error::Error for Error {}
 
 pub type Result<T> = std::result::Result<T, Error>;
+
+/// Decoders running under [`catch_decode`]: while any runs, a panic is an
+/// expected sign of a damaged file, and the binary's last-resort panic
+/// message stays quiet (the caller reports the file and column instead).
+static DECODING: std::sync::atomic::AtomicUsize = std::sync::atomic::AtomicUsize::new(0);
+
+/// Whether a panic now is a damaged file's, caught by [`catch_decode`].
+pub fn panics_are_caught() -> bool {
+    DECODING.load(std::sync::atomic::Ordering::SeqCst) > 0
+}
+
+/// Run a third-party decoder that may panic on a damaged file; a panic
+/// becomes `Err(message)`.
+pub fn catch_decode<T>(f: impl FnOnce() -> T) -> std::result::Result<T, String> {
+    use std::sync::atomic::Ordering;
+    DECODING.fetch_add(1, Ordering::SeqCst);
+    let r = std::panic::catch_unwind(std::panic::AssertUnwindSafe(f));
+    DECODING.fetch_sub(1, Ordering::SeqCst);
+    r.map_err(|p| {
+        p.downcast_ref::<&str>()
+            .map(|s| s.to_string())
+            .or_else(|| p.downcast_ref::<String>().cloned())
+            .unwrap_or_else(|| "the decoder stopped".into())
+    })
+}

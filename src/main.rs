@@ -32,6 +32,9 @@ fn main() {
     // sentence, never a backtrace (the report, written whole or not at
     // all, is left as it was).
     std::panic::set_hook(Box::new(|info| {
+        if tellscope::error::panics_are_caught() {
+            return; // a damaged input file, reported by its reader
+        }
         let at = info.location().map(|l| format!(" at {}:{}", l.file(), l.line())).unwrap_or_default();
         eprintln!("tellscope: internal error{at}; please report it with the command you ran.");
     }));

@@ -772,3 +772,23 @@ fn standardised_difference_matches_statsmodels() {
         close(hi, num(&c["high"]), 1e-9, 1e-12, &format!("case {i} high"));
     }
 }
+
+/// A period's bits per pitch and its game-clustered variance (the
+/// studentised change of `compare`) against statsmodels' WLS of bits on
+/// pitches per game without intercept, weights 1/n, HC1 covariance
+/// (fixture cluster_ratio.json, made by make_cluster_ratio_fixture.py).
+#[test]
+fn cluster_ratio_variance_matches_statsmodels() {
+    use tellscope::compare::predictability::{bits_and_variance, GameScore};
+    let f = fixture("cluster_ratio.json");
+    let cases = f["cases"].as_array().unwrap();
+    assert!(cases.len() >= 20);
+    for (i, c) in cases.iter().enumerate() {
+        let n = nums(&c["n"]);
+        let bits = nums(&c["bits"]);
+        let games: Vec<GameScore> = n.iter().zip(&bits).map(|(&n, &b)| GameScore { n, bits: b, model_right: 0.0, prior_right: 0.0 }).collect();
+        let (r, v) = bits_and_variance(&games);
+        close(r, num(&c["ratio"]), 1e-10, 1e-14, &format!("case {i} ratio"));
+        close(v, num(&c["variance"]), 1e-8, 1e-16, &format!("case {i} variance"));
+    }
+}

@@ -1,7 +1,8 @@
 //! Compare: change in each pitcher between two periods (`--before A
 //! --after B`, seasons or date ranges), for a club's development staff.
 //!
-//! Per pitcher, with every test of the run in one Benjamini–Hochberg family:
+//! Per pitcher, with the run's tests in two Benjamini–Hochberg families
+//! (the predictability tests; everything else):
 //!
 //! * mix shift, overall and per count: the pitch mix in each period, a test
 //!   of equal mixes (G-test, or a Monte Carlo permutation of the period
@@ -12,8 +13,10 @@
 //!   `absent_share` in the other, with a 2 × 2 test of its share (his mix
 //!   shifts are then tested on the pitches he kept);
 //! * predictability: held-out lift and bits gained in each period, each
-//!   forward-chained within its period, the difference with a game
-//!   bootstrap interval and a label-swap permutation test ([`predictability`]);
+//!   cross-fitted over its own games, the change tested by a studentised
+//!   label-swap permutation test whose refitted deals also give its
+//!   interval, and the before model's transfer to the after games
+//!   ([`predictability`]);
 //! * tells that appeared, disappeared or held ([`tells_change`]), not
 //!   tests themselves: a tell about one count carries that count's test.
 //!
@@ -32,6 +35,11 @@ use crate::error::Result;
 use crate::ingest::{self, Ingested, PitchLog, Rejected, SourceInfo};
 use crate::settings::{FdrMethod, Settings, Statistic};
 use crate::significance::{fdr, Interval};
+
+/// The BH family of the predictability tests (`family` of a change).
+pub const PREDICTABILITY_FAMILY: &str = "predictability";
+/// The BH family of every other test of a comparison.
+pub const MIX_FAMILY: &str = "mix and pitches";
 use crate::situations::{self, levels::COUNTS, Situations};
 use period::{Period, PeriodSpec};
 use predictability::{PeriodFit, Resampled};
@@ -148,29 +156,33 @@ fn prepare(log: &PitchLog, sit: &Situations, p: u32, rows: [Vec<u32>; 2], labels
         }
         fits.push(task);
     }
-    let b = fits.remove(0);
-    let a = fits.remove(0);
-    let fits = Box::new([predictability::fit_period(b, settings), predictability::fit_period(a, settings)]);
-    Prepared::Ready { pitcher: p, rows, fits }
+    let a = fits.pop().expect("two periods");
+    let b = fits.pop().expect("two periods");
+    let fit = |t, k: usize| predictability::fit_period(log, sit, t, settings, labels[k]);
+    match (fit(b, 0), fit(a, 1)) {
+        (Ok(fb), Ok(fa)) => Prepared::Ready { pitcher: p, rows, fits: Box::new([fb, fa]) },
+        (Err(e), _) | (_, Err(e)) => Prepared::Short { pitcher: p, why: format!("{e}."), rows },
+    }
 }
 
 /// A period's figures for the report, the interval widened to hold the
 /// estimate (a percentile interval can miss it in a very skewed resample;
 /// the report never shows an estimate outside its own interval).
 fn period_figures(label: &str, fit: &PeriodFit, res: Option<&Resampled>) -> PeriodFigures {
-    let b = fit.figures.bits_gained;
+    let f = &fit.cross.figures;
+    let b = f.bits_gained;
     let iv = res.map(|r| r.bits.interval).unwrap_or(Interval { low: b, high: b });
     PeriodFigures {
         label: label.to_string(),
         pitches: fit.task.rows.len(),
-        n_train: fit.task.n_train(),
-        n_test: fit.figures.n,
-        prior_accuracy: fit.figures.prior_accuracy,
-        model_accuracy: fit.figures.model_accuracy,
-        lift: fit.figures.lift,
+        n_train: fit.cross.n_train,
+        n_test: f.n,
+        prior_accuracy: f.prior_accuracy,
+        model_accuracy: f.model_accuracy,
+        lift: f.lift,
         bits_gained: b,
         bits_interval: Interval { low: iv.low.min(b), high: iv.high.max(b) },
-        n_unseen_type: fit.unseen,
+        n_unseen_type: fit.cross.unseen,
     }
 }
 
@@ -231,6 +243,7 @@ fn blank(kind: &str, situation: BTreeMap<String, String>, before: f64, after: f6
         baseline_after: None,
         tell_q_before: None,
         tell_q_after: None,
+        family: MIX_FAMILY.into(),
         text: String::new(),
     }
 }
@@ -387,19 +400,20 @@ pub fn compare_log(
         .par_iter()
         .map(|(p, _, fits)| {
             let name = &log.pitchers[*p as usize];
-            [0, 1].map(|k| predictability::resample_period(&fits[k].games, settings.bootstrap, seed64(settings.seed, name, &format!("bootstrap {k}"))))
+            [0, 1].map(|k| predictability::resample_period(&fits[k].cross.games, settings.bootstrap, seed64(settings.seed, name, &format!("bootstrap {k}"))))
         })
         .collect();
 
     // Label-swap permutation tests.
     let bar = crate::progress::bar((ready.len() * permutations) as u64, "label swaps", show_progress);
     let tick = |n: u64| bar.inc(n);
-    let swaps: Vec<predictability::SwapResult> = ready
+    let swaps: Vec<(predictability::SwapResult, Option<f64>)> = ready
         .par_iter()
         .map(|(p, rows, fits)| {
             let name = &log.pitchers[*p as usize];
-            let observed = predictability::abs_difference(fits[0].statistic, fits[1].statistic);
-            predictability::label_swap_test(log, sit, *p, name, &rows[0], &rows[1], observed, settings, permutations, &tick)
+            let observed = [&fits[0].cross, &fits[1].cross];
+            let swap = predictability::label_swap_test(log, sit, *p, name, &rows[0], &rows[1], observed, settings, permutations, &tick);
+            (swap, predictability::transfer(log, sit, *p, &rows[0], &rows[1], settings))
         })
         .collect();
     bar.finish_and_clear();
@@ -419,8 +433,8 @@ pub fn compare_log(
                     if task.n_train() < settings.min_train_pitches || task.n_test() < settings.min_test_pitches {
                         continue;
                     }
-                    let fit = predictability::fit_period(task, settings);
-                    let res = predictability::resample_period(&fit.games, settings.bootstrap, seed64(settings.seed, name, &format!("bootstrap season {s}")));
+                    let Ok(fit) = predictability::fit_period(log, sit, task, settings, &label) else { continue };
+                    let res = predictability::resample_period(&fit.cross.games, settings.bootstrap, seed64(settings.seed, name, &format!("bootstrap season {s}")));
                     out.push(period_figures(&label, &fit, res.as_ref()));
                 }
                 out
@@ -483,22 +497,16 @@ pub fn compare_log(
                 let fb = period_figures(labels[0], &fits[0], res[0].as_ref());
                 let fa = period_figures(labels[1], &fits[1], res[1].as_ref());
                 let bits_diff = fa.bits_gained - fb.bits_gained;
-                let (bits_iv, lift_iv) = match (&res[0], &res[1]) {
-                    (Some(b), Some(a)) => (
-                        predictability::difference_interval(b, a, |d| d.0),
-                        predictability::difference_interval(b, a, |d| d.1),
-                    ),
-                    _ => (None, None),
-                };
-                let bits_iv = bits_iv.unwrap_or(Interval { low: bits_diff, high: bits_diff });
-                let bits_iv = Interval { low: bits_iv.low.min(bits_diff), high: bits_iv.high.max(bits_diff) };
-                let swap = &swaps[i];
+                let (swap, transfer) = &swaps[i];
+                let bits_iv = Interval { low: swap.bits_interval.low.min(bits_diff), high: swap.bits_interval.high.max(bits_diff) };
+                let lift_iv = swap.lift_interval;
                 let mut pc = blank("predictability", BTreeMap::new(), fb.bits_gained, fa.bits_gained, bits_diff, "bits_difference", [fb.n_test, fa.n_test], None);
                 pc.interval = Some(bits_iv);
                 pc.test = mix::TestKind::LabelSwapPermutation.as_str().into();
-                pc.statistic = Some(fits[1].statistic.primary - fits[0].statistic.primary);
+                pc.statistic = Some(swap.t);
                 pc.permutations = Some(swap.permutations);
                 pc.p = Some(swap.p);
+                pc.family = PREDICTABILITY_FAMILY.into();
                 changes.push(pc);
                 for t in tells_change::changes(log, sit, &name, &rows[0], &rows[1], tells_b_of.of(&name), tells_a_of.of(&name)) {
                     changes.push(tell_change(&t));
@@ -537,12 +545,15 @@ pub fn compare_log(
                         after: fa,
                         bits_difference: bits_diff,
                         bits_difference_interval: bits_iv,
-                        lift_difference: fits[1].figures.lift - fits[0].figures.lift,
+                        lift_difference: fits[1].cross.figures.lift - fits[0].cross.figures.lift,
                         lift_difference_interval: lift_iv,
                         p: swap.p,
                         q: 1.0,
                         permutations: swap.permutations,
                         stopped_early: swap.stopped_early,
+                        studentised_statistic: swap.t,
+                        transfer_bits: *transfer,
+                        family: PREDICTABILITY_FAMILY.into(),
                     }),
                     seasons: per_season[i].clone(),
                     counts,
@@ -555,14 +566,23 @@ pub fn compare_log(
             }
         }
     }
-    // One BH family over every test of the run.
+    // Two Benjamini–Hochberg families: the predictability tests (one per
+    // pitcher) on their own, so many mix cells never bury them; every
+    // other test (mixes, count by count, new and dropped pitches) in the
+    // other.
+    let family_of = |c: &Change| if c.family == PREDICTABILITY_FAMILY { 0 } else { 1 };
+    let mut family_q: [std::vec::IntoIter<f64>; 2] = [0, 1].map(|f| {
+        let ps: Vec<f64> = pitchers
+            .iter()
+            .flat_map(|p| p.changes.iter().filter(|c| c.is_test() && family_of(c) == f).map(|c| c.p.unwrap_or(1.0).clamp(0.0, 1.0)))
+            .collect();
+        fdr::bh_q_values(&ps).into_iter()
+    });
     let all_p: Vec<f64> =
         pitchers.iter().flat_map(|p| p.changes.iter().filter(|c| c.is_test()).map(|c| c.p.unwrap_or(1.0).clamp(0.0, 1.0))).collect();
-    let all_q = fdr::bh_q_values(&all_p);
-    let mut qi = all_q.into_iter();
     for p in pitchers.iter_mut() {
         for c in p.changes.iter_mut().filter(|c| c.is_test()) {
-            let q = qi.next().expect("one q per test");
+            let q = family_q[family_of(c)].next().expect("one q per test");
             c.q = Some(q);
             c.significant = q <= settings.fdr;
         }
@@ -649,10 +669,10 @@ pub fn compare_log(
         },
         periods: Periods { before, after },
         evaluation: CompareEvaluation {
-            scheme: "forward-chaining".into(),
+            scheme: "cross-fitted".into(),
             blocks: settings.forward_blocks,
             description: format!(
-                "Each period is scored on its own: a pitcher's games in the period, in date order, are split into {} blocks, and each block after the first is guessed by a model fitted on the blocks before it.",
+                "Each period is scored on its own: a pitcher's games in the period, in date order, are dealt to {} groups, and each group is guessed by a model fitted on his other games of the period, so every game is scored by a model that did not see it. His tells in each period are found on its earlier games and checked on its last ones.",
                 settings.forward_blocks
             ),
         },

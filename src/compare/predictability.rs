@@ -1,25 +1,33 @@
 //! Predictability in each period and its change.
 //!
-//! Each period is scored on its own with the audit's machinery: the
-//! pitcher's games of the period, in date order, are split into blocks
-//! (forward-chaining, `[audit] forward_blocks`), each later block is scored
-//! by priors and a tree fitted on the blocks before it, and held-out lift
-//! and bits gained come from `evaluate`. So a period's figure answers "how
-//! well could his pitch be guessed from the situation, using only what he
-//! had shown earlier in that period".
-//!
-//! * Interval of the change: a percentile bootstrap resampling whole games
-//!   (`significance::resample::cluster_bootstrap`), each period's games
-//!   resampled on their own (the two-sample bootstrap; Efron & Tibshirani
-//!   1993, "An Introduction to the Bootstrap", 8.3), the fitted models held
-//!   fixed: it is the uncertainty of the held-out scoring, not of the fit.
-//! * Test of the change: a label-swap permutation test. Under the null that
-//!   both periods come from the same pitcher, which period a game belongs
-//!   to is exchangeable; each permutation deals his games to the two
-//!   periods at random (same numbers of games as observed), refits both
-//!   periods from scratch and takes the difference again. Two-sided: |after
-//!   − before| against the same for the shuffles, with the Besag–Clifford
-//!   stopping rule of the audit and p as in `significance::permutation_p`.
+//! * **Each period's figure** is cross-fitted over its own games: the
+//!   pitcher's games of the period, in date order, are dealt to
+//!   `[audit] forward_blocks` folds by rank (game i to fold i mod k), and
+//!   each fold is scored by priors and a tree fitted on his other games of
+//!   the period. Every game is scored by a model that did not see it, so the
+//!   figure rests on all his pitches there.
+//! * **Test of the change**: a label-swap permutation test of a
+//!   studentised statistic, T = (b_after − b_before) / sqrt(v_after +
+//!   v_before), b a period's bits gained per pitch and v its game-clustered
+//!   variance (the ratio estimator's, games as clusters). Games are dealt
+//!   at random to the two periods (the observed numbers of games; each
+//!   period keeps its games in date order), both periods are cross-fitted
+//!   again from scratch, and T is taken again. Studentising makes the test
+//!   valid for "the same predictability" rather than "every game is
+//!   exchangeable" (Chung & Romano 2013, "Exact and asymptotically robust
+//!   permutation tests", Annals of Statistics 41, 484–507). Two-sided
+//!   (|T|), since compare asks whether he changed either way; the
+//!   Besag–Clifford stopping rule of the audit and p as in
+//!   `significance::permutation_p`.
+//! * **Interval of the change**: the observed difference ± the 95% point
+//!   of |difference| over the same refitted deals (a permutation interval
+//!   under a shift model; Ernst 2004, "Permutation methods: a basis for
+//!   exact inference", Statistical Science 19, 676–685, §4), so the refit's
+//!   noise is in it.
+//! * **Transfer**: the before-period model (fitted on all his before
+//!   games) scored on the after games, its situational tilt carried onto
+//!   his after mix, against that mix: do last period's tendencies still
+//!   tell anything?
 
 use super::stream;
 use crate::error::Result;
@@ -30,7 +38,7 @@ use crate::evaluate::{self, HeldOut};
 use crate::ingest::PitchLog;
 use crate::settings::Settings;
 use crate::significance::permutation_p::SequentialPermutation;
-use crate::significance::resample::{cluster_bootstrap, quantile_sorted, BootstrapInterval};
+use crate::significance::resample::{cluster_bootstrap, BootstrapInterval};
 use crate::significance::Interval;
 use crate::situations::Situations;
 use rand::Rng;
@@ -60,54 +68,26 @@ pub fn figures_of(games: &[&GameScore]) -> (f64, f64) {
     (bits, lift)
 }
 
-/// One period's fit of one pitcher.
+/// One period's fit of one pitcher: the forward-chained task its tells
+/// are found and checked on, and its cross-fitted predictability.
 #[derive(Debug, Clone)]
 pub struct PeriodFit {
     pub task: PitcherTask,
-    pub figures: HeldOut,
-    /// The permutation statistic (`[audit] statistic`) of the fit, with the
-    /// audit's unpruned-tree tie-breaker.
-    pub statistic: Stat,
-    /// Held-out pitches of a type not yet seen in their fold's training.
-    pub unseen: usize,
-    /// Held-out games in game-id order.
-    pub games: Vec<GameScore>,
+    pub cross: CrossFitted,
 }
 
 /// The pitcher's task over `rows` (global, log order), forward-chained
-/// within those rows' games.
+/// within those rows' games (tells are found on its earlier blocks and
+/// checked on its last).
 pub fn build_task(log: &PitchLog, sit: &Situations, pitcher: u32, rows: &[u32], blocks: usize, label: &str) -> Result<PitcherTask> {
     let plan = Plan::forward_chaining(log, rows, blocks, label)?;
     Ok(PitcherTask::build(log, sit, &plan.local(log, rows), pitcher, rows.to_vec()))
 }
 
-/// Fit and score a task. With `per_game` the held-out figures and each
-/// game's sums are kept; without, only the statistic is (a refit).
-pub fn fit(task: &PitcherTask, settings: &Settings, per_game: bool) -> (HeldOut, Stat, usize, Vec<GameScore>) {
-    let mut ws = Workspace::new(task);
-    let scored = fit_and_score(task, &task.labels, settings, &mut ws, per_game);
-    let figures = evaluate::overall(&scored, &task.labels);
-    let stat = statistic(&scored, settings.statistic);
-    let mut games = Vec::new();
-    if per_game {
-        let mut by_game: BTreeMap<u32, GameScore> = BTreeMap::new();
-        for (i, &r) in scored.rows.iter().enumerate() {
-            let y = task.labels[r as usize] as usize;
-            let (m, p) = (scored.model_row(i), scored.prior_row(i));
-            let g = by_game.entry(task.game[r as usize]).or_default();
-            g.n += 1.0;
-            g.bits += (m[y] / p[y]).log2();
-            g.model_right += (argmax(m) == y) as u8 as f64;
-            g.prior_right += (argmax(p) == y) as u8 as f64;
-        }
-        games = by_game.into_values().collect();
-    }
-    (figures, stat, scored.unseen, games)
-}
-
-pub fn fit_period(task: PitcherTask, settings: &Settings) -> PeriodFit {
-    let (figures, statistic, unseen, games) = fit(&task, settings, true);
-    PeriodFit { task, figures, statistic, unseen, games }
+/// A period's fit: `task` kept for its tells, predictability cross-fitted.
+pub fn fit_period(log: &PitchLog, sit: &Situations, task: PitcherTask, settings: &Settings, label: &str) -> Result<PeriodFit> {
+    let cross = cross_fit(log, sit, task.pitcher, &task.rows, settings, label)?;
+    Ok(PeriodFit { task, cross })
 }
 
 /// A period's bootstrap: the interval of its bits gained and every
@@ -139,44 +119,119 @@ pub fn resample_period(games: &[GameScore], resamples: usize, seed: u64) -> Opti
     Some(Resampled { bits, draws })
 }
 
-/// 95% percentile interval of `after − before` from paired resamples of two
-/// independent bootstraps (`pick` chooses bits or lift); resamples where
-/// either side is undefined are left out.
-pub fn difference_interval(before: &Resampled, after: &Resampled, pick: fn(&(f64, f64)) -> f64) -> Option<Interval> {
-    let mut d: Vec<f64> = before
-        .draws
-        .iter()
-        .zip(&after.draws)
-        .map(|(b, a)| pick(a) - pick(b))
-        .filter(|x| x.is_finite())
-        .collect();
-    if d.is_empty() {
-        return None;
-    }
-    d.sort_by(f64::total_cmp);
-    Some(Interval { low: quantile_sorted(&d, 0.025), high: quantile_sorted(&d, 0.975) })
-}
-
 /// Outcome of the label-swap test.
 #[derive(Debug, Clone, PartialEq)]
 pub struct SwapResult {
     pub p: f64,
     pub permutations: usize,
     pub stopped_early: bool,
+    /// Observed studentised statistic.
+    pub t: f64,
+    /// 95% interval of the bits and lift differences (see the module).
+    pub bits_interval: Interval,
+    pub lift_interval: Option<Interval>,
 }
 
 /// Shuffles are run in parallel batches of this size, then read in order
 /// for the stopping rule (so the result does not depend on thread count).
 const BATCH: usize = 16;
 
-/// `after − before`, both parts of the statistic, as magnitudes: the
-/// label-swap test is two-sided.
-pub fn abs_difference(before: Stat, after: Stat) -> Stat {
-    Stat { primary: (after.primary - before.primary).abs(), secondary: (after.secondary - before.secondary).abs() }
+/// A period scored by cross-fitting (see the module).
+#[derive(Debug, Clone)]
+pub struct CrossFitted {
+    pub figures: HeldOut,
+    /// Game-clustered variance of `figures.bits_gained`.
+    pub bits_var: f64,
+    /// Scored pitches of a type unseen in their fold's training.
+    pub unseen: usize,
+    /// Pitches that trained each fold, on average.
+    pub n_train: usize,
+    /// Every game's sums, in game-id order.
+    pub games: Vec<GameScore>,
 }
 
-/// Label-swap permutation test of `observed` = |statistic(after) −
-/// statistic(before)| (see [`abs_difference`]) for one pitcher.
+/// Bits per pitch of a set of games and its variance, games as clusters:
+/// the ratio estimator r = Σbits/Σn with variance G/(G−1) Σ(bits_g −
+/// r n_g)² / (Σn)² (Cochran 1977, "Sampling Techniques", 6.9, with the
+/// usual small-sample factor).
+pub fn bits_and_variance(games: &[GameScore]) -> (f64, f64) {
+    let n: f64 = games.iter().map(|g| g.n).sum();
+    if n <= 0.0 {
+        return (f64::NAN, f64::NAN);
+    }
+    let r = games.iter().map(|g| g.bits).sum::<f64>() / n;
+    let k = games.len() as f64;
+    if k < 2.0 {
+        return (r, 0.0);
+    }
+    let ss: f64 = games.iter().map(|g| (g.bits - r * g.n).powi(2)).sum();
+    (r, k / (k - 1.0) * ss / (n * n))
+}
+
+/// The studentised difference of two periods (0 when neither varies).
+pub fn studentised(before: &CrossFitted, after: &CrossFitted) -> f64 {
+    let d = after.figures.bits_gained - before.figures.bits_gained;
+    let se = (before.bits_var + after.bits_var).sqrt();
+    if se > 0.0 && d.is_finite() {
+        d / se
+    } else {
+        0.0
+    }
+}
+
+/// Cross-fit one pitcher's `rows` (global, log order) in `folds` folds.
+pub fn cross_fit(log: &PitchLog, sit: &Situations, pitcher: u32, rows: &[u32], settings: &Settings, label: &str) -> Result<CrossFitted> {
+    let folds = settings.forward_blocks;
+    let mut games: BTreeMap<u32, GameScore> = BTreeMap::new();
+    let (mut unseen, mut n_train) = (0usize, 0usize);
+    for f in 0..folds {
+        let plan = Plan::cross_fit(log, rows, folds, f, label)?;
+        let task = PitcherTask::build(log, sit, &plan.local(log, rows), pitcher, rows.to_vec());
+        n_train += task.n_train();
+        let (_, _, u, g) = fit_games(&task, settings);
+        unseen += u;
+        games.extend(g);
+    }
+    let games: Vec<GameScore> = games.into_values().collect();
+    let s = games.iter().fold(GameScore::default(), |a, g| GameScore {
+        n: a.n + g.n,
+        bits: a.bits + g.bits,
+        model_right: a.model_right + g.model_right,
+        prior_right: a.prior_right + g.prior_right,
+    });
+    let (bits, bits_var) = bits_and_variance(&games);
+    let ratio = |a: f64, b: f64| if b > 0.0 { a / b } else { f64::NAN };
+    let figures = HeldOut {
+        n: s.n as usize,
+        prior_accuracy: ratio(s.prior_right, s.n),
+        model_accuracy: ratio(s.model_right, s.n),
+        lift: ratio(s.model_right - s.prior_right, s.prior_right),
+        bits_gained: bits,
+    };
+    Ok(CrossFitted { figures, bits_var, unseen, n_train: n_train / folds, games })
+}
+
+/// Fit and score a one-fold task, keeping each game's sums by game id.
+fn fit_games(task: &PitcherTask, settings: &Settings) -> (HeldOut, Stat, usize, Vec<(u32, GameScore)>) {
+    let mut ws = Workspace::new(task);
+    let scored = fit_and_score(task, &task.labels, settings, &mut ws, true);
+    let figures = evaluate::overall(&scored, &task.labels);
+    let stat = statistic(&scored, settings.statistic);
+    let mut by_game: BTreeMap<u32, GameScore> = BTreeMap::new();
+    for (i, &r) in scored.rows.iter().enumerate() {
+        let y = task.labels[r as usize] as usize;
+        let (m, p) = (scored.model_row(i), scored.prior_row(i));
+        let g = by_game.entry(task.game[r as usize]).or_default();
+        g.n += 1.0;
+        g.bits += (m[y] / p[y]).log2();
+        g.model_right += (argmax(m) == y) as u8 as f64;
+        g.prior_right += (argmax(p) == y) as u8 as f64;
+    }
+    (figures, stat, scored.unseen, by_game.into_iter().collect())
+}
+
+/// Label-swap permutation test of the studentised change for one pitcher
+/// (see the module), with the interval of the change from the same deals.
 #[allow(clippy::too_many_arguments)]
 pub fn label_swap_test(
     log: &PitchLog,
@@ -185,7 +240,7 @@ pub fn label_swap_test(
     name: &str,
     rows_before: &[u32],
     rows_after: &[u32],
-    observed: Stat,
+    observed: [&CrossFitted; 2],
     settings: &Settings,
     permutations: usize,
     progress: &(dyn Fn(u64) + Sync),
@@ -203,8 +258,12 @@ pub fn label_swap_test(
     };
     let game_index: BTreeMap<u32, usize> = games.iter().enumerate().map(|(i, &(_, g))| (g, i)).collect();
     let row_game: Vec<usize> = pooled.iter().map(|&r| game_index[&log.game[r as usize]]).collect();
-    let blocks = settings.forward_blocks;
-    let one = |j: usize| -> Option<Stat> {
+    let t_obs = studentised(observed[0], observed[1]);
+    let d_obs = observed[1].figures.bits_gained - observed[0].figures.bits_gained;
+    let l_obs = observed[1].figures.lift - observed[0].figures.lift;
+    // One deal: (T, bits difference, lift difference), None when a dealt
+    // period cannot be cross-fitted.
+    let one = |j: usize| -> Option<(f64, f64, f64)> {
         let mut rng = stream(settings.seed, name, "label-swap", j as u64);
         let mut in_before: Vec<bool> = (0..games.len()).map(|i| i < n_before_games).collect();
         for i in (1..in_before.len()).rev() {
@@ -219,32 +278,135 @@ pub fn label_swap_test(
                 ra.push(r)
             }
         }
-        let stat = |rows: &[u32]| -> Option<Stat> {
-            let t = build_task(log, sit, pitcher, rows, blocks, "shuffled period").ok()?;
-            Some(fit(&t, settings, false).1)
-        };
-        Some(abs_difference(stat(&rb)?, stat(&ra)?))
+        let b = cross_fit(log, sit, pitcher, &rb, settings, "shuffled period").ok()?;
+        let a = cross_fit(log, sit, pitcher, &ra, settings, "shuffled period").ok()?;
+        Some((studentised(&b, &a), a.figures.bits_gained - b.figures.bits_gained, a.figures.lift - b.figures.lift))
     };
     let m = permutations;
     // As in audit::permute: each null value is fed to the stopping rule as
-    // 1 (reaches the observed pair) or 0, against 0.5.
+    // 1 (|T| reaches the observed one) or 0, against 0.5.
     let mut seq = SequentialPermutation::new(0.5, m, settings.stop_after_exceedances);
+    let (mut spread_bits, mut spread_lift) = (Vec::new(), Vec::new());
     let mut start = 0;
     while start < m && !seq.is_done() {
         let end = (start + BATCH).min(m);
-        let null: Vec<Option<Stat>> = (start..end).into_par_iter().map(one).collect();
+        let null: Vec<Option<(f64, f64, f64)>> = (start..end).into_par_iter().map(one).collect();
         for s in null {
             if seq.is_done() {
                 break;
             }
-            // A shuffle that cannot be scored counts as reaching the
-            // observed value, the conservative choice.
-            seq.push(if s.map(|s| s.reaches(&observed)).unwrap_or(true) { 1.0 } else { 0.0 });
+            // A deal that cannot be scored counts as reaching the observed
+            // value, the conservative choice.
+            let reaches = match s {
+                Some((t, d, l)) => {
+                    spread_bits.push(d.abs());
+                    if l.is_finite() {
+                        spread_lift.push(l.abs());
+                    }
+                    t.abs() >= t_obs.abs() * (1.0 - 1e-9)
+                }
+                None => true,
+            };
+            seq.push(if reaches { 1.0 } else { 0.0 });
         }
         progress((end - start) as u64);
         start = end;
     }
-    SwapResult { p: seq.p_value(), permutations: seq.permutations_run(), stopped_early: seq.stopped_early() }
+    let half = |mut v: Vec<f64>| -> Option<f64> {
+        if v.is_empty() {
+            return None;
+        }
+        v.sort_by(f64::total_cmp);
+        // The ceil(0.95 (m + 1))-th smallest, capped at the largest.
+        let k = ((0.95 * (v.len() + 1) as f64).ceil() as usize).clamp(1, v.len());
+        Some(v[k - 1])
+    };
+    let bits_half = half(spread_bits).unwrap_or(0.0);
+    let lift_interval = half(spread_lift).filter(|_| l_obs.is_finite()).map(|h| Interval { low: l_obs - h, high: l_obs + h });
+    SwapResult {
+        p: seq.p_value(),
+        permutations: seq.permutations_run(),
+        stopped_early: seq.stopped_early(),
+        t: t_obs,
+        bits_interval: Interval { low: d_obs - bits_half, high: d_obs + bits_half },
+        lift_interval,
+    }
+}
+
+/// Last period's tendencies on this period's games: the before model
+/// (priors and tree fitted on every before game) scores the after games,
+/// its probabilities carried onto his after mix (each type's probability
+/// times after share / before share, renormalised), against that mix as
+/// the plain guess. Bits per pitch; `None` when no after game can be
+/// scored (every after pitch of a type new to him is left out).
+pub fn transfer(log: &PitchLog, sit: &Situations, pitcher: u32, rows_before: &[u32], rows_after: &[u32], settings: &Settings) -> Option<f64> {
+    let mut rows: Vec<u32> = rows_before.iter().chain(rows_after).copied().collect();
+    rows.sort_unstable();
+    let n = log.len();
+    let mut test_fold = vec![None; n];
+    let mut train_from = vec![None; n];
+    let mut held_out = vec![false; n];
+    let mut discovery = vec![false; n];
+    for &r in rows_before {
+        train_from[r as usize] = Some(0);
+        discovery[r as usize] = true;
+    }
+    for &r in rows_after {
+        test_fold[r as usize] = Some(0);
+        held_out[r as usize] = true;
+    }
+    let plan = Plan {
+        scheme: crate::evaluate::split::Scheme::CrossFit { fold: 0, folds: 1 },
+        test_fold,
+        train_from,
+        n_folds: 1,
+        discovery,
+        held_out,
+        train_label: "the before period".into(),
+        test_label: "the after period".into(),
+        tells_label: "the after period".into(),
+    };
+    let task = PitcherTask::build(log, sit, &plan.local(log, &rows), pitcher, rows.clone());
+    let mut ws = Workspace::new(&task);
+    let scored = fit_and_score(&task, &task.labels, settings, &mut ws, true);
+    let k = task.n_classes;
+    // His counts of each class before (training rows) and after (scored).
+    // A type he did not throw before cannot be guessed by the before
+    // model: its pitches are left out (as `unseen` in the audit), and both
+    // guesses share out only the types he threw before, so a new pitch
+    // never shows as a gain or a loss.
+    let (mut before, mut after) = (vec![0.0; k], vec![0.0; k]);
+    let mut is_after = vec![false; task.labels.len()];
+    for &i in &task.held_out {
+        is_after[i as usize] = true;
+    }
+    for (i, &y) in task.labels.iter().enumerate() {
+        if is_after[i] {
+            after[y as usize] += 1.0;
+        } else {
+            before[y as usize] += 1.0;
+        }
+    }
+    let seen: Vec<bool> = before.iter().map(|&b| b > 0.0).collect();
+    // Add-one smoothing over the seen types, so no type is impossible.
+    let (tb, ta): (f64, f64) = (0..k).filter(|&c| seen[c]).fold((0.0, 0.0), |(x, y), c| (x + before[c] + 1.0, y + after[c] + 1.0));
+    let share_after = |c: usize| (after[c] + 1.0) / ta;
+    let tilt: Vec<f64> = (0..k).map(|c| if seen[c] { share_after(c) / ((before[c] + 1.0) / tb) } else { 0.0 }).collect();
+    let (mut bits, mut n) = (0.0, 0.0);
+    for (i, &r) in scored.rows.iter().enumerate() {
+        let y = task.labels[r as usize] as usize;
+        if !seen[y] {
+            continue;
+        }
+        let m = scored.model_row(i);
+        let z: f64 = (0..k).map(|c| m[c] * tilt[c]).sum();
+        if z <= 0.0 {
+            continue;
+        }
+        bits += ((m[y] * tilt[y] / z) / share_after(y)).log2();
+        n += 1.0;
+    }
+    (n > 0.0).then(|| bits / n)
 }
 
 #[cfg(test)]

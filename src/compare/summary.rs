@@ -94,7 +94,9 @@ pub struct Change {
     pub effect_measure: String,
     pub n_before: usize,
     pub n_after: usize,
-    /// 95% bootstrap interval of the effect (predictability).
+    /// 95% interval of the effect (predictability: the observed change ±
+    /// the 95% point of the change over the label-swap deals, each
+    /// refitted).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub interval: Option<Interval>,
     /// `g_test`, `monte_carlo_g`, `label_swap_permutation`; for a tell, the
@@ -106,11 +108,14 @@ pub struct Change {
     pub dof: Option<usize>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub permutations: Option<usize>,
-    /// p-value and Benjamini–Hochberg q-value over every test of the run. A
-    /// tell in a single count carries those of that count's mix shift; other
-    /// tells have none (see `tells_change`).
+    /// p-value and Benjamini–Hochberg q-value within the test's `family`.
+    /// A tell in a single count carries those of that count's mix shift;
+    /// other tells have none (see `tells_change`).
     pub p: Option<f64>,
     pub q: Option<f64>,
+    /// The BH family the q-value belongs to: `predictability` (one test
+    /// per pitcher) or `mix and pitches` (every other test of the run).
+    pub family: String,
     /// q at or below the run's false discovery rate.
     pub significant: bool,
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -159,7 +164,7 @@ pub struct CountChange {
     pub tested: bool,
 }
 
-/// Held-out figures of one period (or season), forward-chained within it.
+/// Held-out figures of one period (or season), cross-fitted over its games.
 #[derive(Debug, Clone, Serialize)]
 pub struct PeriodFigures {
     pub label: String,
@@ -191,6 +196,14 @@ pub struct Predictability {
     pub q: f64,
     pub permutations: usize,
     pub stopped_early: bool,
+    /// The studentised change the label-swap test ranks.
+    pub studentised_statistic: f64,
+    /// The before period's model on the after games, carried onto his
+    /// after mix, against that mix (bits per pitch; `None` when nothing
+    /// could be scored).
+    pub transfer_bits: Option<f64>,
+    /// The BH family of `q`.
+    pub family: String,
 }
 
 #[derive(Debug, Clone, Serialize)]

@@ -122,7 +122,7 @@ pub fn change_text(c: &Change, before: &str, after: &str) -> String {
             let which = if c.effect < 0.0 { "Less" } else { "More" };
             let iv = c.interval.map(|i| format!(", 95% interval {} to {}", bits_text(i.low), bits_text(i.high))).unwrap_or_default();
             format!(
-                "{which} predictable from the situation in {after}: held-out bits gained per pitch went from {} in {before} to {} (difference {}{iv}), {q}.",
+                "{which} predictable from the situation in {after}: held-out bits gained per pitch went from {} in {before} to {} (difference {}{iv}), {q} among the run's predictability tests.",
                 bits_text(c.before),
                 bits_text(c.after),
                 bits_text(c.effect)
@@ -286,7 +286,15 @@ pub fn summary_lines(p: &PitcherChanges, before: &str, after: &str, fdr: f64) ->
         lines.push(line);
     }
     for c in p.changes.iter().filter(|c| c.kind == "predictability" && c.significant) {
-        lines.push(c.text.clone());
+        let mut line = c.text.clone();
+        if let Some(t) = p.predictability.as_ref().and_then(|x| x.transfer_bits) {
+            let verdict = if t <= 0.005 { "last period's tendencies no longer work" } else { "some of last period's tendencies still work" };
+            line.push_str(&format!(
+                " His {before} model guessing his {after} pitches: {} bits per pitch over his {after} mix — {verdict}.",
+                bits_text(t)
+            ));
+        }
+        lines.push(line);
     }
     if lines.is_empty() {
         lines.push(format!(

@@ -18,6 +18,10 @@ pub enum Scheme {
     /// each scored by a model fitted on everything of his before it
     /// (earlier seasons and earlier blocks).
     Rolling { blocks: usize },
+    /// One fold of cross-fitting within a set of games: the games of fold
+    /// `fold` (of `folds`, dealt by date rank) scored by a model fitted on
+    /// the others.
+    CrossFit { fold: usize, folds: usize },
 }
 
 /// One pitcher's evaluation, as `summary.json` and the report state it.
@@ -347,6 +351,49 @@ impl Plan {
         })
     }
 
+    /// Fold `fold` of `folds`-fold cross-fitting over `rows`' games: the
+    /// games, in date order, are dealt to folds by rank (game i to fold
+    /// i mod folds, so every fold spans the whole period and a drifting
+    /// mix is in every fold alike); the fold's games are scored by a model
+    /// fitted on every other game of `rows`. `compare` scores each period
+    /// with all its folds, so every game is scored by a model that did not
+    /// see it.
+    pub fn cross_fit(log: &PitchLog, rows: &[u32], folds: usize, fold: usize, label: &str) -> Result<Plan> {
+        let n = log.len();
+        let mut games: Vec<(i32, u32)> = rows.iter().map(|&r| (log.date[r as usize], log.game[r as usize])).collect();
+        games.sort_unstable();
+        games.dedup();
+        if folds < 2 || games.len() < folds {
+            return Err(Error::Data(format!("{label}: {} games, fewer than the {folds} folds cross-fitting needs", games.len())));
+        }
+        let mut test_fold = vec![None; n];
+        let mut train_from = vec![None; n];
+        let mut held_out = vec![false; n];
+        let mut discovery = vec![false; n];
+        for &r in rows {
+            let r = r as usize;
+            let i = games.binary_search(&(log.date[r], log.game[r])).expect("game listed above");
+            if i % folds == fold {
+                test_fold[r] = Some(0);
+                held_out[r] = true;
+            } else {
+                train_from[r] = Some(0);
+                discovery[r] = true;
+            }
+        }
+        Ok(Plan {
+            scheme: Scheme::CrossFit { fold, folds },
+            test_fold,
+            train_from,
+            n_folds: 1,
+            discovery,
+            held_out,
+            train_label: format!("his other games of {label}"),
+            test_label: format!("every game of {label}, each scored by a model fitted on his other games there ({folds} folds)"),
+            tells_label: format!("fold {} of {label}", fold + 1),
+        })
+    }
+
     /// Does row `i` train fold `f`?
     #[inline]
     pub fn trains(&self, i: usize, f: usize) -> bool {
@@ -358,6 +405,7 @@ impl Plan {
             Scheme::SeasonForward { .. } => "season-forward",
             Scheme::ForwardChaining { .. } => "forward-chaining",
             Scheme::Rolling { .. } => "rolling",
+            Scheme::CrossFit { .. } => "cross-fitted",
         }
     }
 

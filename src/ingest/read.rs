@@ -2,6 +2,7 @@
 //! columns the contract knows are kept; everything is read as text so the
 //! validator can name the line and the value of every breach.
 
+use crate::error::catch_decode;
 use crate::error::{Error, Result};
 use polars::prelude::*;
 use std::path::Path;
@@ -207,6 +208,110 @@ fn polars_err(path: &Path, e: PolarsError) -> Error {
     }
 }
 
+/// Rows a Parquet file may declare: far more than every tracked pitch there
+/// is (about 12 million), so a damaged footer claiming billions is refused
+/// before anything is allocated for it.
+pub const MAX_PARQUET_ROWS: usize = 200_000_000;
+
+/// A damaged Parquet file, in one sentence (exit 3).
+fn damaged(path: &Path, what: &str, detail: &str) -> Error {
+    Error::Data(format!(
+        "{}: {what} could not be decoded ({}); the file looks damaged or uses an encoding the reader does not support: export it again, or as CSV",
+        path.display(),
+        detail.lines().next().unwrap_or("").chars().take(200).collect::<String>()
+    ))
+}
+
+/// The Parquet file's column names, after checking its footer (row counts,
+/// every column chunk inside the file and of a plausible size) and the type
+/// of each wanted column, so nothing is decoded from a footer that lies.
+fn parquet_header(path: &Path, wanted: &[String], file_len: u64) -> Result<Vec<String>> {
+    let read = catch_decode(|| -> PolarsResult<(std::sync::Arc<ArrowSchema>, std::sync::Arc<polars::io::parquet::read::FileMetadata>)> {
+        let file = std::fs::File::open(path).map_err(|e| PolarsError::IO { error: std::sync::Arc::new(e), msg: None })?;
+        let mut r = ParquetReader::new(file);
+        let meta = r.get_metadata()?.clone();
+        Ok((r.schema()?, meta))
+    });
+    let (schema, meta) = match read {
+        Err(panic) => return Err(damaged(path, "the file's footer (its metadata)", panic.as_str())),
+        Ok(Err(e)) => return Err(polars_err(path, e)),
+        Ok(Ok(x)) => x,
+    };
+    if meta.num_rows > MAX_PARQUET_ROWS {
+        return Err(damaged(path, "the file's footer", &format!("it declares {} rows, more than the {MAX_PARQUET_ROWS} a pitch log can hold", meta.num_rows)));
+    }
+    let mut rows = 0usize;
+    for (g, rg) in meta.row_groups.iter().enumerate() {
+        rows = rows.saturating_add(rg.num_rows());
+        for c in rg.parquet_columns() {
+            let range = c.byte_range();
+            let name = c.descriptor().path_in_schema.join(".");
+            let bad = if range.end > file_len || range.start > range.end {
+                Some(format!("row group {g}, column {name}: its data lies outside the file"))
+            } else if c.num_values() < 0 || c.num_values() as u64 > rg.num_rows() as u64 * 64 + 1024 {
+                Some(format!("row group {g}, column {name}: {} values declared for {} rows", c.num_values(), rg.num_rows()))
+            } else if c.uncompressed_size() < 0 || c.compressed_size() < 0 || c.uncompressed_size() > (1i64 << 34) {
+                Some(format!("row group {g}, column {name}: declared sizes {} / {} bytes", c.compressed_size(), c.uncompressed_size()))
+            } else {
+                None
+            };
+            if let Some(b) = bad {
+                return Err(damaged(path, "the file's footer", &b));
+            }
+        }
+    }
+    if rows != meta.num_rows {
+        return Err(damaged(path, "the file's footer", &format!("its row groups hold {rows} rows, the file declares {}", meta.num_rows)));
+    }
+    for (name, field) in schema.iter() {
+        if !wanted.iter().any(|w| w == name.as_str()) {
+            continue;
+        }
+        use polars::prelude::ArrowDataType as A;
+        let ok = matches!(
+            field.dtype(),
+            A::Null | A::Boolean | A::Int8 | A::Int16 | A::Int32 | A::Int64 | A::UInt8 | A::UInt16 | A::UInt32 | A::UInt64
+                | A::Float32 | A::Float64 | A::Utf8 | A::LargeUtf8 | A::Utf8View | A::Binary | A::LargeBinary | A::BinaryView
+                | A::Decimal(..) | A::Decimal32(..) | A::Decimal64(..) | A::Date32 | A::Date64 | A::Timestamp(..) | A::Dictionary(..)
+        );
+        if !ok {
+            return Err(Error::Data(format!(
+                "{}: column \"{name}\" is stored as {:?}, which a pitch log column cannot be; store it as text, numbers or a date",
+                path.display(),
+                field.dtype()
+            )));
+        }
+    }
+    Ok(schema.iter_names().map(|s| s.to_string()).collect())
+}
+
+/// Read a few Parquet columns; a decoder that fails or panics on damaged
+/// data is retried column by column so the error names the column.
+fn parquet_columns(path: &Path, group: &[String]) -> Result<DataFrame> {
+    let read = |cols: &[String]| {
+        catch_decode(|| -> PolarsResult<DataFrame> {
+            let file = std::fs::File::open(path).map_err(|e| PolarsError::IO { error: std::sync::Arc::new(e), msg: None })?;
+            ParquetReader::new(file).with_columns(Some(cols.to_vec())).finish()
+        })
+    };
+    let failure = |r: std::result::Result<PolarsResult<DataFrame>, String>| match r {
+        Ok(Ok(_)) => None,
+        Ok(Err(e)) => Some(e.to_string()),
+        Err(panic) => Some(panic),
+    };
+    match read(group) {
+        Ok(Ok(df)) => Ok(df),
+        first => {
+            for c in group {
+                if let Some(why) = failure(read(std::slice::from_ref(c))) {
+                    return Err(damaged(path, &format!("column \"{c}\""), &why));
+                }
+            }
+            Err(damaged(path, &format!("columns {}", group.join(", ")), &failure(first).unwrap_or_default()))
+        }
+    }
+}
+
 /// The CSV header as written (first line, comma-separated, double quotes
 /// honoured, values trimmed); `None` when it cannot be read as text.
 fn raw_csv_header(path: &Path) -> Option<Vec<String>> {
@@ -260,11 +365,7 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
     let format = Format::of(path);
     let header: Vec<String> = match format {
         Format::Csv => csv_header(path)?,
-        Format::Parquet => {
-            let file = std::fs::File::open(path).map_err(|e| Error::io(path, "open the file", e))?;
-            let schema = ParquetReader::new(file).schema().map_err(|e| polars_err(path, e))?;
-            schema.iter_names().map(|s| s.to_string()).collect()
-        }
+        Format::Parquet => parquet_header(path, wanted, meta.len())?,
     };
     // A wanted column named twice in the header would be read first-wins,
     // silently: refuse it, naming it. (Polars renames a CSV's duplicate
@@ -317,10 +418,7 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
                         .finish()
                         .map_err(|e| polars_err(path, e))?
                 }
-                Format::Parquet => {
-                    let file = std::fs::File::open(path).map_err(|e| Error::io(path, "open the file", e))?;
-                    ParquetReader::new(file).with_columns(Some(group.to_vec())).finish().map_err(|e| polars_err(path, e))?
-                }
+                Format::Parquet => parquet_columns(path, group)?,
             };
             n_rows = Some(df.height());
             // Each column is dictionary-coded on its own, so columns are coded
@@ -331,7 +429,16 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
                 .par_iter()
                 .map(|col| {
                     let name = col.name().to_string();
-                    let s = col.as_materialized_series().cast(&DataType::String).map_err(|e| {
+                    // A timestamp is read as its calendar date (as stored,
+                    // UTC for a zoned one): the contract's `date` is a day.
+                    let series = col.as_materialized_series();
+                    let series = match series.dtype() {
+                        DataType::Datetime(..) => series.cast(&DataType::Date).map_err(|e| {
+                            Error::Data(format!("{}: column {name} holds timestamps that cannot be read as dates ({e})", path.display()))
+                        })?,
+                        _ => series.clone(),
+                    };
+                    let s = series.cast(&DataType::String).map_err(|e| {
                         Error::Data(format!("{}: column {name} cannot be read as text ({e}); store it as text or numbers", path.display()))
                     })?;
                     let ca = s.str().map_err(|e| Error::Internal(e.to_string()))?;

@@ -63,6 +63,7 @@ pub fn changes_csv(s: &CompareSummary) -> Result<Vec<u8>> {
         .opt_f64("p", rows.iter().map(|(_, c)| c.p).collect())
         .opt_f64("q", rows.iter().map(|(_, c)| c.q).collect())
         .bool("significant", rows.iter().map(|(_, c)| c.significant).collect())
+        .str("family", rows.iter().map(|(_, c)| c.family.clone()).collect())
         .opt_str("among", rows.iter().map(|(_, c)| c.among.clone()).collect())
         .opt_f64("tell_q_before", rows.iter().map(|(_, c)| c.tell_q_before).collect())
         .opt_f64("tell_q_after", rows.iter().map(|(_, c)| c.tell_q_after).collect())
@@ -127,7 +128,7 @@ fn pitcher_charts(s: &CompareSummary, p: &PitcherChanges, stem: &str) -> Result<
         let c = charts::compare_predictability(&charts::ComparePredictabilityInput {
             pitcher: p.pitcher.clone(),
             periods: vec![period(&pr.before), period(&pr.after)],
-            interval_label: "95% bootstrap interval (games resampled)".into(),
+            interval_label: "95% interval, games resampled with the models held fixed (scoring noise only)".into(),
         })
         .map_err(chart_err)?;
         out.push(Chart { name: format!("compare-predictability-{stem}"), ..c });
@@ -146,7 +147,7 @@ fn pitcher_charts(s: &CompareSummary, p: &PitcherChanges, stem: &str) -> Result<
                     upper: tidy(f.bits_interval.high),
                 })
                 .collect(),
-            interval_label: "95% bootstrap interval (games resampled), each season scored on its own".into(),
+            interval_label: "95% interval, games resampled with the models held fixed; each season cross-fitted on its own".into(),
         })
         .map_err(chart_err)?;
         out.push(Chart { name: format!("compare-predictability-by-season-{stem}"), ..c });
@@ -558,6 +559,9 @@ pub fn compare_files(cmp: &Comparison) -> Result<Vec<ReportFile>> {
         fdr_pct => format!("{:.0}%", s.settings.fdr * 100.0),
         tests => s.tests,
         significant => s.significant,
+        folds => s.settings.forward_blocks,
+        predictability_tests => s.pitchers.iter().flat_map(|p| p.changes.iter()).filter(|c| c.is_test() && c.family == crate::compare::PREDICTABILITY_FAMILY).count(),
+        mix_tests => s.pitchers.iter().flat_map(|p| p.changes.iter()).filter(|c| c.is_test() && c.family != crate::compare::PREDICTABILITY_FAMILY).count(),
         new_share => share_text(s.settings.new_pitch_share),
         absent_share => share_text(s.settings.absent_share),
         min_count => s.settings.min_count_pitches,
