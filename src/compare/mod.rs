@@ -140,29 +140,31 @@ fn prepare(log: &PitchLog, sit: &Situations, p: u32, rows: [Vec<u32>; 2], labels
                 }
             }
         };
-        if task.n_train() < settings.min_train_pitches || task.n_test() < settings.min_test_pitches {
+        fits.push(task);
+    }
+    let a = fits.pop().expect("two periods");
+    let b = fits.pop().expect("two periods");
+    let fit = |t, k: usize| predictability::fit_period(log, sit, t, settings, labels[k]);
+    let fitted = match (fit(b, 0), fit(a, 1)) {
+        (Ok(fb), Ok(fa)) => [fb, fa],
+        (Err(e), _) | (_, Err(e)) => return Prepared::Short { pitcher: p, why: format!("{e}."), rows },
+    };
+    for (f, label) in fitted.iter().zip(labels) {
+        if f.cross.n_train < settings.min_train_pitches || f.cross.figures.n < settings.min_test_pitches {
             return Prepared::Short {
                 pitcher: p,
                 why: format!(
-                    "Only {} pitches in {label} ({} to train on and {} to score, forward-chained); at least {} to train on and {} to score are needed in each period before any figure is shown.",
-                    rows_k.len(),
-                    task.n_train(),
-                    task.n_test(),
+                    "Only {} pitches in {label}: each part of the period would be guessed by a model fitted on about {} of his other pitches there; at least {} to train on and {} to score are needed in each period before any figure is shown.",
+                    f.task.rows.len(),
+                    f.cross.n_train,
                     settings.min_train_pitches,
                     settings.min_test_pitches
                 ),
                 rows,
             };
         }
-        fits.push(task);
     }
-    let a = fits.pop().expect("two periods");
-    let b = fits.pop().expect("two periods");
-    let fit = |t, k: usize| predictability::fit_period(log, sit, t, settings, labels[k]);
-    match (fit(b, 0), fit(a, 1)) {
-        (Ok(fb), Ok(fa)) => Prepared::Ready { pitcher: p, rows, fits: Box::new([fb, fa]) },
-        (Err(e), _) | (_, Err(e)) => Prepared::Short { pitcher: p, why: format!("{e}."), rows },
-    }
+    Prepared::Ready { pitcher: p, rows, fits: Box::new(fitted) }
 }
 
 /// A period's figures for the report, the interval widened to hold the
@@ -430,10 +432,10 @@ pub fn compare_log(
                     let rows: Vec<u32> = (0..log.len() as u32).filter(|&r| log.pitcher[r as usize] == *p && log.season[r as usize] == s).collect();
                     let label = s.to_string();
                     let Ok(task) = predictability::build_task(log, sit, *p, &rows, settings.forward_blocks, &label) else { continue };
-                    if task.n_train() < settings.min_train_pitches || task.n_test() < settings.min_test_pitches {
+                    let Ok(fit) = predictability::fit_period(log, sit, task, settings, &label) else { continue };
+                    if fit.cross.n_train < settings.min_train_pitches || fit.cross.figures.n < settings.min_test_pitches {
                         continue;
                     }
-                    let Ok(fit) = predictability::fit_period(log, sit, task, settings, &label) else { continue };
                     let res = predictability::resample_period(&fit.cross.games, settings.bootstrap, seed64(settings.seed, name, &format!("bootstrap season {s}")));
                     out.push(period_figures(&label, &fit, res.as_ref()));
                 }
