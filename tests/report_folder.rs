@@ -99,3 +99,70 @@ fn an_interrupted_audit_leaves_the_old_report_and_no_staging() {
     assert!(interrupted > 0);
     std::fs::remove_dir_all(&root).ok();
 }
+
+/// Killed outright (SIGKILL, nothing can be caught) while the report is
+/// written: the old report is untouched byte for byte — the new one only
+/// ever replaces it in one exchange of folders — and the next run removes
+/// the dead run's staging folder.
+#[cfg(unix)]
+#[test]
+fn a_killed_audit_never_leaves_a_mixed_report() {
+    use std::process::{Command, Stdio};
+    let root = std::env::temp_dir().join(format!("tellscope-kill-{}", std::process::id()));
+    let _ = std::fs::remove_dir_all(&root);
+    std::fs::create_dir_all(&root).unwrap();
+    let out = root.join("report");
+    let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv");
+    let bin = env!("CARGO_BIN_EXE_tellscope");
+    let run = |perms: &str| {
+        Command::new(bin)
+            .args(["audit", log.to_str().unwrap(), "--out", out.to_str().unwrap(), "--permutations", perms])
+            .stdout(Stdio::null())
+            .stderr(Stdio::null())
+            .spawn()
+            .unwrap()
+    };
+    assert!(run("9").wait().unwrap().success());
+    let snapshot = |dir: &Path| -> Vec<(String, Vec<u8>)> {
+        let mut files = Vec::new();
+        for sub in ["", "charts"] {
+            for e in std::fs::read_dir(dir.join(sub)).unwrap() {
+                let p = e.unwrap().path();
+                if p.is_file() {
+                    files.push((p.strip_prefix(dir).unwrap().display().to_string(), std::fs::read(&p).unwrap()));
+                }
+            }
+        }
+        files.sort();
+        files
+    };
+    let old = snapshot(&out);
+    for delay_ms in [0u64, 5, 20] {
+        let mut child = run("19");
+        let pid = child.id() as i32;
+        let staging = root.join(format!(".report.tellscope-new-{pid}"));
+        let start = std::time::Instant::now();
+        while !staging.exists() && child.try_wait().unwrap().is_none() && start.elapsed().as_secs() < 120 {
+            std::thread::sleep(std::time::Duration::from_millis(1));
+        }
+        std::thread::sleep(std::time::Duration::from_millis(delay_ms));
+        // SAFETY: sends a signal to our own child process.
+        unsafe { libc::kill(pid, libc::SIGKILL) };
+        let status = child.wait().unwrap();
+        let now = snapshot(&out);
+        if status.success() {
+            // The run finished first: its report is whole (every chart the
+            // page names is there).
+            let page = String::from_utf8(std::fs::read(out.join("index.html")).unwrap()).unwrap();
+            assert!(page.contains("</html>"));
+            return;
+        }
+        assert_eq!(now.len(), old.len(), "killed after {delay_ms} ms: the report folder changed its files");
+        assert!(now == old, "killed after {delay_ms} ms: the old report was changed");
+    }
+    // The next run cleans up what the killed ones left beside the folder.
+    assert!(run("9").wait().unwrap().success());
+    let left: Vec<String> = std::fs::read_dir(&root).unwrap().map(|e| e.unwrap().file_name().to_string_lossy().to_string()).filter(|n| n.starts_with('.')).collect();
+    assert!(left.is_empty(), "stale staging left: {left:?}");
+    std::fs::remove_dir_all(&root).ok();
+}
