@@ -49,3 +49,37 @@ fn null_staffs_give_uniform_model_p_values_and_no_tells() {
     let clean = (SEEDS - runs_with_a_tell) as f64 / SEEDS as f64;
     assert!(clean >= 0.95, "{runs_with_a_tell} of {SEEDS} null staffs had a flagged tell");
 }
+
+/// The early decision of `SequentialPermutation` (stop at m1 permutations
+/// when none reaches the observed statistic, p = 1/(m1 + 1); otherwise
+/// Besag–Clifford plus 1/(m1 + 1)) keeps P(p ≤ α) ≤ α under the null. The
+/// null is simulated exactly: the observed statistic and every permutation's
+/// are independent uniforms (exchangeable, no ties). For each α, the count
+/// of p ≤ α over the repeats must not exceed the 99% band's top for
+/// Binomial(n, α); the decided share must sit in the band of 1/(m1 + 1).
+#[test]
+fn an_early_decision_keeps_permutation_p_values_valid() {
+    use rand::{Rng, SeedableRng};
+    use tellscope::significance::permutation_p::SequentialPermutation;
+    let (m, h, m1) = (999, 10, SequentialPermutation::decision_size(18, 0.05));
+    assert_eq!(m1, 359);
+    let reps = 20_000u64;
+    let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(20261202);
+    let mut ps = Vec::with_capacity(reps as usize);
+    let mut decided = 0u64;
+    for _ in 0..reps {
+        let observed: f64 = rng.random();
+        let mut s = SequentialPermutation::new(observed, m, h).with_early_decision(m1);
+        while !s.push(rng.random::<f64>()) {}
+        decided += s.decided_early() as u64;
+        ps.push(s.p_value());
+    }
+    let (lo, hi) = band(reps, 1.0 / (m1 as f64 + 1.0));
+    assert!((lo..=hi).contains(&decided), "{decided} decided early of {reps}; band {lo}..={hi}");
+    for alpha in [1.0 / (m1 as f64 + 1.0), 0.01, 0.05, 0.2, 0.5] {
+        let below = ps.iter().filter(|&&p| p <= alpha + 1e-12).count() as u64;
+        let (_, hi) = band(reps, alpha);
+        assert!(below <= hi, "P(p <= {alpha}) = {below}/{reps}, above the 99% band top {hi}");
+    }
+    assert!(ps.iter().all(|&p| p >= 1.0 / (m1 as f64 + 1.0) - 1e-15));
+}

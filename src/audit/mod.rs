@@ -229,8 +229,10 @@ pub fn audit_log(
                 .par_iter()
                 .zip(observed.par_iter())
                 .map(|(t, o)| {
-                    let whole = permute::permutation_test(t, o.statistic, settings, &tick);
-                    let beyond = permute::null_test(permute::Null::BeyondSheet, t, o.beyond, settings, &tick);
+                    // Each test's BH family is the audited pitchers.
+                    let family = ok_tasks.len();
+                    let whole = permute::permutation_test(t, o.statistic, settings, family, &tick);
+                    let beyond = permute::null_test(permute::Null::BeyondSheet, t, o.beyond, settings, family, &tick);
                     (whole, beyond)
                 })
                 .collect()

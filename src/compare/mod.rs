@@ -414,7 +414,7 @@ pub fn compare_log(
         .map(|(p, rows, fits)| {
             let name = &log.pitchers[*p as usize];
             let observed = [&fits[0].cross, &fits[1].cross];
-            let swap = predictability::label_swap_test(log, sit, *p, name, &rows[0], &rows[1], observed, settings, permutations, &tick);
+            let swap = predictability::label_swap_test(log, sit, *p, name, &rows[0], &rows[1], observed, settings, permutations, ready.len(), &tick);
             (swap, predictability::transfer(log, sit, *p, &rows[0], &rows[1], settings))
         })
         .collect();

@@ -243,6 +243,7 @@ pub fn label_swap_test(
     observed: [&CrossFitted; 2],
     settings: &Settings,
     permutations: usize,
+    family: usize,
     progress: &(dyn Fn(u64) + Sync),
 ) -> SwapResult {
     let mut pooled: Vec<u32> = rows_before.iter().chain(rows_after).copied().collect();
@@ -285,7 +286,10 @@ pub fn label_swap_test(
     let m = permutations;
     // As in audit::permute: each null value is fed to the stopping rule as
     // 1 (|T| reaches the observed one) or 0, against 0.5.
-    let mut seq = SequentialPermutation::new(0.5, m, settings.stop_after_exceedances);
+    // Decided early for a clear change when the predictability family (one
+    // test per pitcher) is small enough for that to cost no rejection.
+    let mut seq = SequentialPermutation::new(0.5, m, settings.stop_after_exceedances)
+        .with_early_decision(SequentialPermutation::decision_size(family, settings.fdr));
     let (mut spread_bits, mut spread_lift) = (Vec::new(), Vec::new());
     let mut start = 0;
     while start < m && !seq.is_done() {

@@ -13,6 +13,21 @@
 //!   null effects stop after a handful of permutations; only promising ones
 //!   use the full budget.
 //!
+//! * Deciding early for a clear effect: with `with_early_decision(m1)`, a
+//!   test whose first `m1` permutations all fall below the observed
+//!   statistic (event S) stops there with p = δ = 1/(m1 + 1); every other
+//!   test goes on by Besag–Clifford, and its p_BC is reported as p_BC + δ
+//!   when p_BC < h/m1, else unchanged. Valid: on S, p_BC would have been
+//!   below h/m1 (no exceedance among the first m1 draws means either fewer
+//!   than h in all, p_BC ≤ h/(m + 1), or the h-th after draw m1, p_BC =
+//!   h/l < h/m1). So for α ≥ h/m1, P(p ≤ α) ≤ δ + P(p_BC ≤ α) − P(S) ≤ α;
+//!   for δ ≤ α < h/m1, P(p ≤ α) ≤ δ + P(p_BC ≤ α − δ) ≤ α (union bound);
+//!   and no p-value is below δ. (Our derivation from Besag & Clifford's
+//!   validity; checked by simulation in tests/calibration.rs.) The audit
+//!   picks m1 with δ ≤ fdr / N for N tests, so a test decided early is
+//!   always rejected by Benjamini–Hochberg at `fdr`, whatever the other
+//!   tests give; the price is δ added to the other small p-values.
+//!
 //! Ties: a null statistic counts as reaching the observed one when
 //! `null >= observed - 100 ε |observed|` (ε = machine epsilon), the
 //! tolerance `scipy.stats.permutation_test` uses, so that a permutation that
@@ -60,9 +75,29 @@ pub struct SequentialPermutation {
     target_exceedances: usize,
     run: usize,
     exceedances: usize,
+    /// m1 of an early decision (see the module), when below m.
+    decide_at: Option<usize>,
+    decided: bool,
 }
 
 impl SequentialPermutation {
+    /// Stop with p = 1/(m1 + 1) when none of the first `m1` permutations
+    /// reaches the observed statistic (see the module); a no-op when `m1`
+    /// is not below the budget.
+    pub fn with_early_decision(mut self, m1: usize) -> Self {
+        self.decide_at = (m1 >= 1 && m1 < self.max_permutations).then_some(m1);
+        self
+    }
+
+    /// The early-decision size for `tests` tests at false discovery rate
+    /// `fdr`: the least m1 with 1/(m1 + 1) ≤ fdr / tests.
+    pub fn decision_size(tests: usize, fdr: f64) -> usize {
+        if tests == 0 || !(fdr > 0.0) {
+            return usize::MAX;
+        }
+        ((tests as f64 / fdr).ceil() as usize).saturating_sub(1).max(1)
+    }
+
     /// `observed`: the statistic on the real labels (larger = stronger
     /// effect); `max_permutations`: m, the budget; `target_exceedances`: h
     /// (Besag & Clifford suggest h around 10–20). `h` is raised to 1 and `m`
@@ -74,6 +109,8 @@ impl SequentialPermutation {
             target_exceedances: target_exceedances.max(1),
             run: 0,
             exceedances: 0,
+            decide_at: None,
+            decided: false,
         }
     }
 
@@ -88,6 +125,9 @@ impl SequentialPermutation {
         if reaches(null_statistic, self.observed) {
             self.exceedances += 1;
         }
+        if self.decide_at == Some(self.run) && self.exceedances == 0 {
+            self.decided = true;
+        }
         self.is_done()
     }
 
@@ -98,12 +138,21 @@ impl SequentialPermutation {
         if self.is_done() {
             return 0;
         }
-        (self.target_exceedances - self.exceedances).min(self.max_permutations - self.run)
+        let left = (self.target_exceedances - self.exceedances).min(self.max_permutations - self.run);
+        match self.decide_at {
+            Some(m1) if self.exceedances == 0 && self.run < m1 => left.min(m1 - self.run),
+            _ => left,
+        }
     }
 
     /// Whether no more permutations are needed.
     pub fn is_done(&self) -> bool {
-        self.exceedances >= self.target_exceedances || self.run >= self.max_permutations
+        self.decided || self.exceedances >= self.target_exceedances || self.run >= self.max_permutations
+    }
+
+    /// Whether the test stopped early as a clear effect (see the module).
+    pub fn decided_early(&self) -> bool {
+        self.decided
     }
 
     /// Whether the test stopped on reaching `h` exceedances.
@@ -123,10 +172,19 @@ impl SequentialPermutation {
 
     /// The p-value; see the type's documentation for which formula applies.
     pub fn p_value(&self) -> f64 {
-        if self.stopped_early() {
+        if self.decided {
+            return 1.0 / (self.run as f64 + 1.0);
+        }
+        let p = if self.stopped_early() {
             self.exceedances as f64 / self.run as f64
         } else {
             permutation_p_value(self.exceedances, self.run)
+        };
+        match self.decide_at {
+            // Only a p-value an early stop could also have given (below
+            // h / m1) pays for the early decision (see the module).
+            Some(m1) if p < self.target_exceedances as f64 / m1 as f64 => (p + 1.0 / (m1 as f64 + 1.0)).min(1.0),
+            _ => p,
         }
     }
 }
@@ -189,6 +247,40 @@ mod tests {
         d.dedup();
         assert_eq!(d.len(), 60);
         assert_eq!(distinct_permutations::<u8>(&[]).len(), 1);
+    }
+
+    /// The early decision's arithmetic (see the module): decided at m1
+    /// with p = 1/(m1 + 1); a p-value below h/m1 pays 1/(m1 + 1); a larger
+    /// one is Besag–Clifford's unchanged.
+    #[test]
+    fn early_decision_rules() {
+        assert_eq!(SequentialPermutation::decision_size(18, 0.05), 359);
+        assert_eq!(SequentialPermutation::decision_size(20, 0.05), 399);
+        let mut s = SequentialPermutation::new(10.0, 999, 10).with_early_decision(359);
+        let mut n = 0;
+        while !s.push(1.0) {
+            n += 1;
+        }
+        assert_eq!((n + 1, s.decided_early(), s.stopped_early()), (359, true, false));
+        assert!((s.p_value() - 1.0 / 360.0).abs() < 1e-15);
+        // One exceedance early, then none: runs to m, p_BC = 2/1000, below
+        // h/m1 = 10/359, so 2/1000 + 1/360.
+        let mut s = SequentialPermutation::new(10.0, 999, 10).with_early_decision(359);
+        s.push(11.0);
+        while !s.push(1.0) {}
+        assert_eq!(s.permutations_run(), 999);
+        assert!((s.p_value() - (2.0 / 1000.0 + 1.0 / 360.0)).abs() < 1e-15);
+        // Ten exceedances in the first 100: p_BC = 0.1, unchanged.
+        let mut s = SequentialPermutation::new(10.0, 999, 10).with_early_decision(359);
+        for i in 0..100 {
+            s.push(if i % 10 == 9 { 11.0 } else { 1.0 });
+        }
+        assert!(s.stopped_early() && (s.p_value() - 0.1).abs() < 1e-15);
+        // An early decision at or above the budget does nothing.
+        let mut s = SequentialPermutation::new(10.0, 99, 10).with_early_decision(359);
+        while !s.push(1.0) {}
+        assert_eq!((s.permutations_run(), s.decided_early()), (99, false));
+        assert!((s.p_value() - 0.01).abs() < 1e-15);
     }
 
     #[test]
