@@ -4,6 +4,8 @@
 #   scripts/bench.sh league     also the league-scale log (768 pitchers, 1.6M pitches)
 #   scripts/bench.sh realistic  also the realistic league (32 clubs, ~1,400 pitchers, 1.5M pitches)
 #   scripts/bench.sh ingest     also a 10-million-row CSV ingest
+#   scripts/bench.sh notebook   also the analyst's notebook (benches/notebook) on the demo, and the ratio
+#   scripts/bench.sh compare    also compare of the demo's and the realistic league's two seasons
 set -euo pipefail
 cd "$(dirname "$0")/.."
 export CARGO_TARGET_DIR="${CARGO_TARGET_DIR:-/var/tmp/tellscope-target}"
@@ -24,7 +26,9 @@ run() {
     local wall rss perms
     wall=$(awk -F': ' '/Elapsed \(wall clock\)/ {n=split($2,a,":"); s=0; for(i=1;i<=n;i++) s=s*60+a[i]; print s}' "$WORK/$label.time")
     rss=$(awk -F': ' '/Maximum resident set size/ {printf "%.0f", $2/1024}' "$WORK/$label.time")
-    perms=$(python3 -c "import json,sys; s=json.load(open('$out/summary.json')); print(sum(p.get('permutations',0) for p in s['pitchers']))")
+    # Refits of both permutation tests (each a whole rolling fit, up to
+    # five folds); compare's summary counts its label swaps.
+    perms=$(python3 -c "import json,sys; s=json.load(open('$out/summary.json')); print(sum((p.get('permutations') or 0) + (p.get('beyond_permutations') or 0) + ((p.get('predictability') or {}).get('permutations') or 0) for p in s['pitchers']))")
     python3 - "$label" "$wall" "$rss" "$perms" <<'PY'
 import sys
 label, wall, rss, perms = sys.argv[1], float(sys.argv[2]), sys.argv[3], int(sys.argv[4])
@@ -92,4 +96,23 @@ PY
     wall=$(awk -F': ' '/Elapsed \(wall clock\)/ {n=split($2,a,":"); s=0; for(i=1;i<=n;i++) s=s*60+a[i]; print s}' "$WORK/ingest.time")
     rss=$(awk -F': ' '/Maximum resident set size/ {printf "%.0f", $2/1024}' "$WORK/ingest.time")
     echo "ingest 10M rows         wall $wall s   peak RSS $rss MiB"
+fi
+
+if [ "${1:-}" = "notebook" ] || [ "${1:-}" = "all" ]; then
+    # The analyst's notebook (pandas + scikit-learn, season-forward, 999
+    # label permutations, Fisher tells) against the demo's median above.
+    nb=$(python3 benches/notebook/season_forward_audit.py demo-data/demo-log.csv | awk '/^wall/ {print $2}')
+    python3 - "$nb" "${walls[@]}" <<'PY'
+import statistics, sys
+nb = float(sys.argv[1]); med = statistics.median(float(x) for x in sys.argv[2:])
+print(f"notebook on the demo    wall {nb:7.2f} s   tellscope median {med:.2f} s   {nb / med:.1f}x")
+PY
+fi
+
+if [ "${1:-}" = "compare" ] || [ "${1:-}" = "all" ]; then
+    run demo-compare compare demo-data/demo-log.csv --before 2025 --after 2026
+    if [ ! -f "$WORK/realistic-league.csv" ]; then
+        "$BIN" simulate tests/fixtures/scenarios/realistic_league.toml --out "$WORK/realistic-league.csv" --seed 1 > /dev/null
+    fi
+    run realistic-compare compare "$WORK/realistic-league.csv" --before 2025 --after 2026
 fi

@@ -305,3 +305,65 @@ fn a_device_or_a_folder_is_refused_not_read_forever() {
         assert_eq!(status.code(), Some(3), "check {path}");
     }
 }
+
+/// A query's output piped in: `cat log.csv | tellscope audit - --out R`
+/// writes the same report, file for file and byte for byte, as `tellscope
+/// audit log.csv --out R2`, but for the input's name (`stdin`); without
+/// `--out` it goes to `reports/stdin`; `check -` reads stdin too, and an
+/// error names `stdin`, not a temporary file.
+#[test]
+fn a_log_piped_to_standard_input_gives_the_same_report() {
+    use std::io::Write;
+    use std::process::Stdio;
+    let dir = scratch("stdin");
+    let log = fixture("plain-staff/demo-log.csv");
+    let text = std::fs::read(&log).unwrap();
+    let piped = |args: &[&str], input: &[u8], cwd: &Path| -> Output {
+        let mut child = bin().args(args).current_dir(cwd).stdin(Stdio::piped()).stdout(Stdio::piped()).stderr(Stdio::piped()).spawn().unwrap();
+        child.stdin.take().unwrap().write_all(input).unwrap();
+        child.wait_with_output().unwrap()
+    };
+    let a = piped(&["audit", "-", "--out", dir.join("piped").to_str().unwrap(), "--permutations", "19"], &text, &dir);
+    assert_eq!(code(&a), 0, "{}", stderr(&a));
+    let b = run(&["audit", log.to_str().unwrap(), "--out", dir.join("file").to_str().unwrap(), "--permutations", "19"]);
+    assert_eq!(code(&b), 0);
+    let shown = log.display().to_string();
+    let files = |root: &Path| -> Vec<(String, Vec<u8>)> {
+        let mut v = Vec::new();
+        for sub in ["", "charts"] {
+            for e in std::fs::read_dir(root.join(sub)).unwrap() {
+                let p = e.unwrap().path();
+                if p.is_file() {
+                    v.push((p.strip_prefix(root).unwrap().display().to_string(), std::fs::read(&p).unwrap()));
+                }
+            }
+        }
+        v.sort();
+        v
+    };
+    let (fa, fb) = (files(&dir.join("piped")), files(&dir.join("file")));
+    assert_eq!(fa.len(), fb.len());
+    for ((na, ba), (nb, bb)) in fa.iter().zip(&fb) {
+        assert_eq!(na, nb);
+        if na == "summary.json" {
+            let b_named = String::from_utf8(bb.clone()).unwrap().replace(&shown, "stdin");
+            assert_eq!(String::from_utf8(ba.clone()).unwrap(), b_named, "summary.json differs beyond the input's name");
+        } else if na != "index.html" {
+            assert!(ba == bb, "{na} differs");
+        }
+    }
+    let s: serde_json::Value = serde_json::from_slice(&std::fs::read(dir.join("piped/summary.json")).unwrap()).unwrap();
+    assert_eq!(s["input"]["path"], "stdin");
+    // Without --out: reports/stdin under the working folder.
+    let c = piped(&["audit", "-", "--permutations", "9"], &text, &dir);
+    assert_eq!(code(&c), 0, "{}", stderr(&c));
+    assert!(dir.join("reports/stdin/summary.json").exists());
+    // check - and an error on stdin.
+    let d = piped(&["check", "-"], &text, &dir);
+    assert_eq!(code(&d), 0);
+    assert!(stdout(&d).starts_with("stdin\n") && stdout(&d).contains("rows kept      39424"), "{}", stdout(&d));
+    let e = piped(&["check", "-"], b"game,date\nG1,2025-04-03\n", &dir);
+    assert_eq!(code(&e), 3);
+    assert!(stderr(&e).starts_with("tellscope: stdin: required columns"), "{}", stderr(&e));
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -59,6 +59,9 @@ pub struct Args {
 }
 
 pub fn default_out(file: &Path) -> PathBuf {
+    if file.as_os_str() == "-" {
+        return PathBuf::from("reports").join("stdin");
+    }
     let stem = file.file_stem().and_then(|s| s.to_str()).unwrap_or("audit");
     PathBuf::from("reports").join(report::safe_stem(stem))
 }
@@ -66,13 +69,18 @@ pub fn default_out(file: &Path) -> PathBuf {
 pub fn run(args: Args) -> Result<()> {
     let settings = args.log.settings(args.opts.overrides())?;
     let out = args.out.clone().unwrap_or_else(|| default_out(&args.log.file));
-    let audit = match audit::run(&args.log.file, &settings, !args.json) {
-        Ok(a) => a,
+    let input = args.log.input()?;
+    let audit = match audit::run(&input.path, &settings, !args.json) {
+        Ok(mut a) => {
+            a.summary.input.path = input.shown();
+            a
+        }
         Err(e) => {
+            let e = input.name_errors(e);
             // Unusable data: the rejected rows are still kept, with a short
             // page saying why (the run still fails with its exit code).
             if e.exit_code() == 3 {
-                if let Ok(rejected) = tellscope::ingest::rejected_rows(&args.log.file, &settings) {
+                if let Ok(rejected) = tellscope::ingest::rejected_rows(&input.path, &settings) {
                     if !rejected.is_empty() && report::write_failed_report(&out, &e.to_string(), &rejected).is_ok() {
                         eprintln!("note: {} rejected rows and why are in {}", rejected.len(), out.join("rejected.csv").display());
                     }

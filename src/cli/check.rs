@@ -20,11 +20,12 @@ pub struct Args {
 
 pub fn run(args: Args) -> Result<()> {
     let settings = args.log.settings(Overrides::default())?;
-    let ing = ingest::load(&args.log.file, &settings)?;
+    let input = args.log.input()?;
+    let ing = ingest::load(&input.path, &settings).map_err(|e| input.name_errors(e))?;
     let log = &ing.log;
     let src = &ing.source;
     let loc = src.format.locator();
-    println!("{}", src.path.display());
+    println!("{}", if input.is_stdin() { "stdin".to_string() } else { src.path.display().to_string() });
     println!("  rows read      {}", src.rows_read);
     println!("  rows kept      {}", log.len());
     println!("  rows rejected  {}", src.rows_rejected);

@@ -46,6 +46,9 @@ pub struct Args {
 }
 
 pub fn default_out(file: &Path) -> PathBuf {
+    if file.as_os_str() == "-" {
+        return PathBuf::from("reports").join("stdin-compare");
+    }
     let stem = file.file_stem().and_then(|s| s.to_str()).unwrap_or("compare");
     PathBuf::from("reports").join(format!("{}-compare", report::safe_stem(stem)))
 }
@@ -66,7 +69,9 @@ pub fn run(args: Args) -> Result<()> {
     })?;
     let out = args.out.clone().unwrap_or_else(|| default_out(&args.log.file));
     let request = Request { before, after, permutations };
-    let cmp = compare::run(&args.log.file, &settings, &request, !args.json)?;
+    let input = args.log.input()?;
+    let mut cmp = compare::run(&input.path, &settings, &request, !args.json).map_err(|e| input.name_errors(e))?;
+    cmp.summary.input.path = input.shown();
     report::write_all(&out, &report::compare::compare_files(&cmp)?)?;
     if args.json {
         print!("{}", report::compare::summary_json(&cmp.summary)?);

@@ -36,7 +36,8 @@ pub enum Command {
 /// Options every command that reads a log shares.
 #[derive(clap::Args, Debug, Clone)]
 pub struct LogArgs {
-    /// The pitch log, CSV or Parquet.
+    /// The pitch log, CSV or Parquet; `-` reads CSV from standard input (a
+    /// query's output piped in).
     pub file: PathBuf,
     /// A TOML config file ([columns], [pitch_groups], [audit], [model], [tells]).
     #[arg(long, value_name = "C")]
@@ -46,7 +47,70 @@ pub struct LogArgs {
     pub strict: bool,
 }
 
+/// The log a command reads: the file named, or standard input spooled to
+/// a file of its own (removed when this is dropped), so a piped log is
+/// read, checked and reported exactly as the same CSV on disk would be.
+pub struct LogInput {
+    pub path: PathBuf,
+    spool: Option<PathBuf>,
+}
+
+impl LogInput {
+    /// Whether the log came from standard input.
+    pub fn is_stdin(&self) -> bool {
+        self.spool.is_some()
+    }
+
+    /// `e` with the spool file's path shown as `stdin`.
+    pub fn name_errors(&self, e: tellscope::Error) -> tellscope::Error {
+        use tellscope::Error as E;
+        if !self.is_stdin() {
+            return e;
+        }
+        let p = self.path.display().to_string();
+        let f = |m: String| m.replace(&p, "stdin");
+        match e {
+            E::Usage(m) => E::Usage(f(m)),
+            E::Data(m) => E::Data(f(m)),
+            E::Io(m) => E::Io(f(m)),
+            E::Internal(m) => E::Internal(f(m)),
+        }
+    }
+
+    /// The name to record as the input: `stdin` for standard input.
+    pub fn shown(&self) -> String {
+        if self.is_stdin() {
+            "stdin".into()
+        } else {
+            self.path.display().to_string()
+        }
+    }
+}
+
+impl Drop for LogInput {
+    fn drop(&mut self) {
+        if let Some(d) = &self.spool {
+            let _ = std::fs::remove_dir_all(d);
+        }
+    }
+}
+
 impl LogArgs {
+    /// The log to read; `-` spools standard input first.
+    pub fn input(&self) -> Result<LogInput> {
+        if self.file.as_os_str() != "-" {
+            return Ok(LogInput { path: self.file.clone(), spool: None });
+        }
+        let dir = std::env::temp_dir().join(format!("tellscope-stdin-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).map_err(|e| tellscope::Error::io(&dir, "create a folder for standard input", e))?;
+        let path = dir.join("stdin.csv");
+        let input = LogInput { path: path.clone(), spool: Some(dir) };
+        let mut file = std::fs::File::create(&path).map_err(|e| tellscope::Error::io(&path, "write standard input", e))?;
+        std::io::copy(&mut std::io::stdin().lock(), &mut file)
+            .map_err(|e| tellscope::Error::Io(format!("stdin: could not be read ({e})")))?;
+        Ok(input)
+    }
+
     pub fn settings(&self, o: Overrides) -> Result<Settings> {
         let cfg = match &self.config {
             Some(p) => ConfigFile::load(p)?,
