@@ -152,6 +152,9 @@ pub struct Settings {
     pub strict: bool,
     pub test_season: Option<i32>,
     pub pitchers: Vec<String>,
+    /// `--team`: audit the pitchers who pitched for this club in the log's
+    /// latest season; every other pitcher is the league.
+    pub team: Option<String>,
 }
 
 /// Flags that override the config file.
@@ -163,6 +166,7 @@ pub struct Overrides {
     pub strict: bool,
     pub test_season: Option<i32>,
     pub pitchers: Vec<String>,
+    pub team: Option<String>,
 }
 
 pub const DEFAULT_SEED: u64 = 20_260_401;
@@ -341,6 +345,7 @@ impl Settings {
             strict: o.strict,
             test_season: o.test_season,
             pitchers: o.pitchers.clone(),
+            team: o.team.clone(),
         })
     }
 

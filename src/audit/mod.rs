@@ -152,25 +152,67 @@ pub fn input_notes(sit: &Situations, source: &ingest::SourceInfo, left_out: &str
     notes
 }
 
-/// The pitchers a run covers: all, or those named by --pitcher (a name not
-/// in the log is a usage error).
+/// The pitchers a run covers: all; those who pitched for `--team` in the
+/// log's latest season; those named by `--pitcher` (among the team's, with
+/// both). A name or club not in the log is a usage error.
 pub fn selected_pitchers(log: &ingest::PitchLog, settings: &Settings) -> Result<Vec<u32>> {
-    if settings.pitchers.is_empty() {
-        return Ok((0..log.pitchers.len() as u32).collect());
-    }
-    let mut out = Vec::new();
-    for p in &settings.pitchers {
-        match log.pitchers.iter().position(|q| q == p) {
-            Some(i) => out.push(i as u32),
-            None => {
-                return Err(Error::Usage(format!(
-                    "--pitcher \"{p}\" is not in the log; run `tellscope check` to list the pitchers"
-                )))
+    let mut out: Vec<u32> = match &settings.team {
+        None => (0..log.pitchers.len() as u32).collect(),
+        Some(team) => team_pitchers(log, team)?,
+    };
+    if !settings.pitchers.is_empty() {
+        let mut named = Vec::new();
+        for p in &settings.pitchers {
+            match log.pitchers.iter().position(|q| q == p) {
+                Some(i) if out.contains(&(i as u32)) => named.push(i as u32),
+                Some(_) => {
+                    return Err(Error::Usage(format!(
+                        "--pitcher \"{p}\" did not pitch for {} in the log's latest season; leave out --team or name one of its pitchers",
+                        settings.team.as_deref().unwrap_or("the club")
+                    )))
+                }
+                None => {
+                    return Err(Error::Usage(format!(
+                        "--pitcher \"{p}\" is not in the log; run `tellscope check` to list the pitchers"
+                    )))
+                }
             }
         }
+        out = named;
     }
     out.sort_unstable();
     out.dedup();
+    Ok(out)
+}
+
+/// Pitchers with a pitch for `team` in the log's latest season.
+pub fn team_pitchers(log: &ingest::PitchLog, team: &str) -> Result<Vec<u32>> {
+    let Some(teams) = log.team.as_ref() else {
+        return Err(Error::Usage(format!(
+            "--team \"{team}\": the log has no `team` column, so its pitchers' clubs are unknown; add the column (or map it with [columns]) or leave out --team"
+        )));
+    };
+    let latest = log.season.iter().copied().max().unwrap_or(0);
+    let Some(t) = log.teams.iter().position(|x| x == team).map(|t| t as u32) else {
+        let mut known: Vec<&str> = (0..log.len())
+            .filter(|&i| log.season[i] == latest)
+            .filter_map(|i| teams[i].map(|t| log.teams[t as usize].as_str()))
+            .collect();
+        known.sort_unstable();
+        known.dedup();
+        let shown: Vec<String> = known.iter().take(6).map(|k| format!("\"{k}\"")).collect();
+        return Err(Error::Usage(format!(
+            "--team \"{team}\" is not in the log's `team` column; clubs in {latest} include {}{}",
+            shown.join(", "),
+            if known.len() > 6 { ", ..." } else { "" }
+        )));
+    };
+    let mut out: Vec<u32> = (0..log.len()).filter(|&i| log.season[i] == latest && teams[i] == Some(t)).map(|i| log.pitcher[i]).collect();
+    out.sort_unstable();
+    out.dedup();
+    if out.is_empty() {
+        return Err(Error::Usage(format!("--team \"{team}\" has no pitch in the log's latest season ({latest}); audit a club that played in it")));
+    }
     Ok(out)
 }
 
@@ -258,6 +300,27 @@ pub fn audit_log(
         for &r in &task.rows {
             *pitches_by_season.entry(log.season[r as usize]).or_insert(0usize) += 1;
         }
+        let pitches_by_team = match (&settings.team, &log.team) {
+            (Some(_), Some(teams)) => {
+                let mut by: BTreeMap<(i32, String), usize> = BTreeMap::new();
+                for &r in &task.rows {
+                    let club = teams[r as usize].map(|t| log.teams[t as usize].clone()).unwrap_or_else(|| "unknown".into());
+                    *by.entry((log.season[r as usize], club)).or_insert(0) += 1;
+                }
+                by.into_iter().map(|((season, team), pitches)| summary::TeamPitches { season, team, pitches }).collect()
+            }
+            _ => Vec::new(),
+        };
+        let team_caution = settings.team.as_ref().and_then(|team| {
+            let elsewhere: Vec<&summary::TeamPitches> = pitches_by_team.iter().filter(|t| &t.team != team).collect();
+            (!elsewhere.is_empty()).then(|| {
+                let parts: Vec<String> = pitches_by_team.iter().map(|t| format!("{} for {} in {}", t.pitches, t.team, t.season)).collect();
+                format!(
+                    "Not all his pitches were for {team}: {}. All of them are used here, since they are all his habits; how he pitched for another club may differ from how he pitches for this one.",
+                    parts.join(", ")
+                )
+            })
+        });
         if !enough(task) {
             let reason = format!(
                 "{} pitches in the log ({}); the models could learn from at most {} of them and score {}, and at least {} to learn from and {} to score are needed before any figure is shown",
@@ -275,6 +338,7 @@ pub fn audit_log(
                 n_train: task.n_train(),
                 n_test: task.n_test(),
                 pitches_by_season,
+                pitches_by_team: pitches_by_team.clone(),
                 evaluation: task.evaluation.clone(),
                 reason: Some(reason.clone()),
                 mix: None,
@@ -345,7 +409,7 @@ pub fn audit_log(
         // Categorical Data Analysis, 10.1), relative to the prior's accuracy.
         let n_scored = o.scored.rows.len().max(1) as f64;
         let lift_margin = 3.0 * (o.discordant as f64).sqrt() / n_scored / o.figures.prior_accuracy.max(1e-9);
-        let mut cautions = Vec::new();
+        let mut cautions: Vec<String> = team_caution.iter().cloned().collect();
         if task.n_test() < 300 {
             cautions.push(format!(
                 "Only {} held-out pitches: per-count figures rest on few pitches and can swing by chance.",
@@ -416,6 +480,7 @@ pub fn audit_log(
             n_train: task.n_train(),
             n_test: task.n_test(),
             pitches_by_season,
+            pitches_by_team,
             evaluation: task.evaluation.clone(),
             reason: None,
             mix: Some(mix),
@@ -456,6 +521,15 @@ pub fn audit_log(
         });
     }
     let mut notes = input_notes(sit, &source, "left out");
+    if let Some(team) = &settings.team {
+        let latest = log.season.iter().copied().max().unwrap_or(0);
+        notes.push(format!(
+            "--team {team}: {} who pitched for {team} in {latest} {}, with all their pitches in the log (a traded pitcher's pitches for other clubs included, and said so); the log's other {} pitchers are the league.",
+            if chosen.len() == 1 { "the one pitcher".to_string() } else { format!("the {} pitchers", chosen.len()) },
+            if chosen.len() == 1 { "is audited" } else { "are audited" },
+            log.pitchers.len() - chosen.len()
+        ));
+    }
     if log.result.is_none() {
         notes.push(
             "The log has no `result` column, so whether a tell costs him (whiffs, called and swinging strikes, balls in play of the tell's pitch against comparable spots) cannot be shown; add `result` to see it.".into(),

@@ -142,6 +142,10 @@ pub struct PitcherSummary {
     pub n_test: usize,
     /// His pitches in the log, by season.
     pub pitches_by_season: BTreeMap<i32, usize>,
+    /// With `--team`: his pitches by season and club (a traded pitcher's
+    /// pitches for other clubs are kept and used).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub pitches_by_team: Vec<TeamPitches>,
     /// His own evaluation: scheme, what was trained on, what was scored.
     pub evaluation: crate::evaluate::split::PitcherEvaluation,
     /// Why he has no figures (insufficient data only).
@@ -250,4 +254,12 @@ impl PitcherSummary {
     pub fn is_ok(&self) -> bool {
         self.status == "ok"
     }
+}
+
+/// Pitches of one pitcher for one club in one season.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TeamPitches {
+    pub season: i32,
+    pub team: String,
+    pub pitches: usize,
 }

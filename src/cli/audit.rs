@@ -17,6 +17,10 @@ pub struct AuditOptions {
     /// Audit only this pitcher (repeatable).
     #[arg(long = "pitcher", value_name = "P")]
     pub pitchers: Vec<String>,
+    /// Audit the pitchers who pitched for club T in the log's latest season
+    /// (all their pitches); every other pitcher in the log is the league.
+    #[arg(long, value_name = "T")]
+    pub team: Option<String>,
     /// The held-out season (default: the latest).
     #[arg(long, value_name = "Y")]
     pub test_season: Option<i32>,
@@ -40,6 +44,7 @@ impl AuditOptions {
             strict: false,
             test_season: self.test_season,
             pitchers: self.pitchers.clone(),
+            team: self.team.clone(),
         }
     }
 }

@@ -31,13 +31,17 @@ pub struct Args {
     /// Compare only this pitcher (repeatable).
     #[arg(long = "pitcher", value_name = "P")]
     pub pitchers: Vec<String>,
-    /// Label swaps per pitcher for the predictability change (default 199).
+    /// Compare the pitchers who pitched for club T in the log's latest
+    /// season; every other pitcher in the log is the league.
+    #[arg(long, value_name = "T")]
+    pub team: Option<String>,
+    /// Label swaps per pitcher for the predictability change (default 1999, `[compare] permutations`).
     #[arg(long, value_name = "N")]
     pub permutations: Option<usize>,
     /// Random seed; the same seed gives the same report, byte for byte.
     #[arg(long, value_name = "S")]
     pub seed: Option<u64>,
-    /// False discovery rate over every test of the run (default 0.05).
+    /// False discovery rate within each family of tests (default 0.05).
     #[arg(long, value_name = "Q")]
     pub fdr: Option<f64>,
     /// Print summary.json to stdout instead of the table.
@@ -66,6 +70,7 @@ pub fn run(args: Args) -> Result<()> {
         strict: false,
         test_season: None,
         pitchers: args.pitchers.clone(),
+        team: args.team.clone(),
     })?;
     let out = args.out.clone().unwrap_or_else(|| default_out(&args.log.file));
     let request = Request { before, after, permutations };
