@@ -14,6 +14,7 @@ pub mod evaluate;
 pub mod report;
 pub mod ingest;
 pub mod model;
+pub mod league;
 pub mod outcomes;
 pub mod priors;
 pub mod progress;

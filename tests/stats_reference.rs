@@ -792,3 +792,19 @@ fn cluster_ratio_variance_matches_statsmodels() {
         close(v, num(&c["variance"]), 1e-8, 1e-16, &format!("case {i} variance"));
     }
 }
+
+/// The league percentile against scipy's `percentileofscore(kind="rank")`
+/// (fixture percentile.json, made by make_percentile_fixture.py).
+#[test]
+fn league_percentile_matches_scipy() {
+    use tellscope::league::percentile_of_score;
+    let f = fixture("percentile.json");
+    let cases = f["cases"].as_array().unwrap();
+    assert!(cases.len() >= 20);
+    for (i, c) in cases.iter().enumerate() {
+        let values = nums(&c["values"]);
+        for (s, want) in nums(&c["scores"]).iter().zip(nums(&c["percentiles"])) {
+            close(percentile_of_score(&values, *s).unwrap(), want, 1e-12, 1e-12, &format!("case {i} score {s}"));
+        }
+    }
+}

@@ -290,6 +290,38 @@ pub fn audit_log(
     // The beyond-the-sheet p-values form their own family over pitchers.
     let beyond_q = fdr::bh_q_values(&beyond_perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
 
+    // The league as the yardstick: cell shares counted once for the file,
+    // and every pitcher's observed figures for percentiles (with --team,
+    // the league's other pitchers are fitted once, without permutations).
+    let league_cells = crate::league::LeagueCells::build(log);
+    let mut league_figures: Vec<(u32, f64, f64)> =
+        ok_tasks.iter().zip(&observed).map(|(t, o)| (t.pitcher, o.figures.bits_gained, o.figures.bits_gained - o.sheet_bits)).collect();
+    if settings.team.is_some() {
+        let chosen_set: std::collections::HashSet<u32> = chosen.iter().copied().collect();
+        let others: Vec<(u32, f64, f64)> = (0..log.pitchers.len() as u32)
+            .into_par_iter()
+            .filter(|p| !chosen_set.contains(p) && !rows_of[*p as usize].is_empty())
+            .filter_map(|p| {
+                let plan = plans[p as usize].as_ref()?;
+                let t = PitcherTask::build(log, sit, plan, p, rows_of[p as usize].clone());
+                enough(&t).then(|| {
+                    let o = observe(&t, settings, names);
+                    (p, o.figures.bits_gained, o.figures.bits_gained - o.sheet_bits)
+                })
+            })
+            .collect();
+        league_figures.extend(others);
+    }
+    let league_percentile = |p: u32, bits: f64, beyond: f64| -> Option<LeaguePercentile> {
+        let others: Vec<&(u32, f64, f64)> = league_figures.iter().filter(|x| x.0 != p).collect();
+        let b: Vec<f64> = others.iter().map(|x| x.1).collect();
+        let y: Vec<f64> = others.iter().map(|x| x.2).collect();
+        Some(LeaguePercentile {
+            bits: crate::league::percentile_of_score(&b, bits)?,
+            beyond_bits: crate::league::percentile_of_score(&y, beyond)?,
+            among: others.len(),
+        })
+    };
     let tests_of = tells::ByPitcher::new(&tests);
     let mut pitchers = Vec::new();
     let mut outcomes = Vec::new();
@@ -369,6 +401,7 @@ pub fn audit_log(
                 sheet_season: None,
                 sheet_bits: None,
                 beyond_bits: None,
+                league_percentile: None,
                 beyond_p_value: None,
                 beyond_q_value: None,
                 beyond_permutations: None,
@@ -385,7 +418,8 @@ pub fn audit_log(
         let bperm = &beyond_perms[ok_iter];
         let bq = beyond_q[ok_iter];
         ok_iter += 1;
-        let (sheet_cells, sheet_season) = sheet::sheet(task, |i| log.season[task.rows[i] as usize], names, settings);
+        let (sheet_cells, sheet_season) =
+            sheet::sheet(task, |i| log.season[task.rows[i] as usize], names, settings, (&league_cells, log.throws[task.rows[0] as usize]));
         let last_fold = task.folds.last().unwrap();
         let train_rows = &last_fold.train;
         let mix = mix_of(names, task, train_rows);
@@ -511,6 +545,7 @@ pub fn audit_log(
             sheet_season: Some(sheet_season),
             sheet_bits: Some(o.sheet_bits),
             beyond_bits: Some(o.figures.bits_gained - o.sheet_bits),
+            league_percentile: league_percentile(task.pitcher, o.figures.bits_gained, o.figures.bits_gained - o.sheet_bits),
             beyond_p_value: Some(bperm.p_value),
             beyond_q_value: Some(bq),
             beyond_permutations: Some(bperm.permutations),
@@ -521,6 +556,18 @@ pub fn audit_log(
         });
     }
     let mut notes = input_notes(sit, &source, "left out");
+    let clubs = log.team.as_ref().map(|t| {
+        let mut c: Vec<u32> = t.iter().flatten().copied().collect();
+        c.sort_unstable();
+        c.dedup();
+        c.len()
+    });
+    let yardstick = if clubs.unwrap_or(0) > 1 { "league" } else { "staff" };
+    if yardstick == "staff" {
+        notes.push(
+            "The file holds one club's pitchers, so the yardstick is the staff, not the league: each pitcher's sheet cells and percentiles are compared with the rest of his own staff (a league's log, with `--team`, compares them with the league).".into(),
+        );
+    }
     if let Some(team) = &settings.team {
         let latest = log.season.iter().copied().max().unwrap_or(0);
         notes.push(format!(
@@ -570,6 +617,7 @@ pub fn audit_log(
         evaluation: scheme.out(),
         notes,
         staff_called_outcomes: staff_called,
+        yardstick: yardstick.to_string(),
         tell_tests: tests.len(),
         tells_flagged: tests.iter().filter(|t| t.flagged).count(),
         pitchers,

@@ -35,11 +35,30 @@ pub struct SheetCell {
     /// Pitches a hitter sitting on the top pitch in this cell guesses right
     /// beyond what the season share gives: (top_share − season_share) × n.
     pub given_away: f64,
+    /// The share of his top pitch in this cell among the other pitchers of
+    /// his throwing hand who throw that pitch (at least 5% of their pitches)
+    /// in the same season (`league`), and the pitches it rests on; absent
+    /// when nobody else pitched there.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub league_share: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub league_n: Option<u64>,
+    /// Well above the league: at least `tell_min_n` pitches and the lower
+    /// end of his share's Wilson 95% interval at least `[tells] min_effect`
+    /// above the league's share (which rests on far more pitches, so its
+    /// own uncertainty is left out).
+    pub above_league: bool,
 }
 
 /// The sheet of his latest season in the task's rows, cells in count order,
 /// left-handed batters first; the season.
-pub fn sheet(task: &PitcherTask, season_of_row: impl Fn(usize) -> i32, names: &[String], settings: &Settings) -> (Vec<SheetCell>, i32) {
+pub fn sheet(
+    task: &PitcherTask,
+    season_of_row: impl Fn(usize) -> i32,
+    names: &[String],
+    settings: &Settings,
+    league: (&crate::league::LeagueCells, crate::situations::levels::Hand),
+) -> (Vec<SheetCell>, i32) {
     let k = task.n_classes;
     let latest = (0..task.rows.len()).map(&season_of_row).max().unwrap_or(0);
     let mut g = GroupCounts::new(24, k);
@@ -61,6 +80,9 @@ pub fn sheet(task: &PitcherTask, season_of_row: impl Fn(usize) -> i32, names: &[
             let ci = wilson::wilson_95(row[top] as u64, n as u64);
             let season_share = raw_share(top);
             let leans = n >= settings.tell_min_n && ci.low > season_share;
+            let counted = season_share >= crate::league::ARSENAL_SHARE;
+            let other = league.0.share_without(league.1, latest, cell, task.class_types[top] as usize, (row[top] as u64, n as u64), counted);
+            let above_league = other.is_some_and(|(l, _)| n >= settings.tell_min_n && ci.low - l >= settings.tell_min_effect);
             cells.push(SheetCell {
                 count: count.to_string(),
                 bats: bats.to_string(),
@@ -75,6 +97,9 @@ pub fn sheet(task: &PitcherTask, season_of_row: impl Fn(usize) -> i32, names: &[
                 season_share,
                 leans,
                 given_away: if leans { (top_share - season_share) * n as f64 } else { 0.0 },
+                league_share: other.map(|x| x.0),
+                league_n: other.map(|x| x.1),
+                above_league,
             });
         }
     }

@@ -20,6 +20,10 @@ pub struct Summary {
     /// (every pitcher's count × type strata pooled), when the log has results.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub staff_called_outcomes: Option<crate::outcomes::CalledFigure>,
+    /// What the `league_share` and `league_percentile` figures compare
+    /// with: `league` (the file holds more than one club) or `staff` (one
+    /// club, so the other pitchers are his own staff).
+    pub yardstick: String,
     /// Tell tests run, flagged, and the family size of the BH correction.
     pub tell_tests: usize,
     pub tells_flagged: usize,
@@ -221,6 +225,11 @@ pub struct PitcherSummary {
     pub sheet_bits: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub beyond_bits: Option<f64>,
+    /// Where his bits gained and beyond-the-sheet bits rank among the
+    /// league's other pitchers with the audit's minimum sample (percentile
+    /// rank, 0–100, ties averaged).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub league_percentile: Option<LeaguePercentile>,
     /// The beyond-the-sheet permutation test (labels shuffled within game ×
     /// count × batter side) and its BH q over pitchers.
     #[serde(skip_serializing_if = "Option::is_none")]
@@ -262,4 +271,13 @@ pub struct TeamPitches {
     pub season: i32,
     pub team: String,
     pub pitches: usize,
+}
+
+/// Percentile ranks among the league's pitchers (`league::percentile_of_score`).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct LeaguePercentile {
+    pub bits: f64,
+    pub beyond_bits: f64,
+    /// The pitchers he is ranked among.
+    pub among: usize,
 }

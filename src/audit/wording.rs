@@ -404,3 +404,51 @@ pub fn cost_sentence(t: &TellTest, c: &crate::outcomes::TellCost) -> String {
         )
     }
 }
+
+/// Who the yardstick's pitchers are, in words.
+fn yardstick_words(yardstick: &str, throws: &str) -> String {
+    let hand = if throws == "L" { "left" } else { "right" };
+    if yardstick == "league" {
+        format!("{hand}-handed pitchers across the league")
+    } else {
+        format!("the staff's other {hand}-handed pitchers")
+    }
+}
+
+/// Sheet cells where he is well above the yardstick (`above_league`), the
+/// widest gap first, at most four: "3-1 vs left-handed batters: fastball
+/// 88% (n = 41), where right-handed pitchers across the league throw it 61%".
+pub fn league_lines(p: &crate::audit::summary::PitcherSummary, yardstick: &str) -> Vec<String> {
+    let mut cells: Vec<&crate::audit::sheet::SheetCell> = p.sheet.iter().filter(|c| c.above_league).collect();
+    cells.sort_by(|a, b| (b.top_share_low - b.league_share.unwrap_or(0.0)).total_cmp(&(a.top_share_low - a.league_share.unwrap_or(0.0))));
+    let who = yardstick_words(yardstick, &p.throws);
+    cells
+        .iter()
+        .take(4)
+        .map(|c| {
+            let side = if c.bats == "L" { "left" } else { "right" };
+            format!(
+                "{} vs {side}-handed batters: {} {} (n = {}, 95% interval {} to {}), where {who} throw it {}",
+                c.count,
+                c.top_pitch,
+                pct(c.top_share),
+                c.n,
+                pct(c.top_share_low),
+                pct(c.top_share_high),
+                pct(c.league_share.unwrap_or(0.0))
+            )
+        })
+        .collect()
+}
+
+/// His percentiles in a sentence: "Against the league (412 other pitchers
+/// with the minimum sample): more predictable from the situation than 80%
+/// of them, and beyond his count and side habits than 65%."
+pub fn league_sentence(p: &crate::audit::summary::PitcherSummary, yardstick: &str) -> String {
+    let Some(l) = &p.league_percentile else { return String::new() };
+    let whom = if yardstick == "league" { "the league" } else { "the rest of the staff" };
+    format!(
+        "Against {whom} ({} other pitchers with the minimum sample): more predictable from the situation than {:.0}% of them, and beyond his count and side habits than {:.0}%. A rank describes these games, not a grade of the pitcher.",
+        l.among, l.bits, l.beyond_bits
+    )
+}

@@ -63,6 +63,8 @@ struct PitcherView {
     scheme_text: String,
     headline: Vec<String>,
     sheet_lines: Vec<String>,
+    league_lines: Vec<String>,
+    league_text: String,
     sheet_tells: Vec<String>,
     layers_text: String,
     beyond_significant: bool,
@@ -206,6 +208,8 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
             pitcher: p.pitcher.clone(),
             headline: p.headline.clone(),
             sheet_lines: leaning.iter().take(6).map(|c| crate::audit::sheet::cell_phrase(c)).collect(),
+            league_lines: wording::league_lines(p, &summary.yardstick),
+            league_text: wording::league_sentence(p, &summary.yardstick),
             sheet_tells: sheet_layer
                 .iter()
                 .filter(|t| t.within.is_none())
@@ -270,6 +274,7 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
         fdr => summary.settings.fdr,
         fdr_pct => format!("{:.0}%", summary.settings.fdr * 100.0),
         min_effect => format!("{:.0} points", summary.settings.tell_min_effect * 100.0),
+        min_effect_pct => format!("{:.0} points", summary.settings.tell_min_effect * 100.0),
         min_n => summary.settings.tell_min_n,
         version => summary.tool.version.clone(),
         notes => summary.notes.clone(),
