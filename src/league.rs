@@ -64,18 +64,44 @@ impl LeagueCells {
         LeagueCells { n_types, counts }
     }
 
-    /// The share of pitch type `ty` in `cell` among pitchers throwing with
-    /// `hand` who have `ty` in their arsenal in `season`, his own
-    /// `(his_type, his_total)` pitches in the cell taken out when `ty` is in
-    /// his arsenal too (`his_counted`), with the pitches it rests on; `None`
-    /// when nobody else pitched there.
-    pub fn share_without(&self, hand: Hand, season: i32, cell: usize, ty: usize, his: (u64, u64), his_counted: bool) -> Option<(f64, u64)> {
+    /// Pitch type `ty` in `cell` among pitchers throwing with `hand` who
+    /// have `ty` in their arsenal in `season`: its share there and over
+    /// their whole season, his own pitches taken out when `ty` is in his
+    /// arsenal too (`his_counted`: his `(type, total)` in the cell and in
+    /// the season); `None` when nobody else pitched there.
+    pub fn share_without(&self, hand: Hand, season: i32, cell: usize, ty: usize, his_cell: (u64, u64), his_season: (u64, u64), his_counted: bool) -> Option<CellNorm> {
         let v = self.counts.get(&(hand, season, ty as u16))?;
         let row = &v[cell * self.n_types..(cell + 1) * self.n_types];
-        let (his_type, his_total) = if his_counted { his } else { (0, 0) };
-        let total = row.iter().sum::<u64>().checked_sub(his_total)?;
-        let of_type = row[ty].checked_sub(his_type)?;
-        (total > 0).then(|| (of_type as f64 / total as f64, total))
+        let ((ct, cn), (st, sn)) = if his_counted { (his_cell, his_season) } else { ((0, 0), (0, 0)) };
+        let total = row.iter().sum::<u64>().checked_sub(cn)?;
+        let of_type = row[ty].checked_sub(ct)?;
+        let season_total = v.iter().sum::<u64>().checked_sub(sn)?;
+        let season_type = (0..CELLS).map(|c| v[c * self.n_types + ty]).sum::<u64>().checked_sub(st)?;
+        (total > 0 && season_type > 0).then(|| CellNorm {
+            share: of_type as f64 / total as f64,
+            n: total,
+            season_share: season_type as f64 / season_total as f64,
+        })
+    }
+}
+
+/// The yardstick's figures for one pitch type in one cell.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct CellNorm {
+    /// Its share of the others' pitches in the cell, and those pitches.
+    pub share: f64,
+    pub n: u64,
+    /// Its share of the others' pitches over the season.
+    pub season_share: f64,
+}
+
+impl CellNorm {
+    /// What a pitcher throwing the pitch `his_season_share` of the time
+    /// would throw in this cell with the others' count and side habit: his
+    /// season share times their lean into the cell (indirect
+    /// standardisation), at most 1.
+    pub fn expected_for(&self, his_season_share: f64) -> f64 {
+        (his_season_share * self.share / self.season_share).min(1.0)
     }
 }
 

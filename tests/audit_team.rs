@@ -91,3 +91,64 @@ fn an_unknown_club_or_a_log_without_clubs_is_a_usage_error() {
     assert_eq!(e.exit_code(), 2);
     assert!(e.to_string().contains("no `team` column"), "{e}");
 }
+
+/// The league's share in a sheet cell, worked out from the CSV text: among
+/// the other pitchers of his throwing hand with the pitch at least 5% of
+/// their pitches that season, its share of their pitches in the cell
+/// (count × batter side).
+#[test]
+fn league_shares_equal_a_hand_count() {
+    let s = settings(Some(CLUB), Vec::new());
+    let a = tellscope::audit::run(league_csv(), &Settings { permutations: 9, ..s }, false).unwrap();
+    let p = a.summary.pitchers.iter().find(|p| p.is_ok()).unwrap();
+    let season = p.sheet_season.unwrap();
+    let text = std::fs::read_to_string(league_csv()).unwrap();
+    let mut lines = text.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let col = |n: &str| header.iter().position(|h| *h == n).unwrap();
+    let (pc, sc, th, bt, bc, kc, ty) = (col("pitcher"), col("season"), col("throws"), col("bats"), col("balls"), col("strikes"), col("pitch_type"));
+    let rows: Vec<Vec<&str>> = lines.map(|l| l.split(',').collect()).filter(|f: &Vec<&str>| f[sc].parse::<i32>().unwrap() == season && f[th] == p.throws).collect();
+    // Each pitcher's season mix, for his arsenal.
+    let mut mix: BTreeMap<&str, BTreeMap<&str, usize>> = BTreeMap::new();
+    for f in &rows {
+        *mix.entry(f[pc]).or_default().entry(f[ty]).or_default() += 1;
+    }
+    let throws_it = |who: &str, pitch: &str| {
+        let m = &mix[who];
+        let n: usize = m.values().sum();
+        m.get(pitch).copied().unwrap_or(0) as f64 >= 0.05 * n as f64
+    };
+    let mut checked = 0;
+    for c in p.sheet.iter().filter(|c| c.league_share.is_some()).take(6) {
+        let (balls, strikes) = (&c.count[..1], &c.count[2..]);
+        let in_cell: Vec<&Vec<&str>> = rows
+            .iter()
+            .filter(|f| f[pc] != p.pitcher && f[bc] == balls && f[kc] == strikes && f[bt] == c.bats && throws_it(f[pc], &c.top_pitch))
+            .collect();
+        let of_type = in_cell.iter().filter(|f| f[ty] == c.top_pitch).count();
+        assert_eq!(c.league_n, Some(in_cell.len() as u64), "{} {} {}", p.pitcher, c.count, c.bats);
+        assert!((c.league_share.unwrap() - of_type as f64 / in_cell.len() as f64).abs() < 1e-12);
+        checked += 1;
+    }
+    assert!(checked >= 3);
+}
+
+/// A pitcher with a count habit far beyond the league's (the demo's Oren
+/// Vasquell: the slider at 0-2 and 1-2) is marked above the yardstick in
+/// those cells; one with nothing planted (Rafe Dunmore) is not.
+#[test]
+fn a_count_habit_beyond_the_yardstick_is_marked() {
+    let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv");
+    let a = tellscope::audit::run(&log, &settings(None, Vec::new()), false).unwrap();
+    assert_eq!(a.summary.yardstick, "staff");
+    let who = |n: &str| a.summary.pitchers.iter().find(|p| p.pitcher == n).unwrap();
+    let marked: Vec<(String, String, String)> =
+        who("Oren Vasquell").sheet.iter().filter(|c| c.above_league).map(|c| (c.count.clone(), c.bats.clone(), c.top_pitch.clone())).collect();
+    for want in [("0-2", "L"), ("1-2", "L")] {
+        assert!(marked.iter().any(|m| (m.0.as_str(), m.1.as_str(), m.2.as_str()) == (want.0, want.1, "slider")), "{marked:?}");
+    }
+    assert!(marked.iter().all(|m| m.2 == "slider" && (m.0 == "0-2" || m.0 == "1-2")), "{marked:?}");
+    assert!(who("Rafe Dunmore").sheet.iter().all(|c| !c.above_league));
+    let l = who("Oren Vasquell").league_percentile.as_ref().unwrap();
+    assert!(l.among >= 10 && (0.0..=100.0).contains(&l.bits));
+}

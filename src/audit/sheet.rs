@@ -43,10 +43,18 @@ pub struct SheetCell {
     pub league_share: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub league_n: Option<u64>,
-    /// Well above the league: at least `tell_min_n` pitches and the lower
-    /// end of his share's Wilson 95% interval at least `[tells] min_effect`
-    /// above the league's share (which rests on far more pitches, so its
-    /// own uncertainty is left out).
+    /// What he would throw in this cell with the league's count and side
+    /// habit for this pitch: his season share of it times the league's
+    /// cell share over its season share (indirect standardisation), so a
+    /// pitcher is not "above the league" for throwing more of a pitch
+    /// everywhere.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub league_expected_share: Option<f64>,
+    /// Well above the league: at least `tell_min_n` pitches, the lower end
+    /// of his share's Wilson 95% interval above the upper end of the
+    /// expectation's (the league's cell share's Wilson interval carried the
+    /// same way), and his share at least `[tells] min_effect` above
+    /// `league_expected_share`.
     pub above_league: bool,
 }
 
@@ -81,8 +89,19 @@ pub fn sheet(
             let season_share = raw_share(top);
             let leans = n >= settings.tell_min_n && ci.low > season_share;
             let counted = season_share >= crate::league::ARSENAL_SHARE;
-            let other = league.0.share_without(league.1, latest, cell, task.class_types[top] as usize, (row[top] as u64, n as u64), counted);
-            let above_league = other.is_some_and(|(l, _)| n >= settings.tell_min_n && ci.low - l >= settings.tell_min_effect);
+            let his_season = (season.counts[top] as u64, n_season as u64);
+            let other = league.0.share_without(league.1, latest, cell, task.class_types[top] as usize, (row[top] as u64, n as u64), his_season, counted);
+            let expected = other.map(|o| o.expected_for(season_share));
+            // The league's own uncertainty: the top of its cell share's
+            // Wilson 95% interval, carried the same way.
+            let expected_high = other.map(|o| {
+                let hi = wilson::wilson_95((o.share * o.n as f64).round() as u64, o.n).high;
+                (season_share * hi / o.season_share).min(1.0)
+            });
+            let above_league = match (expected, expected_high) {
+                (Some(e), Some(h)) => n >= settings.tell_min_n && ci.low > h && top_share - e >= settings.tell_min_effect,
+                _ => false,
+            };
             cells.push(SheetCell {
                 count: count.to_string(),
                 bats: bats.to_string(),
@@ -97,8 +116,9 @@ pub fn sheet(
                 season_share,
                 leans,
                 given_away: if leans { (top_share - season_share) * n as f64 } else { 0.0 },
-                league_share: other.map(|x| x.0),
-                league_n: other.map(|x| x.1),
+                league_share: other.map(|x| x.share),
+                league_n: other.map(|x| x.n),
+                league_expected_share: expected,
                 above_league,
             });
         }
