@@ -11,7 +11,9 @@
 
 use crate::ingest::PitchLog;
 use crate::situations::levels::Hand;
-use std::collections::HashMap;
+use crate::situations::Situations;
+use crate::tells::TellTest;
+use std::collections::{HashMap, HashSet};
 
 /// Cells of the sheet: count × batter side.
 pub const CELLS: usize = 24;
@@ -42,18 +44,7 @@ pub struct LeagueCells {
 impl LeagueCells {
     pub fn build(log: &PitchLog) -> LeagueCells {
         let n_types = log.pitch_types.len();
-        // Each pitcher's pitches per season and type, for his arsenals.
-        let mut thrown: HashMap<(u32, i32), Vec<u64>> = HashMap::new();
-        for r in 0..log.len() {
-            thrown.entry((log.pitcher[r], log.season[r])).or_insert_with(|| vec![0; n_types])[log.pitch_type[r] as usize] += 1;
-        }
-        let arsenal: HashMap<(u32, i32), Vec<u16>> = thrown
-            .into_iter()
-            .map(|(k, v)| {
-                let n: u64 = v.iter().sum();
-                (k, (0..n_types).filter(|&t| v[t] as f64 >= ARSENAL_SHARE * n as f64 && v[t] > 0).map(|t| t as u16).collect())
-            })
-            .collect();
+        let arsenal = arsenals(log);
         let mut counts: HashMap<(Hand, i32, u16), Vec<u64>> = HashMap::new();
         for r in 0..log.len() {
             let at = cell_of(log, r) * n_types + log.pitch_type[r] as usize;
@@ -102,6 +93,115 @@ impl CellNorm {
     /// standardisation), at most 1.
     pub fn expected_for(&self, his_season_share: f64) -> f64 {
         (his_season_share * self.share / self.season_share).min(1.0)
+    }
+}
+
+/// Each pitcher's arsenal per season: the types at least `ARSENAL_SHARE`
+/// of his pitches that season.
+pub fn arsenals(log: &PitchLog) -> HashMap<(u32, i32), Vec<u16>> {
+    let n_types = log.pitch_types.len();
+    let mut thrown: HashMap<(u32, i32), Vec<u64>> = HashMap::new();
+    for r in 0..log.len() {
+        thrown.entry((log.pitcher[r], log.season[r])).or_insert_with(|| vec![0; n_types])[log.pitch_type[r] as usize] += 1;
+    }
+    thrown
+        .into_iter()
+        .map(|(k, v)| {
+            let n: u64 = v.iter().sum();
+            (k, (0..n_types).filter(|&t| v[t] > 0 && v[t] as f64 >= ARSENAL_SHARE * n as f64).map(|t| t as u16).collect())
+        })
+        .collect()
+}
+
+/// Fill `league_share` on every flagged tell of `tests`: the tell pitch's
+/// share in the tell's situation (all seasons of the file) among the other
+/// pitchers of the tell pitcher's throwing hand who have the pitch in their
+/// arsenal that season. One pass over the file for every tell; each
+/// pitcher's own pitches are counted apart and taken out.
+pub fn tell_shares(log: &PitchLog, sit: &Situations, tests: &mut [TellTest]) {
+    let pitcher_of: HashMap<&str, u32> = log.pitchers.iter().enumerate().map(|(i, p)| (p.as_str(), i as u32)).collect();
+    let type_of: HashMap<&str, u16> = log.pitch_types.iter().enumerate().map(|(i, t)| (t.as_str(), i as u16)).collect();
+    let mut hand_of: Vec<Option<Hand>> = vec![None; log.pitchers.len()];
+    for r in 0..log.len() {
+        hand_of[log.pitcher[r] as usize].get_or_insert(log.throws[r]);
+    }
+    // A situation's shape (its factor columns, at most two) and level
+    // codes, the hand and the type, packed into one key.
+    let mut shapes: Vec<Vec<usize>> = Vec::new();
+    let pack = |shape: usize, codes: &[u8], hand: Hand, ty: u16| -> u64 {
+        let c = codes.iter().fold(0u64, |a, &x| (a << 8) | x as u64);
+        ((shape as u64) << 48) | (c << 24) | (((hand == Hand::R) as u64) << 16) | ty as u64
+    };
+    let mut wanted: HashMap<u64, HashSet<u32>> = HashMap::new();
+    let mut key_of: Vec<Option<(u64, u32)>> = vec![None; tests.len()];
+    for (i, t) in tests.iter().enumerate().filter(|(_, t)| t.flagged) {
+        let (Some(&p), Some(&ty)) = (pitcher_of.get(t.pitcher.as_str()), type_of.get(t.pitch_type.as_str())) else { continue };
+        let Some(parts) = t
+            .situation
+            .iter()
+            .map(|(f, level)| {
+                let c = sit.factors.iter().position(|c| c.factor == *f)?;
+                Some((c, sit.factors[c].levels.iter().position(|l| l == level)? as u8))
+            })
+            .collect::<Option<Vec<(usize, u8)>>>()
+        else {
+            continue;
+        };
+        if parts.is_empty() || parts.len() > 2 {
+            continue;
+        }
+        let shape: Vec<usize> = parts.iter().map(|x| x.0).collect();
+        let si = match shapes.iter().position(|s| *s == shape) {
+            Some(i) => i,
+            None => {
+                shapes.push(shape);
+                shapes.len() - 1
+            }
+        };
+        let codes: Vec<u8> = parts.iter().map(|x| x.1).collect();
+        let Some(hand) = hand_of[p as usize] else { continue };
+        let key = pack(si, &codes, hand, ty);
+        wanted.entry(key).or_default().insert(p);
+        key_of[i] = Some((key, p));
+    }
+    if wanted.is_empty() {
+        return;
+    }
+    let arsenal = arsenals(log);
+    // League (n, of type) per key, and each tell pitcher's own.
+    let mut league: HashMap<u64, (u64, u64)> = HashMap::new();
+    let mut own: HashMap<(u64, u32), (u64, u64)> = HashMap::new();
+    let mut codes = Vec::with_capacity(2);
+    for r in 0..log.len() {
+        let (p, hand, y) = (log.pitcher[r], log.throws[r], log.pitch_type[r]);
+        let Some(ars) = arsenal.get(&(p, log.season[r])) else { continue };
+        for (si, shape) in shapes.iter().enumerate() {
+            codes.clear();
+            codes.extend(shape.iter().map(|&c| sit.factors[c].codes[r]));
+            for &t in ars {
+                let key = pack(si, &codes, hand, t);
+                let Some(who) = wanted.get(&key) else { continue };
+                let hit = (y == t) as u64;
+                let e = league.entry(key).or_default();
+                e.0 += 1;
+                e.1 += hit;
+                if who.contains(&p) {
+                    let o = own.entry((key, p)).or_default();
+                    o.0 += 1;
+                    o.1 += hit;
+                }
+            }
+        }
+    }
+    for (t, k) in tests.iter_mut().zip(key_of) {
+        let Some((key, p)) = k else { continue };
+        let (n, x) = league.get(&key).copied().unwrap_or_default();
+        let (on, ox) = own.get(&(key, p)).copied().unwrap_or_default();
+        let (n, x) = (n - on, x - ox);
+        if n > 0 {
+            t.league_share = Some(x as f64 / n as f64);
+            t.league_n = Some(n);
+        }
     }
 }
 

@@ -135,6 +135,13 @@ pub struct TellTest {
     /// `result` (crate::outcomes).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub cost: Option<crate::outcomes::TellCost>,
+    /// Flagged tells: the pitch's share in the same situation among the
+    /// other pitchers of his throwing hand who have it (`league`), and the
+    /// pitches it rests on.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub league_share: Option<f64>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub league_n: Option<u64>,
 }
 
 impl TellTest {
@@ -369,6 +376,8 @@ pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[&Pitc
                             held_out_expected_share: held_ref,
                             verdict: verdict(direction, k_in as f64 / n_in as f64, hk_in as u64, h_in as u64, held_ref),
                             cost: None,
+                            league_share: None,
+                            league_n: None,
                         });
                     }
                 }
@@ -563,6 +572,8 @@ fn beyond_tests(
                     held_out_expected_share: held_exp,
                     verdict: verdict(direction, share, hk as u64, hn as u64, held_exp),
                     cost: None,
+                    league_share: None,
+                    league_n: None,
                 });
             }
         }

@@ -152,3 +152,51 @@ fn a_count_habit_beyond_the_yardstick_is_marked() {
     let l = who("Oren Vasquell").league_percentile.as_ref().unwrap();
     assert!(l.among >= 10 && (0.0..=100.0).contains(&l.bits));
 }
+
+/// A flagged tell's league share, worked out from the CSV text: over every
+/// season of the file, among the other pitchers of his throwing hand with
+/// the pitch at least 5% of their pitches that season, its share of their
+/// pitches in the tell's situation (a count, or platoon same/opposite).
+#[test]
+fn tell_league_shares_equal_a_hand_count() {
+    let a = tellscope::audit::run(league_csv(), &settings(Some(CLUB), Vec::new()), false).unwrap();
+    let text = std::fs::read_to_string(league_csv()).unwrap();
+    let mut lines = text.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let col = |n: &str| header.iter().position(|h| *h == n).unwrap();
+    let (pc, sc, th, bt, bc, kc, ty) = (col("pitcher"), col("season"), col("throws"), col("bats"), col("balls"), col("strikes"), col("pitch_type"));
+    let rows: Vec<Vec<&str>> = lines.map(|l| l.split(',').collect()).collect();
+    let mut mix: BTreeMap<(&str, &str), BTreeMap<&str, usize>> = BTreeMap::new();
+    for f in &rows {
+        *mix.entry((f[pc], f[sc])).or_default().entry(f[ty]).or_default() += 1;
+    }
+    let has = |who: &str, season: &str, pitch: &str| {
+        let m = &mix[&(who, season)];
+        let n: usize = m.values().sum();
+        m.get(pitch).copied().unwrap_or(0) as f64 >= 0.05 * n as f64
+    };
+    let mut checked = 0;
+    for p in a.summary.pitchers.iter().filter(|p| p.is_ok()) {
+        for t in p.tells.iter().filter(|t| t.situation.len() == 1) {
+            let (f, level) = t.situation.iter().next().unwrap();
+            let holds = |r: &Vec<&str>| match f.name() {
+                "count" => format!("{}-{}", r[bc], r[kc]) == *level,
+                "platoon" => (r[bt] == r[th]) == (level == "same"),
+                _ => false,
+            };
+            if !matches!(f.name(), "count" | "platoon") {
+                continue;
+            }
+            let inside: Vec<&Vec<&str>> =
+                rows.iter().filter(|r| r[pc] != p.pitcher && r[th] == p.throws && has(r[pc], r[sc], &t.pitch_type) && holds(r)).collect();
+            let of_type = inside.iter().filter(|r| r[ty] == t.pitch_type).count();
+            assert_eq!(t.league_n, Some(inside.len() as u64), "{} {:?} {}", p.pitcher, t.situation, t.pitch_type);
+            assert!((t.league_share.unwrap() - of_type as f64 / inside.len() as f64).abs() < 1e-12);
+            checked += 1;
+            if checked >= 4 {
+                return;
+            }
+        }
+    }
+    assert!(checked >= 1, "no count or platoon tell to check");
+}

@@ -286,6 +286,7 @@ pub fn audit_log(
     let (perms, beyond_perms): (Vec<_>, Vec<_>) = perms.into_iter().unzip();
     let mut tests = tests;
     crate::outcomes::cost_of_tells(log, sit, &ok_tasks, &mut tests, settings.fdr);
+    crate::league::tell_shares(log, sit, &mut tests);
     let model_q = fdr::bh_q_values(&perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
     // The beyond-the-sheet p-values form their own family over pitchers.
     let beyond_q = fdr::bh_q_values(&beyond_perms.iter().map(|p| p.p_value).collect::<Vec<_>>());

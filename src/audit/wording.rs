@@ -120,7 +120,7 @@ pub fn tell_sentence(t: &TellTest, test_label: &str) -> String {
             q_text(t.q_value)
         ),
     };
-    format!("{main}{}.", held_phrase(t, test_label))
+    format!("{main}{}{}.", held_phrase(t, test_label), league_phrase(t))
 }
 
 /// What the held-out pitches say, with the held-out share's interval.
@@ -157,7 +157,7 @@ fn beyond_sentence(t: &TellTest, sit: &str, test_label: &str) -> String {
             q_text(t.q_value)
         ),
     };
-    format!("{main}{}.", held_phrase(t, test_label))
+    format!("{main}{}{}.", held_phrase(t, test_label), league_phrase(t))
 }
 
 /// Shares for the other pitches that add up to `total`. When they must grow
@@ -455,4 +455,13 @@ pub fn league_sentence(p: &crate::audit::summary::PitcherSummary, yardstick: &st
         "Against {whom} ({} other pitchers with the minimum sample): more predictable from the situation than {:.0}% of them, and beyond his count and side habits than {:.0}%. A rank describes these games, not a grade of the pitcher.",
         l.among, l.bits, l.beyond_bits
     )
+}
+
+/// "; other pitchers of his hand who have the pitch throw it 27% there"
+/// (the yardstick of `league::tell_shares`), or nothing.
+fn league_phrase(t: &TellTest) -> String {
+    match t.league_share {
+        Some(l) => format!("; other pitchers of his hand who have the pitch throw it {} there", pct(l)),
+        None => String::new(),
+    }
 }

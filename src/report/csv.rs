@@ -127,6 +127,7 @@ pub fn tells_csv(tests: &[TellTest]) -> Result<Vec<u8>> {
         .opt_f64("held_out_low_95", tests.iter().map(|t| t.held_out_low).collect())
         .opt_f64("held_out_high_95", tests.iter().map(|t| t.held_out_high).collect())
         .opt_f64("held_out_expected_share", tests.iter().map(|t| t.held_out_expected_share).collect())
+        .opt_f64("league_share", tests.iter().map(|t| t.league_share).collect())
         .str(
             "held_out_verdict",
             tests
