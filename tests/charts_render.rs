@@ -216,6 +216,14 @@ fn predictability_sample(pitcher: &str, seasons: usize) -> ComparePredictability
 }
 
 /// Every chart with the given pitcher name, and the axis titles each must show.
+fn rank_sample(pitcher: &str) -> LeagueRankInput {
+    let rows = [(pitcher, 1412, 91.0, 40.0), ("Marco Vessel", 988, 55.0, 80.0), ("Tobias Quill", 402, 3.0, 12.0)];
+    LeagueRankInput {
+        rows: rows.iter().map(|&(p, n, b, y)| RankRow { pitcher: p.to_string(), n, bits: b, beyond_bits: y }).collect(),
+        among: "412 league pitchers with the minimum sample".into(),
+    }
+}
+
 fn all_charts(pitcher: &str) -> Vec<(Chart, Vec<&'static str>)> {
     let mut staff = staff_sample(StaffMetric::BitsGained);
     staff.pitchers[0].pitcher = pitcher.to_string();
@@ -241,6 +249,10 @@ fn all_charts(pitcher: &str) -> Vec<(Chart, Vec<&'static str>)> {
         (
             staff_predictability(&staff_lift).unwrap(),
             vec!["lift in accuracy over a usage-only guess (%)"],
+        ),
+        (
+            league_rank(&rank_sample(pitcher)).unwrap(),
+            vec!["percentile (0 = least predictable, 100 = most)"],
         ),
         (
             compare_top_share(&top_share_sample(pitcher)).unwrap(),
@@ -486,6 +498,12 @@ fn bad_input_is_rejected_not_drawn() {
         staff_predictability(&s),
         Err(ChartError::InvalidInput(_))
     ));
+
+    let mut r = rank_sample("x");
+    r.rows[1].bits = f64::NAN;
+    assert!(matches!(league_rank(&r), Err(ChartError::InvalidInput(_))));
+    r.rows.clear();
+    assert!(matches!(league_rank(&r), Err(ChartError::InvalidInput(_))));
 }
 
 #[test]

@@ -88,6 +88,21 @@ pub fn for_each_chart(
         let chart = charts::called_outcomes(&charts::CalledOutcomesInput { rows }).map_err(chart_err)?;
         sink(None, Chart { name: "called-outcomes".into(), ..chart })?;
     }
+    // The staff against the league (or the rest of the staff): each
+    // pitcher's percentiles, most predictable first.
+    let mut ranks: Vec<charts::RankRow> = ok
+        .iter()
+        .filter_map(|p| {
+            p.league_percentile.as_ref().map(|l| charts::RankRow { pitcher: p.pitcher.clone(), n: p.n_test as u64, bits: l.bits, beyond_bits: l.beyond_bits })
+        })
+        .collect();
+    if !ranks.is_empty() {
+        ranks.sort_by(|a, b| b.bits.total_cmp(&a.bits).then(a.pitcher.cmp(&b.pitcher)));
+        let among = ok.iter().filter_map(|p| p.league_percentile.as_ref()).map(|l| l.among).max().unwrap_or(0);
+        let whom = if s.yardstick == "league" { format!("{among} league pitchers") } else { format!("the other {among} pitchers of the staff") };
+        let chart = charts::league_rank(&charts::LeagueRankInput { rows: ranks, among: format!("{whom} with the minimum sample") }).map_err(chart_err)?;
+        sink(None, Chart { name: "staff-league-rank".into(), ..chart })?;
+    }
     let labels = staff_labels(s);
     // Pitchers' charts are drawn in parallel a few dozen at a time and
     // handed on in staff order (the output does not depend on threads).

@@ -30,6 +30,8 @@ pub struct ChartSvgs {
     pub staff: Option<String>,
     /// Do predictable pitches cost them? (with results only)
     pub called: Option<String>,
+    /// The staff's percentiles against the league (or the staff).
+    pub league: Option<String>,
     pub per_pitcher: BTreeMap<String, Vec<String>>,
     /// Some pitchers' charts are in charts/ only (a large staff).
     pub omitted: bool,
@@ -282,6 +284,13 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
         insufficient => insufficient,
         staff_chart => charts.staff.clone(),
         called_chart => charts.called.clone(),
+        league_chart => charts.league.clone(),
+        league_heading => if summary.yardstick == "league" { "Against the league" } else { "Against the rest of the staff" },
+        league_note => if summary.yardstick == "league" {
+            "Each pitcher's percentile among the league's other pitchers with the minimum sample, from the same file."
+        } else {
+            "The file holds one club, so the yardstick is the staff, not a league: each pitcher is ranked among his own staff's other pitchers."
+        },
         called_text => summary.staff_called_outcomes.as_ref().map(|c| format!(
             "Across the staff, swings at pitches the held-out model called drew whiffs {} of the time, against {} for the same pitch types in the same counts when it guessed otherwise (difference {:+.1} points, 95% interval {:+.1} to {:+.1}; {} called swings in counts where both happened). These are associations in past games: the log never says what the hitter was sitting on.",
             wording::pct(c.whiff_rate_called),

@@ -316,6 +316,7 @@ pub fn write_audit_report(dir: &Path, audit: &crate::audit::Audit) -> Result<()>
                 st.add(format!("charts/{}.png", chart.name), &chart.png)?;
                 match pitcher {
                     None if chart.name == "called-outcomes" => svgs.called = Some(chart.svg),
+                    None if chart.name == "staff-league-rank" => svgs.league = Some(chart.svg),
                     None => svgs.staff = Some(chart.svg),
                     Some(p) if inline(p) => svgs.per_pitcher.entry(p.to_string()).or_default().push(chart.svg),
                     Some(_) => {}

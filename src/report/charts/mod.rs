@@ -25,6 +25,7 @@ pub mod count_grid;
 pub mod mix_by_count;
 pub mod null_distribution;
 pub mod called_outcomes;
+pub mod league_rank;
 pub mod staff_predictability;
 
 pub use compare_mix_shift::{compare_mix_shift, MixShiftInput};
@@ -36,6 +37,7 @@ pub use count_grid::{count_grid, CountCell, CountGridInput};
 pub use mix_by_count::{mix_by_count, CountMix, MixByCountInput};
 pub use null_distribution::{null_distribution, NullDistributionInput};
 pub use called_outcomes::{called_outcomes, CalledOutcomesInput, CalledRow};
+pub use league_rank::{league_rank, LeagueRankInput, RankRow};
 pub use staff_predictability::{
     staff_predictability, StaffMetric, StaffPitcher, StaffPredictabilityInput,
 };
