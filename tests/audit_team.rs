@@ -200,3 +200,19 @@ fn tell_league_shares_equal_a_hand_count() {
     }
     assert!(checked >= 1, "no count or platoon tell to check");
 }
+
+/// `compare --team`: the club's pitchers of the latest season, and a traded
+/// pitcher's caution says where his pitches came from.
+#[test]
+fn compare_with_a_team_says_where_a_traded_pitchers_pitches_came_from() {
+    use tellscope::compare::{self, period::PeriodSpec, Request};
+    let by_pitcher = hand_count();
+    let staff: BTreeSet<String> =
+        by_pitcher.iter().filter(|(_, s)| s.contains(&(2026, CLUB.to_string()))).map(|(p, _)| p.clone()).collect();
+    let request = Request { before: PeriodSpec::parse("--before", "2025").unwrap(), after: PeriodSpec::parse("--after", "2026").unwrap(), permutations: 19 };
+    let c = compare::run(league_csv(), &settings(Some(CLUB), Vec::new()), &request, false).unwrap();
+    let compared: BTreeSet<String> = c.summary.pitchers.iter().map(|p| p.pitcher.clone()).collect();
+    assert_eq!(compared, staff);
+    let traded = c.summary.pitchers.iter().find(|p| p.is_ok() && by_pitcher[&p.pitcher].iter().any(|(_, t)| t != CLUB)).expect("a traded pitcher compared");
+    assert!(traded.cautions.iter().any(|x| x.starts_with(&format!("Not all his pitches were for {CLUB}"))), "{:?}", traded.cautions);
+}
