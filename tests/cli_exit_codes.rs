@@ -3,6 +3,8 @@
 //! config, 3 unusable data), one-line errors on stderr, and a simulated
 //! log that is the same byte for byte for the same seed.
 
+mod common;
+
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
 
@@ -328,20 +330,7 @@ fn a_log_piped_to_standard_input_gives_the_same_report() {
     let b = run(&["audit", log.to_str().unwrap(), "--out", dir.join("file").to_str().unwrap(), "--permutations", "19"]);
     assert_eq!(code(&b), 0);
     let shown = log.display().to_string();
-    let files = |root: &Path| -> Vec<(String, Vec<u8>)> {
-        let mut v = Vec::new();
-        for sub in ["", "charts"] {
-            for e in std::fs::read_dir(root.join(sub)).unwrap() {
-                let p = e.unwrap().path();
-                if p.is_file() {
-                    v.push((p.strip_prefix(root).unwrap().display().to_string(), std::fs::read(&p).unwrap()));
-                }
-            }
-        }
-        v.sort();
-        v
-    };
-    let (fa, fb) = (files(&dir.join("piped")), files(&dir.join("file")));
+    let (fa, fb) = (common::report_files(&dir.join("piped")), common::report_files(&dir.join("file")));
     assert_eq!(fa.len(), fb.len());
     for ((na, ba), (nb, bb)) in fa.iter().zip(&fb) {
         assert_eq!(na, nb);

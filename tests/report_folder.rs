@@ -3,7 +3,9 @@
 //! (a pitcher's charts after he left the log), a folder holding anything
 //! else is never replaced, and a file in the way is a usage error.
 
-use std::path::Path;
+mod common;
+
+use std::path::{Path, PathBuf};
 use tellscope::audit;
 use tellscope::settings::{ConfigFile, Overrides, Settings};
 
@@ -11,11 +13,48 @@ fn settings() -> Settings {
     Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(9), ..Overrides::default() }).unwrap()
 }
 
-#[test]
-fn a_report_folder_is_replaced_whole() {
-    let root = std::env::temp_dir().join(format!("tellscope-folder-{}", std::process::id()));
+/// A scratch folder of its own, emptied.
+fn scratch(tag: &str) -> PathBuf {
+    let root = std::env::temp_dir().join(format!("tellscope-{tag}-{}", std::process::id()));
     let _ = std::fs::remove_dir_all(&root);
     std::fs::create_dir_all(&root).unwrap();
+    root
+}
+
+/// The binary auditing the demo into `out` with `perms` permutations.
+#[cfg(unix)]
+fn spawn_audit(out: &Path, perms: &str) -> std::process::Child {
+    use std::process::{Command, Stdio};
+    let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv");
+    Command::new(env!("CARGO_BIN_EXE_tellscope"))
+        .args(["audit", log.to_str().unwrap(), "--out", out.to_str().unwrap(), "--permutations", perms])
+        .stdout(Stdio::null())
+        .stderr(Stdio::null())
+        .spawn()
+        .unwrap()
+}
+
+/// Wait until `child` has begun writing its report beside `root/report`
+/// (its staging folder exists) or has ended; its process id.
+#[cfg(unix)]
+fn wait_for_staging(child: &mut std::process::Child, root: &Path) -> i32 {
+    let pid = child.id() as i32;
+    let staging = root.join(format!(".report.tellscope-new-{pid}"));
+    let start = std::time::Instant::now();
+    while !staging.exists() && child.try_wait().unwrap().is_none() && start.elapsed().as_secs() < 120 {
+        std::thread::sleep(std::time::Duration::from_millis(1));
+    }
+    pid
+}
+
+/// Dot-named entries beside the report folder (staging folders).
+fn left_beside(root: &Path) -> Vec<String> {
+    std::fs::read_dir(root).unwrap().map(|e| e.unwrap().file_name().to_string_lossy().to_string()).filter(|n| n.starts_with('.')).collect()
+}
+
+#[test]
+fn a_report_folder_is_replaced_whole() {
+    let root = scratch("folder");
     let out = root.join("report");
     let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/plain-staff/demo-log.csv");
     let a = audit::run(&log, &settings(), false).unwrap();
@@ -40,8 +79,7 @@ fn a_report_folder_is_replaced_whole() {
     let file = root.join("a-file");
     std::fs::write(&file, "x").unwrap();
     assert_eq!(tellscope::report::write_audit_report(&file, &a).unwrap_err().exit_code(), 2);
-    let beside: Vec<String> = std::fs::read_dir(&root).unwrap().map(|e| e.unwrap().file_name().to_string_lossy().to_string()).filter(|n| n.starts_with('.')).collect();
-    assert!(beside.is_empty(), "staging left behind: {beside:?}");
+    assert!(left_beside(&root).is_empty(), "staging left behind: {:?}", left_beside(&root));
     std::fs::remove_dir_all(&root).ok();
 }
 
@@ -52,42 +90,21 @@ fn a_report_folder_is_replaced_whole() {
 #[cfg(unix)]
 #[test]
 fn an_interrupted_audit_leaves_the_old_report_and_no_staging() {
-    use std::process::{Command, Stdio};
-    let root = std::env::temp_dir().join(format!("tellscope-interrupt-{}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&root);
-    std::fs::create_dir_all(&root).unwrap();
+    let root = scratch("interrupt");
     let out = root.join("report");
-    let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv");
-    let bin = env!("CARGO_BIN_EXE_tellscope");
-    let run = |perms: &str| {
-        Command::new(bin)
-            .args(["audit", log.to_str().unwrap(), "--out", out.to_str().unwrap(), "--permutations", perms])
-            .stdout(Stdio::null())
-            .stderr(Stdio::piped())
-            .spawn()
-            .unwrap()
-    };
-    assert!(run("9").wait().unwrap().success());
-    let old = std::fs::read(out.join("index.html")).unwrap();
-    let old_summary = std::fs::read(out.join("summary.json")).unwrap();
+    assert!(spawn_audit(&out, "9").wait().unwrap().success());
+    let old = common::report_files(&out);
     let mut interrupted = 0;
     for _ in 0..3 {
-        let mut child = run("19");
-        let pid = child.id() as i32;
-        let staging = root.join(format!(".report.tellscope-new-{pid}"));
-        let start = std::time::Instant::now();
-        while !staging.exists() && child.try_wait().unwrap().is_none() && start.elapsed().as_secs() < 120 {
-            std::thread::sleep(std::time::Duration::from_millis(1));
-        }
+        let mut child = spawn_audit(&out, "19");
+        let pid = wait_for_staging(&mut child, &root);
         // SAFETY: sends a signal to our own child process.
         unsafe { libc::kill(pid, libc::SIGINT) };
         let status = child.wait().unwrap();
-        let left: Vec<String> = std::fs::read_dir(&root).unwrap().map(|e| e.unwrap().file_name().to_string_lossy().to_string()).filter(|n| n.starts_with('.')).collect();
-        assert!(left.is_empty(), "staging left behind: {left:?}");
+        assert!(left_beside(&root).is_empty(), "staging left behind: {:?}", left_beside(&root));
         if status.code() == Some(130) {
             interrupted += 1;
-            assert_eq!(std::fs::read(out.join("index.html")).unwrap(), old, "the old page changed");
-            assert_eq!(std::fs::read(out.join("summary.json")).unwrap(), old_summary, "the old summary changed");
+            assert!(common::report_files(&out) == old, "the old report changed");
         } else {
             assert!(status.success(), "{status:?}");
             // The run won the race: its report is whole.
@@ -107,62 +124,27 @@ fn an_interrupted_audit_leaves_the_old_report_and_no_staging() {
 #[cfg(unix)]
 #[test]
 fn a_killed_audit_never_leaves_a_mixed_report() {
-    use std::process::{Command, Stdio};
-    let root = std::env::temp_dir().join(format!("tellscope-kill-{}", std::process::id()));
-    let _ = std::fs::remove_dir_all(&root);
-    std::fs::create_dir_all(&root).unwrap();
+    let root = scratch("kill");
     let out = root.join("report");
-    let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv");
-    let bin = env!("CARGO_BIN_EXE_tellscope");
-    let run = |perms: &str| {
-        Command::new(bin)
-            .args(["audit", log.to_str().unwrap(), "--out", out.to_str().unwrap(), "--permutations", perms])
-            .stdout(Stdio::null())
-            .stderr(Stdio::null())
-            .spawn()
-            .unwrap()
-    };
-    assert!(run("9").wait().unwrap().success());
-    let snapshot = |dir: &Path| -> Vec<(String, Vec<u8>)> {
-        let mut files = Vec::new();
-        for sub in ["", "charts"] {
-            for e in std::fs::read_dir(dir.join(sub)).unwrap() {
-                let p = e.unwrap().path();
-                if p.is_file() {
-                    files.push((p.strip_prefix(dir).unwrap().display().to_string(), std::fs::read(&p).unwrap()));
-                }
-            }
-        }
-        files.sort();
-        files
-    };
-    let old = snapshot(&out);
+    assert!(spawn_audit(&out, "9").wait().unwrap().success());
+    let old = common::report_files(&out);
     for delay_ms in [0u64, 5, 20] {
-        let mut child = run("19");
-        let pid = child.id() as i32;
-        let staging = root.join(format!(".report.tellscope-new-{pid}"));
-        let start = std::time::Instant::now();
-        while !staging.exists() && child.try_wait().unwrap().is_none() && start.elapsed().as_secs() < 120 {
-            std::thread::sleep(std::time::Duration::from_millis(1));
-        }
+        let mut child = spawn_audit(&out, "19");
+        let pid = wait_for_staging(&mut child, &root);
         std::thread::sleep(std::time::Duration::from_millis(delay_ms));
         // SAFETY: sends a signal to our own child process.
         unsafe { libc::kill(pid, libc::SIGKILL) };
         let status = child.wait().unwrap();
-        let now = snapshot(&out);
         if status.success() {
-            // The run finished first: its report is whole (every chart the
-            // page names is there).
+            // The run finished first: its report is whole.
             let page = String::from_utf8(std::fs::read(out.join("index.html")).unwrap()).unwrap();
             assert!(page.contains("</html>"));
             return;
         }
-        assert_eq!(now.len(), old.len(), "killed after {delay_ms} ms: the report folder changed its files");
-        assert!(now == old, "killed after {delay_ms} ms: the old report was changed");
+        assert!(common::report_files(&out) == old, "killed after {delay_ms} ms: the old report was changed");
     }
     // The next run cleans up what the killed ones left beside the folder.
-    assert!(run("9").wait().unwrap().success());
-    let left: Vec<String> = std::fs::read_dir(&root).unwrap().map(|e| e.unwrap().file_name().to_string_lossy().to_string()).filter(|n| n.starts_with('.')).collect();
-    assert!(left.is_empty(), "stale staging left: {left:?}");
+    assert!(spawn_audit(&out, "9").wait().unwrap().success());
+    assert!(left_beside(&root).is_empty(), "stale staging left: {:?}", left_beside(&root));
     std::fs::remove_dir_all(&root).ok();
 }

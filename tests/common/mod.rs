@@ -29,3 +29,18 @@ pub fn assert_uniform(what: &str, p_values: &[f64]) {
     }
 }
 
+/// Every file of a report folder (top level and `charts/`), by relative
+/// path, with its bytes, sorted: to compare two reports byte for byte.
+pub fn report_files(dir: &std::path::Path) -> Vec<(String, Vec<u8>)> {
+    let mut files = Vec::new();
+    for sub in ["", "charts"] {
+        for e in std::fs::read_dir(dir.join(sub)).unwrap() {
+            let p = e.unwrap().path();
+            if p.is_file() {
+                files.push((p.strip_prefix(dir).unwrap().display().to_string(), std::fs::read(&p).unwrap()));
+            }
+        }
+    }
+    files.sort();
+    files
+}
