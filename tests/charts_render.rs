@@ -39,6 +39,7 @@ fn count_grid_sample(pitcher: &str) -> CountGridInput {
                 top_pitch: p.into(),
                 top_share: s,
                 flagged: f,
+                above_league: f && n > 60,
             })
             .collect(),
         min_n: 20,

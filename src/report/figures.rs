@@ -139,6 +139,7 @@ fn pitcher_charts(
                         top_pitch: c.top_pitch.clone(),
                         top_share: c.top_share,
                         flagged: c.leans,
+                        above_league: c.above_league,
                     })
                     .collect(),
                 min_n: s.settings.tell_min_n as u64,

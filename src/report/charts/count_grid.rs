@@ -24,6 +24,9 @@ pub struct CountCell {
     pub top_share: f64,
     /// A flagged tell involves this count.
     pub flagged: bool,
+    /// His share is well above the yardstick's (the league's, or the rest
+    /// of the staff's) in this cell: a triangle in the corner.
+    pub above_league: bool,
 }
 
 #[derive(Debug, Clone, PartialEq)]
@@ -200,6 +203,12 @@ impl Painter for Grid<'_> {
                             HPos::Right,
                             VPos::Top,
                         )?;
+                    }
+                    if c.above_league && c.n > 0 {
+                        let x0 = GRID_X0 + s * COL_W;
+                        let y0 = GRID_Y0 + b * ROW_H;
+                        let fg = if c.n >= input.min_n { palette::text_on(palette::sequential(c.top_share)) } else { palette::INK };
+                        root.draw(&Polygon::new(vec![(x0 + 7, y0 + 21), (x0 + 21, y0 + 21), (x0 + 14, y0 + 8)], fg.filled()))?;
                     }
                 }
             }
@@ -459,6 +468,13 @@ impl Grid<'_> {
             HPos::Left,
             VPos::Center,
         )?;
+        // Key to the yardstick's triangle (sheet panels only).
+        if self.input.side.is_some() && self.cells.iter().flatten().any(|c| c.above_league) {
+            let y = y + 56;
+            root.draw(&Polygon::new(vec![(x + 2, y + 16), (x + 16, y + 16), (x + 9, y + 3)], palette::INK.filled()))?;
+            text(root, "well above", (x + 26, y + 9), &f, palette::INK, HPos::Left, VPos::Center)?;
+            text(root, &font::fit("the others' habit", &f, max_w)?, (x, y + 30), &f, palette::INK, HPos::Left, VPos::Center)?;
+        }
         Ok(())
     }
 }
