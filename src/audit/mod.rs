@@ -267,14 +267,20 @@ pub fn audit_log(
     // alongside them and fill the workers' idle moments.
     let (perms, tests) = rayon::join(
         || -> Vec<(permute::PermutationResult, permute::PermutationResult)> {
+            // The whole-model test's early decision is sized from the other
+            // pitchers' pilots (each test's BH family is the audited
+            // pitchers): how many clear effects the run is likely to hold.
+            let clear: Vec<bool> =
+                ok_tasks.par_iter().zip(observed.par_iter()).map(|(t, o)| permute::pilot_clear(t, o.statistic, settings)).collect();
+            let all_clear = clear.iter().filter(|&&c| c).count();
             ok_tasks
                 .par_iter()
                 .zip(observed.par_iter())
-                .map(|(t, o)| {
-                    // Each test's BH family is the audited pitchers.
-                    let family = ok_tasks.len();
-                    let whole = permute::permutation_test(t, o.statistic, settings, family, &tick);
-                    let beyond = permute::null_test(permute::Null::BeyondSheet, t, o.beyond, settings, family, &tick);
+                .zip(clear.par_iter())
+                .map(|((t, o), &mine)| {
+                    let m1 = permute::decision_at(ok_tasks.len(), all_clear - mine as usize, settings.fdr);
+                    let whole = permute::permutation_test(t, o.statistic, settings, Some(m1), &tick);
+                    let beyond = permute::null_test(permute::Null::BeyondSheet, t, o.beyond, settings, None, &tick);
                     (whole, beyond)
                 })
                 .collect()

@@ -139,23 +139,52 @@ pub fn permutation_test(
     task: &PitcherTask,
     observed: Stat,
     settings: &Settings,
-    family: usize,
+    decide_at: Option<usize>,
     progress: &(dyn Fn(u64) + Sync),
 ) -> PermutationResult {
-    null_test(Null::Situation, task, observed, settings, family, progress)
+    null_test(Null::Situation, task, observed, settings, decide_at, progress)
+}
+
+/// Permutations of the pilot (see [`pilot_clear`]).
+pub const PILOT: usize = 19;
+
+/// The pilot of the whole-model test: do none of `PILOT` permutations, on
+/// streams of their own (never reused by the test), reach the observed
+/// statistic? The audit counts the other pitchers' clear pilots to size a
+/// pitcher's early decision ([`decision_at`]); a pitcher's own pilot never
+/// sizes his own test, so his p-value stays valid.
+pub fn pilot_clear(task: &PitcherTask, observed: Stat, settings: &Settings) -> bool {
+    let mut ws = Null::Situation.workspace(task);
+    let mut labels = task.labels.clone();
+    (0..PILOT as u64).all(|k| !null_statistic(Null::Situation, task, settings, PILOT_STREAMS + k, &mut ws, &mut labels).reaches(&observed))
+}
+
+/// Stream numbers of the pilot's permutations, far from the test's 0..m.
+const PILOT_STREAMS: u64 = 1 << 62;
+
+/// A pitcher's early-decision size m1 for a family of `family` tests when
+/// `others_clear` of the other pitchers' pilots were clear: the least m1
+/// whose p = 1/(m1 + 1) passes Benjamini–Hochberg with as few as a quarter
+/// of the rejections the pilots foresee (1 + others_clear), and never more
+/// than the size that passes it with a single rejection.
+pub fn decision_at(family: usize, others_clear: usize, fdr: f64) -> usize {
+    let sure = SequentialPermutation::decision_size(family, fdr);
+    let foreseen = (1 + others_clear) as f64 / 4.0;
+    let likely = SequentialPermutation::decision_size((family as f64 / foreseen.max(1.0)).ceil() as usize, fdr);
+    sure.min(likely)
 }
 
 /// The permutation test of `null` (one driver for both tests): batches in
 /// parallel, read in order for Besag–Clifford stopping; the whole-model
-/// test is also decided early for a clear effect when its Benjamini–Hochberg
-/// `family` (its number of tests) is small enough for that to cost no
-/// rejection (`SequentialPermutation::with_early_decision`).
+/// test is also decided early for a clear effect after `decide_at`
+/// permutations (`SequentialPermutation::with_early_decision`, sized by
+/// [`decision_at`]).
 pub fn null_test(
     null: Null,
     task: &PitcherTask,
     observed: Stat,
     settings: &Settings,
-    family: usize,
+    decide_at: Option<usize>,
     progress: &(dyn Fn(u64) + Sync),
 ) -> PermutationResult {
     let m = settings.permutations;
@@ -166,8 +195,8 @@ pub fn null_test(
     // pitcher's count and side habits make it significant, so it is where
     // the refits go; the beyond-the-sheet test, whose borderline pitchers
     // matter most, keeps its full precision.
-    if null == Null::Situation {
-        seq = seq.with_early_decision(SequentialPermutation::decision_size(family, settings.fdr));
+    if let (Null::Situation, Some(m1)) = (null, decide_at) {
+        seq = seq.with_early_decision(m1);
     }
     let mut nulls = Vec::new();
     let mut start = 0usize;
@@ -206,5 +235,25 @@ pub fn null_test(
         stopped_early: seq.stopped_early(),
         decided_early: seq.decided_early(),
         null: nulls,
+    }
+}
+
+#[cfg(test)]
+mod decision_tests {
+    use super::*;
+
+    /// The early decision's size: with no other clear pilot it is the size
+    /// that passes Benjamini–Hochberg alone (N / fdr − 1); with many, the
+    /// size that passes it with a quarter of the pilots' clear effects.
+    #[test]
+    fn decision_sizes() {
+        assert_eq!(decision_at(18, 0, 0.05), 359);
+        // 17 foreseen rejections, a quarter of them 4.25: 18 / 4.25 → 5 tests → 99.
+        assert_eq!(decision_at(18, 16, 0.05), 99);
+        assert_eq!(decision_at(742, 700, 0.05), 99);
+        // p = 1/100 passes BH when at least 742 × 0.01 / 0.05 ≈ 149 tests
+        // reject, a quarter of the 701 foreseen.
+        assert!(0.01 <= 0.05 * (701.0 / 4.0) / 742.0);
+        assert_eq!(decision_at(742, 0, 0.05), 14_839);
     }
 }
