@@ -247,13 +247,13 @@ mod decision_tests {
     /// size that passes it with a quarter of the pilots' clear effects.
     #[test]
     fn decision_sizes() {
-        assert_eq!(decision_at(18, 0, 0.05), 359);
-        // 17 foreseen rejections, a quarter of them 4.25: 18 / 4.25 → 5 tests → 99.
-        assert_eq!(decision_at(18, 16, 0.05), 99);
-        assert_eq!(decision_at(742, 700, 0.05), 99);
-        // p = 1/100 passes BH when at least 742 × 0.01 / 0.05 ≈ 149 tests
+        assert_eq!(decision_at(18, 0, 0.05), 360);
+        // 17 foreseen rejections, a quarter of them 4.25: 18 / 4.25 → 5 tests → 100.
+        assert_eq!(decision_at(18, 16, 0.05), 100);
+        assert_eq!(decision_at(742, 700, 0.05), 100);
+        // p = 1/101 passes BH when at least 742 × (1/101) / 0.05 ≈ 147 tests
         // reject, a quarter of the 701 foreseen.
-        assert!(0.01 <= 0.05 * (701.0 / 4.0) / 742.0);
-        assert_eq!(decision_at(742, 0, 0.05), 14_839);
+        assert!(1.0 / 101.0 <= 0.05 * (701.0 / 4.0) / 742.0);
+        assert_eq!(decision_at(742, 0, 0.05), 14_840);
     }
 }

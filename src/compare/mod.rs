@@ -409,12 +409,28 @@ pub fn compare_log(
     // Label-swap permutation tests.
     let bar = crate::progress::bar((ready.len() * permutations) as u64, "label swaps", show_progress);
     let tick = |n: u64| bar.inc(n);
-    let swaps: Vec<(predictability::SwapResult, Option<f64>)> = ready
+    // A pilot of PILOT deals per pitcher (streams of its own): how many
+    // clear changes the run holds, to size each pitcher's early decision
+    // from the others' (as the audit's whole-model test does).
+    let none = |_: u64| {};
+    let clear: Vec<bool> = ready
         .par_iter()
         .map(|(p, rows, fits)| {
             let name = &log.pitchers[*p as usize];
             let observed = [&fits[0].cross, &fits[1].cross];
-            let swap = predictability::label_swap_test(log, sit, *p, name, &rows[0], &rows[1], observed, settings, permutations, ready.len(), &tick);
+            let pilot = predictability::label_swap_test(log, sit, *p, name, &rows[0], &rows[1], observed, settings, crate::audit::permute::PILOT, None, "label-swap pilot", &none);
+            pilot.permutations == crate::audit::permute::PILOT && pilot.p <= 1.0 / (crate::audit::permute::PILOT as f64 + 1.0) + 1e-12
+        })
+        .collect();
+    let all_clear = clear.iter().filter(|&&c| c).count();
+    let swaps: Vec<(predictability::SwapResult, Option<f64>)> = ready
+        .par_iter()
+        .zip(clear.par_iter())
+        .map(|((p, rows, fits), &mine)| {
+            let name = &log.pitchers[*p as usize];
+            let observed = [&fits[0].cross, &fits[1].cross];
+            let m1 = crate::audit::permute::decision_at(ready.len(), all_clear - mine as usize, settings.fdr);
+            let swap = predictability::label_swap_test(log, sit, *p, name, &rows[0], &rows[1], observed, settings, permutations, Some(m1), "label-swap", &tick);
             (swap, predictability::transfer(log, sit, *p, &rows[0], &rows[1], settings))
         })
         .collect();

@@ -232,6 +232,9 @@ fn fit_games(task: &PitcherTask, settings: &Settings) -> (HeldOut, Stat, usize, 
 
 /// Label-swap permutation test of the studentised change for one pitcher
 /// (see the module), with the interval of the change from the same deals.
+/// `purpose` names the deals' random streams: `"label-swap"` for the test,
+/// `"label-swap pilot"` for the pilot that sizes the other pitchers' early
+/// decisions (its deals are never the test's).
 #[allow(clippy::too_many_arguments)]
 pub fn label_swap_test(
     log: &PitchLog,
@@ -243,7 +246,8 @@ pub fn label_swap_test(
     observed: [&CrossFitted; 2],
     settings: &Settings,
     permutations: usize,
-    family: usize,
+    decide_at: Option<usize>,
+    purpose: &str,
     progress: &(dyn Fn(u64) + Sync),
 ) -> SwapResult {
     let mut pooled: Vec<u32> = rows_before.iter().chain(rows_after).copied().collect();
@@ -265,7 +269,7 @@ pub fn label_swap_test(
     // One deal: (T, bits difference, lift difference), None when a dealt
     // period cannot be cross-fitted.
     let one = |j: usize| -> Option<(f64, f64, f64)> {
-        let mut rng = stream(settings.seed, name, "label-swap", j as u64);
+        let mut rng = stream(settings.seed, name, purpose, j as u64);
         let mut in_before: Vec<bool> = (0..games.len()).map(|i| i < n_before_games).collect();
         for i in (1..in_before.len()).rev() {
             let k = rng.random_range(0..=i);
@@ -286,10 +290,12 @@ pub fn label_swap_test(
     let m = permutations;
     // As in audit::permute: each null value is fed to the stopping rule as
     // 1 (|T| reaches the observed one) or 0, against 0.5.
-    // Decided early for a clear change when the predictability family (one
-    // test per pitcher) is small enough for that to cost no rejection.
-    let mut seq = SequentialPermutation::new(0.5, m, settings.stop_after_exceedances)
-        .with_early_decision(SequentialPermutation::decision_size(family, settings.fdr));
+    // Decided early for a clear change after `decide_at` deals (sized by
+    // the other pitchers' pilots, as in the audit).
+    let mut seq = SequentialPermutation::new(0.5, m, settings.stop_after_exceedances);
+    if let Some(m1) = decide_at {
+        seq = seq.with_early_decision(m1);
+    }
     let (mut spread_bits, mut spread_lift) = (Vec::new(), Vec::new());
     let mut start = 0;
     while start < m && !seq.is_done() {

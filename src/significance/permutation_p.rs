@@ -90,12 +90,14 @@ impl SequentialPermutation {
     }
 
     /// The early-decision size for `tests` tests at false discovery rate
-    /// `fdr`: the least m1 with 1/(m1 + 1) ≤ fdr / tests.
+    /// `fdr`: m1 = ⌈tests / fdr⌉, so 1/(m1 + 1) < fdr / tests.
     pub fn decision_size(tests: usize, fdr: f64) -> usize {
         if tests == 0 || !(fdr > 0.0) {
             return usize::MAX;
         }
-        ((tests as f64 / fdr).ceil() as usize).saturating_sub(1).max(1)
+        // One more than the least, so p = 1/(m1 + 1) lies strictly below
+        // fdr / tests and its BH q never meets the bar only by rounding.
+        ((tests as f64 / fdr).ceil() as usize).max(1)
     }
 
     /// `observed`: the statistic on the real labels (larger = stronger
@@ -254,8 +256,8 @@ mod tests {
     /// one is Besag–Clifford's unchanged.
     #[test]
     fn early_decision_rules() {
-        assert_eq!(SequentialPermutation::decision_size(18, 0.05), 359);
-        assert_eq!(SequentialPermutation::decision_size(20, 0.05), 399);
+        assert_eq!(SequentialPermutation::decision_size(18, 0.05), 360);
+        assert_eq!(SequentialPermutation::decision_size(20, 0.05), 400);
         let mut s = SequentialPermutation::new(10.0, 999, 10).with_early_decision(359);
         let mut n = 0;
         while !s.push(1.0) {
