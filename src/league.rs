@@ -18,11 +18,10 @@ use std::collections::{HashMap, HashSet};
 /// Cells of the sheet: count × batter side.
 pub const CELLS: usize = 24;
 
-/// The sheet cell of a row: `count · 2 + side` (side 0 left, 1 right), as
-/// `PitcherTask::cell`.
+/// The sheet cell of a row (`levels::sheet_cell`, as `PitcherTask::cell`).
 #[inline]
-pub fn cell_of(log: &PitchLog, r: usize) -> usize {
-    (log.balls[r] as usize * 3 + log.strikes[r] as usize) * 2 + (log.bats[r] == Hand::R) as usize
+fn cell_of(log: &PitchLog, r: usize) -> usize {
+    crate::situations::levels::sheet_cell(log.balls[r], log.strikes[r], log.bats[r])
 }
 
 /// A pitch is in a pitcher's arsenal for a season when it is at least this
@@ -39,6 +38,8 @@ pub struct LeagueCells {
     n_types: usize,
     /// (hand, season, t) → CELLS × n_types counts.
     counts: HashMap<(Hand, i32, u16), Vec<u64>>,
+    /// Each pitcher's arsenal per season ([`arsenals`]).
+    arsenal: HashMap<(u32, i32), Vec<u16>>,
 }
 
 impl LeagueCells {
@@ -52,7 +53,7 @@ impl LeagueCells {
                 counts.entry((log.throws[r], log.season[r], t)).or_insert_with(|| vec![0; CELLS * n_types])[at] += 1;
             }
         }
-        LeagueCells { n_types, counts }
+        LeagueCells { n_types, counts, arsenal }
     }
 
     /// Pitch type `ty` in `cell` among pitchers throwing with `hand` who
@@ -118,7 +119,7 @@ pub fn arsenals(log: &PitchLog) -> HashMap<(u32, i32), Vec<u16>> {
 /// pitchers of the tell pitcher's throwing hand who have the pitch in their
 /// arsenal that season. One pass over the file for every tell; each
 /// pitcher's own pitches are counted apart and taken out.
-pub fn tell_shares(log: &PitchLog, sit: &Situations, tests: &mut [TellTest]) {
+pub fn tell_shares(log: &PitchLog, sit: &Situations, league: &LeagueCells, tests: &mut [TellTest]) {
     let pitcher_of: HashMap<&str, u32> = log.pitchers.iter().enumerate().map(|(i, p)| (p.as_str(), i as u32)).collect();
     let type_of: HashMap<&str, u16> = log.pitch_types.iter().enumerate().map(|(i, t)| (t.as_str(), i as u16)).collect();
     let mut hand_of: Vec<Option<Hand>> = vec![None; log.pitchers.len()];
@@ -136,17 +137,7 @@ pub fn tell_shares(log: &PitchLog, sit: &Situations, tests: &mut [TellTest]) {
     let mut key_of: Vec<Option<(u64, u32)>> = vec![None; tests.len()];
     for (i, t) in tests.iter().enumerate().filter(|(_, t)| t.flagged) {
         let (Some(&p), Some(&ty)) = (pitcher_of.get(t.pitcher.as_str()), type_of.get(t.pitch_type.as_str())) else { continue };
-        let Some(parts) = t
-            .situation
-            .iter()
-            .map(|(f, level)| {
-                let c = sit.factors.iter().position(|c| c.factor == *f)?;
-                Some((c, sit.factors[c].levels.iter().position(|l| l == level)? as u8))
-            })
-            .collect::<Option<Vec<(usize, u8)>>>()
-        else {
-            continue;
-        };
+        let Some(parts) = sit.level_codes(&t.situation) else { continue };
         if parts.is_empty() || parts.len() > 2 {
             continue;
         }
@@ -167,7 +158,7 @@ pub fn tell_shares(log: &PitchLog, sit: &Situations, tests: &mut [TellTest]) {
     if wanted.is_empty() {
         return;
     }
-    let arsenal = arsenals(log);
+    let arsenal = &league.arsenal;
     // League (n, of type) per key, and each tell pitcher's own.
     let mut league: HashMap<u64, (u64, u64)> = HashMap::new();
     let mut own: HashMap<(u64, u32), (u64, u64)> = HashMap::new();

@@ -187,17 +187,6 @@ pub struct TellCost {
     pub compared_with: String,
 }
 
-/// Level codes of a situation, per factor column.
-fn codes_of(sit: &Situations, situation: &crate::tells::Situation) -> Option<Vec<(usize, u8)>> {
-    situation
-        .iter()
-        .map(|(f, level)| {
-            let i = sit.factors.iter().position(|c| c.factor == *f)?;
-            let code = sit.factors[i].levels.iter().position(|l| l == level)? as u8;
-            Some((i, code))
-        })
-        .collect()
-}
 
 #[inline]
 fn holds(sit: &Situations, codes: &[(usize, u8)], row: usize) -> bool {
@@ -214,7 +203,7 @@ pub fn cost_of_tells(log: &PitchLog, sit: &Situations, tasks: &[&PitcherTask], t
     // pitcher's pitches by (situation, type), gathered in one pass.
     let mut wanted: HashMap<(Vec<(usize, u8)>, u16), Outcomes> = HashMap::new();
     for t in tests.iter().filter(|t| t.flagged && t.situation.contains_key(&Factor::Count)) {
-        if let (Some(codes), Some(ty)) = (codes_of(sit, &t.situation), log.pitch_types.iter().position(|p| *p == t.pitch_type)) {
+        if let (Some(codes), Some(ty)) = (sit.level_codes(&t.situation), log.pitch_types.iter().position(|p| *p == t.pitch_type)) {
             wanted.insert((codes, ty as u16), Outcomes::default());
         }
     }
@@ -237,7 +226,7 @@ pub fn cost_of_tells(log: &PitchLog, sit: &Situations, tasks: &[&PitcherTask], t
         if !t.flagged {
             continue;
         }
-        let (Some(task), Some(codes)) = (task_of.get(t.pitcher.as_str()), codes_of(sit, &t.situation)) else { continue };
+        let (Some(task), Some(codes)) = (task_of.get(t.pitcher.as_str()), sit.level_codes(&t.situation)) else { continue };
         let Some(ty) = log.pitch_types.iter().position(|p| *p == t.pitch_type).map(|x| x as u16) else { continue };
         // His pitches of the type, in and out of the situation, by count.
         let mut inside = [Outcomes::default(); 12];

@@ -185,6 +185,18 @@ pub fn selected_pitchers(log: &ingest::PitchLog, settings: &Settings) -> Result<
     Ok(out)
 }
 
+/// A pitcher's `rows` counted by season and club (empty without a `team`
+/// column; a row without a club counts as `unknown`).
+pub fn pitches_by_team<'a>(log: &ingest::PitchLog, rows: impl IntoIterator<Item = &'a u32>) -> Vec<TeamPitches> {
+    let Some(teams) = log.team.as_ref() else { return Vec::new() };
+    let mut by: BTreeMap<(i32, String), usize> = BTreeMap::new();
+    for &r in rows {
+        let club = teams[r as usize].map(|t| log.teams[t as usize].clone()).unwrap_or_else(|| "unknown".into());
+        *by.entry((log.season[r as usize], club)).or_insert(0) += 1;
+    }
+    by.into_iter().map(|((season, team), pitches)| TeamPitches { season, team, pitches }).collect()
+}
+
 /// Pitchers with a pitch for `team` in the log's latest season.
 pub fn team_pitchers(log: &ingest::PitchLog, team: &str) -> Result<Vec<u32>> {
     let Some(teams) = log.team.as_ref() else {
@@ -292,15 +304,16 @@ pub fn audit_log(
     let (perms, beyond_perms): (Vec<_>, Vec<_>) = perms.into_iter().unzip();
     let mut tests = tests;
     crate::outcomes::cost_of_tells(log, sit, &ok_tasks, &mut tests, settings.fdr);
-    crate::league::tell_shares(log, sit, &mut tests);
+    // The league as the yardstick: counted once for the file, for the
+    // tells' shares here and the sheet cells below.
+    let league_cells = crate::league::LeagueCells::build(log);
+    crate::league::tell_shares(log, sit, &league_cells, &mut tests);
     let model_q = fdr::bh_q_values(&perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
     // The beyond-the-sheet p-values form their own family over pitchers.
     let beyond_q = fdr::bh_q_values(&beyond_perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
 
-    // The league as the yardstick: cell shares counted once for the file,
-    // and every pitcher's observed figures for percentiles (with --team,
-    // the league's other pitchers are fitted once, without permutations).
-    let league_cells = crate::league::LeagueCells::build(log);
+    // Every pitcher's observed figures for percentiles (with --team, the
+    // league's other pitchers are fitted once, without permutations).
     let mut league_figures: Vec<(u32, f64, f64)> =
         ok_tasks.iter().zip(&observed).map(|(t, o)| (t.pitcher, o.figures.bits_gained, o.figures.bits_gained - o.sheet_bits)).collect();
     if settings.team.is_some() {
@@ -339,25 +352,13 @@ pub fn audit_log(
         for &r in &task.rows {
             *pitches_by_season.entry(log.season[r as usize]).or_insert(0usize) += 1;
         }
-        let pitches_by_team = match (&settings.team, &log.team) {
-            (Some(_), Some(teams)) => {
-                let mut by: BTreeMap<(i32, String), usize> = BTreeMap::new();
-                for &r in &task.rows {
-                    let club = teams[r as usize].map(|t| log.teams[t as usize].clone()).unwrap_or_else(|| "unknown".into());
-                    *by.entry((log.season[r as usize], club)).or_insert(0) += 1;
-                }
-                by.into_iter().map(|((season, team), pitches)| summary::TeamPitches { season, team, pitches }).collect()
-            }
-            _ => Vec::new(),
+        let pitches_by_team = match settings.team {
+            Some(_) => pitches_by_team(log, &task.rows),
+            None => Vec::new(),
         };
         let team_caution = settings.team.as_ref().and_then(|team| {
-            let elsewhere: Vec<&summary::TeamPitches> = pitches_by_team.iter().filter(|t| &t.team != team).collect();
-            (!elsewhere.is_empty()).then(|| {
-                let parts: Vec<String> = pitches_by_team.iter().map(|t| format!("{} for {} in {}", t.pitches, t.team, t.season)).collect();
-                format!(
-                    "Not all his pitches were for {team}: {}. All of them are used here, since they are all his habits; how he pitched for another club may differ from how he pitches for this one.",
-                    parts.join(", ")
-                )
+            wording::elsewhere_sentence(team, &pitches_by_team).map(|w| {
+                format!("{w} All of them are used here, since they are all his habits; how he pitched for another club may differ from how he pitches for this one.")
             })
         });
         if !enough(task) {

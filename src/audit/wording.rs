@@ -465,3 +465,12 @@ fn league_phrase(t: &TellTest) -> String {
         None => String::new(),
     }
 }
+
+/// "Not all his pitches were for T: 503 for T in 2025, 194 for U in 2025,
+/// 504 for T in 2026." when some of `by_team` is for another club.
+pub fn elsewhere_sentence(team: &str, by_team: &[crate::audit::summary::TeamPitches]) -> Option<String> {
+    by_team.iter().any(|t| t.team != team).then(|| {
+        let parts: Vec<String> = by_team.iter().map(|t| format!("{} for {} in {}", t.pitches, t.team, t.season)).collect();
+        format!("Not all his pitches were for {team}: {}.", parts.join(", "))
+    })
+}

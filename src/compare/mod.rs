@@ -532,18 +532,10 @@ pub fn compare_log(
                 let mut cautions = Vec::new();
                 // With --team: where his pitches of each season came from,
                 // when not all for the club.
-                if let (Some(team), Some(teams)) = (&settings.team, &log.team) {
-                    let mut by: BTreeMap<(i32, String), usize> = BTreeMap::new();
-                    for &r in rows[0].iter().chain(&rows[1]) {
-                        let club = teams[r as usize].map(|t| log.teams[t as usize].clone()).unwrap_or_else(|| "unknown".into());
-                        *by.entry((log.season[r as usize], club)).or_insert(0) += 1;
-                    }
-                    if by.keys().any(|(_, c)| c != team) {
-                        let parts: Vec<String> = by.iter().map(|((y, c), n)| format!("{n} for {c} in {y}")).collect();
-                        cautions.push(format!(
-                            "Not all his pitches were for {team}: {}. All of them are compared, since they are all his habits; a change of club can change how he pitches.",
-                            parts.join(", ")
-                        ));
+                if let Some(team) = &settings.team {
+                    let by_team = crate::audit::pitches_by_team(log, rows[0].iter().chain(&rows[1]));
+                    if let Some(w) = crate::audit::wording::elsewhere_sentence(team, &by_team) {
+                        cautions.push(format!("{w} All of them are compared, since they are all his habits; a change of club can change how he pitches."));
                     }
                 }
                 for (f, label) in [(&fb, labels[0]), (&fa, labels[1])] {

@@ -31,10 +31,10 @@
 
 use super::stream;
 use crate::error::Result;
-use crate::evaluate::fit::{argmax, fit_and_score, statistic, Stat, Workspace};
+use crate::evaluate::fit::{argmax, fit_and_score, Workspace};
 use crate::evaluate::split::Plan;
 use crate::evaluate::task::PitcherTask;
-use crate::evaluate::{self, HeldOut};
+use crate::evaluate::HeldOut;
 use crate::ingest::PitchLog;
 use crate::settings::Settings;
 use crate::significance::permutation_p::SequentialPermutation;
@@ -188,7 +188,7 @@ pub fn cross_fit(log: &PitchLog, sit: &Situations, pitcher: u32, rows: &[u32], s
         let plan = Plan::cross_fit(log, rows, folds, f, label)?;
         let task = PitcherTask::build(log, sit, &plan.local(log, rows), pitcher, rows.to_vec());
         n_train += task.n_train();
-        let (_, _, u, g) = fit_games(&task, settings);
+        let (u, g) = fit_games(&task, settings);
         unseen += u;
         games.extend(g);
     }
@@ -211,12 +211,11 @@ pub fn cross_fit(log: &PitchLog, sit: &Situations, pitcher: u32, rows: &[u32], s
     Ok(CrossFitted { figures, bits_var, unseen, n_train: n_train / folds, games })
 }
 
-/// Fit and score a one-fold task, keeping each game's sums by game id.
-fn fit_games(task: &PitcherTask, settings: &Settings) -> (HeldOut, Stat, usize, Vec<(u32, GameScore)>) {
+/// Fit and score a one-fold task: its scored pitches of types new to him,
+/// and each game's sums by game id.
+fn fit_games(task: &PitcherTask, settings: &Settings) -> (usize, Vec<(u32, GameScore)>) {
     let mut ws = Workspace::new(task);
     let scored = fit_and_score(task, &task.labels, settings, &mut ws, true);
-    let figures = evaluate::overall(&scored, &task.labels);
-    let stat = statistic(&scored, settings.statistic);
     let mut by_game: BTreeMap<u32, GameScore> = BTreeMap::new();
     for (i, &r) in scored.rows.iter().enumerate() {
         let y = task.labels[r as usize] as usize;
@@ -227,7 +226,7 @@ fn fit_games(task: &PitcherTask, settings: &Settings) -> (HeldOut, Stat, usize, 
         g.model_right += (argmax(m) == y) as u8 as f64;
         g.prior_right += (argmax(p) == y) as u8 as f64;
     }
-    (figures, stat, scored.unseen, by_game.into_iter().collect())
+    (scored.unseen, by_game.into_iter().collect())
 }
 
 /// Label-swap permutation test of the studentised change for one pitcher

@@ -89,8 +89,10 @@ impl PitcherTask {
         let count: Vec<u8> = rows.iter().map(|&r| log.balls[r as usize] * 3 + log.strikes[r as usize]).collect();
         let cell: Vec<u8> = rows
             .iter()
-            .zip(&count)
-            .map(|(&r, &c)| c * 2 + (log.bats[r as usize] == crate::situations::levels::Hand::R) as u8)
+            .map(|&r| {
+                let r = r as usize;
+                crate::situations::levels::sheet_cell(log.balls[r], log.strikes[r], log.bats[r]) as u8
+            })
             .collect();
         let mut beyond_index: std::collections::HashMap<(u32, u8), usize> = std::collections::HashMap::new();
         let mut beyond_strata: Vec<Vec<u32>> = Vec::new();

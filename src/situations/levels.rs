@@ -119,6 +119,12 @@ pub fn count_index(balls: u8, strikes: u8) -> usize {
     balls as usize * 3 + strikes as usize
 }
 
+/// The sheet's cell of a pitch: count × batter side, `count · 2 + side`
+/// (side 0 left, 1 right), 24 cells.
+pub fn sheet_cell(balls: u8, strikes: u8, bats: Hand) -> usize {
+    count_index(balls, strikes) * 2 + (bats == Hand::R) as usize
+}
+
 /// `B-S`, e.g. `3-1`.
 pub fn count_level(balls: u8, strikes: u8) -> &'static str {
     COUNTS[count_index(balls, strikes)]

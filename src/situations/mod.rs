@@ -52,6 +52,18 @@ impl Situations {
     pub fn has(&self, f: Factor) -> bool {
         self.get(f).is_some()
     }
+
+    /// A situation's (factor column, level code) pairs; `None` when a
+    /// factor or level is not among these situations'.
+    pub fn level_codes<'a>(&self, situation: impl IntoIterator<Item = (&'a Factor, &'a String)>) -> Option<Vec<(usize, u8)>> {
+        situation
+            .into_iter()
+            .map(|(f, level)| {
+                let i = self.factors.iter().position(|c| c.factor == *f)?;
+                Some((i, self.factors[i].levels.iter().position(|l| l == level)? as u8))
+            })
+            .collect()
+    }
 }
 
 /// Build every factor from an ordered log.
