@@ -26,6 +26,17 @@ pub struct ConfigFile {
     pub tells: TellConfig,
     #[serde(default)]
     pub compare: CompareConfig,
+    #[serde(default)]
+    pub location: LocationConfig,
+}
+
+/// Where he throws it (crate::location): how many located pitches of one
+/// type the location model needs.
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct LocationConfig {
+    pub min_train_pitches: Option<usize>,
+    pub min_test_pitches: Option<usize>,
 }
 
 #[derive(Debug, Clone, Default, Deserialize)]
@@ -135,6 +146,10 @@ pub struct Settings {
     pub min_test_pitches: usize,
     pub forward_blocks: usize,
     pub new_type_share: f64,
+    /// A pitch type enters his location figures with this many located
+    /// pitches to learn from and to score.
+    pub location_min_train: usize,
+    pub location_min_test: usize,
     pub tree: TreeSettings,
     pub leaf_smoothing: f64,
     pub prior_blend: f64,
@@ -333,6 +348,8 @@ impl Settings {
                     )))
                 }
             },
+            location_min_train: check_range("[location] min_train_pitches", cfg.location.min_train_pitches.unwrap_or(150), 30, 10_000_000)?,
+            location_min_test: check_range("[location] min_test_pitches", cfg.location.min_test_pitches.unwrap_or(50), 10, 10_000_000)?,
             new_pitch_share: check_range("[compare] new_pitch_share", cfg.compare.new_pitch_share.unwrap_or(0.05), 0.0, 1.0)?,
             absent_share: check_range("[compare] absent_share", cfg.compare.absent_share.unwrap_or(0.01), 0.0, 1.0)?,
             bootstrap: check_range("[compare] bootstrap", cfg.compare.bootstrap.unwrap_or(400), 50, 100_000)?,

@@ -142,6 +142,10 @@ pub struct TellTest {
     pub league_share: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub league_n: Option<u64>,
+    /// Location tells (crate::location): the plate region whose share
+    /// moves; `pitch_type` is then the pitch thrown there.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub region: Option<String>,
 }
 
 impl TellTest {
@@ -187,7 +191,7 @@ pub fn verdict(direction: Direction, share: f64, k: u64, n: u64, reference: Opti
     }
 }
 
-fn ser_situation<S: serde::Serializer>(s: &Situation, ser: S) -> Result<S::Ok, S::Error> {
+pub fn ser_situation<S: serde::Serializer>(s: &Situation, ser: S) -> Result<S::Ok, S::Error> {
     use serde::ser::SerializeMap;
     let mut m = ser.serialize_map(Some(s.len()))?;
     for (f, l) in s {
@@ -250,10 +254,43 @@ fn key_situation(cols: &[&crate::situations::FactorColumn], mut k: usize) -> Sit
     out
 }
 
-/// Run every tell test for the given pitchers (tasks), then one BH family.
+/// What the tasks' labels are: each log row's label in the run's label set
+/// (for the staff's shares; `NO_LABEL` for a row outside it) and the set's
+/// names. A task's `class_types` index this set.
+pub struct Labels<'a> {
+    pub of_row: &'a [u16],
+    pub names: &'a [String],
+}
+
+/// A row outside the label set.
+pub const NO_LABEL: u16 = u16::MAX;
+
+impl<'a> Labels<'a> {
+    /// Pitch types, the audit's labels.
+    pub fn pitch_types(log: &'a PitchLog) -> Labels<'a> {
+        Labels { of_row: &log.pitch_type, names: &log.pitch_types }
+    }
+}
+
+/// Run every tell test for the given pitchers (tasks), then the
+/// false-discovery control of each layer.
 pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[&PitcherTask], settings: &Settings) -> Vec<TellTest> {
+    let tests = find_in(log, sit, discovery, tasks, settings, &Labels::pitch_types(log));
+    finish(tests, settings)
+}
+
+/// Every tell test of the tasks, whose labels are `labels`, unflagged
+/// (q-values left at 1): [`finish`] controls the false discoveries.
+pub fn find_in(
+    log: &PitchLog,
+    sit: &Situations,
+    discovery: &[bool],
+    tasks: &[&PitcherTask],
+    settings: &Settings,
+    labels: &Labels,
+) -> Vec<TellTest> {
     let defs = definitions(sit, settings);
-    let n_types = log.pitch_types.len();
+    let n_types = labels.names.len();
     // Staff: the pitcher's team when the log has one, else the whole log.
     let team_of_row = |r: usize| -> u32 { log.team.as_ref().and_then(|t| t[r]).map(|t| t + 1).unwrap_or(0) };
     let n_teams = log.teams.len() + 1;
@@ -268,9 +305,13 @@ pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[&Pitc
             if !discovery[r] {
                 continue;
             }
+            let label = labels.of_row[r];
+            if label == NO_LABEL {
+                continue;
+            }
             if let Some(k) = key(&cols, r) {
                 let t = team_of_row(r) as usize;
-                staff[(t * n_keys + k) * n_types + log.pitch_type[r] as usize] += 1;
+                staff[(t * n_keys + k) * n_types + label as usize] += 1;
                 staff_n[t * n_keys + k] += 1;
             }
         }
@@ -278,7 +319,7 @@ pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[&Pitc
         let layer = Layer::of(def);
         for task in tasks {
             if layer == Layer::Beyond {
-                beyond_tests(log, &cols, task, settings, &mut tests, &staff, &staff_n, n_keys, team_of_row);
+                beyond_tests(labels.names, &cols, task, settings, &mut tests, &staff, &staff_n, n_keys, team_of_row);
                 continue;
             }
             let kc = task.n_classes;
@@ -351,7 +392,7 @@ pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[&Pitc
                         tests.push(TellTest {
                             pitcher: task.name.clone(),
                             situation: key_situation(&cols, key),
-                            pitch_type: log.pitch_types[gtype].clone(),
+                            pitch_type: labels.names[gtype].clone(),
                             direction,
                             n: n_in as usize,
                             k: k_in as usize,
@@ -378,14 +419,20 @@ pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[&Pitc
                             cost: None,
                             league_share: None,
                             league_n: None,
+                            region: None,
                         });
                     }
                 }
             }
         }
     }
-    // Each layer is its own family: the sheet's many count and side tests
-    // never lower (or raise) the bar for a tell beyond the sheet.
+    tests
+}
+
+/// The false-discovery control of a run's tell tests: each layer is its
+/// own family (the sheet's many count and side tests never lower, or raise,
+/// the bar for a tell beyond the sheet); then the flags and narrowings.
+pub fn finish(tests: Vec<TellTest>, settings: &Settings) -> Vec<TellTest> {
     let (mut sheet, mut beyond): (Vec<TellTest>, Vec<TellTest>) = tests.into_iter().partition(|t| t.layer == Layer::Sheet);
     control_fdr(&mut sheet, settings);
     control_fdr(&mut beyond, settings);
@@ -415,7 +462,7 @@ fn staff_share(staff: &[u32], staff_n: &[u32], n_keys: usize, n_types: usize, te
 /// a game's pitches lie wholly on the discovery or the held-out side).
 #[allow(clippy::too_many_arguments)]
 fn beyond_tests(
-    log: &PitchLog,
+    names: &[String],
     cols: &[&crate::situations::FactorColumn],
     task: &PitcherTask,
     settings: &Settings,
@@ -426,7 +473,7 @@ fn beyond_tests(
     team_of_row: impl Fn(usize) -> u32,
 ) {
     let kc = task.n_classes;
-    let n_types = log.pitch_types.len();
+    let n_types = names.len();
     let mut is_disc = vec![false; task.rows.len()];
     for &i in &task.discovery {
         is_disc[i as usize] = true;
@@ -547,7 +594,7 @@ fn beyond_tests(
                 tests.push(TellTest {
                     pitcher: task.name.clone(),
                     situation: key_situation(cols, k),
-                    pitch_type: log.pitch_types[gtype].clone(),
+                    pitch_type: names[gtype].clone(),
                     direction,
                     n: n as usize,
                     k: x as usize,
@@ -574,6 +621,7 @@ fn beyond_tests(
                     cost: None,
                     league_share: None,
                     league_n: None,
+                    region: None,
                 });
             }
         }
@@ -645,9 +693,9 @@ fn control_fdr(tests: &mut [TellTest], settings: &Settings) {
 fn mark_narrowings(tests: &mut [TellTest], min_effect: f64) {
     // Two situations that pick out exactly the same pitches (0-0 counts and
     // the first pitch of a plate appearance) are one tell: keep the first.
-    let mut seen: BTreeMap<(String, String, Direction, usize, usize, usize, u64), Situation> = BTreeMap::new();
+    let mut seen: BTreeMap<(String, String, Option<String>, Direction, usize, usize, usize, u64), Situation> = BTreeMap::new();
     for t in tests.iter_mut().filter(|t| t.flagged) {
-        let key = (t.pitcher.clone(), t.pitch_type.clone(), t.direction, t.n, t.k, t.held_out_n, t.baseline_share.to_bits());
+        let key = (t.pitcher.clone(), t.pitch_type.clone(), t.region.clone(), t.direction, t.n, t.k, t.held_out_n, t.baseline_share.to_bits());
         match seen.get(&key) {
             Some(first) if *first != t.situation => t.within = Some(first.clone()),
             Some(_) => {}
@@ -656,14 +704,14 @@ fn mark_narrowings(tests: &mut [TellTest], min_effect: f64) {
             }
         }
     }
-    let mut singles: BTreeMap<(String, String, Direction, Factor, String), f64> = BTreeMap::new();
+    let mut singles: BTreeMap<(String, String, Option<String>, Direction, Factor, String), f64> = BTreeMap::new();
     for t in tests.iter().filter(|t| t.flagged && t.situation.len() == 1) {
         let (f, l) = t.situation.iter().next().unwrap();
-        singles.insert((t.pitcher.clone(), t.pitch_type.clone(), t.direction, *f, l.clone()), t.share);
+        singles.insert((t.pitcher.clone(), t.pitch_type.clone(), t.region.clone(), t.direction, *f, l.clone()), t.share);
     }
     for t in tests.iter_mut().filter(|t| t.flagged && t.situation.len() == 2 && t.within.is_none()) {
         for (f, l) in &t.situation {
-            if let Some(&s) = singles.get(&(t.pitcher.clone(), t.pitch_type.clone(), t.direction, *f, l.clone())) {
+            if let Some(&s) = singles.get(&(t.pitcher.clone(), t.pitch_type.clone(), t.region.clone(), t.direction, *f, l.clone())) {
                 if (t.share - s).abs() < min_effect {
                     let mut one = Situation::new();
                     one.insert(*f, l.clone());

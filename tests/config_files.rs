@@ -24,7 +24,7 @@ fn the_defaults_file_is_the_built_in_defaults() {
     // Every section and key of the file is one the loader knows (it
     // refuses unknown keys), and each section is present.
     let text = std::fs::read_to_string(root().join("config/defaults.toml")).unwrap();
-    for section in ["[audit]", "[model]", "[tells]", "[compare]"] {
+    for section in ["[audit]", "[model]", "[tells]", "[compare]", "[location]"] {
         assert!(text.contains(section), "{section} missing");
     }
 }

@@ -1,6 +1,7 @@
 //! The predictability audit: the whole pipeline from a pitch log to one
 //! [`summary::Summary`] value (plus the full tell tests for `tells.csv`).
 
+pub mod location;
 pub mod permute;
 pub mod sheet;
 pub mod summary;
@@ -272,7 +273,7 @@ pub fn audit_log(
     let observed: Vec<Observed> = ok_tasks.par_iter().map(|t| observe(t, settings, names)).collect();
     timer.lap("observed fits");
 
-    let total: u64 = (2 * ok_tasks.len() * settings.permutations) as u64;
+    let total: u64 = (3 * ok_tasks.len() * settings.permutations) as u64;
     let bar = crate::progress::bar(total, "permutations", show_progress);
     let tick = |n: u64| bar.inc(n);
     // The tell tests do not depend on the permutation tests; they run
@@ -299,8 +300,12 @@ pub fn audit_log(
         },
         || tells::find(log, sit, &discovery, &ok_tasks, settings),
     );
-    bar.finish_and_clear();
     timer.lap("permutation and tell tests");
+    // Where he throws it: its own permutation and tell tests.
+    let location = location::audit(log, sit, &discovery, &ok_tasks, settings, &tick);
+    bar.finish_and_clear();
+    timer.lap("location tests");
+    let location_tests = tells::ByPitcher::new(&location.tests);
     let (perms, beyond_perms): (Vec<_>, Vec<_>) = perms.into_iter().unzip();
     let mut tests = tests;
     crate::outcomes::cost_of_tells(log, sit, &ok_tasks, &mut tests, settings.fdr);
@@ -417,6 +422,10 @@ pub fn audit_log(
                 headline: Vec::new(),
                 tell_family_q: None,
                 cautions: vec![format!("No figures: {reason}.")],
+                location: None,
+                location_tells: Vec::new(),
+                location_mix: Vec::new(),
+                location_note: None,
             });
             continue;
         }
@@ -425,7 +434,15 @@ pub fn audit_log(
         let q = model_q[ok_iter];
         let bperm = &beyond_perms[ok_iter];
         let bq = beyond_q[ok_iter];
+        let (loc_figures, loc_mix) = (location.figures[ok_iter].clone(), location.mixes[ok_iter].clone());
         ok_iter += 1;
+        let location_tells: Vec<location::LocationTell> =
+            tells::flagged_sorted(location_tests.of(&task.name))
+                .into_iter()
+                .filter(|t| t.within.is_none())
+                .map(|t| location::LocationTell::of(t, &task.evaluation.tells_checked_on))
+                .collect();
+        let location_note = location::note(&loc_figures, location.missing, settings);
         let (sheet_cells, sheet_season) =
             sheet::sheet(task, |i| log.season[task.rows[i] as usize], names, settings, (&league_cells, log.throws[task.rows[0] as usize]));
         let last_fold = task.folds.last().unwrap();
@@ -561,6 +578,10 @@ pub fn audit_log(
             headline,
             tell_family_q: his.first().map(|t| t.family_q),
             cautions,
+            location: loc_figures,
+            location_tells,
+            location_mix: loc_mix,
+            location_note,
         });
     }
     let mut notes = input_notes(sit, &source, "left out");
@@ -584,6 +605,11 @@ pub fn audit_log(
             if chosen.len() == 1 { "is audited" } else { "are audited" },
             log.pitchers.len() - chosen.len()
         ));
+    }
+    if location.missing {
+        notes.push(
+            "The log has no `loc_side_ft` and `loc_height_ft` columns, so where each pitch goes (location figures and location tells) cannot be shown; add them to see it.".into(),
+        );
     }
     if log.result.is_none() {
         notes.push(

@@ -187,34 +187,55 @@ pub fn null_test(
     decide_at: Option<usize>,
     progress: &(dyn Fn(u64) + Sync),
 ) -> PermutationResult {
-    let m = settings.permutations;
-    // The stopping rule counts exceedances; each null value is fed to it as
-    // 1 (reaches the observed pair) or 0 against an observed 0.5.
-    let mut seq = SequentialPermutation::new(0.5, m, settings.stop_after_exceedances);
     // Only the whole-model test decides early: on real logs nearly every
     // pitcher's count and side habits make it significant, so it is where
     // the refits go; the beyond-the-sheet test, whose borderline pitchers
     // matter most, keeps its full precision.
-    if let (Null::Situation, Some(m1)) = (null, decide_at) {
+    let decide_at = decide_at.filter(|_| null == Null::Situation);
+    drive(
+        observed,
+        settings,
+        decide_at,
+        progress,
+        || (null.workspace(task), task.labels.clone()),
+        |j, (ws, labels)| null_statistic(null, task, settings, j, ws, labels),
+    )
+}
+
+/// The one permutation driver: permutations `0..settings.permutations` in
+/// parallel batches, read in order for Besag–Clifford stopping (and the
+/// early decision after `decide_at` when given). `null_stat(j, scratch)` is
+/// permutation `j`'s statistic; `scratch` is one per worker thread, made by
+/// `scratch` and kept across batches (a refit's result never depends on
+/// what it held before, so results are the same at any thread count).
+pub fn drive<W: Send>(
+    observed: Stat,
+    settings: &Settings,
+    decide_at: Option<usize>,
+    progress: &(dyn Fn(u64) + Sync),
+    scratch: impl Fn() -> W + Sync,
+    null_stat: impl Fn(u64, &mut W) -> Stat + Sync,
+) -> PermutationResult {
+    let m = settings.permutations;
+    // The stopping rule counts exceedances; each null value is fed to it as
+    // 1 (reaches the observed pair) or 0 against an observed 0.5.
+    let mut seq = SequentialPermutation::new(0.5, m, settings.stop_after_exceedances);
+    if let Some(m1) = decide_at {
         seq = seq.with_early_decision(m1);
     }
     let mut nulls = Vec::new();
     let mut start = 0usize;
-    let pool: Vec<std::sync::Mutex<Option<(Workspace, Vec<u8>)>>> =
-        (0..rayon::current_num_threads().max(1)).map(|_| std::sync::Mutex::new(None)).collect();
+    let pool: Vec<std::sync::Mutex<Option<W>>> = (0..rayon::current_num_threads().max(1)).map(|_| std::sync::Mutex::new(None)).collect();
     while start < m && !seq.is_done() {
         let size = if start < 2 * BATCH { seq.fewest_left().clamp(MIN_BATCH, BATCH) } else { BATCH };
         let end = (start + size).min(m);
         let stats: Vec<Stat> = (start..end)
             .into_par_iter()
             .map(|j| {
-                // One workspace per worker thread, kept across batches: a
-                // refit's result never depends on what the workspace held
-                // before (same output at any thread count, tested).
                 let slot = rayon::current_thread_index().unwrap_or(0) % pool.len();
                 let mut guard = pool[slot].lock().unwrap_or_else(|e| e.into_inner());
-                let (ws, labels) = guard.get_or_insert_with(|| (null.workspace(task), task.labels.clone()));
-                null_statistic(null, task, settings, j as u64, ws, labels)
+                let w = guard.get_or_insert_with(&scratch);
+                null_stat(j as u64, w)
             })
             .collect();
         for s in stats {

@@ -247,6 +247,18 @@ pub struct PitcherSummary {
     pub tell_family_q: Option<f64>,
     /// Plain-words cautions for this pitcher (small samples, a changed mix).
     pub cautions: Vec<String>,
+    /// Where he throws it: held-out bits of his region given the situation
+    /// and pitch type over his plain region mix per type, its permutation
+    /// test and q-value (null without location columns or enough located
+    /// pitches of any type; `location_note` says why).
+    pub location: Option<crate::audit::location::LocationFigures>,
+    /// His flagged location tells, most pitches given away first.
+    pub location_tells: Vec<crate::audit::location::LocationTell>,
+    /// Where each pitch type goes by count group (ahead, even, behind).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub location_mix: Vec<crate::audit::location::RegionMix>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub location_note: Option<String>,
 }
 
 /// A pitch added to or dropped from a pitcher's arsenal.

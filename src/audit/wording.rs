@@ -160,6 +160,42 @@ fn beyond_sentence(t: &TellTest, sit: &str, test_label: &str) -> String {
     format!("{main}{}{}.", held_phrase(t, test_label), league_phrase(t))
 }
 
+/// Where a pitch went, in words: `region` (a `situations::regions` name).
+pub fn region_phrase(region: &str) -> String {
+    match region {
+        "up" => "up in the zone".into(),
+        "down" => "down in the zone".into(),
+        "in" => "inside in the zone".into(),
+        "away" => "away in the zone".into(),
+        "middle" => "over the middle".into(),
+        "chase high" => "high, out of the zone".into(),
+        "chase low" => "low, out of the zone".into(),
+        "chase in" => "inside, off the plate".into(),
+        "chase away" => "away, off the plate".into(),
+        corner => format!("{corner} in the zone"),
+    }
+}
+
+/// A location tell in a sentence: where the pitch went in the situation
+/// against elsewhere (sheet tells) or against what his count and side
+/// habits give (beyond tells), its q-value and what the held-out pitches
+/// say. `t.region` is set (crate::audit::location).
+pub fn location_sentence(t: &TellTest, test_label: &str) -> String {
+    let sit = capitalize(&situation_phrase(&t.situation));
+    let place = region_phrase(t.region.as_deref().unwrap_or(""));
+    let against = match t.layer {
+        crate::tells::Layer::Sheet => format!("against {} otherwise", pct(t.baseline_share)),
+        crate::tells::Layer::Beyond => {
+            format!("where his count and batter-side habits alone would give {}", pct(t.expected_share.unwrap_or(t.baseline_share)))
+        }
+    };
+    let main = match t.direction {
+        Direction::More => format!("{sit} his {} went {place} {} of the time (n = {}) {against}; {}", t.pitch_type, pct(t.share), t.n, q_text(t.q_value)),
+        Direction::Less => format!("{sit} his {} went {place} only {} of the time (n = {}) {against}; {}", t.pitch_type, pct(t.share), t.n, q_text(t.q_value)),
+    };
+    format!("{main}{}.", held_phrase(t, test_label))
+}
+
 /// Shares for the other pitches that add up to `total`. When they must grow
 /// (the tell pitch gives up share), the least used grow first, up to a common
 /// level ("water filling"), so the change never makes another pitch the

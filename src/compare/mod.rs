@@ -40,6 +40,8 @@ use crate::significance::{fdr, Interval};
 pub const PREDICTABILITY_FAMILY: &str = "predictability";
 /// The BH family of every other test of a comparison.
 pub const MIX_FAMILY: &str = "mix and pitches";
+/// The BH family of the location shifts (where each pitch type goes).
+pub const LOCATION_FAMILY: &str = "location";
 use crate::situations::{self, levels::COUNTS, Situations};
 use period::{Period, PeriodSpec};
 use predictability::{PeriodFit, Resampled};
@@ -246,6 +248,7 @@ fn blank(kind: &str, situation: BTreeMap<String, String>, before: f64, after: f6
         tell_q_before: None,
         tell_q_after: None,
         family: MIX_FAMILY.into(),
+        region: None,
         text: String::new(),
     }
 }
@@ -334,6 +337,57 @@ fn mix_changes(
         });
     }
     (out, counts)
+}
+
+/// Located pitches of a type each period needs before its region mix is
+/// compared.
+const LOCATION_MIN_PITCHES: u64 = 50;
+
+/// Where each of his pitch types goes, before against after: the region
+/// mix of the type's located pitches in each period, tested as the pitch
+/// mixes are (G-test, or Monte Carlo with sparse cells), effect the total
+/// variation distance; `before`/`after` are the share of the region that
+/// moved most.
+fn location_changes(names: &[String], regions: &[u16], log: &PitchLog, name: &str, types: &[u16], rows: &[Vec<u32>; 2], settings: &Settings) -> Vec<Change> {
+    use crate::situations::regions::{Region, REGIONS};
+    let mut out = Vec::new();
+    for &t in types {
+        let count = |rows: &[u32]| {
+            let mut c = vec![0u64; REGIONS];
+            for &r in rows {
+                let r = r as usize;
+                if log.pitch_type[r] == t && regions[r] != crate::tells::NO_LABEL {
+                    c[regions[r] as usize] += 1;
+                }
+            }
+            c
+        };
+        let (b, a) = (count(&rows[0]), count(&rows[1]));
+        let (nb, na) = (b.iter().sum::<u64>(), a.iter().sum::<u64>());
+        if nb < LOCATION_MIN_PITCHES || na < LOCATION_MIN_PITCHES {
+            continue;
+        }
+        // Regions he used in either period.
+        let used: Vec<usize> = (0..REGIONS).filter(|&i| b[i] + a[i] > 0).collect();
+        if used.len() < 2 {
+            continue;
+        }
+        let bu: Vec<u64> = used.iter().map(|&i| b[i]).collect();
+        let au: Vec<u64> = used.iter().map(|&i| a[i]).collect();
+        let t_name = &names[t as usize];
+        let test = mix::mix_test(&bu, &au, &mut stream(settings.seed, name, &format!("location {t_name}"), 0));
+        let i = mix::biggest_mover(&bu, &au);
+        let (sb, sa) = (mix::shares(&bu), mix::shares(&au));
+        let mut c = blank("location_shift", BTreeMap::new(), sb[i], sa[i], test.tvd, "total_variation", [nb as usize, na as usize], Some(&test));
+        c.pitch_type = Some(t_name.clone());
+        c.region = Some(Region::ALL[used[i]].name().to_string());
+        c.family = LOCATION_FAMILY.into();
+        let map = |x: &[f64]| used.iter().zip(x).map(|(&r, &v)| (Region::ALL[r].name().to_string(), v)).collect();
+        c.mix_before = Some(map(&sb));
+        c.mix_after = Some(map(&sa));
+        out.push(c);
+    }
+    out
 }
 
 fn tell_change(c: &TellChange) -> Change {
@@ -470,6 +524,8 @@ pub fn compare_log(
     // Each pitcher's tests, looked up per pitcher below.
     let (tells_b_of, tells_a_of) = (crate::tells::ByPitcher::new(&tells_b), crate::tells::ByPitcher::new(&tells_a));
 
+    // Where each pitch goes, when the log has locations.
+    let regions = crate::audit::location::row_regions(log);
     // Every change of every pitcher, then one BH family.
     let mut pitchers: Vec<PitcherChanges> = Vec::new();
     let mut ready_i = 0usize;
@@ -510,6 +566,9 @@ pub fn compare_log(
                 let (all_b, by_b) = tallies(log, &rows[0], &types);
                 let (all_a, by_a) = tallies(log, &rows[1], &types);
                 let (mut changes, counts) = mix_changes(names, &name, &types, [&all_b, &all_a], [&by_b, &by_a], settings);
+                if let Some(regions) = &regions {
+                    changes.extend(location_changes(names, regions, log, &name, &types, rows, settings));
+                }
 
                 let res = &resampled[i];
                 let fb = period_figures(labels[0], &fits[0], res[0].as_ref());
@@ -596,8 +655,14 @@ pub fn compare_log(
     // pitcher) on their own, so many mix cells never bury them; every
     // other test (mixes, count by count, new and dropped pitches) in the
     // other.
-    let family_of = |c: &Change| if c.family == PREDICTABILITY_FAMILY { 0 } else { 1 };
-    let mut family_q: [std::vec::IntoIter<f64>; 2] = [0, 1].map(|f| {
+    // Location shifts are a third family, so a pitcher's many pitch types
+    // and regions never lower the bar of the mix tests, nor theirs it.
+    let family_of = |c: &Change| match c.family.as_str() {
+        PREDICTABILITY_FAMILY => 0,
+        LOCATION_FAMILY => 2,
+        _ => 1,
+    };
+    let mut family_q: [std::vec::IntoIter<f64>; 3] = [0, 1, 2].map(|f| {
         let ps: Vec<f64> = pitchers
             .iter()
             .flat_map(|p| p.changes.iter().filter(|c| c.is_test() && family_of(c) == f).map(|c| c.p.unwrap_or(1.0).clamp(0.0, 1.0)))

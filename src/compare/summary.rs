@@ -132,6 +132,9 @@ pub struct Change {
     pub tell_q_before: Option<f64>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub tell_q_after: Option<f64>,
+    /// A location shift: the region whose share moved most.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub region: Option<String>,
     /// The change in one sentence.
     pub text: String,
 }

@@ -118,6 +118,17 @@ pub fn change_text(c: &Change, before: &str, after: &str) -> String {
                 100.0 * c.effect
             ),
         },
+        "location_shift" => {
+            let region = c.region.clone().unwrap_or_default();
+            let (sb, sa) = pair_text(c.before, c.after);
+            format!(
+                "Where his {t} goes: {} went from {sb} to {sa} of them (in all, {:.0} of every 100 went to a different region; n = {} and {}), {q} among the run's location tests.",
+                crate::audit::wording::region_phrase(&region),
+                100.0 * c.effect,
+                c.n_before,
+                c.n_after
+            )
+        }
         "predictability" => {
             let which = if c.effect < 0.0 { "Less" } else { "More" };
             let iv = c.interval.map(|i| format!(", 95% interval {} to {}", bits_text(i.low), bits_text(i.high))).unwrap_or_default();
@@ -295,6 +306,9 @@ pub fn summary_lines(p: &PitcherChanges, before: &str, after: &str, fdr: f64) ->
             ));
         }
         lines.push(line);
+    }
+    for c in p.changes.iter().filter(|c| c.kind == "location_shift" && c.significant) {
+        lines.push(c.text.clone());
     }
     if lines.is_empty() {
         lines.push(format!(

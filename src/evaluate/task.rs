@@ -227,6 +227,71 @@ impl PitcherTask {
         }
     }
 
+    /// The task of some of his rows (`keep`, local indices in order) with
+    /// other labels: `labels` (one per kept row, classes 0..`class_names`'
+    /// length) standing for `class_types` of some other label set. Folds,
+    /// permutation strata, discovery and held-out rows, games and the
+    /// situation features are his own, restricted to the kept rows; the
+    /// prior features are rebuilt for the new classes. Used for where his
+    /// pitches of one type go (crate::location).
+    pub fn subset(&self, keep: &[u32], labels: Vec<u8>, class_types: Vec<u16>, class_names: &[String]) -> PitcherTask {
+        debug_assert_eq!(keep.len(), labels.len());
+        let mut new_of = vec![u32::MAX; self.rows.len()];
+        for (j, &i) in keep.iter().enumerate() {
+            new_of[i as usize] = j as u32;
+        }
+        let remap = |v: &[u32]| -> Vec<u32> { v.iter().filter_map(|&i| Some(new_of[i as usize]).filter(|&j| j != u32::MAX)).collect() };
+        let pick_u8 = |v: &[u8]| -> Vec<u8> { keep.iter().map(|&i| v[i as usize]).collect() };
+        let mut strata: Vec<Vec<u32>> = self.strata.iter().map(|s| remap(s)).collect();
+        strata.retain(|s| !s.is_empty());
+        let mut beyond_strata: Vec<Vec<u32>> = self.beyond_strata.iter().map(|s| remap(s)).collect();
+        beyond_strata.retain(|s| !s.is_empty());
+        let folds = self.folds.iter().map(|f| Fold { train: remap(&f.train), test: remap(&f.test) }).collect();
+        let k = class_types.len();
+        let n = keep.len();
+        let mut names: Vec<String> = self.x.names[..self.n_situational].to_vec();
+        let mut kinds: Vec<FeatureKind> = self.kinds[..self.n_situational].to_vec();
+        for given in ["count", "batter"] {
+            for (c, name) in class_names.iter().enumerate() {
+                let phrase = if given == "count" { "in this count" } else { "against this batter" };
+                names.push(format!("his {name} share {phrase}"));
+                kinds.push(FeatureKind::Prior { class: c, given });
+            }
+        }
+        let mut x = FeatureMatrix::new(n, names);
+        for f in 0..self.n_situational {
+            let src = self.x.column(f);
+            let dst = x.column_mut(f);
+            for (d, &i) in dst.iter_mut().zip(keep) {
+                *d = src[i as usize];
+            }
+        }
+        debug_assert_eq!(x.n_features(), self.n_situational + 2 * k);
+        PitcherTask {
+            pitcher: self.pitcher,
+            name: self.name.clone(),
+            rows: keep.iter().map(|&i| self.rows[i as usize]).collect(),
+            class_types,
+            labels,
+            n_classes: k,
+            strata,
+            count: pick_u8(&self.count),
+            cell: pick_u8(&self.cell),
+            beyond_strata,
+            batter: keep.iter().map(|&i| self.batter[i as usize]).collect(),
+            n_batters: self.n_batters,
+            oof: pick_u8(&self.oof),
+            folds,
+            x,
+            kinds,
+            n_situational: self.n_situational,
+            discovery: remap(&self.discovery),
+            held_out: remap(&self.held_out),
+            game: keep.iter().map(|&i| self.game[i as usize]).collect(),
+            evaluation: self.evaluation.clone(),
+        }
+    }
+
     pub fn n_train(&self) -> usize {
         self.folds.iter().map(|f| f.train.len()).max().unwrap_or(0)
     }

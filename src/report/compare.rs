@@ -68,6 +68,7 @@ pub fn changes_csv(s: &CompareSummary) -> Result<Vec<u8>> {
         .opt_f64("tell_q_before", rows.iter().map(|(_, c)| c.tell_q_before).collect())
         .opt_f64("tell_q_after", rows.iter().map(|(_, c)| c.tell_q_after).collect())
         .str("text", rows.iter().map(|(_, c)| c.text.clone()).collect())
+        .opt_str("region", rows.iter().map(|(_, c)| c.region.clone()).collect())
         .to_csv(rows.len())
 }
 
@@ -561,7 +562,8 @@ pub fn compare_files(cmp: &Comparison) -> Result<Vec<ReportFile>> {
         significant => s.significant,
         folds => s.settings.forward_blocks,
         predictability_tests => s.pitchers.iter().flat_map(|p| p.changes.iter()).filter(|c| c.is_test() && c.family == crate::compare::PREDICTABILITY_FAMILY).count(),
-        mix_tests => s.pitchers.iter().flat_map(|p| p.changes.iter()).filter(|c| c.is_test() && c.family != crate::compare::PREDICTABILITY_FAMILY).count(),
+        mix_tests => s.pitchers.iter().flat_map(|p| p.changes.iter()).filter(|c| c.is_test() && c.family == crate::compare::MIX_FAMILY).count(),
+        location_tests => s.pitchers.iter().flat_map(|p| p.changes.iter()).filter(|c| c.is_test() && c.family == crate::compare::LOCATION_FAMILY).count(),
         new_share => share_text(s.settings.new_pitch_share),
         absent_share => share_text(s.settings.absent_share),
         min_count => s.settings.min_count_pitches,

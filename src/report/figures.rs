@@ -168,6 +168,24 @@ fn pitcher_charts(
             Chart { name: format!("sheet-right-{stem}"), ..right },
             Chart { name: format!("mix-by-count-{stem}"), ..mix },
         ];
+        if !p.location_mix.is_empty() {
+            let panels = p
+                .location_mix
+                .iter()
+                .map(|m| {
+                    let mut shares = [0.0; 13];
+                    for (name, v) in &m.shares {
+                        if let Some(r) = crate::situations::regions::Region::from_name(name) {
+                            shares[r as usize] = *v;
+                        }
+                    }
+                    charts::RegionPanel { pitch_type: m.pitch_type.clone(), count_group: m.count_group.clone(), n: m.n as u64, shares }
+                })
+                .collect();
+            let chart = charts::where_it_goes(&charts::WhereItGoesInput { pitcher: p.pitcher.clone(), panels, min_n: s.settings.tell_min_n as u64 })
+                .map_err(chart_err)?;
+            out.push(Chart { name: format!("where-it-goes-{stem}"), ..chart });
+        }
         if !p.null_statistics.is_empty() {
             let null = charts::null_distribution(&charts::NullDistributionInput {
                 pitcher: p.pitcher.clone(),

@@ -33,6 +33,8 @@ pub struct ChartSvgs {
     /// The staff's percentiles against the league (or the staff).
     pub league: Option<String>,
     pub per_pitcher: BTreeMap<String, Vec<String>>,
+    /// Where each pitcher's pitches go (small multiples), by pitcher.
+    pub location: BTreeMap<String, String>,
     /// Some pitchers' charts are in charts/ only (a large staff).
     pub omitted: bool,
 }
@@ -62,6 +64,10 @@ struct TypeRow {
 #[derive(Serialize)]
 struct PitcherView {
     pitcher: String,
+    location_chart: Option<String>,
+    location_text: String,
+    location_tells: Vec<String>,
+    location_types: Vec<LocationTypeRow>,
     scheme_text: String,
     headline: Vec<String>,
     sheet_lines: Vec<String>,
@@ -134,6 +140,39 @@ pub fn per_season(t: &TellTest, discovery_seasons: usize) -> f64 {
     } else {
         t.n as f64 / discovery_seasons.max(1) as f64
     }
+}
+
+#[derive(Serialize)]
+struct LocationTypeRow {
+    pitch_type: String,
+    n: usize,
+    prior: String,
+    model: String,
+    bits: String,
+}
+
+/// His location figures in words, or why there are none.
+fn location_text(p: &crate::audit::summary::PitcherSummary, fdr: f64) -> String {
+    let Some(l) = &p.location else { return p.location_note.clone().unwrap_or_default() };
+    let verdict = if l.q_value <= fdr {
+        "where he puts a pitch depends on the situation beyond his usual spots for it."
+    } else {
+        "no evidence that the situation tells where a pitch goes beyond his usual spots for it."
+    };
+    let mut s = format!(
+        "Held out, a guess of the plate region from the situation and the pitch was right {} of the time, against {} for always guessing each pitch's usual region ({:+.3} bits per pitch, {} located pitches). Permutation test, regions shuffled within each pitch type's blocks of games: p = {}, q = {} — {verdict}",
+        wording::pct(l.model_accuracy),
+        wording::pct(l.prior_accuracy),
+        l.bits_gained,
+        l.n,
+        p_text(l.p_value),
+        p_text(l.q_value)
+    );
+    if !l.left_out.is_empty() {
+        let names: Vec<String> = l.left_out.iter().map(|t| format!("{} ({} located)", t.pitch_type, t.located_pitches)).collect();
+        s.push_str(&format!(" Too few located pitches to include: {}.", names.join(", ")));
+    }
+    s
 }
 
 pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, stems: &BTreeMap<String, String>) -> Result<String> {
@@ -246,6 +285,25 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
             rules: p.rules.iter().map(|r| r.text.clone()).collect(),
             cautions: p.cautions.clone(),
             charts: charts.per_pitcher.get(&p.pitcher).cloned().unwrap_or_default(),
+            location_chart: charts.location.get(&p.pitcher).cloned(),
+            location_text: location_text(p, summary.settings.fdr),
+            location_tells: p.location_tells.iter().map(|t| t.text.clone()).collect(),
+            location_types: p
+                .location
+                .as_ref()
+                .map(|l| {
+                    l.by_type
+                        .iter()
+                        .map(|t| LocationTypeRow {
+                            pitch_type: t.pitch_type.clone(),
+                            n: t.n,
+                            prior: wording::pct(t.prior_accuracy),
+                            model: wording::pct(t.model_accuracy),
+                            bits: format!("{:+.3}", t.bits_gained),
+                        })
+                        .collect()
+                })
+                .unwrap_or_default(),
             counts,
             types: p
                 .types

@@ -318,6 +318,9 @@ pub fn write_audit_report(dir: &Path, audit: &crate::audit::Audit) -> Result<()>
                     None if chart.name == "called-outcomes" => svgs.called = Some(chart.svg),
                     None if chart.name == "staff-league-rank" => svgs.league = Some(chart.svg),
                     None => svgs.staff = Some(chart.svg),
+                    Some(p) if inline(p) && chart.name.starts_with("where-it-goes-") => {
+                        svgs.location.insert(p.to_string(), chart.svg);
+                    }
                     Some(p) if inline(p) => svgs.per_pitcher.entry(p.to_string()).or_default().push(chart.svg),
                     Some(_) => {}
                 }

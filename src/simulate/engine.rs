@@ -91,6 +91,10 @@ pub(crate) fn play_team_season(
         // draws any other game made.
         let mut rng = ChaCha8Rng::seed_from_u64(seed);
         rng.set_stream(game as u64);
+        // Where pitches go draws from a stream of its own, so placing them
+        // changes nothing else in the log.
+        let mut loc_rng = ChaCha8Rng::seed_from_u64(seed ^ LOCATION_SALT);
+        loc_rng.set_stream(game as u64);
         let id = match &team.code {
             None => format!("G{}-{:03}", season.year, k + 1),
             Some(code) => format!("G{}-{}-{:03}", season.year, code, k + 1),
@@ -138,6 +142,7 @@ pub(crate) fn play_team_season(
             &mut rows,
         );
         g.on_staff = on_staff;
+        g.loc_rng = Some(loc_rng);
         g.outcomes = outcomes;
         g.season_t = k as f64 / (season.games.max(2) - 1) as f64;
         g.play(&mut rng, k % 2 == 0);
@@ -231,7 +236,12 @@ struct Game<'a> {
     outcomes: Outcomes,
     /// How far into the season this game is (0 first game, 1 last).
     season_t: f64,
+    /// The game's stream for where pitches go.
+    loc_rng: Option<ChaCha8Rng>,
 }
+
+/// Salt of the location streams' seed (the bytes of "location").
+const LOCATION_SALT: u64 = 0x6c6f_6361_7469_6f6e;
 
 impl<'a> Game<'a> {
     #[allow(clippy::too_many_arguments)]
@@ -278,6 +288,7 @@ impl<'a> Game<'a> {
             on_staff: vec![true; n],
             outcomes: Outcomes::Simple,
             season_t: 0.0,
+            loc_rng: None,
         }
     }
 
@@ -464,7 +475,10 @@ impl<'a> Game<'a> {
                 None => pitch_type,
                 Some(cdf) => cdf.sample(rng.random::<f64>()),
             };
-            let (speed, side, height) = flight::draw(
+            // The old placement's draws are kept (so speeds and every later
+            // draw of the game stay as they were); where the pitch goes is
+            // drawn from the game's location stream.
+            let (speed, _, _) = flight::draw(
                 rng,
                 &roster.profiles[pitch_type as usize],
                 velo,
@@ -472,6 +486,10 @@ impl<'a> Game<'a> {
                 bats,
                 result,
             );
+            let spot = plan.spots.iter().find(|s| s.holds(&situation, pitch_type)).map(|s| (s.region, s.rate));
+            let zone = plan.zone_share[situation[0] as usize];
+            let loc_rng = self.loc_rng.as_mut().expect("a game's location stream is set before play");
+            let (side, height) = flight::place(loc_rng, &roster.aims[pitch_type as usize], zone, spot, bats);
             self.rows.push(SimPitch {
                 game: self.game,
                 pitcher,

@@ -114,3 +114,90 @@ pub(crate) fn draw(
     };
     (speed, side, height.max(0.0))
 }
+
+/// Where a pitch type is aimed, in batter terms (ft toward the batter, ft
+/// above the ground) inside the zone, and how its misses outside the zone
+/// split between high, low, in and away. Round figures of the trade
+/// (common practice, not tuned to any data): fastballs up, sinkers down and
+/// in, sliders and curveballs down and away, changeups and splitters down.
+/// They are in batter terms, so without a planted spot or the shared zone
+/// habit where a pitch goes does not depend on the situation at all (not
+/// even the batter's side): a true null for the location tests.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct Aim {
+    pub toward: f64,
+    pub height: f64,
+    /// Chase weights: high, low, in, away.
+    pub chase: [f64; 4],
+}
+
+pub(crate) fn aim(label: &str) -> Aim {
+    let a = |toward, height, chase| Aim { toward, height, chase };
+    match label {
+        "fastball" => a(0.0, 2.85, [0.45, 0.10, 0.20, 0.25]),
+        "sinker" => a(0.15, 2.1, [0.05, 0.45, 0.30, 0.20]),
+        "cutter" => a(0.05, 2.45, [0.15, 0.30, 0.30, 0.25]),
+        "slider" | "sweeper" => a(-0.3, 2.0, [0.03, 0.47, 0.05, 0.45]),
+        "curveball" => a(-0.1, 1.9, [0.03, 0.72, 0.05, 0.20]),
+        "changeup" => a(-0.2, 1.9, [0.03, 0.60, 0.05, 0.32]),
+        "splitter" => a(-0.05, 1.8, [0.02, 0.78, 0.05, 0.15]),
+        _ => a(0.0, 2.4, [0.25, 0.25, 0.25, 0.25]),
+    }
+}
+
+/// A normal draw kept inside `lo..hi` by redrawing (at most 20 times, then
+/// the nearer bound's inside edge).
+fn normal_within(rng: &mut ChaCha8Rng, mean: f64, sd: f64, lo: f64, hi: f64) -> f64 {
+    for _ in 0..20 {
+        let x = mean + sd * normal(rng);
+        if x > lo && x < hi {
+            return x;
+        }
+    }
+    mean.clamp(lo + 1e-3, hi - 1e-3)
+}
+
+/// Side (catcher's view) and height, ft, of a pitch aimed by `aim`: inside
+/// the zone with probability `zone_share`, else a miss to one of the chase
+/// sides; `spot` (a planted region, when its situation holds) wins with its
+/// own probability, placed uniformly in the region's box.
+pub(crate) fn place(
+    rng: &mut ChaCha8Rng,
+    aim: &Aim,
+    zone_share: f64,
+    spot: Option<(crate::situations::regions::Region, f64)>,
+    bats: Hand,
+) -> (f32, f32) {
+    use crate::situations::regions::{side_from_toward, ZONE_BOTTOM, ZONE_HALF_WIDTH as W, ZONE_TOP};
+    let u: f64 = rng.random();
+    let (toward, height) = match spot {
+        Some((region, rate)) if u < rate => {
+            let (t0, t1, h0, h1) = region.bounds();
+            (t0 + (t1 - t0) * rng.random::<f64>(), h0 + (h1 - h0) * rng.random::<f64>())
+        }
+        _ => {
+            if rng.random::<f64>() < zone_share {
+                (normal_within(rng, aim.toward, 0.45, -W, W), normal_within(rng, aim.height, 0.5, ZONE_BOTTOM, ZONE_TOP))
+            } else {
+                let total: f64 = aim.chase.iter().sum();
+                let mut v = rng.random::<f64>() * total;
+                let mut side = 3;
+                for (i, w) in aim.chase.iter().enumerate() {
+                    if v < *w {
+                        side = i;
+                        break;
+                    }
+                    v -= w;
+                }
+                let miss = 0.05 + 0.35 * normal(rng).abs();
+                match side {
+                    0 => (normal_within(rng, aim.toward, 0.4, -W, W), ZONE_TOP + miss),
+                    1 => (normal_within(rng, aim.toward, 0.4, -W, W), (ZONE_BOTTOM - miss).max(0.05)),
+                    2 => (W + miss, normal_within(rng, aim.height, 0.45, ZONE_BOTTOM, ZONE_TOP)),
+                    _ => (-W - miss, normal_within(rng, aim.height, 0.45, ZONE_BOTTOM, ZONE_TOP)),
+                }
+            }
+        }
+    };
+    (side_from_toward(toward, bats) as f32, height as f32)
+}

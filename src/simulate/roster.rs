@@ -95,6 +95,22 @@ impl CompiledRule {
     }
 }
 
+/// A planted location compiled to bit masks (as [`CompiledRule`]).
+#[derive(Debug, Clone)]
+pub(crate) struct CompiledSpot {
+    masks: [u64; 9],
+    pub pitch: u16,
+    pub region: crate::situations::regions::Region,
+    pub rate: f64,
+}
+
+impl CompiledSpot {
+    #[inline]
+    pub fn holds(&self, situation: &[u8; 9], pitch: u16) -> bool {
+        pitch == self.pitch && self.masks.iter().zip(situation).all(|(m, &c)| m >> c & 1 == 1)
+    }
+}
+
 /// What a pitcher throws in one season.
 #[derive(Debug, Clone)]
 pub(crate) struct SeasonPlan {
@@ -102,6 +118,10 @@ pub(crate) struct SeasonPlan {
     /// ([`SeasonPlan::slot`]).
     pub mix: Vec<Cdf>,
     pub rules: Vec<CompiledRule>,
+    /// Where his pitches go: planted locations, and the share aimed inside
+    /// the zone by count (`count_index`).
+    pub spots: Vec<CompiledSpot>,
+    pub zone_share: [f64; 12],
     /// How the log writes each pitch type (by type code), where it differs
     /// from the type itself.
     pub written: Vec<Option<Cdf>>,
@@ -165,6 +185,8 @@ pub(crate) struct Roster {
     pub batters: Vec<SimBatter>,
     pub pitch_types: Vec<String>,
     pub profiles: Vec<PitchProfile>,
+    /// Where each pitch type is aimed (by type code).
+    pub aims: Vec<flight::Aim>,
     pub planted: Vec<PlantedTell>,
     /// When each pitcher is on which team.
     pub stints: Vec<Vec<Stint>>,
@@ -325,9 +347,17 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
                 let coded: Vec<(u16, f64)> = to.iter().map(|(l, s)| (type_index(l), *s)).collect();
                 written[type_index(&from) as usize] = Some(Cdf::new(&coded));
             }
+            let spots = spec
+                .spots
+                .iter()
+                .filter(|s| s.active_in(season.year))
+                .map(|s| CompiledSpot { masks: masks_of(&s.when, &type_index), pitch: type_index(&s.pitch), region: s.region, rate: s.rate })
+                .collect();
             season_plans.push(SeasonPlan {
                 mix: habit_tables(&mix, habits, &type_index),
                 rules,
+                spots,
+                zone_share: habits.map_or([super::scenario::PLAIN_ZONE_SHARE; 12], |h| h.zone_share),
                 written,
                 drift: (spec.drift != 0.0 || spec.outing_wobble > 0.0).then(|| (spec.clone(), habits.cloned(), season.year)),
             });
@@ -383,6 +413,7 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
         .collect();
 
     let profiles = pitch_types.iter().map(|l| flight::profile(l)).collect();
+    let aims = pitch_types.iter().map(|l| flight::aim(l)).collect();
     Roster {
         pitchers,
         plans,
@@ -391,6 +422,7 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
         batters,
         pitch_types,
         profiles,
+        aims,
         planted,
         stints,
     }
@@ -414,8 +446,12 @@ pub(crate) fn club_stints(scenario: &Scenario, spec: &PitcherSpec, team: usize) 
 }
 
 fn masks(rule: &Rule, type_index: &dyn Fn(&str) -> u16) -> [u64; 9] {
+    masks_of(&rule.when, type_index)
+}
+
+fn masks_of(when: &std::collections::BTreeMap<Factor, Vec<String>>, type_index: &dyn Fn(&str) -> u16) -> [u64; 9] {
     let mut masks = [u64::MAX; 9];
-    for (factor, levels) in &rule.when {
+    for (factor, levels) in when {
         let slot = Factor::ALL.iter().position(|f| f == factor).unwrap();
         let mut m = 0u64;
         for level in levels {

@@ -47,6 +47,8 @@
 //!                                   # labels keep their default tilt
 //! outcomes = "league"               # "league": ball/strike/foul/in-play shares of a
 //!                                   # real league; "simple": the engine's plain table
+//! zone_share = { "0-2" = 0.32 }     # share of pitches aimed inside the zone by count;
+//!                                   # counts not listed keep their default
 //!
 //! [[pitcher]]                       # the club's own pitchers, any number
 //! name = "Oren Vasquell"
@@ -83,6 +85,17 @@
 //!   cost = 0.6                      # optional: batters hit the rule's pitch harder
 //!                                   # in its situation: its swinging-strike chance
 //!                                   # cut by this share, the rest put in play
+//!
+//!   [[pitcher.spot]]                # a planted location: where a pitch goes
+//!   when = { count = ["0-2", "1-2"] }        # optional: the situation (left out: always,
+//!                                   # a habit of the pitch rather than a tell)
+//!   pitch = "slider"
+//!   region = "chase low"            # a plate region (situations::regions), e.g.
+//!                                   # "down and away", "up and in", "chase low"
+//!   rate = 0.8                      # that pitch goes there this often when the
+//!                                   # situation holds; otherwise it is placed as usual
+//!   from = 2025                     # optional, as for rules
+//!   until = 2026
 //! ```
 //!
 //! Condition keys and their levels are those of the data contract (§2):
@@ -316,7 +329,20 @@ pub struct Habits {
     /// Log tilt toward same-side batters, by label; unlisted labels 0.
     pub platoon: BTreeMap<String, f64>,
     pub outcomes: Outcomes,
+    /// Share of pitches aimed inside the zone at each count, by `count_index`.
+    pub zone_share: [f64; 12],
 }
+
+/// Default share of pitches aimed inside the zone by count, `count_index`
+/// order. 32% at 0-2 and 62% at 3-1 are facts of the trade measured on a
+/// real staff's log (common practice, no published source); the other
+/// counts are our interpolations (fewer strikes ahead in the count, more
+/// behind). Without `[habits]` every count aims at the zone 48% of the time.
+pub const DEFAULT_ZONE_SHARE: [f64; 12] =
+    [0.50, 0.43, 0.32, 0.54, 0.47, 0.37, 0.58, 0.53, 0.43, 0.64, 0.62, 0.54];
+
+/// The zone share at every count without shared habits.
+pub const PLAIN_ZONE_SHARE: f64 = 0.48;
 
 /// Default fastball share by count, `count_index` order (0-0, 0-1, 0-2,
 /// 1-0, ...). 0-0, 0-2, 1-2, 2-0, 3-0 and 3-1 are facts of the trade
@@ -356,6 +382,7 @@ impl Habits {
                 .map(|(l, t)| (l.to_string(), *t))
                 .collect(),
             outcomes: Outcomes::League,
+            zone_share: DEFAULT_ZONE_SHARE,
         }
     }
 
@@ -441,6 +468,26 @@ pub struct LabelChange {
     pub written: Written,
 }
 
+/// A planted location (`[[pitcher.spot]]`): when its situation holds (an
+/// empty `when` always does) and `pitch` comes, it goes to `region` with
+/// probability `rate` (placed uniformly in the region's box); otherwise it
+/// is placed as any other pitch of its type, which may land there too.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Spot {
+    pub when: BTreeMap<Factor, Vec<String>>,
+    pub pitch: String,
+    pub region: crate::situations::regions::Region,
+    pub rate: f64,
+    pub from: Option<i32>,
+    pub until: Option<i32>,
+}
+
+impl Spot {
+    pub fn active_in(&self, year: i32) -> bool {
+        self.from.is_none_or(|f| year >= f) && self.until.is_none_or(|u| year <= u)
+    }
+}
+
 /// A planted tell (see the module documentation for its semantics).
 #[derive(Debug, Clone, PartialEq)]
 pub struct Rule {
@@ -483,6 +530,8 @@ pub struct PitcherSpec {
     pub changes: Vec<MixChange>,
     /// In the order listed: the first rule whose situation holds decides.
     pub rules: Vec<Rule>,
+    /// Planted locations, in the order listed (the first that holds decides).
+    pub spots: Vec<Spot>,
     /// Sorted by season.
     pub label_changes: Vec<LabelChange>,
     /// The seasons he pitches for the club (`None`: all).
@@ -597,6 +646,7 @@ impl PitcherSpec {
             mix,
             changes: Vec::new(),
             rules: Vec::new(),
+            spots: Vec::new(),
             label_changes: Vec::new(),
             seasons: None,
             joins: None,
@@ -675,6 +725,7 @@ struct RawHabits {
     fastball_share: Option<BTreeMap<String, f64>>,
     platoon: Option<BTreeMap<String, f64>>,
     outcomes: Option<String>,
+    zone_share: Option<BTreeMap<String, f64>>,
 }
 
 #[derive(Deserialize)]
@@ -744,6 +795,20 @@ struct RawPitcher {
     change: Vec<RawChange>,
     #[serde(default)]
     rule: Vec<RawRule>,
+    #[serde(default)]
+    spot: Vec<RawSpot>,
+}
+
+#[derive(Deserialize)]
+#[serde(deny_unknown_fields)]
+struct RawSpot {
+    #[serde(default)]
+    when: BTreeMap<String, RawLevels>,
+    pitch: String,
+    region: String,
+    rate: f64,
+    from: Option<i32>,
+    until: Option<i32>,
 }
 
 #[derive(Deserialize)]
@@ -1082,6 +1147,17 @@ fn validate_habits(h: &RawHabits) -> Result<Habits, String> {
             habits.platoon.insert(label.clone(), t);
         }
     }
+    if let Some(shares) = &h.zone_share {
+        for (count, &v) in shares {
+            let i = COUNTS.iter().position(|c| *c == count.trim()).ok_or_else(|| {
+                format!("{at}: zone_share.\"{count}\" is not a count; use one of {}", COUNTS.join(", "))
+            })?;
+            if !(v.is_finite() && (0.0..=1.0).contains(&v)) {
+                return Err(format!("{at}: zone_share.\"{count}\" = {v} must be a share in 0..1"));
+            }
+            habits.zone_share[i] = v;
+        }
+    }
     habits.outcomes = match h.outcomes.as_deref().map(str::trim) {
         None | Some("league") => Outcomes::League,
         Some("simple") => Outcomes::Simple,
@@ -1092,6 +1168,57 @@ fn validate_habits(h: &RawHabits) -> Result<Habits, String> {
         }
     };
     Ok(habits)
+}
+
+/// A rule's or spot's `when`: each key a factor of CONTRACT §2, each value
+/// levels of it (`prev_pitch`: `none` or one of his `labels`).
+fn parse_when(rat: &str, raw: &BTreeMap<String, RawLevels>, labels: &BTreeSet<String>) -> Result<BTreeMap<Factor, Vec<String>>, String> {
+    let mut when = BTreeMap::new();
+    for (key, value) in raw {
+        let factor = Factor::from_name(key.trim()).ok_or_else(|| {
+            let names: Vec<&str> = Factor::ALL.iter().map(|f| f.name()).collect();
+            format!(
+                "{rat}: unknown situation key `{key}`; use one of {}",
+                names.join(", ")
+            )
+        })?;
+        let levels: Vec<String> = match value {
+            RawLevels::One(v) => vec![v.text()],
+            RawLevels::Many(vs) => vs.iter().map(|v| v.text()).collect(),
+        };
+        if levels.is_empty() {
+            return Err(format!("{rat}: `{key}` lists no level; give at least one"));
+        }
+        for level in &levels {
+            let ok = if factor == Factor::PrevPitch {
+                level == NO_PREV_PITCH || labels.contains(level)
+            } else {
+                factor.fixed_levels().contains(&level.as_str())
+            };
+            if !ok {
+                let allowed: Vec<String> = if factor == Factor::PrevPitch {
+                    std::iter::once(NO_PREV_PITCH.to_string())
+                        .chain(labels.iter().cloned())
+                        .collect()
+                } else {
+                    factor
+                        .fixed_levels()
+                        .iter()
+                        .map(|s| s.to_string())
+                        .collect()
+                };
+                return Err(format!(
+                    "{rat}: {key} = \"{level}\" is not a level; use one of {}",
+                    allowed.join(", ")
+                ));
+            }
+        }
+        let mut levels = levels;
+        levels.sort();
+        levels.dedup();
+        when.insert(factor, levels);
+    }
+    Ok(when)
 }
 
 /// Every game date must find a starter and a reliever of the club on the staff.
@@ -1310,6 +1437,7 @@ fn validate_pitcher(
         mix,
         changes,
         rules: Vec::new(),
+        spots: Vec::new(),
         label_changes,
         seasons: p.seasons.clone(),
         joins,
@@ -1417,51 +1545,7 @@ fn validate_pitcher(
                 "{rat}: `when` is empty; name the situation, e.g. when = {{ count = \"0-2\" }}"
             ));
         }
-        let mut when = BTreeMap::new();
-        for (key, value) in &r.when {
-            let factor = Factor::from_name(key.trim()).ok_or_else(|| {
-                let names: Vec<&str> = Factor::ALL.iter().map(|f| f.name()).collect();
-                format!(
-                    "{rat}: unknown situation key `{key}`; use one of {}",
-                    names.join(", ")
-                )
-            })?;
-            let levels: Vec<String> = match value {
-                RawLevels::One(v) => vec![v.text()],
-                RawLevels::Many(vs) => vs.iter().map(|v| v.text()).collect(),
-            };
-            if levels.is_empty() {
-                return Err(format!("{rat}: `{key}` lists no level; give at least one"));
-            }
-            for level in &levels {
-                let ok = if factor == Factor::PrevPitch {
-                    level == NO_PREV_PITCH || labels.contains(level)
-                } else {
-                    factor.fixed_levels().contains(&level.as_str())
-                };
-                if !ok {
-                    let allowed: Vec<String> = if factor == Factor::PrevPitch {
-                        std::iter::once(NO_PREV_PITCH.to_string())
-                            .chain(labels.iter().cloned())
-                            .collect()
-                    } else {
-                        factor
-                            .fixed_levels()
-                            .iter()
-                            .map(|s| s.to_string())
-                            .collect()
-                    };
-                    return Err(format!(
-                        "{rat}: {key} = \"{level}\" is not a level; use one of {}",
-                        allowed.join(", ")
-                    ));
-                }
-            }
-            let mut levels = levels;
-            levels.sort();
-            levels.dedup();
-            when.insert(factor, levels);
-        }
+        let when = parse_when(&rat, &r.when, &labels)?;
         if !(r.cost.is_finite() && (0.0..=1.0).contains(&r.cost)) {
             return Err(format!("{rat}: cost = {} must be a share in 0..1", r.cost));
         }
@@ -1499,6 +1583,29 @@ fn validate_pitcher(
             ));
         }
         spec.rules.push(rule);
+    }
+    for (i, r) in p.spot.iter().enumerate() {
+        let sat = format!("{at}, spot {} (pitch = \"{}\")", i + 1, r.pitch);
+        let pitch = r.pitch.trim().to_string();
+        if !(r.rate.is_finite() && (0.0..=1.0).contains(&r.rate)) {
+            return Err(format!("{sat}: rate = {} must be a probability in 0..1", r.rate));
+        }
+        let region = crate::situations::regions::Region::from_name(r.region.trim()).ok_or_else(|| {
+            let names: Vec<&str> = crate::situations::regions::Region::ALL.iter().map(|g| g.name()).collect();
+            format!("{sat}: region = \"{}\" is not a region; use one of {}", r.region, names.join(", "))
+        })?;
+        if !labels.contains(&pitch) {
+            return Err(format!("{sat}: \"{pitch}\" is not one of his pitches; add it to his mix or fix the label"));
+        }
+        for (key, y) in [("from", r.from), ("until", r.until)] {
+            if let Some(y) = y {
+                if !years.contains(&y) {
+                    return Err(format!("{sat}: {key} = {y} is not a [[season]] of the scenario ({years:?}); use one of them"));
+                }
+            }
+        }
+        let when = parse_when(&sat, &r.when, &labels)?;
+        spec.spots.push(Spot { when, pitch, region, rate: r.rate, from: r.from, until: r.until });
     }
     Ok(spec)
 }

@@ -3,6 +3,7 @@
 //! whose source value is missing (an empty optional cell).
 
 pub mod levels;
+pub mod regions;
 
 use crate::ingest::PitchLog;
 use levels::*;

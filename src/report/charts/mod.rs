@@ -27,6 +27,7 @@ pub mod null_distribution;
 pub mod called_outcomes;
 pub mod league_rank;
 pub mod staff_predictability;
+pub mod where_it_goes;
 
 pub use compare_mix_shift::{compare_mix_shift, MixShiftInput};
 pub use compare_predictability::{
@@ -38,6 +39,7 @@ pub use mix_by_count::{mix_by_count, CountMix, MixByCountInput};
 pub use null_distribution::{null_distribution, NullDistributionInput};
 pub use called_outcomes::{called_outcomes, CalledOutcomesInput, CalledRow};
 pub use league_rank::{league_rank, LeagueRankInput, RankRow};
+pub use where_it_goes::{where_it_goes, RegionPanel, WhereItGoesInput};
 pub use staff_predictability::{
     staff_predictability, StaffMetric, StaffPitcher, StaffPredictabilityInput,
 };

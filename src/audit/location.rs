@@ -1,0 +1,444 @@
+//! Where he throws it: for each audited pitcher and each pitch type he
+//! throws often enough, how well the plate region (situations::regions) of
+//! the pitch can be guessed from the situation, held out, against his plain
+//! region mix for that pitch type; a permutation test of it; and location
+//! tells (a situation in which a pitch goes to one region far more, or
+//! less, than elsewhere).
+//!
+//! It reuses the pitch-type machinery with other labels: a pitcher's pitches
+//! of one type, with their region as the label, form a task of their own
+//! ([`PitcherTask::subset`]) with his folds, blocks, games and situation
+//! features; the same fit scores it, against the same kind of prior (his
+//! region mix for that type on the training rows). The figures of his types
+//! are pooled: bits gained per located pitch over all of them.
+//!
+//! The permutation test shuffles regions within pitcher × pitch type ×
+//! season block (each sub-task's own strata) and refits every type, so his
+//! mix of spots for each pitch, and any drift of it over the season, is
+//! kept in the null. Tells are the pitch-type tells' tests (tells::find_in)
+//! run per pitch type on region labels: sheet tells (count and batter side)
+//! by Fisher's exact test, tells beyond the sheet by the stratified CMH
+//! test, found on discovery rows and checked held out, with their own
+//! false-discovery families.
+
+use super::permute::{self, shuffle_within, PermutationResult, PILOT};
+use crate::evaluate::fit::{argmax, fit_and_score, Stat, StatTotals, Workspace};
+use crate::evaluate::task::PitcherTask;
+use crate::ingest::PitchLog;
+use crate::settings::Settings;
+use crate::significance::fdr;
+use crate::situations::regions::{count_group, region_of, CountGroup, Region, REGIONS};
+use crate::situations::Situations;
+use crate::tells::{self, Labels, TellTest, NO_LABEL};
+use rand::SeedableRng;
+use rand_chacha::ChaCha8Rng;
+use rayon::prelude::*;
+use serde::Serialize;
+use sha2::{Digest, Sha256};
+use std::collections::BTreeMap;
+
+/// Each log row's region code, `NO_LABEL` where the log has no location for
+/// it; `None` when the log has no location columns at all.
+pub fn row_regions(log: &PitchLog) -> Option<Vec<u16>> {
+    let (side, height) = (log.loc_side_ft.as_ref()?, log.loc_height_ft.as_ref()?);
+    Some(
+        (0..log.len())
+            .map(|r| match (side[r], height[r]) {
+                (Some(s), Some(h)) => region_of(s as f64, h as f64, log.bats[r]).code() as u16,
+                _ => NO_LABEL,
+            })
+            .collect(),
+    )
+}
+
+/// The region names, in code order (the label set of location tasks).
+pub fn region_names() -> Vec<String> {
+    Region::ALL.iter().map(|r| r.name().to_string()).collect()
+}
+
+/// One pitch type's location task.
+pub struct TypePart {
+    /// Global pitch type index.
+    pub pitch_type: u16,
+    pub task: PitcherTask,
+}
+
+/// A pitcher's location tasks.
+pub struct PitcherLocation {
+    pub parts: Vec<TypePart>,
+    /// Pitch types left out: (global type, located pitches it has).
+    pub left_out: Vec<(u16, usize)>,
+    /// His pitches with a location, and all his pitches.
+    pub located: usize,
+    pub pitches: usize,
+}
+
+impl PitcherLocation {
+    /// Split a pitcher's task by pitch type, with regions as labels; a type
+    /// enters with enough located pitches to learn from and to score.
+    pub fn build(task: &PitcherTask, regions: &[u16], names: &[String], settings: &Settings) -> PitcherLocation {
+        let mut parts = Vec::new();
+        let mut left_out = Vec::new();
+        let mut located = 0;
+        for (cls, &gtype) in task.class_types.iter().enumerate() {
+            let keep: Vec<u32> = (0..task.rows.len() as u32)
+                .filter(|&i| task.labels[i as usize] as usize == cls && regions[task.rows[i as usize] as usize] != NO_LABEL)
+                .collect();
+            located += keep.len();
+            let mut present: Vec<u16> = keep.iter().map(|&i| regions[task.rows[i as usize] as usize]).collect();
+            present.sort_unstable();
+            present.dedup();
+            let labels: Vec<u8> =
+                keep.iter().map(|&i| present.binary_search(&regions[task.rows[i as usize] as usize]).unwrap() as u8).collect();
+            let class_names: Vec<String> = present.iter().map(|&c| names[c as usize].clone()).collect();
+            let n = keep.len();
+            let sub = task.subset(&keep, labels, present, &class_names);
+            if present_enough(&sub, settings) {
+                parts.push(TypePart { pitch_type: gtype, task: sub });
+            } else {
+                left_out.push((gtype, n));
+            }
+        }
+        PitcherLocation { parts, left_out, located, pitches: task.rows.len() }
+    }
+
+    pub fn has_figures(&self) -> bool {
+        !self.parts.is_empty()
+    }
+}
+
+fn present_enough(sub: &PitcherTask, settings: &Settings) -> bool {
+    sub.n_classes >= 2 && sub.n_train() >= settings.location_min_train && sub.n_test() >= settings.location_min_test
+}
+
+/// Held-out figures of one fit of every type.
+#[derive(Debug, Clone, Default)]
+struct Pooled {
+    totals: StatTotals,
+    /// Held-out pitches the model and the prior guessed right.
+    model_right: usize,
+    prior_right: usize,
+    scored: usize,
+    by_type: Vec<(u16, StatTotals, usize, usize, usize)>,
+}
+
+fn add(t: &mut StatTotals, u: &StatTotals) {
+    t.n += u.n;
+    t.bits += u.bits;
+    t.bits_grown += u.bits_grown;
+    t.sheet_bits += u.sheet_bits;
+    t.acc += u.acc;
+    t.acc_grown += u.acc_grown;
+}
+
+fn stat_of(t: &StatTotals) -> Stat {
+    if t.n == 0 {
+        return Stat { primary: 0.0, secondary: 0.0 };
+    }
+    let n = t.n as f64;
+    Stat { primary: t.bits / n, secondary: t.bits_grown / n }
+}
+
+fn observe(loc: &PitcherLocation, settings: &Settings) -> Pooled {
+    let mut out = Pooled::default();
+    for part in &loc.parts {
+        let t = &part.task;
+        let mut ws = Workspace::new(t);
+        let scored = fit_and_score(t, &t.labels, settings, &mut ws, true);
+        let (mut m, mut p) = (0, 0);
+        for (i, &r) in scored.rows.iter().enumerate() {
+            let y = t.labels[r as usize] as usize;
+            m += (argmax(scored.model_row(i)) == y) as usize;
+            p += (argmax(scored.prior_row(i)) == y) as usize;
+        }
+        add(&mut out.totals, &scored.totals);
+        out.model_right += m;
+        out.prior_right += p;
+        out.scored += scored.rows.len();
+        out.by_type.push((part.pitch_type, scored.totals, scored.rows.len(), m, p));
+    }
+    out
+}
+
+/// The RNG of location permutation `j` of a pitcher.
+fn location_rng(seed: u64, pitcher: &str, j: u64) -> ChaCha8Rng {
+    let mut h = Sha256::new();
+    h.update(b"tellscope location v1");
+    h.update(seed.to_le_bytes());
+    h.update(pitcher.as_bytes());
+    let key: [u8; 32] = h.finalize().into();
+    let mut rng = ChaCha8Rng::from_seed(key);
+    rng.set_stream(j);
+    rng
+}
+
+type Scratch = Vec<(Workspace, Vec<u8>)>;
+
+fn scratch(loc: &PitcherLocation) -> Scratch {
+    loc.parts.iter().map(|p| (Workspace::new(&p.task), p.task.labels.clone())).collect()
+}
+
+/// Permutation `j`: every type's regions shuffled within its blocks by one
+/// stream (types in order), every type refitted, the pooled statistic.
+fn null_statistic(loc: &PitcherLocation, name: &str, settings: &Settings, j: u64, s: &mut Scratch) -> Stat {
+    let mut rng = location_rng(settings.seed, name, j);
+    let mut total = StatTotals::default();
+    for (part, (ws, labels)) in loc.parts.iter().zip(s.iter_mut()) {
+        labels.copy_from_slice(&part.task.labels);
+        shuffle_within(labels, &part.task.strata, &mut rng);
+        let scored = fit_and_score(&part.task, labels, settings, ws, false);
+        add(&mut total, &scored.totals);
+    }
+    stat_of(&total)
+}
+
+/// Stream numbers of the pilot's permutations, far from the test's 0..m.
+const PILOT_STREAMS: u64 = 1 << 62;
+
+fn pilot_clear(loc: &PitcherLocation, name: &str, observed: Stat, settings: &Settings) -> bool {
+    let mut s = scratch(loc);
+    (0..PILOT as u64).all(|k| !null_statistic(loc, name, settings, PILOT_STREAMS + k, &mut s).reaches(&observed))
+}
+
+/// A pitcher's location figures (`location` in summary.json).
+#[derive(Debug, Clone, Serialize)]
+pub struct LocationFigures {
+    /// Held-out bits per located pitch the situational model of his region
+    /// gains over his plain region mix of each pitch type.
+    pub bits_gained: f64,
+    pub p_value: f64,
+    pub q_value: f64,
+    /// Held-out located pitches scored.
+    pub n: usize,
+    pub significant: bool,
+    pub permutations: usize,
+    /// Held-out guess-right rate of the situational model's region, and of
+    /// always guessing each pitch type's most used region.
+    pub model_accuracy: f64,
+    pub prior_accuracy: f64,
+    pub by_type: Vec<LocationType>,
+    /// Pitch types with too few located pitches for figures.
+    pub left_out: Vec<LeftOutType>,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct LocationType {
+    pub pitch_type: String,
+    pub n: usize,
+    pub bits_gained: f64,
+    pub model_accuracy: f64,
+    pub prior_accuracy: f64,
+}
+
+#[derive(Debug, Clone, Serialize)]
+pub struct LeftOutType {
+    pub pitch_type: String,
+    pub located_pitches: usize,
+}
+
+/// A location tell (`location_tells` in summary.json).
+#[derive(Debug, Clone, Serialize)]
+pub struct LocationTell {
+    #[serde(serialize_with = "crate::tells::ser_situation")]
+    pub situation: tells::Situation,
+    pub pitch_type: String,
+    pub region: String,
+    pub direction: tells::Direction,
+    pub layer: tells::Layer,
+    pub n: usize,
+    pub share: f64,
+    pub baseline_share: f64,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub expected_share: Option<f64>,
+    pub p_value: f64,
+    pub q_value: f64,
+    pub held_out_n: usize,
+    pub held_out_share: Option<f64>,
+    pub verdict: tells::Verdict,
+    /// The tell in a sentence.
+    pub text: String,
+}
+
+impl LocationTell {
+    pub fn of(t: &TellTest, checked_on: &str) -> LocationTell {
+        LocationTell {
+            situation: t.situation.clone(),
+            pitch_type: t.pitch_type.clone(),
+            region: t.region.clone().unwrap_or_default(),
+            direction: t.direction,
+            layer: t.layer,
+            n: t.n,
+            share: t.share,
+            baseline_share: t.baseline_share,
+            expected_share: t.expected_share,
+            p_value: t.p_value,
+            q_value: t.q_value,
+            held_out_n: t.held_out_n,
+            held_out_share: t.held_out_share,
+            verdict: t.verdict,
+            text: super::wording::location_sentence(t, checked_on),
+        }
+    }
+}
+
+/// Where each pitch type goes by count group, for the chart: shares of
+/// the 13 regions, in code order, with the pitches they rest on.
+#[derive(Debug, Clone, Serialize)]
+pub struct RegionMix {
+    pub pitch_type: String,
+    pub count_group: String,
+    pub n: usize,
+    pub shares: BTreeMap<String, f64>,
+}
+
+/// Everything the location stage gives the audit.
+pub struct LocationAudit {
+    /// Per audited pitcher (the audit's order): his figures, when any type
+    /// had enough located pitches.
+    pub figures: Vec<Option<LocationFigures>>,
+    /// Per audited pitcher: where each pitch type goes by count group.
+    pub mixes: Vec<Vec<RegionMix>>,
+    /// Every location tell test (flagged or not), `region` set.
+    pub tests: Vec<TellTest>,
+    /// No location columns in the log.
+    pub missing: bool,
+}
+
+/// The location stage over the audited pitchers' tasks.
+pub fn audit(
+    log: &PitchLog,
+    sit: &Situations,
+    discovery: &[bool],
+    tasks: &[&PitcherTask],
+    settings: &Settings,
+    progress: &(dyn Fn(u64) + Sync),
+) -> LocationAudit {
+    let Some(regions) = row_regions(log) else {
+        return LocationAudit { figures: tasks.iter().map(|_| None).collect(), mixes: tasks.iter().map(|_| Vec::new()).collect(), tests: Vec::new(), missing: true };
+    };
+    let names = region_names();
+    let locs: Vec<PitcherLocation> = tasks.par_iter().map(|t| PitcherLocation::build(t, &regions, &names, settings)).collect();
+    let observed: Vec<Pooled> = locs.par_iter().map(|l| observe(l, settings)).collect();
+    let with: Vec<usize> = (0..locs.len()).filter(|&i| locs[i].has_figures()).collect();
+    let clear: Vec<bool> =
+        with.par_iter().map(|&i| pilot_clear(&locs[i], &tasks[i].name, stat_of(&observed[i].totals), settings)).collect();
+    let all_clear = clear.iter().filter(|&&c| c).count();
+    let perms: Vec<PermutationResult> = with
+        .par_iter()
+        .zip(clear.par_iter())
+        .map(|(&i, &mine)| {
+            let m1 = permute::decision_at(with.len(), all_clear - mine as usize, settings.fdr);
+            let (loc, name) = (&locs[i], &tasks[i].name);
+            permute::drive(stat_of(&observed[i].totals), settings, Some(m1), progress, || scratch(loc), |j, s| null_statistic(loc, name, settings, j, s))
+        })
+        .collect();
+    let q = fdr::bh_q_values(&perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
+    let mut figures: Vec<Option<LocationFigures>> = tasks.iter().map(|_| None).collect();
+    for (w, &i) in with.iter().enumerate() {
+        let o = &observed[i];
+        let n = o.totals.n;
+        let scored = o.scored.max(1) as f64;
+        figures[i] = Some(LocationFigures {
+            bits_gained: stat_of(&o.totals).primary,
+            p_value: perms[w].p_value,
+            q_value: q[w],
+            n,
+            significant: q[w] <= settings.fdr,
+            permutations: perms[w].permutations,
+            model_accuracy: o.model_right as f64 / scored,
+            prior_accuracy: o.prior_right as f64 / scored,
+            by_type: o
+                .by_type
+                .iter()
+                .map(|(t, tot, sc, m, p)| LocationType {
+                    pitch_type: log.pitch_types[*t as usize].clone(),
+                    n: tot.n,
+                    bits_gained: stat_of(tot).primary,
+                    model_accuracy: *m as f64 / (*sc).max(1) as f64,
+                    prior_accuracy: *p as f64 / (*sc).max(1) as f64,
+                })
+                .collect(),
+            left_out: left_out(log, &locs[i]),
+        });
+    }
+    let tests = location_tests(log, sit, discovery, &locs, &regions, &names, settings);
+    let mixes = tasks.iter().map(|t| region_mixes(log, t, &regions)).collect();
+    LocationAudit { figures, mixes, tests, missing: false }
+}
+
+fn left_out(log: &PitchLog, loc: &PitcherLocation) -> Vec<LeftOutType> {
+    loc.left_out.iter().map(|&(t, n)| LeftOutType { pitch_type: log.pitch_types[t as usize].clone(), located_pitches: n }).collect()
+}
+
+/// The pitch-type tells' tests run on regions, one pitch type at a time
+/// (the staff's shares are of that type's pitches), then one
+/// false-discovery control over all of them.
+fn location_tests(
+    log: &PitchLog,
+    sit: &Situations,
+    discovery: &[bool],
+    locs: &[PitcherLocation],
+    regions: &[u16],
+    names: &[String],
+    settings: &Settings,
+) -> Vec<TellTest> {
+    let mut types: Vec<u16> = locs.iter().flat_map(|l| l.parts.iter().map(|p| p.pitch_type)).collect();
+    types.sort_unstable();
+    types.dedup();
+    let per_type: Vec<Vec<TellTest>> = types
+        .par_iter()
+        .map(|&t| {
+            let of_row: Vec<u16> = (0..log.len()).map(|r| if log.pitch_type[r] == t { regions[r] } else { NO_LABEL }).collect();
+            let tasks: Vec<&PitcherTask> = locs.iter().flat_map(|l| l.parts.iter()).filter(|p| p.pitch_type == t).map(|p| &p.task).collect();
+            let mut found = tells::find_in(log, sit, discovery, &tasks, settings, &Labels { of_row: &of_row, names });
+            for f in found.iter_mut() {
+                f.region = Some(std::mem::replace(&mut f.pitch_type, log.pitch_types[t as usize].clone()));
+            }
+            found
+        })
+        .collect();
+    tells::finish(per_type.into_iter().flatten().collect(), settings)
+}
+
+/// Where each of his pitch types goes, by count group (all his located
+/// pitches).
+fn region_mixes(log: &PitchLog, task: &PitcherTask, regions: &[u16]) -> Vec<RegionMix> {
+    let mut out = Vec::new();
+    for &t in &task.class_types {
+        for g in CountGroup::ALL {
+            let mut c = [0usize; REGIONS];
+            for &r in &task.rows {
+                let r = r as usize;
+                if log.pitch_type[r] == t && regions[r] != NO_LABEL && count_group(log.balls[r], log.strikes[r]) == g {
+                    c[regions[r] as usize] += 1;
+                }
+            }
+            let n: usize = c.iter().sum();
+            if n == 0 {
+                continue;
+            }
+            out.push(RegionMix {
+                pitch_type: log.pitch_types[t as usize].clone(),
+                count_group: g.name().into(),
+                n,
+                shares: Region::ALL.iter().map(|r| (r.name().to_string(), c[r.code() as usize] as f64 / n as f64)).collect(),
+            });
+        }
+    }
+    out
+}
+
+/// Why a pitcher has no location figures, in words (None when he has them).
+pub fn note(figures: &Option<LocationFigures>, missing: bool, settings: &Settings) -> Option<String> {
+    if figures.is_some() {
+        return None;
+    }
+    Some(if missing {
+        "No location figures: the log has no location columns.".to_string()
+    } else {
+        format!(
+            "No location figures: no pitch type of his has {} located pitches to learn from and {} to score.",
+            settings.location_min_train, settings.location_min_test
+        )
+    })
+}

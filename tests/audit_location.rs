@@ -1,0 +1,122 @@
+//! Where he throws it (issue: location tells). On invented staffs with no
+//! shared habits, where a pitch goes depends on nothing but its type unless
+//! planted (tests/fixtures/scenarios/location_staff.toml, null_staff.toml):
+//! a planted spot in two-strike counts is found, held out and significant;
+//! a pitch that goes to the same place in every situation is a habit, not
+//! a tell; null pitchers stay quiet and their location p-values are
+//! uniform (99% binomial bands, tests/common). Region edges are checked
+//! by hand in src/situations/regions.rs (rule book plate width; zone
+//! height 1.5-3.5 ft, common practice).
+
+mod common;
+
+use common::{assert_uniform, band};
+use tellscope::audit;
+use tellscope::ingest::write::{sim_frame, write_frame};
+use tellscope::settings::{ConfigFile, Overrides, Settings};
+use tellscope::simulate::{simulate, Scenario};
+
+fn scenario(name: &str) -> Scenario {
+    let text = std::fs::read_to_string(format!("{}/tests/fixtures/scenarios/{name}", env!("CARGO_MANIFEST_DIR"))).unwrap();
+    Scenario::from_toml_str(&text).unwrap()
+}
+
+fn settings(permutations: usize, seed: u64) -> Settings {
+    let s = Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(permutations), ..Overrides::default() }).unwrap();
+    Settings { seed, ..s }
+}
+
+fn audit_of(scn: &Scenario, sim_seed: u64, s: &Settings, tag: &str) -> audit::Audit {
+    let dir = std::env::temp_dir().join(format!("tellscope-location-{tag}-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join(format!("log-{sim_seed}.csv"));
+    write_frame(&mut sim_frame(&simulate(scn, sim_seed)).unwrap(), &path).unwrap();
+    let a = audit::run(&path, s, false).unwrap();
+    std::fs::remove_dir_all(&dir).ok();
+    a
+}
+
+#[test]
+fn a_planted_spot_is_found_and_a_habit_is_not_a_tell() {
+    let a = audit_of(&scenario("location_staff.toml"), 7, &settings(199, 11), "planted");
+    let fdr = a.summary.settings.fdr;
+    let by = |name: &str| a.summary.pitchers.iter().find(|p| p.pitcher == name).unwrap();
+
+    let spot = by("Spot Slider");
+    let loc = spot.location.as_ref().expect("location figures");
+    assert!(loc.q_value <= fdr && loc.bits_gained > 0.0, "location q {} bits {}", loc.q_value, loc.bits_gained);
+    let two_strikes = ["0-2", "1-2", "2-2", "3-2"];
+    let found = spot.location_tells.iter().find(|t| {
+        t.pitch_type == "slider"
+            && t.region == "down and away"
+            && t.direction == tellscope::tells::Direction::More
+            && t.situation.get(&tellscope::situations::levels::Factor::Count).is_some_and(|c| two_strikes.contains(&c.as_str()))
+    });
+    let t = found.unwrap_or_else(|| panic!("no two-strike slider tell: {:?}", spot.location_tells.iter().map(|t| &t.text).collect::<Vec<_>>()));
+    assert!(t.q_value <= fdr);
+    // Held out: the later games bear it out (share well above elsewhere).
+    assert_eq!(t.verdict, tellscope::tells::Verdict::Held, "{}", t.text);
+    assert!(t.held_out_share.unwrap() > t.baseline_share + 0.2, "{}", t.text);
+    // No flagged tell of his fastball, which has no spot.
+    assert!(spot.location_tells.iter().all(|t| t.pitch_type == "slider"), "{:?}", spot.location_tells.iter().map(|t| &t.text).collect::<Vec<_>>());
+
+    // His changeup goes low everywhere: a habit, so no situation differs.
+    let low = by("Low Changeup");
+    assert!(low.location.is_some());
+    assert!(low.location_tells.iter().all(|t| t.pitch_type != "changeup"), "{:?}", low.location_tells.iter().map(|t| &t.text).collect::<Vec<_>>());
+    let mix = low.location_mix.iter().find(|m| m.pitch_type == "changeup" && m.count_group == "even").unwrap();
+    assert!(mix.shares["chase low"] > 0.6, "{:?}", mix.shares);
+}
+
+/// Null staffs: location p-values uniform over pitchers and seeds, and a
+/// flagged location tell in no more runs than the band of the tell FDR's
+/// bound allows (BH at q = 0.05 under the global null: P(any flag) ≤ 0.05;
+/// Benjamini & Hochberg 1995, Theorem 1).
+#[test]
+fn null_staffs_are_quiet_and_their_location_p_values_uniform() {
+    let scn = scenario("null_staff.toml");
+    const SEEDS: u64 = 14;
+    let mut p_values = Vec::new();
+    let mut runs_with_a_tell = 0;
+    for seed in 1..=SEEDS {
+        let a = audit_of(&scn, 300 + seed, &settings(199, 900 + seed), "null");
+        for p in a.summary.pitchers.iter() {
+            if let Some(l) = &p.location {
+                p_values.push(l.p_value);
+            }
+        }
+        if a.summary.pitchers.iter().any(|p| !p.location_tells.is_empty()) {
+            runs_with_a_tell += 1;
+        }
+    }
+    assert_uniform("location p-values on null staffs", &p_values);
+    let (_, hi) = band(SEEDS, 0.05);
+    assert!(runs_with_a_tell <= hi, "{runs_with_a_tell} of {SEEDS} null staffs had a location tell (99% band top {hi})");
+}
+
+/// Without location columns everything else runs, and the report says what
+/// location figures need.
+#[test]
+fn without_location_columns_the_audit_runs_and_says_so() {
+    let scn = scenario("location_staff.toml");
+    let dir = std::env::temp_dir().join(format!("tellscope-location-none-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let full = dir.join("full.csv");
+    write_frame(&mut sim_frame(&simulate(&scn, 3)).unwrap(), &full).unwrap();
+    let text = std::fs::read_to_string(&full).unwrap();
+    let header: Vec<&str> = text.lines().next().unwrap().split(',').collect();
+    let drop: Vec<usize> = header.iter().enumerate().filter(|(_, h)| h.starts_with("loc_")).map(|(i, _)| i).collect();
+    assert_eq!(drop.len(), 2);
+    let stripped: String = text
+        .lines()
+        .map(|l| l.split(',').enumerate().filter(|(i, _)| !drop.contains(i)).map(|(_, v)| v).collect::<Vec<_>>().join(",") + "\n")
+        .collect();
+    let path = dir.join("no-location.csv");
+    std::fs::write(&path, stripped).unwrap();
+    let a = audit::run(&path, &settings(19, 1), false).unwrap();
+    std::fs::remove_dir_all(&dir).ok();
+    let ok: Vec<_> = a.summary.pitchers.iter().filter(|p| p.is_ok()).collect();
+    assert!(!ok.is_empty() && ok.iter().all(|p| p.bits_gained.is_some() && p.location.is_none() && p.location_tells.is_empty()));
+    assert!(ok.iter().all(|p| p.location_note.as_deref().is_some_and(|n| n.contains("no location columns"))));
+    assert!(a.summary.notes.iter().any(|n| n.contains("loc_side_ft") && n.contains("add them")));
+}
