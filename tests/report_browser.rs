@@ -91,10 +91,11 @@ fn the_demo_report_loads_cleanly_with_every_chart() {
         }
     }
     // The staff chart, the league-rank chart (percentiles, on any staff of
-    // two or more), with results the called-pitch outcomes chart, and four
-    // per pitcher (the sheet's two panels, mix by count, the null).
+    // two or more), with results the called-pitch outcomes chart, and five
+    // per pitcher (the sheet's two panels, mix by count, where his pitches
+    // go, the null).
     let staff_charts = 2 + if summary["staff_called_outcomes"].is_null() { 0 } else { 1 };
-    assert_eq!(svgs, staff_charts + 4 * ok, "staff charts and four per pitcher");
+    assert_eq!(svgs, staff_charts + 5 * ok, "staff charts and five per pitcher");
     let html = std::fs::read_to_string(out.join("index.html")).unwrap();
     assert!(!html.contains("http://") || html.matches("http://").all(|_| html.contains("xmlns")), "no network resources");
     assert!(!html.contains("<link ") && !html.contains(" src=\""), "self-contained: no external files");

@@ -76,7 +76,7 @@ pub struct PitcherLocation {
 impl PitcherLocation {
     /// Split a pitcher's task by pitch type, with regions as labels; a type
     /// enters with enough located pitches to learn from and to score.
-    pub fn build(task: &PitcherTask, regions: &[u16], names: &[String], settings: &Settings) -> PitcherLocation {
+    pub fn build(task: &PitcherTask, regions: &[u16], settings: &Settings) -> PitcherLocation {
         let mut parts = Vec::new();
         let mut left_out = Vec::new();
         let mut located = 0;
@@ -90,9 +90,8 @@ impl PitcherLocation {
             present.dedup();
             let labels: Vec<u8> =
                 keep.iter().map(|&i| present.binary_search(&regions[task.rows[i as usize] as usize]).unwrap() as u8).collect();
-            let class_names: Vec<String> = present.iter().map(|&c| names[c as usize].clone()).collect();
             let n = keep.len();
-            let sub = task.subset(&keep, labels, present, &class_names);
+            let sub = task.subset(&keep, labels, present);
             if present_enough(&sub, settings) {
                 parts.push(TypePart { pitch_type: gtype, task: sub });
             } else {
@@ -317,7 +316,7 @@ pub fn audit(
         return LocationAudit { figures: tasks.iter().map(|_| None).collect(), mixes: tasks.iter().map(|_| Vec::new()).collect(), tests: Vec::new(), missing: true };
     };
     let names = region_names();
-    let locs: Vec<PitcherLocation> = tasks.par_iter().map(|t| PitcherLocation::build(t, &regions, &names, settings)).collect();
+    let locs: Vec<PitcherLocation> = tasks.par_iter().map(|t| PitcherLocation::build(t, &regions, settings)).collect();
     let observed: Vec<Pooled> = locs.par_iter().map(|l| observe(l, settings)).collect();
     let with: Vec<usize> = (0..locs.len()).filter(|&i| locs[i].has_figures()).collect();
     let clear: Vec<bool> =

@@ -240,14 +240,17 @@ pub fn fit_and_score(
             }
         };
         let (used_c, used_b) = &ws.used_entries[fi];
-        code_table(&ws.count_all, &ws.count_oof, s_count, used_c, &mut ws.count_codes);
-        code_table(&ws.batter_all, &ws.batter_oof, s_batter, used_b, &mut ws.batter_codes);
+        let priors_on = task.prior_features;
+        if priors_on {
+            code_table(&ws.count_all, &ws.count_oof, s_count, used_c, &mut ws.count_codes);
+            code_table(&ws.batter_all, &ws.batter_oof, s_batter, used_b, &mut ws.batter_codes);
+        }
         // The codes go straight into the prepared learner (training and
         // held-out rows), except on a workspace's first fit, which prepares
         // the learner from the matrix, and on the observed fit, whose checks
         // below read the matrix.
         let (cc, bc) = (&ws.count_codes, &ws.batter_codes);
-        if ws.trees[fi].is_none() || keep_trees {
+        if priors_on && (ws.trees[fi].is_none() || keep_trees) {
             let codes = &mut ws.x.codes;
             for cls in 0..k {
                 let (fc, fb) = (prior_col0 + cls, prior_col0 + k + cls);
@@ -265,8 +268,16 @@ pub fn fit_and_score(
         let (train, test) = ws.row_slots[fi].split_at(n_train);
         let learner = match &mut ws.trees[fi] {
             Some(t) => {
-                t.rewrite_features(prior_col0..prior_col0 + 2 * k, |_, dst| prior_codes(cc, bc, k, train, dst));
+                if priors_on {
+                    t.rewrite_features(prior_col0..prior_col0 + 2 * k, |_, dst| prior_codes(cc, bc, k, train, dst));
+                }
                 t
+            }
+            slot @ None if !priors_on => {
+                let mut t = crate::model::fast_tree::FastTreeWorkspace::with_options(settings.tree, AuditTree::options());
+                t.prepare(&ws.x, &fold.train);
+                t.prepare_scored(&ws.x, &fold.test);
+                slot.insert(t)
             }
             slot @ None => {
                 let mut t = crate::model::fast_tree::FastTreeWorkspace::with_options(settings.tree, AuditTree::options());
@@ -280,8 +291,10 @@ pub fn fit_and_score(
                 slot.insert(t)
             }
         };
-        learner.scored_table(0).copy_from_slice(cc);
-        learner.scored_table(1).copy_from_slice(bc);
+        if priors_on {
+            learner.scored_table(0).copy_from_slice(cc);
+            learner.scored_table(1).copy_from_slice(bc);
+        }
         let grown = learner.fit(&ws.train_labels, k);
         let leaves = learner.scored_leaves();
         // Pruning is read off the grown tree: each grown node's kept node

@@ -61,6 +61,10 @@ pub struct PitcherTask {
     pub x: FeatureMatrix,
     pub kinds: Vec<FeatureKind>,
     pub n_situational: usize,
+    /// Whether the last `2 * n_classes` feature columns are the shrunk
+    /// count and batter priors of each class (the audit's pitch types); a
+    /// task without them learns from the situation features only.
+    pub prior_features: bool,
     pub discovery: Vec<u32>,
     pub held_out: Vec<u32>,
     pub game: Vec<u32>,
@@ -220,6 +224,7 @@ impl PitcherTask {
             x,
             kinds,
             n_situational,
+            prior_features: true,
             discovery,
             held_out,
             game,
@@ -228,13 +233,13 @@ impl PitcherTask {
     }
 
     /// The task of some of his rows (`keep`, local indices in order) with
-    /// other labels: `labels` (one per kept row, classes 0..`class_names`'
-    /// length) standing for `class_types` of some other label set. Folds,
+    /// other labels: `labels` (one per kept row, classes 0..`class_types.len()`) standing for `class_types` of
+    /// some other label set. Folds,
     /// permutation strata, discovery and held-out rows, games and the
     /// situation features are his own, restricted to the kept rows; the
-    /// prior features are rebuilt for the new classes. Used for where his
-    /// pitches of one type go (crate::location).
-    pub fn subset(&self, keep: &[u32], labels: Vec<u8>, class_types: Vec<u16>, class_names: &[String]) -> PitcherTask {
+    /// new task has no prior features (it learns from the situation only).
+    /// Used for where his pitches of one type go (crate::audit::location).
+    pub fn subset(&self, keep: &[u32], labels: Vec<u8>, class_types: Vec<u16>) -> PitcherTask {
         debug_assert_eq!(keep.len(), labels.len());
         let mut new_of = vec![u32::MAX; self.rows.len()];
         for (j, &i) in keep.iter().enumerate() {
@@ -249,15 +254,8 @@ impl PitcherTask {
         let folds = self.folds.iter().map(|f| Fold { train: remap(&f.train), test: remap(&f.test) }).collect();
         let k = class_types.len();
         let n = keep.len();
-        let mut names: Vec<String> = self.x.names[..self.n_situational].to_vec();
-        let mut kinds: Vec<FeatureKind> = self.kinds[..self.n_situational].to_vec();
-        for given in ["count", "batter"] {
-            for (c, name) in class_names.iter().enumerate() {
-                let phrase = if given == "count" { "in this count" } else { "against this batter" };
-                names.push(format!("his {name} share {phrase}"));
-                kinds.push(FeatureKind::Prior { class: c, given });
-            }
-        }
+        let names: Vec<String> = self.x.names[..self.n_situational].to_vec();
+        let kinds: Vec<FeatureKind> = self.kinds[..self.n_situational].to_vec();
         let mut x = FeatureMatrix::new(n, names);
         for f in 0..self.n_situational {
             let src = self.x.column(f);
@@ -266,7 +264,7 @@ impl PitcherTask {
                 *d = src[i as usize];
             }
         }
-        debug_assert_eq!(x.n_features(), self.n_situational + 2 * k);
+
         PitcherTask {
             pitcher: self.pitcher,
             name: self.name.clone(),
@@ -285,6 +283,7 @@ impl PitcherTask {
             x,
             kinds,
             n_situational: self.n_situational,
+            prior_features: false,
             discovery: remap(&self.discovery),
             held_out: remap(&self.held_out),
             game: keep.iter().map(|&i| self.game[i as usize]).collect(),

@@ -1,6 +1,10 @@
 //! Release speed and plate location of a pitch: plausible values by pitch
-//! type, with noise. They are drawn after the pitch's result and feed back
-//! into nothing, so they cannot disturb the planted truth.
+//! type, with noise. They feed back into nothing, so they cannot disturb
+//! the planted truth. `draw` gives the speed (its side and height, drawn
+//! from the result, are no longer used but still drawn, so the game's
+//! other draws stay as they were); `place` gives where the pitch goes, from
+//! the game's location stream, independent of the result (results depend
+//! on the count only).
 //!
 //! Averages are common practice (round figures of the trade, not tuned to
 //! any data): four-seam fastball about 93-94 mph, sinker a mph slower,
