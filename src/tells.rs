@@ -260,6 +260,10 @@ fn key_situation(cols: &[&crate::situations::FactorColumn], mut k: usize) -> Sit
 pub struct Labels<'a> {
     pub of_row: &'a [u16],
     pub names: &'a [String],
+    /// Test the configured pairs of factors too (else single factors only).
+    pub pairs: bool,
+    /// Test "less" as well as "more" (else only a label thrown more).
+    pub less: bool,
 }
 
 /// A row outside the label set.
@@ -268,7 +272,7 @@ pub const NO_LABEL: u16 = u16::MAX;
 impl<'a> Labels<'a> {
     /// Pitch types, the audit's labels.
     pub fn pitch_types(log: &'a PitchLog) -> Labels<'a> {
-        Labels { of_row: &log.pitch_type, names: &log.pitch_types }
+        Labels { of_row: &log.pitch_type, names: &log.pitch_types, pairs: true, less: true }
     }
 }
 
@@ -289,7 +293,10 @@ pub fn find_in(
     settings: &Settings,
     labels: &Labels,
 ) -> Vec<TellTest> {
-    let defs = definitions(sit, settings);
+    let mut defs = definitions(sit, settings);
+    if !labels.pairs {
+        defs.retain(|d| d.len() == 1);
+    }
     let n_types = labels.names.len();
     // Staff: the pitcher's team when the log has one, else the whole log.
     let team_of_row = |r: usize| -> u32 { log.team.as_ref().and_then(|t| t[r]).map(|t| t + 1).unwrap_or(0) };
@@ -319,7 +326,7 @@ pub fn find_in(
         let layer = Layer::of(def);
         for task in tasks {
             if layer == Layer::Beyond {
-                beyond_tests(labels.names, &cols, task, settings, &mut tests, &staff, &staff_n, n_keys, team_of_row);
+                beyond_tests(labels, &cols, task, settings, &mut tests, &staff, &staff_n, n_keys, team_of_row);
                 continue;
             }
             let kc = task.n_classes;
@@ -366,7 +373,7 @@ pub fn find_in(
                     let (hn, hk) = (held_n[k], held[k * kc + cls]);
                     let (hout, hkout) = (held_all - hn, held_total[cls] - hk);
                     for dir in [Direction::More, Direction::Less] {
-                        if binary && dir == Direction::Less {
+                        if (binary || !labels.less) && dir == Direction::Less {
                             continue; // the other level's "more" is the same test
                         }
                         // Fisher's exact test as a hypergeometric tail: of the
@@ -438,11 +445,17 @@ pub fn finish(tests: Vec<TellTest>, settings: &Settings) -> Vec<TellTest> {
     control_fdr(&mut beyond, settings);
     let mut tests = sheet;
     tests.extend(beyond);
+    flag(&mut tests, settings);
+    tests
+}
+
+/// Flag the tests whose q-values are set: q ≤ fdr and an effect of at
+/// least the minimum; then mark the narrowings.
+pub fn flag(tests: &mut [TellTest], settings: &Settings) {
     for t in tests.iter_mut() {
         t.flagged = t.q_value <= settings.fdr && t.effect() >= settings.tell_min_effect;
     }
-    mark_narrowings(&mut tests, settings.tell_min_effect);
-    tests
+    mark_narrowings(tests, settings.tell_min_effect);
 }
 
 /// The staff's share of pitch type `gtype` in situation `key` (discovery
@@ -462,7 +475,7 @@ fn staff_share(staff: &[u32], staff_n: &[u32], n_keys: usize, n_types: usize, te
 /// a game's pitches lie wholly on the discovery or the held-out side).
 #[allow(clippy::too_many_arguments)]
 fn beyond_tests(
-    names: &[String],
+    labels: &Labels,
     cols: &[&crate::situations::FactorColumn],
     task: &PitcherTask,
     settings: &Settings,
@@ -473,6 +486,7 @@ fn beyond_tests(
     team_of_row: impl Fn(usize) -> u32,
 ) {
     let kc = task.n_classes;
+    let names = labels.names;
     let n_types = names.len();
     let mut is_disc = vec![false; task.rows.len()];
     for &i in &task.discovery {
@@ -587,6 +601,9 @@ fn beyond_tests(
             let (n_out, k_out) = (big_n - n, big_k - x);
             let (h_out, hk_out) = (held_all - hn, held_total[cls] - hk);
             for direction in [Direction::More, Direction::Less] {
+                if !labels.less && direction == Direction::Less {
+                    continue;
+                }
                 let p = match direction {
                     Direction::More => t.p_more(),
                     Direction::Less => t.p_less(),
@@ -652,39 +669,51 @@ pub fn simes(p: &[f64]) -> f64 {
 ///
 /// `pooled`: plain Benjamini–Hochberg over all tests of the run.
 fn control_fdr(tests: &mut [TellTest], settings: &Settings) {
-    if tests.is_empty() {
-        return;
+    let keys: Vec<&str> = tests.iter().map(|t| t.pitcher.as_str()).collect();
+    let p: Vec<f64> = tests.iter().map(|t| t.p_value).collect();
+    let (q, family_q) = fdr_q_values(&keys, &p, settings);
+    for ((t, q), f) in tests.iter_mut().zip(q).zip(family_q) {
+        t.q_value = q;
+        t.family_q = f;
+    }
+}
+
+/// The q-values of [`control_fdr`] for tests of pitchers `keys` with
+/// p-values `p`: each test's q-value and its pitcher family's q-value.
+/// Only the p-values and who they belong to matter, so a caller may keep
+/// its tests in any compact form.
+pub fn fdr_q_values<K: Ord + Clone>(keys: &[K], p: &[f64], settings: &Settings) -> (Vec<f64>, Vec<f64>) {
+    let n = p.len();
+    if n == 0 {
+        return (Vec::new(), Vec::new());
     }
     if settings.tell_fdr_method == crate::settings::FdrMethod::Pooled {
-        let p: Vec<f64> = tests.iter().map(|t| t.p_value).collect();
-        for (t, q) in tests.iter_mut().zip(fdr::bh_q_values(&p)) {
-            t.q_value = q;
-            t.family_q = q;
-        }
-        return;
+        let q = fdr::bh_q_values(p);
+        return (q.clone(), q);
     }
-    let mut families: BTreeMap<String, Vec<usize>> = BTreeMap::new();
-    for (i, t) in tests.iter().enumerate() {
-        families.entry(t.pitcher.clone()).or_default().push(i);
+    let mut families: BTreeMap<K, Vec<usize>> = BTreeMap::new();
+    for (i, k) in keys.iter().enumerate() {
+        families.entry(k.clone()).or_default().push(i);
     }
-    let fam: Vec<(&String, &Vec<usize>)> = families.iter().collect();
-    let fam_p: Vec<f64> = fam.iter().map(|(_, idx)| simes(&idx.iter().map(|&i| tests[i].p_value).collect::<Vec<_>>())).collect();
+    let fam: Vec<&Vec<usize>> = families.values().collect();
+    let fam_p: Vec<f64> = fam.iter().map(|idx| simes(&idx.iter().map(|&i| p[i]).collect::<Vec<_>>())).collect();
     let fam_q = fdr::bh_q_values(&fam_p);
     let m = fam.len() as f64;
     let r = fam_q.iter().filter(|&&q| q <= settings.fdr).count().max(1) as f64;
-    for (f, (_, idx)) in fam.iter().enumerate() {
-        let p: Vec<f64> = idx.iter().map(|&i| tests[i].p_value).collect();
-        let within = fdr::bh_q_values(&p);
+    let (mut q_out, mut f_out) = (vec![1.0; n], vec![1.0; n]);
+    for (f, idx) in fam.iter().enumerate() {
+        let within = fdr::bh_q_values(&idx.iter().map(|&i| p[i]).collect::<Vec<_>>());
         let selected = fam_q[f] <= settings.fdr;
         for (&i, w) in idx.iter().zip(within) {
             let mut q = (w * m / r).min(1.0);
             if !selected {
                 q = q.max(fam_q[f]);
             }
-            tests[i].q_value = q;
-            tests[i].family_q = fam_q[f];
+            q_out[i] = q;
+            f_out[i] = fam_q[f];
         }
     }
+    (q_out, f_out)
 }
 
 /// A flagged two-factor tell whose share is within `min_effect` of a flagged

@@ -316,12 +316,15 @@ pub fn audit(
         return LocationAudit { figures: tasks.iter().map(|_| None).collect(), mixes: tasks.iter().map(|_| Vec::new()).collect(), tests: Vec::new(), missing: true };
     };
     let names = region_names();
+    let timer = crate::progress::Timer::start();
     let locs: Vec<PitcherLocation> = tasks.par_iter().map(|t| PitcherLocation::build(t, &regions, settings)).collect();
     let observed: Vec<Pooled> = locs.par_iter().map(|l| observe(l, settings)).collect();
+    timer.lap("location: tasks and observed fits");
     let with: Vec<usize> = (0..locs.len()).filter(|&i| locs[i].has_figures()).collect();
     let clear: Vec<bool> =
         with.par_iter().map(|&i| pilot_clear(&locs[i], &tasks[i].name, stat_of(&observed[i].totals), settings)).collect();
     let all_clear = clear.iter().filter(|&&c| c).count();
+    timer.lap("location: pilots");
     let perms: Vec<PermutationResult> = with
         .par_iter()
         .zip(clear.par_iter())
@@ -331,6 +334,7 @@ pub fn audit(
             permute::drive(stat_of(&observed[i].totals), settings, Some(m1), progress, || scratch(loc), |j, s| null_statistic(loc, name, settings, j, s))
         })
         .collect();
+    timer.lap("location: permutation tests");
     let q = fdr::bh_q_values(&perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
     let mut figures: Vec<Option<LocationFigures>> = tasks.iter().map(|_| None).collect();
     for (w, &i) in with.iter().enumerate() {
@@ -361,6 +365,7 @@ pub fn audit(
         });
     }
     let tests = location_tests(log, sit, discovery, &locs, &regions, &names, settings);
+    timer.lap("location: tells");
     let mixes = tasks.iter().map(|t| region_mixes(log, t, &regions)).collect();
     LocationAudit { figures, mixes, tests, missing: false }
 }
@@ -371,7 +376,10 @@ fn left_out(log: &PitchLog, loc: &PitcherLocation) -> Vec<LeftOutType> {
 
 /// The pitch-type tells' tests run on regions, one pitch type at a time
 /// (the staff's shares are of that type's pitches), then one
-/// false-discovery control over all of them.
+/// false-discovery control over all of them. Single factors only, and only
+/// "more often there": with thirteen regions, every pair and both
+/// directions would make millions of tests on a league (memory), while a
+/// coach reads a location tell as "in this situation it goes there".
 fn location_tests(
     log: &PitchLog,
     sit: &Situations,
@@ -384,19 +392,63 @@ fn location_tests(
     let mut types: Vec<u16> = locs.iter().flat_map(|l| l.parts.iter().map(|p| p.pitch_type)).collect();
     types.sort_unstable();
     types.dedup();
-    let per_type: Vec<Vec<TellTest>> = types
+    // Per type: every test's (layer, pitcher, p) for the false-discovery
+    // control, and in full only those that could be flagged (q ≥ p, so a
+    // test with p above fdr never is): a league's location tests run to
+    // millions, too many to keep whole.
+    let pitcher_of: std::collections::HashMap<&str, u32> = locs.iter().flat_map(|l| l.parts.first()).map(|p| (p.task.name.as_str(), p.task.pitcher)).collect();
+    type Compact = (tells::Layer, u32, f64);
+    let per_type: Vec<(Vec<Compact>, Vec<(usize, TellTest)>)> = types
         .par_iter()
         .map(|&t| {
             let of_row: Vec<u16> = (0..log.len()).map(|r| if log.pitch_type[r] == t { regions[r] } else { NO_LABEL }).collect();
             let tasks: Vec<&PitcherTask> = locs.iter().flat_map(|l| l.parts.iter()).filter(|p| p.pitch_type == t).map(|p| &p.task).collect();
-            let mut found = tells::find_in(log, sit, discovery, &tasks, settings, &Labels { of_row: &of_row, names });
-            for f in found.iter_mut() {
-                f.region = Some(std::mem::replace(&mut f.pitch_type, log.pitch_types[t as usize].clone()));
-            }
-            found
+            let found = tells::find_in(log, sit, discovery, &tasks, settings, &Labels { of_row: &of_row, names, pairs: false, less: false });
+            let compact: Vec<Compact> = found.iter().map(|f| (f.layer, pitcher_of[f.pitcher.as_str()], f.p_value)).collect();
+            let kept = found
+                .into_iter()
+                .enumerate()
+                .filter(|(_, f)| f.p_value <= settings.fdr)
+                .map(|(i, mut f)| {
+                    f.region = Some(std::mem::replace(&mut f.pitch_type, log.pitch_types[t as usize].clone()));
+                    (i, f)
+                })
+                .collect();
+            (compact, kept)
         })
         .collect();
-    tells::finish(per_type.into_iter().flatten().collect(), settings)
+    // Global positions of each type's tests, then each layer's control.
+    let mut all: Vec<Compact> = Vec::new();
+    let mut kept: Vec<(usize, TellTest)> = Vec::new();
+    for (compact, k) in per_type {
+        let base = all.len();
+        kept.extend(k.into_iter().map(|(i, f)| (base + i, f)));
+        all.extend(compact);
+    }
+    let mut q = vec![1.0; all.len()];
+    let mut family_q = vec![1.0; all.len()];
+    for layer in [tells::Layer::Sheet, tells::Layer::Beyond] {
+        let at: Vec<usize> = (0..all.len()).filter(|&i| all[i].0 == layer).collect();
+        let keys: Vec<u32> = at.iter().map(|&i| all[i].1).collect();
+        let p: Vec<f64> = at.iter().map(|&i| all[i].2).collect();
+        let (lq, lf) = tells::fdr_q_values(&keys, &p, settings);
+        for ((&i, a), b) in at.iter().zip(lq).zip(lf) {
+            q[i] = a;
+            family_q[i] = b;
+        }
+    }
+    // Sheet tests first, then beyond, each in test order (as tells::finish).
+    kept.sort_by_key(|(i, f)| (f.layer != tells::Layer::Sheet, *i));
+    let mut tests: Vec<TellTest> = kept
+        .into_iter()
+        .map(|(i, mut f)| {
+            f.q_value = q[i];
+            f.family_q = family_q[i];
+            f
+        })
+        .collect();
+    tells::flag(&mut tests, settings);
+    tests
 }
 
 /// Where each of his pitch types goes, by count group (all his located

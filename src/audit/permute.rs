@@ -127,10 +127,9 @@ pub fn null_statistic(null: Null, task: &PitcherTask, settings: &Settings, j: u6
 /// in order for the stopping rule.
 const BATCH: usize = 32;
 
-/// While a test could soon stop (in its first `2 · BATCH` permutations), a
-/// batch is only as large as the fewest permutations after which it could
-/// stop, but not below this: a pitcher with no tell stops after about
-/// twenty, so whole batches of 32 would mostly be thrown away. Which
+/// A batch is only as large as the fewest permutations after which the test
+/// could stop, but not below this: a pitcher with no tell stops after a few
+/// dozen, so whole batches of 32 would mostly be thrown away. Which
 /// permutations are drawn, and so every result, does not depend on batch
 /// sizes (the stopping rule reads them in order).
 const MIN_BATCH: usize = 4;
@@ -227,7 +226,7 @@ pub fn drive<W: Send>(
     let mut start = 0usize;
     let pool: Vec<std::sync::Mutex<Option<W>>> = (0..rayon::current_num_threads().max(1)).map(|_| std::sync::Mutex::new(None)).collect();
     while start < m && !seq.is_done() {
-        let size = if start < 2 * BATCH { seq.fewest_left().clamp(MIN_BATCH, BATCH) } else { BATCH };
+        let size = seq.fewest_left().clamp(MIN_BATCH, BATCH);
         let end = (start + size).min(m);
         let stats: Vec<Stat> = (start..end)
             .into_par_iter()

@@ -172,7 +172,7 @@ pub fn region_phrase(region: &str) -> String {
         "chase low" => "low, out of the zone".into(),
         "chase in" => "inside, off the plate".into(),
         "chase away" => "away, off the plate".into(),
-        corner => format!("{corner} in the zone"),
+        corner => format!("to the {} corner of the zone", corner.replace(' ', "-")),
     }
 }
 

@@ -125,9 +125,9 @@ impl Workspace {
                 })
                 .collect(),
             count_all: GroupCounts::new(12, k),
-            batter_all: GroupCounts::new(task.n_batters, k),
+            batter_all: GroupCounts::new(if task.prior_features { task.n_batters } else { 1 }, k),
             count_oof: (0..OOF_FOLDS).map(|_| GroupCounts::new(12, k)).collect(),
-            batter_oof: (0..OOF_FOLDS).map(|_| GroupCounts::new(task.n_batters, k)).collect(),
+            batter_oof: (0..OOF_FOLDS).map(|_| GroupCounts::new(if task.prior_features { task.n_batters } else { 1 }, k)).collect(),
             sheet: GroupCounts::new(24, k),
             sheet_log: Vec::new(),
             want_sheet: false,
@@ -181,7 +181,8 @@ pub fn fit_and_score(
                 }
                 (0..parts * g).filter(|&e| seen[e]).map(|e| e as u32).collect::<Vec<u32>>()
             };
-            ws.used_entries[fi] = (used(&|s| s.1, gc), used(&|s| s.2, gb));
+            let used_b = if task.prior_features { used(&|s| s.2, gb) } else { Vec::new() };
+            ws.used_entries[fi] = (used(&|s| s.1, gc), used_b);
             ws.row_slots[fi] = slots;
         }
         // Counted per game fold; the training totals are their sums. A
@@ -191,27 +192,38 @@ pub fn fit_and_score(
         ws.train_labels.clear();
         ws.flat_count.clear();
         ws.flat_count.resize(OOF_FOLDS * gc * k, 0);
-        ws.flat_batter.clear();
-        ws.flat_batter.resize(OOF_FOLDS * gb * k, 0);
+        // Without prior features the batter table feeds nothing: it is
+        // neither counted nor shrunk (its strength is reported as 0).
+        let priors_on = task.prior_features;
+        if priors_on {
+            ws.flat_batter.clear();
+            ws.flat_batter.resize(OOF_FOLDS * gb * k, 0);
+        }
         for &(r, cb, bb) in &ws.row_slots[fi][..n_train] {
             let y = labels[r as usize];
             ws.flat_count[cb as usize + y as usize] += 1;
-            ws.flat_batter[bb as usize + y as usize] += 1;
+            if priors_on {
+                ws.flat_batter[bb as usize + y as usize] += 1;
+            }
             ws.train_labels.push(y);
         }
         for (o, (c, b)) in ws.count_oof.iter_mut().zip(&mut ws.batter_oof).enumerate() {
             c.counts.copy_from_slice(&ws.flat_count[o * gc * k..(o + 1) * gc * k]);
-            b.counts.copy_from_slice(&ws.flat_batter[o * gb * k..(o + 1) * gb * k]);
             c.fill_totals();
-            b.fill_totals();
+            if priors_on {
+                b.counts.copy_from_slice(&ws.flat_batter[o * gb * k..(o + 1) * gb * k]);
+                b.fill_totals();
+            }
         }
         ws.count_all.set_sum(&ws.count_oof);
-        ws.batter_all.set_sum(&ws.batter_oof);
+        if priors_on {
+            ws.batter_all.set_sum(&ws.batter_oof);
+        }
         // His usage on the training rows: the count table's class sums.
         let usage = UsagePrior::from_counts(ws.count_all.class_totals());
         let mix = &usage.probs;
         let s_count = priors::strength(&ws.count_all, mix, settings.prior_strength);
-        let s_batter = priors::strength(&ws.batter_all, mix, settings.prior_strength);
+        let s_batter = if priors_on { priors::strength(&ws.batter_all, mix, settings.prior_strength) } else { 0.0 };
         let n_rows = task.x.n_rows;
         // Prior features: out-of-fold for training rows, full training
         // counts for scored rows (they are never in the training counts).
@@ -240,7 +252,6 @@ pub fn fit_and_score(
             }
         };
         let (used_c, used_b) = &ws.used_entries[fi];
-        let priors_on = task.prior_features;
         if priors_on {
             code_table(&ws.count_all, &ws.count_oof, s_count, used_c, &mut ws.count_codes);
             code_table(&ws.batter_all, &ws.batter_oof, s_batter, used_b, &mut ws.batter_codes);
