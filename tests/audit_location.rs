@@ -120,3 +120,37 @@ fn without_location_columns_the_audit_runs_and_says_so() {
     assert!(ok.iter().all(|p| p.location_note.as_deref().is_some_and(|n| n.contains("no location columns"))));
     assert!(a.summary.notes.iter().any(|n| n.contains("loc_side_ft") && n.contains("add them")));
 }
+
+/// Compare: a changeup that starts going away off the plate in 2026 is a
+/// significant location shift of that pitch; pitchers whose spots did not
+/// change have at most one among them (BH at 0.05 over about twenty null
+/// tests: one false alarm is within what the control allows, two would
+/// happen in well under 1% of runs).
+#[test]
+fn compare_finds_a_moved_pitch_and_only_that() {
+    use tellscope::compare::{self, period::PeriodSpec, Request};
+    let scn = scenario("location_staff.toml");
+    let dir = std::env::temp_dir().join(format!("tellscope-location-compare-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("log.csv");
+    write_frame(&mut sim_frame(&simulate(&scn, 21)).unwrap(), &path).unwrap();
+    let request = Request {
+        before: PeriodSpec::parse("--before", "2025").unwrap(),
+        after: PeriodSpec::parse("--after", "2026").unwrap(),
+        permutations: 99,
+    };
+    let c = compare::run(&path, &settings(99, 5), &request, false).unwrap();
+    std::fs::remove_dir_all(&dir).ok();
+    let shifts: Vec<(&str, &tellscope::compare::summary::Change)> = c
+        .summary
+        .pitchers
+        .iter()
+        .flat_map(|p| p.changes.iter().filter(|c| c.kind == "location_shift").map(move |c| (p.pitcher.as_str(), c)))
+        .collect();
+    assert!(shifts.len() >= 10, "{} location tests", shifts.len());
+    assert!(shifts.iter().all(|(_, c)| c.family == compare::LOCATION_FAMILY));
+    let moved = shifts.iter().find(|(p, c)| *p == "Moved Changeup" && c.pitch_type.as_deref() == Some("changeup")).expect("his changeup compared");
+    assert!(moved.1.significant && moved.1.region.as_deref() == Some("chase away") && moved.1.after > moved.1.before + 0.3, "{}", moved.1.text);
+    let others: Vec<&str> = shifts.iter().filter(|(p, c)| c.significant && *p != "Moved Changeup").map(|(_, c)| c.text.as_str()).collect();
+    assert!(others.len() <= 1, "{others:?}");
+}
