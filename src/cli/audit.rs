@@ -120,14 +120,14 @@ pub fn print_table(audit: &Audit, out: &Path) {
         );
     }
     println!();
-    println!("{:<22} {:>6} {:>6} {:>7} {:>7} {:>7} {:>7} {:>7} {:>6}", "pitcher", "train", "test", "prior", "model", "lift", "bits", "q", "tells");
+    println!("{:<22} {:>6} {:>6} {:>7} {:>7} {:>7} {:>7} {:>7} {:>6} {:>6}", "pitcher", "train", "test", "prior", "model", "lift", "bits", "q", "tells", "where");
     let mut rows: Vec<_> = s.pitchers.iter().filter(|p| p.is_ok()).collect();
     rows.sort_by(|a, b| b.bits_gained.partial_cmp(&a.bits_gained).unwrap().then(a.pitcher.cmp(&b.pitcher)));
     for p in rows {
         let g = |x: Option<f64>| x.unwrap_or(0.0);
         let name: String = p.pitcher.chars().take(22).collect();
-        println!(
-            "{:<22} {:>6} {:>6} {:>6.1}% {:>6.1}% {:>+6.0}% {:>+7.3} {:>7} {:>6}{}",
+        let line = format!(
+            "{:<22} {:>6} {:>6} {:>6.1}% {:>6.1}% {:>+6.0}% {:>+7.3} {:>7} {:>6} {:>6}{}{}",
             name,
             p.n_train,
             p.n_test,
@@ -137,13 +137,19 @@ pub fn print_table(audit: &Audit, out: &Path) {
             g(p.bits_gained),
             if g(p.q_value) < 0.001 { "<0.001".to_string() } else { format!("{:.3}", g(p.q_value)) },
             p.tells.iter().filter(|t| t.within.is_none()).count(),
-            if p.significant == Some(true) { "  *" } else { "" }
+            if p.location.is_some() { p.location_tells.len().to_string() } else { "-".to_string() },
+            if p.significant == Some(true) { "  *" } else { "   " },
+            if p.location.as_ref().is_some_and(|l| l.significant) { " +" } else { "" }
         );
+        println!("{}", line.trim_end());
     }
     for p in s.pitchers.iter().filter(|p| !p.is_ok()) {
         println!("{:<22} {:>6} {:>6}  insufficient data", p.pitcher.chars().take(22).collect::<String>(), p.n_train, p.n_test);
     }
     println!("  * the situation predicts his pitch beyond his mix (q <= {})", s.settings.fdr);
+    if s.pitchers.iter().any(|p| p.location.is_some()) {
+        println!("  where: his location tells; + the situation predicts where a pitch goes beyond his usual spots for it (q <= {})", s.settings.fdr);
+    }
     // Each pitcher's first headline finding, in table order.
     let mut heads: Vec<_> = s.pitchers.iter().filter(|p| p.is_ok() && !p.headline.is_empty()).collect();
     heads.sort_by(|a, b| b.bits_gained.partial_cmp(&a.bits_gained).unwrap().then(a.pitcher.cmp(&b.pitcher)));
