@@ -389,7 +389,7 @@ pub fn find_in(
                         // A two-level factor's "more at A" is "less at B"; it is
                         // told the way a coach would say it: as an avoidance when
                         // he throws the pitch at under half the rate at B.
-                        if binary && ((big_k - x) as f64 / (big_n - n) as f64) < 0.5 * (x as f64 / n as f64) {
+                        if binary && labels.less && ((big_k - x) as f64 / (big_n - n) as f64) < 0.5 * (x as f64 / n as f64) {
                             at = (1 - k, Direction::Less, at.3, at.2, at.5, at.4);
                         }
                         let (key, direction, (n_in, k_in), (n_out, k_out), (h_in, hk_in), (h_out, hk_out)) = at;
