@@ -30,11 +30,9 @@ use crate::significance::fdr;
 use crate::situations::regions::{count_group, region_of, CountGroup, Region, REGIONS};
 use crate::situations::Situations;
 use crate::tells::{self, Labels, TellTest, NO_LABEL};
-use rand::SeedableRng;
 use rand_chacha::ChaCha8Rng;
 use rayon::prelude::*;
 use serde::Serialize;
-use sha2::{Digest, Sha256};
 use std::collections::BTreeMap;
 
 /// Each log row's region code, `NO_LABEL` where the log has no location for
@@ -161,14 +159,7 @@ fn observe(loc: &PitcherLocation, settings: &Settings) -> Pooled {
 
 /// The RNG of location permutation `j` of a pitcher.
 fn location_rng(seed: u64, pitcher: &str, j: u64) -> ChaCha8Rng {
-    let mut h = Sha256::new();
-    h.update(b"tellscope location v1");
-    h.update(seed.to_le_bytes());
-    h.update(pitcher.as_bytes());
-    let key: [u8; 32] = h.finalize().into();
-    let mut rng = ChaCha8Rng::from_seed(key);
-    rng.set_stream(j);
-    rng
+    permute::keyed_rng(b"tellscope location v1", seed, pitcher, j)
 }
 
 type Scratch = Vec<(Workspace, Vec<u8>)>;

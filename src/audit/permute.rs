@@ -87,8 +87,14 @@ pub fn permutation_rng(seed: u64, pitcher: &str, j: u64) -> ChaCha8Rng {
 /// The RNG of permutation `j` of a pitcher under `null` (each test draws
 /// its own shuffles).
 pub fn null_rng(null: Null, seed: u64, pitcher: &str, j: u64) -> ChaCha8Rng {
+    keyed_rng(null.domain(), seed, pitcher, j)
+}
+
+/// Stream `j` of the ChaCha8 generator keyed by (`domain`, seed, pitcher):
+/// each test draws its own shuffles, whatever the thread count.
+pub fn keyed_rng(domain: &[u8], seed: u64, pitcher: &str, j: u64) -> ChaCha8Rng {
     let mut h = Sha256::new();
-    h.update(null.domain());
+    h.update(domain);
     h.update(seed.to_le_bytes());
     h.update(pitcher.as_bytes());
     let key: [u8; 32] = h.finalize().into();
