@@ -21,7 +21,7 @@
 //! test, found on discovery rows and checked held out, with their own
 //! false-discovery families.
 
-use super::permute::{self, shuffle_within, PermutationResult, PILOT};
+use super::permute::{self, shuffle_within, PermutationResult};
 use crate::evaluate::fit::{argmax, fit_and_score, Stat, StatTotals, Workspace};
 use crate::evaluate::task::PitcherTask;
 use crate::ingest::PitchLog;
@@ -66,9 +66,6 @@ pub struct PitcherLocation {
     pub parts: Vec<TypePart>,
     /// Pitch types left out: (global type, located pitches it has).
     pub left_out: Vec<(u16, usize)>,
-    /// His pitches with a location, and all his pitches.
-    pub located: usize,
-    pub pitches: usize,
 }
 
 impl PitcherLocation {
@@ -77,12 +74,10 @@ impl PitcherLocation {
     pub fn build(task: &PitcherTask, regions: &[u16], settings: &Settings) -> PitcherLocation {
         let mut parts = Vec::new();
         let mut left_out = Vec::new();
-        let mut located = 0;
         for (cls, &gtype) in task.class_types.iter().enumerate() {
             let keep: Vec<u32> = (0..task.rows.len() as u32)
                 .filter(|&i| task.labels[i as usize] as usize == cls && regions[task.rows[i as usize] as usize] != NO_LABEL)
                 .collect();
-            located += keep.len();
             let mut present: Vec<u16> = keep.iter().map(|&i| regions[task.rows[i as usize] as usize]).collect();
             present.sort_unstable();
             present.dedup();
@@ -96,7 +91,7 @@ impl PitcherLocation {
                 left_out.push((gtype, n));
             }
         }
-        PitcherLocation { parts, left_out, located, pitches: task.rows.len() }
+        PitcherLocation { parts, left_out }
     }
 
     pub fn has_figures(&self) -> bool {
@@ -119,23 +114,6 @@ struct Pooled {
     by_type: Vec<(u16, StatTotals, usize, usize, usize)>,
 }
 
-fn add(t: &mut StatTotals, u: &StatTotals) {
-    t.n += u.n;
-    t.bits += u.bits;
-    t.bits_grown += u.bits_grown;
-    t.sheet_bits += u.sheet_bits;
-    t.acc += u.acc;
-    t.acc_grown += u.acc_grown;
-}
-
-fn stat_of(t: &StatTotals) -> Stat {
-    if t.n == 0 {
-        return Stat { primary: 0.0, secondary: 0.0 };
-    }
-    let n = t.n as f64;
-    Stat { primary: t.bits / n, secondary: t.bits_grown / n }
-}
-
 fn observe(loc: &PitcherLocation, settings: &Settings) -> Pooled {
     let mut out = Pooled::default();
     for part in &loc.parts {
@@ -148,7 +126,7 @@ fn observe(loc: &PitcherLocation, settings: &Settings) -> Pooled {
             m += (argmax(scored.model_row(i)) == y) as usize;
             p += (argmax(scored.prior_row(i)) == y) as usize;
         }
-        add(&mut out.totals, &scored.totals);
+        out.totals.add(&scored.totals);
         out.model_right += m;
         out.prior_right += p;
         out.scored += scored.rows.len();
@@ -177,17 +155,13 @@ fn null_statistic(loc: &PitcherLocation, name: &str, settings: &Settings, j: u64
         labels.copy_from_slice(&part.task.labels);
         shuffle_within(labels, &part.task.strata, &mut rng);
         let scored = fit_and_score(&part.task, labels, settings, ws, false);
-        add(&mut total, &scored.totals);
+        total.add(&scored.totals);
     }
-    stat_of(&total)
+    total.bits_stat()
 }
 
-/// Stream numbers of the pilot's permutations, far from the test's 0..m.
-const PILOT_STREAMS: u64 = 1 << 62;
-
 fn pilot_clear(loc: &PitcherLocation, name: &str, observed: Stat, settings: &Settings) -> bool {
-    let mut s = scratch(loc);
-    (0..PILOT as u64).all(|k| !null_statistic(loc, name, settings, PILOT_STREAMS + k, &mut s).reaches(&observed))
+    permute::pilot(observed, scratch(loc), |j, s| null_statistic(loc, name, settings, j, s))
 }
 
 /// A pitcher's location figures (`location` in summary.json).
@@ -313,7 +287,7 @@ pub fn audit(
     timer.lap("location: tasks and observed fits");
     let with: Vec<usize> = (0..locs.len()).filter(|&i| locs[i].has_figures()).collect();
     let clear: Vec<bool> =
-        with.par_iter().map(|&i| pilot_clear(&locs[i], &tasks[i].name, stat_of(&observed[i].totals), settings)).collect();
+        with.par_iter().map(|&i| pilot_clear(&locs[i], &tasks[i].name, observed[i].totals.bits_stat(), settings)).collect();
     let all_clear = clear.iter().filter(|&&c| c).count();
     timer.lap("location: pilots");
     let perms: Vec<PermutationResult> = with
@@ -322,7 +296,7 @@ pub fn audit(
         .map(|(&i, &mine)| {
             let m1 = permute::decision_at(with.len(), all_clear - mine as usize, settings.fdr);
             let (loc, name) = (&locs[i], &tasks[i].name);
-            permute::drive(stat_of(&observed[i].totals), settings, Some(m1), progress, || scratch(loc), |j, s| null_statistic(loc, name, settings, j, s))
+            permute::drive(observed[i].totals.bits_stat(), settings, Some(m1), progress, || scratch(loc), |j, s| null_statistic(loc, name, settings, j, s))
         })
         .collect();
     timer.lap("location: permutation tests");
@@ -333,7 +307,7 @@ pub fn audit(
         let n = o.totals.n;
         let scored = o.scored.max(1) as f64;
         figures[i] = Some(LocationFigures {
-            bits_gained: stat_of(&o.totals).primary,
+            bits_gained: o.totals.bits_stat().primary,
             p_value: perms[w].p_value,
             q_value: q[w],
             n,
@@ -347,7 +321,7 @@ pub fn audit(
                 .map(|(t, tot, sc, m, p)| LocationType {
                     pitch_type: log.pitch_types[*t as usize].clone(),
                     n: tot.n,
-                    bits_gained: stat_of(tot).primary,
+                    bits_gained: tot.bits_stat().primary,
                     model_accuracy: *m as f64 / (*sc).max(1) as f64,
                     prior_accuracy: *p as f64 / (*sc).max(1) as f64,
                 })
@@ -445,16 +419,20 @@ fn location_tests(
 /// Where each of his pitch types goes, by count group (all his located
 /// pitches).
 fn region_mixes(log: &PitchLog, task: &PitcherTask, regions: &[u16]) -> Vec<RegionMix> {
+    // One pass: counts by (his class, count group, region).
+    let groups = CountGroup::ALL.len();
+    let mut c = vec![[0usize; REGIONS]; task.n_classes * groups];
+    for (i, &r) in task.rows.iter().enumerate() {
+        let r = r as usize;
+        if regions[r] != NO_LABEL {
+            let g = count_group(log.balls[r], log.strikes[r]) as usize;
+            c[task.labels[i] as usize * groups + g][regions[r] as usize] += 1;
+        }
+    }
     let mut out = Vec::new();
-    for &t in &task.class_types {
-        for g in CountGroup::ALL {
-            let mut c = [0usize; REGIONS];
-            for &r in &task.rows {
-                let r = r as usize;
-                if log.pitch_type[r] == t && regions[r] != NO_LABEL && count_group(log.balls[r], log.strikes[r]) == g {
-                    c[regions[r] as usize] += 1;
-                }
-            }
+    for (cls, &t) in task.class_types.iter().enumerate() {
+        for (gi, g) in CountGroup::ALL.iter().enumerate() {
+            let c = &c[cls * groups + gi];
             let n: usize = c.iter().sum();
             if n == 0 {
                 continue;

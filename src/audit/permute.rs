@@ -159,9 +159,16 @@ pub const PILOT: usize = 19;
 /// pitcher's early decision ([`decision_at`]); a pitcher's own pilot never
 /// sizes his own test, so his p-value stays valid.
 pub fn pilot_clear(task: &PitcherTask, observed: Stat, settings: &Settings) -> bool {
-    let mut ws = Null::Situation.workspace(task);
-    let mut labels = task.labels.clone();
-    (0..PILOT as u64).all(|k| !null_statistic(Null::Situation, task, settings, PILOT_STREAMS + k, &mut ws, &mut labels).reaches(&observed))
+    pilot(observed, (Null::Situation.workspace(task), task.labels.clone()), |j, (ws, labels)| {
+        null_statistic(Null::Situation, task, settings, j, ws, labels)
+    })
+}
+
+/// The pilot of any test: do none of `PILOT` null statistics, on streams
+/// `PILOT_STREAMS + k` of their own, reach `observed`? (Stops at the first
+/// that does.)
+pub fn pilot<W>(observed: Stat, mut scratch: W, null_stat: impl Fn(u64, &mut W) -> Stat) -> bool {
+    (0..PILOT as u64).all(|k| !null_stat(PILOT_STREAMS + k, &mut scratch).reaches(&observed))
 }
 
 /// Stream numbers of the pilot's permutations, far from the test's 0..m.

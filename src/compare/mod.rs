@@ -350,19 +350,22 @@ const LOCATION_MIN_PITCHES: u64 = 50;
 /// moved most.
 fn location_changes(names: &[String], regions: &[u16], log: &PitchLog, name: &str, types: &[u16], rows: &[Vec<u32>; 2], settings: &Settings) -> Vec<Change> {
     use crate::situations::regions::{Region, REGIONS};
-    let mut out = Vec::new();
-    for &t in types {
-        let count = |rows: &[u32]| {
-            let mut c = vec![0u64; REGIONS];
-            for &r in rows {
-                let r = r as usize;
-                if log.pitch_type[r] == t && regions[r] != crate::tells::NO_LABEL {
-                    c[regions[r] as usize] += 1;
-                }
+    // One pass per period: located pitches by (his type, region).
+    let count = |rows: &[u32]| {
+        let mut c = vec![[0u64; REGIONS]; types.len()];
+        for &r in rows {
+            let r = r as usize;
+            if regions[r] != crate::tells::NO_LABEL {
+                let t = types.binary_search(&log.pitch_type[r]).expect("his types hold every pitch of his");
+                c[t][regions[r] as usize] += 1;
             }
-            c
-        };
-        let (b, a) = (count(&rows[0]), count(&rows[1]));
+        }
+        c
+    };
+    let (before, after) = (count(&rows[0]), count(&rows[1]));
+    let mut out = Vec::new();
+    for (ti, &t) in types.iter().enumerate() {
+        let (b, a) = (&before[ti], &after[ti]);
         let (nb, na) = (b.iter().sum::<u64>(), a.iter().sum::<u64>());
         if nb < LOCATION_MIN_PITCHES || na < LOCATION_MIN_PITCHES {
             continue;

@@ -48,6 +48,28 @@ pub struct StatTotals {
     pub acc_grown: i64,
 }
 
+impl StatTotals {
+    /// The sums of two fits (of several tasks pooled).
+    pub fn add(&mut self, u: &StatTotals) {
+        self.n += u.n;
+        self.bits += u.bits;
+        self.bits_grown += u.bits_grown;
+        self.sheet_bits += u.sheet_bits;
+        self.acc += u.acc;
+        self.acc_grown += u.acc_grown;
+    }
+
+    /// Held-out bits gained per pitch of the pruned model, the unpruned
+    /// tree's as the tie-breaker (0 with no scored pitch).
+    pub fn bits_stat(&self) -> Stat {
+        if self.n == 0 {
+            return Stat { primary: 0.0, secondary: 0.0 };
+        }
+        let n = self.n as f64;
+        Stat { primary: self.bits / n, secondary: self.bits_grown / n }
+    }
+}
+
 /// Reusable buffers for a pitcher's fits: the feature matrix whose prior
 /// columns each fit rewrites, the count tables, and one prepared tree
 /// learner per fold (the situation features are packed once; a refit only
@@ -284,21 +306,17 @@ pub fn fit_and_score(
                 }
                 t
             }
-            slot @ None if !priors_on => {
-                let mut t = crate::model::fast_tree::FastTreeWorkspace::with_options(settings.tree, AuditTree::options());
-                t.prepare(&ws.x, &fold.train);
-                t.prepare_scored(&ws.x, &fold.test);
-                slot.insert(t)
-            }
             slot @ None => {
                 let mut t = crate::model::fast_tree::FastTreeWorkspace::with_options(settings.tree, AuditTree::options());
                 t.prepare(&ws.x, &fold.train);
                 t.prepare_scored(&ws.x, &fold.test);
-                let keys = |at: fn(&(u32, u32, u32)) -> u32| test.iter().map(|s| at(s) / k as u32).collect::<Vec<u32>>();
-                let g = t.set_scored_keys(prior_col0..prior_col0 + k, &keys(|s| s.1), parts * gc);
-                debug_assert_eq!(g, 0);
-                let g = t.set_scored_keys(prior_col0 + k..prior_col0 + 2 * k, &keys(|s| s.2), parts * gb);
-                debug_assert_eq!(g, 1);
+                if priors_on {
+                    let keys = |at: fn(&(u32, u32, u32)) -> u32| test.iter().map(|s| at(s) / k as u32).collect::<Vec<u32>>();
+                    let g = t.set_scored_keys(prior_col0..prior_col0 + k, &keys(|s| s.1), parts * gc);
+                    debug_assert_eq!(g, 0);
+                    let g = t.set_scored_keys(prior_col0 + k..prior_col0 + 2 * k, &keys(|s| s.2), parts * gb);
+                    debug_assert_eq!(g, 1);
+                }
                 slot.insert(t)
             }
         };
@@ -546,7 +564,7 @@ pub fn statistic(scored: &Scored, which: crate::settings::Statistic) -> Stat {
     }
     let n = t.n as f64;
     match which {
-        crate::settings::Statistic::Bits => Stat { primary: t.bits / n, secondary: t.bits_grown / n },
+        crate::settings::Statistic::Bits => t.bits_stat(),
         crate::settings::Statistic::Accuracy => Stat { primary: t.acc as f64 / n, secondary: t.acc_grown as f64 / n },
     }
 }

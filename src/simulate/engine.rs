@@ -140,9 +140,9 @@ pub(crate) fn play_team_season(
             starter,
             &rest,
             &mut rows,
+            loc_rng,
         );
         g.on_staff = on_staff;
-        g.loc_rng = Some(loc_rng);
         g.outcomes = outcomes;
         g.season_t = k as f64 / (season.games.max(2) - 1) as f64;
         g.play(&mut rng, k % 2 == 0);
@@ -237,7 +237,7 @@ struct Game<'a> {
     /// How far into the season this game is (0 first game, 1 last).
     season_t: f64,
     /// The game's stream for where pitches go.
-    loc_rng: Option<ChaCha8Rng>,
+    loc_rng: ChaCha8Rng,
 }
 
 /// Salt of the location streams' seed (the bytes of "location").
@@ -254,6 +254,7 @@ impl<'a> Game<'a> {
         starter: u32,
         rest: &'a [[u32; 2]],
         rows: &'a mut Vec<SimPitch>,
+        loc_rng: ChaCha8Rng,
     ) -> Game<'a> {
         // Nine distinct batters from the pool, drawn by rejection (the pool
         // is much larger than nine, so this is quick).
@@ -288,7 +289,7 @@ impl<'a> Game<'a> {
             on_staff: vec![true; n],
             outcomes: Outcomes::Simple,
             season_t: 0.0,
-            loc_rng: None,
+            loc_rng,
         }
     }
 
@@ -488,8 +489,7 @@ impl<'a> Game<'a> {
             );
             let spot = plan.spots.iter().find(|s| s.holds(&situation, pitch_type)).map(|s| (s.region, s.rate));
             let zone = plan.zone_share[situation[0] as usize];
-            let loc_rng = self.loc_rng.as_mut().expect("a game's location stream is set before play");
-            let (side, height) = flight::place(loc_rng, &roster.aims[pitch_type as usize], zone, spot, bats);
+            let (side, height) = flight::place(&mut self.loc_rng, &roster.aims[pitch_type as usize], zone, spot, bats);
             self.rows.push(SimPitch {
                 game: self.game,
                 pitcher,
