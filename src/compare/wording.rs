@@ -122,7 +122,7 @@ pub fn change_text(c: &Change, before: &str, after: &str) -> String {
             let region = c.region.clone().unwrap_or_default();
             let (sb, sa) = pair_text(c.before, c.after);
             format!(
-                "Where his {t} goes: {} went from {sb} to {sa} of them (in all, {:.0} of every 100 went to a different region; n = {} and {}), {q} among the run's location tests.",
+                "Where his {t} goes: the share thrown {} went from {sb} to {sa} (in all, {:.0} of every 100 went to a different region; n = {} and {}), {q} among the run's location tests.",
                 crate::audit::wording::region_phrase(&region),
                 100.0 * c.effect,
                 c.n_before,
