@@ -60,6 +60,14 @@ impl Codes {
         }
     }
 
+    fn len(&self) -> usize {
+        match self {
+            Codes::U8(v) => v.len(),
+            Codes::U16(v) => v.len(),
+            Codes::U32(v) => v.len(),
+        }
+    }
+
     /// Append a code (NULL_CODE for empty), widening when it no longer fits.
     fn push(&mut self, c: u32) {
         loop {
@@ -420,7 +428,6 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
                 }
                 Format::Parquet => parquet_columns(path, group)?,
             };
-            n_rows = Some(df.height());
             // Each column is dictionary-coded on its own, so columns are coded
             // in parallel (the result does not depend on the thread count).
             use rayon::prelude::*;
@@ -432,21 +439,32 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
                     // A timestamp is read as its calendar date (as stored,
                     // UTC for a zoned one): the contract's `date` is a day.
                     let series = col.as_materialized_series();
+                    // polars panics on a date or timestamp outside the
+                    // calendar it can print (a damaged file): the casts run
+                    // as decoders do, under `catch_decode`.
+                    let cast = |s: &Series, to: &DataType| catch_decode(|| s.cast(to)).unwrap_or_else(|panic| Err(PolarsError::ComputeError(panic.into())));
                     let series = match series.dtype() {
-                        DataType::Datetime(..) => series.cast(&DataType::Date).map_err(|e| {
+                        DataType::Datetime(..) => cast(series, &DataType::Date).map_err(|e| {
                             Error::Data(format!("{}: column {name} holds timestamps that cannot be read as dates ({e})", path.display()))
                         })?,
                         _ => series.clone(),
                     };
-                    let s = series.cast(&DataType::String).map_err(|e| {
+                    let s = cast(&series, &DataType::String).map_err(|e| {
                         Error::Data(format!("{}: column {name} cannot be read as text ({e}); store it as text or numbers", path.display()))
                     })?;
                     let ca = s.str().map_err(|e| Error::Internal(e.to_string()))?;
                     Ok((name, TextColumn::from_chunked(ca)))
                 })
                 .collect();
+            // A damaged file can decode a column to another length than
+            // its neighbours: every column must have the table's rows.
+            let rows = *n_rows.get_or_insert(df.height());
             for c in coded {
-                columns.push(c?);
+                let (name, col) = c?;
+                if col.codes.len() != rows {
+                    return Err(damaged(path, &format!("column \"{name}\""), &format!("{} values where the file has {rows} rows", col.codes.len())));
+                }
+                columns.push((name, col));
             }
         }
         Ok((columns, n_rows))
