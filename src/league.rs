@@ -10,7 +10,7 @@
 //! audit's notes say so.
 
 use crate::ingest::PitchLog;
-use crate::situations::levels::Hand;
+use crate::domain::levels::Hand;
 use crate::situations::Situations;
 use crate::tells::TellTest;
 use std::collections::{HashMap, HashSet};
@@ -21,7 +21,7 @@ pub const CELLS: usize = 24;
 /// The sheet cell of a row (`levels::sheet_cell`, as `PitcherTask::cell`).
 #[inline]
 fn cell_of(log: &PitchLog, r: usize) -> usize {
-    crate::situations::levels::sheet_cell(log.balls[r], log.strikes[r], log.bats[r])
+    crate::domain::levels::sheet_cell(log.balls[r], log.strikes[r], log.bats[r])
 }
 
 /// A pitch is in a pitcher's arsenal for a season when it is at least this

@@ -9,6 +9,7 @@
 
 pub mod audit;
 pub mod compare;
+pub mod domain;
 pub mod error;
 pub mod evaluate;
 pub mod report;

@@ -23,10 +23,12 @@
 //! sitting on.
 
 use crate::evaluate::task::PitcherTask;
-use crate::ingest::{PitchLog, PitchResult};
+use crate::domain::PitchResult;
+use crate::ingest::PitchLog;
 use crate::significance::{cmh::Cmh, fdr};
-use crate::situations::{levels::Factor, Situations};
-use crate::tells::TellTest;
+use crate::domain::levels::Factor;
+use crate::situations::Situations;
+use crate::tells::{TellCost, TellTest};
 use serde::Serialize;
 use std::collections::HashMap;
 
@@ -158,35 +160,6 @@ impl Standardised {
         (d - half, d + half)
     }
 }
-
-/// The cost of one tell (CONTRACT: `cost` on a tell).
-#[derive(Debug, Clone, PartialEq, Serialize)]
-pub struct TellCost {
-    /// Pitches of the tell's type in the tell's situation, and swings at them.
-    pub n: u64,
-    pub swings: u64,
-    pub whiff_rate: f64,
-    pub expected_whiff_rate: f64,
-    /// 95% interval of the whiff rate minus the expected one (stratified
-    /// Wald interval, `Standardised`). The whiff rate is over all his swings
-    /// at the tell's pitch there; the expectation and interval rest on the
-    /// counts where comparable swings exist.
-    pub whiff_diff_low: f64,
-    pub whiff_diff_high: f64,
-    pub csw_rate: f64,
-    pub expected_csw_rate: f64,
-    pub in_play_rate: f64,
-    pub expected_in_play_rate: f64,
-    /// One-sided: fewer whiffs than expected.
-    pub p_value: f64,
-    pub q_value: f64,
-    /// The pitch fares significantly worse for him there (q ≤ fdr, fewer
-    /// whiffs than expected).
-    pub costly: bool,
-    /// `"his other counts"`-style reference, in words.
-    pub compared_with: String,
-}
-
 
 #[inline]
 fn holds(sit: &Situations, codes: &[(usize, u8)], row: usize) -> bool {

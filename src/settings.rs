@@ -3,7 +3,9 @@
 
 use crate::error::{Error, Result};
 use crate::model::TreeSettings;
-use crate::situations::levels::Factor;
+use crate::domain::columns::{OPTIONAL_COLUMNS, REQUIRED_COLUMNS};
+use crate::domain::defaults::{COMPARE_PERMUTATIONS, DEFAULT_SEED};
+use crate::domain::levels::Factor;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
 use std::path::Path;
@@ -184,18 +186,6 @@ pub struct Overrides {
     pub team: Option<String>,
 }
 
-pub const DEFAULT_SEED: u64 = 20_260_401;
-
-/// The contract's column names (CONTRACT §1).
-pub const REQUIRED_COLUMNS: [&str; 14] = [
-    "game", "date", "pitcher", "throws", "batter", "bats", "inning", "outs", "balls", "strikes",
-    "on_first", "on_second", "on_third", "pitch_type",
-];
-pub const OPTIONAL_COLUMNS: [&str; 9] = [
-    "season", "pa", "pitch_no", "score_diff", "result", "speed_mph", "loc_side_ft",
-    "loc_height_ft", "team",
-];
-
 fn known_column(name: &str) -> bool {
     REQUIRED_COLUMNS.contains(&name) || OPTIONAL_COLUMNS.contains(&name)
 }
@@ -355,7 +345,7 @@ impl Settings {
             bootstrap: check_range("[compare] bootstrap", cfg.compare.bootstrap.unwrap_or(400), 50, 100_000)?,
             compare_permutations: check_range(
                 "[compare] permutations",
-                cfg.compare.permutations.unwrap_or(crate::compare::DEFAULT_PERMUTATIONS),
+                cfg.compare.permutations.unwrap_or(COMPARE_PERMUTATIONS),
                 0,
                 1_000_000,
             )?,

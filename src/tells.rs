@@ -21,7 +21,8 @@ use crate::ingest::PitchLog;
 use crate::settings::Settings;
 use crate::significance::{fdr, hypergeom, wilson};
 
-use crate::situations::{levels::Factor, Situations, UNKNOWN};
+use crate::domain::levels::Factor;
+use crate::situations::{Situations, UNKNOWN};
 use serde::Serialize;
 use std::collections::BTreeMap;
 
@@ -134,7 +135,7 @@ pub struct TellTest {
     /// Does the tell cost him? Filled for flagged tells when the log has
     /// `result` (crate::outcomes).
     #[serde(skip_serializing_if = "Option::is_none")]
-    pub cost: Option<crate::outcomes::TellCost>,
+    pub cost: Option<TellCost>,
     /// Flagged tells: the pitch's share in the same situation among the
     /// other pitchers of his throwing hand who have it (`league`), and the
     /// pitches it rests on.
@@ -786,3 +787,31 @@ pub fn flagged_sorted<'a>(his: &[&'a TellTest]) -> Vec<&'a TellTest> {
     });
     v
 }
+/// The cost of one tell (CONTRACT: `cost` on a tell).
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct TellCost {
+    /// Pitches of the tell's type in the tell's situation, and swings at them.
+    pub n: u64,
+    pub swings: u64,
+    pub whiff_rate: f64,
+    pub expected_whiff_rate: f64,
+    /// 95% interval of the whiff rate minus the expected one (stratified
+    /// Wald interval, `Standardised`). The whiff rate is over all his swings
+    /// at the tell's pitch there; the expectation and interval rest on the
+    /// counts where comparable swings exist.
+    pub whiff_diff_low: f64,
+    pub whiff_diff_high: f64,
+    pub csw_rate: f64,
+    pub expected_csw_rate: f64,
+    pub in_play_rate: f64,
+    pub expected_in_play_rate: f64,
+    /// One-sided: fewer whiffs than expected.
+    pub p_value: f64,
+    pub q_value: f64,
+    /// The pitch fares significantly worse for him there (q ≤ fdr, fewer
+    /// whiffs than expected).
+    pub costly: bool,
+    /// `"his other counts"`-style reference, in words.
+    pub compared_with: String,
+}
+

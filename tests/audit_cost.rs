@@ -9,7 +9,7 @@ use std::path::{Path, PathBuf};
 use std::sync::OnceLock;
 use tellscope::audit::{self, Audit};
 use tellscope::settings::{ConfigFile, Overrides, Settings};
-use tellscope::situations::levels::Factor;
+use tellscope::domain::levels::Factor;
 
 fn demo_log() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv")

@@ -7,7 +7,7 @@ use std::path::{Path, PathBuf};
 use std::sync::OnceLock;
 use tellscope::audit::{self, summary::PitcherSummary, Audit};
 use tellscope::settings::{ConfigFile, Overrides, Settings};
-use tellscope::situations::levels::Factor;
+use tellscope::domain::levels::Factor;
 use tellscope::tells::Direction;
 
 fn demo_log() -> PathBuf {

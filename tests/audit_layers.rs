@@ -12,10 +12,10 @@ use common::{assert_uniform, band};
 use std::path::{Path, PathBuf};
 use std::sync::OnceLock;
 use tellscope::audit::{self, summary::PitcherSummary, Audit};
-use tellscope::ingest::write::{sim_frame, write_frame};
+use tellscope::simulate::write::{sim_frame, write_frame};
 use tellscope::settings::{ConfigFile, Overrides, Settings};
 use tellscope::simulate::{simulate, Scenario, SimLog};
-use tellscope::situations::levels::Factor;
+use tellscope::domain::levels::Factor;
 use tellscope::tells::{Direction, Layer};
 
 fn root() -> &'static Path {
@@ -151,7 +151,7 @@ fn a_staff_shuffled_within_count_and_side_has_nothing_beyond_its_sheet() {
         let mut groups: std::collections::BTreeMap<(u32, i32, u8, u8, bool), Vec<usize>> = Default::default();
         for (i, r) in log.rows.iter().enumerate() {
             let season = log.games[r.game as usize].season;
-            groups.entry((r.pitcher, season, r.balls, r.strikes, r.bats == tellscope::situations::levels::Hand::R)).or_default().push(i);
+            groups.entry((r.pitcher, season, r.balls, r.strikes, r.bats == tellscope::domain::levels::Hand::R)).or_default().push(i);
         }
         let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(seed);
         for rows in groups.values() {

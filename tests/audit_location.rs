@@ -12,7 +12,7 @@ mod common;
 
 use common::{assert_uniform, band};
 use tellscope::audit;
-use tellscope::ingest::write::{sim_frame, write_frame};
+use tellscope::simulate::write::{sim_frame, write_frame};
 use tellscope::settings::{ConfigFile, Overrides, Settings};
 use tellscope::simulate::{simulate, Scenario};
 
@@ -50,7 +50,7 @@ fn a_planted_spot_is_found_and_a_habit_is_not_a_tell() {
         t.pitch_type == "slider"
             && t.region == "down and away"
             && t.direction == tellscope::tells::Direction::More
-            && t.situation.get(&tellscope::situations::levels::Factor::Count).is_some_and(|c| two_strikes.contains(&c.as_str()))
+            && t.situation.get(&tellscope::domain::levels::Factor::Count).is_some_and(|c| two_strikes.contains(&c.as_str()))
     });
     let t = found.unwrap_or_else(|| panic!("no two-strike slider tell: {:?}", spot.location_tells.iter().map(|t| &t.text).collect::<Vec<_>>()));
     assert!(t.q_value <= fdr);

@@ -13,7 +13,7 @@ mod common;
 use common::{assert_uniform, band};
 use std::path::{Path, PathBuf};
 use tellscope::audit;
-use tellscope::ingest::write::{sim_frame, write_frame};
+use tellscope::simulate::write::{sim_frame, write_frame};
 use tellscope::settings::{ConfigFile, Overrides, Settings};
 use tellscope::simulate::{simulate, Scenario};
 

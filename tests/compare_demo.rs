@@ -254,7 +254,7 @@ fn more_than_two_seasons_give_predictability_per_season() {
     let dir = scratch("seasons");
     std::fs::create_dir_all(&dir).unwrap();
     let log = dir.join("three.csv");
-    tellscope::ingest::write::write_frame(&mut tellscope::ingest::write::sim_frame(&sim).unwrap(), &log).unwrap();
+    tellscope::simulate::write::write_frame(&mut tellscope::simulate::write::sim_frame(&sim).unwrap(), &log).unwrap();
     let c = compare::run(&log, &settings(9), &request(PeriodSpec::Season(2024), PeriodSpec::Season(2026), 9), false).unwrap();
     assert_eq!(c.summary.input.seasons, vec![2024, 2025, 2026]);
     let p = c.summary.pitchers.iter().find(|p| p.pitcher == "Oren Vasquell").unwrap();

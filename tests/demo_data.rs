@@ -5,7 +5,7 @@
 //! fixture.
 
 use std::path::Path;
-use tellscope::ingest::write::{sim_frame, write_frame};
+use tellscope::simulate::write::{sim_frame, write_frame};
 use tellscope::settings::{ConfigFile, Overrides, Settings};
 use tellscope::simulate::{simulate, Scenario};
 

@@ -4,11 +4,12 @@
 //! optional columns.
 
 use std::path::{Path, PathBuf};
-use tellscope::ingest::write::{sim_frame, write_frame};
-use tellscope::ingest::{self, Ingested, PitchLog, PitchResult};
+use tellscope::simulate::write::{sim_frame, write_frame};
+use tellscope::domain::PitchResult;
+use tellscope::ingest::{self, Ingested, PitchLog};
 use tellscope::settings::{ConfigFile, Overrides, Settings};
 use tellscope::simulate::{simulate, Scenario};
-use tellscope::situations::levels::Hand;
+use tellscope::domain::levels::Hand;
 use tellscope::Error;
 
 const HEADER: &str = "game,date,pitcher,throws,batter,bats,inning,outs,balls,strikes,on_first,on_second,on_third,pitch_type";

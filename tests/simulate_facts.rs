@@ -17,7 +17,7 @@ mod common;
 use std::collections::BTreeMap;
 use std::sync::OnceLock;
 use tellscope::simulate::{simulate, BatSide, PitchResult, Role, Scenario, SimLog, SimPitch};
-use tellscope::situations::levels::{
+use tellscope::domain::levels::{
     bases_level, count_level, inning_level, outs_level, platoon_level, score_level,
     times_through_level, Factor, Hand, NO_PREV_PITCH,
 };

@@ -3,6 +3,7 @@
 
 pub mod location;
 pub mod permute;
+mod pitcher;
 pub mod sheet;
 pub mod summary;
 pub mod wording;
@@ -13,9 +14,10 @@ use crate::evaluate::split::{PitcherPlan, Plan};
 use crate::evaluate::task::PitcherTask;
 use crate::evaluate::{self, HeldOut};
 use crate::ingest::{self, Ingested, Rejected};
-use crate::settings::{PriorStrength, Settings};
+use crate::settings::Settings;
 use crate::significance::{fdr, wilson};
-use crate::situations::{self, levels::COUNTS, Situations};
+use crate::domain::levels::COUNTS;
+use crate::situations::{self, Situations};
 use crate::tells::{self, Direction, TellTest};
 use rayon::prelude::*;
 use std::collections::BTreeMap;
@@ -229,6 +231,8 @@ pub fn team_pitchers(log: &ingest::PitchLog, team: &str) -> Result<Vec<u32>> {
     Ok(out)
 }
 
+/// Audit the pitchers of an ordered log: plan every pitcher, run the tests
+/// of those with enough pitches, then write each one's summary.
 pub fn audit_log(
     log: &ingest::PitchLog,
     sit: &Situations,
@@ -238,361 +242,233 @@ pub fn audit_log(
     settings: &Settings,
     show_progress: bool,
 ) -> Result<Audit> {
-    let names = &log.pitch_types;
     let chosen = selected_pitchers(log, settings)?;
-    let mut rows_of: Vec<Vec<u32>> = vec![Vec::new(); log.pitchers.len()];
-    for i in 0..log.len() {
-        rows_of[log.pitcher[i] as usize].push(i as u32);
-    }
-    // Every pitcher's plan (the tells' staff shares read all pitchers'
-    // discovery rows), then the chosen pitchers' tasks.
-    let plans: Vec<Option<PitcherPlan>> = rows_of
-        .par_iter()
-        .map(|rows| (!rows.is_empty()).then(|| scheme.plan_for(log, rows, settings)))
-        .collect();
-    let mut discovery = vec![false; log.len()];
-    for (rows, plan) in rows_of.iter().zip(&plans) {
-        if let Some(plan) = plan {
-            for (&r, &d) in rows.iter().zip(&plan.discovery) {
-                discovery[r as usize] = d;
-            }
-        }
-    }
-    let tasks: Vec<PitcherTask> = chosen
-        .par_iter()
-        .map(|&p| {
-            let plan = plans[p as usize].as_ref().expect("a pitcher in the log has rows");
-            PitcherTask::build(log, sit, plan, p, rows_of[p as usize].clone())
-        })
-        .collect();
-    let enough = |t: &PitcherTask| t.n_train() >= settings.min_train_pitches && t.n_test() >= settings.min_test_pitches;
-    let ok_tasks: Vec<&PitcherTask> = tasks.iter().filter(|t| enough(t)).collect();
-
-    let timer = crate::progress::Timer::start();
-    timer.lap("pitcher tasks (features)");
-    let observed: Vec<Observed> = ok_tasks.par_iter().map(|t| observe(t, settings, names)).collect();
-    timer.lap("observed fits");
-
-    let total: u64 = (3 * ok_tasks.len() * settings.permutations) as u64;
-    let bar = crate::progress::bar(total, "permutations", show_progress);
-    let tick = |n: u64| bar.inc(n);
-    // The tell tests do not depend on the permutation tests; they run
-    // alongside them and fill the workers' idle moments.
-    let (perms, tests) = rayon::join(
-        || -> Vec<(permute::PermutationResult, permute::PermutationResult)> {
-            // The whole-model test's early decision is sized from the other
-            // pitchers' pilots (each test's BH family is the audited
-            // pitchers): how many clear effects the run is likely to hold.
-            let clear: Vec<bool> =
-                ok_tasks.par_iter().zip(observed.par_iter()).map(|(t, o)| permute::pilot_clear(t, o.statistic, settings)).collect();
-            let all_clear = clear.iter().filter(|&&c| c).count();
-            ok_tasks
-                .par_iter()
-                .zip(observed.par_iter())
-                .zip(clear.par_iter())
-                .map(|((t, o), &mine)| {
-                    let m1 = permute::decision_at(ok_tasks.len(), all_clear - mine as usize, settings.fdr);
-                    let whole = permute::permutation_test(t, o.statistic, settings, Some(m1), &tick);
-                    let beyond = permute::null_test(permute::Null::BeyondSheet, t, o.beyond, settings, None, &tick);
-                    (whole, beyond)
-                })
-                .collect()
-        },
-        || tells::find(log, sit, &discovery, &ok_tasks, settings),
-    );
-    timer.lap("permutation and tell tests");
-    // Where he throws it: its own permutation and tell tests.
-    let location = location::audit(log, sit, &discovery, &ok_tasks, settings, &tick);
-    bar.finish_and_clear();
-    timer.lap("location tests");
-    let location_tests = tells::ByPitcher::new(&location.tests);
-    let (perms, beyond_perms): (Vec<_>, Vec<_>) = perms.into_iter().unzip();
-    let mut tests = tests;
-    crate::outcomes::cost_of_tells(log, sit, &ok_tasks, &mut tests, settings.fdr);
-    // The league as the yardstick: counted once for the file, for the
-    // tells' shares here and the sheet cells below.
-    let league_cells = crate::league::LeagueCells::build(log);
-    crate::league::tell_shares(log, sit, &league_cells, &mut tests);
-    let model_q = fdr::bh_q_values(&perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
-    // The beyond-the-sheet p-values form their own family over pitchers.
-    let beyond_q = fdr::bh_q_values(&beyond_perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
-
-    // Every pitcher's observed figures for percentiles (with --team, the
-    // league's other pitchers are fitted once, without permutations).
-    let mut league_figures: Vec<(u32, f64, f64)> =
-        ok_tasks.iter().zip(&observed).map(|(t, o)| (t.pitcher, o.figures.bits_gained, o.figures.bits_gained - o.sheet_bits)).collect();
-    if settings.team.is_some() {
-        let chosen_set: std::collections::HashSet<u32> = chosen.iter().copied().collect();
-        let others: Vec<(u32, f64, f64)> = (0..log.pitchers.len() as u32)
-            .into_par_iter()
-            .filter(|p| !chosen_set.contains(p) && !rows_of[*p as usize].is_empty())
-            .filter_map(|p| {
-                let plan = plans[p as usize].as_ref()?;
-                let t = PitcherTask::build(log, sit, plan, p, rows_of[p as usize].clone());
-                enough(&t).then(|| {
-                    let o = observe(&t, settings, names);
-                    (p, o.figures.bits_gained, o.figures.bits_gained - o.sheet_bits)
-                })
-            })
-            .collect();
-        league_figures.extend(others);
-    }
-    let league_percentile = |p: u32, bits: f64, beyond: f64| -> Option<LeaguePercentile> {
-        let others: Vec<&(u32, f64, f64)> = league_figures.iter().filter(|x| x.0 != p).collect();
-        let b: Vec<f64> = others.iter().map(|x| x.1).collect();
-        let y: Vec<f64> = others.iter().map(|x| x.2).collect();
-        Some(LeaguePercentile {
-            bits: crate::league::percentile_of_score(&b, bits)?,
-            beyond_bits: crate::league::percentile_of_score(&y, beyond)?,
-            among: others.len(),
-        })
+    let staff = Staff::plan(log, sit, scheme, &chosen, settings);
+    let ok_tasks: Vec<&PitcherTask> = staff.tasks.iter().filter(|t| enough(t, settings)).collect();
+    let tested = Tested::run(log, sit, &staff.discovery, &ok_tasks, settings, show_progress);
+    let figures = staff.league_figures(log, sit, &chosen, &ok_tasks, &tested.observed, settings);
+    let run = pitcher::Run {
+        log,
+        sit,
+        tested: &tested,
+        figures: &figures,
+        tells: tells::ByPitcher::new(&tested.tests),
+        location_tells: tells::ByPitcher::new(&tested.location.tests),
+        settings,
     };
-    let tests_of = tells::ByPitcher::new(&tests);
     let mut pitchers = Vec::new();
     let mut outcomes = Vec::new();
-    let mut ok_iter = 0usize;
-    for task in &tasks {
-        let throws = log.throws[task.rows[0] as usize].as_str().to_string();
-        let mut pitches_by_season = BTreeMap::new();
-        for &r in &task.rows {
-            *pitches_by_season.entry(log.season[r as usize]).or_insert(0usize) += 1;
-        }
-        let pitches_by_team = match settings.team {
-            Some(_) => pitches_by_team(log, &task.rows),
-            None => Vec::new(),
-        };
-        let team_caution = settings.team.as_ref().and_then(|team| {
-            wording::elsewhere_sentence(team, &pitches_by_team).map(|w| {
-                format!("{w} All of them are used here, since they are all his habits; how he pitched for another club may differ from how he pitches for this one.")
-            })
-        });
-        if !enough(task) {
-            let reason = format!(
-                "{} pitches in the log ({}); the models could learn from at most {} of them and score {}, and at least {} to learn from and {} to score are needed before any figure is shown",
-                task.rows.len(),
-                pitches_by_season.iter().map(|(y, n)| format!("{n} in {y}")).collect::<Vec<_>>().join(", "),
-                task.n_train(),
-                task.n_test(),
-                settings.min_train_pitches,
-                settings.min_test_pitches
-            );
-            pitchers.push(PitcherSummary {
-                pitcher: task.name.clone(),
-                throws,
-                status: "insufficient data".into(),
-                n_train: task.n_train(),
-                n_test: task.n_test(),
-                pitches_by_season,
-                pitches_by_team: pitches_by_team.clone(),
-                evaluation: task.evaluation.clone(),
-                reason: Some(reason.clone()),
-                mix: None,
-                test_mix: None,
-                prior_pitch: None,
-                prior_accuracy: None,
-                model_accuracy: None,
-                lift: None,
-                bits_gained: None,
-                bits_margin: None,
-                lift_margin: None,
-                p_value: None,
-                q_value: None,
-                permutations: None,
-                stopped_early: None,
-                significant: None,
-                observed_statistic: None,
-                null_statistics: Vec::new(),
-                counts: Vec::new(),
-                types: Vec::new(),
-                tells: Vec::new(),
-                rules: Vec::new(),
-                n_unseen_type: None,
-                arsenal_changes: Vec::new(),
-                called_outcomes: None,
-                outcomes_by_type: Vec::new(),
-                sheet: Vec::new(),
-                sheet_season: None,
-                sheet_bits: None,
-                beyond_bits: None,
-                league_percentile: None,
-                beyond_p_value: None,
-                beyond_q_value: None,
-                beyond_permutations: None,
-                beyond_significant: None,
-                headline: Vec::new(),
-                tell_family_q: None,
-                cautions: vec![format!("No figures: {reason}.")],
-                location: None,
-                location_tells: Vec::new(),
-                location_mix: Vec::new(),
-                location_note: None,
-            });
+    let mut audited = 0usize;
+    for task in &staff.tasks {
+        let about = pitcher::About::of(log, task, settings);
+        if !enough(task, settings) {
+            pitchers.push(pitcher::insufficient(task, about, settings));
             continue;
         }
-        let o = &observed[ok_iter];
-        let perm = &perms[ok_iter];
-        let q = model_q[ok_iter];
-        let bperm = &beyond_perms[ok_iter];
-        let bq = beyond_q[ok_iter];
-        let (loc_figures, loc_mix) = (location.figures[ok_iter].clone(), location.mixes[ok_iter].clone());
-        ok_iter += 1;
-        let location_tells: Vec<location::LocationTell> =
-            tells::flagged_sorted(location_tests.of(&task.name))
-                .into_iter()
-                .filter(|t| t.within.is_none())
-                .map(|t| location::LocationTell::of(t, &task.evaluation.tells_checked_on))
-                .collect();
-        let location_note = location::note(&loc_figures, location.missing, settings);
-        let (sheet_cells, sheet_season) =
-            sheet::sheet(task, |i| log.season[task.rows[i] as usize], names, settings, (&league_cells, log.throws[task.rows[0] as usize]));
-        let last_fold = task.folds.last().unwrap();
-        let train_rows = &last_fold.train;
-        let mix = mix_of(names, task, train_rows);
-        let test_mix = mix_of(names, task, &task.held_out);
-        let usage = &o.scored.usage[o.scored.usage.len() - 1];
-        let prior_pitch = names[task.class_types[usage.top] as usize].clone();
-        let his = tests_of.of(&task.name);
-        let flagged = tells::flagged_sorted(his);
-        let counts = count_summaries(task, o, his, names, settings);
-        let n_leaves = o.scored.trees.iter().map(|t| t.n_leaves()).max().unwrap_or(1);
-        // Margin of bits gained under no situational signal: the expected
-        // overfit of L leaves × (K − 1) free shares fitted on n training
-        // pitches, L(K−1)/(2n) nats per pitch (the asymptotic chi-square of
-        // a likelihood ratio, as in Akaike's information criterion), plus
-        // three standard errors of the held-out mean.
-        let margin = (n_leaves as f64 * (task.n_classes as f64 - 1.0)) / (2.0 * task.n_train() as f64 * std::f64::consts::LN_2)
-            + 3.0 * o.sd_log_ratio / (task.n_test() as f64).sqrt();
-        // Margin of lift under no signal: three standard errors of the
-        // difference of two paired accuracies, sqrt(b + c) / n with b + c the
-        // discordant pitches (the McNemar standard error; Agresti 2013,
-        // Categorical Data Analysis, 10.1), relative to the prior's accuracy.
-        let n_scored = o.scored.rows.len().max(1) as f64;
-        let lift_margin = 3.0 * (o.discordant as f64).sqrt() / n_scored / o.figures.prior_accuracy.max(1e-9);
-        let mut cautions: Vec<String> = team_caution.iter().cloned().collect();
-        if task.n_test() < 300 {
-            cautions.push(format!(
-                "Only {} held-out pitches: per-count figures rest on few pitches and can swing by chance.",
-                task.n_test()
-            ));
+        let (summary, by_situation) = pitcher::scored(&run, task, about, audited);
+        pitchers.push(summary);
+        outcomes.extend(by_situation);
+        audited += 1;
+    }
+    let notes = run_notes(log, sit, &source, &chosen, tested.location.missing, settings);
+    let staff_called = crate::outcomes::staff_called(&pitchers.iter().filter_map(|p| p.called_outcomes.as_ref()).collect::<Vec<_>>());
+    let yardstick = if club_count(log).unwrap_or(0) > 1 { "league" } else { "staff" };
+    drop(run);
+    let tests = tested.tests;
+    let summary = Summary {
+        tool: Tool::this(),
+        input: Input::of(&source, log),
+        settings: SettingsOut::of(settings),
+        evaluation: scheme.out(),
+        notes,
+        staff_called_outcomes: staff_called,
+        yardstick: yardstick.to_string(),
+        tell_tests: tests.len(),
+        tells_flagged: tests.iter().filter(|t| t.flagged).count(),
+        pitchers,
+    };
+    Ok(Audit { summary, tests, rejected, outcomes })
+}
+
+/// Enough pitches to learn from and to score for any figure.
+fn enough(t: &PitcherTask, settings: &Settings) -> bool {
+    t.n_train() >= settings.min_train_pitches && t.n_test() >= settings.min_test_pitches
+}
+
+/// Every pitcher of the log planned, and the chosen pitchers' tasks.
+struct Staff {
+    rows_of: Vec<Vec<u32>>,
+    plans: Vec<Option<PitcherPlan>>,
+    /// Per log row: a row tells are found on.
+    discovery: Vec<bool>,
+    tasks: Vec<PitcherTask>,
+}
+
+impl Staff {
+    /// Every pitcher's plan (the tells' staff shares read all pitchers'
+    /// discovery rows), then the chosen pitchers' tasks.
+    fn plan(log: &ingest::PitchLog, sit: &Situations, scheme: &Evaluation, chosen: &[u32], settings: &Settings) -> Staff {
+        let mut rows_of: Vec<Vec<u32>> = vec![Vec::new(); log.pitchers.len()];
+        for i in 0..log.len() {
+            rows_of[log.pitcher[i] as usize].push(i as u32);
         }
-        // A changed arsenal: his mix where tells are found (earlier seasons,
-        // or the first half of his only season) against where they are
-        // checked.
-        let found_mix = mix_of(names, task, &task.discovery);
-        let mut arsenal_changes = Vec::new();
-        for t in found_mix.keys().chain(test_mix.keys()).collect::<std::collections::BTreeSet<_>>() {
-            let before = found_mix.get(t).copied().unwrap_or(0.0);
-            let after = test_mix.get(t).copied().unwrap_or(0.0);
-            if after >= settings.new_pitch_share && before < settings.absent_share {
-                arsenal_changes.push(ArsenalChange { pitch_type: t.clone(), change: "added".into(), before, after });
-            } else if before >= settings.new_pitch_share && after < settings.absent_share {
-                arsenal_changes.push(ArsenalChange { pitch_type: t.clone(), change: "dropped".into(), before, after });
+        let plans: Vec<Option<PitcherPlan>> = rows_of
+            .par_iter()
+            .map(|rows| (!rows.is_empty()).then(|| scheme.plan_for(log, rows, settings)))
+            .collect();
+        let mut discovery = vec![false; log.len()];
+        for (rows, plan) in rows_of.iter().zip(&plans) {
+            if let Some(plan) = plan {
+                for (&r, &d) in rows.iter().zip(&plan.discovery) {
+                    discovery[r as usize] = d;
+                }
             }
         }
-        for c in &arsenal_changes {
-            let (what, t) = (&c.change, &c.pitch_type);
-            cautions.push(if what == "added" {
-                format!(
-                    "Changed arsenal: a {t} is {:.0}% of his pitches in {} but was {:.1}% before. Until he had thrown it in the games a model learned from, it was new to the models: {} pitches of types new to him are left out of his figures (counted, not scored); after that the {t} is scored like any other pitch. His tells found on the older games describe the old arsenal.",
-                    100.0 * c.after,
-                    task.evaluation.tells_checked_on,
-                    100.0 * c.before,
-                    o.scored.unseen
-                )
-            } else {
-                format!(
-                    "Changed arsenal: he dropped his {t} ({:.0}% of pitches before, {:.1}% in {}); tells about it describe a pitch he no longer throws.",
-                    100.0 * c.before,
-                    100.0 * c.after,
-                    task.evaluation.tells_checked_on
-                )
-            });
-        }
-        let tvd: f64 = mix
-            .keys()
-            .chain(test_mix.keys())
-            .collect::<std::collections::BTreeSet<_>>()
-            .iter()
-            .map(|t| (mix.get(*t).copied().unwrap_or(0.0) - test_mix.get(*t).copied().unwrap_or(0.0)).abs())
-            .sum::<f64>()
-            / 2.0;
-        if tvd >= 0.15 {
-            cautions.push(format!(
-                "His pitch mix changed between {} and {} (total variation {:.2}); a changed role or arsenal makes held-out figures less comparable. See `tellscope compare`.",
-                task.evaluation.train, task.evaluation.scored, tvd
-            ));
-        }
-        if o.figures.bits_gained < -margin {
-            cautions.push(format!(
-                "His situational guess did worse on {} than his plain pitch mix ({:+.3} bits per pitch): the tendencies learned from {} did not carry over. Something changed; see `tellscope compare`.",
-                task.evaluation.scored, o.figures.bits_gained, task.evaluation.train
-            ));
-        }
-        let rules = wording::rules(task, &o.scored, names);
-        let headline = headline(&sheet_cells, &flagged, &task.evaluation.tells_checked_on);
-        let called = crate::outcomes::called_outcomes(log, task, &o.scored, names);
-        outcomes.extend(crate::outcomes::by_situation(log, sit, task, names));
-        pitchers.push(PitcherSummary {
-            pitcher: task.name.clone(),
-            throws,
-            status: "ok".into(),
-            n_train: task.n_train(),
-            n_test: task.n_test(),
-            pitches_by_season,
-            pitches_by_team,
-            evaluation: task.evaluation.clone(),
-            reason: None,
-            mix: Some(mix),
-            test_mix: Some(test_mix),
-            prior_pitch: Some(prior_pitch),
-            prior_accuracy: Some(o.figures.prior_accuracy),
-            model_accuracy: Some(o.figures.model_accuracy),
-            lift: Some(o.figures.lift),
-            bits_gained: Some(o.figures.bits_gained),
-            bits_margin: Some(margin),
-            lift_margin: Some(lift_margin),
-            p_value: Some(perm.p_value),
-            q_value: Some(q),
-            permutations: Some(perm.permutations),
-            stopped_early: Some(perm.stopped_early),
-            significant: Some(q <= settings.fdr),
-            observed_statistic: Some(perm.observed),
-            null_statistics: perm.null.clone(),
-            counts,
-            types: o.types.clone(),
-            tells: flagged.into_iter().cloned().collect(),
-            rules,
-            n_unseen_type: Some(o.scored.unseen),
-            arsenal_changes,
-            called_outcomes: called,
-            outcomes_by_type: crate::outcomes::by_type(log, task, names),
-            sheet: sheet_cells,
-            sheet_season: Some(sheet_season),
-            sheet_bits: Some(o.sheet_bits),
-            beyond_bits: Some(o.figures.bits_gained - o.sheet_bits),
-            league_percentile: league_percentile(task.pitcher, o.figures.bits_gained, o.figures.bits_gained - o.sheet_bits),
-            beyond_p_value: Some(bperm.p_value),
-            beyond_q_value: Some(bq),
-            beyond_permutations: Some(bperm.permutations),
-            beyond_significant: Some(bq <= settings.fdr),
-            headline,
-            tell_family_q: his.first().map(|t| t.family_q),
-            cautions,
-            location: loc_figures,
-            location_tells,
-            location_mix: loc_mix,
-            location_note,
-        });
+        let tasks: Vec<PitcherTask> = chosen
+            .par_iter()
+            .map(|&p| {
+                let plan = plans[p as usize].as_ref().expect("a pitcher in the log has rows");
+                PitcherTask::build(log, sit, plan, p, rows_of[p as usize].clone())
+            })
+            .collect();
+        Staff { rows_of, plans, discovery, tasks }
     }
-    let mut notes = input_notes(sit, &source, "left out");
-    let clubs = log.team.as_ref().map(|t| {
+
+    /// Every audited pitcher's observed (pitcher, bits gained, beyond the
+    /// sheet) for percentiles; with --team, the league's other pitchers
+    /// are fitted once, without permutations.
+    fn league_figures(
+        &self,
+        log: &ingest::PitchLog,
+        sit: &Situations,
+        chosen: &[u32],
+        ok_tasks: &[&PitcherTask],
+        observed: &[Observed],
+        settings: &Settings,
+    ) -> Vec<(u32, f64, f64)> {
+        let mut figures: Vec<(u32, f64, f64)> =
+            ok_tasks.iter().zip(observed).map(|(t, o)| (t.pitcher, o.figures.bits_gained, o.figures.bits_gained - o.sheet_bits)).collect();
+        if settings.team.is_some() {
+            let chosen_set: std::collections::HashSet<u32> = chosen.iter().copied().collect();
+            let others: Vec<(u32, f64, f64)> = (0..log.pitchers.len() as u32)
+                .into_par_iter()
+                .filter(|p| !chosen_set.contains(p) && !self.rows_of[*p as usize].is_empty())
+                .filter_map(|p| {
+                    let plan = self.plans[p as usize].as_ref()?;
+                    let t = PitcherTask::build(log, sit, plan, p, self.rows_of[p as usize].clone());
+                    enough(&t, settings).then(|| {
+                        let o = observe(&t, settings, &log.pitch_types);
+                        (p, o.figures.bits_gained, o.figures.bits_gained - o.sheet_bits)
+                    })
+                })
+                .collect();
+            figures.extend(others);
+        }
+        figures
+    }
+}
+
+/// The audited pitchers' tests, in the order of their tasks.
+struct Tested {
+    observed: Vec<Observed>,
+    perms: Vec<permute::PermutationResult>,
+    beyond_perms: Vec<permute::PermutationResult>,
+    model_q: Vec<f64>,
+    beyond_q: Vec<f64>,
+    /// Every tell test, with costs and league shares filled.
+    tests: Vec<TellTest>,
+    location: location::LocationAudit,
+    league_cells: crate::league::LeagueCells,
+}
+
+impl Tested {
+    fn run(
+        log: &ingest::PitchLog,
+        sit: &Situations,
+        discovery: &[bool],
+        ok_tasks: &[&PitcherTask],
+        settings: &Settings,
+        show_progress: bool,
+    ) -> Tested {
+        let timer = crate::progress::Timer::start();
+        timer.lap("pitcher tasks (features)");
+        let observed: Vec<Observed> = ok_tasks.par_iter().map(|t| observe(t, settings, &log.pitch_types)).collect();
+        timer.lap("observed fits");
+        let total: u64 = (3 * ok_tasks.len() * settings.permutations) as u64;
+        let bar = crate::progress::bar(total, "permutations", show_progress);
+        let tick = |n: u64| bar.inc(n);
+        // The tell tests do not depend on the permutation tests; they run
+        // alongside them and fill the workers' idle moments.
+        let (perms, mut tests) = rayon::join(
+            || permutation_tests(ok_tasks, &observed, settings, &tick),
+            || tells::find(log, sit, discovery, ok_tasks, settings),
+        );
+        timer.lap("permutation and tell tests");
+        // Where he throws it: its own permutation and tell tests.
+        let location = location::audit(log, sit, discovery, ok_tasks, settings, &tick);
+        bar.finish_and_clear();
+        timer.lap("location tests");
+        let (perms, beyond_perms): (Vec<_>, Vec<_>) = perms.into_iter().unzip();
+        crate::outcomes::cost_of_tells(log, sit, ok_tasks, &mut tests, settings.fdr);
+        // The league as the yardstick: counted once for the file, for the
+        // tells' shares here and the sheet cells later.
+        let league_cells = crate::league::LeagueCells::build(log);
+        crate::league::tell_shares(log, sit, &league_cells, &mut tests);
+        let model_q = fdr::bh_q_values(&perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
+        // The beyond-the-sheet p-values form their own family over pitchers.
+        let beyond_q = fdr::bh_q_values(&beyond_perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
+        Tested { observed, perms, beyond_perms, model_q, beyond_q, tests, location, league_cells }
+    }
+}
+
+/// Each audited pitcher's whole-model and beyond-the-sheet permutation
+/// tests. The whole-model test's early decision is sized from the other
+/// pitchers' pilots (each test's BH family is the audited pitchers): how
+/// many clear effects the run is likely to hold.
+fn permutation_tests(
+    ok_tasks: &[&PitcherTask],
+    observed: &[Observed],
+    settings: &Settings,
+    tick: &(dyn Fn(u64) + Sync),
+) -> Vec<(permute::PermutationResult, permute::PermutationResult)> {
+    let clear: Vec<bool> =
+        ok_tasks.par_iter().zip(observed.par_iter()).map(|(t, o)| permute::pilot_clear(t, o.statistic, settings)).collect();
+    let all_clear = clear.iter().filter(|&&c| c).count();
+    ok_tasks
+        .par_iter()
+        .zip(observed.par_iter())
+        .zip(clear.par_iter())
+        .map(|((t, o), &mine)| {
+            let m1 = permute::decision_at(ok_tasks.len(), all_clear - mine as usize, settings.fdr);
+            let whole = permute::permutation_test(t, o.statistic, settings, Some(m1), tick);
+            let beyond = permute::null_test(permute::Null::BeyondSheet, t, o.beyond, settings, None, tick);
+            (whole, beyond)
+        })
+        .collect()
+}
+
+/// How many clubs the log's `team` column names (None without one).
+fn club_count(log: &ingest::PitchLog) -> Option<usize> {
+    log.team.as_ref().map(|t| {
         let mut c: Vec<u32> = t.iter().flatten().copied().collect();
         c.sort_unstable();
         c.dedup();
         c.len()
-    });
-    let yardstick = if clubs.unwrap_or(0) > 1 { "league" } else { "staff" };
-    if yardstick == "staff" {
+    })
+}
+
+/// The run's notes: its input, its yardstick, the club audited, and what
+/// missing columns leave out.
+fn run_notes(
+    log: &ingest::PitchLog,
+    sit: &Situations,
+    source: &ingest::SourceInfo,
+    chosen: &[u32],
+    no_location: bool,
+    settings: &Settings,
+) -> Vec<String> {
+    let mut notes = input_notes(sit, source, "left out");
+    if club_count(log).unwrap_or(0) <= 1 {
         notes.push(
             "The file holds one club's pitchers, so the yardstick is the staff, not the league: each pitcher's sheet cells and percentiles are compared with the rest of his own staff (a league's log, with `--team`, compares them with the league).".into(),
         );
@@ -606,7 +482,7 @@ pub fn audit_log(
             log.pitchers.len() - chosen.len()
         ));
     }
-    if location.missing {
+    if no_location {
         notes.push(
             "The log has no `loc_side_ft` and `loc_height_ft` columns, so where each pitch goes (location figures and location tells) cannot be shown; add them to see it.".into(),
         );
@@ -616,47 +492,7 @@ pub fn audit_log(
             "The log has no `result` column, so whether a tell costs him (whiffs, called and swinging strikes, balls in play of the tell's pitch against comparable spots) cannot be shown; add `result` to see it.".into(),
         );
     }
-    let staff_called = crate::outcomes::staff_called(&pitchers.iter().filter_map(|p| p.called_outcomes.as_ref()).collect::<Vec<_>>());
-    let summary = Summary {
-        tool: Tool::this(),
-        input: Input::of(&source, log),
-        settings: SettingsOut {
-            seed: settings.seed,
-            permutations: settings.permutations,
-            fdr: settings.fdr,
-            statistic: match settings.statistic {
-                crate::settings::Statistic::Bits => "bits_gained".into(),
-                crate::settings::Statistic::Accuracy => "accuracy_gained".into(),
-            },
-            stop_after_exceedances: settings.stop_after_exceedances,
-            min_train_pitches: settings.min_train_pitches,
-            min_test_pitches: settings.min_test_pitches,
-            tree_max_depth: settings.tree.max_depth,
-            tree_min_samples_leaf: settings.tree.min_samples_leaf,
-            tree_min_samples_split: settings.tree.min_samples_split,
-            leaf_smoothing: settings.leaf_smoothing,
-            split_alpha: settings.split_alpha,
-            prior_strength: match settings.prior_strength {
-                PriorStrength::Auto => "auto".into(),
-                PriorStrength::Fixed(s) => format!("{s}"),
-            },
-            tell_min_effect: settings.tell_min_effect,
-            tell_min_n: settings.tell_min_n,
-            tell_pairs: settings.tell_pairs.iter().map(|(a, b)| format!("{a} x {b}")).collect(),
-            tell_fdr_method: match settings.tell_fdr_method {
-                crate::settings::FdrMethod::Hierarchical => "hierarchical".into(),
-                crate::settings::FdrMethod::Pooled => "pooled".into(),
-            },
-        },
-        evaluation: scheme.out(),
-        notes,
-        staff_called_outcomes: staff_called,
-        yardstick: yardstick.to_string(),
-        tell_tests: tests.len(),
-        tells_flagged: tests.iter().filter(|t| t.flagged).count(),
-        pitchers,
-    };
-    Ok(Audit { summary, tests, rejected, outcomes })
+    notes
 }
 
 /// At most three findings, most pitches given away a season first: the
@@ -709,7 +545,7 @@ fn count_summaries(
             t.direction == Direction::More
                 && t.pitch_type == dtop
                 && t.situation.len() == 1
-                && t.situation.get(&crate::situations::levels::Factor::Count).map(String::as_str) == Some(COUNTS[c])
+                && t.situation.get(&crate::domain::levels::Factor::Count).map(String::as_str) == Some(COUNTS[c])
         });
         out.push(CountSummary {
             count: label.to_string(),

@@ -7,7 +7,7 @@ use crate::evaluate::task::PitcherTask;
 use crate::priors::{self, GroupCounts, UsagePrior};
 use crate::settings::Settings;
 use crate::significance::wilson;
-use crate::situations::levels::COUNTS;
+use crate::domain::levels::COUNTS;
 use serde::Serialize;
 use std::collections::BTreeMap;
 
@@ -65,7 +65,7 @@ pub fn sheet(
     season_of_row: impl Fn(usize) -> i32,
     names: &[String],
     settings: &Settings,
-    league: (&crate::league::LeagueCells, crate::situations::levels::Hand),
+    league: (&crate::league::LeagueCells, crate::domain::levels::Hand),
 ) -> (Vec<SheetCell>, i32) {
     let k = task.n_classes;
     let latest = (0..task.rows.len()).map(&season_of_row).max().unwrap_or(0);

@@ -5,7 +5,7 @@ use crate::audit::summary::RuleSummary;
 use crate::evaluate::fit::Scored;
 use crate::evaluate::task::{FeatureKind, PitcherTask};
 use crate::model::rules::leaf_rules;
-use crate::situations::levels::Factor;
+use crate::domain::levels::Factor;
 use crate::tells::{Direction, Situation, TellTest};
 
 /// The situation as a phrase: "in 0-2 counts with a runner on first".
@@ -402,7 +402,7 @@ pub fn beyond_short(t: &TellTest, test_label: &str) -> String {
 }
 
 /// Whether a tell costs him, in a coach's words, with the figures behind it.
-pub fn cost_sentence(t: &TellTest, c: &crate::outcomes::TellCost) -> String {
+pub fn cost_sentence(t: &TellTest, c: &crate::tells::TellCost) -> String {
     let sit = situation_phrase(&t.situation);
     let figures = format!(
         "whiffs {} of {} swings against {} expected from {} (difference {:+.0} points, 95% interval {:+.0} to {:+.0}); called and swinging strikes {} against {}; in play {} against {}",

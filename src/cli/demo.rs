@@ -8,7 +8,7 @@
 
 use std::path::{Path, PathBuf};
 use tellscope::audit;
-use tellscope::ingest::write::{sim_frame, write_frame};
+use tellscope::simulate::write::{sim_frame, write_frame};
 use tellscope::report;
 use tellscope::settings::{ConfigFile, Overrides, Settings};
 use tellscope::simulate::simulate;

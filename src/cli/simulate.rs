@@ -5,7 +5,7 @@
 //! tendencies. The same scenario and seed give the same file, byte for byte.
 
 use std::path::PathBuf;
-use tellscope::ingest::write::{sim_frame, write_frame};
+use tellscope::simulate::write::{sim_frame, write_frame};
 use tellscope::simulate::{simulate, Scenario};
 use tellscope::{Error, Result};
 

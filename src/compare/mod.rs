@@ -25,6 +25,7 @@
 
 pub mod mix;
 pub mod period;
+mod pitcher;
 pub mod predictability;
 pub mod summary;
 pub mod tells_change;
@@ -33,7 +34,7 @@ pub mod wording;
 use crate::audit::summary::{Input, Tool};
 use crate::error::Result;
 use crate::ingest::{self, Ingested, PitchLog, Rejected, SourceInfo};
-use crate::settings::{FdrMethod, Settings, Statistic};
+use crate::settings::Settings;
 use crate::significance::{fdr, Interval};
 
 /// The BH family of the predictability tests (`family` of a change).
@@ -42,7 +43,8 @@ pub const PREDICTABILITY_FAMILY: &str = "predictability";
 pub const MIX_FAMILY: &str = "mix and pitches";
 /// The BH family of the location shifts (where each pitch type goes).
 pub const LOCATION_FAMILY: &str = "location";
-use crate::situations::{self, levels::COUNTS, Situations};
+use crate::domain::levels::COUNTS;
+use crate::situations::{self, Situations};
 use period::{Period, PeriodSpec};
 use predictability::{PeriodFit, Resampled};
 use rand::SeedableRng;
@@ -54,10 +56,6 @@ use std::path::Path;
 use summary::*;
 use tells_change::TellChange;
 
-/// Label-swap permutations per pitcher when none are asked for: enough for
-/// the smallest p-value, 1/(m + 1), to pass a BH bar over the ~150 tests of a
-/// staff's comparison.
-pub const DEFAULT_PERMUTATIONS: usize = 1999;
 
 /// What to compare.
 #[derive(Debug, Clone)]
@@ -414,7 +412,9 @@ fn tell_change(c: &TellChange) -> Change {
     x
 }
 
-/// Compare an already loaded log.
+/// Compare an already loaded log: prepare each pitcher's periods, run the
+/// resamples and label-swap tests, gather every change, then one set of
+/// Benjamini–Hochberg families over the run.
 #[allow(clippy::too_many_arguments)]
 pub fn compare_log(
     log: &PitchLog,
@@ -427,20 +427,10 @@ pub fn compare_log(
     permutations: usize,
     show_progress: bool,
 ) -> Result<Comparison> {
-    let names = &log.pitch_types;
     let labels = [before.label.as_str(), after.label.as_str()];
-    let chosen = crate::audit::selected_pitchers(log, settings)?;
-    let mut rows_of: Vec<[Vec<u32>; 2]> = vec![[Vec::new(), Vec::new()]; log.pitchers.len()];
-    for i in 0..log.len() {
-        let p = log.pitcher[i] as usize;
-        if before.rows[i] {
-            rows_of[p][0].push(i as u32);
-        } else if after.rows[i] {
-            rows_of[p][1].push(i as u32);
-        }
-    }
+    let rows_of = period_rows(log, &before, &after);
     // Pitchers who pitched in neither period are left out unless asked for.
-    let chosen: Vec<u32> = chosen
+    let chosen: Vec<u32> = crate::audit::selected_pitchers(log, settings)?
         .into_iter()
         .filter(|&p| !settings.pitchers.is_empty() || !rows_of[p as usize][0].is_empty() || !rows_of[p as usize][1].is_empty())
         .collect();
@@ -453,7 +443,6 @@ pub fn compare_log(
             Prepared::Short { .. } => None,
         })
         .collect();
-
     // Bootstraps of each period's held-out games.
     let resampled: Vec<[Option<Resampled>; 2]> = ready
         .par_iter()
@@ -462,204 +451,150 @@ pub fn compare_log(
             [0, 1].map(|k| predictability::resample_period(&fits[k].cross.games, settings.bootstrap, seed64(settings.seed, name, &format!("bootstrap {k}"))))
         })
         .collect();
+    let swaps = swap_tests(log, sit, &ready, settings, permutations, show_progress);
+    let per_season = per_season_figures(log, sit, &ready, settings);
+    // Tells of each period, looked up per pitcher below.
+    let tasks_b: Vec<crate::evaluate::task::PitcherTask> = ready.iter().map(|r| r.2[0].task.clone()).collect();
+    let tasks_a: Vec<crate::evaluate::task::PitcherTask> = ready.iter().map(|r| r.2[1].task.clone()).collect();
+    let tells_b = tells_change::period_tells(log, sit, &before.rows, &tasks_b, settings);
+    let tells_a = tells_change::period_tells(log, sit, &after.rows, &tasks_a, settings);
+    let run = pitcher::Run {
+        log,
+        sit,
+        labels,
+        settings,
+        tells: [crate::tells::ByPitcher::new(&tells_b), crate::tells::ByPitcher::new(&tells_a)],
+        // Where each pitch goes, when the log has locations.
+        regions: crate::audit::location::row_regions(log),
+    };
+    // Every change of every pitcher, then the BH families.
+    let mut pitchers: Vec<PitcherChanges> = Vec::new();
+    let mut ready_i = 0usize;
+    for x in &prepared {
+        match x {
+            Prepared::Short { pitcher, rows, why } => pitchers.push(pitcher::short(log, *pitcher, rows, why)),
+            Prepared::Ready { pitcher, rows, fits } => {
+                let i = ready_i;
+                ready_i += 1;
+                pitchers.push(pitcher::ready(&run, *pitcher, rows, fits, &resampled[i], &swaps[i], per_season[i].clone()));
+            }
+        }
+    }
+    drop(run);
+    let (tests, significant) = apply_families(&mut pitchers, labels, settings);
+    let notes = compare_notes(sit, &source, &before, &after, &pitchers, tests, significant, permutations, settings);
+    let summary = CompareSummary {
+        tool: Tool::this(),
+        input: Input::of(&source, log),
+        settings: CompareSettingsOut::of(settings, permutations),
+        periods: Periods { before, after },
+        evaluation: CompareEvaluation {
+            scheme: "cross-fitted".into(),
+            blocks: settings.forward_blocks,
+            description: format!(
+                "Each period is scored on its own: a pitcher's games in the period, in date order, are dealt to {} groups, and each group is guessed by a model fitted on his other games of the period, so every game is scored by a model that did not see it. His tells in each period are found on its earlier games and checked on its last ones.",
+                settings.forward_blocks
+            ),
+        },
+        notes,
+        tests,
+        significant,
+        pitchers,
+    };
+    Ok(Comparison { summary, rejected })
+}
 
-    // Label-swap permutation tests.
+/// Each pitcher's rows in the before and the after period.
+fn period_rows(log: &PitchLog, before: &Period, after: &Period) -> Vec<[Vec<u32>; 2]> {
+    let mut rows_of: Vec<[Vec<u32>; 2]> = vec![[Vec::new(), Vec::new()]; log.pitchers.len()];
+    for i in 0..log.len() {
+        let p = log.pitcher[i] as usize;
+        if before.rows[i] {
+            rows_of[p][0].push(i as u32);
+        } else if after.rows[i] {
+            rows_of[p][1].push(i as u32);
+        }
+    }
+    rows_of
+}
+
+/// Each ready pitcher's label-swap test of his predictability change, and
+/// his before model's transfer to the after games. A pilot of PILOT deals
+/// per pitcher (streams of its own) says how many clear changes the run
+/// holds, to size each pitcher's early decision from the others' (as the
+/// audit's whole-model test does).
+fn swap_tests(
+    log: &PitchLog,
+    sit: &Situations,
+    ready: &[Ready],
+    settings: &Settings,
+    permutations: usize,
+    show_progress: bool,
+) -> Vec<(predictability::SwapResult, Option<f64>)> {
+    use crate::audit::permute::{decision_at, PILOT};
     let bar = crate::progress::bar((ready.len() * permutations) as u64, "label swaps", show_progress);
     let tick = |n: u64| bar.inc(n);
-    // A pilot of PILOT deals per pitcher (streams of its own): how many
-    // clear changes the run holds, to size each pitcher's early decision
-    // from the others' (as the audit's whole-model test does).
     let none = |_: u64| {};
     let clear: Vec<bool> = ready
         .par_iter()
         .map(|(p, rows, fits)| {
             let name = &log.pitchers[*p as usize];
             let observed = [&fits[0].cross, &fits[1].cross];
-            let pilot = predictability::label_swap_test(log, sit, *p, name, &rows[0], &rows[1], observed, settings, crate::audit::permute::PILOT, None, "label-swap pilot", &none);
-            pilot.permutations == crate::audit::permute::PILOT && pilot.p <= 1.0 / (crate::audit::permute::PILOT as f64 + 1.0) + 1e-12
+            let pilot = predictability::label_swap_test(log, sit, *p, name, &rows[0], &rows[1], observed, settings, PILOT, None, "label-swap pilot", &none);
+            pilot.permutations == PILOT && pilot.p <= 1.0 / (PILOT as f64 + 1.0) + 1e-12
         })
         .collect();
     let all_clear = clear.iter().filter(|&&c| c).count();
-    let swaps: Vec<(predictability::SwapResult, Option<f64>)> = ready
+    let swaps = ready
         .par_iter()
         .zip(clear.par_iter())
         .map(|((p, rows, fits), &mine)| {
             let name = &log.pitchers[*p as usize];
             let observed = [&fits[0].cross, &fits[1].cross];
-            let m1 = crate::audit::permute::decision_at(ready.len(), all_clear - mine as usize, settings.fdr);
+            let m1 = decision_at(ready.len(), all_clear - mine as usize, settings.fdr);
             let swap = predictability::label_swap_test(log, sit, *p, name, &rows[0], &rows[1], observed, settings, permutations, Some(m1), "label-swap", &tick);
             (swap, predictability::transfer(log, sit, *p, &rows[0], &rows[1], settings))
         })
         .collect();
     bar.finish_and_clear();
+    swaps
+}
 
-    // Per-season figures, when the log has more than two seasons.
+/// Each ready pitcher's figures season by season, when the log has more
+/// than two seasons (none otherwise).
+fn per_season_figures(log: &PitchLog, sit: &Situations, ready: &[Ready], settings: &Settings) -> Vec<Vec<PeriodFigures>> {
     let seasons = log.seasons();
-    let per_season: Vec<Vec<PeriodFigures>> = if seasons.len() > 2 {
-        ready
-            .par_iter()
-            .map(|(p, _, _)| {
-                let name = &log.pitchers[*p as usize];
-                let mut out = Vec::new();
-                for &s in &seasons {
-                    let rows: Vec<u32> = (0..log.len() as u32).filter(|&r| log.pitcher[r as usize] == *p && log.season[r as usize] == s).collect();
-                    let label = s.to_string();
-                    let Ok(task) = predictability::build_task(log, sit, *p, &rows, settings.forward_blocks, &label) else { continue };
-                    let Ok(fit) = predictability::fit_period(log, sit, task, settings, &label) else { continue };
-                    if fit.cross.n_train < settings.min_train_pitches || fit.cross.figures.n < settings.min_test_pitches {
-                        continue;
-                    }
-                    let res = predictability::resample_period(&fit.cross.games, settings.bootstrap, seed64(settings.seed, name, &format!("bootstrap season {s}")));
-                    out.push(period_figures(&label, &fit, res.as_ref()));
-                }
-                out
-            })
-            .collect()
-    } else {
-        vec![Vec::new(); ready.len()]
-    };
-
-    // Tells of each period.
-    let tasks_b: Vec<crate::evaluate::task::PitcherTask> = ready.iter().map(|r| r.2[0].task.clone()).collect();
-    let tasks_a: Vec<crate::evaluate::task::PitcherTask> = ready.iter().map(|r| r.2[1].task.clone()).collect();
-    let tells_b = tells_change::period_tells(log, sit, &before.rows, &tasks_b, settings);
-    let tells_a = tells_change::period_tells(log, sit, &after.rows, &tasks_a, settings);
-    // Each pitcher's tests, looked up per pitcher below.
-    let (tells_b_of, tells_a_of) = (crate::tells::ByPitcher::new(&tells_b), crate::tells::ByPitcher::new(&tells_a));
-
-    // Where each pitch goes, when the log has locations.
-    let regions = crate::audit::location::row_regions(log);
-    // Every change of every pitcher, then one BH family.
-    let mut pitchers: Vec<PitcherChanges> = Vec::new();
-    let mut ready_i = 0usize;
-    for x in &prepared {
-        match x {
-            Prepared::Short { pitcher, rows, why } => {
-                let p = *pitcher as usize;
-                let any = rows[0].first().or(rows[1].first());
-                pitchers.push(PitcherChanges {
-                    pitcher: log.pitchers[p].clone(),
-                    throws: any.map(|&r| log.throws[r as usize].as_str().to_string()).unwrap_or_default(),
-                    status: "insufficient data".into(),
-                    n_before: rows[0].len(),
-                    n_after: rows[1].len(),
-                    games_before: games_of(log, &rows[0]),
-                    games_after: games_of(log, &rows[1]),
-                    mix_before: None,
-                    mix_after: None,
-                    mix_shift: None,
-                    predictability: None,
-                    seasons: Vec::new(),
-                    counts: Vec::new(),
-                    changes: Vec::new(),
-                    significant_changes: 0,
-                    headline: "insufficient data".into(),
-                    summary_lines: Vec::new(),
-                    cautions: vec![why.clone()],
-                });
-            }
-            Prepared::Ready { pitcher, rows, fits } => {
-                let i = ready_i;
-                ready_i += 1;
-                let p = *pitcher as usize;
-                let name = log.pitchers[p].clone();
-                let mut types: Vec<u16> = rows[0].iter().chain(&rows[1]).map(|&r| log.pitch_type[r as usize]).collect();
-                types.sort_unstable();
-                types.dedup();
-                let (all_b, by_b) = tallies(log, &rows[0], &types);
-                let (all_a, by_a) = tallies(log, &rows[1], &types);
-                let (mut changes, counts) = mix_changes(names, &name, &types, [&all_b, &all_a], [&by_b, &by_a], settings);
-                if let Some(regions) = &regions {
-                    changes.extend(location_changes(names, regions, log, &name, &types, rows, settings));
-                }
-
-                let res = &resampled[i];
-                let fb = period_figures(labels[0], &fits[0], res[0].as_ref());
-                let fa = period_figures(labels[1], &fits[1], res[1].as_ref());
-                let bits_diff = fa.bits_gained - fb.bits_gained;
-                let (swap, transfer) = &swaps[i];
-                let bits_iv = Interval { low: swap.bits_interval.low.min(bits_diff), high: swap.bits_interval.high.max(bits_diff) };
-                let lift_iv = swap.lift_interval;
-                let mut pc = blank("predictability", BTreeMap::new(), fb.bits_gained, fa.bits_gained, bits_diff, "bits_difference", [fb.n_test, fa.n_test], None);
-                pc.interval = Some(bits_iv);
-                pc.test = mix::TestKind::LabelSwapPermutation.as_str().into();
-                pc.statistic = Some(swap.t);
-                pc.permutations = Some(swap.permutations);
-                pc.p = Some(swap.p);
-                pc.family = PREDICTABILITY_FAMILY.into();
-                changes.push(pc);
-                for t in tells_change::changes(log, sit, &name, &rows[0], &rows[1], tells_b_of.of(&name), tells_a_of.of(&name)) {
-                    changes.push(tell_change(&t));
-                }
-                let mut cautions = Vec::new();
-                // With --team: where his pitches of each season came from,
-                // when not all for the club.
-                if let Some(team) = &settings.team {
-                    let by_team = crate::audit::pitches_by_team(log, rows[0].iter().chain(&rows[1]));
-                    if let Some(w) = crate::audit::wording::elsewhere_sentence(team, &by_team) {
-                        cautions.push(format!("{w} All of them are compared, since they are all his habits; a change of club can change how he pitches."));
-                    }
-                }
-                for (f, label) in [(&fb, labels[0]), (&fa, labels[1])] {
-                    if f.n_test < 300 {
-                        cautions.push(format!(
-                            "Only {} held-out pitches in {label}: his predictability there rests on few pitches and can swing by chance.",
-                            f.n_test
-                        ));
-                    }
-                    if f.n_unseen_type > 0 {
-                        cautions.push(format!(
-                            "In {label}, {} held-out pitches were of a type he had not yet thrown earlier in the period; neither guess could know it, so they are left out of his predictability there.",
-                            f.n_unseen_type
-                        ));
-                    }
-                }
-                pitchers.push(PitcherChanges {
-                    pitcher: name,
-                    throws: log.throws[rows[0][0] as usize].as_str().to_string(),
-                    status: "ok".into(),
-                    n_before: rows[0].len(),
-                    n_after: rows[1].len(),
-                    games_before: games_of(log, &rows[0]),
-                    games_after: games_of(log, &rows[1]),
-                    mix_before: Some(mix_map(names, &types, &all_b)),
-                    mix_after: Some(mix_map(names, &types, &all_a)),
-                    mix_shift: crate::significance::resample::total_variation(
-                        &all_b.iter().map(|&x| x as f64).collect::<Vec<_>>(),
-                        &all_a.iter().map(|&x| x as f64).collect::<Vec<_>>(),
-                    ),
-                    predictability: Some(Predictability {
-                        before: fb,
-                        after: fa,
-                        bits_difference: bits_diff,
-                        bits_difference_interval: bits_iv,
-                        lift_difference: fits[1].cross.figures.lift - fits[0].cross.figures.lift,
-                        lift_difference_interval: lift_iv,
-                        p: swap.p,
-                        q: 1.0,
-                        permutations: swap.permutations,
-                        stopped_early: swap.stopped_early,
-                        studentised_statistic: swap.t,
-                        transfer_bits: *transfer,
-                        family: PREDICTABILITY_FAMILY.into(),
-                    }),
-                    seasons: per_season[i].clone(),
-                    counts,
-                    changes,
-                    significant_changes: 0,
-                    headline: String::new(),
-                    summary_lines: Vec::new(),
-                    cautions,
-                });
-            }
-        }
+    if seasons.len() <= 2 {
+        return vec![Vec::new(); ready.len()];
     }
-    // Two Benjamini–Hochberg families: the predictability tests (one per
-    // pitcher) on their own, so many mix cells never bury them; every
-    // other test (mixes, count by count, new and dropped pitches) in the
-    // other.
-    // Location shifts are a third family, so a pitcher's many pitch types
-    // and regions never lower the bar of the mix tests, nor theirs it.
+    ready
+        .par_iter()
+        .map(|(p, _, _)| {
+            let name = &log.pitchers[*p as usize];
+            let mut out = Vec::new();
+            for &s in &seasons {
+                let rows: Vec<u32> = (0..log.len() as u32).filter(|&r| log.pitcher[r as usize] == *p && log.season[r as usize] == s).collect();
+                let label = s.to_string();
+                let Ok(task) = predictability::build_task(log, sit, *p, &rows, settings.forward_blocks, &label) else { continue };
+                let Ok(fit) = predictability::fit_period(log, sit, task, settings, &label) else { continue };
+                if fit.cross.n_train < settings.min_train_pitches || fit.cross.figures.n < settings.min_test_pitches {
+                    continue;
+                }
+                let res = predictability::resample_period(&fit.cross.games, settings.bootstrap, seed64(settings.seed, name, &format!("bootstrap season {s}")));
+                out.push(period_figures(&label, &fit, res.as_ref()));
+            }
+            out
+        })
+        .collect()
+}
+
+/// Three Benjamini–Hochberg families: the predictability tests (one per
+/// pitcher) on their own, so many mix cells never bury them; the location
+/// shifts, so a pitcher's many pitch types and regions never lower the bar
+/// of the mix tests, nor theirs it; every other test (mixes, count by
+/// count, new and dropped pitches). Then each change's words and each
+/// pitcher's summary lines. Returns (tests, significant changes).
+fn apply_families(pitchers: &mut [PitcherChanges], labels: [&str; 2], settings: &Settings) -> (usize, usize) {
     let family_of = |c: &Change| match c.family.as_str() {
         PREDICTABILITY_FAMILY => 0,
         LOCATION_FAMILY => 2,
@@ -672,8 +607,7 @@ pub fn compare_log(
             .collect();
         fdr::bh_q_values(&ps).into_iter()
     });
-    let all_p: Vec<f64> =
-        pitchers.iter().flat_map(|p| p.changes.iter().filter(|c| c.is_test()).map(|c| c.p.unwrap_or(1.0).clamp(0.0, 1.0))).collect();
+    let tests = pitchers.iter().map(|p| p.changes.iter().filter(|c| c.is_test()).count()).sum();
     for p in pitchers.iter_mut() {
         for c in p.changes.iter_mut().filter(|c| c.is_test()) {
             let q = family_q[family_of(c)].next().expect("one q per test");
@@ -711,10 +645,25 @@ pub fn compare_log(
             p.headline = wording::headline(p);
         }
     }
-    let tests = all_p.len();
     let significant = pitchers.iter().map(|p| p.significant_changes).sum();
+    (tests, significant)
+}
 
-    let mut notes = crate::audit::input_notes(sit, &source, "left out of the tells");
+/// The comparison's notes: its input, periods given in reverse order, and
+/// too few label swaps for any predictability change to pass.
+#[allow(clippy::too_many_arguments)]
+fn compare_notes(
+    sit: &Situations,
+    source: &SourceInfo,
+    before: &Period,
+    after: &Period,
+    pitchers: &[PitcherChanges],
+    tests: usize,
+    significant: usize,
+    permutations: usize,
+    settings: &Settings,
+) -> Vec<String> {
+    let mut notes = crate::audit::input_notes(sit, source, "left out of the tells");
     if before.first_date > after.first_date {
         notes.push(format!(
             "--before {} is later than --after {}: every \"rose\" and \"fell\" reads from the first to the second as given.",
@@ -734,46 +683,5 @@ pub fn compare_log(
             "With {permutations} label swaps per pitcher the smallest p-value a predictability change can reach is {minimum_p:.4}, above this run's bar for significance (about {cut:.4} among {tests} tests): no predictability change could pass. Run with --permutations {enough} or more to test it."
         ));
     }
-    let summary = CompareSummary {
-        tool: Tool::this(),
-        input: Input::of(&source, log),
-        settings: CompareSettingsOut {
-            seed: settings.seed,
-            permutations,
-            mix_monte_carlo: mix::MONTE_CARLO_PERMUTATIONS,
-            bootstrap: settings.bootstrap,
-            fdr: settings.fdr,
-            statistic: match settings.statistic {
-                Statistic::Bits => "bits_gained".into(),
-                Statistic::Accuracy => "accuracy_gained".into(),
-            },
-            stop_after_exceedances: settings.stop_after_exceedances,
-            new_pitch_share: settings.new_pitch_share,
-            absent_share: settings.absent_share,
-            min_count_pitches: settings.tell_min_n,
-            min_train_pitches: settings.min_train_pitches,
-            min_test_pitches: settings.min_test_pitches,
-            forward_blocks: settings.forward_blocks,
-            tell_min_effect: settings.tell_min_effect,
-            tell_min_n: settings.tell_min_n,
-            tell_fdr_method: match settings.tell_fdr_method {
-                FdrMethod::Hierarchical => "hierarchical".into(),
-                FdrMethod::Pooled => "pooled".into(),
-            },
-        },
-        periods: Periods { before, after },
-        evaluation: CompareEvaluation {
-            scheme: "cross-fitted".into(),
-            blocks: settings.forward_blocks,
-            description: format!(
-                "Each period is scored on its own: a pitcher's games in the period, in date order, are dealt to {} groups, and each group is guessed by a model fitted on his other games of the period, so every game is scored by a model that did not see it. His tells in each period are found on its earlier games and checked on its last ones.",
-                settings.forward_blocks
-            ),
-        },
-        notes,
-        tests,
-        significant,
-        pitchers,
-    };
-    Ok(Comparison { summary, rejected })
+    notes
 }

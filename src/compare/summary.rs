@@ -4,6 +4,7 @@
 
 use super::period::Period;
 use crate::audit::summary::{Input, Tool};
+use crate::settings::{FdrMethod, Settings, Statistic};
 use crate::significance::Interval;
 use serde::Serialize;
 use std::collections::BTreeMap;
@@ -51,6 +52,36 @@ pub struct CompareSettingsOut {
     pub tell_min_effect: f64,
     pub tell_min_n: usize,
     pub tell_fdr_method: String,
+}
+
+impl CompareSettingsOut {
+    /// The settings a comparison used, as its summary records them.
+    pub fn of(settings: &Settings, permutations: usize) -> CompareSettingsOut {
+        CompareSettingsOut {
+            seed: settings.seed,
+            permutations,
+            mix_monte_carlo: super::mix::MONTE_CARLO_PERMUTATIONS,
+            bootstrap: settings.bootstrap,
+            fdr: settings.fdr,
+            statistic: match settings.statistic {
+                Statistic::Bits => "bits_gained".into(),
+                Statistic::Accuracy => "accuracy_gained".into(),
+            },
+            stop_after_exceedances: settings.stop_after_exceedances,
+            new_pitch_share: settings.new_pitch_share,
+            absent_share: settings.absent_share,
+            min_count_pitches: settings.tell_min_n,
+            min_train_pitches: settings.min_train_pitches,
+            min_test_pitches: settings.min_test_pitches,
+            forward_blocks: settings.forward_blocks,
+            tell_min_effect: settings.tell_min_effect,
+            tell_min_n: settings.tell_min_n,
+            tell_fdr_method: match settings.tell_fdr_method {
+                FdrMethod::Hierarchical => "hierarchical".into(),
+                FdrMethod::Pooled => "pooled".into(),
+            },
+        }
+    }
 }
 
 #[derive(Debug, Clone, Serialize)]

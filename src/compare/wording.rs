@@ -4,7 +4,7 @@
 
 use super::summary::{Change, PitcherChanges};
 use crate::audit::wording::{q_text, situation_phrase};
-use crate::situations::levels::Factor;
+use crate::domain::levels::Factor;
 use crate::tells::Situation;
 
 /// A share as a coach reads it: whole percent, one decimal below 1%.

@@ -6,7 +6,7 @@ pub mod metrics;
 pub mod split;
 pub mod task;
 
-use crate::situations::levels::COUNTS;
+use crate::domain::levels::COUNTS;
 use fit::{argmax, Scored};
 use serde::Serialize;
 use task::PitcherTask;

@@ -5,7 +5,8 @@
 use super::split::{PitcherEvaluation, PitcherPlan};
 use crate::ingest::PitchLog;
 use crate::model::FeatureMatrix;
-use crate::situations::{levels::Factor, Situations};
+use crate::domain::levels::Factor;
+use crate::situations::Situations;
 
 /// Bins of a shrunk prior probability feature: code = round(p · BINS).
 pub const PRIOR_BINS: u8 = 20;
@@ -95,7 +96,7 @@ impl PitcherTask {
             .iter()
             .map(|&r| {
                 let r = r as usize;
-                crate::situations::levels::sheet_cell(log.balls[r], log.strikes[r], log.bats[r]) as u8
+                crate::domain::levels::sheet_cell(log.balls[r], log.strikes[r], log.bats[r]) as u8
             })
             .collect();
         let mut beyond_index: std::collections::HashMap<(u32, u8), usize> = std::collections::HashMap::new();

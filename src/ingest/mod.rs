@@ -4,59 +4,18 @@
 
 pub mod parse;
 pub mod read;
-pub mod write;
 
 use crate::error::{Error, Result};
-use crate::settings::{Settings, OPTIONAL_COLUMNS, REQUIRED_COLUMNS};
-use crate::situations::levels::Hand;
+use crate::domain::columns::{OPTIONAL_COLUMNS, REQUIRED_COLUMNS};
+use crate::settings::Settings;
+use crate::domain::levels::Hand;
+use crate::domain::PitchResult;
 use parse::*;
 use read::{Format, RawTable};
 use serde::Serialize;
 use sha2::{Digest, Sha256};
 use std::collections::{BTreeMap, BTreeSet};
 use std::path::{Path, PathBuf};
-
-/// The outcome of a pitch (optional column `result`).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, PartialOrd, Ord, Hash, Serialize)]
-#[serde(rename_all = "snake_case")]
-pub enum PitchResult {
-    Ball,
-    CalledStrike,
-    SwingingStrike,
-    Foul,
-    InPlay,
-    HitByPitch,
-    Other,
-}
-
-impl PitchResult {
-    pub const ALL: [PitchResult; 7] = [
-        PitchResult::Ball,
-        PitchResult::CalledStrike,
-        PitchResult::SwingingStrike,
-        PitchResult::Foul,
-        PitchResult::InPlay,
-        PitchResult::HitByPitch,
-        PitchResult::Other,
-    ];
-
-    pub fn as_str(self) -> &'static str {
-        match self {
-            PitchResult::Ball => "ball",
-            PitchResult::CalledStrike => "called_strike",
-            PitchResult::SwingingStrike => "swinging_strike",
-            PitchResult::Foul => "foul",
-            PitchResult::InPlay => "in_play",
-            PitchResult::HitByPitch => "hit_by_pitch",
-            PitchResult::Other => "other",
-        }
-    }
-
-    pub fn parse(s: &str) -> Option<PitchResult> {
-        let s = s.trim().to_ascii_lowercase();
-        PitchResult::ALL.iter().copied().find(|r| r.as_str() == s)
-    }
-}
 
 /// One rejected input row: where, which column, the value and why.
 #[derive(Debug, Clone, PartialEq, Eq, Serialize)]

@@ -2,8 +2,8 @@
 //! contract column and a reason that says what is allowed; the value itself
 //! is kept beside it, so reasons group cleanly in `check`.
 
-use super::PitchResult;
-use crate::situations::levels::Hand;
+use crate::domain::PitchResult;
+use crate::domain::levels::Hand;
 
 /// A row's values that passed every rule.
 pub struct ParsedRow<'a> {

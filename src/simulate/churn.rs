@@ -22,7 +22,7 @@ use super::scenario::{
     label_order, normalise, League, Mix, MixChange, MixChangeKind, PitcherSpec, Role, Scenario,
     PLAIN_LABELS,
 };
-use crate::situations::levels::Factor;
+use crate::domain::levels::Factor;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 

@@ -22,7 +22,7 @@ use super::flight;
 use super::roster::{Roster, SeasonPlan, Team, NO_PREV};
 use super::scenario::{Outcomes, Scenario};
 use super::{PitchResult, SimGame, SimPitch};
-use crate::situations::levels::{
+use crate::domain::levels::{
     bases_index, count_index, inning_index, platoon_index, score_index, times_through_index, Hand,
 };
 use rand::{Rng, SeedableRng};
@@ -529,7 +529,8 @@ impl<'a> Game<'a> {
                 // A foul with two strikes leaves the count alone.
                 PitchResult::Foul => strikes = (strikes + 1).min(2),
                 PitchResult::InPlay => break PaEnd::InPlay,
-                PitchResult::HitByPitch => break PaEnd::HitByPitch,
+                // The engine never draws `other`.
+                PitchResult::HitByPitch | PitchResult::Other => break PaEnd::HitByPitch,
             }
         };
         let runs = match end {

@@ -14,7 +14,7 @@
 //! and roughly 1.5 to 3.5 ft in height.
 
 use super::PitchResult;
-use crate::situations::levels::Hand;
+use crate::domain::levels::Hand;
 use rand::Rng;
 use rand_chacha::ChaCha8Rng;
 
@@ -105,7 +105,7 @@ pub(crate) fn draw(
             (s, h)
         }
         PitchResult::SwingingStrike => (drift + 0.6 * n(), profile.height - 0.2 + 0.7 * n()),
-        PitchResult::Foul | PitchResult::InPlay => (
+        PitchResult::Foul | PitchResult::InPlay | PitchResult::Other => (
             drift * 0.7 + 0.5 * n(),
             0.5 * (profile.height + 2.5) + 0.5 * n(),
         ),

@@ -21,56 +21,16 @@ mod engine;
 mod flight;
 mod roster;
 pub mod scenario;
+pub mod write;
 
 pub use scenario::{
     BatterPool, Date, Habits, LabelChange, League, LeagueChurn, Mix, MixChange, MixChangeKind,
     Outcomes, PitcherSpec, Role, Rule, Scenario, Season,
 };
 
-use crate::situations::levels::{Factor, Hand};
+use crate::domain::levels::{Factor, Hand};
+pub use crate::domain::PitchResult;
 use std::collections::BTreeMap;
-
-/// The outcome of a pitch (CONTRACT §1 `result` spellings).
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash, PartialOrd, Ord)]
-pub enum PitchResult {
-    Ball,
-    CalledStrike,
-    SwingingStrike,
-    Foul,
-    InPlay,
-    HitByPitch,
-}
-
-impl PitchResult {
-    pub const ALL: [PitchResult; 6] = [
-        PitchResult::Ball,
-        PitchResult::CalledStrike,
-        PitchResult::SwingingStrike,
-        PitchResult::Foul,
-        PitchResult::InPlay,
-        PitchResult::HitByPitch,
-    ];
-
-    /// The contract's spelling, from the one list the reader checks against.
-    pub fn as_str(self) -> &'static str {
-        crate::ingest::PitchResult::from(self).as_str()
-    }
-}
-
-/// The engine's outcomes are the contract's `result` values but `other`.
-impl From<PitchResult> for crate::ingest::PitchResult {
-    fn from(r: PitchResult) -> Self {
-        use crate::ingest::PitchResult as Logged;
-        match r {
-            PitchResult::Ball => Logged::Ball,
-            PitchResult::CalledStrike => Logged::CalledStrike,
-            PitchResult::SwingingStrike => Logged::SwingingStrike,
-            PitchResult::Foul => Logged::Foul,
-            PitchResult::InPlay => Logged::InPlay,
-            PitchResult::HitByPitch => Logged::HitByPitch,
-        }
-    }
-}
 
 /// The side a batter hits from. A switch hitter bats from the side opposite
 /// the pitcher's hand, so the row's `bats` is always `L` or `R`.

@@ -4,7 +4,7 @@
 use super::flight::{self, PitchProfile};
 use super::scenario::{label_order, normalise, Habits, Mix, PitcherSpec, Role, Rule, Scenario};
 use super::{BatSide, PlantedTell, SeasonMix, SimBatter, SimPitcher};
-use crate::situations::levels::{Factor, Hand, NO_PREV_PITCH};
+use crate::domain::levels::{Factor, Hand, NO_PREV_PITCH};
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 use std::collections::{BTreeMap, BTreeSet};

@@ -146,7 +146,7 @@
 //! Every game date must find at least one starter and one reliever on the
 //! staff.
 
-use crate::situations::levels::{Factor, Hand, COUNTS, NO_PREV_PITCH};
+use crate::domain::levels::{Factor, Hand, COUNTS, NO_PREV_PITCH};
 use serde::Deserialize;
 use std::collections::{BTreeMap, BTreeSet};
 use std::fmt;

@@ -1,12 +1,10 @@
 //! Situations: every pitch of an ordered log turned into the factor levels of
 //! CONTRACT §2. Codes are small integers per factor; [`UNKNOWN`] marks a row
 //! whose source value is missing (an empty optional cell).
-
-pub mod levels;
 pub mod regions;
 
 use crate::ingest::PitchLog;
-use levels::*;
+use crate::domain::levels::*;
 use serde::Serialize;
 use std::collections::HashMap;
 

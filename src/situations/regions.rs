@@ -24,7 +24,7 @@
 //! - **A pitch outside the zone** is in the chase region of the edge it
 //!   misses by most (high, low, in, away; ties in that order).
 
-use super::levels::Hand;
+use crate::domain::levels::Hand;
 
 /// Half the width of the zone, ft: half the plate (8.5 in) plus a ball's
 /// radius (about 1.45 in).

@@ -48,9 +48,9 @@ pub fn write_frame(df: &mut DataFrame, path: &Path) -> Result<()> {
     }
     let tmp = path.with_extension(format!("partial-{}", std::process::id()));
     let file = std::fs::File::create(&tmp).map_err(|e| Error::io(&tmp, "create", e))?;
-    let res = match super::read::Format::of(path) {
-        super::read::Format::Csv => CsvWriter::new(file).include_header(true).finish(df),
-        super::read::Format::Parquet => ParquetWriter::new(file)
+    let res = match crate::ingest::read::Format::of(path) {
+        crate::ingest::read::Format::Csv => CsvWriter::new(file).include_header(true).finish(df),
+        crate::ingest::read::Format::Parquet => ParquetWriter::new(file)
             .with_compression(ParquetCompression::Zstd(None))
             .with_statistics(StatisticsOptions::empty())
             .finish(df)

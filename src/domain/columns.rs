@@ -1,0 +1,11 @@
+//! The log's column names (CONTRACT §1), in the order the reader checks them.
+
+/// The contract's column names (CONTRACT §1).
+pub const REQUIRED_COLUMNS: [&str; 14] = [
+    "game", "date", "pitcher", "throws", "batter", "bats", "inning", "outs", "balls", "strikes",
+    "on_first", "on_second", "on_third", "pitch_type",
+];
+pub const OPTIONAL_COLUMNS: [&str; 9] = [
+    "season", "pa", "pitch_no", "score_diff", "result", "speed_mph", "loc_side_ft",
+    "loc_height_ft", "team",
+];
