@@ -165,7 +165,11 @@ fn bin_scaled(x: f64) -> u8 {
     (x + 0.5).clamp(0.0, PRIOR_BINS as f64) as u8
 }
 
-/// Fit every fold on `labels` and score the held-out rows.
+/// Fit every fold on `labels` and score the held-out rows. Per fold: the
+/// rows' table places, the training counts and usage, the prior features'
+/// codes, the grown tree and its kept nodes' probabilities, the sheet, and
+/// the held-out sums (with each row's probabilities when `keep_trees`, the
+/// observed fit, which also checks its shortcuts against the plain way).
 pub fn fit_and_score(
     task: &PitcherTask,
     labels: &[u8],
@@ -175,7 +179,6 @@ pub fn fit_and_score(
 ) -> Scored {
     let k = task.n_classes;
     let mut out = Scored { n_classes: k, ..Scored::default() };
-    let prior_col0 = task.n_situational;
     if ws.criticals.alpha() != settings.split_alpha {
         ws.criticals = crate::model::prune::Criticals::new(settings.split_alpha);
     }
@@ -183,78 +186,132 @@ pub fn fit_and_score(
         if fold.test.is_empty() {
             continue;
         }
-        let parts = OOF_FOLDS + 1; // the OOF parts, then "all training rows"
-        let (gc, gb) = (ws.count_all.n_groups, ws.batter_all.n_groups);
-        // Each row's place in the two code tables depends only on its game
-        // fold, count and batter, so it is worked out once per fold, with
-        // the table entries some row uses (only those are computed).
-        if ws.row_slots[fi].is_empty() {
-            let slot = |r: u32, train: bool| {
-                let r = r as usize;
-                let part = if train { task.oof[r] as usize } else { OOF_FOLDS };
-                (r as u32, ((part * gc + task.count[r] as usize) * k) as u32, ((part * gb + task.batter[r] as usize) * k) as u32)
-            };
-            let slots: Vec<(u32, u32, u32)> =
-                fold.train.iter().map(|&r| slot(r, true)).chain(fold.test.iter().map(|&r| slot(r, false))).collect();
-            let used = |at: &dyn Fn(&(u32, u32, u32)) -> u32, g: usize| {
-                let mut seen = vec![false; parts * g];
-                for s in &slots {
-                    seen[at(s) as usize / k] = true;
-                }
-                (0..parts * g).filter(|&e| seen[e]).map(|e| e as u32).collect::<Vec<u32>>()
-            };
-            let used_b = if task.prior_features { used(&|s| s.2, gb) } else { Vec::new() };
-            ws.used_entries[fi] = (used(&|s| s.1, gc), used_b);
-            ws.row_slots[fi] = slots;
+        ws.place_rows(task, fi);
+        let usage = ws.count_training(task, fi, labels);
+        let strengths = ws.prior_code_tables(task, fi, &usage.probs, settings);
+        let (grown, m) = ws.grow(task, fi, settings, keep_trees);
+        ws.node_probabilities(&grown, &usage.probs, m, settings);
+        // The sheet an opponent keeps (scored for the observed fit and the
+        // beyond-the-sheet test).
+        let with_sheet = keep_trees || ws.want_sheet;
+        if with_sheet {
+            ws.sheet_logs(task, fi, labels, &usage.probs, settings);
         }
-        // Counted per game fold; the training totals are their sums. A
-        // training row's table place is also its place in the flat counts
-        // of all game folds. The same pass gathers the labels for the tree.
-        let n_train = fold.train.len();
-        ws.train_labels.clear();
-        ws.flat_count.clear();
-        ws.flat_count.resize(OOF_FOLDS * gc * k, 0);
-        // Without prior features the batter table feeds nothing: it is
-        // neither counted nor shrunk (its strength is reported as 0).
-        let priors_on = task.prior_features;
-        if priors_on {
-            ws.flat_batter.clear();
-            ws.flat_batter.resize(OOF_FOLDS * gb * k, 0);
+        if keep_trees {
+            // The observed fit checks the leaves found while growing against
+            // walking each held-out row down the finished tree.
+            let leaves = ws.trees[fi].as_ref().expect("the fold's learner is prepared").scored_leaves();
+            ws.flat.rebuild(&grown);
+            ws.flat.leaves(&ws.x, &fold.test, &mut ws.leaves);
+            assert_eq!(ws.leaves, leaves, "held-out leaves from growing disagree with the tree");
         }
-        for &(r, cb, bb) in &ws.row_slots[fi][..n_train] {
-            let y = labels[r as usize];
-            ws.flat_count[cb as usize + y as usize] += 1;
-            if priors_on {
-                ws.flat_batter[bb as usize + y as usize] += 1;
+        ws.score_fold(&mut out, task, fi, labels, &usage, settings, with_sheet, keep_trees);
+        if with_sheet && ws.sheet_fixed {
+            std::mem::swap(&mut ws.sheet_log, &mut ws.sheet_cache[fi]);
+        }
+        if keep_trees {
+            let tree = if settings.split_alpha < 1.0 {
+                crate::model::prune::prune_fast(&grown, &mut ws.criticals, m).0
+            } else {
+                grown.clone()
+            };
+            out.trees.push(tree);
+            out.usage.push(usage);
+            out.strengths.push(strengths);
+        }
+    }
+    out
+}
+
+/// The OOF parts, then "all training rows".
+const PARTS: usize = OOF_FOLDS + 1;
+
+impl Workspace {
+    /// Each row's place in the two code tables depends only on its game
+    /// fold, count and batter, so it is worked out once per fold, with the
+    /// table entries some row uses (only those are computed).
+    fn place_rows(&mut self, task: &PitcherTask, fi: usize) {
+        if !self.row_slots[fi].is_empty() {
+            return;
+        }
+        let fold = &task.folds[fi];
+        let k = task.n_classes;
+        let (gc, gb) = (self.count_all.n_groups, self.batter_all.n_groups);
+        let slot = |r: u32, train: bool| {
+            let r = r as usize;
+            let part = if train { task.oof[r] as usize } else { OOF_FOLDS };
+            (r as u32, ((part * gc + task.count[r] as usize) * k) as u32, ((part * gb + task.batter[r] as usize) * k) as u32)
+        };
+        let slots: Vec<(u32, u32, u32)> =
+            fold.train.iter().map(|&r| slot(r, true)).chain(fold.test.iter().map(|&r| slot(r, false))).collect();
+        let used = |at: &dyn Fn(&(u32, u32, u32)) -> u32, g: usize| {
+            let mut seen = vec![false; PARTS * g];
+            for s in &slots {
+                seen[at(s) as usize / k] = true;
             }
-            ws.train_labels.push(y);
+            (0..PARTS * g).filter(|&e| seen[e]).map(|e| e as u32).collect::<Vec<u32>>()
+        };
+        let used_b = if task.prior_features { used(&|s| s.2, gb) } else { Vec::new() };
+        self.used_entries[fi] = (used(&|s| s.1, gc), used_b);
+        self.row_slots[fi] = slots;
+    }
+
+    /// The fold's training counts, per game fold (the training totals are
+    /// their sums), and his usage on the training rows. A training row's
+    /// table place is also its place in the flat counts of all game folds;
+    /// the same pass gathers the labels for the tree. Without prior
+    /// features the batter table feeds nothing: it is neither counted nor
+    /// shrunk.
+    fn count_training(&mut self, task: &PitcherTask, fi: usize, labels: &[u8]) -> UsagePrior {
+        let k = task.n_classes;
+        let n_train = task.folds[fi].train.len();
+        let (gc, gb) = (self.count_all.n_groups, self.batter_all.n_groups);
+        let priors_on = task.prior_features;
+        self.train_labels.clear();
+        self.flat_count.clear();
+        self.flat_count.resize(OOF_FOLDS * gc * k, 0);
+        if priors_on {
+            self.flat_batter.clear();
+            self.flat_batter.resize(OOF_FOLDS * gb * k, 0);
         }
-        for (o, (c, b)) in ws.count_oof.iter_mut().zip(&mut ws.batter_oof).enumerate() {
-            c.counts.copy_from_slice(&ws.flat_count[o * gc * k..(o + 1) * gc * k]);
+        for &(r, cb, bb) in &self.row_slots[fi][..n_train] {
+            let y = labels[r as usize];
+            self.flat_count[cb as usize + y as usize] += 1;
+            if priors_on {
+                self.flat_batter[bb as usize + y as usize] += 1;
+            }
+            self.train_labels.push(y);
+        }
+        for (o, (c, b)) in self.count_oof.iter_mut().zip(&mut self.batter_oof).enumerate() {
+            c.counts.copy_from_slice(&self.flat_count[o * gc * k..(o + 1) * gc * k]);
             c.fill_totals();
             if priors_on {
-                b.counts.copy_from_slice(&ws.flat_batter[o * gb * k..(o + 1) * gb * k]);
+                b.counts.copy_from_slice(&self.flat_batter[o * gb * k..(o + 1) * gb * k]);
                 b.fill_totals();
             }
         }
-        ws.count_all.set_sum(&ws.count_oof);
+        self.count_all.set_sum(&self.count_oof);
         if priors_on {
-            ws.batter_all.set_sum(&ws.batter_oof);
+            self.batter_all.set_sum(&self.batter_oof);
         }
-        // His usage on the training rows: the count table's class sums.
-        let usage = UsagePrior::from_counts(ws.count_all.class_totals());
-        let mix = &usage.probs;
-        let s_count = priors::strength(&ws.count_all, mix, settings.prior_strength);
-        let s_batter = if priors_on { priors::strength(&ws.batter_all, mix, settings.prior_strength) } else { 0.0 };
-        let n_rows = task.x.n_rows;
-        // Prior features: out-of-fold for training rows, full training
-        // counts for scored rows (they are never in the training counts).
-        // A feature's code depends only on (fold part, group, class), so the
-        // codes are tabled per used (part, group) first and rows only look
-        // them up.
+        // His usage: the count table's class sums.
+        UsagePrior::from_counts(self.count_all.class_totals())
+    }
+
+    /// The prior features' code tables of the fold: out-of-fold for
+    /// training rows, full training counts for scored rows (they are never
+    /// in the training counts). A feature's code depends only on (fold
+    /// part, group, class), so the codes are tabled per used (part, group)
+    /// and rows only look them up. Returns the count and batter tables'
+    /// strengths (the batter's is 0 without prior features).
+    fn prior_code_tables(&mut self, task: &PitcherTask, fi: usize, mix: &[f64], settings: &Settings) -> (f64, f64) {
+        let k = task.n_classes;
+        let priors_on = task.prior_features;
+        let s_count = priors::strength(&self.count_all, mix, settings.prior_strength);
+        let s_batter = if priors_on { priors::strength(&self.batter_all, mix, settings.prior_strength) } else { 0.0 };
         let code_table = |all: &GroupCounts, oof: &[GroupCounts], s: f64, used: &[u32], table: &mut Vec<u8>| {
             let g = all.n_groups;
-            table.resize(parts * g * k, 0);
+            table.resize(PARTS * g * k, 0);
             let sm: Vec<f64> = mix.iter().map(|m| s * m).collect();
             for &e in used {
                 let (part, grp) = (e as usize / g, e as usize % g);
@@ -273,24 +330,36 @@ pub fn fit_and_score(
                 }
             }
         };
-        let (used_c, used_b) = &ws.used_entries[fi];
         if priors_on {
-            code_table(&ws.count_all, &ws.count_oof, s_count, used_c, &mut ws.count_codes);
-            code_table(&ws.batter_all, &ws.batter_oof, s_batter, used_b, &mut ws.batter_codes);
+            let (used_c, used_b) = &self.used_entries[fi];
+            code_table(&self.count_all, &self.count_oof, s_count, used_c, &mut self.count_codes);
+            code_table(&self.batter_all, &self.batter_oof, s_batter, used_b, &mut self.batter_codes);
         }
-        // The codes go straight into the prepared learner (training and
-        // held-out rows), except on a workspace's first fit, which prepares
-        // the learner from the matrix, and on the observed fit, whose checks
-        // below read the matrix.
-        let (cc, bc) = (&ws.count_codes, &ws.batter_codes);
-        if priors_on && (ws.trees[fi].is_none() || keep_trees) {
-            let codes = &mut ws.x.codes;
+        (s_count, s_batter)
+    }
+
+    /// Grow the fold's tree on the training labels: the prior codes go
+    /// straight into the prepared learner (training and held-out rows),
+    /// except on a workspace's first fit, which prepares the learner from
+    /// the matrix, and on the observed fit, whose checks read the matrix.
+    /// Returns the grown tree and its candidate splits (for pruning).
+    fn grow(&mut self, task: &PitcherTask, fi: usize, settings: &Settings, keep_trees: bool) -> (Tree, usize) {
+        let fold = &task.folds[fi];
+        let k = task.n_classes;
+        let prior_col0 = task.n_situational;
+        let priors_on = task.prior_features;
+        let n_rows = task.x.n_rows;
+        let n_train = fold.train.len();
+        let (gc, gb) = (self.count_all.n_groups, self.batter_all.n_groups);
+        let (cc, bc) = (&self.count_codes, &self.batter_codes);
+        if priors_on && (self.trees[fi].is_none() || keep_trees) {
+            let codes = &mut self.x.codes;
             for cls in 0..k {
                 let (fc, fb) = (prior_col0 + cls, prior_col0 + k + cls);
                 let (head, tail) = codes.split_at_mut(fb * n_rows);
                 let col_c = &mut head[fc * n_rows..(fc + 1) * n_rows];
                 let col_b = &mut tail[..n_rows];
-                for &(r, cb, bb) in &ws.row_slots[fi] {
+                for &(r, cb, bb) in &self.row_slots[fi] {
                     col_c[r as usize] = cc[cb as usize + cls];
                     col_b[r as usize] = bc[bb as usize + cls];
                 }
@@ -298,8 +367,8 @@ pub fn fit_and_score(
         }
         // The held-out rows' prior codes are read through the code tables
         // themselves (a held-out row's key is its table entry).
-        let (train, test) = ws.row_slots[fi].split_at(n_train);
-        let learner = match &mut ws.trees[fi] {
+        let (train, test) = self.row_slots[fi].split_at(n_train);
+        let learner = match &mut self.trees[fi] {
             Some(t) => {
                 if priors_on {
                     t.rewrite_features(prior_col0..prior_col0 + 2 * k, |_, dst| prior_codes(cc, bc, k, train, dst));
@@ -308,13 +377,13 @@ pub fn fit_and_score(
             }
             slot @ None => {
                 let mut t = crate::model::fast_tree::FastTreeWorkspace::with_options(settings.tree, AuditTree::options());
-                t.prepare(&ws.x, &fold.train);
-                t.prepare_scored(&ws.x, &fold.test);
+                t.prepare(&self.x, &fold.train);
+                t.prepare_scored(&self.x, &fold.test);
                 if priors_on {
                     let keys = |at: fn(&(u32, u32, u32)) -> u32| test.iter().map(|s| at(s) / k as u32).collect::<Vec<u32>>();
-                    let g = t.set_scored_keys(prior_col0..prior_col0 + k, &keys(|s| s.1), parts * gc);
+                    let g = t.set_scored_keys(prior_col0..prior_col0 + k, &keys(|s| s.1), PARTS * gc);
                     debug_assert_eq!(g, 0);
-                    let g = t.set_scored_keys(prior_col0 + k..prior_col0 + 2 * k, &keys(|s| s.2), parts * gb);
+                    let g = t.set_scored_keys(prior_col0 + k..prior_col0 + 2 * k, &keys(|s| s.2), PARTS * gb);
                     debug_assert_eq!(g, 1);
                 }
                 slot.insert(t)
@@ -324,71 +393,91 @@ pub fn fit_and_score(
             learner.scored_table(0).copy_from_slice(cc);
             learner.scored_table(1).copy_from_slice(bc);
         }
-        let grown = learner.fit(&ws.train_labels, k);
-        let leaves = learner.scored_leaves();
-        // Pruning is read off the grown tree: each grown node's kept node
-        // (a kept node's smoothed probabilities are the same on either tree).
+        let grown = learner.fit(&self.train_labels, k);
         // Candidate splits among the prior features: one fewer than their
         // distinct codes over the training rows, as the learner found them.
-        let m = ws.situational_candidates[fi] + ws.prior_features.iter().map(|&f| learner.cuts_of(f)).sum::<usize>();
+        let m = self.situational_candidates[fi] + self.prior_features.iter().map(|&f| learner.cuts_of(f)).sum::<usize>();
         if keep_trees {
             // The observed fit checks the shortcut against the plain count.
             assert_eq!(
                 m,
-                ws.situational_candidates[fi] + crate::model::prune::candidate_splits(&ws.x, &ws.prior_features, &fold.train),
+                self.situational_candidates[fi] + crate::model::prune::candidate_splits(&self.x, &self.prior_features, &fold.train),
                 "candidate splits from the code tables disagree with the rows"
             );
         }
+        (grown, m)
+    }
+
+    /// The grown tree's kept node for each node (pruning is read off the
+    /// grown tree: a kept node's smoothed probabilities are the same on
+    /// either tree), each node's probabilities smoothed and blended toward
+    /// his mix, their logs and top class. The statistic is summed the same
+    /// way for the real labels and every permutation (logs of each node's
+    /// probabilities taken once), so a refit that reproduces the observed
+    /// model ties with it exactly.
+    fn node_probabilities(&mut self, grown: &Tree, mix: &[f64], m: usize, settings: &Settings) {
+        let k = grown.n_classes;
         if settings.split_alpha < 1.0 {
-            crate::model::prune::kept_nodes(&grown, &mut ws.criticals, m, &mut ws.collapsed, &mut ws.kept);
+            crate::model::prune::kept_nodes(grown, &mut self.criticals, m, &mut self.collapsed, &mut self.kept);
         } else {
-            ws.kept.clear();
-            ws.kept.extend(0..grown.nodes.len());
+            self.kept.clear();
+            self.kept.extend(0..grown.nodes.len());
         }
-        smoothed_node_probs_into(&grown, mix, settings.leaf_smoothing, &mut ws.parent, &mut ws.grown_p);
-        blend_toward(&mut ws.grown_p, mix, settings.prior_blend);
-        // The statistic is summed the same way for the real labels and every
-        // permutation (logs of each node's probabilities taken once), so a
-        // refit that reproduces the observed model ties with it exactly.
+        smoothed_node_probs_into(grown, mix, settings.leaf_smoothing, &mut self.parent, &mut self.grown_p);
+        blend_toward(&mut self.grown_p, mix, settings.prior_blend);
         let nn = grown.nodes.len();
-        ws.log_p.clear();
-        ws.log_p.extend(ws.grown_p.iter().map(|x| x.log2()));
-        ws.top.clear();
-        ws.top.extend((0..nn).map(|i| argmax(&ws.grown_p[i * k..(i + 1) * k])));
+        self.log_p.clear();
+        self.log_p.extend(self.grown_p.iter().map(|x| x.log2()));
+        self.top.clear();
+        self.top.extend((0..nn).map(|i| argmax(&self.grown_p[i * k..(i + 1) * k])));
+    }
+
+    /// The sheet an opponent keeps: his training mix by count × batter
+    /// side, each cell shrunk toward his mix by the empirical-Bayes
+    /// Dirichlet strength (as the count prior), logs tabled per cell; taken
+    /// from the cache when the sheet is fixed across refits.
+    fn sheet_logs(&mut self, task: &PitcherTask, fi: usize, labels: &[u8], mix: &[f64], settings: &Settings) {
+        if self.sheet_fixed && !self.sheet_cache[fi].is_empty() {
+            std::mem::swap(&mut self.sheet_log, &mut self.sheet_cache[fi]);
+            return;
+        }
+        self.sheet.clear();
+        for &r in &task.folds[fi].train {
+            self.sheet.add(task.cell[r as usize] as usize, labels[r as usize] as usize);
+        }
+        let s_sheet = priors::strength(&self.sheet, mix, settings.prior_strength);
+        self.sheet_log.clear();
+        for g in 0..24 {
+            for cls in 0..task.n_classes {
+                self.sheet_log.push(self.sheet.shrunk(g, cls, mix, s_sheet).log2());
+            }
+        }
+    }
+
+    /// Add the fold's held-out rows to `out`'s sums (row order, on from the
+    /// earlier folds'). A type he threw under `new_type_share` of the
+    /// training pitches is new to him: neither guess can know it, so its
+    /// held-out pitches are counted (`unseen`) and left out of the figures,
+    /// the same way for the real labels and every permutation.
+    #[allow(clippy::too_many_arguments)]
+    fn score_fold(
+        &self,
+        out: &mut Scored,
+        task: &PitcherTask,
+        fi: usize,
+        labels: &[u8],
+        usage: &UsagePrior,
+        settings: &Settings,
+        with_sheet: bool,
+        keep_trees: bool,
+    ) {
+        let fold = &task.folds[fi];
+        let k = task.n_classes;
+        let mix = &usage.probs;
         let lp: Vec<f64> = mix.iter().map(|x| x.log2()).collect();
         let top = argmax(mix);
-        // The sheet an opponent keeps: his training mix by count × batter
-        // side, each cell shrunk toward his mix by the empirical-Bayes
-        // Dirichlet strength (as the count prior), logs tabled per cell.
-        let with_sheet = keep_trees || ws.want_sheet;
-        if with_sheet && ws.sheet_fixed && !ws.sheet_cache[fi].is_empty() {
-            std::mem::swap(&mut ws.sheet_log, &mut ws.sheet_cache[fi]);
-        } else if with_sheet {
-            ws.sheet.clear();
-            for &r in &fold.train {
-                ws.sheet.add(task.cell[r as usize] as usize, labels[r as usize] as usize);
-            }
-            let s_sheet = priors::strength(&ws.sheet, mix, settings.prior_strength);
-            ws.sheet_log.clear();
-            for g in 0..24 {
-                for cls in 0..k {
-                    ws.sheet_log.push(ws.sheet.shrunk(g, cls, mix, s_sheet).log2());
-                }
-            }
-        }
-        if keep_trees {
-            // The observed fit checks the leaves found while growing against
-            // walking each held-out row down the finished tree.
-            ws.flat.rebuild(&grown);
-            ws.flat.leaves(&ws.x, &fold.test, &mut ws.leaves);
-            assert_eq!(ws.leaves, leaves, "held-out leaves from growing disagree with the tree");
-        }
-        // A type he threw under `new_type_share` of the training pitches is
-        // new to him: neither guess can know it, so its held-out pitches are
-        // counted (`unseen`) and left out of the figures, the same way for
-        // the real labels and every permutation.
-        let new_below = ((settings.new_type_share * n_train as f64).ceil() as u32).max(1);
-        // The sums run in locals (row order, on from the earlier folds').
+        let leaves = self.trees[fi].as_ref().expect("the fold's learner is prepared").scored_leaves();
+        let new_below = ((settings.new_type_share * fold.train.len() as f64).ceil() as u32).max(1);
         let mut t = out.totals;
         for (&r, &g) in fold.test.iter().zip(leaves) {
             let g = g as usize;
@@ -397,42 +486,24 @@ pub fn fit_and_score(
                 out.unseen += 1;
                 continue;
             }
-            let leaf = ws.kept[g];
+            let leaf = self.kept[g];
             t.n += 1;
-            t.bits += ws.log_p[leaf * k + y] - lp[y];
-            t.bits_grown += ws.log_p[g * k + y] - lp[y];
+            t.bits += self.log_p[leaf * k + y] - lp[y];
+            t.bits_grown += self.log_p[g * k + y] - lp[y];
             if with_sheet {
-                t.sheet_bits += ws.sheet_log[task.cell[r as usize] as usize * k + y] - lp[y];
+                t.sheet_bits += self.sheet_log[task.cell[r as usize] as usize * k + y] - lp[y];
             }
             let pr = (top == y) as i64;
-            t.acc += (ws.top[leaf] == y) as i64 - pr;
-            t.acc_grown += (ws.top[g] == y) as i64 - pr;
+            t.acc += (self.top[leaf] == y) as i64 - pr;
+            t.acc_grown += (self.top[g] == y) as i64 - pr;
             if keep_trees {
                 out.rows.push(r);
-                out.model.extend_from_slice(&ws.grown_p[leaf * k..(leaf + 1) * k]);
+                out.model.extend_from_slice(&self.grown_p[leaf * k..(leaf + 1) * k]);
                 out.prior.extend_from_slice(mix);
             }
         }
         out.totals = t;
-        if with_sheet && ws.sheet_fixed {
-            std::mem::swap(&mut ws.sheet_log, &mut ws.sheet_cache[fi]);
-        }
-        let tree = if keep_trees {
-            if settings.split_alpha < 1.0 {
-                crate::model::prune::prune_fast(&grown, &mut ws.criticals, m).0
-            } else {
-                grown.clone()
-            }
-        } else {
-            Tree { nodes: Vec::new(), n_classes: k }
-        };
-        if keep_trees {
-            out.trees.push(tree);
-            out.usage.push(usage);
-            out.strengths.push((s_count, s_batter));
-        }
     }
-    out
 }
 
 /// The prior features' codes of the training rows at `slots` (row,
