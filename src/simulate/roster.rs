@@ -2,7 +2,7 @@
 //! and each pitcher's season plan compiled for fast pitch choice.
 
 use super::flight::{self, PitchProfile};
-use super::scenario::{label_order, normalise, Habits, Mix, PitcherSpec, Role, Rule, Scenario};
+use super::scenario::{label_order, normalise, Habits, Mix, PitcherSpec, Role, Rule, Scenario, Season};
 use super::{BatSide, PlantedTell, SeasonMix, SimBatter, SimPitcher};
 use crate::domain::levels::{Factor, Hand, NO_PREV_PITCH};
 use rand::{Rng, SeedableRng};
@@ -229,40 +229,7 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
         .map(|(p, team)| club_stints(scenario, p, *team))
         .collect();
     if let Some(league) = &scenario.league {
-        for _ in 0..league.teams {
-            let team = teams.len();
-            let mut starters = Vec::new();
-            let mut relievers = Vec::new();
-            for k in 0..league.starters + league.relievers {
-                let role = if k < league.starters {
-                    Role::Starter
-                } else {
-                    Role::Reliever
-                };
-                let spec = generated_pitcher(
-                    &mut rng,
-                    &mut names,
-                    role,
-                    league.planted_share,
-                    league.churn.full_arsenal,
-                );
-                let idx = specs.len() as u32;
-                if role == Role::Starter {
-                    starters.push(idx)
-                } else {
-                    relievers.push(idx)
-                }
-                stints.push(club_stints(scenario, &spec, team));
-                specs.push((spec, team));
-            }
-            teams.push(Team {
-                // Numbered like the team's code (T01, ...), the club first.
-                name: format!("Team {:02}", team + 1),
-                code: None,
-                starters,
-                relievers,
-            });
-        }
+        league_staffs(scenario, league, &mut rng, &mut names, &mut specs, &mut stints, &mut teams);
     }
     if several {
         for (i, team) in teams.iter_mut().enumerate() {
@@ -304,67 +271,9 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
         let mut season_plans = Vec::new();
         let habits = scenario.habits.as_ref().filter(|_| spec.habits);
         for season in &scenario.seasons {
-            let mix = spec.mix_in(season.year);
-            let mut rules = Vec::new();
-            for rule in spec.rules.iter().filter(|r| r.active_in(season.year)) {
-                let throw = type_index(&rule.throw);
-                let rest: Mix = mix.iter().filter(|(l, _)| *l != rule.throw).cloned().collect();
-                // With rate 1 the rest is never drawn; keep a valid table anyway.
-                let rest = if rest.is_empty() {
-                    vec![(rule.throw.clone(), 1.0)]
-                } else {
-                    rest
-                };
-                rules.push(CompiledRule {
-                    masks: masks(rule, &type_index),
-                    throw,
-                    rate: rule.rate,
-                    rest: habit_tables(&rest, habits, &type_index),
-                    cost: rule.cost,
-                });
-                // The planted truth lists only seasons he pitched in.
-                let (first, last) = (
-                    season.game_date(0).to_days(),
-                    season.game_date(season.games - 1).to_days(),
-                );
-                if !stints[pi].iter().any(|s| s.from <= last && s.until >= first) {
-                    continue;
-                }
-                planted.push(PlantedTell {
-                    pitcher: pi as u32,
-                    season: season.year,
-                    when: rule.when.clone(),
-                    throw: rule.throw.clone(),
-                    rate: rule.rate,
-                    base_share: mix
-                        .iter()
-                        .find(|(l, _)| *l == rule.throw)
-                        .map_or(0.0, |m| m.1),
-                });
-            }
-            let mut written: Vec<Option<Cdf>> = vec![None; pitch_types.len()];
-            for (from, to) in spec.written_in(season.year) {
-                let coded: Vec<(u16, f64)> = to.iter().map(|(l, s)| (type_index(l), *s)).collect();
-                written[type_index(&from) as usize] = Some(Cdf::new(&coded));
-            }
-            let spots = spec
-                .spots
-                .iter()
-                .filter(|s| s.active_in(season.year))
-                .map(|s| CompiledSpot { masks: masks_of(&s.when, &type_index), pitch: type_index(&s.pitch), region: s.region, rate: s.rate })
-                .collect();
-            season_plans.push(SeasonPlan {
-                mix: habit_tables(&mix, habits, &type_index),
-                rules,
-                spots,
-                zone_share: habits.map_or([super::scenario::PLAIN_ZONE_SHARE; 12], |h| h.zone_share),
-                written,
-                drift: (spec.drift != 0.0 || spec.outing_wobble > 0.0).then(|| (spec.clone(), habits.cloned(), season.year)),
-            });
-            mixes.push(SeasonMix {
-                season: season.year,
-                mix,
-            });
+            let (plan, mix) = season_plan(spec, season, habits, &pitch_types, &type_index, pi, &stints[pi], &mut planted);
+            season_plans.push(plan);
+            mixes.push(mix);
         }
         plans.push(season_plans);
         // Spread of pitchers' velocity around the type average (common
@@ -384,7 +293,148 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
         });
     }
 
-    let pool = &scenario.batters;
+    let batters = batter_pool(&scenario.batters, &mut rng, &mut names);
+
+    let profiles = pitch_types.iter().map(|l| flight::profile(l)).collect();
+    let aims = pitch_types.iter().map(|l| flight::aim(l)).collect();
+    Roster {
+        pitchers,
+        plans,
+        velo_offset,
+        teams,
+        batters,
+        pitch_types,
+        profiles,
+        aims,
+        planted,
+        stints,
+    }
+}
+
+/// The league's generated clubs: each club's starters and relievers, with
+/// their stints.
+fn league_staffs(
+    scenario: &Scenario,
+    league: &super::scenario::League,
+    rng: &mut ChaCha8Rng,
+    names: &mut NameMaker,
+    specs: &mut Vec<(PitcherSpec, usize)>,
+    stints: &mut Vec<Vec<Stint>>,
+    teams: &mut Vec<Team>,
+) {
+    for _ in 0..league.teams {
+        let team = teams.len();
+        let mut starters = Vec::new();
+        let mut relievers = Vec::new();
+        for k in 0..league.starters + league.relievers {
+            let role = if k < league.starters {
+                Role::Starter
+            } else {
+                Role::Reliever
+            };
+            let spec = generated_pitcher(
+                rng,
+                names,
+                role,
+                league.planted_share,
+                league.churn.full_arsenal,
+            );
+            let idx = specs.len() as u32;
+            if role == Role::Starter {
+                starters.push(idx)
+            } else {
+                relievers.push(idx)
+            }
+            stints.push(club_stints(scenario, &spec, team));
+            specs.push((spec, team));
+        }
+        teams.push(Team {
+            // Numbered like the team's code (T01, ...), the club first.
+            name: format!("Team {:02}", team + 1),
+            code: None,
+            starters,
+            relievers,
+        });
+    }
+}
+
+/// A pitcher's plan for one season (his mix as habit tables, compiled
+/// rules and spots, label changes, drift), and his mix; his planted tells
+/// of the season go to `planted` when he pitched in it.
+#[allow(clippy::too_many_arguments)]
+fn season_plan(
+    spec: &PitcherSpec,
+    season: &Season,
+    habits: Option<&Habits>,
+    pitch_types: &[String],
+    type_index: &dyn Fn(&str) -> u16,
+    pi: usize,
+    stints: &[Stint],
+    planted: &mut Vec<PlantedTell>,
+) -> (SeasonPlan, SeasonMix) {
+    let mix = spec.mix_in(season.year);
+    let mut rules = Vec::new();
+    for rule in spec.rules.iter().filter(|r| r.active_in(season.year)) {
+        let throw = type_index(&rule.throw);
+        let rest: Mix = mix.iter().filter(|(l, _)| *l != rule.throw).cloned().collect();
+        // With rate 1 the rest is never drawn; keep a valid table anyway.
+        let rest = if rest.is_empty() {
+            vec![(rule.throw.clone(), 1.0)]
+        } else {
+            rest
+        };
+        rules.push(CompiledRule {
+            masks: masks(rule, &type_index),
+            throw,
+            rate: rule.rate,
+            rest: habit_tables(&rest, habits, &type_index),
+            cost: rule.cost,
+        });
+        // The planted truth lists only seasons he pitched in.
+        let (first, last) = (
+            season.game_date(0).to_days(),
+            season.game_date(season.games - 1).to_days(),
+        );
+        if !stints.iter().any(|s| s.from <= last && s.until >= first) {
+            continue;
+        }
+        planted.push(PlantedTell {
+            pitcher: pi as u32,
+            season: season.year,
+            when: rule.when.clone(),
+            throw: rule.throw.clone(),
+            rate: rule.rate,
+            base_share: mix
+                .iter()
+                .find(|(l, _)| *l == rule.throw)
+                .map_or(0.0, |m| m.1),
+        });
+    }
+    let mut written: Vec<Option<Cdf>> = vec![None; pitch_types.len()];
+    for (from, to) in spec.written_in(season.year) {
+        let coded: Vec<(u16, f64)> = to.iter().map(|(l, s)| (type_index(l), *s)).collect();
+        written[type_index(&from) as usize] = Some(Cdf::new(&coded));
+    }
+    let spots = spec
+        .spots
+        .iter()
+        .filter(|s| s.active_in(season.year))
+        .map(|s| CompiledSpot { masks: masks_of(&s.when, &type_index), pitch: type_index(&s.pitch), region: s.region, rate: s.rate })
+        .collect();
+    let plan = SeasonPlan {
+        mix: habit_tables(&mix, habits, &type_index),
+        rules,
+        spots,
+        zone_share: habits.map_or([super::scenario::PLAIN_ZONE_SHARE; 12], |h| h.zone_share),
+        written,
+        drift: (spec.drift != 0.0 || spec.outing_wobble > 0.0).then(|| (spec.clone(), habits.cloned(), season.year)),
+    };
+    (plan, SeasonMix { season: season.year, mix })
+}
+
+/// The batters: the pool's sides shuffled (so sides are not tied to name
+/// order), each with a made-up name.
+fn batter_pool(pool: &super::scenario::BatterPool, rng: &mut ChaCha8Rng, names: &mut NameMaker) -> Vec<SimBatter> {
     let n = pool.size as usize;
     let n_left = (pool.left * n as f64).round() as usize;
     let n_switch = ((pool.switch * n as f64).round() as usize).min(n - n_left.min(n));
@@ -404,28 +454,13 @@ pub(crate) fn build(scenario: &Scenario, seed: u64) -> Roster {
         let j = rng.random_range(0..=i);
         sides.swap(i, j);
     }
-    let batters = sides
+    sides
         .into_iter()
         .map(|bats| SimBatter {
-            name: names.make(&mut rng),
+            name: names.make(rng),
             bats,
         })
-        .collect();
-
-    let profiles = pitch_types.iter().map(|l| flight::profile(l)).collect();
-    let aims = pitch_types.iter().map(|l| flight::aim(l)).collect();
-    Roster {
-        pitchers,
-        plans,
-        velo_offset,
-        teams,
-        batters,
-        pitch_types,
-        profiles,
-        aims,
-        planted,
-        stints,
-    }
+        .collect()
 }
 
 /// A club pitcher's stints on `team`: each season he is on the staff, from

@@ -900,155 +900,14 @@ fn validate(raw: RawScenario) -> Result<Scenario, String> {
     if raw.season.is_empty() {
         return Err("scenario: no [[season]] table; add one with year, games and start".into());
     }
-    let mut seasons = Vec::new();
-    for s in &raw.season {
-        let at = format!("scenario [[season]] year = {}", s.year);
-        if !(1900..=2999).contains(&s.year) {
-            return Err(format!("{at}: the year must lie in 1900..2999"));
-        }
-        if !(1..=999).contains(&s.games) {
-            return Err(format!("{at}: games = {} must lie in 1..999", s.games));
-        }
-        let start = Date::parse(s.start.trim()).ok_or_else(|| {
-            format!(
-                "{at}: start = \"{}\" is not a date; write it as YYYY-MM-DD",
-                s.start
-            )
-        })?;
-        if start.year != s.year {
-            return Err(format!(
-                "{at}: start = \"{start}\" lies in another year; start the season in {}",
-                s.year
-            ));
-        }
-        let season = Season {
-            year: s.year,
-            games: s.games,
-            start,
-        };
-        let last = season.game_date(s.games - 1);
-        if last.year != s.year {
-            return Err(format!(
-                "{at}: {} games from {start} (six games, then an off day) run to {last}, past the \
-                 year's end; start earlier or play fewer games",
-                s.games
-            ));
-        }
-        if seasons.iter().any(|x: &Season| x.year == s.year) {
-            return Err(format!(
-                "{at}: the season is listed twice; keep one table per year"
-            ));
-        }
-        seasons.push(season);
-    }
-    seasons.sort_by_key(|s| s.year);
+    let seasons = validate_seasons(&raw.season)?;
     let years: Vec<i32> = seasons.iter().map(|s| s.year).collect();
 
-    let b = &raw.batters;
-    if b.pool < 9 {
-        return Err(format!(
-            "scenario [batters]: pool = {} is too small for a lineup; use at least 9",
-            b.pool
-        ));
-    }
-    for (key, v) in [("left", b.left), ("right", b.right), ("switch", b.switch)] {
-        if !(v.is_finite() && (0.0..=1.0).contains(&v)) {
-            return Err(format!(
-                "scenario [batters]: {key} = {v} must be a share in 0..1"
-            ));
-        }
-    }
-    let total = b.left + b.right + b.switch;
-    if (total - 1.0).abs() > 1e-6 {
-        return Err(format!(
-            "scenario [batters]: left + right + switch = {total}; they must add up to 1"
-        ));
-    }
-    let batters = BatterPool {
-        size: b.pool,
-        left: b.left,
-        right: b.right,
-        switch: b.switch,
-    };
+    let batters = validate_batters(&raw.batters)?;
 
     let league = match &raw.league {
         None => None,
-        Some(l) => {
-            if !(1..=99).contains(&l.teams) {
-                return Err(format!(
-                    "scenario [league]: teams = {} must lie in 1..99",
-                    l.teams
-                ));
-            }
-            if !(1..=20).contains(&l.starters) {
-                return Err(format!(
-                    "scenario [league]: starters = {} must lie in 1..20",
-                    l.starters
-                ));
-            }
-            if !(1..=40).contains(&l.relievers) {
-                return Err(format!(
-                    "scenario [league]: relievers = {} must lie in 1..40",
-                    l.relievers
-                ));
-            }
-            if !(l.planted_share.is_finite() && (0.0..=1.0).contains(&l.planted_share)) {
-                return Err(format!(
-                    "scenario [league]: planted_share = {} must be a share in 0..1",
-                    l.planted_share
-                ));
-            }
-            for (key, v) in [
-                ("turnover", l.turnover),
-                ("trades", l.trades),
-                ("injuries", l.injuries),
-                ("adds", l.adds),
-                ("drops", l.drops),
-            ] {
-                if !(v.is_finite() && (0.0..=1.0).contains(&v)) {
-                    return Err(format!(
-                        "scenario [league]: {key} = {v} must be a share in 0..1"
-                    ));
-                }
-            }
-            if !(l.drift.is_finite() && (0.0..=2.0).contains(&l.drift)) {
-                return Err(format!(
-                    "scenario [league]: drift = {} must lie in 0..2 (a log-scale sd)",
-                    l.drift
-                ));
-            }
-            if l.call_ups > 40 {
-                return Err(format!(
-                    "scenario [league]: call_ups = {} must lie in 0..40",
-                    l.call_ups
-                ));
-            }
-            let full_arsenal = match l.arsenal.as_deref().map(str::trim) {
-                None | Some("small") => false,
-                Some("full") => true,
-                Some(other) => {
-                    return Err(format!(
-                        "scenario [league]: arsenal = \"{other}\"; write \"small\" or \"full\""
-                    ))
-                }
-            };
-            Some(League {
-                teams: l.teams,
-                starters: l.starters,
-                relievers: l.relievers,
-                planted_share: l.planted_share,
-                churn: LeagueChurn {
-                    full_arsenal,
-                    turnover: l.turnover,
-                    trades: l.trades,
-                    call_ups: l.call_ups,
-                    injuries: l.injuries,
-                    adds: l.adds,
-                    drops: l.drops,
-                    drift: l.drift,
-                },
-            })
-        }
+        Some(l) => Some(validate_league(l)?),
     };
 
     let habits = match &raw.habits {
@@ -1109,6 +968,161 @@ fn validate(raw: RawScenario) -> Result<Scenario, String> {
         ));
     }
     Ok(scenario)
+}
+
+/// The `[[season]]` tables, in year order.
+fn validate_seasons(raw: &[RawSeason]) -> Result<Vec<Season>, String> {
+    let mut seasons = Vec::new();
+    for s in raw {
+        let at = format!("scenario [[season]] year = {}", s.year);
+        if !(1900..=2999).contains(&s.year) {
+            return Err(format!("{at}: the year must lie in 1900..2999"));
+        }
+        if !(1..=999).contains(&s.games) {
+            return Err(format!("{at}: games = {} must lie in 1..999", s.games));
+        }
+        let start = Date::parse(s.start.trim()).ok_or_else(|| {
+            format!(
+                "{at}: start = \"{}\" is not a date; write it as YYYY-MM-DD",
+                s.start
+            )
+        })?;
+        if start.year != s.year {
+            return Err(format!(
+                "{at}: start = \"{start}\" lies in another year; start the season in {}",
+                s.year
+            ));
+        }
+        let season = Season {
+            year: s.year,
+            games: s.games,
+            start,
+        };
+        let last = season.game_date(s.games - 1);
+        if last.year != s.year {
+            return Err(format!(
+                "{at}: {} games from {start} (six games, then an off day) run to {last}, past the \
+                 year's end; start earlier or play fewer games",
+                s.games
+            ));
+        }
+        if seasons.iter().any(|x: &Season| x.year == s.year) {
+            return Err(format!(
+                "{at}: the season is listed twice; keep one table per year"
+            ));
+        }
+        seasons.push(season);
+    }
+    seasons.sort_by_key(|s| s.year);
+    seasons.sort_by_key(|s| s.year);
+    Ok(seasons)
+}
+
+/// The `[batters]` table: the pool and its sides.
+fn validate_batters(b: &RawBatters) -> Result<BatterPool, String> {
+    if b.pool < 9 {
+        return Err(format!(
+            "scenario [batters]: pool = {} is too small for a lineup; use at least 9",
+            b.pool
+        ));
+    }
+    for (key, v) in [("left", b.left), ("right", b.right), ("switch", b.switch)] {
+        if !(v.is_finite() && (0.0..=1.0).contains(&v)) {
+            return Err(format!(
+                "scenario [batters]: {key} = {v} must be a share in 0..1"
+            ));
+        }
+    }
+    let total = b.left + b.right + b.switch;
+    if (total - 1.0).abs() > 1e-6 {
+        return Err(format!(
+            "scenario [batters]: left + right + switch = {total}; they must add up to 1"
+        ));
+    }
+    Ok(BatterPool {
+        size: b.pool,
+        left: b.left,
+        right: b.right,
+        switch: b.switch,
+    })
+}
+
+/// The `[league]` table: clubs, staffs and the churn between seasons.
+fn validate_league(l: &RawLeague) -> Result<League, String> {
+    if !(1..=99).contains(&l.teams) {
+        return Err(format!(
+            "scenario [league]: teams = {} must lie in 1..99",
+            l.teams
+        ));
+    }
+    if !(1..=20).contains(&l.starters) {
+        return Err(format!(
+            "scenario [league]: starters = {} must lie in 1..20",
+            l.starters
+        ));
+    }
+    if !(1..=40).contains(&l.relievers) {
+        return Err(format!(
+            "scenario [league]: relievers = {} must lie in 1..40",
+            l.relievers
+        ));
+    }
+    if !(l.planted_share.is_finite() && (0.0..=1.0).contains(&l.planted_share)) {
+        return Err(format!(
+            "scenario [league]: planted_share = {} must be a share in 0..1",
+            l.planted_share
+        ));
+    }
+    for (key, v) in [
+        ("turnover", l.turnover),
+        ("trades", l.trades),
+        ("injuries", l.injuries),
+        ("adds", l.adds),
+        ("drops", l.drops),
+    ] {
+        if !(v.is_finite() && (0.0..=1.0).contains(&v)) {
+            return Err(format!(
+                "scenario [league]: {key} = {v} must be a share in 0..1"
+            ));
+        }
+    }
+    if !(l.drift.is_finite() && (0.0..=2.0).contains(&l.drift)) {
+        return Err(format!(
+            "scenario [league]: drift = {} must lie in 0..2 (a log-scale sd)",
+            l.drift
+        ));
+    }
+    if l.call_ups > 40 {
+        return Err(format!(
+            "scenario [league]: call_ups = {} must lie in 0..40",
+            l.call_ups
+        ));
+    }
+    let full_arsenal = match l.arsenal.as_deref().map(str::trim) {
+        None | Some("small") => false,
+        Some("full") => true,
+        Some(other) => {
+            return Err(format!(
+                "scenario [league]: arsenal = \"{other}\"; write \"small\" or \"full\""
+            ))
+        }
+    };
+    Ok(League {
+        teams: l.teams,
+        starters: l.starters,
+        relievers: l.relievers,
+        planted_share: l.planted_share,
+        churn: LeagueChurn {
+            full_arsenal,
+            turnover: l.turnover,
+            trades: l.trades,
+            call_ups: l.call_ups,
+            injuries: l.injuries,
+            adds: l.adds,
+            drops: l.drops,
+            drift: l.drift,
+        },
+    })
 }
 
 fn validate_habits(h: &RawHabits) -> Result<Habits, String> {
@@ -1301,9 +1315,93 @@ fn validate_pitcher(
     };
     let mix = parse_mix(&at, "mix", &p.mix)?;
 
+    let (changes, label_changes) = parse_changes(&at, &p.change, years)?;
+
+    let day = |key: &str, text: &Option<String>| -> Result<Option<Date>, String> {
+        match text {
+            None => Ok(None),
+            Some(t) => Date::parse(t.trim()).map(Some).ok_or_else(|| {
+                format!("{at}: {key} = \"{t}\" is not a date; write it as YYYY-MM-DD")
+            }),
+        }
+    };
+    let joins = day("joins", &p.joins)?;
+    let leaves = day("leaves", &p.leaves)?;
+    if let (Some(j), Some(l)) = (joins, leaves) {
+        if j > l {
+            return Err(format!("{at}: joins = {j} is after leaves = {l}; swap them"));
+        }
+    }
+    if let Some(ss) = &p.seasons {
+        if ss.is_empty() {
+            return Err(format!("{at}: `seasons` is empty; list the seasons he pitches for the club"));
+        }
+        for y in ss {
+            if !years.contains(y) {
+                return Err(format!(
+                    "{at}: seasons lists {y}, not a [[season]] of the scenario ({years:?}); use one of them"
+                ));
+            }
+        }
+    }
+    let mut spec = PitcherSpec {
+        name: name.clone(),
+        throws,
+        role,
+        mix,
+        changes,
+        rules: Vec::new(),
+        spots: Vec::new(),
+        label_changes,
+        seasons: p.seasons.clone(),
+        joins,
+        leaves,
+        habits: p.habits.unwrap_or(true),
+        drift: p.drift,
+        outing_wobble: p.outing_wobble,
+    };
+    if !(p.outing_wobble.is_finite() && (0.0..=2.0).contains(&p.outing_wobble)) {
+        return Err(format!("{at}: outing_wobble = {} must lie in 0..2 (a log-scale sd)", p.outing_wobble));
+    }
+    if !(p.drift.is_finite() && p.drift.abs() < 1.0) {
+        return Err(format!("{at}: drift = {} must lie strictly between -1 and 1", p.drift));
+    }
+    for s in seasons.iter().filter(|_| p.drift != 0.0) {
+        let mix = spec.mix_in(s.year);
+        let top = mix.iter().map(|m| m.1).fold(0.0, f64::max);
+        if top + p.drift.abs() / 2.0 >= 1.0 || top - p.drift.abs() / 2.0 <= 0.0 {
+            return Err(format!(
+                "{at}: drift = {} takes his top pitch's {} share ({top:.2}) outside 0..1 within the season; use a smaller drift",
+                p.drift, s.year
+            ));
+        }
+    }
+    if !seasons.iter().any(|s| {
+        (0..s.games).any(|k| spec.on_staff(s.year, s.game_date(k).to_days()))
+    }) {
+        return Err(format!(
+            "{at}: seasons, joins and leaves leave no game he could pitch in; widen them"
+        ));
+    }
+    check_changes(&at, &spec)?;
+    let labels = spec.labels(seasons);
+
+    for (i, r) in p.rule.iter().enumerate() {
+        let rule = parse_rule(&at, i, r, &spec, seasons, years, &labels)?;
+        spec.rules.push(rule);
+    }
+    for (i, r) in p.spot.iter().enumerate() {
+        spec.spots.push(parse_spot(&at, i, r, years, &labels)?);
+    }
+    Ok(spec)
+}
+
+/// A pitcher's `[[pitcher.change]]` tables: mix changes and label changes
+/// (relabels, splits), each in season order.
+fn parse_changes(at: &str, raw: &[RawChange], years: &[i32]) -> Result<(Vec<MixChange>, Vec<LabelChange>), String> {
     let mut changes: Vec<MixChange> = Vec::new();
     let mut label_changes: Vec<LabelChange> = Vec::new();
-    for c in &p.change {
+    for c in raw {
         let cat = format!("{at}, change for season {}", c.season);
         if !years.contains(&c.season) {
             return Err(format!(
@@ -1402,75 +1500,12 @@ fn validate_pitcher(
     }
     changes.sort_by_key(|c| c.season);
     label_changes.sort_by_key(|c| c.season);
+    Ok((changes, label_changes))
+}
 
-    let day = |key: &str, text: &Option<String>| -> Result<Option<Date>, String> {
-        match text {
-            None => Ok(None),
-            Some(t) => Date::parse(t.trim()).map(Some).ok_or_else(|| {
-                format!("{at}: {key} = \"{t}\" is not a date; write it as YYYY-MM-DD")
-            }),
-        }
-    };
-    let joins = day("joins", &p.joins)?;
-    let leaves = day("leaves", &p.leaves)?;
-    if let (Some(j), Some(l)) = (joins, leaves) {
-        if j > l {
-            return Err(format!("{at}: joins = {j} is after leaves = {l}; swap them"));
-        }
-    }
-    if let Some(ss) = &p.seasons {
-        if ss.is_empty() {
-            return Err(format!("{at}: `seasons` is empty; list the seasons he pitches for the club"));
-        }
-        for y in ss {
-            if !years.contains(y) {
-                return Err(format!(
-                    "{at}: seasons lists {y}, not a [[season]] of the scenario ({years:?}); use one of them"
-                ));
-            }
-        }
-    }
-    let mut spec = PitcherSpec {
-        name: name.clone(),
-        throws,
-        role,
-        mix,
-        changes,
-        rules: Vec::new(),
-        spots: Vec::new(),
-        label_changes,
-        seasons: p.seasons.clone(),
-        joins,
-        leaves,
-        habits: p.habits.unwrap_or(true),
-        drift: p.drift,
-        outing_wobble: p.outing_wobble,
-    };
-    if !(p.outing_wobble.is_finite() && (0.0..=2.0).contains(&p.outing_wobble)) {
-        return Err(format!("{at}: outing_wobble = {} must lie in 0..2 (a log-scale sd)", p.outing_wobble));
-    }
-    if !(p.drift.is_finite() && p.drift.abs() < 1.0) {
-        return Err(format!("{at}: drift = {} must lie strictly between -1 and 1", p.drift));
-    }
-    for s in seasons.iter().filter(|_| p.drift != 0.0) {
-        let mix = spec.mix_in(s.year);
-        let top = mix.iter().map(|m| m.1).fold(0.0, f64::max);
-        if top + p.drift.abs() / 2.0 >= 1.0 || top - p.drift.abs() / 2.0 <= 0.0 {
-            return Err(format!(
-                "{at}: drift = {} takes his top pitch's {} share ({top:.2}) outside 0..1 within the season; use a smaller drift",
-                p.drift, s.year
-            ));
-        }
-    }
-    if !seasons.iter().any(|s| {
-        (0..s.games).any(|k| spec.on_staff(s.year, s.game_date(k).to_days()))
-    }) {
-        return Err(format!(
-            "{at}: seasons, joins and leaves leave no game he could pitch in; widen them"
-        ));
-    }
-    // An added pitch must be new in that season (or a trace pitch, under
-    // 1%, becoming a real one); a dropped or relabelled one must be his.
+/// An added pitch must be new in that season (or a trace pitch, under 1%,
+/// becoming a real one); a dropped or relabelled one must be his.
+fn check_changes(at: &str, spec: &PitcherSpec) -> Result<(), String> {
     for c in &spec.changes {
         let before = spec.mix_in(c.season - 1);
         match &c.kind {
@@ -1515,99 +1550,109 @@ fn validate_pitcher(
             }
         }
     }
-    let labels = spec.labels(seasons);
+    Ok(())
+}
 
-    for (i, r) in p.rule.iter().enumerate() {
-        let rat = format!("{at}, rule {} (throw = \"{}\")", i + 1, r.throw);
-        let throw = r.throw.trim().to_string();
-        if !(r.rate.is_finite() && (0.0..=1.0).contains(&r.rate)) {
-            return Err(format!(
-                "{rat}: rate = {} must be a probability in 0..1",
-                r.rate
-            ));
-        }
-        for (key, y) in [("from", r.from), ("until", r.until)] {
-            if let Some(y) = y {
-                if !years.contains(&y) {
-                    return Err(format!(
-                        "{rat}: {key} = {y} is not a [[season]] of the scenario ({years:?}); use one of them"
-                    ));
-                }
-            }
-        }
-        if let (Some(f), Some(u)) = (r.from, r.until) {
-            if f > u {
-                return Err(format!("{rat}: from = {f} is after until = {u}; swap them"));
-            }
-        }
-        if r.when.is_empty() {
-            return Err(format!(
-                "{rat}: `when` is empty; name the situation, e.g. when = {{ count = \"0-2\" }}"
-            ));
-        }
-        let when = parse_when(&rat, &r.when, &labels)?;
-        if !(r.cost.is_finite() && (0.0..=1.0).contains(&r.cost)) {
-            return Err(format!("{rat}: cost = {} must be a share in 0..1", r.cost));
-        }
-        let rule = Rule {
-            when,
-            throw: throw.clone(),
-            rate: r.rate,
-            from: r.from,
-            until: r.until,
-            cost: r.cost,
-        };
-        let mut active_any = false;
-        for s in seasons.iter().filter(|s| rule.active_in(s.year)) {
-            active_any = true;
-            let mix = spec.mix_in(s.year);
-            let names: Vec<&str> = mix.iter().map(|(l, _)| l.as_str()).collect();
-            if !mix.iter().any(|(l, _)| *l == throw) {
+/// One `[[pitcher.rule]]`, checked against his mix in every season it holds.
+fn parse_rule(
+    at: &str,
+    i: usize,
+    r: &RawRule,
+    spec: &PitcherSpec,
+    seasons: &[Season],
+    years: &[i32],
+    labels: &BTreeSet<String>,
+) -> Result<Rule, String> {
+    let rat = format!("{at}, rule {} (throw = \"{}\")", i + 1, r.throw);
+    let throw = r.throw.trim().to_string();
+    if !(r.rate.is_finite() && (0.0..=1.0).contains(&r.rate)) {
+        return Err(format!(
+            "{rat}: rate = {} must be a probability in 0..1",
+            r.rate
+        ));
+    }
+    for (key, y) in [("from", r.from), ("until", r.until)] {
+        if let Some(y) = y {
+            if !years.contains(&y) {
                 return Err(format!(
-                    "{rat}: \"{throw}\" is not in his {} mix ({}); add it to his mix or fix the label",
-                    s.year,
-                    names.join(", ")
-                ));
-            }
-            if r.rate < 1.0 && mix.len() < 2 {
-                return Err(format!(
-                    "{rat}: his {} mix holds only \"{throw}\", so nothing is left to throw the rest \
-                     of the time; add a pitch or set rate = 1",
-                    s.year
+                    "{rat}: {key} = {y} is not a [[season]] of the scenario ({years:?}); use one of them"
                 ));
             }
         }
-        if !active_any {
+    }
+    if let (Some(f), Some(u)) = (r.from, r.until) {
+        if f > u {
+            return Err(format!("{rat}: from = {f} is after until = {u}; swap them"));
+        }
+    }
+    if r.when.is_empty() {
+        return Err(format!(
+            "{rat}: `when` is empty; name the situation, e.g. when = {{ count = \"0-2\" }}"
+        ));
+    }
+    let when = parse_when(&rat, &r.when, labels)?;
+    if !(r.cost.is_finite() && (0.0..=1.0).contains(&r.cost)) {
+        return Err(format!("{rat}: cost = {} must be a share in 0..1", r.cost));
+    }
+    let rule = Rule {
+        when,
+        throw: throw.clone(),
+        rate: r.rate,
+        from: r.from,
+        until: r.until,
+        cost: r.cost,
+    };
+    let mut active_any = false;
+    for s in seasons.iter().filter(|s| rule.active_in(s.year)) {
+        active_any = true;
+        let mix = spec.mix_in(s.year);
+        let names: Vec<&str> = mix.iter().map(|(l, _)| l.as_str()).collect();
+        if !mix.iter().any(|(l, _)| *l == throw) {
             return Err(format!(
-                "{rat}: from/until leave no season in which it holds"
+                "{rat}: \"{throw}\" is not in his {} mix ({}); add it to his mix or fix the label",
+                s.year,
+                names.join(", ")
             ));
         }
-        spec.rules.push(rule);
+        if r.rate < 1.0 && mix.len() < 2 {
+            return Err(format!(
+                "{rat}: his {} mix holds only \"{throw}\", so nothing is left to throw the rest \
+                 of the time; add a pitch or set rate = 1",
+                s.year
+            ));
+        }
     }
-    for (i, r) in p.spot.iter().enumerate() {
-        let sat = format!("{at}, spot {} (pitch = \"{}\")", i + 1, r.pitch);
-        let pitch = r.pitch.trim().to_string();
-        if !(r.rate.is_finite() && (0.0..=1.0).contains(&r.rate)) {
-            return Err(format!("{sat}: rate = {} must be a probability in 0..1", r.rate));
-        }
-        let region = crate::situations::regions::Region::from_name(r.region.trim()).ok_or_else(|| {
-            let names: Vec<&str> = crate::situations::regions::Region::ALL.iter().map(|g| g.name()).collect();
-            format!("{sat}: region = \"{}\" is not a region; use one of {}", r.region, names.join(", "))
-        })?;
-        if !labels.contains(&pitch) {
-            return Err(format!("{sat}: \"{pitch}\" is not one of his pitches; add it to his mix or fix the label"));
-        }
-        for (key, y) in [("from", r.from), ("until", r.until)] {
-            if let Some(y) = y {
-                if !years.contains(&y) {
-                    return Err(format!("{sat}: {key} = {y} is not a [[season]] of the scenario ({years:?}); use one of them"));
-                }
+    if !active_any {
+        return Err(format!(
+            "{rat}: from/until leave no season in which it holds"
+        ));
+    }
+    Ok(rule)
+}
+
+/// One `[[pitcher.spot]]`: a planted location.
+fn parse_spot(at: &str, i: usize, r: &RawSpot, years: &[i32], labels: &BTreeSet<String>) -> Result<Spot, String> {
+    let sat = format!("{at}, spot {} (pitch = \"{}\")", i + 1, r.pitch);
+    let pitch = r.pitch.trim().to_string();
+    if !(r.rate.is_finite() && (0.0..=1.0).contains(&r.rate)) {
+        return Err(format!("{sat}: rate = {} must be a probability in 0..1", r.rate));
+    }
+    let region = crate::situations::regions::Region::from_name(r.region.trim()).ok_or_else(|| {
+        let names: Vec<&str> = crate::situations::regions::Region::ALL.iter().map(|g| g.name()).collect();
+        format!("{sat}: region = \"{}\" is not a region; use one of {}", r.region, names.join(", "))
+    })?;
+    if !labels.contains(&pitch) {
+        return Err(format!("{sat}: \"{pitch}\" is not one of his pitches; add it to his mix or fix the label"));
+    }
+    for (key, y) in [("from", r.from), ("until", r.until)] {
+        if let Some(y) = y {
+            if !years.contains(&y) {
+                return Err(format!("{sat}: {key} = {y} is not a [[season]] of the scenario ({years:?}); use one of them"));
             }
         }
-        let when = parse_when(&sat, &r.when, &labels)?;
-        spec.spots.push(Spot { when, pitch, region, rate: r.rate, from: r.from, until: r.until });
     }
-    Ok(spec)
+    let when = parse_when(&sat, &r.when, labels)?;
+    Ok(Spot { when, pitch, region, rate: r.rate, from: r.from, until: r.until })
 }
 
 #[cfg(test)]
