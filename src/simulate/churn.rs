@@ -40,13 +40,8 @@ pub(crate) fn apply(
     stints: &mut Vec<Vec<Stint>>,
     teams: &mut [Team],
 ) {
-    let c = &league.churn;
     let mut rng = ChaCha8Rng::seed_from_u64(seed);
     rng.set_stream(CHURN_STREAM);
-    let seasons = &scenario.seasons;
-    let day = |si: usize, k: u32| seasons[si].game_date(k).to_days();
-    let generated_teams = first_generated..teams.len();
-
     // Arsenal changes of the pitchers generated with the teams.
     let first_generated_pitcher = specs
         .iter()
@@ -55,141 +50,193 @@ pub(crate) fn apply(
     for i in first_generated_pitcher..specs.len() {
         arsenal_changes(&mut rng, scenario, league, &mut specs[i].0);
     }
+    let generated_teams = first_generated..teams.len();
+    let mut churn = Churn { scenario, league, rng, names, specs, stints, teams, generated_teams };
+    for si in 0..scenario.seasons.len() {
+        churn.turnover(si);
+        churn.injuries(si);
+        churn.call_ups(si);
+        churn.trades(si);
+    }
+}
 
-    let mut add = |rng: &mut ChaCha8Rng,
-                   specs: &mut Vec<(PitcherSpec, usize)>,
-                   stints: &mut Vec<Vec<Stint>>,
-                   teams: &mut [Team],
-                   team: usize,
-                   role: Role,
-                   stint: Vec<Stint>| {
-        let mut spec = generated_pitcher(rng, names, role, league.planted_share, c.full_arsenal);
-        arsenal_changes(rng, scenario, league, &mut spec);
-        let idx = specs.len() as u32;
-        specs.push((spec, team));
-        stints.push(stint);
+/// The league's moves season by season, on one random stream.
+struct Churn<'a> {
+    scenario: &'a Scenario,
+    league: &'a League,
+    rng: ChaCha8Rng,
+    names: &'a mut NameMaker,
+    specs: &'a mut Vec<(PitcherSpec, usize)>,
+    stints: &'a mut Vec<Vec<Stint>>,
+    teams: &'a mut [Team],
+    generated_teams: std::ops::Range<usize>,
+}
+
+impl Churn<'_> {
+    /// The day number of game `k` of season `si`.
+    fn day(&self, si: usize, k: u32) -> i64 {
+        self.scenario.seasons[si].game_date(k).to_days()
+    }
+
+    /// The first and last day of season `si`.
+    fn span(&self, si: usize) -> (i64, i64) {
+        (self.day(si, 0), self.day(si, self.scenario.seasons[si].games - 1))
+    }
+
+    /// Whether `p` is on `team`'s staff the whole of season `si`.
+    fn full_season(&self, si: usize, p: usize, team: usize) -> bool {
+        let (first, last) = self.span(si);
+        self.stints[p].iter().any(|s| s.team == team && s.from == first && s.until == last)
+    }
+
+    /// A new generated pitcher joining `team` in `role` for `stint`.
+    fn add(&mut self, team: usize, role: Role, stint: Vec<Stint>) {
+        let c = &self.league.churn;
+        let mut spec = generated_pitcher(&mut self.rng, self.names, role, self.league.planted_share, c.full_arsenal);
+        arsenal_changes(&mut self.rng, self.scenario, self.league, &mut spec);
+        let idx = self.specs.len() as u32;
+        self.specs.push((spec, team));
+        self.stints.push(stint);
         match role {
-            Role::Starter => teams[team].starters.push(idx),
-            Role::Reliever => teams[team].relievers.push(idx),
+            Role::Starter => self.teams[team].starters.push(idx),
+            Role::Reliever => self.teams[team].relievers.push(idx),
         }
-    };
+    }
 
-    for si in 0..seasons.len() {
-        let (first, last) = (day(si, 0), day(si, seasons[si].games - 1));
-        let games = seasons[si].games;
-        let full_season = |stints: &Vec<Vec<Stint>>, p: usize, team: usize| {
-            stints[p]
+    /// Turnover: a share of the team's pitchers leave before this season,
+    /// each replaced by a newcomer in the same role.
+    fn turnover(&mut self, si: usize) {
+        let rate = self.league.churn.turnover;
+        if si == 0 || rate <= 0.0 {
+            return;
+        }
+        let (first, _) = self.span(si);
+        let seasons = &self.scenario.seasons;
+        for team in self.generated_teams.clone() {
+            let members: Vec<(u32, Role)> = self.teams[team]
+                .starters
                 .iter()
-                .any(|s| s.team == team && s.from == first && s.until == last)
-        };
-
-        // Turnover: a share of the team's pitchers leave before this season,
-        // each replaced by a newcomer in the same role.
-        if si > 0 && c.turnover > 0.0 {
-            for team in generated_teams.clone() {
-                let members: Vec<(u32, Role)> = teams[team]
-                    .starters
-                    .iter()
-                    .map(|&p| (p, Role::Starter))
-                    .chain(teams[team].relievers.iter().map(|&p| (p, Role::Reliever)))
+                .map(|&p| (p, Role::Starter))
+                .chain(self.teams[team].relievers.iter().map(|&p| (p, Role::Reliever)))
+                .collect();
+            for (p, role) in members {
+                if !self.full_season(si, p as usize, team) || !self.rng.random_bool(rate) {
+                    continue;
+                }
+                self.stints[p as usize].retain(|s| s.until < first);
+                let later: Vec<Stint> = (si..seasons.len())
+                    .map(|sj| Stint { team, from: self.day(sj, 0), until: self.day(sj, seasons[sj].games - 1) })
                     .collect();
-                for (p, role) in members {
-                    if !full_season(stints, p as usize, team) || !rng.random_bool(c.turnover) {
-                        continue;
-                    }
-                    stints[p as usize].retain(|s| s.until < first);
-                    let later: Vec<Stint> = (si..seasons.len())
-                        .map(|sj| Stint { team, from: day(sj, 0), until: day(sj, seasons[sj].games - 1) })
-                        .collect();
-                    add(&mut rng, specs, stints, teams, team, role, later);
-                }
+                self.add(team, role, later);
             }
         }
+    }
 
-        // Injuries: a starter's season ends early; a call-up starter takes
-        // his turn from the next game to the season's end.
-        if c.injuries > 0.0 {
-            for team in generated_teams.clone() {
-                for p in teams[team].starters.clone() {
-                    if !full_season(stints, p as usize, team) || !rng.random_bool(c.injuries) {
-                        continue;
-                    }
-                    let g = rng.random_range((games / 5).max(1)..=(games * 4 / 5).max(1));
-                    if g >= games {
-                        continue;
-                    }
-                    for s in stints[p as usize].iter_mut().filter(|s| s.from == first && s.team == team) {
-                        s.until = day(si, g - 1);
-                    }
-                    let stint = vec![Stint { team, from: day(si, g), until: last }];
-                    add(&mut rng, specs, stints, teams, team, Role::Starter, stint);
-                }
-            }
+    /// Injuries: a starter's season ends early; a call-up starter takes his
+    /// turn from the next game to the season's end.
+    fn injuries(&mut self, si: usize) {
+        let rate = self.league.churn.injuries;
+        if rate <= 0.0 {
+            return;
         }
-
-        // Call-ups: relievers on the staff for two weeks to three months.
-        for team in generated_teams.clone() {
-            for _ in 0..c.call_ups {
-                let len = rng.random_range(20..=90u32).min(games);
-                let start = rng.random_range(0..=games - len);
-                let stint = vec![Stint { team, from: day(si, start), until: day(si, start + len - 1) }];
-                add(&mut rng, specs, stints, teams, team, Role::Reliever, stint);
-            }
-        }
-
-        // Trades: same-role pairs of full-season pitchers swapped between
-        // two clubs on a mid-season date; each stays with his new club.
-        if c.trades > 0.0 && generated_teams.len() >= 2 {
-            let on: usize = (0..specs.len())
-                .filter(|&p| stints[p].iter().any(|s| s.until >= first && s.from <= last))
-                .count();
-            let pairs = (c.trades * on as f64 / 2.0).round() as usize;
-            let mut moved: Vec<bool> = vec![false; specs.len()];
-            for _ in 0..pairs {
-                let a = rng.random_range(generated_teams.clone());
-                let b = rng.random_range(generated_teams.clone());
-                if a == b {
+        let (first, last) = self.span(si);
+        let games = self.scenario.seasons[si].games;
+        for team in self.generated_teams.clone() {
+            for p in self.teams[team].starters.clone() {
+                if !self.full_season(si, p as usize, team) || !self.rng.random_bool(rate) {
                     continue;
                 }
-                let role = if rng.random_bool(0.4) { Role::Starter } else { Role::Reliever };
-                let pick = |rng: &mut ChaCha8Rng, team: usize, moved: &[bool], stints: &Vec<Vec<Stint>>| {
-                    let list = match role {
-                        Role::Starter => &teams[team].starters,
-                        Role::Reliever => &teams[team].relievers,
-                    };
-                    let ok: Vec<u32> = list
-                        .iter()
-                        .copied()
-                        .filter(|&p| (p as usize) < moved.len() && !moved[p as usize] && full_season(stints, p as usize, team))
-                        .collect();
-                    (!ok.is_empty()).then(|| ok[rng.random_range(0..ok.len())])
+                let g = self.rng.random_range((games / 5).max(1)..=(games * 4 / 5).max(1));
+                if g >= games {
+                    continue;
+                }
+                let until = self.day(si, g - 1);
+                for s in self.stints[p as usize].iter_mut().filter(|s| s.from == first && s.team == team) {
+                    s.until = until;
+                }
+                let stint = vec![Stint { team, from: self.day(si, g), until: last }];
+                self.add(team, Role::Starter, stint);
+            }
+        }
+    }
+
+    /// Call-ups: relievers on the staff for two weeks to three months.
+    fn call_ups(&mut self, si: usize) {
+        let games = self.scenario.seasons[si].games;
+        for team in self.generated_teams.clone() {
+            for _ in 0..self.league.churn.call_ups {
+                let len = self.rng.random_range(20..=90u32).min(games);
+                let start = self.rng.random_range(0..=games - len);
+                let stint = vec![Stint { team, from: self.day(si, start), until: self.day(si, start + len - 1) }];
+                self.add(team, Role::Reliever, stint);
+            }
+        }
+    }
+
+    /// A full-season pitcher of `team` in `role` not yet moved, at random.
+    fn pick(&mut self, si: usize, team: usize, role: Role, moved: &[bool]) -> Option<u32> {
+        let list = match role {
+            Role::Starter => &self.teams[team].starters,
+            Role::Reliever => &self.teams[team].relievers,
+        };
+        let ok: Vec<u32> = list
+            .iter()
+            .copied()
+            .filter(|&p| (p as usize) < moved.len() && !moved[p as usize] && self.full_season(si, p as usize, team))
+            .collect();
+        (!ok.is_empty()).then(|| ok[self.rng.random_range(0..ok.len())])
+    }
+
+    /// Trades: same-role pairs of full-season pitchers swapped between two
+    /// clubs on a mid-season date; each stays with his new club.
+    fn trades(&mut self, si: usize) {
+        let rate = self.league.churn.trades;
+        if rate <= 0.0 || self.generated_teams.len() < 2 {
+            return;
+        }
+        let (first, last) = self.span(si);
+        let games = self.scenario.seasons[si].games;
+        let on: usize = (0..self.specs.len())
+            .filter(|&p| self.stints[p].iter().any(|s| s.until >= first && s.from <= last))
+            .count();
+        let pairs = (rate * on as f64 / 2.0).round() as usize;
+        let mut moved: Vec<bool> = vec![false; self.specs.len()];
+        for _ in 0..pairs {
+            let a = self.rng.random_range(self.generated_teams.clone());
+            let b = self.rng.random_range(self.generated_teams.clone());
+            if a == b {
+                continue;
+            }
+            let role = if self.rng.random_bool(0.4) { Role::Starter } else { Role::Reliever };
+            let x = self.pick(si, a, role, &moved);
+            let y = self.pick(si, b, role, &moved);
+            let (Some(x), Some(y)) = (x, y) else {
+                continue;
+            };
+            let g = self.rng.random_range(games * 7 / 20..=(games * 3 / 4).max(games * 7 / 20));
+            if g == 0 || g >= games {
+                continue;
+            }
+            let until = self.day(si, g - 1);
+            let from_day = self.day(si, g);
+            for (p, from, to) in [(x, a, b), (y, b, a)] {
+                moved[p as usize] = true;
+                let st = &mut self.stints[p as usize];
+                for s in st.iter_mut() {
+                    if s.team == from && s.from == first {
+                        s.until = until;
+                    } else if s.team == from && s.from > last {
+                        s.team = to; // later seasons with the new club
+                    }
+                }
+                st.push(Stint { team: to, from: from_day, until: last });
+                st.sort_by_key(|s| s.from);
+                let list = match role {
+                    Role::Starter => &mut self.teams[to].starters,
+                    Role::Reliever => &mut self.teams[to].relievers,
                 };
-                let (Some(x), Some(y)) = (pick(&mut rng, a, &moved, stints), pick(&mut rng, b, &moved, stints)) else {
-                    continue;
-                };
-                let g = rng.random_range(games * 7 / 20..=(games * 3 / 4).max(games * 7 / 20));
-                if g == 0 || g >= games {
-                    continue;
-                }
-                for (p, from, to) in [(x, a, b), (y, b, a)] {
-                    moved[p as usize] = true;
-                    let st = &mut stints[p as usize];
-                    for s in st.iter_mut() {
-                        if s.team == from && s.from == first {
-                            s.until = day(si, g - 1);
-                        } else if s.team == from && s.from > last {
-                            s.team = to; // later seasons with the new club
-                        }
-                    }
-                    st.push(Stint { team: to, from: day(si, g), until: last });
-                    st.sort_by_key(|s| s.from);
-                    let list = match role {
-                        Role::Starter => &mut teams[to].starters,
-                        Role::Reliever => &mut teams[to].relievers,
-                    };
-                    if !list.contains(&p) {
-                        list.push(p);
-                    }
+                if !list.contains(&p) {
+                    list.push(p);
                 }
             }
         }
