@@ -337,11 +337,6 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
     // Rows are parsed in parallel a chunk at a time (memory stays bounded),
     // then taken in file order: the result does not depend on threads.
     const CHUNK: usize = 1 << 15;
-    enum Parsed<'a> {
-        Blank,
-        Row(parse::ParsedRow<'a>),
-        Breach(parse::Breach<'a>),
-    }
     // Each column's distinct values are checked once; rows look them up.
     let checks: Vec<Vec<std::result::Result<parse::Cell, String>>> = cols
         .par_iter()
@@ -378,13 +373,6 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
     let cache = |c: Option<&read::TextColumn>| vec![u32::MAX; c.map_or(0, |c| c.dict.len())];
     let (mut game_ids, mut pitcher_ids, mut batter_ids, mut type_ids, mut team_ids) =
         (cache(cols[0]), cache(cols[2]), cache(cols[4]), cache(cols[13]), cache(cols[22]));
-    fn intern(ids: &mut [u32], code: Option<usize>, name: impl FnOnce(&mut Interner) -> u32, interner: &mut Interner) -> u32 {
-        let code = code.expect("a kept row has this value");
-        if ids[code] == u32::MAX {
-            ids[code] = name(interner);
-        }
-        ids[code]
-    }
     let code = |ci: usize, i: usize| cols[ci].and_then(|c| c.code(i));
     for start in (0..table.n_rows).step_by(CHUNK) {
         let end = (start + CHUNK).min(table.n_rows);
@@ -443,6 +431,47 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
         }
     }
 
+    finish_names(&mut log, &mut team, [games, pitchers, batters, types, teams]);
+
+    let optional = Optional { pa, pitch_no, score, result, speed, side, height, team };
+    order_rows(&mut log, optional, |c| has(c));
+    (log, rejected, blank)
+}
+
+/// A parsed row of the input, in file order.
+enum Parsed<'a> {
+    Blank,
+    Row(parse::ParsedRow<'a>),
+    Breach(parse::Breach<'a>),
+}
+
+/// The interned id of a kept row's value (code `code` of its column),
+/// named through `name` the first time the value is met.
+fn intern(ids: &mut [u32], code: Option<usize>, name: impl FnOnce(&mut Interner) -> u32, interner: &mut Interner) -> u32 {
+    let code = code.expect("a kept row has this value");
+    if ids[code] == u32::MAX {
+        ids[code] = name(interner);
+    }
+    ids[code]
+}
+
+/// The optional columns as gathered in file order (empty when absent;
+/// `pa` and `pitch_no` are 0 where absent).
+struct Optional {
+    pa: Vec<u32>,
+    pitch_no: Vec<u32>,
+    score: Vec<Option<i32>>,
+    result: Vec<Option<PitchResult>>,
+    speed: Vec<Option<f32>>,
+    side: Vec<Option<f32>>,
+    height: Vec<Option<f32>>,
+    team: Vec<Option<u32>>,
+}
+
+/// The names of games, pitchers, batters, pitch types and clubs in their
+/// sorted order, and every row's ids moved to it.
+fn finish_names(log: &mut PitchLog, team: &mut [Option<u32>], interners: [Interner; 5]) {
+    let [games, pitchers, batters, types, teams] = interners;
     let (game_names, game_map) = games.finish();
     let (pitcher_names, pitcher_map) = pitchers.finish();
     let (batter_names, batter_map) = batters.finish();
@@ -458,14 +487,17 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
     log.batters = batter_names;
     log.pitch_types = type_names;
     log.teams = team_names;
+}
 
+/// Order the rows (CONTRACT §1): by date, game, pa, pitch_no.
+fn order_rows(log: &mut PitchLog, optional: Optional, has: impl Fn(&str) -> bool) {
     // CONTRACT §1: order by date, game, pa, pitch_no; file order within a
     // game when pa/pitch_no are absent (they are then 0 for every row, so
     // the file position decides). The sort is stable.
     let mut order: Vec<u32> = (0..log.game.len() as u32).collect();
     order.sort_by_key(|&i| {
         let i = i as usize;
-        (log.date[i], log.game[i], pa[i], pitch_no[i])
+        (log.date[i], log.game[i], optional.pa[i], optional.pitch_no[i])
     });
     fn reorder<T: Copy>(v: &mut Vec<T>, order: &[u32]) {
         *v = order.iter().map(|&i| v[i as usize]).collect();
@@ -494,15 +526,15 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
             None
         }
     }
-    log.pa = opt(has_pa, pa, &order);
-    log.pitch_no = opt(has_pitch_no, pitch_no, &order);
+    let Optional { pa, pitch_no, score, result, speed, side, height, team } = optional;
+    log.pa = opt(has("pa"), pa, &order);
+    log.pitch_no = opt(has("pitch_no"), pitch_no, &order);
     log.score_diff = opt(has("score_diff"), score, &order);
     log.result = opt(has("result"), result, &order);
     log.speed_mph = opt(has("speed_mph"), speed, &order);
     log.loc_side_ft = opt(has("loc_side_ft"), side, &order);
     log.loc_height_ft = opt(has("loc_height_ft"), height, &order);
     log.team = opt(has("team"), team, &order);
-    (log, rejected, blank)
 }
 
 /// Counts of rejection reasons for a summary: reason → (count, first lines).
