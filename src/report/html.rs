@@ -3,7 +3,7 @@
 //! sentence from the data is escaped; only our own SVG charts are inserted
 //! unescaped.
 
-use crate::audit::summary::Summary;
+use crate::audit::summary::{PitcherSummary, Summary};
 use crate::audit::wording;
 use crate::error::{Error, Result};
 use crate::tells::TellTest;
@@ -175,6 +175,155 @@ fn location_text(p: &crate::audit::summary::PitcherSummary, fdr: f64) -> String 
     s
 }
 
+/// One audited pitcher's section of the page.
+fn pitcher_view(
+    p: &PitcherSummary,
+    summary: &Summary,
+    tests_of: &crate::tells::ByPitcher,
+    discovery_seasons: usize,
+    charts: &ChartSvgs,
+    stems: &BTreeMap<String, String>,
+) -> PitcherView {
+    // Tells beyond the sheet are listed; the sheet's own count and side
+    // tells fold away under the sheet (its cells say the same).
+    let g = |x: Option<f64>| x.unwrap_or(0.0);
+    let (beyond, sheet_layer): (Vec<&TellTest>, Vec<&TellTest>) =
+        p.tells.iter().partition(|t| t.layer == crate::tells::Layer::Beyond);
+    let (main, narrow): (Vec<&TellTest>, Vec<&TellTest>) = beyond.into_iter().partition(|t| t.within.is_none());
+    let mut leaning: Vec<&crate::audit::sheet::SheetCell> = p.sheet.iter().filter(|c| c.leans).collect();
+    leaning.sort_by(|a, b| b.given_away.total_cmp(&a.given_away).then(a.count.cmp(&b.count)).then(a.bats.cmp(&b.bats)));
+    let layers_text = match (p.sheet_bits, p.beyond_bits, p.beyond_p_value, p.beyond_q_value) {
+        (Some(sb), Some(bb), Some(bp), Some(bq)) => format!(
+            "Of his {:+.3} bits per pitch, his sheet (mix by count and batter side, what every opponent charts) gives {:+.3}; everything beyond it {:+.3} (beyond-the-sheet test, labels shuffled within each game's count and side: p = {}, q = {}).",
+            g(p.bits_gained),
+            sb,
+            bb,
+            p_text(bp),
+            p_text(bq)
+        ),
+        _ => String::new(),
+    };
+    // "What to change": tells that cost him first (beyond the sheet or
+    // on it), then the rest beyond the sheet, most pitches given away
+    // first; a tell that is predictable but still works says so and is
+    // left alone.
+    let mut to_weigh: Vec<&TellTest> = main.clone();
+    to_weigh.extend(sheet_layer.iter().copied().filter(|t| t.within.is_none() && t.cost.as_ref().is_some_and(|c| c.costly)));
+    to_weigh.sort_by(|a, b| {
+        let costly = |t: &TellTest| t.cost.as_ref().is_some_and(|c| c.costly);
+        costly(b).cmp(&costly(a)).then(b.strength().total_cmp(&a.strength()))
+    });
+    let advice = to_weigh
+        .iter()
+        .map(|t| {
+            let base = wording::advice(t, &situation_mix(tests_of.of(&t.pitcher), t), per_season(t, discovery_seasons));
+            match &t.cost {
+                Some(c) if c.costly => format!("{} {}", wording::cost_sentence(t, c), base),
+                Some(c) => wording::cost_sentence(t, c),
+                None => base,
+            }
+        })
+        .collect();
+    PitcherView {
+        pitcher: p.pitcher.clone(),
+        headline: p.headline.clone(),
+        sheet_lines: leaning.iter().take(6).map(|c| crate::audit::sheet::cell_phrase(c)).collect(),
+        league_lines: wording::league_lines(p, &summary.yardstick),
+        league_text: wording::league_sentence(p, &summary.yardstick),
+        sheet_tells: sheet_layer
+            .iter()
+            .filter(|t| t.within.is_none())
+            .map(|t| wording::tell_sentence(t, &p.evaluation.tells_checked_on))
+            .collect(),
+        layers_text,
+        beyond_significant: p.beyond_significant.unwrap_or(false),
+        anchor: stems.get(&p.pitcher).cloned().unwrap_or_default(),
+        throws: p.throws.clone(),
+        n_train: p.n_train,
+        n_test: p.n_test,
+        prior_pitch: p.prior_pitch.clone().unwrap_or_default(),
+        prior_accuracy: g(p.prior_accuracy),
+        model_accuracy: g(p.model_accuracy),
+        lift: g(p.lift),
+        bits_gained: g(p.bits_gained),
+        p_value: g(p.p_value),
+        q_value: g(p.q_value),
+        prior_text: wording::pct(g(p.prior_accuracy)),
+        model_text: wording::pct(g(p.model_accuracy)),
+        lift_text: format!("{:+.0}%", 100.0 * g(p.lift)),
+        bits_text: format!("{:+.3}", g(p.bits_gained)),
+        p_text: p_text(g(p.p_value)),
+        q_text: p_text(g(p.q_value)),
+        permutations: p.permutations.unwrap_or(0),
+        significant: p.significant.unwrap_or(false),
+        n_tells: main.len(),
+        tells: main.iter().map(|t| wording::tell_sentence(t, &p.evaluation.tells_checked_on)).collect(),
+        narrow: narrow.iter().map(|t| wording::tell_sentence(t, &p.evaluation.tells_checked_on)).collect(),
+        scheme_text: wording::evaluation_sentence(&p.evaluation),
+        advice,
+        rules: p.rules.iter().map(|r| r.text.clone()).collect(),
+        cautions: p.cautions.clone(),
+        charts: charts.per_pitcher.get(&p.pitcher).cloned().unwrap_or_default(),
+        location_chart: charts.location.get(&p.pitcher).cloned(),
+        location_text: location_text(p, summary.settings.fdr),
+        location_tells: p.location_tells.iter().map(|t| t.text.clone()).collect(),
+        location_types: location_type_rows(p),
+        counts: count_rows(p),
+        types: type_rows(p),
+    }
+}
+
+/// His count-by-count table.
+fn count_rows(p: &PitcherSummary) -> Vec<CountRow> {
+    p.counts
+        .iter()
+        .map(|c| CountRow {
+            count: c.count.clone(),
+            n: c.n,
+            top_pitch: c.top_pitch.clone(),
+            share: wording::pct(c.top_share),
+            interval: format!("{}–{}", wording::pct(c.top_share_low), wording::pct(c.top_share_high)),
+            prior: wording::pct(c.prior_accuracy),
+            model: wording::pct(c.model_accuracy),
+            q: c.q_value.map(|q| p_text(q)).unwrap_or_else(|| "—".into()),
+            more_predictable: c.more_predictable,
+        })
+        .collect()
+}
+
+/// His pitch-type table.
+fn type_rows(p: &PitcherSummary) -> Vec<TypeRow> {
+    p.types
+        .iter()
+        .map(|t| TypeRow {
+            pitch_type: t.pitch_type.clone(),
+            train_share: wording::pct(t.train_share),
+            prior: wording::pct(t.prior_accuracy),
+            model: wording::pct(t.model_accuracy),
+            bits: format!("{:+.3}", t.bits_gained),
+        })
+        .collect()
+}
+
+/// His location table, pitch type by pitch type (empty without figures).
+fn location_type_rows(p: &PitcherSummary) -> Vec<LocationTypeRow> {
+    p.location
+        .as_ref()
+        .map(|l| {
+            l.by_type
+                .iter()
+                .map(|t| LocationTypeRow {
+                    pitch_type: t.pitch_type.clone(),
+                    n: t.n,
+                    prior: wording::pct(t.prior_accuracy),
+                    model: wording::pct(t.model_accuracy),
+                    bits: format!("{:+.3}", t.bits_gained),
+                })
+                .collect()
+        })
+        .unwrap_or_default()
+}
+
 pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, stems: &BTreeMap<String, String>) -> Result<String> {
     let discovery_seasons = summary.input.seasons.len().saturating_sub(1).max(1);
     let tests_of = crate::tells::ByPitcher::new(all_tests);
@@ -190,133 +339,7 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
             });
             continue;
         }
-        // Tells beyond the sheet are listed; the sheet's own count and side
-        // tells fold away under the sheet (its cells say the same).
-        let g = |x: Option<f64>| x.unwrap_or(0.0);
-        let (beyond, sheet_layer): (Vec<&TellTest>, Vec<&TellTest>) =
-            p.tells.iter().partition(|t| t.layer == crate::tells::Layer::Beyond);
-        let (main, narrow): (Vec<&TellTest>, Vec<&TellTest>) = beyond.into_iter().partition(|t| t.within.is_none());
-        let mut leaning: Vec<&crate::audit::sheet::SheetCell> = p.sheet.iter().filter(|c| c.leans).collect();
-        leaning.sort_by(|a, b| b.given_away.total_cmp(&a.given_away).then(a.count.cmp(&b.count)).then(a.bats.cmp(&b.bats)));
-        let layers_text = match (p.sheet_bits, p.beyond_bits, p.beyond_p_value, p.beyond_q_value) {
-            (Some(sb), Some(bb), Some(bp), Some(bq)) => format!(
-                "Of his {:+.3} bits per pitch, his sheet (mix by count and batter side, what every opponent charts) gives {:+.3}; everything beyond it {:+.3} (beyond-the-sheet test, labels shuffled within each game's count and side: p = {}, q = {}).",
-                g(p.bits_gained),
-                sb,
-                bb,
-                p_text(bp),
-                p_text(bq)
-            ),
-            _ => String::new(),
-        };
-        // "What to change": tells that cost him first (beyond the sheet or
-        // on it), then the rest beyond the sheet, most pitches given away
-        // first; a tell that is predictable but still works says so and is
-        // left alone.
-        let mut to_weigh: Vec<&TellTest> = main.clone();
-        to_weigh.extend(sheet_layer.iter().copied().filter(|t| t.within.is_none() && t.cost.as_ref().is_some_and(|c| c.costly)));
-        to_weigh.sort_by(|a, b| {
-            let costly = |t: &TellTest| t.cost.as_ref().is_some_and(|c| c.costly);
-            costly(b).cmp(&costly(a)).then(b.strength().total_cmp(&a.strength()))
-        });
-        let advice = to_weigh
-            .iter()
-            .map(|t| {
-                let base = wording::advice(t, &situation_mix(tests_of.of(&t.pitcher), t), per_season(t, discovery_seasons));
-                match &t.cost {
-                    Some(c) if c.costly => format!("{} {}", wording::cost_sentence(t, c), base),
-                    Some(c) => wording::cost_sentence(t, c),
-                    None => base,
-                }
-            })
-            .collect();
-        let counts = p
-            .counts
-            .iter()
-            .map(|c| CountRow {
-                count: c.count.clone(),
-                n: c.n,
-                top_pitch: c.top_pitch.clone(),
-                share: wording::pct(c.top_share),
-                interval: format!("{}–{}", wording::pct(c.top_share_low), wording::pct(c.top_share_high)),
-                prior: wording::pct(c.prior_accuracy),
-                model: wording::pct(c.model_accuracy),
-                q: c.q_value.map(|q| p_text(q)).unwrap_or_else(|| "—".into()),
-                more_predictable: c.more_predictable,
-            })
-            .collect();
-        staff.push(PitcherView {
-            pitcher: p.pitcher.clone(),
-            headline: p.headline.clone(),
-            sheet_lines: leaning.iter().take(6).map(|c| crate::audit::sheet::cell_phrase(c)).collect(),
-            league_lines: wording::league_lines(p, &summary.yardstick),
-            league_text: wording::league_sentence(p, &summary.yardstick),
-            sheet_tells: sheet_layer
-                .iter()
-                .filter(|t| t.within.is_none())
-                .map(|t| wording::tell_sentence(t, &p.evaluation.tells_checked_on))
-                .collect(),
-            layers_text,
-            beyond_significant: p.beyond_significant.unwrap_or(false),
-            anchor: stems.get(&p.pitcher).cloned().unwrap_or_default(),
-            throws: p.throws.clone(),
-            n_train: p.n_train,
-            n_test: p.n_test,
-            prior_pitch: p.prior_pitch.clone().unwrap_or_default(),
-            prior_accuracy: g(p.prior_accuracy),
-            model_accuracy: g(p.model_accuracy),
-            lift: g(p.lift),
-            bits_gained: g(p.bits_gained),
-            p_value: g(p.p_value),
-            q_value: g(p.q_value),
-            prior_text: wording::pct(g(p.prior_accuracy)),
-            model_text: wording::pct(g(p.model_accuracy)),
-            lift_text: format!("{:+.0}%", 100.0 * g(p.lift)),
-            bits_text: format!("{:+.3}", g(p.bits_gained)),
-            p_text: p_text(g(p.p_value)),
-            q_text: p_text(g(p.q_value)),
-            permutations: p.permutations.unwrap_or(0),
-            significant: p.significant.unwrap_or(false),
-            n_tells: main.len(),
-            tells: main.iter().map(|t| wording::tell_sentence(t, &p.evaluation.tells_checked_on)).collect(),
-            narrow: narrow.iter().map(|t| wording::tell_sentence(t, &p.evaluation.tells_checked_on)).collect(),
-            scheme_text: wording::evaluation_sentence(&p.evaluation),
-            advice,
-            rules: p.rules.iter().map(|r| r.text.clone()).collect(),
-            cautions: p.cautions.clone(),
-            charts: charts.per_pitcher.get(&p.pitcher).cloned().unwrap_or_default(),
-            location_chart: charts.location.get(&p.pitcher).cloned(),
-            location_text: location_text(p, summary.settings.fdr),
-            location_tells: p.location_tells.iter().map(|t| t.text.clone()).collect(),
-            location_types: p
-                .location
-                .as_ref()
-                .map(|l| {
-                    l.by_type
-                        .iter()
-                        .map(|t| LocationTypeRow {
-                            pitch_type: t.pitch_type.clone(),
-                            n: t.n,
-                            prior: wording::pct(t.prior_accuracy),
-                            model: wording::pct(t.model_accuracy),
-                            bits: format!("{:+.3}", t.bits_gained),
-                        })
-                        .collect()
-                })
-                .unwrap_or_default(),
-            counts,
-            types: p
-                .types
-                .iter()
-                .map(|t| TypeRow {
-                    pitch_type: t.pitch_type.clone(),
-                    train_share: wording::pct(t.train_share),
-                    prior: wording::pct(t.prior_accuracy),
-                    model: wording::pct(t.model_accuracy),
-                    bits: format!("{:+.3}", t.bits_gained),
-                })
-                .collect(),
-        });
+        staff.push(pitcher_view(p, summary, &tests_of, discovery_seasons, charts, stems));
     }
     // Most predictable first; the table can be re-sorted in the page.
     staff.sort_by(|a, b| b.bits_gained.partial_cmp(&a.bits_gained).unwrap().then(a.pitcher.cmp(&b.pitcher)));
