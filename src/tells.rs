@@ -489,93 +489,8 @@ fn beyond_tests(
     let kc = task.n_classes;
     let names = labels.names;
     let n_types = names.len();
-    let mut is_disc = vec![false; task.rows.len()];
-    for &i in &task.discovery {
-        is_disc[i as usize] = true;
-    }
-    let mut is_held = vec![false; task.rows.len()];
-    for &i in &task.held_out {
-        is_held[i as usize] = true;
-    }
-    // The sheet of each side: his shares by count × batter side on the
-    // discovery rows and on the held-out rows.
-    let sheet_of = |on: &[bool]| {
-        let mut c = vec![0u32; 24 * kc];
-        let mut n = vec![0u32; 24];
-        for (i, &yes) in on.iter().enumerate() {
-            if yes {
-                c[task.cell[i] as usize * kc + task.labels[i] as usize] += 1;
-                n[task.cell[i] as usize] += 1;
-            }
-        }
-        (0..24 * kc).map(|j| if n[j / kc] > 0 { c[j] as f64 / n[j / kc] as f64 } else { 0.0 }).collect::<Vec<f64>>()
-    };
-    let (sheet_d, sheet_h) = (sheet_of(&is_disc), sheet_of(&is_held));
-    let mut cmh = vec![crate::significance::cmh::Cmh::default(); n_keys * kc];
-    let mut disc = vec![0u32; n_keys * kc];
-    let mut disc_n = vec![0u32; n_keys];
-    let mut expected = vec![0.0f64; n_keys * kc];
-    let mut held = vec![0u32; n_keys * kc];
-    let mut held_n = vec![0u32; n_keys];
-    let mut held_expected = vec![0.0f64; n_keys * kc];
-    let mut total = vec![0u32; kc];
-    let mut held_total = vec![0u32; kc];
-    let mut in_stratum: Vec<(usize, usize)> = Vec::new();
-    for stratum in &task.beyond_strata {
-        let first = stratum[0] as usize;
-        if is_held[first] {
-            for &i in stratum {
-                let i = i as usize;
-                let y = task.labels[i] as usize;
-                held_total[y] += 1;
-                if let Some(k) = key(cols, task.rows[i] as usize) {
-                    held[k * kc + y] += 1;
-                    held_n[k] += 1;
-                    for c in 0..kc {
-                        held_expected[k * kc + c] += sheet_h[task.cell[i] as usize * kc + c];
-                    }
-                }
-            }
-            continue;
-        }
-        if !is_disc[first] {
-            continue;
-        }
-        // One stratum: its pitches by type, and by key and type.
-        let big_n = stratum.len() as u64;
-        let mut big_k = vec![0u64; kc];
-        in_stratum.clear();
-        for &i in stratum {
-            let i = i as usize;
-            let y = task.labels[i] as usize;
-            big_k[y] += 1;
-            total[y] += 1;
-            if let Some(k) = key(cols, task.rows[i] as usize) {
-                in_stratum.push((k, y));
-                disc[k * kc + y] += 1;
-                disc_n[k] += 1;
-                for c in 0..kc {
-                    expected[k * kc + c] += sheet_d[task.cell[i] as usize * kc + c];
-                }
-            }
-        }
-        in_stratum.sort_unstable();
-        let mut a = 0;
-        while a < in_stratum.len() {
-            let k = in_stratum[a].0;
-            let mut b = a;
-            let mut x = vec![0u64; kc];
-            while b < in_stratum.len() && in_stratum[b].0 == k {
-                x[in_stratum[b].1] += 1;
-                b += 1;
-            }
-            let n_in = (b - a) as u64;
-            for c in 0..kc {
-                cmh[k * kc + c].add(x[c], n_in, big_k[c], big_n);
-            }
-            a = b;
-        }
-    }
+    let BeyondTallies { cmh, disc, disc_n, expected, held, held_n, held_expected, total, held_total } =
+        BeyondTallies::count(cols, task, n_keys);
     let big_n: u32 = total.iter().sum();
     let held_all: u32 = held_total.iter().sum();
     let team = task.rows.first().map(|&r| team_of_row(r as usize)).unwrap_or(0) as usize;
@@ -643,6 +558,116 @@ fn beyond_tests(
                 });
             }
         }
+    }
+}
+
+/// A pitcher's beyond-the-sheet tallies per situation key and type: the
+/// discovery rows' CMH sums over game × count × side strata, counts and
+/// sheet-expected counts, and the held-out rows' counts and sheet-expected
+/// counts (each side's sheet from its own rows).
+struct BeyondTallies {
+    cmh: Vec<crate::significance::cmh::Cmh>,
+    disc: Vec<u32>,
+    disc_n: Vec<u32>,
+    expected: Vec<f64>,
+    held: Vec<u32>,
+    held_n: Vec<u32>,
+    held_expected: Vec<f64>,
+    total: Vec<u32>,
+    held_total: Vec<u32>,
+}
+
+impl BeyondTallies {
+    fn count(cols: &[&crate::situations::FactorColumn], task: &PitcherTask, n_keys: usize) -> BeyondTallies {
+        let kc = task.n_classes;
+        let mut is_disc = vec![false; task.rows.len()];
+        for &i in &task.discovery {
+            is_disc[i as usize] = true;
+        }
+        let mut is_held = vec![false; task.rows.len()];
+        for &i in &task.held_out {
+            is_held[i as usize] = true;
+        }
+        // The sheet of each side: his shares by count × batter side on the
+        // discovery rows and on the held-out rows.
+        let sheet_of = |on: &[bool]| {
+            let mut c = vec![0u32; 24 * kc];
+            let mut n = vec![0u32; 24];
+            for (i, &yes) in on.iter().enumerate() {
+                if yes {
+                    c[task.cell[i] as usize * kc + task.labels[i] as usize] += 1;
+                    n[task.cell[i] as usize] += 1;
+                }
+            }
+            (0..24 * kc).map(|j| if n[j / kc] > 0 { c[j] as f64 / n[j / kc] as f64 } else { 0.0 }).collect::<Vec<f64>>()
+        };
+        let (sheet_d, sheet_h) = (sheet_of(&is_disc), sheet_of(&is_held));
+        let mut cmh = vec![crate::significance::cmh::Cmh::default(); n_keys * kc];
+        let mut disc = vec![0u32; n_keys * kc];
+        let mut disc_n = vec![0u32; n_keys];
+        let mut expected = vec![0.0f64; n_keys * kc];
+        let mut held = vec![0u32; n_keys * kc];
+        let mut held_n = vec![0u32; n_keys];
+        let mut held_expected = vec![0.0f64; n_keys * kc];
+        let mut total = vec![0u32; kc];
+        let mut held_total = vec![0u32; kc];
+        let mut in_stratum: Vec<(usize, usize)> = Vec::new();
+        for stratum in &task.beyond_strata {
+            let first = stratum[0] as usize;
+            if is_held[first] {
+                for &i in stratum {
+                    let i = i as usize;
+                    let y = task.labels[i] as usize;
+                    held_total[y] += 1;
+                    if let Some(k) = key(cols, task.rows[i] as usize) {
+                        held[k * kc + y] += 1;
+                        held_n[k] += 1;
+                        for c in 0..kc {
+                            held_expected[k * kc + c] += sheet_h[task.cell[i] as usize * kc + c];
+                        }
+                    }
+                }
+                continue;
+            }
+            if !is_disc[first] {
+                continue;
+            }
+            // One stratum: its pitches by type, and by key and type.
+            let big_n = stratum.len() as u64;
+            let mut big_k = vec![0u64; kc];
+            in_stratum.clear();
+            for &i in stratum {
+                let i = i as usize;
+                let y = task.labels[i] as usize;
+                big_k[y] += 1;
+                total[y] += 1;
+                if let Some(k) = key(cols, task.rows[i] as usize) {
+                    in_stratum.push((k, y));
+                    disc[k * kc + y] += 1;
+                    disc_n[k] += 1;
+                    for c in 0..kc {
+                        expected[k * kc + c] += sheet_d[task.cell[i] as usize * kc + c];
+                    }
+                }
+            }
+            in_stratum.sort_unstable();
+            let mut a = 0;
+            while a < in_stratum.len() {
+                let k = in_stratum[a].0;
+                let mut b = a;
+                let mut x = vec![0u64; kc];
+                while b < in_stratum.len() && in_stratum[b].0 == k {
+                    x[in_stratum[b].1] += 1;
+                    b += 1;
+                }
+                let n_in = (b - a) as u64;
+                for c in 0..kc {
+                    cmh[k * kc + c].add(x[c], n_in, big_k[c], big_n);
+                }
+                a = b;
+            }
+        }
+        BeyondTallies { cmh, disc, disc_n, expected, held, held_n, held_expected, total, held_total }
     }
 }
 
