@@ -215,33 +215,7 @@ pub fn headline(p: &PitcherChanges) -> String {
 pub fn summary_lines(p: &PitcherChanges, before: &str, after: &str, fdr: f64) -> Vec<String> {
     let mut lines = Vec::new();
     let arsenal: Vec<&Change> = p.changes.iter().filter(|c| c.kind == "new_pitch" || c.kind == "dropped_pitch").collect();
-    for c in arsenal.iter().filter(|c| c.significant) {
-        let t = c.pitch_type.clone().unwrap_or_default();
-        let mut line = c.text.clone();
-        // Where he throws (threw) it, count by count.
-        let (when, side) = if c.kind == "new_pitch" { (after, true) } else { (before, false) };
-        let by_count: Vec<(String, f64)> = p
-            .counts
-            .iter()
-            .filter(|k| (if side { k.n_after } else { k.n_before }) >= 20)
-            .map(|k| (k.count.clone(), (if side { &k.mix_after } else { &k.mix_before }).get(&t).copied().unwrap_or(0.0)))
-            .collect();
-        if let (Some(lo), Some(hi)) =
-            (by_count.iter().min_by(|a, b| a.1.total_cmp(&b.1)), by_count.iter().max_by(|a, b| a.1.total_cmp(&b.1)))
-        {
-            line.push_str(&format!(
-                " In {when} he threw it in every count, from {} of pitches at {} to {} at {}.",
-                share_text(lo.1),
-                lo.0,
-                share_text(hi.1),
-                hi.0
-            ));
-            if lo.1 == 0.0 {
-                line = line.replace("in every count, from", "in some counts, from");
-            }
-        }
-        lines.push(line);
-    }
+    arsenal_lines(p, &arsenal, before, after, &mut lines);
     let overall = p.changes.iter().find(|c| c.kind == "mix_shift" && c.situation.is_empty());
     let count_sig: Vec<&Change> = p.changes.iter().filter(|c| is_count_shift(c) && c.significant).collect();
     if let Some(c) = overall {
@@ -315,6 +289,45 @@ pub fn summary_lines(p: &PitcherChanges, before: &str, after: &str, fdr: f64) ->
             "No change between {before} and {after} passed the test (q ≤ {fdr}): his pitch mix, overall and count by count, and his predictability are the same within chance."
         ));
     }
+    tell_lines(p, &count_sig, before, after, &mut lines);
+    lines
+}
+
+/// The significant new and dropped pitches, each with where he throws
+/// (threw) it count by count.
+fn arsenal_lines(p: &PitcherChanges, arsenal: &[&Change], before: &str, after: &str, lines: &mut Vec<String>) {
+    for c in arsenal.iter().filter(|c| c.significant) {
+        let t = c.pitch_type.clone().unwrap_or_default();
+        let mut line = c.text.clone();
+        // Where he throws (threw) it, count by count.
+        let (when, side) = if c.kind == "new_pitch" { (after, true) } else { (before, false) };
+        let by_count: Vec<(String, f64)> = p
+            .counts
+            .iter()
+            .filter(|k| (if side { k.n_after } else { k.n_before }) >= 20)
+            .map(|k| (k.count.clone(), (if side { &k.mix_after } else { &k.mix_before }).get(&t).copied().unwrap_or(0.0)))
+            .collect();
+        if let (Some(lo), Some(hi)) =
+            (by_count.iter().min_by(|a, b| a.1.total_cmp(&b.1)), by_count.iter().max_by(|a, b| a.1.total_cmp(&b.1)))
+        {
+            line.push_str(&format!(
+                " In {when} he threw it in every count, from {} of pitches at {} to {} at {}.",
+                share_text(lo.1),
+                lo.0,
+                share_text(hi.1),
+                hi.0
+            ));
+            if lo.1 == 0.0 {
+                line = line.replace("in every count, from", "in some counts, from");
+            }
+        }
+        lines.push(line);
+    }
+}
+
+/// Tells that held in both periods, and those flagged in one period only
+/// (not tested as changes), most marked first.
+fn tell_lines(p: &PitcherChanges, count_sig: &[&Change], before: &str, after: &str, lines: &mut Vec<String>) {
     let item = |c: &Change| {
         format!(
             "{} the {} {} ({} in {before}, {} in {after})",
@@ -371,7 +384,6 @@ pub fn summary_lines(p: &PitcherChanges, before: &str, after: &str, fdr: f64) ->
             "{counted}{strongest}. A tell can miss the bar in a period by chance, so these are not tested as changes (see the tells table)."
         ));
     }
-    lines
 }
 
 #[cfg(test)]

@@ -8,7 +8,7 @@ use super::charts::{self, Chart, ChartError};
 use super::csv::{rejected_csv, Table};
 use super::{unique_stems, ReportFile};
 use crate::audit::wording::q_text;
-use crate::compare::summary::{Change, CompareSummary, PitcherChanges};
+use crate::compare::summary::{Change, CompareSummary, PeriodFigures, PitcherChanges, Predictability};
 use crate::compare::wording::{bits_text, share_text};
 use crate::compare::Comparison;
 use crate::error::{Error, Result};
@@ -328,7 +328,6 @@ fn points(d: f64) -> String {
 }
 
 fn pitcher_view(s: &CompareSummary, p: &PitcherChanges, anchor: &str, svgs: Vec<String>) -> PitcherView {
-    let (bl, al) = (&s.periods.before.label, &s.periods.after.label);
     let mb = p.mix_before.clone().unwrap_or_default();
     let ma = p.mix_after.clone().unwrap_or_default();
     let mut types: Vec<&String> = mb.keys().chain(ma.keys()).collect();
@@ -342,122 +341,14 @@ fn pitcher_view(s: &CompareSummary, p: &PitcherChanges, anchor: &str, svgs: Vec<
         })
         .collect();
     let overall = p.changes.iter().find(|c| c.kind == "mix_shift" && c.situation.is_empty());
-    let counts = p
-        .counts
-        .iter()
-        .map(|k| {
-            let ch = p.changes.iter().find(|c| c.kind == "mix_shift" && c.situation.get("count") == Some(&k.count));
-            let top = |t: &Option<String>, s: Option<f64>| match (t, s) {
-                (Some(t), Some(s)) => format!("{t} {}", share_text(s)),
-                _ => "—".into(),
-            };
-            CountRow {
-                count: k.count.clone(),
-                n_before: k.n_before,
-                n_after: k.n_after,
-                top_before: top(&k.top_pitch_before, k.top_share_before),
-                top_after: top(&k.top_pitch_after, k.top_share_after),
-                mover: ch
-                    .map(|c| format!("{} {} → {}", c.pitch_type.clone().unwrap_or_default(), share_text(c.before), share_text(c.after)))
-                    .unwrap_or_else(|| "too few pitches to test".into()),
-                shift: ch.map(|c| format!("{:.0}", 100.0 * c.effect)).unwrap_or_default(),
-                test: ch.map(|c| test_text(&c.test).to_string()).unwrap_or_default(),
-                q: ch.and_then(|c| c.q).map(p_text).unwrap_or_else(|| "—".into()),
-                significant: ch.map(|c| c.significant).unwrap_or(false),
-                explained: ch.and_then(|c| c.among.as_ref()).map(|_| "among kept pitches".to_string()).unwrap_or_default(),
-            }
-        })
-        .collect();
-    let mut periods = Vec::new();
-    let mut difference = String::new();
-    if let Some(pr) = &p.predictability {
-        for f in [&pr.before, &pr.after] {
-            periods.push(PeriodRow {
-                label: f.label.clone(),
-                pitches: f.pitches,
-                n_test: f.n_test,
-                prior: share_text(f.prior_accuracy),
-                model: share_text(f.model_accuracy),
-                lift: format!("{:+.0}%", 100.0 * f.lift),
-                bits: bits_text(f.bits_gained),
-                interval: format!("{} to {}", bits_text(f.bits_interval.low), bits_text(f.bits_interval.high)),
-            });
-        }
-        let lift_iv = pr
-            .lift_difference_interval
-            .map(|i| format!(" (95% interval {} to {})", points(i.low).trim_end_matches(" points"), points(i.high)))
-            .unwrap_or_default();
-        let test = if pr.stopped_early {
-            format!("stopped early after {} shuffles", pr.permutations)
-        } else {
-            format!("{} shuffles", pr.permutations)
-        };
-        let iv = pr.bits_difference_interval;
-        let caveat = if (iv.low > 0.0 || iv.high < 0.0) && pr.q > s.settings.fdr {
-            " The interval leaves out 0, but it only counts which games happened to be scored, with the fitted models held fixed; the test also refits the models and is corrected for every test of the report, and it does not find the change beyond chance."
-        } else {
-            ""
-        };
-        difference = format!(
-            "Change from {bl} to {al}: {} bits per pitch (95% interval {} to {}); lift {}{lift_iv}. Label-swap test ({test}): p = {}, {}.{caveat}",
-            bits_text(pr.bits_difference),
-            bits_text(iv.low),
-            bits_text(iv.high),
-            points(pr.lift_difference),
-            p_text(pr.p),
-            q_text(pr.q)
-        );
-    }
-    let seasons = p
-        .seasons
-        .iter()
-        .map(|f| PeriodRow {
-            label: f.label.clone(),
-            pitches: f.pitches,
-            n_test: f.n_test,
-            prior: share_text(f.prior_accuracy),
-            model: share_text(f.model_accuracy),
-            lift: format!("{:+.0}%", 100.0 * f.lift),
-            bits: bits_text(f.bits_gained),
-            interval: format!("{} to {}", bits_text(f.bits_interval.low), bits_text(f.bits_interval.high)),
-        })
-        .collect();
-    let tells = p
-        .changes
-        .iter()
-        .filter(|c| c.kind.starts_with("tell_"))
-        .map(|c| TellRow {
-            status: kind_text(&c.kind).into(),
-            situation: situation_text(c),
-            pitch: format!("{}{}", c.pitch_type.clone().unwrap_or_default(), if c.direction.as_deref() == Some("less") { " (avoided)" } else { "" }),
-            before: format!("{} (n = {}; {} otherwise)", share_text(c.before), c.n_before, share_text(c.baseline_before.unwrap_or(0.0))),
-            after: format!("{} (n = {}; {} otherwise)", share_text(c.after), c.n_after, share_text(c.baseline_after.unwrap_or(0.0))),
-            q: c.q.map(p_text).unwrap_or_else(|| "not tested".into()),
-            tell_q: format!(
-                "{} / {}",
-                c.tell_q_before.map(p_text).unwrap_or_else(|| "—".into()),
-                c.tell_q_after.map(p_text).unwrap_or_else(|| "—".into())
-            ),
-            significant: c.significant,
-        })
-        .collect();
-    let tests = p
-        .changes
-        .iter()
-        .filter(|c| c.is_test())
-        .map(|c| TestRow {
-            kind: kind_text(&c.kind).into(),
-            situation: situation_text(c),
-            pitch: c.pitch_type.clone().unwrap_or_default(),
-            before: shares_or_bits(c, c.before),
-            after: shares_or_bits(c, c.after),
-            effect: effect_text(c),
-            test: test_text(&c.test).into(),
-            p: c.p.map(p_text).unwrap_or_default(),
-            q: c.q.map(p_text).unwrap_or_default(),
-            significant: c.significant,
-        })
-        .collect();
+    let counts = count_rows(p);
+    let (periods, difference) = match &p.predictability {
+        Some(pr) => (vec![period_row(&pr.before), period_row(&pr.after)], difference_text(s, pr)),
+        None => (Vec::new(), String::new()),
+    };
+    let seasons = p.seasons.iter().map(period_row).collect();
+    let tells = tell_rows(p);
+    let tests = test_rows(p);
     PitcherView {
         pitcher: p.pitcher.clone(),
         anchor: anchor.to_string(),
@@ -481,6 +372,120 @@ fn pitcher_view(s: &CompareSummary, p: &PitcherChanges, anchor: &str, svgs: Vec<
         tests,
         significant: p.significant_changes,
     }
+}
+
+/// His count-by-count table: top pitch each period and the count's test.
+fn count_rows(p: &PitcherChanges) -> Vec<CountRow> {
+    p.counts
+        .iter()
+        .map(|k| {
+            let ch = p.changes.iter().find(|c| c.kind == "mix_shift" && c.situation.get("count") == Some(&k.count));
+            let top = |t: &Option<String>, s: Option<f64>| match (t, s) {
+                (Some(t), Some(s)) => format!("{t} {}", share_text(s)),
+                _ => "—".into(),
+            };
+            CountRow {
+                count: k.count.clone(),
+                n_before: k.n_before,
+                n_after: k.n_after,
+                top_before: top(&k.top_pitch_before, k.top_share_before),
+                top_after: top(&k.top_pitch_after, k.top_share_after),
+                mover: ch
+                    .map(|c| format!("{} {} → {}", c.pitch_type.clone().unwrap_or_default(), share_text(c.before), share_text(c.after)))
+                    .unwrap_or_else(|| "too few pitches to test".into()),
+                shift: ch.map(|c| format!("{:.0}", 100.0 * c.effect)).unwrap_or_default(),
+                test: ch.map(|c| test_text(&c.test).to_string()).unwrap_or_default(),
+                q: ch.and_then(|c| c.q).map(p_text).unwrap_or_else(|| "—".into()),
+                significant: ch.map(|c| c.significant).unwrap_or(false),
+                explained: ch.and_then(|c| c.among.as_ref()).map(|_| "among kept pitches".to_string()).unwrap_or_default(),
+            }
+        })
+        .collect()
+}
+
+/// One period's (or season's) predictability figures as a table row.
+fn period_row(f: &PeriodFigures) -> PeriodRow {
+    PeriodRow {
+        label: f.label.clone(),
+        pitches: f.pitches,
+        n_test: f.n_test,
+        prior: share_text(f.prior_accuracy),
+        model: share_text(f.model_accuracy),
+        lift: format!("{:+.0}%", 100.0 * f.lift),
+        bits: bits_text(f.bits_gained),
+        interval: format!("{} to {}", bits_text(f.bits_interval.low), bits_text(f.bits_interval.high)),
+    }
+}
+
+/// The change in predictability between the periods, in words.
+fn difference_text(s: &CompareSummary, pr: &Predictability) -> String {
+    let (bl, al) = (&s.periods.before.label, &s.periods.after.label);
+    let lift_iv = pr
+        .lift_difference_interval
+        .map(|i| format!(" (95% interval {} to {})", points(i.low).trim_end_matches(" points"), points(i.high)))
+        .unwrap_or_default();
+    let test = if pr.stopped_early {
+        format!("stopped early after {} shuffles", pr.permutations)
+    } else {
+        format!("{} shuffles", pr.permutations)
+    };
+    let iv = pr.bits_difference_interval;
+    let caveat = if (iv.low > 0.0 || iv.high < 0.0) && pr.q > s.settings.fdr {
+        " The interval leaves out 0, but it only counts which games happened to be scored, with the fitted models held fixed; the test also refits the models and is corrected for every test of the report, and it does not find the change beyond chance."
+    } else {
+        ""
+    };
+    format!(
+        "Change from {bl} to {al}: {} bits per pitch (95% interval {} to {}); lift {}{lift_iv}. Label-swap test ({test}): p = {}, {}.{caveat}",
+        bits_text(pr.bits_difference),
+        bits_text(iv.low),
+        bits_text(iv.high),
+        points(pr.lift_difference),
+        p_text(pr.p),
+        q_text(pr.q)
+    )
+}
+
+/// His tells that appeared, disappeared or held.
+fn tell_rows(p: &PitcherChanges) -> Vec<TellRow> {
+    p.changes
+        .iter()
+        .filter(|c| c.kind.starts_with("tell_"))
+        .map(|c| TellRow {
+            status: kind_text(&c.kind).into(),
+            situation: situation_text(c),
+            pitch: format!("{}{}", c.pitch_type.clone().unwrap_or_default(), if c.direction.as_deref() == Some("less") { " (avoided)" } else { "" }),
+            before: format!("{} (n = {}; {} otherwise)", share_text(c.before), c.n_before, share_text(c.baseline_before.unwrap_or(0.0))),
+            after: format!("{} (n = {}; {} otherwise)", share_text(c.after), c.n_after, share_text(c.baseline_after.unwrap_or(0.0))),
+            q: c.q.map(p_text).unwrap_or_else(|| "not tested".into()),
+            tell_q: format!(
+                "{} / {}",
+                c.tell_q_before.map(p_text).unwrap_or_else(|| "—".into()),
+                c.tell_q_after.map(p_text).unwrap_or_else(|| "—".into())
+            ),
+            significant: c.significant,
+        })
+        .collect()
+}
+
+/// Every tested change of his.
+fn test_rows(p: &PitcherChanges) -> Vec<TestRow> {
+    p.changes
+        .iter()
+        .filter(|c| c.is_test())
+        .map(|c| TestRow {
+            kind: kind_text(&c.kind).into(),
+            situation: situation_text(c),
+            pitch: c.pitch_type.clone().unwrap_or_default(),
+            before: shares_or_bits(c, c.before),
+            after: shares_or_bits(c, c.after),
+            effect: effect_text(c),
+            test: test_text(&c.test).into(),
+            p: c.p.map(p_text).unwrap_or_default(),
+            q: c.q.map(p_text).unwrap_or_default(),
+            significant: c.significant,
+        })
+        .collect()
 }
 
 /// Every file of a comparison report.
