@@ -127,86 +127,9 @@ impl PitcherTask {
         }
         let oof = game.iter().map(|g| game_fold[g]).collect();
 
-        let mut folds: Vec<Fold> = (0..plan.n_folds).map(|_| Fold { train: Vec::new(), test: Vec::new() }).collect();
-        let mut discovery = Vec::new();
-        let mut held_out = Vec::new();
-        for i in 0..rows.len() {
-            for (f, fold) in folds.iter_mut().enumerate() {
-                if plan.trains(i, f) {
-                    fold.train.push(i as u32);
-                }
-            }
-            if let Some(f) = plan.test_fold[i] {
-                folds[f as usize].test.push(i as u32);
-            }
-            if plan.discovery[i] {
-                discovery.push(i as u32);
-            }
-            if plan.held_out[i] {
-                held_out.push(i as u32);
-            }
-        }
+        let (folds, discovery, held_out) = plan_rows(plan, rows.len());
 
-        // Situation features.
-        let mut names = Vec::new();
-        let mut kinds = Vec::new();
-        let mut cols: Vec<Vec<u8>> = Vec::new();
-        let one_hand = {
-            let h0 = rows.first().map(|&r| log.throws[r as usize]);
-            rows.iter().all(|&r| Some(log.throws[r as usize]) == h0)
-        };
-        for fc in &sit.factors {
-            // For a pitcher with one throwing hand, batter side and platoon
-            // are the same split; keep the platoon (the coach's word for it).
-            if fc.factor == Factor::Bats && one_hand && sit.has(Factor::Platoon) {
-                continue;
-            }
-            if fc.factor == Factor::PrevPitch {
-                // Only levels he can produce: none and his own types.
-                let mut lv = vec![0u8];
-                lv.extend(types.iter().map(|&t| t as u8 + 1));
-                for code in lv {
-                    names.push(format!("{} = {}", fc.factor, fc.level(code)));
-                    kinds.push(FeatureKind::Level { factor: fc.factor, level: fc.level(code).to_string() });
-                    cols.push(rows.iter().map(|&r| (fc.codes[r as usize] == code) as u8).collect());
-                }
-                continue;
-            }
-            for (code, level) in fc.levels.iter().enumerate() {
-                let col: Vec<u8> = rows.iter().map(|&r| (fc.codes[r as usize] == code as u8) as u8).collect();
-                if col.iter().all(|&c| c == col[0]) {
-                    continue; // constant for him (e.g. his own hand's platoon side)
-                }
-                names.push(format!("{} = {}", fc.factor, level));
-                kinds.push(FeatureKind::Level { factor: fc.factor, level: level.clone() });
-                cols.push(col);
-            }
-        }
-        // Ordinal game state: lets a tree say "two strikes" in one split.
-        names.push("balls".into());
-        kinds.push(FeatureKind::Ordinal { name: "balls", offset: 0 });
-        cols.push(rows.iter().map(|&r| log.balls[r as usize]).collect());
-        names.push("strikes".into());
-        kinds.push(FeatureKind::Ordinal { name: "strikes", offset: 0 });
-        cols.push(rows.iter().map(|&r| log.strikes[r as usize]).collect());
-        if let Some(sd) = &log.score_diff {
-            names.push("score margin".into());
-            kinds.push(FeatureKind::Ordinal { name: "score margin", offset: -5 });
-            cols.push(rows.iter().map(|&r| (sd[r as usize].unwrap_or(0).clamp(-5, 5) + 5) as u8).collect());
-        }
-        let n_situational = names.len();
-        for given in ["count", "batter"] {
-            for (c, &t) in types.iter().enumerate() {
-                let phrase = if given == "count" { "in this count" } else { "against this batter" };
-                names.push(format!("his {} share {phrase}", log.pitch_types[t as usize]));
-                kinds.push(FeatureKind::Prior { class: c, given });
-                cols.push(vec![0; rows.len()]);
-            }
-        }
-        let mut x = FeatureMatrix::new(rows.len(), names);
-        for (f, col) in cols.into_iter().enumerate() {
-            x.column_mut(f).copy_from_slice(&col);
-        }
+        let (x, kinds, n_situational) = features(log, sit, &rows, &types);
         PitcherTask {
             pitcher,
             name: log.pitchers[pitcher as usize].clone(),
@@ -300,3 +223,97 @@ impl PitcherTask {
         self.folds.iter().map(|f| f.test.len()).sum()
     }
 }
+/// A pitcher's feature matrix over `rows`: the situation features (a 0/1
+/// column per level he meets, balls, strikes and the score margin as
+/// ordinals), then one zeroed column per type for the count and batter
+/// priors, which each fit fills. Returns it with each column's kind and
+/// the number of situation features.
+fn features(log: &PitchLog, sit: &Situations, rows: &[u32], types: &[u16]) -> (FeatureMatrix, Vec<FeatureKind>, usize) {
+    // Situation features.
+    let mut names = Vec::new();
+    let mut kinds = Vec::new();
+    let mut cols: Vec<Vec<u8>> = Vec::new();
+    let one_hand = {
+        let h0 = rows.first().map(|&r| log.throws[r as usize]);
+        rows.iter().all(|&r| Some(log.throws[r as usize]) == h0)
+    };
+    for fc in &sit.factors {
+        // For a pitcher with one throwing hand, batter side and platoon
+        // are the same split; keep the platoon (the coach's word for it).
+        if fc.factor == Factor::Bats && one_hand && sit.has(Factor::Platoon) {
+            continue;
+        }
+        if fc.factor == Factor::PrevPitch {
+            // Only levels he can produce: none and his own types.
+            let mut lv = vec![0u8];
+            lv.extend(types.iter().map(|&t| t as u8 + 1));
+            for code in lv {
+                names.push(format!("{} = {}", fc.factor, fc.level(code)));
+                kinds.push(FeatureKind::Level { factor: fc.factor, level: fc.level(code).to_string() });
+                cols.push(rows.iter().map(|&r| (fc.codes[r as usize] == code) as u8).collect());
+            }
+            continue;
+        }
+        for (code, level) in fc.levels.iter().enumerate() {
+            let col: Vec<u8> = rows.iter().map(|&r| (fc.codes[r as usize] == code as u8) as u8).collect();
+            if col.iter().all(|&c| c == col[0]) {
+                continue; // constant for him (e.g. his own hand's platoon side)
+            }
+            names.push(format!("{} = {}", fc.factor, level));
+            kinds.push(FeatureKind::Level { factor: fc.factor, level: level.clone() });
+            cols.push(col);
+        }
+    }
+    // Ordinal game state: lets a tree say "two strikes" in one split.
+    names.push("balls".into());
+    kinds.push(FeatureKind::Ordinal { name: "balls", offset: 0 });
+    cols.push(rows.iter().map(|&r| log.balls[r as usize]).collect());
+    names.push("strikes".into());
+    kinds.push(FeatureKind::Ordinal { name: "strikes", offset: 0 });
+    cols.push(rows.iter().map(|&r| log.strikes[r as usize]).collect());
+    if let Some(sd) = &log.score_diff {
+        names.push("score margin".into());
+        kinds.push(FeatureKind::Ordinal { name: "score margin", offset: -5 });
+        cols.push(rows.iter().map(|&r| (sd[r as usize].unwrap_or(0).clamp(-5, 5) + 5) as u8).collect());
+    }
+    let n_situational = names.len();
+    for given in ["count", "batter"] {
+        for (c, &t) in types.iter().enumerate() {
+            let phrase = if given == "count" { "in this count" } else { "against this batter" };
+            names.push(format!("his {} share {phrase}", log.pitch_types[t as usize]));
+            kinds.push(FeatureKind::Prior { class: c, given });
+            cols.push(vec![0; rows.len()]);
+        }
+    }
+    let mut x = FeatureMatrix::new(rows.len(), names);
+    for (f, col) in cols.into_iter().enumerate() {
+        x.column_mut(f).copy_from_slice(&col);
+    }
+    (x, kinds, n_situational)
+}
+
+/// The plan's folds (training and scored rows of each), discovery rows
+/// and held-out rows, as local indices over `n` rows.
+fn plan_rows(plan: &PitcherPlan, n: usize) -> (Vec<Fold>, Vec<u32>, Vec<u32>) {
+    let mut folds: Vec<Fold> = (0..plan.n_folds).map(|_| Fold { train: Vec::new(), test: Vec::new() }).collect();
+    let mut discovery = Vec::new();
+    let mut held_out = Vec::new();
+    for i in 0..n {
+        for (f, fold) in folds.iter_mut().enumerate() {
+            if plan.trains(i, f) {
+                fold.train.push(i as u32);
+            }
+        }
+        if let Some(f) = plan.test_fold[i] {
+            folds[f as usize].test.push(i as u32);
+        }
+        if plan.discovery[i] {
+            discovery.push(i as u32);
+        }
+        if plan.held_out[i] {
+            held_out.push(i as u32);
+        }
+    }
+    (folds, discovery, held_out)
+}
+
