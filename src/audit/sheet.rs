@@ -134,8 +134,8 @@ pub fn cell_phrase(c: &SheetCell) -> String {
         "{} vs {side} batters: {} {} (n = {}; {} of his pitches all season)",
         c.count,
         c.top_pitch,
-        crate::audit::wording::pct(c.top_share),
+        crate::domain::numbers::pct(c.top_share),
         c.n,
-        crate::audit::wording::pct(c.season_share)
+        crate::domain::numbers::pct(c.season_share)
     )
 }

@@ -1,6 +1,7 @@
 //! Words for the report: situations, tells, advice and the model's rules,
 //! each sentence built from the same values that `summary.json` carries.
 
+use crate::domain::numbers::{pct, q_text};
 use crate::audit::summary::RuleSummary;
 use crate::evaluate::fit::Scored;
 use crate::evaluate::task::{FeatureKind, PitcherTask};
@@ -63,19 +64,6 @@ fn capitalize(s: &str) -> String {
     match c.next() {
         Some(f) => f.to_uppercase().collect::<String>() + c.as_str(),
         None => String::new(),
-    }
-}
-
-pub fn pct(x: f64) -> String {
-    format!("{:.0}%", 100.0 * x)
-}
-
-/// A q-value as a coach reads it.
-pub fn q_text(q: f64) -> String {
-    if q < 0.001 {
-        "q < 0.001".into()
-    } else {
-        format!("q = {:.3}", q)
     }
 }
 

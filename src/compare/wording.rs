@@ -2,19 +2,11 @@
 //! summary of each pitcher, every figure read from the same [`Change`]
 //! values that `summary.json` carries.
 
+use crate::domain::numbers::{bits_text, q_text, share_text};
 use super::summary::{Change, PitcherChanges};
-use crate::audit::wording::{q_text, situation_phrase};
+use crate::audit::wording::situation_phrase;
 use crate::domain::levels::Factor;
 use crate::tells::Situation;
-
-/// A share as a coach reads it: whole percent, one decimal below 1%.
-pub fn share_text(x: f64) -> String {
-    if x > 0.0 && x < 0.0095 {
-        format!("{:.1}%", 100.0 * x)
-    } else {
-        format!("{:.0}%", 100.0 * x)
-    }
-}
 
 /// Two shares that would print alike get a decimal, so a significant
 /// change never reads "from 50% to 50%".
@@ -42,15 +34,6 @@ fn article(t: &str) -> &'static str {
     match t.chars().next().map(|c| c.to_ascii_lowercase()) {
         Some('a' | 'e' | 'i' | 'o' | 'u') => "an",
         _ => "a",
-    }
-}
-
-pub fn bits_text(x: f64) -> String {
-    let s = format!("{x:+.3}");
-    if s == "-0.000" {
-        "+0.000".into()
-    } else {
-        s.replace('-', "−")
     }
 }
 

@@ -5,6 +5,7 @@
 pub mod columns;
 pub mod defaults;
 pub mod levels;
+pub mod numbers;
 pub mod result;
 
 pub use result::PitchResult;

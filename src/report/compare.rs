@@ -4,12 +4,13 @@
 //! `summary.json`, `changes.csv`, `rejected.csv` and the charts under
 //! `charts/` as SVG and PNG.
 
+use crate::domain::numbers::{bits_text, p_text, points, q_text, share_text};
 use super::charts::{self, Chart, ChartError};
 use super::csv::{rejected_csv, Table};
 use super::{unique_stems, ReportFile};
-use crate::audit::wording::q_text;
+
 use crate::compare::summary::{Change, CompareSummary, PeriodFigures, PitcherChanges, Predictability};
-use crate::compare::wording::{bits_text, share_text};
+
 use crate::compare::Comparison;
 use crate::error::{Error, Result};
 use serde::Serialize;
@@ -271,14 +272,6 @@ struct Insufficient {
     why: String,
 }
 
-fn p_text(p: f64) -> String {
-    if p < 0.001 {
-        "< 0.001".into()
-    } else {
-        format!("{p:.3}")
-    }
-}
-
 fn kind_text(k: &str) -> &'static str {
     match k {
         "new_pitch" => "new pitch",
@@ -314,16 +307,6 @@ fn effect_text(c: &Change) -> String {
         "total_variation" => format!("shift {:.0} / 100", 100.0 * c.effect),
         "bits_difference" => bits_text(c.effect),
         _ => points(c.effect),
-    }
-}
-
-/// A share difference in percentage points, "+3 points", never "-0".
-fn points(d: f64) -> String {
-    let r = (100.0 * d).round();
-    if r == 0.0 {
-        "0 points".into()
-    } else {
-        format!("{r:+.0} points")
     }
 }
 

@@ -3,6 +3,7 @@
 //! sentence from the data is escaped; only our own SVG charts are inserted
 //! unescaped.
 
+use crate::domain::numbers::{self, p_text};
 use crate::audit::summary::{PitcherSummary, Summary};
 use crate::audit::wording;
 use crate::error::{Error, Result};
@@ -114,14 +115,6 @@ struct Insufficient {
     why: String,
 }
 
-fn p_text(p: f64) -> String {
-    if p < 0.001 {
-        "< 0.001".into()
-    } else {
-        format!("{p:.3}")
-    }
-}
-
 /// The mix of a pitcher's pitch types in a tell's situation, from the tell
 /// tests of that situation (every type he throws is tested there).
 pub fn situation_mix(his: &[&TellTest], t: &TellTest) -> Vec<(String, f64)> {
@@ -161,8 +154,8 @@ fn location_text(p: &crate::audit::summary::PitcherSummary, fdr: f64) -> String 
     };
     let mut s = format!(
         "Held out, a guess of the plate region from the situation and the pitch was right {} of the time, against {} for always guessing each pitch's usual region ({:+.3} bits per pitch, {} located pitches). Permutation test, regions shuffled within each pitch type's blocks of games: p = {}, q = {} — {verdict}",
-        wording::pct(l.model_accuracy),
-        wording::pct(l.prior_accuracy),
+        numbers::pct(l.model_accuracy),
+        numbers::pct(l.prior_accuracy),
         l.bits_gained,
         l.n,
         p_text(l.p_value),
@@ -248,8 +241,8 @@ fn pitcher_view(
         bits_gained: g(p.bits_gained),
         p_value: g(p.p_value),
         q_value: g(p.q_value),
-        prior_text: wording::pct(g(p.prior_accuracy)),
-        model_text: wording::pct(g(p.model_accuracy)),
+        prior_text: numbers::pct(g(p.prior_accuracy)),
+        model_text: numbers::pct(g(p.model_accuracy)),
         lift_text: format!("{:+.0}%", 100.0 * g(p.lift)),
         bits_text: format!("{:+.3}", g(p.bits_gained)),
         p_text: p_text(g(p.p_value)),
@@ -281,10 +274,10 @@ fn count_rows(p: &PitcherSummary) -> Vec<CountRow> {
             count: c.count.clone(),
             n: c.n,
             top_pitch: c.top_pitch.clone(),
-            share: wording::pct(c.top_share),
-            interval: format!("{}–{}", wording::pct(c.top_share_low), wording::pct(c.top_share_high)),
-            prior: wording::pct(c.prior_accuracy),
-            model: wording::pct(c.model_accuracy),
+            share: numbers::pct(c.top_share),
+            interval: format!("{}–{}", numbers::pct(c.top_share_low), numbers::pct(c.top_share_high)),
+            prior: numbers::pct(c.prior_accuracy),
+            model: numbers::pct(c.model_accuracy),
             q: c.q_value.map(|q| p_text(q)).unwrap_or_else(|| "—".into()),
             more_predictable: c.more_predictable,
         })
@@ -297,9 +290,9 @@ fn type_rows(p: &PitcherSummary) -> Vec<TypeRow> {
         .iter()
         .map(|t| TypeRow {
             pitch_type: t.pitch_type.clone(),
-            train_share: wording::pct(t.train_share),
-            prior: wording::pct(t.prior_accuracy),
-            model: wording::pct(t.model_accuracy),
+            train_share: numbers::pct(t.train_share),
+            prior: numbers::pct(t.prior_accuracy),
+            model: numbers::pct(t.model_accuracy),
             bits: format!("{:+.3}", t.bits_gained),
         })
         .collect()
@@ -315,8 +308,8 @@ fn location_type_rows(p: &PitcherSummary) -> Vec<LocationTypeRow> {
                 .map(|t| LocationTypeRow {
                     pitch_type: t.pitch_type.clone(),
                     n: t.n,
-                    prior: wording::pct(t.prior_accuracy),
-                    model: wording::pct(t.model_accuracy),
+                    prior: numbers::pct(t.prior_accuracy),
+                    model: numbers::pct(t.model_accuracy),
                     bits: format!("{:+.3}", t.bits_gained),
                 })
                 .collect()
@@ -374,8 +367,8 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
         },
         called_text => summary.staff_called_outcomes.as_ref().map(|c| format!(
             "Across the staff, swings at pitches the held-out model called drew whiffs {} of the time, against {} for the same pitch types in the same counts when it guessed otherwise (difference {:+.1} points, 95% interval {:+.1} to {:+.1}; {} called swings in counts where both happened). These are associations in past games: the log never says what the hitter was sitting on.",
-            wording::pct(c.whiff_rate_called),
-            wording::pct(c.expected_whiff_rate),
+            numbers::pct(c.whiff_rate_called),
+            numbers::pct(c.expected_whiff_rate),
             100.0 * (c.whiff_rate_called - c.expected_whiff_rate),
             100.0 * c.diff_low,
             100.0 * c.diff_high,

@@ -2,12 +2,13 @@
 //! pitch with its interval, one point per period; with more than two periods
 //! (e.g. seasons) the points are joined in the order given.
 
+use crate::domain::numbers;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
 use super::{
-    category_ticks_x, check_finite, file_stem, fmt_bits, fmt_n, font, header, legend_row, palette,
+    category_ticks_x, check_finite, file_stem, fmt_n, font, header, legend_row, palette,
     render, text, Chart, ChartError, Mark, Painter, AXIS_TITLE_SIZE, MARGIN, TICK_SIZE,
 };
 
@@ -180,7 +181,7 @@ impl Painter for PredPainter<'_> {
             // Value above the upper cap, clear of the joining line.
             text(
                 root,
-                &fmt_bits(p.bits_gained),
+                &numbers::bits(p.bits_gained),
                 (px, py_hi - 5),
                 &value_font,
                 palette::INK,

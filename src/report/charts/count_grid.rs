@@ -2,12 +2,13 @@
 //! each cell names his most-used pitch in that count, its share and n, and is
 //! shaded by that share (the higher, the easier his pitch is to call).
 
+use crate::domain::numbers;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
 use super::{
-    check_share, file_stem, fmt_n, fmt_pct, font, hatch, header, palette, parse_count, render,
+    check_share, file_stem, fmt_n, font, hatch, header, palette, parse_count, render,
     text, thick_outline, Chart, ChartError, Painter, AXIS_TITLE_SIZE, MARGIN, NOTE_SIZE, TICK_SIZE,
 };
 
@@ -235,7 +236,7 @@ impl Grid<'_> {
                 let fill = palette::sequential(c.top_share);
                 let fg = palette::text_on(fill);
                 root.draw(&Rectangle::new([(x0, y0), (x1, y1)], fill.filled()))?;
-                let pct = fmt_pct(c.top_share);
+                let pct = numbers::pct(c.top_share);
                 let room = (x1 - x0 - 16) as u32;
                 let one_line = format!("{} {pct}", c.top_pitch);
                 let n_text = format!("n = {}", fmt_n(c.n));

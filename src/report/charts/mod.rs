@@ -155,25 +155,6 @@ pub fn fmt_n(n: u64) -> String {
     out
 }
 
-/// A share 0..1 as a whole percentage, `"81%"`.
-pub fn fmt_pct(share: f64) -> String {
-    format!("{:.0}%", share * 100.0)
-}
-
-/// A p- or q-value for a label: three decimals, or "< 0.001".
-pub fn fmt_p(p: f64) -> String {
-    if p < 0.001 {
-        "< 0.001".to_string()
-    } else {
-        format!("= {:.3}", p)
-    }
-}
-
-/// Bits per pitch with a sign: `"+0.042"`.
-pub fn fmt_bits(v: f64) -> String {
-    format!("{:+.3}", v)
-}
-
 /// Drawing code of one chart, written once for every backend.
 pub(crate) trait Painter {
     fn size(&self) -> (u32, u32);
@@ -681,9 +662,5 @@ mod tests {
         assert_eq!(fmt_n(999), "999");
         assert_eq!(fmt_n(1000), "1,000");
         assert_eq!(fmt_n(1234567), "1,234,567");
-        assert_eq!(fmt_pct(0.806), "81%");
-        assert_eq!(fmt_p(0.0004), "< 0.001");
-        assert_eq!(fmt_p(0.0123), "= 0.012");
-        assert_eq!(fmt_bits(0.0421), "+0.042");
     }
 }

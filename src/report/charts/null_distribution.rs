@@ -2,12 +2,13 @@
 //! per pitch) over permutations with shuffled pitch labels, and a rule at the
 //! value the real labels gave.
 
+use crate::domain::numbers;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
 use super::{
-    check_finite, file_stem, fmt_bits, fmt_n, fmt_p, font, header, legend_row, palette, render,
+    check_finite, file_stem, fmt_n, font, header, legend_row, palette, render,
     text, Chart, ChartError, Mark, Painter, AXIS_TITLE_SIZE, MARGIN, NOTE_SIZE, TICK_SIZE,
 };
 
@@ -120,7 +121,7 @@ impl Painter for NullPainter {
                 "{} permutations with shuffled pitch labels; {} at or above the observed value; p {}.",
                 fmt_n(self.permutations),
                 fmt_n(self.exceed),
-                fmt_p(self.p_value)
+                numbers::p_label(self.p_value)
             )],
         )?;
         let legend = [
@@ -176,7 +177,7 @@ impl Painter for NullPainter {
             OBSERVED.filled(),
         ))?;
         let f = font::bold(NOTE_SIZE);
-        let label = format!("observed {}", fmt_bits(self.observed));
+        let label = format!("observed {}", numbers::bits(self.observed));
         let label_w = font::text_width(&label, &f)? as i32;
         let (px_right, _) = chart.backend_coord(&(self.x_range.1, 0.0));
         let (anchor, lx) = if x + 8 + label_w < px_right {

@@ -2,12 +2,13 @@
 //! situation tells about his next pitch (bits gained per pitch, or lift),
 //! sorted, coloured by whether his model test is significant.
 
+use crate::domain::numbers;
 use plotters::coord::Shift;
 use plotters::prelude::*;
 use plotters::style::text_anchor::{HPos, VPos};
 
 use super::{
-    category_ticks_y, check_finite, file_stem, fmt_bits, fmt_n, font, header, legend_row, palette,
+    category_ticks_y, check_finite, file_stem, fmt_n, font, header, legend_row, palette,
     render, text, Chart, ChartError, Mark, Painter, AXIS_TITLE_SIZE, MARGIN, TICK_SIZE,
 };
 
@@ -123,7 +124,7 @@ struct StaffPainter {
 impl StaffPainter {
     fn fmt_value(&self, v: f64) -> String {
         match self.metric {
-            StaffMetric::BitsGained => fmt_bits(v),
+            StaffMetric::BitsGained => numbers::bits(v),
             StaffMetric::Lift => format!("{:+.0}%", v),
         }
     }

@@ -1,0 +1,93 @@
+//! How numbers are spelled for a user: the one place a p-value, a share, a
+//! change in points or bits per pitch is written, so the page, the charts
+//! and the terminal cannot spell one two ways.
+
+/// A p- or q-value in a table: three decimals, or "< 0.001".
+pub fn p_text(p: f64) -> String {
+    if p < 0.001 {
+        "< 0.001".into()
+    } else {
+        format!("{p:.3}")
+    }
+}
+
+/// A p- or q-value after its name on a chart label: "= 0.012" or "< 0.001".
+pub fn p_label(p: f64) -> String {
+    if p < 0.001 {
+        "< 0.001".to_string()
+    } else {
+        format!("= {:.3}", p)
+    }
+}
+
+/// A q-value in a sentence: "q = 0.012" or "q < 0.001".
+pub fn q_text(q: f64) -> String {
+    if q < 0.001 {
+        "q < 0.001".into()
+    } else {
+        format!("q = {:.3}", q)
+    }
+}
+
+/// A share 0..1 as a whole percentage, "81%".
+pub fn pct(x: f64) -> String {
+    format!("{:.0}%", 100.0 * x)
+}
+
+/// A share as a coach reads it in compare: whole percent, one decimal
+/// below 1%.
+pub fn share_text(x: f64) -> String {
+    if x > 0.0 && x < 0.0095 {
+        format!("{:.1}%", 100.0 * x)
+    } else {
+        format!("{:.0}%", 100.0 * x)
+    }
+}
+
+/// A share difference in percentage points, "+3 points", never "-0".
+pub fn points(d: f64) -> String {
+    let r = (100.0 * d).round();
+    if r == 0.0 {
+        "0 points".into()
+    } else {
+        format!("{r:+.0} points")
+    }
+}
+
+/// Bits per pitch with a sign, "+0.042" (the audit's tables and charts).
+pub fn bits(v: f64) -> String {
+    format!("{:+.3}", v)
+}
+
+/// Bits per pitch in compare's sentences: signed, a typographic minus,
+/// never "-0.000".
+pub fn bits_text(x: f64) -> String {
+    let s = format!("{x:+.3}");
+    if s == "-0.000" {
+        "+0.000".into()
+    } else {
+        s.replace('-', "−")
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // Spellings worked by hand from the rules above.
+    #[test]
+    fn spellings() {
+        assert_eq!(p_text(0.0004), "< 0.001");
+        assert_eq!(p_text(0.0123), "0.012");
+        assert_eq!(p_label(0.5), "= 0.500");
+        assert_eq!(q_text(0.0009), "q < 0.001");
+        assert_eq!(pct(0.805), "81%");
+        assert_eq!(share_text(0.004), "0.4%");
+        assert_eq!(share_text(0.5), "50%");
+        assert_eq!(points(-0.004), "0 points");
+        assert_eq!(points(0.031), "+3 points");
+        assert_eq!(bits(0.0421), "+0.042");
+        assert_eq!(bits_text(-0.0001), "+0.000");
+        assert_eq!(bits_text(-0.25), "−0.250");
+    }
+}
