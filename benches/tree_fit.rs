@@ -17,7 +17,9 @@ use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
 
 use tellscope::model::fast_tree::{FastTree, FastTreeWorkspace, GrowOptions, ThresholdScan};
-use tellscope::model::reference_tree::ReferenceTree;
+#[path = "../tests/common/reference_tree.rs"]
+mod reference_tree;
+use reference_tree::ReferenceTree;
 use tellscope::model::{FeatureMatrix, Learner, TreeSettings};
 
 const N_ROWS: usize = 1500;

@@ -20,10 +20,12 @@ use serde::Deserialize;
 
 use tellscope::model::fast_tree::{FastTreeWorkspace, GrowOptions, ThresholdScan};
 use tellscope::model::rules::leaf_rules;
-use tellscope::model::{
-    fast_tree::FastTree, reference_tree::ReferenceTree, FeatureMatrix, Learner, Node, Split, Tree,
-    TreeSettings,
-};
+use tellscope::model::{fast_tree::FastTree, FeatureMatrix, Learner, Node, Split, Tree, TreeSettings};
+
+// The outside reference (linfa-trees) lives with the tests, not the library.
+#[path = "common/reference_tree.rs"]
+mod reference_tree;
+use reference_tree::ReferenceTree;
 
 // ---------- helpers ----------
 

@@ -1,5 +1,5 @@
 //! The fast learner: grows the same Gini tree as linfa-trees 0.8.1 (see
-//! [`super::reference_tree`] for how linfa chooses splits), in a few tens of
+//! `tests/common/reference_tree.rs` for how linfa chooses splits), in a few tens of
 //! microseconds, for the hundreds of permutation refits per pitcher.
 //!
 //! # How it is fast
@@ -104,7 +104,7 @@ pub struct GrowOptions {
 }
 
 impl Default for GrowOptions {
-    /// linfa-compatible: the tree equals [`super::reference_tree::ReferenceTree`]'s.
+    /// linfa-compatible: the tree equals the reference learner's (linfa-trees, `tests/common/reference_tree.rs`).
     fn default() -> Self {
         GrowOptions {
             scan: ThresholdScan::Linfa,

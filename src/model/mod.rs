@@ -7,7 +7,7 @@
 
 pub mod fast_tree;
 pub mod prune;
-pub mod reference_tree;
+
 pub mod rules;
 
 use serde::Serialize;
@@ -26,7 +26,7 @@ pub struct TreeSettings {
     /// much. As in linfa-trees, the decrease is *not* scaled by the node's
     /// share of all training rows (scikit-learn scales it), and values below
     /// `f64::EPSILON` count as `f64::EPSILON`, so a split that lowers nothing
-    /// is never made. See `reference_tree` for the full rule set.
+    /// is never made. See `tests/common/reference_tree.rs` for the full rule set.
     pub min_impurity_decrease: f64,
 }
 

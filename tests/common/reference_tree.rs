@@ -1,7 +1,7 @@
 //! The reference learner: linfa-trees' `DecisionTree` (Gini), converted into
 //! our [`Tree`].
 //!
-//! It exists to check [`super::fast_tree`] against an outside implementation;
+//! It exists to check `tellscope::model::fast_tree` against an outside implementation;
 //! the audit itself uses the fast learner, because linfa breaks some ties by
 //! hash-map order and so is not reproducible run to run (see "Ties" below).
 //!
@@ -75,7 +75,7 @@ use linfa::prelude::*;
 use linfa_trees::{DecisionTree, SplitQuality};
 use ndarray::{Array1, Array2};
 
-use super::{FeatureMatrix, Learner, Node, Split, Tree, TreeSettings};
+use tellscope::model::{FeatureMatrix, Learner, Node, Split, Tree, TreeSettings};
 
 /// linfa-trees' Gini decision tree behind our [`Learner`] trait.
 #[derive(Debug, Clone, Copy, PartialEq)]
