@@ -17,7 +17,6 @@ use crate::settings::Settings;
 use crate::significance::permutation_p::SequentialPermutation;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
-use rayon::prelude::*;
 use sha2::{Digest, Sha256};
 
 /// Outcome of one pitcher's permutation test.
@@ -129,17 +128,6 @@ pub fn null_statistic(null: Null, task: &PitcherTask, settings: &Settings, j: u6
     null.statistic(&scored, settings)
 }
 
-/// Permutations are run in parallel batches of at most this size, then read
-/// in order for the stopping rule.
-const BATCH: usize = 32;
-
-/// A batch is only as large as the fewest permutations after which the test
-/// could stop, but not below this: a pitcher with no tell stops after a few
-/// dozen, so whole batches of 32 would mostly be thrown away. Which
-/// permutations are drawn, and so every result, does not depend on batch
-/// sizes (the stopping rule reads them in order).
-const MIN_BATCH: usize = 4;
-
 pub fn permutation_test(
     task: &PitcherTask,
     observed: Stat,
@@ -214,12 +202,9 @@ pub fn null_test(
     )
 }
 
-/// The one permutation driver: permutations `0..settings.permutations` in
-/// parallel batches, read in order for Besag–Clifford stopping (and the
-/// early decision after `decide_at` when given). `null_stat(j, scratch)` is
-/// permutation `j`'s statistic; `scratch` is one per worker thread, made by
-/// `scratch` and kept across batches (a refit's result never depends on
-/// what it held before, so results are the same at any thread count).
+/// A permutation test of the statistic `observed` through the one driver
+/// (`significance::driver::drive`), `settings.permutations` at most:
+/// `null_stat(j, scratch)` is permutation `j`'s statistic.
 pub fn drive<W: Send>(
     observed: Stat,
     settings: &Settings,
@@ -228,46 +213,23 @@ pub fn drive<W: Send>(
     scratch: impl Fn() -> W + Sync,
     null_stat: impl Fn(u64, &mut W) -> Stat + Sync,
 ) -> PermutationResult {
-    let m = settings.permutations;
-    // The stopping rule counts exceedances; each null value is fed to it as
-    // 1 (reaches the observed pair) or 0 against an observed 0.5.
-    let mut seq = SequentialPermutation::new(0.5, m, settings.stop_after_exceedances);
-    if let Some(m1) = decide_at {
-        seq = seq.with_early_decision(m1);
-    }
-    let mut nulls = Vec::new();
-    let mut start = 0usize;
-    let pool: Vec<std::sync::Mutex<Option<W>>> = (0..rayon::current_num_threads().max(1)).map(|_| std::sync::Mutex::new(None)).collect();
-    while start < m && !seq.is_done() {
-        let size = seq.fewest_left().clamp(MIN_BATCH, BATCH);
-        let end = (start + size).min(m);
-        let stats: Vec<Stat> = (start..end)
-            .into_par_iter()
-            .map(|j| {
-                let slot = rayon::current_thread_index().unwrap_or(0) % pool.len();
-                let mut guard = pool[slot].lock().unwrap_or_else(|e| e.into_inner());
-                let w = guard.get_or_insert_with(&scratch);
-                null_stat(j as u64, w)
-            })
-            .collect();
-        for s in stats {
-            if seq.is_done() {
-                break;
-            }
-            nulls.push(s.primary);
-            seq.push(if s.reaches(&observed) { 1.0 } else { 0.0 });
-        }
-        progress((end - start) as u64);
-        start = end;
-    }
+    let run = crate::significance::driver::drive(
+        settings.permutations,
+        settings.stop_after_exceedances,
+        decide_at,
+        progress,
+        scratch,
+        null_stat,
+        |s: &Stat| s.reaches(&observed),
+    );
     PermutationResult {
         observed: observed.primary,
         observed_tiebreak: observed.secondary,
-        p_value: seq.p_value(),
-        permutations: seq.permutations_run(),
-        stopped_early: seq.stopped_early(),
-        decided_early: seq.decided_early(),
-        null: nulls,
+        p_value: run.p_value,
+        permutations: run.permutations,
+        stopped_early: run.stopped_early,
+        decided_early: run.decided_early,
+        null: run.nulls.iter().map(|s| s.primary).collect(),
     }
 }
 

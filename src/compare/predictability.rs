@@ -37,12 +37,10 @@ use crate::evaluate::task::PitcherTask;
 use crate::evaluate::HeldOut;
 use crate::ingest::PitchLog;
 use crate::settings::Settings;
-use crate::significance::permutation_p::SequentialPermutation;
 use crate::significance::resample::{cluster_bootstrap, BootstrapInterval};
 use crate::significance::Interval;
 use crate::situations::Situations;
 use rand::Rng;
-use rayon::prelude::*;
 use std::collections::BTreeMap;
 
 /// One game's held-out pitches, summed.
@@ -131,10 +129,6 @@ pub struct SwapResult {
     pub bits_interval: Interval,
     pub lift_interval: Option<Interval>,
 }
-
-/// Shuffles are run in parallel batches of this size, then read in order
-/// for the stopping rule (so the result does not depend on thread count).
-const BATCH: usize = 16;
 
 /// A period scored by cross-fitting (see the module).
 #[derive(Debug, Clone)]
@@ -286,40 +280,28 @@ pub fn label_swap_test(
         let a = cross_fit(log, sit, pitcher, &ra, settings, "shuffled period").ok()?;
         Some((studentised(&b, &a), a.figures.bits_gained - b.figures.bits_gained, a.figures.lift - b.figures.lift))
     };
-    let m = permutations;
-    // As in audit::permute: each null value is fed to the stopping rule as
-    // 1 (|T| reaches the observed one) or 0, against 0.5.
-    // Decided early for a clear change after `decide_at` deals (sized by
-    // the other pitchers' pilots, as in the audit).
-    let mut seq = SequentialPermutation::new(0.5, m, settings.stop_after_exceedances);
-    if let Some(m1) = decide_at {
-        seq = seq.with_early_decision(m1);
-    }
+    // A deal that cannot be scored counts as reaching the observed value,
+    // the conservative choice. Decided early for a clear change after
+    // `decide_at` deals (sized by the other pitchers' pilots, as in the
+    // audit).
+    let run = crate::significance::driver::drive(
+        permutations,
+        settings.stop_after_exceedances,
+        decide_at,
+        progress,
+        || (),
+        |j, _| one(j as usize),
+        |s: &Option<(f64, f64, f64)>| match s {
+            Some((t, _, _)) => t.abs() >= t_obs.abs() * (1.0 - 1e-9),
+            None => true,
+        },
+    );
     let (mut spread_bits, mut spread_lift) = (Vec::new(), Vec::new());
-    let mut start = 0;
-    while start < m && !seq.is_done() {
-        let end = (start + BATCH).min(m);
-        let null: Vec<Option<(f64, f64, f64)>> = (start..end).into_par_iter().map(one).collect();
-        for s in null {
-            if seq.is_done() {
-                break;
-            }
-            // A deal that cannot be scored counts as reaching the observed
-            // value, the conservative choice.
-            let reaches = match s {
-                Some((t, d, l)) => {
-                    spread_bits.push(d.abs());
-                    if l.is_finite() {
-                        spread_lift.push(l.abs());
-                    }
-                    t.abs() >= t_obs.abs() * (1.0 - 1e-9)
-                }
-                None => true,
-            };
-            seq.push(if reaches { 1.0 } else { 0.0 });
+    for &(_, d, l) in run.nulls.iter().flatten() {
+        spread_bits.push(d.abs());
+        if l.is_finite() {
+            spread_lift.push(l.abs());
         }
-        progress((end - start) as u64);
-        start = end;
     }
     let half = |mut v: Vec<f64>| -> Option<f64> {
         if v.is_empty() {
@@ -333,9 +315,9 @@ pub fn label_swap_test(
     let bits_half = half(spread_bits).unwrap_or(0.0);
     let lift_interval = half(spread_lift).filter(|_| l_obs.is_finite()).map(|h| Interval { low: l_obs - h, high: l_obs + h });
     SwapResult {
-        p: seq.p_value(),
-        permutations: seq.permutations_run(),
-        stopped_early: seq.stopped_early(),
+        p: run.p_value,
+        permutations: run.permutations,
+        stopped_early: run.stopped_early,
         t: t_obs,
         bits_interval: Interval { low: d_obs - bits_half, high: d_obs + bits_half },
         lift_interval,

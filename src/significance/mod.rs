@@ -5,6 +5,7 @@
 
 pub mod cmh;
 pub mod contingency;
+pub mod driver;
 pub mod fdr;
 pub mod hypergeom;
 pub mod permutation_p;
