@@ -16,7 +16,8 @@ mod common;
 
 use std::collections::BTreeMap;
 use std::sync::OnceLock;
-use tellscope::simulate::{simulate, BatSide, PitchResult, Role, Scenario, SimLog, SimPitch};
+use tellscope::domain::PitchResult;
+use tellscope::simulate::{simulate, BatSide, Role, Scenario, SimLog, SimPitch};
 use tellscope::domain::levels::{
     bases_level, count_level, inning_level, outs_level, platoon_level, score_level,
     times_through_level, Factor, Hand, NO_PREV_PITCH,
@@ -584,6 +585,7 @@ fn counts_outs_and_innings_follow_the_rules() {
             PitchResult::CalledStrike | PitchResult::SwingingStrike => r.strikes == 2,
             PitchResult::Foul => false,
             PitchResult::InPlay | PitchResult::HitByPitch => true,
+            PitchResult::Other => panic!("row {i}: the simulator wrote `other`, which it never draws"),
         };
         assert_eq!(ends, ends_pa(rows, i), "row {i}: {r:?}");
         if !ends {

@@ -26,7 +26,8 @@
 use std::path::{Path, PathBuf};
 use tellscope::ingest::{self, PitchLog};
 use tellscope::settings::{ConfigFile, Overrides, Settings};
-use tellscope::situations::{self, levels::Factor, Situations};
+use tellscope::domain::levels::Factor;
+use tellscope::situations::{self, Situations};
 
 fn fixture(name: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/logs").join(name)

@@ -1,7 +1,7 @@
 //! The fast tree learner against the reference learner (linfa-trees 0.8.1)
 //! and against scikit-learn, and the leaf rules of a hand-built tree.
 //!
-//! linfa is not fully reproducible (see `src/model/reference_tree.rs`): with
+//! linfa is not fully reproducible (see `tests/common/reference_tree.rs`): with
 //! three or more classes its `f32` Gini sums run in `HashMap` order, so among
 //! splits tied to rounding its winner can vary, and the modal class of a tied
 //! leaf, which decides pruning, is random for any number of classes. So

@@ -21,7 +21,8 @@
 use super::flight;
 use super::roster::{Roster, SeasonPlan, Team, NO_PREV};
 use super::scenario::{Outcomes, Scenario};
-use super::{PitchResult, SimGame, SimPitch};
+use super::{SimGame, SimPitch};
+use crate::domain::PitchResult;
 use crate::domain::levels::{
     bases_index, count_index, inning_index, platoon_index, score_index, times_through_index, Hand,
 };

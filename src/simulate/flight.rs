@@ -13,7 +13,7 @@
 //! plate's 17 inches (0.71 ft either side of centre, plus a ball's radius)
 //! and roughly 1.5 to 3.5 ft in height.
 
-use super::PitchResult;
+use crate::domain::PitchResult;
 use crate::domain::levels::Hand;
 use rand::Rng;
 use rand_chacha::ChaCha8Rng;

@@ -29,7 +29,7 @@ pub use scenario::{
 };
 
 use crate::domain::levels::{Factor, Hand};
-pub use crate::domain::PitchResult;
+use crate::domain::PitchResult;
 use std::collections::BTreeMap;
 
 /// The side a batter hits from. A switch hitter bats from the side opposite
