@@ -3,7 +3,9 @@
 //! an input error (exit 2 or 3) naming what is wrong — never a panic, never
 //! an internal error. proptest shrinks a failure to a small case and keeps
 //! it in `tests/fuzz_inputs.proptest-regressions`, replayed first on every
-//! run; damaged files found by hand are kept under `tests/fixtures/fuzz/`
+//! run (a case that aborts the process, as an unbounded allocation does,
+//! cannot be kept that way: `tests/fixtures/fuzz/hunt_aborts.py` hunts
+//! those with the binary); damaged files found by hand are kept under `tests/fixtures/fuzz/`
 //! and replayed by `known_damaged_files_are_input_errors`.
 //!
 //! Budget: `FUZZ_CASES` cases per property (default 256, so CI spends well

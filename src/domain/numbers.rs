@@ -81,7 +81,8 @@ mod tests {
         assert_eq!(p_text(0.0123), "0.012");
         assert_eq!(p_label(0.5), "= 0.500");
         assert_eq!(q_text(0.0009), "q < 0.001");
-        assert_eq!(pct(0.805), "81%");
+        assert_eq!(pct(0.806), "81%");
+        assert_eq!(pct(0.804), "80%");
         assert_eq!(share_text(0.004), "0.4%");
         assert_eq!(share_text(0.5), "50%");
         assert_eq!(points(-0.004), "0 points");

@@ -271,6 +271,7 @@ fn parquet_header(path: &Path, wanted: &[String], file_len: u64) -> Result<Vec<S
     if rows != meta.num_rows {
         return Err(damaged(path, "the file's footer", &format!("its row groups hold {rows} rows, the file declares {}", meta.num_rows)));
     }
+    check_pages(path, &meta, wanted)?;
     for (name, field) in schema.iter() {
         if !wanted.iter().any(|w| w == name.as_str()) {
             continue;
@@ -291,6 +292,58 @@ fn parquet_header(path: &Path, wanted: &[String], file_len: u64) -> Result<Vec<S
         }
     }
     Ok(schema.iter_names().map(|s| s.to_string()).collect())
+}
+
+/// Pages larger than this are refused unread (a pitch log's pages are a few
+/// megabytes at most).
+const MAX_PAGE_BYTES: usize = 1 << 30;
+
+/// Every page header of the wanted columns, read without decoding a value:
+/// a data page may hold at most its column chunk's values. A damaged header
+/// declaring a negative or huge count would otherwise make the decoder
+/// reserve memory without bound, which ends the process instead of failing.
+fn check_pages(path: &Path, meta: &polars_parquet::parquet::metadata::FileMetadata, wanted: &[String]) -> Result<()> {
+    use polars_parquet::parquet::page::{CompressedPage, DataPageHeader};
+    use polars_parquet::parquet::read::PageReader;
+    use std::io::{Read, Seek, SeekFrom};
+    let mut file = std::fs::File::open(path).map_err(|e| Error::io(path, "read the file", e))?;
+    for (g, rg) in meta.row_groups.iter().enumerate() {
+        for c in rg.parquet_columns() {
+            let name = c.descriptor().path_in_schema.join(".");
+            if !wanted.iter().any(|w| *w == name) {
+                continue;
+            }
+            let range = c.byte_range();
+            let mut bytes = vec![0u8; (range.end - range.start) as usize];
+            file.seek(SeekFrom::Start(range.start))
+                .and_then(|_| file.read_exact(&mut bytes))
+                .map_err(|e| Error::io(path, "read the file", e))?;
+            let declared = c.num_values();
+            let bad = catch_decode(|| -> Option<String> {
+                let pages = PageReader::new(std::io::Cursor::new(polars_buffer::Buffer::from(bytes)), c, Vec::new(), MAX_PAGE_BYTES);
+                for page in pages {
+                    let n = match page {
+                        Err(e) => return Some(format!("row group {g}, column {name}: a page header: {e}")),
+                        Ok(CompressedPage::Data(p)) => match p.header() {
+                            DataPageHeader::V1(h) => h.num_values as i64,
+                            DataPageHeader::V2(h) => h.num_values as i64,
+                        },
+                        Ok(CompressedPage::Dict(_)) => continue,
+                    };
+                    if n < 0 || n > declared {
+                        return Some(format!("row group {g}, column {name}: a page declares {n} values, its column chunk {declared}"));
+                    }
+                }
+                None
+            });
+            match bad {
+                Err(panic) => return Err(damaged(path, &format!("column \"{name}\"'s page headers"), panic.as_str())),
+                Ok(Some(b)) => return Err(damaged(path, &format!("column \"{name}\""), &b)),
+                Ok(None) => {}
+            }
+        }
+    }
+    Ok(())
 }
 
 /// Read a few Parquet columns; a decoder that fails or panics on damaged
