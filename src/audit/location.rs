@@ -288,13 +288,12 @@ pub fn audit(
     let with: Vec<usize> = (0..locs.len()).filter(|&i| locs[i].has_figures()).collect();
     let clear: Vec<bool> =
         with.par_iter().map(|&i| pilot_clear(&locs[i], &tasks[i].name, observed[i].totals.bits_stat(), settings)).collect();
-    let all_clear = clear.iter().filter(|&&c| c).count();
+    let sizes = permute::decision_sizes(&clear, settings.fdr);
     timer.lap("location: pilots");
     let perms: Vec<PermutationResult> = with
         .par_iter()
-        .zip(clear.par_iter())
-        .map(|(&i, &mine)| {
-            let m1 = permute::decision_at(with.len(), all_clear - mine as usize, settings.fdr);
+        .zip(sizes.par_iter())
+        .map(|(&i, &m1)| {
             let (loc, name) = (&locs[i], &tasks[i].name);
             permute::drive(observed[i].totals.bits_stat(), settings, Some(m1), progress, || scratch(loc), |j, s| null_statistic(loc, name, settings, j, s))
         })

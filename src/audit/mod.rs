@@ -433,13 +433,12 @@ fn permutation_tests(
 ) -> Vec<(permute::PermutationResult, permute::PermutationResult)> {
     let clear: Vec<bool> =
         ok_tasks.par_iter().zip(observed.par_iter()).map(|(t, o)| permute::pilot_clear(t, o.statistic, settings)).collect();
-    let all_clear = clear.iter().filter(|&&c| c).count();
+    let sizes = permute::decision_sizes(&clear, settings.fdr);
     ok_tasks
         .par_iter()
         .zip(observed.par_iter())
-        .zip(clear.par_iter())
-        .map(|((t, o), &mine)| {
-            let m1 = permute::decision_at(ok_tasks.len(), all_clear - mine as usize, settings.fdr);
+        .zip(sizes.par_iter())
+        .map(|((t, o), &m1)| {
             let whole = permute::permutation_test(t, o.statistic, settings, Some(m1), tick);
             let beyond = permute::null_test(permute::Null::BeyondSheet, t, o.beyond, settings, None, tick);
             (whole, beyond)

@@ -174,6 +174,14 @@ pub fn decision_at(family: usize, others_clear: usize, fdr: f64) -> usize {
     SequentialPermutation::decision_size(tests, fdr)
 }
 
+/// Each test's early-decision size in a family whose pilots were `clear`
+/// (one per test, in order): the size from the family and how many of the
+/// *other* tests' pilots were clear, so a test's own pilot never sizes it.
+pub fn decision_sizes(clear: &[bool], fdr: f64) -> Vec<usize> {
+    let all_clear = clear.iter().filter(|&&c| c).count();
+    clear.iter().map(|&mine| decision_at(clear.len(), all_clear - mine as usize, fdr)).collect()
+}
+
 /// The permutation test of `null` (one driver for both tests): batches in
 /// parallel, read in order for Besag–Clifford stopping; the whole-model
 /// test is also decided early for a clear effect after `decide_at`
@@ -240,8 +248,20 @@ mod decision_tests {
     /// The early decision's size: with no other clear pilot, four times the
     /// size that passes Benjamini–Hochberg alone (4N / fdr); with many, the
     /// size that passes it with a quarter of the pilots' clear effects.
+    /// A test's own pilot never sizes its decision: a family of one is
+    /// sized alike whether its pilot was clear or not, and each member of a
+    /// family is sized from the others' clear pilots only.
     #[test]
-    fn decision_sizes() {
+    fn sizes_count_only_the_other_pilots() {
+        assert_eq!(decision_sizes(&[true], 0.05), decision_sizes(&[false], 0.05));
+        assert_eq!(
+            decision_sizes(&[true, false, true], 0.05),
+            vec![decision_at(3, 1, 0.05), decision_at(3, 2, 0.05), decision_at(3, 1, 0.05)]
+        );
+    }
+
+    #[test]
+    fn decision_size_from_family_and_pilots() {
         assert_eq!(decision_at(18, 0, 0.05), 1440);
         // 17 foreseen rejections, a quarter of them 4.25: 18 / 4.25 → 5 tests → 100.
         assert_eq!(decision_at(18, 16, 0.05), 100);

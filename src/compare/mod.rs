@@ -531,7 +531,7 @@ fn swap_tests(
     permutations: usize,
     show_progress: bool,
 ) -> Vec<(predictability::SwapResult, Option<f64>)> {
-    use crate::audit::permute::{decision_at, PILOT};
+    use crate::audit::permute::{decision_sizes, PILOT};
     let bar = crate::progress::bar((ready.len() * permutations) as u64, "label swaps", show_progress);
     let tick = |n: u64| bar.inc(n);
     let none = |_: u64| {};
@@ -544,14 +544,13 @@ fn swap_tests(
             pilot.permutations == PILOT && pilot.p <= 1.0 / (PILOT as f64 + 1.0) + 1e-12
         })
         .collect();
-    let all_clear = clear.iter().filter(|&&c| c).count();
+    let sizes = decision_sizes(&clear, settings.fdr);
     let swaps = ready
         .par_iter()
-        .zip(clear.par_iter())
-        .map(|((p, rows, fits), &mine)| {
+        .zip(sizes.par_iter())
+        .map(|((p, rows, fits), &m1)| {
             let name = &log.pitchers[*p as usize];
             let observed = [&fits[0].cross, &fits[1].cross];
-            let m1 = decision_at(ready.len(), all_clear - mine as usize, settings.fdr);
             let swap = predictability::label_swap_test(log, sit, *p, name, &rows[0], &rows[1], observed, settings, permutations, Some(m1), "label-swap", &tick);
             (swap, predictability::transfer(log, sit, *p, &rows[0], &rows[1], settings))
         })
