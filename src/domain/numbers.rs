@@ -83,12 +83,15 @@ mod tests {
         assert_eq!(q_text(0.0009), "q < 0.001");
         assert_eq!(pct(0.806), "81%");
         assert_eq!(pct(0.804), "80%");
+        assert_eq!(share_text(0.0), "0%");
         assert_eq!(share_text(0.004), "0.4%");
         assert_eq!(share_text(0.5), "50%");
+        assert_eq!(share_text(0.851), "85%");
         assert_eq!(points(-0.004), "0 points");
         assert_eq!(points(0.031), "+3 points");
         assert_eq!(bits(0.0421), "+0.042");
         assert_eq!(bits_text(-0.0001), "+0.000");
         assert_eq!(bits_text(-0.25), "−0.250");
+        assert_eq!(bits_text(-0.0612), "−0.061");
     }
 }
