@@ -4,7 +4,7 @@
 use crate::error::{Error, Result};
 use crate::model::TreeSettings;
 use crate::domain::columns::{OPTIONAL_COLUMNS, REQUIRED_COLUMNS};
-use crate::domain::defaults::{COMPARE_PERMUTATIONS, DEFAULT_SEED};
+use crate::domain::defaults::{AUDIT_PERMUTATIONS, COMPARE_PERMUTATIONS, DEFAULT_SEED, FDR};
 use crate::domain::levels::Factor;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
@@ -132,53 +132,214 @@ pub enum PriorStrength {
     Fixed(f64),
 }
 
-/// Every validated setting of a run.
-#[derive(Debug, Clone, PartialEq, Serialize)]
+/// Every validated setting of a run, one checked value per config section.
+/// Each part's fields are private and it is built only by
+/// [`Settings::resolve`], so later stages cannot hold a value that failed
+/// validation; they read it through the part's getters.
+#[derive(Debug, Clone, PartialEq)]
 pub struct Settings {
-    #[serde(skip)]
-    pub columns: BTreeMap<String, String>,
-    #[serde(skip)]
-    pub pitch_groups: BTreeMap<String, String>,
-    pub seed: u64,
-    pub permutations: usize,
-    pub fdr: f64,
-    pub statistic: Statistic,
-    pub stop_after_exceedances: usize,
-    pub min_train_pitches: usize,
-    pub min_test_pitches: usize,
-    pub forward_blocks: usize,
-    pub new_type_share: f64,
-    /// A pitch type enters his location figures with this many located
-    /// pitches to learn from and to score.
-    pub location_min_train: usize,
-    pub location_min_test: usize,
-    pub tree: TreeSettings,
-    pub leaf_smoothing: f64,
-    pub prior_blend: f64,
-    pub split_alpha: f64,
-    pub prior_strength: PriorStrength,
-    pub min_type_pitches: usize,
-    pub tell_min_effect: f64,
-    pub tell_min_n: usize,
-    pub tell_pairs: Vec<(Factor, Factor)>,
-    pub tell_fdr_method: FdrMethod,
-    pub new_pitch_share: f64,
-    pub absent_share: f64,
-    pub bootstrap: usize,
-    pub compare_permutations: usize,
-    pub strict: bool,
-    pub test_season: Option<i32>,
-    pub pitchers: Vec<String>,
+    /// `[columns]`, `[pitch_groups]` and `--strict`: how the log is read.
+    pub input: InputParams,
+    /// `[audit]` and the run's flags: who is audited, how it is tested.
+    pub audit: AuditParams,
+    /// `[model]`: the tree and its probabilities.
+    pub tree: TreeParams,
+    /// `[tells]`.
+    pub tells: TellParams,
+    /// `[location]`.
+    pub location: LocationParams,
+    /// `[compare]`.
+    pub compare: CompareParams,
+}
+
+/// Getters returning a copy of each named field.
+macro_rules! copy_getters {
+    ($t:ty { $($(#[$doc:meta])* $f:ident : $ty:ty),* $(,)? }) => {
+        impl $t {
+            $($(#[$doc])* pub fn $f(&self) -> $ty { self.$f })*
+        }
+    };
+}
+
+/// How the log is read.
+#[derive(Debug, Clone, PartialEq)]
+pub struct InputParams {
+    columns: BTreeMap<String, String>,
+    pitch_groups: BTreeMap<String, String>,
+    strict: bool,
+}
+
+impl InputParams {
+    /// The header name the file uses for a contract column.
+    pub fn file_column<'a>(&'a self, contract: &'a str) -> &'a str {
+        self.columns.get(contract).map(String::as_str).unwrap_or(contract)
+    }
+
+    /// The group a raw pitch label belongs to (itself when ungrouped).
+    pub fn pitch_group<'a>(&'a self, label: &'a str) -> &'a str {
+        self.pitch_groups.get(label).map(String::as_str).unwrap_or(label)
+    }
+
+    /// The same reading with `--strict` off: to keep a failed run's
+    /// rejected rows.
+    pub fn lenient(&self) -> InputParams {
+        InputParams { strict: false, ..self.clone() }
+    }
+
+    /// `--strict`: any rejected row fails the run.
+    pub fn strict(&self) -> bool {
+        self.strict
+    }
+}
+
+/// Who is audited, on what, and how each pitcher's model is tested.
+#[derive(Debug, Clone, PartialEq)]
+pub struct AuditParams {
+    seed: u64,
+    permutations: usize,
+    fdr: f64,
+    statistic: Statistic,
+    stop_after_exceedances: usize,
+    min_train_pitches: usize,
+    min_test_pitches: usize,
+    forward_blocks: usize,
+    new_type_share: f64,
+    test_season: Option<i32>,
+    pitchers: Vec<String>,
+    team: Option<String>,
+}
+
+copy_getters!(AuditParams {
+    /// The random seed of every shuffle and resample.
+    seed: u64,
+    /// Permutations per pitcher (compare: label swaps).
+    permutations: usize,
+    /// False discovery rate of every flag.
+    fdr: f64,
+    /// Which held-out statistic the permutation test scores.
+    statistic: Statistic,
+    /// Besag–Clifford h: stop a pitcher's permutations after this many null
+    /// values at or above the observed one.
+    stop_after_exceedances: usize,
+    min_train_pitches: usize,
+    min_test_pitches: usize,
+    /// Blocks of games: of each pitcher's latest season in the rolling
+    /// scheme, of a period in compare's forward-chaining.
+    forward_blocks: usize,
+    /// A held-out pitch of a type under this share of the training pitches
+    /// is new to him.
+    new_type_share: f64,
+    /// `--test-season`: score this season from the ones before it.
+    test_season: Option<i32>,
+});
+
+impl AuditParams {
+    /// `--pitcher`: audit only these (empty: everyone).
+    pub fn pitchers(&self) -> &[String] {
+        &self.pitchers
+    }
+
     /// `--team`: audit the pitchers who pitched for this club in the log's
     /// latest season; every other pitcher is the league.
-    pub team: Option<String>,
+    pub fn team(&self) -> Option<&str> {
+        self.team.as_deref()
+    }
 }
+
+/// The tree's growth rules and how its leaves' probabilities are smoothed.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TreeParams {
+    growth: TreeSettings,
+    leaf_smoothing: f64,
+    prior_blend: f64,
+    split_alpha: f64,
+    prior_strength: PriorStrength,
+    min_type_pitches: usize,
+}
+
+copy_getters!(TreeParams {
+    /// Depth and leaf-size rules of the learner.
+    growth: TreeSettings,
+    /// Pseudo-count pulling a leaf's pitch mix toward the pitcher's mix.
+    leaf_smoothing: f64,
+    /// Weight of his usage prior blended into every node's mix.
+    prior_blend: f64,
+    /// A split is kept when its Bonferroni-adjusted G-test p-value is at or
+    /// below this.
+    split_alpha: f64,
+    /// Pseudo-count of the shrunk count and batter priors.
+    prior_strength: PriorStrength,
+    /// A pitch type needs this many training pitches for its one-vs-rest figures.
+    min_type_pitches: usize,
+});
+
+/// What a tell must show to be tested and flagged.
+#[derive(Debug, Clone, PartialEq)]
+pub struct TellParams {
+    min_effect: f64,
+    min_n: usize,
+    pairs: Vec<(Factor, Factor)>,
+    fdr_method: FdrMethod,
+}
+
+copy_getters!(TellParams {
+    /// The smallest change in a pitch's share worth flagging.
+    min_effect: f64,
+    /// The fewest pitches in a situation for it to be tested.
+    min_n: usize,
+    /// How the run's tell tests are corrected for multiplicity.
+    fdr_method: FdrMethod,
+});
+
+impl TellParams {
+    /// Two-factor situations tested besides every single level.
+    pub fn pairs(&self) -> &[(Factor, Factor)] {
+        &self.pairs
+    }
+}
+
+/// How many located pitches of one type the location model needs.
+#[derive(Debug, Clone, PartialEq)]
+pub struct LocationParams {
+    min_train: usize,
+    min_test: usize,
+}
+
+copy_getters!(LocationParams {
+    /// Located pitches of the type to learn from.
+    min_train: usize,
+    /// Located pitches of the type to score.
+    min_test: usize,
+});
+
+/// The comparison of two periods.
+#[derive(Debug, Clone, PartialEq)]
+pub struct CompareParams {
+    new_pitch_share: f64,
+    absent_share: f64,
+    bootstrap: usize,
+    permutations: usize,
+}
+
+copy_getters!(CompareParams {
+    /// A type at or above this share in one period ...
+    new_pitch_share: f64,
+    /// ... and below this share in the other is new (or dropped).
+    absent_share: f64,
+    /// Resamples of each bootstrap interval.
+    bootstrap: usize,
+    /// Label swaps per pitcher for the predictability change.
+    permutations: usize,
+});
 
 /// Flags that override the config file.
 #[derive(Debug, Clone, Default)]
 pub struct Overrides {
     pub seed: Option<u64>,
+    /// The audit's permutations per pitcher.
     pub permutations: Option<usize>,
+    /// Compare's label swaps per pitcher.
+    pub compare_permutations: Option<usize>,
     pub fdr: Option<f64>,
     pub strict: bool,
     pub test_season: Option<i32>,
@@ -296,21 +457,19 @@ impl Settings {
                 out
             }
         };
-        let tree = TreeSettings {
+        let growth = TreeSettings {
             max_depth: check_range("[model] max_depth", m.max_depth.unwrap_or(6), 1, 20)?,
             min_samples_leaf: check_range("[model] min_samples_leaf", m.min_samples_leaf.unwrap_or(20), 1, 100_000)?,
             min_samples_split: check_range("[model] min_samples_split", m.min_samples_split.unwrap_or(40), 2, 100_000)?,
             min_impurity_decrease: check_range("[model] min_impurity_decrease", m.min_impurity_decrease.unwrap_or(0.0), 0.0, 1.0)?,
         };
-        let fdr = o.fdr.or(a.fdr).unwrap_or(0.05);
+        let fdr = o.fdr.or(a.fdr).unwrap_or(FDR);
         if !(fdr > 0.0 && fdr < 1.0) {
             return Err(Error::Usage(format!("--fdr {fdr} must lie strictly between 0 and 1, e.g. 0.05")));
         }
-        let permutations = o.permutations.or(a.permutations).unwrap_or(999);
+        let permutations = o.permutations.or(a.permutations).unwrap_or(AUDIT_PERMUTATIONS);
         check_range("--permutations", permutations, 0, 1_000_000)?;
-        Ok(Settings {
-            columns: cfg.columns.clone(),
-            pitch_groups: groups,
+        let audit = AuditParams {
             seed: o.seed.or(a.seed).unwrap_or(DEFAULT_SEED),
             permutations,
             fdr,
@@ -320,16 +479,23 @@ impl Settings {
             min_test_pitches: check_range("[audit] min_test_pitches", a.min_test_pitches.unwrap_or(100), 20, 10_000_000)?,
             forward_blocks: check_range("[audit] forward_blocks", a.forward_blocks.unwrap_or(5), 2, 50)?,
             new_type_share: check_range("[audit] new_type_share", a.new_type_share.unwrap_or(0.01), 0.0, 0.5)?,
-            tree,
+            test_season: o.test_season,
+            pitchers: o.pitchers.clone(),
+            team: o.team.clone(),
+        };
+        let tree = TreeParams {
+            growth,
             leaf_smoothing: check_range("[model] leaf_smoothing", m.leaf_smoothing.unwrap_or(10.0), 0.01, 1e6)?,
             prior_blend: check_range("[model] prior_blend", m.prior_blend.unwrap_or(0.3), 0.0, 1.0)?,
             split_alpha: check_range("[model] split_alpha", m.split_alpha.unwrap_or(0.05), 1e-12, 1.0)?,
             prior_strength,
             min_type_pitches: check_range("[model] min_type_pitches", m.min_type_pitches.unwrap_or(30), 1, 1_000_000)?,
-            tell_min_effect: check_range("[tells] min_effect", t.min_effect.unwrap_or(0.10), 0.0, 1.0)?,
-            tell_min_n: check_range("[tells] min_n", t.min_n.unwrap_or(20), 1, 1_000_000)?,
-            tell_pairs: pairs,
-            tell_fdr_method: match t.fdr_method.as_deref().unwrap_or("hierarchical") {
+        };
+        let tells = TellParams {
+            min_effect: check_range("[tells] min_effect", t.min_effect.unwrap_or(0.10), 0.0, 1.0)?,
+            min_n: check_range("[tells] min_n", t.min_n.unwrap_or(20), 1, 1_000_000)?,
+            pairs,
+            fdr_method: match t.fdr_method.as_deref().unwrap_or("hierarchical") {
                 "hierarchical" => FdrMethod::Hierarchical,
                 "pooled" => FdrMethod::Pooled,
                 other => {
@@ -338,32 +504,22 @@ impl Settings {
                     )))
                 }
             },
-            location_min_train: check_range("[location] min_train_pitches", cfg.location.min_train_pitches.unwrap_or(150), 30, 10_000_000)?,
-            location_min_test: check_range("[location] min_test_pitches", cfg.location.min_test_pitches.unwrap_or(50), 10, 10_000_000)?,
-            new_pitch_share: check_range("[compare] new_pitch_share", cfg.compare.new_pitch_share.unwrap_or(0.05), 0.0, 1.0)?,
-            absent_share: check_range("[compare] absent_share", cfg.compare.absent_share.unwrap_or(0.01), 0.0, 1.0)?,
-            bootstrap: check_range("[compare] bootstrap", cfg.compare.bootstrap.unwrap_or(400), 50, 100_000)?,
-            compare_permutations: check_range(
-                "[compare] permutations",
-                cfg.compare.permutations.unwrap_or(COMPARE_PERMUTATIONS),
-                0,
-                1_000_000,
-            )?,
-            strict: o.strict,
-            test_season: o.test_season,
-            pitchers: o.pitchers.clone(),
-            team: o.team.clone(),
-        })
-    }
-
-    /// The header name the file uses for a contract column.
-    pub fn file_column<'a>(&'a self, contract: &'a str) -> &'a str {
-        self.columns.get(contract).map(String::as_str).unwrap_or(contract)
-    }
-
-    /// The group a raw pitch label belongs to (itself when ungrouped).
-    pub fn pitch_group<'a>(&'a self, label: &'a str) -> &'a str {
-        self.pitch_groups.get(label).map(String::as_str).unwrap_or(label)
+        };
+        let location = LocationParams {
+            min_train: check_range("[location] min_train_pitches", cfg.location.min_train_pitches.unwrap_or(150), 30, 10_000_000)?,
+            min_test: check_range("[location] min_test_pitches", cfg.location.min_test_pitches.unwrap_or(50), 10, 10_000_000)?,
+        };
+        let c = &cfg.compare;
+        let compare = CompareParams {
+            new_pitch_share: check_range("[compare] new_pitch_share", c.new_pitch_share.unwrap_or(0.05), 0.0, 1.0)?,
+            absent_share: check_range("[compare] absent_share", c.absent_share.unwrap_or(0.01), 0.0, 1.0)?,
+            bootstrap: check_range("[compare] bootstrap", c.bootstrap.unwrap_or(400), 50, 100_000)?,
+            permutations: check_range(
+                if o.compare_permutations.is_some() { "--permutations" } else { "[compare] permutations" },
+                o.compare_permutations.or(c.permutations).unwrap_or(COMPARE_PERMUTATIONS), 0, 1_000_000)?,
+        };
+        let input = InputParams { columns: cfg.columns.clone(), pitch_groups: groups, strict: o.strict };
+        Ok(Settings { input, audit, tree, tells, location, compare })
     }
 }
 
@@ -374,9 +530,10 @@ mod tests {
     #[test]
     fn defaults_validate() {
         let s = Settings::resolve(&ConfigFile::default(), &Overrides::default()).unwrap();
-        assert_eq!(s.permutations, 999);
-        assert_eq!(s.fdr, 0.05);
-        assert_eq!(s.tell_pairs.len(), 4);
+        assert_eq!(s.audit.permutations(), 999);
+        assert_eq!(s.audit.fdr(), 0.05);
+        assert_eq!(s.tells.pairs().len(), 4);
+        assert_eq!(s.compare.permutations(), 1999);
     }
 
     #[test]

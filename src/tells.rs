@@ -223,7 +223,7 @@ fn definitions(sit: &Situations, settings: &Settings) -> Vec<Vec<Factor>> {
         }
         defs.push(vec![fc.factor]);
     }
-    for &(a, b) in &settings.tell_pairs {
+    for &(a, b) in settings.tells.pairs() {
         if sit.has(a) && sit.has(b) {
             defs.push(vec![a, b]);
         }
@@ -360,7 +360,7 @@ pub fn find_in(
             let team = task.rows.first().map(|&r| team_of_row(r as usize)).unwrap_or(0) as usize;
             for k in 0..n_keys {
                 let n = disc_n[k];
-                if (n as usize) < settings.tell_min_n || big_n - n < settings.tell_min_n as u32 {
+                if (n as usize) < settings.tells.min_n() || big_n - n < settings.tells.min_n() as u32 {
                     continue;
                 }
                 for cls in 0..kc {
@@ -454,9 +454,9 @@ pub fn finish(tests: Vec<TellTest>, settings: &Settings) -> Vec<TellTest> {
 /// least the minimum; then mark the narrowings.
 pub fn flag(tests: &mut [TellTest], settings: &Settings) {
     for t in tests.iter_mut() {
-        t.flagged = t.q_value <= settings.fdr && t.effect() >= settings.tell_min_effect;
+        t.flagged = t.q_value <= settings.audit.fdr() && t.effect() >= settings.tells.min_effect();
     }
-    mark_narrowings(tests, settings.tell_min_effect);
+    mark_narrowings(tests, settings.tells.min_effect());
 }
 
 /// The staff's share of pitch type `gtype` in situation `key` (discovery
@@ -496,7 +496,7 @@ fn beyond_tests(
     let team = task.rows.first().map(|&r| team_of_row(r as usize)).unwrap_or(0) as usize;
     for k in 0..n_keys {
         let n = disc_n[k];
-        if (n as usize) < settings.tell_min_n || big_n - n < settings.tell_min_n as u32 {
+        if (n as usize) < settings.tells.min_n() || big_n - n < settings.tells.min_n() as u32 {
             continue;
         }
         for cls in 0..kc {
@@ -713,7 +713,7 @@ pub fn fdr_q_values<K: Ord + Clone>(keys: &[K], p: &[f64], settings: &Settings) 
     if n == 0 {
         return (Vec::new(), Vec::new());
     }
-    if settings.tell_fdr_method == crate::settings::FdrMethod::Pooled {
+    if settings.tells.fdr_method() == crate::settings::FdrMethod::Pooled {
         let q = fdr::bh_q_values(p);
         return (q.clone(), q);
     }
@@ -725,11 +725,11 @@ pub fn fdr_q_values<K: Ord + Clone>(keys: &[K], p: &[f64], settings: &Settings) 
     let fam_p: Vec<f64> = fam.iter().map(|idx| simes(&idx.iter().map(|&i| p[i]).collect::<Vec<_>>())).collect();
     let fam_q = fdr::bh_q_values(&fam_p);
     let m = fam.len() as f64;
-    let r = fam_q.iter().filter(|&&q| q <= settings.fdr).count().max(1) as f64;
+    let r = fam_q.iter().filter(|&&q| q <= settings.audit.fdr()).count().max(1) as f64;
     let (mut q_out, mut f_out) = (vec![1.0; n], vec![1.0; n]);
     for (f, idx) in fam.iter().enumerate() {
         let within = fdr::bh_q_values(&idx.iter().map(|&i| p[i]).collect::<Vec<_>>());
-        let selected = fam_q[f] <= settings.fdr;
+        let selected = fam_q[f] <= settings.audit.fdr();
         for (&i, w) in idx.iter().zip(within) {
             let mut q = (w * m / r).min(1.0);
             if !selected {

@@ -107,7 +107,7 @@ fn the_new_pitch_is_called_out() {
     let unseen = p.n_unseen_type.unwrap();
     assert!((60..=200).contains(&unseen), "{unseen} new-type pitches");
     assert!(p.cautions.iter().any(|c| c.contains("cutter")), "{:?}", p.cautions);
-    let s = Settings { test_season: Some(2026), ..settings(19) };
+    let s = Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(19), test_season: Some(2026), ..Overrides::default() }).unwrap();
     let a = audit::run(&demo_log(), &s, false).unwrap();
     let p = a.summary.pitchers.iter().find(|p| p.pitcher == "Wes Halloran").unwrap();
     assert_eq!(p.evaluation.scheme, "season-forward");
@@ -160,7 +160,7 @@ fn held_out_labels_never_shape_the_fit() {
     use rand::{seq::SliceRandom, SeedableRng};
     use tellscope::evaluate::{fit::fit_and_score, fit::Workspace, split::Plan, task::PitcherTask};
     let s = settings(9);
-    let ing = tellscope::ingest::load(&demo_log(), &s).unwrap();
+    let ing = tellscope::ingest::load(&demo_log(), &s.input).unwrap();
     let sit = tellscope::situations::build(&ing.log);
     let plan = Plan::new(&ing.log, None, 5).unwrap();
     for name in ["Oren Vasquell", "Jory Kestenbaum"] {

@@ -23,7 +23,11 @@ fn root() -> &'static Path {
 }
 
 fn settings(permutations: usize) -> Settings {
-    Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(permutations), ..Overrides::default() }).unwrap()
+    seeded(permutations, None)
+}
+
+fn seeded(permutations: usize, seed: Option<u64>) -> Settings {
+    Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(permutations), seed, ..Overrides::default() }).unwrap()
 }
 
 fn demo() -> &'static Audit {
@@ -124,7 +128,7 @@ fn beyond_runs(logs: impl Iterator<Item = (u64, SimLog)>, tag: &str) -> (u64, u6
     let (mut runs, mut with_tell, mut p) = (0, 0, Vec::new());
     for (seed, log) in logs {
         let path = write(&log, tag, seed);
-        let a = audit::run(&path, &Settings { seed: 31 + seed, ..settings(199) }, false).unwrap();
+        let a = audit::run(&path, &seeded(199, Some(31 + seed)), false).unwrap();
         runs += 1;
         with_tell += a.summary.pitchers.iter().any(|p| p.tells.iter().any(|t| t.layer == Layer::Beyond)) as u64;
         p.extend(a.summary.pitchers.iter().filter_map(|p| p.beyond_p_value));

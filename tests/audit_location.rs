@@ -22,8 +22,8 @@ fn scenario(name: &str) -> Scenario {
 }
 
 fn settings(permutations: usize, seed: u64) -> Settings {
-    let s = Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(permutations), ..Overrides::default() }).unwrap();
-    Settings { seed, ..s }
+    let o = Overrides { permutations: Some(permutations), compare_permutations: Some(permutations), seed: Some(seed), ..Overrides::default() };
+    Settings::resolve(&ConfigFile::default(), &o).unwrap()
 }
 
 fn audit_of(scn: &Scenario, sim_seed: u64, s: &Settings, tag: &str) -> audit::Audit {
@@ -137,7 +137,6 @@ fn compare_finds_a_moved_pitch_and_only_that() {
     let request = Request {
         before: PeriodSpec::parse("--before", "2025").unwrap(),
         after: PeriodSpec::parse("--after", "2026").unwrap(),
-        permutations: 99,
     };
     let c = compare::run(&path, &settings(99, 5), &request, false).unwrap();
     std::fs::remove_dir_all(&dir).ok();

@@ -22,7 +22,11 @@ fn root() -> &'static Path {
 }
 
 fn settings(permutations: usize) -> Settings {
-    Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(permutations), ..Overrides::default() }).unwrap()
+    seeded(permutations, None)
+}
+
+fn seeded(permutations: usize, seed: Option<u64>) -> Settings {
+    Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(permutations), seed, ..Overrides::default() }).unwrap()
 }
 
 fn scenario(name: &str) -> String {
@@ -91,7 +95,8 @@ fn an_added_pitch_does_not_move_the_headline() {
         assert!(bits.abs() <= margin, "{}: bits {bits:.4}, margin {margin:.4}", p.pitcher);
         assert!(p.arsenal_changes.iter().any(|c| c.change == "added"), "{}: no arsenal change flagged", p.pitcher);
     }
-    let old = Settings { test_season: Some(2026), new_type_share: 0.0, prior_blend: 0.0, ..settings(19) };
+    let cfg: ConfigFile = toml::from_str("[audit]\nnew_type_share = 0.0\n[model]\nprior_blend = 0.0\n").unwrap();
+    let old = Settings::resolve(&cfg, &Overrides { permutations: Some(19), test_season: Some(2026), ..Overrides::default() }).unwrap();
     let b = audit::run(&path, &old, false).unwrap();
     let far: Vec<&str> = b
         .summary
@@ -110,7 +115,7 @@ fn null_runs(text: &str, seeds: u64, tag: &str) -> (Vec<f64>, u64) {
     let mut with_tell = 0;
     for seed in 1..=seeds {
         let path = log_of(text, 7000 + seed, tag);
-        let s = Settings { seed: 9000 + seed, ..settings(999) };
+        let s = seeded(999, Some(9000 + seed));
         let a = audit::run(&path, &s, false).unwrap();
         p_values.extend(a.summary.pitchers.iter().filter(|p| p.is_ok()).map(|p| p.p_value.unwrap()));
         with_tell += (a.summary.tells_flagged > 0) as u64;
@@ -159,7 +164,7 @@ fn a_scored_blocks_labels_never_shape_the_models_that_score_it() {
     use rand::{seq::SliceRandom, SeedableRng};
     use tellscope::evaluate::{fit::fit_and_score, fit::Workspace, split::PitcherPlan, task::PitcherTask};
     let s = settings(9);
-    let ing = tellscope::ingest::load(&root().join("demo-data/demo-log.csv"), &s).unwrap();
+    let ing = tellscope::ingest::load(&root().join("demo-data/demo-log.csv"), &s.input).unwrap();
     let sit = tellscope::situations::build(&ing.log);
     for name in ["Oren Vasquell", "Ned Castellane", "Jory Kestenbaum"] {
         let p = ing.log.pitchers.iter().position(|x| x == name).unwrap() as u32;

@@ -27,7 +27,7 @@ fn league_csv() -> &'static PathBuf {
 fn settings(team: Option<&str>, pitchers: Vec<String>) -> Settings {
     Settings::resolve(
         &ConfigFile::default(),
-        &Overrides { permutations: Some(9), team: team.map(str::to_string), pitchers, ..Overrides::default() },
+        &Overrides { permutations: Some(9), compare_permutations: Some(19), team: team.map(str::to_string), pitchers, ..Overrides::default() },
     )
     .unwrap()
 }
@@ -57,7 +57,7 @@ fn team_audits_exactly_the_clubs_pitchers_of_the_latest_season() {
     assert!(staff.len() >= 14 && !traded.is_empty(), "the scenario gives the club a staff and a traded pitcher: {} / {}", staff.len(), traded.len());
 
     let s = settings(Some(CLUB), Vec::new());
-    let ing = tellscope::ingest::load(league_csv(), &s).unwrap();
+    let ing = tellscope::ingest::load(league_csv(), &s.input).unwrap();
     let chosen: BTreeSet<String> =
         tellscope::audit::selected_pitchers(&ing.log, &s).unwrap().iter().map(|&p| ing.log.pitchers[p as usize].clone()).collect();
     assert_eq!(chosen, staff);
@@ -79,14 +79,14 @@ fn team_audits_exactly_the_clubs_pitchers_of_the_latest_season() {
 #[test]
 fn an_unknown_club_or_a_log_without_clubs_is_a_usage_error() {
     let s = settings(Some("Team 99"), Vec::new());
-    let ing = tellscope::ingest::load(league_csv(), &s).unwrap();
+    let ing = tellscope::ingest::load(league_csv(), &s.input).unwrap();
     let e = tellscope::audit::selected_pitchers(&ing.log, &s).unwrap_err();
     assert_eq!(e.exit_code(), 2);
     assert!(e.to_string().contains("Team 99") && e.to_string().contains("Team 01"), "{e}");
     // The typed Parquet fixture has no `team` column.
     let typed = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/logs/typed.parquet");
     let s = settings(Some(CLUB), Vec::new());
-    let ing = tellscope::ingest::load(&typed, &s).unwrap();
+    let ing = tellscope::ingest::load(&typed, &s.input).unwrap();
     let e = tellscope::audit::selected_pitchers(&ing.log, &s).unwrap_err();
     assert_eq!(e.exit_code(), 2);
     assert!(e.to_string().contains("no `team` column"), "{e}");
@@ -99,7 +99,7 @@ fn an_unknown_club_or_a_log_without_clubs_is_a_usage_error() {
 #[test]
 fn league_shares_equal_a_hand_count() {
     let s = settings(Some(CLUB), Vec::new());
-    let a = tellscope::audit::run(league_csv(), &Settings { permutations: 9, ..s }, false).unwrap();
+    let a = tellscope::audit::run(league_csv(), &s, false).unwrap();
     let p = a.summary.pitchers.iter().find(|p| p.is_ok()).unwrap();
     let season = p.sheet_season.unwrap();
     let text = std::fs::read_to_string(league_csv()).unwrap();
@@ -209,7 +209,7 @@ fn compare_with_a_team_says_where_a_traded_pitchers_pitches_came_from() {
     let by_pitcher = hand_count();
     let staff: BTreeSet<String> =
         by_pitcher.iter().filter(|(_, s)| s.contains(&(2026, CLUB.to_string()))).map(|(p, _)| p.clone()).collect();
-    let request = Request { before: PeriodSpec::parse("--before", "2025").unwrap(), after: PeriodSpec::parse("--after", "2026").unwrap(), permutations: 19 };
+    let request = Request { before: PeriodSpec::parse("--before", "2025").unwrap(), after: PeriodSpec::parse("--after", "2026").unwrap(), };
     let c = compare::run(league_csv(), &settings(Some(CLUB), Vec::new()), &request, false).unwrap();
     let compared: BTreeSet<String> = c.summary.pitchers.iter().map(|p| p.pitcher.clone()).collect();
     assert_eq!(compared, staff);

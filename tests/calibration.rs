@@ -22,15 +22,13 @@ fn null_staffs_give_uniform_model_p_values_and_no_tells() {
     let scenario = Scenario::from_toml_str(&text).unwrap();
     let dir = std::env::temp_dir().join(format!("tellscope-calibration-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
-    let settings =
-        Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(999), ..Overrides::default() }).unwrap();
     let mut p_values = Vec::new();
     let mut runs_with_a_tell = 0;
     for seed in 1..=SEEDS {
         let log = simulate(&scenario, 1000 + seed);
         let path = dir.join(format!("null-{seed}.csv"));
         write_frame(&mut sim_frame(&log).unwrap(), &path).unwrap();
-        let s = Settings { seed: 5000 + seed, ..settings.clone() };
+        let s = Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(999), seed: Some(5000 + seed), ..Overrides::default() }).unwrap();
         let a = audit::run(&path, &s, false).unwrap();
         for p in a.summary.pitchers.iter().filter(|p| p.is_ok()) {
             p_values.push(p.p_value.unwrap());

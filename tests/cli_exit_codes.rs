@@ -356,3 +356,25 @@ fn a_log_piped_to_standard_input_gives_the_same_report() {
     assert!(stderr(&e).starts_with("tellscope: stdin: required columns"), "{}", stderr(&e));
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// Each command's help names the defaults a run without flags uses: the
+/// settings resolved from no config and no flag.
+#[test]
+fn help_names_the_defaults_a_run_uses() {
+    use tellscope::settings::{ConfigFile, Overrides, Settings};
+    let s = Settings::resolve(&ConfigFile::default(), &Overrides::default()).unwrap();
+    let help = |cmd: &str| {
+        let o = run(&[cmd, "--help"]);
+        assert_eq!(code(&o), 0, "{cmd} --help");
+        stdout(&o)
+    };
+    let audit = help("audit");
+    assert!(audit.contains(&format!("(default {})", s.audit.permutations())), "{audit}");
+    assert!(audit.contains(&format!("(default {})", s.audit.fdr())), "{audit}");
+    let compare = help("compare");
+    assert!(compare.contains(&format!("(default {},", s.compare.permutations())), "{compare}");
+    assert!(compare.contains(&format!("(default {})", s.audit.fdr())), "{compare}");
+    let demo = help("demo");
+    let both = format!("default {} for the audit, {} label swaps", s.audit.permutations(), s.compare.permutations());
+    assert!(demo.contains(&both), "{demo}");
+}

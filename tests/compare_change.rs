@@ -32,11 +32,10 @@ fn repeats() -> Vec<(String, f64, f64, bool)> {
     let mut out = Vec::new();
     for seed in 1..=REPEATS {
         let path = log_of(500 + seed);
-        let settings = Settings { seed: 600 + seed, ..Settings::resolve(&ConfigFile::default(), &Overrides::default()).unwrap() };
+        let settings = Settings::resolve(&ConfigFile::default(), &Overrides { seed: Some(600 + seed), compare_permutations: Some(199), ..Overrides::default() }).unwrap();
         let request = Request {
             before: PeriodSpec::parse("--before", "2025").unwrap(),
             after: PeriodSpec::parse("--after", "2026").unwrap(),
-            permutations: 199,
         };
         let c = compare::run(&path, &settings, &request, false).unwrap();
         for p in &c.summary.pitchers {

@@ -19,18 +19,18 @@ fn demo_log() -> PathBuf {
 }
 
 fn settings(permutations: usize) -> Settings {
-    Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(permutations), ..Overrides::default() }).unwrap()
+    Settings::resolve(&ConfigFile::default(), &Overrides { compare_permutations: Some(permutations), ..Overrides::default() }).unwrap()
 }
 
-fn request(before: PeriodSpec, after: PeriodSpec, permutations: usize) -> Request {
-    Request { before, after, permutations }
+fn request(before: PeriodSpec, after: PeriodSpec) -> Request {
+    Request { before, after }
 }
 
 /// One comparison of the demo, 2025 against 2026, with few label swaps.
 fn demo() -> &'static Comparison {
     static C: OnceLock<Comparison> = OnceLock::new();
     C.get_or_init(|| {
-        compare::run(&demo_log(), &settings(99), &request(PeriodSpec::Season(2025), PeriodSpec::Season(2026), 99), false).unwrap()
+        compare::run(&demo_log(), &settings(99), &request(PeriodSpec::Season(2025), PeriodSpec::Season(2026)), false).unwrap()
     })
 }
 
@@ -231,15 +231,15 @@ fn the_report_is_complete_agrees_with_summary_json_and_is_reproducible() {
 fn pitchers_too_small_in_a_period_are_insufficient_data() {
     // The first two weeks of 2025: no reliever has 300 pitches to train on.
     let before = PeriodSpec::parse("--before", "2025-04-01..2025-04-16").unwrap();
-    let c = compare::run(&demo_log(), &settings(9), &request(before, PeriodSpec::Season(2026), 9), false).unwrap();
+    let c = compare::run(&demo_log(), &settings(9), &request(before, PeriodSpec::Season(2026)), false).unwrap();
     let p = c.summary.pitchers.iter().find(|p| p.pitcher == "Jory Kestenbaum").unwrap();
     assert_eq!(p.status, "insufficient data");
     assert!(p.changes.is_empty() && p.predictability.is_none() && p.mix_before.is_none() && p.counts.is_empty());
     assert!(p.cautions[0].contains("2025-04-01..2025-04-16"), "{:?}", p.cautions);
     // --pitcher narrows the run, and an unknown one is a usage error.
-    let mut s = settings(9);
-    s.pitchers = vec!["Nobody Atall".into()];
-    let e = compare::run(&demo_log(), &s, &request(PeriodSpec::Season(2025), PeriodSpec::Season(2026), 9), false).err().unwrap();
+    let o = Overrides { compare_permutations: Some(9), pitchers: vec!["Nobody Atall".into()], ..Overrides::default() };
+    let s = Settings::resolve(&ConfigFile::default(), &o).unwrap();
+    let e = compare::run(&demo_log(), &s, &request(PeriodSpec::Season(2025), PeriodSpec::Season(2026)), false).err().unwrap();
     assert_eq!(e.exit_code(), 2);
 }
 
@@ -255,7 +255,7 @@ fn more_than_two_seasons_give_predictability_per_season() {
     std::fs::create_dir_all(&dir).unwrap();
     let log = dir.join("three.csv");
     tellscope::simulate::write::write_frame(&mut tellscope::simulate::write::sim_frame(&sim).unwrap(), &log).unwrap();
-    let c = compare::run(&log, &settings(9), &request(PeriodSpec::Season(2024), PeriodSpec::Season(2026), 9), false).unwrap();
+    let c = compare::run(&log, &settings(9), &request(PeriodSpec::Season(2024), PeriodSpec::Season(2026)), false).unwrap();
     assert_eq!(c.summary.input.seasons, vec![2024, 2025, 2026]);
     let p = c.summary.pitchers.iter().find(|p| p.pitcher == "Oren Vasquell").unwrap();
     let labels: Vec<&str> = p.seasons.iter().map(|s| s.label.as_str()).collect();

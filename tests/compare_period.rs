@@ -13,7 +13,7 @@ fn demo_log() -> PathBuf {
 
 fn log() -> tellscope::ingest::PitchLog {
     let s = Settings::resolve(&ConfigFile::default(), &Overrides::default()).unwrap();
-    tellscope::ingest::load(&demo_log(), &s).unwrap().log
+    tellscope::ingest::load(&demo_log(), &s.input).unwrap().log
 }
 
 #[test]

@@ -34,8 +34,8 @@ fn the_example_mapping_reads_an_export_as_the_contract_log() {
     let cfg = ConfigFile::load(&root().join("config/example-export.toml")).unwrap();
     let mapped = Settings::resolve(&cfg, &Overrides::default()).unwrap();
     let plain = Settings::resolve(&ConfigFile::default(), &Overrides::default()).unwrap();
-    let export = tellscope::ingest::load(&fixture("example-export.csv"), &mapped).unwrap();
-    let contract = tellscope::ingest::load(&fixture("example-contract.csv"), &plain).unwrap();
+    let export = tellscope::ingest::load(&fixture("example-export.csv"), &mapped.input).unwrap();
+    let contract = tellscope::ingest::load(&fixture("example-contract.csv"), &plain.input).unwrap();
     assert!(export.rejected.is_empty() && contract.rejected.is_empty());
     let (a, b) = (&export.log, &contract.log);
     assert_eq!(a.len(), 2000);

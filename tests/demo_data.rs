@@ -45,8 +45,8 @@ fn simulate_reproduces_the_committed_plain_staff_log_byte_for_byte() {
 #[test]
 fn the_realistic_demo_log_holds_what_its_answer_key_says() {
     let s = Settings::resolve(&ConfigFile::default(), &Overrides::default()).unwrap();
-    let csv = tellscope::ingest::load(&root().join("demo-data/demo-log.csv"), &s).unwrap();
-    let pq = tellscope::ingest::load(&root().join("demo-data/demo-log.parquet"), &s).unwrap();
+    let csv = tellscope::ingest::load(&root().join("demo-data/demo-log.csv"), &s.input).unwrap();
+    let pq = tellscope::ingest::load(&root().join("demo-data/demo-log.parquet"), &s.input).unwrap();
     let log = &csv.log;
     assert_eq!(csv.rejected.len(), 0);
     assert_eq!(log.len(), pq.log.len());
@@ -92,8 +92,8 @@ fn the_realistic_demo_log_holds_what_its_answer_key_says() {
 #[test]
 fn the_plain_staff_log_holds_what_its_answer_key_says() {
     let s = Settings::resolve(&ConfigFile::default(), &Overrides::default()).unwrap();
-    let csv = tellscope::ingest::load(&root().join("tests/fixtures/plain-staff/demo-log.csv"), &s).unwrap();
-    let pq = tellscope::ingest::load(&root().join("tests/fixtures/plain-staff/demo-log.parquet"), &s).unwrap();
+    let csv = tellscope::ingest::load(&root().join("tests/fixtures/plain-staff/demo-log.csv"), &s.input).unwrap();
+    let pq = tellscope::ingest::load(&root().join("tests/fixtures/plain-staff/demo-log.parquet"), &s.input).unwrap();
     let log = &csv.log;
     assert_eq!(csv.rejected.len(), 0);
     assert_eq!(log.len(), pq.log.len());

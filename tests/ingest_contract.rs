@@ -42,11 +42,11 @@ fn with_config(toml_text: &str) -> Settings {
 }
 
 fn load(path: &Path) -> Ingested {
-    ingest::load(path, &defaults()).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
+    ingest::load(path, &defaults().input).unwrap_or_else(|e| panic!("{}: {e}", path.display()))
 }
 
 fn data_error(path: &Path, settings: &Settings) -> String {
-    match ingest::load(path, settings) {
+    match ingest::load(path, &settings.input) {
         Err(e @ Error::Data(_)) => {
             assert_eq!(e.exit_code(), 3);
             e.to_string()
@@ -256,7 +256,7 @@ speed_mph = "Velo"
 team = "Club"
 "#,
     );
-    let own = ingest::load(&fixture("own_headers.csv"), &s).unwrap();
+    let own = ingest::load(&fixture("own_headers.csv"), &s.input).unwrap();
     let contract = load(&fixture("good.csv"));
     assert!(own.rejected.is_empty(), "{:?}", own.rejected);
     assert_same_rows(&own.log, &contract.log, true);
@@ -291,7 +291,7 @@ fn pitch_groups_merge_labels() {
     let ungrouped = load(&p).log;
     assert_eq!(ungrouped.pitch_types, ["four-seam", "slider", "two-seam"]);
     let s = with_config("[pitch_groups]\nfastball = [\"four-seam\", \"two-seam\"]\n");
-    let log = ingest::load(&p, &s).unwrap().log;
+    let log = ingest::load(&p, &s.input).unwrap().log;
     assert_eq!(log.pitch_types, ["fastball", "slider"]);
     let mut counts = vec![0; log.pitch_types.len()];
     for &t in &log.pitch_type {
@@ -510,7 +510,7 @@ fn control_characters_long_names_and_far_years_are_rejected_with_their_line() {
 fn a_header_naming_a_column_twice_is_refused() {
     let dir = scratch("dup-header");
     let text = format!("{HEADER},pitch_type\nG1,2025-04-03,Plain Arm,R,B1,L,1,0,0,0,0,0,0,fastball,slider\n");
-    let e = ingest::load(&write(&dir, "dup.csv", &text), &defaults()).err().expect("refused");
+    let e = ingest::load(&write(&dir, "dup.csv", &text), &defaults().input).err().expect("refused");
     assert_eq!(e.exit_code(), 3);
     assert!(e.to_string().contains("pitch_type") && e.to_string().contains("twice"), "{e}");
     std::fs::remove_dir_all(&dir).ok();

@@ -44,7 +44,7 @@ fn settings() -> Settings {
 }
 
 fn load(path: &Path) -> PitchLog {
-    ingest::load(path, &settings()).unwrap_or_else(|e| panic!("{}: {e}", path.display())).log
+    ingest::load(path, &settings().input).unwrap_or_else(|e| panic!("{}: {e}", path.display())).log
 }
 
 /// The fixture without the named columns (the file has no quoted cells).

@@ -100,7 +100,7 @@ impl PitcherLocation {
 }
 
 fn present_enough(sub: &PitcherTask, settings: &Settings) -> bool {
-    sub.n_classes >= 2 && sub.n_train() >= settings.location_min_train && sub.n_test() >= settings.location_min_test
+    sub.n_classes >= 2 && sub.n_train() >= settings.location.min_train() && sub.n_test() >= settings.location.min_test()
 }
 
 /// Held-out figures of one fit of every type.
@@ -149,7 +149,7 @@ fn scratch(loc: &PitcherLocation) -> Scratch {
 /// Permutation `j`: every type's regions shuffled within its blocks by one
 /// stream (types in order), every type refitted, the pooled statistic.
 fn null_statistic(loc: &PitcherLocation, name: &str, settings: &Settings, j: u64, s: &mut Scratch) -> Stat {
-    let mut rng = location_rng(settings.seed, name, j);
+    let mut rng = location_rng(settings.audit.seed(), name, j);
     let mut total = StatTotals::default();
     for (part, (ws, labels)) in loc.parts.iter().zip(s.iter_mut()) {
         labels.copy_from_slice(&part.task.labels);
@@ -288,7 +288,7 @@ pub fn audit(
     let with: Vec<usize> = (0..locs.len()).filter(|&i| locs[i].has_figures()).collect();
     let clear: Vec<bool> =
         with.par_iter().map(|&i| pilot_clear(&locs[i], &tasks[i].name, observed[i].totals.bits_stat(), settings)).collect();
-    let sizes = permute::decision_sizes(&clear, settings.fdr);
+    let sizes = permute::decision_sizes(&clear, settings.audit.fdr());
     timer.lap("location: pilots");
     let perms: Vec<PermutationResult> = with
         .par_iter()
@@ -310,7 +310,7 @@ pub fn audit(
             p_value: perms[w].p_value,
             q_value: q[w],
             n,
-            significant: q[w] <= settings.fdr,
+            significant: q[w] <= settings.audit.fdr(),
             permutations: perms[w].permutations,
             model_accuracy: o.model_right as f64 / scored,
             prior_accuracy: o.prior_right as f64 / scored,
@@ -372,7 +372,7 @@ fn location_tests(
             let kept = found
                 .into_iter()
                 .enumerate()
-                .filter(|(_, f)| f.p_value <= settings.fdr)
+                .filter(|(_, f)| f.p_value <= settings.audit.fdr())
                 .map(|(i, mut f)| {
                     f.region = Some(std::mem::replace(&mut f.pitch_type, log.pitch_types[t as usize].clone()));
                     (i, f)
@@ -457,7 +457,7 @@ pub fn note(figures: &Option<LocationFigures>, missing: bool, settings: &Setting
     } else {
         format!(
             "No location figures: no pitch type of his has {} located pitches to learn from and {} to score.",
-            settings.location_min_train, settings.location_min_test
+            settings.location.min_train(), settings.location.min_test()
         )
     })
 }

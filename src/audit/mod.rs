@@ -64,8 +64,8 @@ fn observe(task: &PitcherTask, settings: &Settings, names: &[String]) -> Observe
     let scored = fit_and_score(task, &task.labels, settings, &mut ws, true);
     let figures = evaluate::overall(&scored, &task.labels);
     let counts = evaluate::per_count(task, &scored, &task.labels);
-    let types = evaluate::per_type(task, &scored, &task.labels, names, settings.min_type_pitches);
-    let stat = statistic(&scored, settings.statistic);
+    let types = evaluate::per_type(task, &scored, &task.labels, names, settings.tree.min_type_pitches());
+    let stat = statistic(&scored, settings.audit.statistic());
     let mut ss = 0.0;
     for (i, &r) in scored.rows.iter().enumerate() {
         let y = task.labels[r as usize] as usize;
@@ -90,13 +90,13 @@ fn observe(task: &PitcherTask, settings: &Settings, names: &[String]) -> Observe
 /// Run the audit of the log at `path`.
 pub fn run(path: &Path, settings: &Settings, show_progress: bool) -> Result<Audit> {
     let t = crate::progress::Timer::start();
-    let Ingested { log, rejected, source } = ingest::load(path, settings)?;
+    let Ingested { log, rejected, source } = ingest::load(path, &settings.input)?;
     t.lap("ingest");
     let sit = situations::build(&log);
     t.lap("situations");
-    let scheme = match settings.test_season {
+    let scheme = match settings.audit.test_season() {
         Some(test) => Evaluation::SeasonForward(Plan::season_forward(&log, test)?),
-        None => Evaluation::Rolling { blocks: settings.forward_blocks },
+        None => Evaluation::Rolling { blocks: settings.audit.forward_blocks() },
     };
     audit_log(&log, &sit, &scheme, rejected, source, settings, show_progress)
 }
@@ -113,7 +113,7 @@ pub enum Evaluation {
 impl Evaluation {
     fn plan_for(&self, log: &ingest::PitchLog, rows: &[u32], settings: &Settings) -> PitcherPlan {
         match self {
-            Evaluation::Rolling { blocks } => PitcherPlan::rolling(log, rows, *blocks, settings.min_train_pitches),
+            Evaluation::Rolling { blocks } => PitcherPlan::rolling(log, rows, *blocks, settings.audit.min_train_pitches()),
             Evaluation::SeasonForward(plan) => plan.local(log, rows),
         }
     }
@@ -159,19 +159,19 @@ pub fn input_notes(sit: &Situations, source: &ingest::SourceInfo, left_out: &str
 /// log's latest season; those named by `--pitcher` (among the team's, with
 /// both). A name or club not in the log is a usage error.
 pub fn selected_pitchers(log: &ingest::PitchLog, settings: &Settings) -> Result<Vec<u32>> {
-    let mut out: Vec<u32> = match &settings.team {
+    let mut out: Vec<u32> = match &settings.audit.team() {
         None => (0..log.pitchers.len() as u32).collect(),
         Some(team) => team_pitchers(log, team)?,
     };
-    if !settings.pitchers.is_empty() {
+    if !settings.audit.pitchers().is_empty() {
         let mut named = Vec::new();
-        for p in &settings.pitchers {
+        for p in settings.audit.pitchers() {
             match log.pitchers.iter().position(|q| q == p) {
                 Some(i) if out.contains(&(i as u32)) => named.push(i as u32),
                 Some(_) => {
                     return Err(Error::Usage(format!(
                         "--pitcher \"{p}\" did not pitch for {} in the log's latest season; leave out --team or name one of its pitchers",
-                        settings.team.as_deref().unwrap_or("the club")
+                        settings.audit.team().as_deref().unwrap_or("the club")
                     )))
                 }
                 None => {
@@ -261,14 +261,15 @@ pub fn audit_log(
     let mut audited = 0usize;
     for task in &staff.tasks {
         let about = pitcher::About::of(log, task, settings);
-        if !enough(task, settings) {
-            pitchers.push(pitcher::insufficient(task, about, settings));
-            continue;
-        }
-        let (summary, by_situation) = pitcher::scored(&run, task, about, audited);
+        let result = if enough(task, settings) {
+            audited += 1;
+            pitcher::scored(&run, task, about, audited - 1)
+        } else {
+            pitcher::insufficient(task, about, settings)
+        };
+        let (summary, by_situation) = result.into_parts();
         pitchers.push(summary);
         outcomes.extend(by_situation);
-        audited += 1;
     }
     let notes = run_notes(log, sit, &source, &chosen, tested.location.missing, settings);
     let staff_called = crate::outcomes::staff_called(&pitchers.iter().filter_map(|p| p.called_outcomes.as_ref()).collect::<Vec<_>>());
@@ -292,7 +293,7 @@ pub fn audit_log(
 
 /// Enough pitches to learn from and to score for any figure.
 fn enough(t: &PitcherTask, settings: &Settings) -> bool {
-    t.n_train() >= settings.min_train_pitches && t.n_test() >= settings.min_test_pitches
+    t.n_train() >= settings.audit.min_train_pitches() && t.n_test() >= settings.audit.min_test_pitches()
 }
 
 /// Every pitcher of the log planned, and the chosen pitchers' tasks.
@@ -348,7 +349,7 @@ impl Staff {
     ) -> Vec<(u32, f64, f64)> {
         let mut figures: Vec<(u32, f64, f64)> =
             ok_tasks.iter().zip(observed).map(|(t, o)| (t.pitcher, o.figures.bits_gained, o.figures.bits_gained - o.sheet_bits)).collect();
-        if settings.team.is_some() {
+        if settings.audit.team().is_some() {
             let chosen_set: std::collections::HashSet<u32> = chosen.iter().copied().collect();
             let others: Vec<(u32, f64, f64)> = (0..log.pitchers.len() as u32)
                 .into_par_iter()
@@ -394,7 +395,7 @@ impl Tested {
         timer.lap("pitcher tasks (features)");
         let observed: Vec<Observed> = ok_tasks.par_iter().map(|t| observe(t, settings, &log.pitch_types)).collect();
         timer.lap("observed fits");
-        let total: u64 = (3 * ok_tasks.len() * settings.permutations) as u64;
+        let total: u64 = (3 * ok_tasks.len() * settings.audit.permutations()) as u64;
         let bar = crate::progress::bar(total, "permutations", show_progress);
         let tick = |n: u64| bar.inc(n);
         // The tell tests do not depend on the permutation tests; they run
@@ -409,7 +410,7 @@ impl Tested {
         bar.finish_and_clear();
         timer.lap("location tests");
         let (perms, beyond_perms): (Vec<_>, Vec<_>) = perms.into_iter().unzip();
-        crate::outcomes::cost_of_tells(log, sit, ok_tasks, &mut tests, settings.fdr);
+        crate::outcomes::cost_of_tells(log, sit, ok_tasks, &mut tests, settings.audit.fdr());
         // The league as the yardstick: counted once for the file, for the
         // tells' shares here and the sheet cells later.
         let league_cells = crate::league::LeagueCells::build(log);
@@ -433,7 +434,7 @@ fn permutation_tests(
 ) -> Vec<(permute::PermutationResult, permute::PermutationResult)> {
     let clear: Vec<bool> =
         ok_tasks.par_iter().zip(observed.par_iter()).map(|(t, o)| permute::pilot_clear(t, o.statistic, settings)).collect();
-    let sizes = permute::decision_sizes(&clear, settings.fdr);
+    let sizes = permute::decision_sizes(&clear, settings.audit.fdr());
     ok_tasks
         .par_iter()
         .zip(observed.par_iter())
@@ -472,7 +473,7 @@ fn run_notes(
             "The file holds one club's pitchers, so the yardstick is the staff, not the league: each pitcher's sheet cells and percentiles are compared with the rest of his own staff (a league's log, with `--team`, compares them with the league).".into(),
         );
     }
-    if let Some(team) = &settings.team {
+    if let Some(team) = &settings.audit.team() {
         let latest = log.season.iter().copied().max().unwrap_or(0);
         notes.push(format!(
             "--team {team}: {} who pitched for {team} in {latest} {}, with all their pitches in the log (a traded pitcher's pitches for other clubs included, and said so); the log's other {} pitchers are the league.",

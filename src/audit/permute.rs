@@ -64,7 +64,7 @@ impl Null {
 
     fn statistic(self, scored: &crate::evaluate::fit::Scored, settings: &Settings) -> Stat {
         match self {
-            Null::Situation => statistic(scored, settings.statistic),
+            Null::Situation => statistic(scored, settings.audit.statistic()),
             Null::BeyondSheet => beyond_statistic(scored),
         }
     }
@@ -122,7 +122,7 @@ pub fn permuted_statistic(task: &PitcherTask, settings: &Settings, j: u64, ws: &
 /// The statistic of permutation `j` under `null`.
 pub fn null_statistic(null: Null, task: &PitcherTask, settings: &Settings, j: u64, ws: &mut Workspace, labels: &mut [u8]) -> Stat {
     labels.copy_from_slice(&task.labels);
-    let mut rng = null_rng(null, settings.seed, &task.name, j);
+    let mut rng = null_rng(null, settings.audit.seed(), &task.name, j);
     shuffle_within(labels, null.strata(task), &mut rng);
     let scored = fit_and_score(task, labels, settings, ws, false);
     null.statistic(&scored, settings)
@@ -211,7 +211,7 @@ pub fn null_test(
 }
 
 /// A permutation test of the statistic `observed` through the one driver
-/// (`significance::driver::drive`), `settings.permutations` at most:
+/// (`significance::driver::drive`), `settings.audit.permutations()` at most:
 /// `null_stat(j, scratch)` is permutation `j`'s statistic.
 pub fn drive<W: Send>(
     observed: Stat,
@@ -222,8 +222,8 @@ pub fn drive<W: Send>(
     null_stat: impl Fn(u64, &mut W) -> Stat + Sync,
 ) -> PermutationResult {
     let run = crate::significance::driver::drive(
-        settings.permutations,
-        settings.stop_after_exceedances,
+        settings.audit.permutations(),
+        settings.audit.stop_after_exceedances(),
         decide_at,
         progress,
         scratch,

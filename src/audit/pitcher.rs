@@ -5,6 +5,7 @@
 use super::summary::*;
 use super::{count_summaries, headline, location, mix_of, pitches_by_team, sheet, wording, Tested};
 use crate::evaluate::task::PitcherTask;
+use crate::evaluate::split::PitcherEvaluation;
 use crate::ingest::PitchLog;
 use crate::outcomes::SituationOutcomes;
 use crate::settings::Settings;
@@ -28,11 +29,11 @@ impl About {
         for &r in &task.rows {
             *pitches_by_season.entry(log.season[r as usize]).or_insert(0usize) += 1;
         }
-        let pitches_by_team = match settings.team {
+        let pitches_by_team = match settings.audit.team() {
             Some(_) => pitches_by_team(log, &task.rows),
             None => Vec::new(),
         };
-        let team_caution = settings.team.as_ref().and_then(|team| {
+        let team_caution = settings.audit.team().as_ref().and_then(|team| {
             wording::elsewhere_sentence(team, &pitches_by_team).map(|w| {
                 format!("{w} All of them are used here, since they are all his habits; how he pitched for another club may differ from how he pitches for this one.")
             })
@@ -41,67 +42,117 @@ impl About {
     }
 }
 
+/// One pitcher's result: no figures, with his counts and the reason; or his
+/// scored figures.
+pub(super) enum PitcherResult {
+    Insufficient(Insufficient),
+    Scored(Box<Scored>),
+}
+
+/// A pitcher below the minimum sample.
+pub(super) struct Insufficient {
+    name: String,
+    about: About,
+    n_train: usize,
+    n_test: usize,
+    evaluation: PitcherEvaluation,
+    /// Why he has no figures, in words.
+    reason: String,
+}
+
+/// An audited pitcher: his summary and his outcome figures by situation.
+pub(super) struct Scored {
+    summary: PitcherSummary,
+    by_situation: Vec<SituationOutcomes>,
+}
+
+impl PitcherResult {
+    /// The pitcher's `summary.json` entry and the outcome rows he adds to
+    /// `outcomes.csv` (none without figures).
+    pub(super) fn into_parts(self) -> (PitcherSummary, Vec<SituationOutcomes>) {
+        match self {
+            PitcherResult::Insufficient(i) => (i.into_summary(), Vec::new()),
+            PitcherResult::Scored(s) => (s.summary, s.by_situation),
+        }
+    }
+}
+
 /// A pitcher below the minimum sample: his counts and the reason.
-pub(super) fn insufficient(task: &PitcherTask, about: About, settings: &Settings) -> PitcherSummary {
+pub(super) fn insufficient(task: &PitcherTask, about: About, settings: &Settings) -> PitcherResult {
     let reason = format!(
         "{} pitches in the log ({}); the models could learn from at most {} of them and score {}, and at least {} to learn from and {} to score are needed before any figure is shown",
         task.rows.len(),
         about.pitches_by_season.iter().map(|(y, n)| format!("{n} in {y}")).collect::<Vec<_>>().join(", "),
         task.n_train(),
         task.n_test(),
-        settings.min_train_pitches,
-        settings.min_test_pitches
+        settings.audit.min_train_pitches(),
+        settings.audit.min_test_pitches()
     );
-    PitcherSummary {
-        pitcher: task.name.clone(),
-        throws: about.throws,
-        status: "insufficient data".into(),
+    PitcherResult::Insufficient(Insufficient {
+        name: task.name.clone(),
+        about,
         n_train: task.n_train(),
         n_test: task.n_test(),
-        pitches_by_season: about.pitches_by_season,
-        pitches_by_team: about.pitches_by_team,
         evaluation: task.evaluation.clone(),
-        reason: Some(reason.clone()),
-        mix: None,
-        test_mix: None,
-        prior_pitch: None,
-        prior_accuracy: None,
-        model_accuracy: None,
-        lift: None,
-        bits_gained: None,
-        bits_margin: None,
-        lift_margin: None,
-        p_value: None,
-        q_value: None,
-        permutations: None,
-        stopped_early: None,
-        significant: None,
-        observed_statistic: None,
-        null_statistics: Vec::new(),
-        counts: Vec::new(),
-        types: Vec::new(),
-        tells: Vec::new(),
-        rules: Vec::new(),
-        n_unseen_type: None,
-        arsenal_changes: Vec::new(),
-        called_outcomes: None,
-        outcomes_by_type: Vec::new(),
-        sheet: Vec::new(),
-        sheet_season: None,
-        sheet_bits: None,
-        beyond_bits: None,
-        league_percentile: None,
-        beyond_p_value: None,
-        beyond_q_value: None,
-        beyond_permutations: None,
-        beyond_significant: None,
-        headline: Vec::new(),
-        tell_family_q: None,
-        cautions: vec![format!("No figures: {reason}.")],
-        location: None,
-        location_tells: Vec::new(),
-        location_mix: Vec::new(),
-        location_note: None,
+        reason,
+    })
+}
+
+impl Insufficient {
+    /// His entry: counts, evaluation and reason; every figure empty.
+    fn into_summary(self) -> PitcherSummary {
+        let Insufficient { name, about, n_train, n_test, evaluation, reason } = self;
+        PitcherSummary {
+            pitcher: name,
+            throws: about.throws,
+            status: "insufficient data".into(),
+            n_train,
+            n_test,
+            pitches_by_season: about.pitches_by_season,
+            pitches_by_team: about.pitches_by_team,
+            evaluation,
+            cautions: vec![format!("No figures: {reason}.")],
+            reason: Some(reason),
+            mix: None,
+            test_mix: None,
+            prior_pitch: None,
+            prior_accuracy: None,
+            model_accuracy: None,
+            lift: None,
+            bits_gained: None,
+            bits_margin: None,
+            lift_margin: None,
+            p_value: None,
+            q_value: None,
+            permutations: None,
+            stopped_early: None,
+            significant: None,
+            observed_statistic: None,
+            null_statistics: Vec::new(),
+            counts: Vec::new(),
+            types: Vec::new(),
+            tells: Vec::new(),
+            rules: Vec::new(),
+            n_unseen_type: None,
+            arsenal_changes: Vec::new(),
+            called_outcomes: None,
+            outcomes_by_type: Vec::new(),
+            sheet: Vec::new(),
+            sheet_season: None,
+            sheet_bits: None,
+            beyond_bits: None,
+            league_percentile: None,
+            beyond_p_value: None,
+            beyond_q_value: None,
+            beyond_permutations: None,
+            beyond_significant: None,
+            headline: Vec::new(),
+            tell_family_q: None,
+            location: None,
+            location_tells: Vec::new(),
+            location_mix: Vec::new(),
+            location_note: None,
+        }
     }
 }
 
@@ -118,9 +169,9 @@ pub(super) struct Run<'a> {
     pub settings: &'a Settings,
 }
 
-/// The summary of the `at`-th audited pitcher, and his outcome figures by
-/// situation.
-pub(super) fn scored(run: &Run, task: &PitcherTask, about: About, at: usize) -> (PitcherSummary, Vec<SituationOutcomes>) {
+/// The result of the `at`-th audited pitcher: his summary and his outcome
+/// figures by situation.
+pub(super) fn scored(run: &Run, task: &PitcherTask, about: About, at: usize) -> PitcherResult {
     let Run { log, sit, tested, figures, settings, .. } = *run;
     let names = &log.pitch_types;
     let o = &tested.observed[at];
@@ -181,7 +232,7 @@ pub(super) fn scored(run: &Run, task: &PitcherTask, about: About, at: usize) -> 
         q_value: Some(q),
         permutations: Some(perm.permutations),
         stopped_early: Some(perm.stopped_early),
-        significant: Some(q <= settings.fdr),
+        significant: Some(q <= settings.audit.fdr()),
         observed_statistic: Some(perm.observed),
         null_statistics: perm.null.clone(),
         counts,
@@ -200,7 +251,7 @@ pub(super) fn scored(run: &Run, task: &PitcherTask, about: About, at: usize) -> 
         beyond_p_value: Some(bperm.p_value),
         beyond_q_value: Some(bq),
         beyond_permutations: Some(bperm.permutations),
-        beyond_significant: Some(bq <= settings.fdr),
+        beyond_significant: Some(bq <= settings.audit.fdr()),
         headline,
         tell_family_q: his.first().map(|t| t.family_q),
         cautions,
@@ -209,7 +260,7 @@ pub(super) fn scored(run: &Run, task: &PitcherTask, about: About, at: usize) -> 
         location_mix: tested.location.mixes[at].clone(),
         location_note,
     };
-    (summary, crate::outcomes::by_situation(log, sit, task, names))
+    PitcherResult::Scored(Box::new(Scored { summary, by_situation: crate::outcomes::by_situation(log, sit, task, names) }))
 }
 
 /// Where his figures stand among every other fitted pitcher's.
@@ -250,9 +301,9 @@ fn arsenal_changes(task: &PitcherTask, names: &[String], test_mix: &BTreeMap<Str
     for t in found_mix.keys().chain(test_mix.keys()).collect::<BTreeSet<_>>() {
         let before = found_mix.get(t).copied().unwrap_or(0.0);
         let after = test_mix.get(t).copied().unwrap_or(0.0);
-        if after >= settings.new_pitch_share && before < settings.absent_share {
+        if after >= settings.compare.new_pitch_share() && before < settings.compare.absent_share() {
             changes.push(ArsenalChange { pitch_type: t.clone(), change: "added".into(), before, after });
-        } else if before >= settings.new_pitch_share && after < settings.absent_share {
+        } else if before >= settings.compare.new_pitch_share() && after < settings.compare.absent_share() {
             changes.push(ArsenalChange { pitch_type: t.clone(), change: "dropped".into(), before, after });
         }
     }

@@ -76,7 +76,7 @@ pub fn sheet(
     let season = UsagePrior::from_counts(g.class_totals());
     let n_season: u32 = season.counts.iter().sum();
     let raw_share = |cls: usize| season.counts[cls] as f64 / n_season.max(1) as f64;
-    let s = priors::strength(&g, &season.probs, settings.prior_strength);
+    let s = priors::strength(&g, &season.probs, settings.tree.prior_strength());
     let mut cells = Vec::new();
     for (c, count) in COUNTS.iter().enumerate() {
         for (side, bats) in ["L", "R"].iter().enumerate() {
@@ -87,7 +87,7 @@ pub fn sheet(
             let top_share = if n > 0 { row[top] as f64 / n as f64 } else { 0.0 };
             let ci = wilson::wilson_95(row[top] as u64, n as u64);
             let season_share = raw_share(top);
-            let leans = n >= settings.tell_min_n && ci.low > season_share;
+            let leans = n >= settings.tells.min_n() && ci.low > season_share;
             let counted = season_share >= crate::league::ARSENAL_SHARE;
             let his_season = (season.counts[top] as u64, n_season as u64);
             let other = league.0.share_without(league.1, latest, cell, task.class_types[top] as usize, (row[top] as u64, n as u64), his_season, counted);
@@ -99,7 +99,7 @@ pub fn sheet(
                 (season_share * hi / o.season_share).min(1.0)
             });
             let above_league = match (expected, expected_high) {
-                (Some(e), Some(h)) => n >= settings.tell_min_n && ci.low > h && top_share - e >= settings.tell_min_effect,
+                (Some(e), Some(h)) => n >= settings.tells.min_n() && ci.low > h && top_share - e >= settings.tells.min_effect(),
                 _ => false,
             };
             cells.push(SheetCell {

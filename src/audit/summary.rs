@@ -94,29 +94,29 @@ impl SettingsOut {
     /// The settings a run used, as the summary records them.
     pub fn of(settings: &Settings) -> SettingsOut {
         SettingsOut {
-            seed: settings.seed,
-            permutations: settings.permutations,
-            fdr: settings.fdr,
-            statistic: match settings.statistic {
+            seed: settings.audit.seed(),
+            permutations: settings.audit.permutations(),
+            fdr: settings.audit.fdr(),
+            statistic: match settings.audit.statistic() {
                 Statistic::Bits => "bits_gained".into(),
                 Statistic::Accuracy => "accuracy_gained".into(),
             },
-            stop_after_exceedances: settings.stop_after_exceedances,
-            min_train_pitches: settings.min_train_pitches,
-            min_test_pitches: settings.min_test_pitches,
-            tree_max_depth: settings.tree.max_depth,
-            tree_min_samples_leaf: settings.tree.min_samples_leaf,
-            tree_min_samples_split: settings.tree.min_samples_split,
-            leaf_smoothing: settings.leaf_smoothing,
-            split_alpha: settings.split_alpha,
-            prior_strength: match settings.prior_strength {
+            stop_after_exceedances: settings.audit.stop_after_exceedances(),
+            min_train_pitches: settings.audit.min_train_pitches(),
+            min_test_pitches: settings.audit.min_test_pitches(),
+            tree_max_depth: settings.tree.growth().max_depth,
+            tree_min_samples_leaf: settings.tree.growth().min_samples_leaf,
+            tree_min_samples_split: settings.tree.growth().min_samples_split,
+            leaf_smoothing: settings.tree.leaf_smoothing(),
+            split_alpha: settings.tree.split_alpha(),
+            prior_strength: match settings.tree.prior_strength() {
                 PriorStrength::Auto => "auto".into(),
                 PriorStrength::Fixed(s) => format!("{s}"),
             },
-            tell_min_effect: settings.tell_min_effect,
-            tell_min_n: settings.tell_min_n,
-            tell_pairs: settings.tell_pairs.iter().map(|(a, b)| format!("{a} x {b}")).collect(),
-            tell_fdr_method: match settings.tell_fdr_method {
+            tell_min_effect: settings.tells.min_effect(),
+            tell_min_n: settings.tells.min_n(),
+            tell_pairs: settings.tells.pairs().iter().map(|(a, b)| format!("{a} x {b}")).collect(),
+            tell_fdr_method: match settings.tells.fdr_method() {
                 FdrMethod::Hierarchical => "hierarchical".into(),
                 FdrMethod::Pooled => "pooled".into(),
             },

@@ -9,6 +9,7 @@ use super::LogArgs;
 use std::path::{Path, PathBuf};
 use tellscope::audit::{self, wording, Audit};
 use tellscope::report;
+use tellscope::domain::defaults::{AUDIT_PERMUTATIONS, FDR};
 use tellscope::settings::Overrides;
 use tellscope::Result;
 
@@ -24,14 +25,13 @@ pub struct AuditOptions {
     /// The held-out season (default: the latest).
     #[arg(long, value_name = "Y")]
     pub test_season: Option<i32>,
-    /// Permutations per pitcher for the model test (default 999).
-    #[arg(long, value_name = "N")]
+    // Help texts that name a default are built from the default itself.
+    #[arg(long, value_name = "N", help = format!("Permutations per pitcher for the model test (default {AUDIT_PERMUTATIONS})"))]
     pub permutations: Option<usize>,
     /// Random seed; the same seed gives the same report, byte for byte.
     #[arg(long, value_name = "S")]
     pub seed: Option<u64>,
-    /// False discovery rate for flagging (default 0.05).
-    #[arg(long, value_name = "Q")]
+    #[arg(long, value_name = "Q", help = format!("False discovery rate for flagging (default {FDR})"))]
     pub fdr: Option<f64>,
 }
 
@@ -41,10 +41,10 @@ impl AuditOptions {
             seed: self.seed,
             permutations: self.permutations,
             fdr: self.fdr,
-            strict: false,
             test_season: self.test_season,
             pitchers: self.pitchers.clone(),
             team: self.team.clone(),
+            ..Overrides::default()
         }
     }
 }
@@ -85,7 +85,7 @@ pub fn run(args: Args) -> Result<()> {
             // Unusable data: the rejected rows are still kept, with a short
             // page saying why (the run still fails with its exit code).
             if e.exit_code() == 3 {
-                if let Ok(rejected) = tellscope::ingest::rejected_rows(&input.path, &settings) {
+                if let Ok(rejected) = tellscope::ingest::rejected_rows(&input.path, &settings.input) {
                     if !rejected.is_empty() && report::write_failed_report(&out, &e.to_string(), &rejected).is_ok() {
                         eprintln!("note: {} rejected rows and why are in {}", rejected.len(), out.join("rejected.csv").display());
                     }

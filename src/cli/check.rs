@@ -21,7 +21,7 @@ pub struct Args {
 pub fn run(args: Args) -> Result<()> {
     let settings = args.log.settings(Overrides::default())?;
     let input = args.log.input()?;
-    let ing = ingest::load(&input.path, &settings).map_err(|e| input.name_errors(e))?;
+    let ing = ingest::load(&input.path, &settings.input).map_err(|e| input.name_errors(e))?;
     let log = &ing.log;
     let src = &ing.source;
     let loc = src.format.locator();

@@ -12,6 +12,7 @@ use super::LogArgs;
 use std::path::{Path, PathBuf};
 use tellscope::compare::{self, period::PeriodSpec, Comparison, Request};
 use tellscope::report;
+use tellscope::domain::defaults::{COMPARE_PERMUTATIONS, FDR};
 use tellscope::settings::{ConfigFile, Overrides, Settings};
 use tellscope::Result;
 
@@ -35,14 +36,17 @@ pub struct Args {
     /// season; every other pitcher in the log is the league.
     #[arg(long, value_name = "T")]
     pub team: Option<String>,
-    /// Label swaps per pitcher for the predictability change (default 1999, `[compare] permutations`).
-    #[arg(long, value_name = "N")]
+    // Help texts that name a default are built from the default itself.
+    #[arg(
+        long,
+        value_name = "N",
+        help = format!("Label swaps per pitcher for the predictability change (default {COMPARE_PERMUTATIONS}, `[compare] permutations`)")
+    )]
     pub permutations: Option<usize>,
     /// Random seed; the same seed gives the same report, byte for byte.
     #[arg(long, value_name = "S")]
     pub seed: Option<u64>,
-    /// False discovery rate within each family of tests (default 0.05).
-    #[arg(long, value_name = "Q")]
+    #[arg(long, value_name = "Q", help = format!("False discovery rate within each family of tests (default {FDR})"))]
     pub fdr: Option<f64>,
     /// Print summary.json to stdout instead of the table.
     #[arg(long)]
@@ -61,19 +65,16 @@ pub fn run(args: Args) -> Result<()> {
     // The periods' text is checked before the log is read.
     let before = PeriodSpec::parse("--before", &args.before)?;
     let after = PeriodSpec::parse("--after", &args.after)?;
-    let from_config = args.log.settings(Overrides::default())?.compare_permutations;
-    let permutations = args.permutations.unwrap_or(from_config);
     let settings = args.log.settings(Overrides {
         seed: args.seed,
-        permutations: Some(permutations),
+        compare_permutations: args.permutations,
         fdr: args.fdr,
-        strict: false,
-        test_season: None,
         pitchers: args.pitchers.clone(),
         team: args.team.clone(),
+        ..Overrides::default()
     })?;
     let out = args.out.clone().unwrap_or_else(|| default_out(&args.log.file));
-    let request = Request { before, after, permutations };
+    let request = Request { before, after };
     let input = args.log.input()?;
     let mut cmp = compare::run(&input.path, &settings, &request, !args.json).map_err(|e| input.name_errors(e))?;
     cmp.summary.input.path = input.shown();
@@ -134,16 +135,11 @@ pub fn print_table(cmp: &Comparison, out: &Path) {
     println!("Report: {}", out.join("index.html").display());
 }
 
-/// Label swaps of the demo's comparison: enough that a predictability
-/// change can reach the bar of its BH family (the default 199 cannot).
-pub const DEMO_PERMUTATIONS: usize = 1999;
-
 /// The demo's comparison, 2025 against 2026, into `<audit folder>-compare`
 /// (`reports/demo-compare` by default); called at the end of `tellscope demo`.
 pub fn run_demo(log_path: &Path, cfg: &ConfigFile, audit_out: &Path, permutations: Option<usize>) -> Result<()> {
-    let permutations = permutations.unwrap_or(DEMO_PERMUTATIONS);
-    let settings = Settings::resolve(cfg, &Overrides { permutations: Some(permutations), ..Overrides::default() })?;
-    let request = Request { before: PeriodSpec::Season(2025), after: PeriodSpec::Season(2026), permutations };
+    let settings = Settings::resolve(cfg, &Overrides { compare_permutations: permutations, ..Overrides::default() })?;
+    let request = Request { before: PeriodSpec::Season(2025), after: PeriodSpec::Season(2026) };
     let cmp = compare::run(log_path, &settings, &request, true)?;
     let name = audit_out.file_name().and_then(|n| n.to_str()).unwrap_or("demo");
     let out = audit_out.with_file_name(format!("{name}-compare"));

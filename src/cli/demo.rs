@@ -8,6 +8,7 @@
 
 use std::path::{Path, PathBuf};
 use tellscope::audit;
+use tellscope::domain::defaults::{AUDIT_PERMUTATIONS, COMPARE_PERMUTATIONS};
 use tellscope::simulate::write::{sim_frame, write_frame};
 use tellscope::report;
 use tellscope::settings::{ConfigFile, Overrides, Settings};
@@ -25,8 +26,11 @@ pub struct Args {
     /// Report folder.
     #[arg(long, value_name = "DIR", default_value = "reports/demo")]
     pub out: PathBuf,
-    /// Permutations per pitcher (default 999 for the audit, 1999 label swaps for the comparison).
-    #[arg(long, value_name = "N")]
+    #[arg(
+        long,
+        value_name = "N",
+        help = format!("Permutations per pitcher (default {AUDIT_PERMUTATIONS} for the audit, {COMPARE_PERMUTATIONS} label swaps for the comparison)")
+    )]
     pub permutations: Option<usize>,
 }
 

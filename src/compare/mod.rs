@@ -62,8 +62,6 @@ use tells_change::TellChange;
 pub struct Request {
     pub before: PeriodSpec,
     pub after: PeriodSpec,
-    /// Label-swap permutations per pitcher (predictability change).
-    pub permutations: usize,
 }
 
 /// Everything a comparison produces.
@@ -100,10 +98,10 @@ fn seed64(seed: u64, pitcher: &str, purpose: &str) -> u64 {
 
 /// Compare the log at `path`.
 pub fn run(path: &Path, settings: &Settings, request: &Request, show_progress: bool) -> Result<Comparison> {
-    let Ingested { log, rejected, source } = ingest::load(path, settings)?;
+    let Ingested { log, rejected, source } = ingest::load(path, &settings.input)?;
     let (before, after) = period::resolve(&log, &request.before, &request.after)?;
     let sit = situations::build(&log);
-    compare_log(&log, &sit, before, after, rejected, source, settings, request.permutations, show_progress)
+    compare_log(&log, &sit, before, after, rejected, source, settings, show_progress)
 }
 
 
@@ -126,7 +124,7 @@ fn prepare(log: &PitchLog, sit: &Situations, p: u32, rows: [Vec<u32>; 2], labels
         if rows_k.is_empty() {
             return Prepared::Short { pitcher: p, why: format!("He did not pitch in {label}."), rows };
         }
-        let task = match predictability::build_task(log, sit, p, rows_k, settings.forward_blocks, label) {
+        let task = match predictability::build_task(log, sit, p, rows_k, settings.audit.forward_blocks(), label) {
             Ok(t) => t,
             Err(_) => {
                 return Prepared::Short {
@@ -134,7 +132,7 @@ fn prepare(log: &PitchLog, sit: &Situations, p: u32, rows: [Vec<u32>; 2], labels
                     why: format!(
                         "Only {} games in {label}, fewer than the {} blocks of games that scoring a period needs.",
                         games_of(log, rows_k),
-                        settings.forward_blocks
+                        settings.audit.forward_blocks()
                     ),
                     rows,
                 }
@@ -150,15 +148,15 @@ fn prepare(log: &PitchLog, sit: &Situations, p: u32, rows: [Vec<u32>; 2], labels
         (Err(e), _) | (_, Err(e)) => return Prepared::Short { pitcher: p, why: format!("{e}."), rows },
     };
     for (f, label) in fitted.iter().zip(labels) {
-        if f.cross.n_train < settings.min_train_pitches || f.cross.figures.n < settings.min_test_pitches {
+        if f.cross.n_train < settings.audit.min_train_pitches() || f.cross.figures.n < settings.audit.min_test_pitches() {
             return Prepared::Short {
                 pitcher: p,
                 why: format!(
                     "Only {} pitches in {label}: each part of the period would be guessed by a model fitted on about {} of his other pitches there; at least {} to train on and {} to score are needed in each period before any figure is shown.",
                     f.task.rows.len(),
                     f.cross.n_train,
-                    settings.min_train_pitches,
-                    settings.min_test_pitches
+                    settings.audit.min_train_pitches(),
+                    settings.audit.min_test_pitches()
                 ),
                 rows,
             };
@@ -267,7 +265,7 @@ fn mix_changes(
     by: [&[Vec<u64>]; 2],
     settings: &Settings,
 ) -> (Vec<Change>, Vec<CountChange>) {
-    let seed = settings.seed;
+    let seed = settings.audit.seed();
     let mut out = Vec::new();
     let (sb, sa) = (mix::shares(all[0]), mix::shares(all[1]));
     let nb: u64 = all[0].iter().sum();
@@ -275,7 +273,7 @@ fn mix_changes(
     let mut arsenal: BTreeSet<usize> = BTreeSet::new();
     for i in 0..types.len() {
         let t = &names[types[i] as usize];
-        if let Some(new) = mix::new_or_dropped(sb[i], sa[i], settings.new_pitch_share, settings.absent_share) {
+        if let Some(new) = mix::new_or_dropped(sb[i], sa[i], settings.compare.new_pitch_share(), settings.compare.absent_share()) {
             let mut rng = stream(seed, name, &format!("arsenal {t}"), 0);
             let test = mix::mix_test(&[all[0][i], nb - all[0][i]], &[all[1][i], na - all[1][i]], &mut rng);
             let kind = if new { "new_pitch" } else { "dropped_pitch" };
@@ -315,7 +313,7 @@ fn mix_changes(
         let (b, a) = (&by[0][ci], &by[1][ci]);
         let n = [b.iter().sum::<u64>() as usize, a.iter().sum::<u64>() as usize];
         let nk = |c: &[u64]| kept.iter().map(|&i| c[i]).sum::<u64>() as usize;
-        let tested = kept.len() >= 2 && nk(b) >= settings.tell_min_n && nk(a) >= settings.tell_min_n;
+        let tested = kept.len() >= 2 && nk(b) >= settings.tells.min_n() && nk(a) >= settings.tells.min_n();
         if tested {
             out.push(shift(Some(label), b, a, &mut stream(seed, name, &format!("mix count {label}"), 0)));
         }
@@ -376,7 +374,7 @@ fn location_changes(names: &[String], regions: &[u16], log: &PitchLog, name: &st
         let bu: Vec<u64> = used.iter().map(|&i| b[i]).collect();
         let au: Vec<u64> = used.iter().map(|&i| a[i]).collect();
         let t_name = &names[t as usize];
-        let test = mix::mix_test(&bu, &au, &mut stream(settings.seed, name, &format!("location {t_name}"), 0));
+        let test = mix::mix_test(&bu, &au, &mut stream(settings.audit.seed(), name, &format!("location {t_name}"), 0));
         let i = mix::biggest_mover(&bu, &au);
         let (sb, sa) = (mix::shares(&bu), mix::shares(&au));
         let mut c = blank("location_shift", BTreeMap::new(), sb[i], sa[i], test.tvd, "total_variation", [nb as usize, na as usize], Some(&test));
@@ -424,15 +422,15 @@ pub fn compare_log(
     rejected: Vec<Rejected>,
     source: SourceInfo,
     settings: &Settings,
-    permutations: usize,
     show_progress: bool,
 ) -> Result<Comparison> {
+    let permutations = settings.compare.permutations();
     let labels = [before.label.as_str(), after.label.as_str()];
     let rows_of = period_rows(log, &before, &after);
     // Pitchers who pitched in neither period are left out unless asked for.
     let chosen: Vec<u32> = crate::audit::selected_pitchers(log, settings)?
         .into_iter()
-        .filter(|&p| !settings.pitchers.is_empty() || !rows_of[p as usize][0].is_empty() || !rows_of[p as usize][1].is_empty())
+        .filter(|&p| !settings.audit.pitchers().is_empty() || !rows_of[p as usize][0].is_empty() || !rows_of[p as usize][1].is_empty())
         .collect();
     let prepared: Vec<Prepared> =
         chosen.par_iter().map(|&p| prepare(log, sit, p, rows_of[p as usize].clone(), labels, settings)).collect();
@@ -448,7 +446,7 @@ pub fn compare_log(
         .par_iter()
         .map(|(p, _, fits)| {
             let name = &log.pitchers[*p as usize];
-            [0, 1].map(|k| predictability::resample_period(&fits[k].cross.games, settings.bootstrap, seed64(settings.seed, name, &format!("bootstrap {k}"))))
+            [0, 1].map(|k| predictability::resample_period(&fits[k].cross.games, settings.compare.bootstrap(), seed64(settings.audit.seed(), name, &format!("bootstrap {k}"))))
         })
         .collect();
     let swaps = swap_tests(log, sit, &ready, settings, permutations, show_progress);
@@ -490,10 +488,10 @@ pub fn compare_log(
         periods: Periods { before, after },
         evaluation: CompareEvaluation {
             scheme: "cross-fitted".into(),
-            blocks: settings.forward_blocks,
+            blocks: settings.audit.forward_blocks(),
             description: format!(
                 "Each period is scored on its own: a pitcher's games in the period, in date order, are dealt to {} groups, and each group is guessed by a model fitted on his other games of the period, so every game is scored by a model that did not see it. His tells in each period are found on its earlier games and checked on its last ones.",
-                settings.forward_blocks
+                settings.audit.forward_blocks()
             ),
         },
         notes,
@@ -544,7 +542,7 @@ fn swap_tests(
             pilot.permutations == PILOT && pilot.p <= 1.0 / (PILOT as f64 + 1.0) + 1e-12
         })
         .collect();
-    let sizes = decision_sizes(&clear, settings.fdr);
+    let sizes = decision_sizes(&clear, settings.audit.fdr());
     let swaps = ready
         .par_iter()
         .zip(sizes.par_iter())
@@ -574,12 +572,12 @@ fn per_season_figures(log: &PitchLog, sit: &Situations, ready: &[Ready], setting
             for &s in &seasons {
                 let rows: Vec<u32> = (0..log.len() as u32).filter(|&r| log.pitcher[r as usize] == *p && log.season[r as usize] == s).collect();
                 let label = s.to_string();
-                let Ok(task) = predictability::build_task(log, sit, *p, &rows, settings.forward_blocks, &label) else { continue };
+                let Ok(task) = predictability::build_task(log, sit, *p, &rows, settings.audit.forward_blocks(), &label) else { continue };
                 let Ok(fit) = predictability::fit_period(log, sit, task, settings, &label) else { continue };
-                if fit.cross.n_train < settings.min_train_pitches || fit.cross.figures.n < settings.min_test_pitches {
+                if fit.cross.n_train < settings.audit.min_train_pitches() || fit.cross.figures.n < settings.audit.min_test_pitches() {
                     continue;
                 }
-                let res = predictability::resample_period(&fit.cross.games, settings.bootstrap, seed64(settings.seed, name, &format!("bootstrap season {s}")));
+                let res = predictability::resample_period(&fit.cross.games, settings.compare.bootstrap(), seed64(settings.audit.seed(), name, &format!("bootstrap season {s}")));
                 out.push(period_figures(&label, &fit, res.as_ref()));
             }
             out
@@ -611,7 +609,7 @@ fn apply_families(pitchers: &mut [PitcherChanges], labels: [&str; 2], settings: 
         for c in p.changes.iter_mut().filter(|c| c.is_test()) {
             let q = family_q[family_of(c)].next().expect("one q per test");
             c.q = Some(q);
-            c.significant = q <= settings.fdr;
+            c.significant = q <= settings.audit.fdr();
         }
         // A tell about a single count takes its count's mix-shift test.
         let count_tests: BTreeMap<String, (Option<f64>, Option<f64>, bool)> = p
@@ -640,7 +638,7 @@ fn apply_families(pitchers: &mut [PitcherChanges], labels: [&str; 2], settings: 
         }
         p.significant_changes = p.changes.iter().filter(|c| c.is_test() && c.significant).count();
         if p.is_ok() {
-            p.summary_lines = wording::summary_lines(p, labels[0], labels[1], settings.fdr);
+            p.summary_lines = wording::summary_lines(p, labels[0], labels[1], settings.audit.fdr());
             p.headline = wording::headline(p);
         }
     }
@@ -671,7 +669,7 @@ fn compare_notes(
     }
     // The bar one more test of this run would have to clear: BH rejects the
     // (R+1)-th smallest p-value when it is at most fdr·(R+1)/m.
-    let cut = settings.fdr * (significant as f64 + 1.0) / tests.max(1) as f64;
+    let cut = settings.audit.fdr() * (significant as f64 + 1.0) / tests.max(1) as f64;
     let minimum_p = 1.0 / (permutations as f64 + 1.0);
     if minimum_p > cut && pitchers.iter().any(|p| p.is_ok()) {
         let enough = [999usize, 1999, 4999, 9999, 19_999, 49_999, 99_999]

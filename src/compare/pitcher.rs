@@ -137,7 +137,7 @@ fn cautions_of(log: &PitchLog, rows: &[Vec<u32>; 2], figures: [&PeriodFigures; 2
     let mut cautions = Vec::new();
     // With --team: where his pitches of each season came from, when not
     // all for the club.
-    if let Some(team) = &settings.team {
+    if let Some(team) = &settings.audit.team() {
         let by_team = crate::audit::pitches_by_team(log, rows[0].iter().chain(&rows[1]));
         if let Some(w) = crate::audit::wording::elsewhere_sentence(team, &by_team) {
             cautions.push(format!("{w} All of them are compared, since they are all his habits; a change of club can change how he pitches."));

@@ -175,7 +175,7 @@ pub fn studentised(before: &CrossFitted, after: &CrossFitted) -> f64 {
 
 /// Cross-fit one pitcher's `rows` (global, log order) in `folds` folds.
 pub fn cross_fit(log: &PitchLog, sit: &Situations, pitcher: u32, rows: &[u32], settings: &Settings, label: &str) -> Result<CrossFitted> {
-    let folds = settings.forward_blocks;
+    let folds = settings.audit.forward_blocks();
     let mut games: BTreeMap<u32, GameScore> = BTreeMap::new();
     let (mut unseen, mut n_train) = (0usize, 0usize);
     for f in 0..folds {
@@ -262,7 +262,7 @@ pub fn label_swap_test(
     // One deal: (T, bits difference, lift difference), None when a dealt
     // period cannot be cross-fitted.
     let one = |j: usize| -> Option<(f64, f64, f64)> {
-        let mut rng = stream(settings.seed, name, purpose, j as u64);
+        let mut rng = stream(settings.audit.seed(), name, purpose, j as u64);
         let mut in_before: Vec<bool> = (0..games.len()).map(|i| i < n_before_games).collect();
         for i in (1..in_before.len()).rev() {
             let k = rng.random_range(0..=i);
@@ -286,7 +286,7 @@ pub fn label_swap_test(
     // audit).
     let run = crate::significance::driver::drive(
         permutations,
-        settings.stop_after_exceedances,
+        settings.audit.stop_after_exceedances(),
         decide_at,
         progress,
         || (),

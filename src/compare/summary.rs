@@ -58,25 +58,25 @@ impl CompareSettingsOut {
     /// The settings a comparison used, as its summary records them.
     pub fn of(settings: &Settings, permutations: usize) -> CompareSettingsOut {
         CompareSettingsOut {
-            seed: settings.seed,
+            seed: settings.audit.seed(),
             permutations,
             mix_monte_carlo: super::mix::MONTE_CARLO_PERMUTATIONS,
-            bootstrap: settings.bootstrap,
-            fdr: settings.fdr,
-            statistic: match settings.statistic {
+            bootstrap: settings.compare.bootstrap(),
+            fdr: settings.audit.fdr(),
+            statistic: match settings.audit.statistic() {
                 Statistic::Bits => "bits_gained".into(),
                 Statistic::Accuracy => "accuracy_gained".into(),
             },
-            stop_after_exceedances: settings.stop_after_exceedances,
-            new_pitch_share: settings.new_pitch_share,
-            absent_share: settings.absent_share,
-            min_count_pitches: settings.tell_min_n,
-            min_train_pitches: settings.min_train_pitches,
-            min_test_pitches: settings.min_test_pitches,
-            forward_blocks: settings.forward_blocks,
-            tell_min_effect: settings.tell_min_effect,
-            tell_min_n: settings.tell_min_n,
-            tell_fdr_method: match settings.tell_fdr_method {
+            stop_after_exceedances: settings.audit.stop_after_exceedances(),
+            new_pitch_share: settings.compare.new_pitch_share(),
+            absent_share: settings.compare.absent_share(),
+            min_count_pitches: settings.tells.min_n(),
+            min_train_pitches: settings.audit.min_train_pitches(),
+            min_test_pitches: settings.audit.min_test_pitches(),
+            forward_blocks: settings.audit.forward_blocks(),
+            tell_min_effect: settings.tells.min_effect(),
+            tell_min_n: settings.tells.min_n(),
+            tell_fdr_method: match settings.tells.fdr_method() {
                 FdrMethod::Hierarchical => "hierarchical".into(),
                 FdrMethod::Pooled => "pooled".into(),
             },

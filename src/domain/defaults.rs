@@ -9,3 +9,9 @@ pub const DEFAULT_SEED: u64 = 20_260_401;
 /// the smallest p-value, 1/(m + 1), to pass a BH bar over the ~150 tests of a
 /// staff's comparison.
 pub const COMPARE_PERMUTATIONS: usize = 1999;
+
+/// Permutations per pitcher of the audit's tests when none are asked for.
+pub const AUDIT_PERMUTATIONS: usize = 999;
+
+/// The false discovery rate of every flag when none is asked for.
+pub const FDR: f64 = 0.05;

@@ -179,8 +179,8 @@ pub fn fit_and_score(
 ) -> Scored {
     let k = task.n_classes;
     let mut out = Scored { n_classes: k, ..Scored::default() };
-    if ws.criticals.alpha() != settings.split_alpha {
-        ws.criticals = crate::model::prune::Criticals::new(settings.split_alpha);
+    if ws.criticals.alpha() != settings.tree.split_alpha() {
+        ws.criticals = crate::model::prune::Criticals::new(settings.tree.split_alpha());
     }
     for (fi, fold) in task.folds.iter().enumerate() {
         if fold.test.is_empty() {
@@ -210,7 +210,7 @@ pub fn fit_and_score(
             std::mem::swap(&mut ws.sheet_log, &mut ws.sheet_cache[fi]);
         }
         if keep_trees {
-            let tree = if settings.split_alpha < 1.0 {
+            let tree = if settings.tree.split_alpha() < 1.0 {
                 crate::model::prune::prune_fast(&grown, &mut ws.criticals, m).0
             } else {
                 grown.clone()
@@ -307,8 +307,8 @@ impl Workspace {
     fn prior_code_tables(&mut self, task: &PitcherTask, fi: usize, mix: &[f64], settings: &Settings) -> (f64, f64) {
         let k = task.n_classes;
         let priors_on = task.prior_features;
-        let s_count = priors::strength(&self.count_all, mix, settings.prior_strength);
-        let s_batter = if priors_on { priors::strength(&self.batter_all, mix, settings.prior_strength) } else { 0.0 };
+        let s_count = priors::strength(&self.count_all, mix, settings.tree.prior_strength());
+        let s_batter = if priors_on { priors::strength(&self.batter_all, mix, settings.tree.prior_strength()) } else { 0.0 };
         let code_table = |all: &GroupCounts, oof: &[GroupCounts], s: f64, used: &[u32], table: &mut Vec<u8>| {
             let g = all.n_groups;
             table.resize(PARTS * g * k, 0);
@@ -376,7 +376,7 @@ impl Workspace {
                 t
             }
             slot @ None => {
-                let mut t = crate::model::fast_tree::FastTreeWorkspace::with_options(settings.tree, AuditTree::options());
+                let mut t = crate::model::fast_tree::FastTreeWorkspace::with_options(settings.tree.growth(), AuditTree::options());
                 t.prepare(&self.x, &fold.train);
                 t.prepare_scored(&self.x, &fold.test);
                 if priors_on {
@@ -417,14 +417,14 @@ impl Workspace {
     /// model ties with it exactly.
     fn node_probabilities(&mut self, grown: &Tree, mix: &[f64], m: usize, settings: &Settings) {
         let k = grown.n_classes;
-        if settings.split_alpha < 1.0 {
+        if settings.tree.split_alpha() < 1.0 {
             crate::model::prune::kept_nodes(grown, &mut self.criticals, m, &mut self.collapsed, &mut self.kept);
         } else {
             self.kept.clear();
             self.kept.extend(0..grown.nodes.len());
         }
-        smoothed_node_probs_into(grown, mix, settings.leaf_smoothing, &mut self.parent, &mut self.grown_p);
-        blend_toward(&mut self.grown_p, mix, settings.prior_blend);
+        smoothed_node_probs_into(grown, mix, settings.tree.leaf_smoothing(), &mut self.parent, &mut self.grown_p);
+        blend_toward(&mut self.grown_p, mix, settings.tree.prior_blend());
         let nn = grown.nodes.len();
         self.log_p.clear();
         self.log_p.extend(self.grown_p.iter().map(|x| x.log2()));
@@ -445,7 +445,7 @@ impl Workspace {
         for &r in &task.folds[fi].train {
             self.sheet.add(task.cell[r as usize] as usize, labels[r as usize] as usize);
         }
-        let s_sheet = priors::strength(&self.sheet, mix, settings.prior_strength);
+        let s_sheet = priors::strength(&self.sheet, mix, settings.tree.prior_strength());
         self.sheet_log.clear();
         for g in 0..24 {
             for cls in 0..task.n_classes {
@@ -477,7 +477,7 @@ impl Workspace {
         let lp: Vec<f64> = mix.iter().map(|x| x.log2()).collect();
         let top = argmax(mix);
         let leaves = self.trees[fi].as_ref().expect("the fold's learner is prepared").scored_leaves();
-        let new_below = ((settings.new_type_share * fold.train.len() as f64).ceil() as u32).max(1);
+        let new_below = ((settings.audit.new_type_share() * fold.train.len() as f64).ceil() as u32).max(1);
         let mut t = out.totals;
         for (&r, &g) in fold.test.iter().zip(leaves) {
             let g = g as usize;

@@ -7,7 +7,7 @@ pub mod read;
 
 use crate::error::{Error, Result};
 use crate::domain::columns::{OPTIONAL_COLUMNS, REQUIRED_COLUMNS};
-use crate::settings::Settings;
+use crate::settings::InputParams;
 use crate::domain::levels::Hand;
 use crate::domain::PitchResult;
 use parse::*;
@@ -172,18 +172,17 @@ fn sha256_of(path: &Path) -> Result<String> {
 /// The rows of `path` the contract rejects, with their reasons, even when
 /// the log as a whole is unusable (no valid row, `--strict`): so a failed
 /// run can still keep them. An error only when the file cannot be read.
-pub fn rejected_rows(path: &Path, settings: &Settings) -> Result<Vec<Rejected>> {
-    let lenient = Settings { strict: false, ..settings.clone() };
-    load_checked(path, &lenient, false).map(|i| i.rejected)
+pub fn rejected_rows(path: &Path, input: &InputParams) -> Result<Vec<Rejected>> {
+    load_checked(path, &input.lenient(), false).map(|i| i.rejected)
 }
 
-pub fn load(path: &Path, settings: &Settings) -> Result<Ingested> {
-    load_checked(path, settings, true)
+pub fn load(path: &Path, input: &InputParams) -> Result<Ingested> {
+    load_checked(path, input, true)
 }
 
 /// `load`, with or without the checks that turn an unusable log into an
 /// error.
-fn load_checked(path: &Path, settings: &Settings, checked: bool) -> Result<Ingested> {
+fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Ingested> {
     // Only a regular file is read: a device (/dev/zero) or a pipe would
     // never end, or block before the first byte.
     if let Ok(meta) = std::fs::metadata(path) {
@@ -198,16 +197,16 @@ fn load_checked(path: &Path, settings: &Settings, checked: bool) -> Result<Inges
     let wanted: Vec<String> = REQUIRED_COLUMNS
         .iter()
         .chain(OPTIONAL_COLUMNS.iter())
-        .map(|c| settings.file_column(c).to_string())
+        .map(|c| input.file_column(c).to_string())
         .collect();
     // The file's checksum is computed while polars reads it.
     let (table, sha) = rayon::join(|| read::read_table(path, &wanted), || sha256_of(path));
     let table = table?;
     let missing: Vec<String> = REQUIRED_COLUMNS
         .iter()
-        .filter(|c| table.column(settings.file_column(c)).is_none())
+        .filter(|c| table.column(input.file_column(c)).is_none())
         .map(|c| {
-            let f = settings.file_column(c);
+            let f = input.file_column(c);
             if f == *c { c.to_string() } else { format!("{c} (mapped to \"{f}\")") }
         })
         .collect();
@@ -236,15 +235,15 @@ fn load_checked(path: &Path, settings: &Settings, checked: bool) -> Result<Inges
             path.display()
         )));
     }
-    let (log, rejected, blank) = validate(&table, settings);
+    let (log, rejected, blank) = validate(&table, input);
     let present: Vec<String> = OPTIONAL_COLUMNS
         .iter()
-        .filter(|c| table.column(settings.file_column(c)).is_some())
+        .filter(|c| table.column(input.file_column(c)).is_some())
         .map(|c| c.to_string())
         .collect();
     let absent: Vec<String> = OPTIONAL_COLUMNS
         .iter()
-        .filter(|c| table.column(settings.file_column(c)).is_none())
+        .filter(|c| table.column(input.file_column(c)).is_none())
         .map(|c| c.to_string())
         .collect();
     let source = SourceInfo {
@@ -270,7 +269,7 @@ fn load_checked(path: &Path, settings: &Settings, checked: bool) -> Result<Inges
             table.n_rows
         )));
     }
-    if settings.strict && !rejected.is_empty() {
+    if input.strict() && !rejected.is_empty() {
         let r = &rejected[0];
         return Err(Error::Data(format!(
             "{}: {} row{} rejected under --strict (first: {} {}, column {}: {}); fix the rows or drop --strict",
@@ -289,9 +288,9 @@ fn load_checked(path: &Path, settings: &Settings, checked: bool) -> Result<Inges
 /// Validate every row straight into the log's columns (file order), then
 /// order them: one column at a time is permuted, so no row-sized copy of the
 /// whole log is ever made.
-fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, usize) {
+fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, usize) {
     use rayon::prelude::*;
-    let col = |c: &str| table.column(settings.file_column(c));
+    let col = |c: &str| table.column(input.file_column(c));
     let cols: Vec<Option<&read::TextColumn>> =
         REQUIRED_COLUMNS.iter().chain(OPTIONAL_COLUMNS.iter()).map(|c| col(c)).collect();
     let has = |c: &str| col(c).is_some();
@@ -396,7 +395,7 @@ fn validate(table: &RawTable, settings: &Settings) -> (PitchLog, Vec<Rejected>, 
                     log.on_second.push(p.bases[1]);
                     log.on_third.push(p.bases[2]);
                     log.pitch_type
-                        .push(intern(&mut type_ids, code(13, i), |t| t.get(settings.pitch_group(p.pitch_type)), &mut types) as u16);
+                        .push(intern(&mut type_ids, code(13, i), |t| t.get(input.pitch_group(p.pitch_type)), &mut types) as u16);
                     log.source_line.push(table.location(i));
                     pa.push(p.pa.unwrap_or(0));
                     pitch_no.push(p.pitch_no.unwrap_or(0));
