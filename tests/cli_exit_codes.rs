@@ -266,6 +266,13 @@ fn an_unusable_log_still_keeps_its_rejected_rows() {
     assert_eq!(rejected.lines().count(), 3, "{rejected}");
     assert!(rejected.contains("2,throws,X,") && rejected.contains("3,balls,5,"));
     assert!(std::fs::read_to_string(out.join("index.html")).unwrap().contains("No audit was possible"));
+    // A comparison of the same log keeps them too.
+    let out = dir.join("compare");
+    let o = run(&["compare", log.to_str().unwrap(), "--before", "2024", "--after", "2025", "--out", out.to_str().unwrap()]);
+    assert_eq!(code(&o), 3, "{}", stderr(&o));
+    let rejected = std::fs::read_to_string(out.join("rejected.csv")).unwrap();
+    assert!(rejected.contains("2,throws,X,") && rejected.contains("3,balls,5,"), "{rejected}");
+    assert!(std::fs::read_to_string(out.join("index.html")).unwrap().contains("No comparison was possible"));
 }
 
 /// A setting's error names the config file and the key, and NaN is no

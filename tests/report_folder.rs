@@ -148,3 +148,51 @@ fn a_killed_audit_never_leaves_a_mixed_report() {
     assert!(left_beside(&root).is_empty(), "stale staging left: {:?}", left_beside(&root));
     std::fs::remove_dir_all(&root).ok();
 }
+
+/// Every file under `dir`, by its path within it.
+fn files_under(dir: &Path) -> std::collections::BTreeMap<String, Vec<u8>> {
+    let mut out = std::collections::BTreeMap::new();
+    let mut stack = vec![dir.to_path_buf()];
+    while let Some(d) = stack.pop() {
+        for e in std::fs::read_dir(&d).unwrap() {
+            let p = e.unwrap().path();
+            if p.is_dir() {
+                stack.push(p);
+            } else {
+                out.insert(p.strip_prefix(dir).unwrap().to_string_lossy().replace('\\', "/"), std::fs::read(&p).unwrap());
+            }
+        }
+    }
+    out
+}
+
+/// The exporters put the same files into memory as into the folder, each
+/// once: the folder is nothing but the JSON, CSV and page exporters' output.
+#[test]
+fn the_folder_is_its_exporters_output() {
+    use tellscope::report::{export::report_files, Csv, Html, Json};
+    let root = scratch("exporters");
+    let out = root.join("report");
+    let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/plain-staff/demo-log.csv");
+    let a = audit::run(&log, &settings(), false).unwrap();
+    tellscope::report::write_audit_report(&out, &a).unwrap();
+    let written = files_under(&out);
+    let files = report_files(&a, &[&Html, &Json, &Csv]).unwrap();
+    let in_memory: std::collections::BTreeMap<String, Vec<u8>> =
+        files.iter().map(|f| (f.path.to_string_lossy().to_string(), f.bytes.clone())).collect();
+    assert_eq!(in_memory.len(), files.len(), "a file was put twice");
+    assert_eq!(written.keys().collect::<Vec<_>>(), in_memory.keys().collect::<Vec<_>>());
+    for (name, bytes) in &written {
+        assert!(in_memory[name] == *bytes, "{name} differs");
+    }
+    for name in ["index.html", "summary.json", "tells.csv", "counts.csv", "rejected.csv"] {
+        assert!(written.contains_key(name), "{name} missing");
+    }
+    assert!(written.keys().any(|k| k.starts_with("charts/") && k.ends_with(".png")));
+    // The JSON exporter's one output is summary.json, and --json prints it.
+    let mut json = Vec::new();
+    tellscope::report::Exporter::export(&Json, &a, &mut json).unwrap();
+    assert_eq!(json.len(), 1);
+    assert_eq!(json[0].bytes, written["summary.json"]);
+    std::fs::remove_dir_all(&root).ok();
+}

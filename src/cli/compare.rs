@@ -10,8 +10,8 @@
 
 use super::LogArgs;
 use std::path::{Path, PathBuf};
-use tellscope::compare::{self, period::PeriodSpec, Comparison, Request};
-use tellscope::report;
+use tellscope::compare::{self, period::PeriodSpec, Request};
+use tellscope::report::{self, Exporter, Stdout, Table};
 use tellscope::domain::defaults::{COMPARE_PERMUTATIONS, FDR};
 use tellscope::settings::{ConfigFile, Overrides, Settings};
 use tellscope::Result;
@@ -76,64 +76,16 @@ pub fn run(args: Args) -> Result<()> {
     let out = args.out.clone().unwrap_or_else(|| default_out(&args.log.file));
     let request = Request { before, after };
     let input = args.log.input()?;
-    let mut cmp = compare::run(&input.path, &settings, &request, !args.json).map_err(|e| input.name_errors(e))?;
+    let mut cmp = compare::run(&input.path, &settings, &request, !args.json).map_err(|e| input.failed(e, &settings, &out, "comparison"))?;
     cmp.summary.input.path = input.shown();
-    report::write_all(&out, &report::compare::compare_files(&cmp)?)?;
+    report::compare::write_compare_report(&out, &cmp)?;
     if args.json {
-        print!("{}", report::compare::summary_json(&cmp.summary)?);
+        report::Json.export(&cmp, &mut Stdout)
     } else {
-        print_table(&cmp, &out);
+        Table { report: &out }.export(&cmp, &mut Stdout)
     }
-    Ok(())
 }
 
-/// The staff table and each pitcher's summary lines.
-pub fn print_table(cmp: &Comparison, out: &Path) {
-    let s = &cmp.summary;
-    let (b, a) = (&s.periods.before, &s.periods.after);
-    println!(
-        "{} ({} pitches in {} games) vs {} ({} pitches in {} games); {} tests, {} significant at FDR {}",
-        b.label, b.pitches, b.games, a.label, a.pitches, a.games, s.tests, s.significant, s.settings.fdr
-    );
-    println!();
-    println!("{:<22} {:>7} {:>7} {:>6} {:>7} {:>8} {:>8} {:>7} {:>7}", "pitcher", "before", "after", "shift", "q", "bits B", "bits A", "q", "changes");
-    let qt = |q: f64| if q < 0.001 { "<0.001".to_string() } else { format!("{q:.3}") };
-    for p in s.pitchers.iter().filter(|p| p.is_ok()) {
-        let mix_q = p
-            .changes
-            .iter()
-            .filter(|c| c.kind == "new_pitch" || c.kind == "dropped_pitch" || (c.kind == "mix_shift" && c.situation.is_empty()))
-            .filter_map(|c| c.q)
-            .fold(f64::NAN, f64::min);
-        let pr = p.predictability.as_ref();
-        println!(
-            "{:<22} {:>7} {:>7} {:>6.0} {:>7} {:>+8.3} {:>+8.3} {:>7} {:>7}",
-            p.pitcher.chars().take(22).collect::<String>(),
-            p.n_before,
-            p.n_after,
-            100.0 * p.mix_shift.unwrap_or(0.0),
-            if mix_q.is_nan() { String::new() } else { qt(mix_q) },
-            pr.map(|x| x.before.bits_gained).unwrap_or(0.0),
-            pr.map(|x| x.after.bits_gained).unwrap_or(0.0),
-            pr.map(|x| qt(x.q)).unwrap_or_default(),
-            p.significant_changes
-        );
-    }
-    for p in s.pitchers.iter().filter(|p| !p.is_ok()) {
-        println!("{:<22} {:>7} {:>7}  insufficient data", p.pitcher.chars().take(22).collect::<String>(), p.n_before, p.n_after);
-    }
-    println!("  shift: pitches in every 100 that changed type (total variation of the whole mix), q: its strongest test (overall mix, new or dropped pitch)");
-    println!("  bits: held-out bits gained per pitch in each period, q: the label-swap test of their difference");
-    for p in s.pitchers.iter().filter(|p| p.is_ok() && p.significant_changes > 0) {
-        println!();
-        println!("{}:", p.pitcher);
-        for l in &p.summary_lines {
-            println!("  - {l}");
-        }
-    }
-    println!();
-    println!("Report: {}", out.join("index.html").display());
-}
 
 /// The demo's comparison, 2025 against 2026, into `<audit folder>-compare`
 /// (`reports/demo-compare` by default); called at the end of `tellscope demo`.
@@ -143,8 +95,7 @@ pub fn run_demo(log_path: &Path, cfg: &ConfigFile, audit_out: &Path, permutation
     let cmp = compare::run(log_path, &settings, &request, true)?;
     let name = audit_out.file_name().and_then(|n| n.to_str()).unwrap_or("demo");
     let out = audit_out.with_file_name(format!("{name}-compare"));
-    report::write_all(&out, &report::compare::compare_files(&cmp)?)?;
+    report::compare::write_compare_report(&out, &cmp)?;
     println!();
-    print_table(&cmp, &out);
-    Ok(())
+    Table { report: &out }.export(&cmp, &mut Stdout)
 }

@@ -10,7 +10,7 @@ use std::path::{Path, PathBuf};
 use tellscope::audit;
 use tellscope::domain::defaults::{AUDIT_PERMUTATIONS, COMPARE_PERMUTATIONS};
 use tellscope::simulate::write::{sim_frame, write_frame};
-use tellscope::report;
+use tellscope::report::{self, Exporter, Stdout, Table};
 use tellscope::settings::{ConfigFile, Overrides, Settings};
 use tellscope::simulate::simulate;
 use tellscope::Result;
@@ -57,7 +57,7 @@ pub fn run(args: Args) -> Result<()> {
     let settings = Settings::resolve(&cfg, &Overrides { permutations: args.permutations, ..Overrides::default() })?;
     let a = audit::run(&log_path, &settings, true)?;
     report::write_audit_report(&args.out, &a)?;
-    super::audit::print_table(&a, &args.out);
+    Table { report: &args.out }.export(&a, &mut Stdout)?;
     super::compare::run_demo(&log_path, &cfg, &args.out, args.permutations)
 }
 

@@ -77,6 +77,21 @@ impl LogInput {
         }
     }
 
+    /// A failed run's error, named as the user gave the log. When the data
+    /// is unusable (exit 3) the rejected rows are still kept, with a short
+    /// page saying why, in the report folder `out` (the run still fails).
+    pub fn failed(&self, e: tellscope::Error, settings: &tellscope::settings::Settings, out: &std::path::Path, what: &str) -> tellscope::Error {
+        let e = self.name_errors(e);
+        if e.exit_code() == 3 {
+            if let Ok(rejected) = tellscope::ingest::rejected_rows(&self.path, &settings.input) {
+                if !rejected.is_empty() && tellscope::report::write_failed_report(out, what, &e.to_string(), &rejected).is_ok() {
+                    eprintln!("note: {} rejected rows and why are in {}", rejected.len(), out.join("rejected.csv").display());
+                }
+            }
+        }
+        e
+    }
+
     /// The name to record as the input: `stdin` for standard input.
     pub fn shown(&self) -> String {
         if self.is_stdin() {

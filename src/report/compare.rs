@@ -7,6 +7,7 @@
 use crate::domain::numbers::{bits_text, p_text, points, q_text, share_text};
 use super::charts::{self, Chart, ChartError};
 use super::csv::{rejected_csv, Table};
+use super::export::{Csv, Exporter, Html, Json, Sink};
 use super::{unique_stems, ReportFile};
 
 use crate::compare::summary::{Change, CompareSummary, PeriodFigures, PitcherChanges, Predictability};
@@ -24,9 +25,7 @@ fn chart_err(e: ChartError) -> Error {
 
 /// `summary.json`: the results value, serialised.
 pub fn summary_json(s: &CompareSummary) -> Result<String> {
-    let mut out = serde_json::to_string_pretty(s).map_err(|e| Error::Internal(format!("summary.json: {e}")))?;
-    out.push('\n');
-    Ok(out)
+    super::export::json_text(s)
 }
 
 fn situation_text(c: &Change) -> String {
@@ -471,12 +470,40 @@ fn test_rows(p: &PitcherChanges) -> Vec<TestRow> {
         .collect()
 }
 
-/// Every file of a comparison report.
+/// Every file of a comparison report, in memory.
 pub fn compare_files(cmp: &Comparison) -> Result<Vec<ReportFile>> {
+    super::export::report_files(cmp, &[&Html, &Json, &Csv])
+}
+
+/// Render and write a comparison's report folder.
+pub fn write_compare_report(dir: &std::path::Path, cmp: &Comparison) -> Result<()> {
+    super::export::write_report(dir, cmp, &Html, &[&Json, &Csv])
+}
+
+impl Exporter<Comparison> for Json {
+    fn export(&self, cmp: &Comparison, sink: &mut dyn Sink) -> Result<()> {
+        sink.put("summary.json", summary_json(&cmp.summary)?.as_bytes())
+    }
+}
+
+impl Exporter<Comparison> for Csv {
+    fn export(&self, cmp: &Comparison, sink: &mut dyn Sink) -> Result<()> {
+        sink.put("changes.csv", &changes_csv(&cmp.summary)?)?;
+        sink.put("rejected.csv", &rejected_csv(&cmp.rejected)?)
+    }
+}
+
+impl Exporter<Comparison> for Html {
+    fn export(&self, cmp: &Comparison, sink: &mut dyn Sink) -> Result<()> {
+        page(cmp, sink)
+    }
+}
+
+/// The comparison's page and its charts.
+fn page(cmp: &Comparison, sink: &mut dyn Sink) -> Result<()> {
     let s = &cmp.summary;
     let names: Vec<String> = s.pitchers.iter().map(|p| p.pitcher.clone()).collect();
     let stems: BTreeMap<String, String> = names.iter().cloned().zip(unique_stems(&names)).collect();
-    let mut files = Vec::new();
     let mut staff = Vec::new();
     let mut views = Vec::new();
     let mut insufficient = Vec::new();
@@ -488,8 +515,8 @@ pub fn compare_files(cmp: &Comparison) -> Result<Vec<ReportFile>> {
         }
         let built = pitcher_charts(s, p, &stem)?;
         for c in &built {
-            files.push(ReportFile::new(format!("charts/{}.svg", c.name), c.svg.clone()));
-            files.push(ReportFile::new(format!("charts/{}.png", c.name), c.png.clone()));
+            sink.put(&format!("charts/{}.svg", c.name), c.svg.as_bytes())?;
+            sink.put(&format!("charts/{}.png", c.name), &c.png)?;
         }
         // The strongest evidence of a changed mix: a new or dropped pitch,
         // or the overall mix test.
@@ -562,9 +589,5 @@ pub fn compare_files(cmp: &Comparison) -> Result<Vec<ReportFile>> {
         insufficient => insufficient,
     };
     let html = tmpl.render(ctx).map_err(|e| Error::Internal(format!("rendering index.html: {e}")))?;
-    files.push(ReportFile::new("index.html", html));
-    files.push(ReportFile::new("summary.json", summary_json(s)?));
-    files.push(ReportFile::new("changes.csv", changes_csv(s)?));
-    files.push(ReportFile::new("rejected.csv", rejected_csv(&cmp.rejected)?));
-    Ok(files)
+    sink.put("index.html", html.as_bytes())
 }

@@ -5,11 +5,15 @@
 pub mod charts;
 pub mod compare;
 pub mod csv;
+pub mod export;
 pub mod figures;
 pub mod html;
 pub mod json;
+pub mod table;
 
+use crate::audit::Audit;
 use crate::error::{Error, Result};
+pub use export::{Csv, Exporter, Html, Json, Sink, Stdout, Table};
 use std::path::{Path, PathBuf};
 
 /// One file of a report, relative to the report folder.
@@ -266,23 +270,15 @@ impl Drop for Staging {
     }
 }
 
-/// Write all files under `dir` at once (see [`Staging`]).
-pub fn write_all(dir: &Path, files: &[ReportFile]) -> Result<()> {
-    let mut st = Staging::new(dir);
-    for f in files {
-        st.add(&f.path, &f.bytes)?;
-    }
-    st.commit()
-}
-
 /// When a run cannot go on (no valid row, `--strict`): a report folder of
 /// its own holding `rejected.csv` (every rejected row, line, column, value,
 /// reason) and a short `index.html` saying why, so nothing is lost.
-pub fn write_failed_report(dir: &Path, why: &str, rejected: &[crate::ingest::Rejected]) -> Result<()> {
+/// `what` names the run that failed (`audit`, `comparison`).
+pub fn write_failed_report(dir: &Path, what: &str, why: &str, rejected: &[crate::ingest::Rejected]) -> Result<()> {
     let mut st = Staging::new(dir);
     st.add("rejected.csv", &csv::rejected_csv(rejected)?)?;
     let page = format!(
-        "<!DOCTYPE html><html lang=\"en\"><head><meta charset=\"utf-8\"><title>tellscope: no audit</title></head><body style=\"font-family:sans-serif;max-width:50rem;margin:2rem auto\"><h1>No audit was possible</h1><p>{}</p><p>{} rows were rejected; each is listed with its line, column, value and reason in <a href=\"rejected.csv\">rejected.csv</a>. Fix them (or the export) and run the audit again.</p></body></html>\n",
+        "<!DOCTYPE html><html lang=\"en\"><head><meta charset=\"utf-8\"><title>tellscope: no {what}</title></head><body style=\"font-family:sans-serif;max-width:50rem;margin:2rem auto\"><h1>No {what} was possible</h1><p>{}</p><p>{} rows were rejected; each is listed with its line, column, value and reason in <a href=\"rejected.csv\">rejected.csv</a>. Fix them (or the export) and run the {what} again.</p></body></html>\n",
         charts::escape_xml(why),
         rejected.len()
     );
@@ -296,61 +292,69 @@ pub fn write_failed_report(dir: &Path, why: &str, rejected: &[crate::ingest::Rej
 pub const INLINE_ALL_CHARTS_UP_TO: usize = 60;
 
 /// Render and write an audit's report folder.
-pub fn write_audit_report(dir: &Path, audit: &crate::audit::Audit) -> Result<()> {
-    let s = &audit.summary;
-    let names: Vec<String> = s.pitchers.iter().map(|p| p.pitcher.clone()).collect();
-    let stems: std::collections::BTreeMap<String, String> = names.iter().cloned().zip(unique_stems(&names)).collect();
-    let ok = s.pitchers.iter().filter(|p| p.is_ok()).count();
-    let inline = |pitcher: &str| {
-        ok <= INLINE_ALL_CHARTS_UP_TO
-            || s.pitchers.iter().any(|p| p.pitcher == pitcher && (p.significant == Some(true) || !p.tells.is_empty()))
-    };
-    let mut st = Staging::new(dir);
-    // The charts and the page are drawn while the data files are written
-    // (to a staging of their own, committed with the rest).
-    let (drawn, data) = rayon::join(
-        || -> Result<()> {
-            let mut svgs = html::ChartSvgs::default();
-            figures::for_each_chart(s, &stems, |pitcher, chart| {
-                st.add(format!("charts/{}.svg", chart.name), chart.svg.as_bytes())?;
-                st.add(format!("charts/{}.png", chart.name), &chart.png)?;
-                match pitcher {
-                    None if chart.name == "called-outcomes" => svgs.called = Some(chart.svg),
-                    None if chart.name == "staff-league-rank" => svgs.league = Some(chart.svg),
-                    None => svgs.staff = Some(chart.svg),
-                    Some(p) if inline(p) && chart.name.starts_with("where-it-goes-") => {
-                        svgs.location.insert(p.to_string(), chart.svg);
-                    }
-                    Some(p) if inline(p) => svgs.per_pitcher.entry(p.to_string()).or_default().push(chart.svg),
-                    Some(_) => {}
+pub fn write_audit_report(dir: &Path, audit: &Audit) -> Result<()> {
+    export::write_report(dir, audit, &Html, &[&Json, &Csv])
+}
+
+impl Exporter<Audit> for Json {
+    fn export(&self, audit: &Audit, sink: &mut dyn Sink) -> Result<()> {
+        sink.put("summary.json", json::summary_json(&audit.summary)?.as_bytes())
+    }
+}
+
+impl Exporter<Audit> for Csv {
+    fn export(&self, audit: &Audit, sink: &mut dyn Sink) -> Result<()> {
+        sink.put_with("tells.csv", &mut |mut w| csv::write_tells_csv(&audit.tests, &mut w))?;
+        sink.put("counts.csv", &csv::counts_csv(&audit.summary)?)?;
+        if !audit.outcomes.is_empty() {
+            sink.put("outcomes.csv", &csv::outcomes_csv(&audit.outcomes)?)?;
+        }
+        sink.put("rejected.csv", &csv::rejected_csv(&audit.rejected)?)
+    }
+}
+
+impl Exporter<Audit> for Html {
+    fn export(&self, audit: &Audit, sink: &mut dyn Sink) -> Result<()> {
+        let s = &audit.summary;
+        let names: Vec<String> = s.pitchers.iter().map(|p| p.pitcher.clone()).collect();
+        let stems: std::collections::BTreeMap<String, String> = names.iter().cloned().zip(unique_stems(&names)).collect();
+        let ok = s.pitchers.iter().filter(|p| p.is_ok()).count();
+        let inline = |pitcher: &str| {
+            ok <= INLINE_ALL_CHARTS_UP_TO
+                || s.pitchers.iter().any(|p| p.pitcher == pitcher && (p.significant == Some(true) || !p.tells.is_empty()))
+        };
+        let mut svgs = html::ChartSvgs::default();
+        figures::for_each_chart(s, &stems, |pitcher, chart| {
+            sink.put(&format!("charts/{}.svg", chart.name), chart.svg.as_bytes())?;
+            sink.put(&format!("charts/{}.png", chart.name), &chart.png)?;
+            match pitcher {
+                None if chart.name == "called-outcomes" => svgs.called = Some(chart.svg),
+                None if chart.name == "staff-league-rank" => svgs.league = Some(chart.svg),
+                None => svgs.staff = Some(chart.svg),
+                Some(p) if inline(p) && chart.name.starts_with("where-it-goes-") => {
+                    svgs.location.insert(p.to_string(), chart.svg);
                 }
-                Ok(())
-            })?;
-            svgs.omitted = ok > INLINE_ALL_CHARTS_UP_TO;
-            st.add("index.html", html::render(s, &audit.tests, &svgs, &stems)?.as_bytes())
-        },
-        || -> Result<Staging> {
-            let mut data = Staging::new(dir);
-            data.add("summary.json", json::summary_json(s)?.as_bytes())?;
-            data.add_with("tells.csv", |w| csv::write_tells_csv(&audit.tests, w))?;
-            data.add("counts.csv", &csv::counts_csv(s)?)?;
-            if !audit.outcomes.is_empty() {
-                data.add("outcomes.csv", &csv::outcomes_csv(&audit.outcomes)?)?;
+                Some(p) if inline(p) => svgs.per_pitcher.entry(p.to_string()).or_default().push(chart.svg),
+                Some(_) => {}
             }
-            data.add("rejected.csv", &csv::rejected_csv(&audit.rejected)?)?;
-            Ok(data)
-        },
-    );
-    // Both stagings clean up after themselves if either failed.
-    let data = data?;
-    drawn?;
-    st.absorb(data);
-    st.commit()
+            Ok(())
+        })?;
+        svgs.omitted = ok > INLINE_ALL_CHARTS_UP_TO;
+        sink.put("index.html", html::render(s, &audit.tests, &svgs, &stems)?.as_bytes())
+    }
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    fn write_all(dir: &Path, files: &[ReportFile]) -> Result<()> {
+        let mut st = Staging::new(dir);
+        for f in files {
+            st.add(&f.path, &f.bytes)?;
+        }
+        st.commit()
+    }
 
     #[test]
     fn stems_are_safe_and_unique() {
