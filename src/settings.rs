@@ -376,8 +376,24 @@ fn check_range<T: PartialOrd + std::fmt::Display + Copy>(name: &str, v: T, lo: T
 }
 
 impl Settings {
-    /// Validate a config file and the command-line overrides into settings.
+    /// Validate a config file and the command-line overrides into settings:
+    /// each section checked into its own value.
     pub fn resolve(cfg: &ConfigFile, o: &Overrides) -> Result<Settings> {
+        Ok(Settings {
+            input: InputParams::check(cfg, o)?,
+            audit: AuditParams::check(&cfg.audit, o)?,
+            tree: TreeParams::check(&cfg.model)?,
+            tells: TellParams::check(&cfg.tells)?,
+            location: LocationParams::check(&cfg.location)?,
+            compare: CompareParams::check(&cfg.compare, o)?,
+        })
+    }
+}
+
+impl InputParams {
+    /// `[columns]` names contract columns, each read from its own header;
+    /// `[pitch_groups]` puts each label in one group.
+    fn check(cfg: &ConfigFile, o: &Overrides) -> Result<InputParams> {
         for (contract, file) in &cfg.columns {
             if !known_column(contract) {
                 return Err(Error::Usage(format!(
@@ -410,9 +426,12 @@ impl Settings {
                 }
             }
         }
-        let a = &cfg.audit;
-        let m = &cfg.model;
-        let t = &cfg.tells;
+        Ok(InputParams { columns: cfg.columns.clone(), pitch_groups: groups, strict: o.strict })
+    }
+}
+
+impl AuditParams {
+    fn check(a: &AuditConfig, o: &Overrides) -> Result<AuditParams> {
         let statistic = match a.statistic.as_deref().unwrap_or("bits") {
             "bits" => Statistic::Bits,
             "accuracy" => Statistic::Accuracy,
@@ -422,6 +441,31 @@ impl Settings {
                 )))
             }
         };
+        let fdr = o.fdr.or(a.fdr).unwrap_or(FDR);
+        if !(fdr > 0.0 && fdr < 1.0) {
+            return Err(Error::Usage(format!("--fdr {fdr} must lie strictly between 0 and 1, e.g. 0.05")));
+        }
+        let permutations = o.permutations.or(a.permutations).unwrap_or(AUDIT_PERMUTATIONS);
+        check_range("--permutations", permutations, 0, 1_000_000)?;
+        Ok(AuditParams {
+            seed: o.seed.or(a.seed).unwrap_or(DEFAULT_SEED),
+            permutations,
+            fdr,
+            statistic,
+            stop_after_exceedances: check_range("[audit] stop_after_exceedances", a.stop_after_exceedances.unwrap_or(10), 1, 1_000_000)?,
+            min_train_pitches: check_range("[audit] min_train_pitches", a.min_train_pitches.unwrap_or(300), 50, 10_000_000)?,
+            min_test_pitches: check_range("[audit] min_test_pitches", a.min_test_pitches.unwrap_or(100), 20, 10_000_000)?,
+            forward_blocks: check_range("[audit] forward_blocks", a.forward_blocks.unwrap_or(5), 2, 50)?,
+            new_type_share: check_range("[audit] new_type_share", a.new_type_share.unwrap_or(0.01), 0.0, 0.5)?,
+            test_season: o.test_season,
+            pitchers: o.pitchers.clone(),
+            team: o.team.clone(),
+        })
+    }
+}
+
+impl TreeParams {
+    fn check(m: &ModelConfig) -> Result<TreeParams> {
         let prior_strength = match &m.prior_strength {
             None => PriorStrength::Auto,
             Some(toml::Value::String(s)) if s == "auto" => PriorStrength::Auto,
@@ -433,6 +477,25 @@ impl Settings {
                 )))
             }
         };
+        let growth = TreeSettings {
+            max_depth: check_range("[model] max_depth", m.max_depth.unwrap_or(6), 1, 20)?,
+            min_samples_leaf: check_range("[model] min_samples_leaf", m.min_samples_leaf.unwrap_or(20), 1, 100_000)?,
+            min_samples_split: check_range("[model] min_samples_split", m.min_samples_split.unwrap_or(40), 2, 100_000)?,
+            min_impurity_decrease: check_range("[model] min_impurity_decrease", m.min_impurity_decrease.unwrap_or(0.0), 0.0, 1.0)?,
+        };
+        Ok(TreeParams {
+            growth,
+            leaf_smoothing: check_range("[model] leaf_smoothing", m.leaf_smoothing.unwrap_or(10.0), 0.01, 1e6)?,
+            prior_blend: check_range("[model] prior_blend", m.prior_blend.unwrap_or(0.3), 0.0, 1.0)?,
+            split_alpha: check_range("[model] split_alpha", m.split_alpha.unwrap_or(0.05), 1e-12, 1.0)?,
+            prior_strength,
+            min_type_pitches: check_range("[model] min_type_pitches", m.min_type_pitches.unwrap_or(30), 1, 1_000_000)?,
+        })
+    }
+}
+
+impl TellParams {
+    fn check(t: &TellConfig) -> Result<TellParams> {
         let pairs = match &t.pairs {
             None => vec![
                 (Factor::Count, Factor::Platoon),
@@ -457,41 +520,7 @@ impl Settings {
                 out
             }
         };
-        let growth = TreeSettings {
-            max_depth: check_range("[model] max_depth", m.max_depth.unwrap_or(6), 1, 20)?,
-            min_samples_leaf: check_range("[model] min_samples_leaf", m.min_samples_leaf.unwrap_or(20), 1, 100_000)?,
-            min_samples_split: check_range("[model] min_samples_split", m.min_samples_split.unwrap_or(40), 2, 100_000)?,
-            min_impurity_decrease: check_range("[model] min_impurity_decrease", m.min_impurity_decrease.unwrap_or(0.0), 0.0, 1.0)?,
-        };
-        let fdr = o.fdr.or(a.fdr).unwrap_or(FDR);
-        if !(fdr > 0.0 && fdr < 1.0) {
-            return Err(Error::Usage(format!("--fdr {fdr} must lie strictly between 0 and 1, e.g. 0.05")));
-        }
-        let permutations = o.permutations.or(a.permutations).unwrap_or(AUDIT_PERMUTATIONS);
-        check_range("--permutations", permutations, 0, 1_000_000)?;
-        let audit = AuditParams {
-            seed: o.seed.or(a.seed).unwrap_or(DEFAULT_SEED),
-            permutations,
-            fdr,
-            statistic,
-            stop_after_exceedances: check_range("[audit] stop_after_exceedances", a.stop_after_exceedances.unwrap_or(10), 1, 1_000_000)?,
-            min_train_pitches: check_range("[audit] min_train_pitches", a.min_train_pitches.unwrap_or(300), 50, 10_000_000)?,
-            min_test_pitches: check_range("[audit] min_test_pitches", a.min_test_pitches.unwrap_or(100), 20, 10_000_000)?,
-            forward_blocks: check_range("[audit] forward_blocks", a.forward_blocks.unwrap_or(5), 2, 50)?,
-            new_type_share: check_range("[audit] new_type_share", a.new_type_share.unwrap_or(0.01), 0.0, 0.5)?,
-            test_season: o.test_season,
-            pitchers: o.pitchers.clone(),
-            team: o.team.clone(),
-        };
-        let tree = TreeParams {
-            growth,
-            leaf_smoothing: check_range("[model] leaf_smoothing", m.leaf_smoothing.unwrap_or(10.0), 0.01, 1e6)?,
-            prior_blend: check_range("[model] prior_blend", m.prior_blend.unwrap_or(0.3), 0.0, 1.0)?,
-            split_alpha: check_range("[model] split_alpha", m.split_alpha.unwrap_or(0.05), 1e-12, 1.0)?,
-            prior_strength,
-            min_type_pitches: check_range("[model] min_type_pitches", m.min_type_pitches.unwrap_or(30), 1, 1_000_000)?,
-        };
-        let tells = TellParams {
+        Ok(TellParams {
             min_effect: check_range("[tells] min_effect", t.min_effect.unwrap_or(0.10), 0.0, 1.0)?,
             min_n: check_range("[tells] min_n", t.min_n.unwrap_or(20), 1, 1_000_000)?,
             pairs,
@@ -504,22 +533,29 @@ impl Settings {
                     )))
                 }
             },
-        };
-        let location = LocationParams {
-            min_train: check_range("[location] min_train_pitches", cfg.location.min_train_pitches.unwrap_or(150), 30, 10_000_000)?,
-            min_test: check_range("[location] min_test_pitches", cfg.location.min_test_pitches.unwrap_or(50), 10, 10_000_000)?,
-        };
-        let c = &cfg.compare;
-        let compare = CompareParams {
+        })
+    }
+}
+
+impl LocationParams {
+    fn check(l: &LocationConfig) -> Result<LocationParams> {
+        Ok(LocationParams {
+            min_train: check_range("[location] min_train_pitches", l.min_train_pitches.unwrap_or(150), 30, 10_000_000)?,
+            min_test: check_range("[location] min_test_pitches", l.min_test_pitches.unwrap_or(50), 10, 10_000_000)?,
+        })
+    }
+}
+
+impl CompareParams {
+    fn check(c: &CompareConfig, o: &Overrides) -> Result<CompareParams> {
+        Ok(CompareParams {
             new_pitch_share: check_range("[compare] new_pitch_share", c.new_pitch_share.unwrap_or(0.05), 0.0, 1.0)?,
             absent_share: check_range("[compare] absent_share", c.absent_share.unwrap_or(0.01), 0.0, 1.0)?,
             bootstrap: check_range("[compare] bootstrap", c.bootstrap.unwrap_or(400), 50, 100_000)?,
             permutations: check_range(
                 if o.compare_permutations.is_some() { "--permutations" } else { "[compare] permutations" },
                 o.compare_permutations.or(c.permutations).unwrap_or(COMPARE_PERMUTATIONS), 0, 1_000_000)?,
-        };
-        let input = InputParams { columns: cfg.columns.clone(), pitch_groups: groups, strict: o.strict };
-        Ok(Settings { input, audit, tree, tells, location, compare })
+        })
     }
 }
 
