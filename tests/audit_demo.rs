@@ -158,7 +158,7 @@ fn same_seed_same_bytes_at_any_thread_count() {
 #[test]
 fn held_out_labels_never_shape_the_fit() {
     use rand::{seq::SliceRandom, SeedableRng};
-    use tellscope::evaluate::{fit::fit_and_score, fit::Workspace, split::Plan, task::PitcherTask};
+    use tellscope::evaluate::{fit::observe, fit::Workspace, split::Plan, task::PitcherTask};
     let s = settings(9);
     let ing = tellscope::ingest::load(&demo_log(), &s.input).unwrap();
     let sit = tellscope::situations::build(&ing.log);
@@ -168,7 +168,7 @@ fn held_out_labels_never_shape_the_fit() {
         let rows: Vec<u32> = (0..ing.log.len() as u32).filter(|&i| ing.log.pitcher[i as usize] == p).collect();
         let task = PitcherTask::build(&ing.log, &sit, &plan.local(&ing.log, &rows), p, rows);
         let mut ws = Workspace::new(&task);
-        let a = fit_and_score(&task, &task.labels, &s, &mut ws, true);
+        let a = observe(&task, &task.labels, &s, &mut ws);
         // Shuffle the held-out season's labels only.
         let mut labels = task.labels.clone();
         let test: Vec<usize> = task.held_out.iter().map(|&i| i as usize).collect();
@@ -179,7 +179,7 @@ fn held_out_labels_never_shape_the_fit() {
         }
         assert_ne!(labels, task.labels);
         let mut ws2 = Workspace::new(&task);
-        let b = fit_and_score(&task, &labels, &s, &mut ws2, true);
+        let b = observe(&task, &labels, &s, &mut ws2);
         assert_eq!(a.trees, b.trees, "{name}: trees changed");
         assert_eq!(a.usage, b.usage, "{name}: usage prior changed");
         assert_eq!(a.strengths, b.strengths, "{name}: shrunk priors' strength changed");

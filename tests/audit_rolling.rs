@@ -162,7 +162,7 @@ fn a_mix_that_drifts_through_the_season_is_not_a_tell() {
 #[test]
 fn a_scored_blocks_labels_never_shape_the_models_that_score_it() {
     use rand::{seq::SliceRandom, SeedableRng};
-    use tellscope::evaluate::{fit::fit_and_score, fit::Workspace, split::PitcherPlan, task::PitcherTask};
+    use tellscope::evaluate::{fit::observe, fit::Workspace, split::PitcherPlan, task::PitcherTask};
     let s = settings(9);
     let ing = tellscope::ingest::load(&root().join("demo-data/demo-log.csv"), &s.input).unwrap();
     let sit = tellscope::situations::build(&ing.log);
@@ -171,7 +171,7 @@ fn a_scored_blocks_labels_never_shape_the_models_that_score_it() {
         let rows: Vec<u32> = (0..ing.log.len() as u32).filter(|&i| ing.log.pitcher[i as usize] == p).collect();
         let plan = PitcherPlan::rolling(&ing.log, &rows, 5, 300);
         let task = PitcherTask::build(&ing.log, &sit, &plan, p, rows);
-        let a = fit_and_score(&task, &task.labels, &s, &mut Workspace::new(&task), true);
+        let a = observe(&task, &task.labels, &s, &mut Workspace::new(&task));
         for f in 0..task.folds.len() {
             let mut labels = task.labels.clone();
             let test: Vec<usize> = task.folds[f].test.iter().map(|&i| i as usize).collect();
@@ -180,7 +180,7 @@ fn a_scored_blocks_labels_never_shape_the_models_that_score_it() {
             for (i, v) in test.iter().zip(vals) {
                 labels[*i] = v;
             }
-            let b = fit_and_score(&task, &labels, &s, &mut Workspace::new(&task), true);
+            let b = observe(&task, &labels, &s, &mut Workspace::new(&task));
             assert_eq!(a.trees[..=f], b.trees[..=f], "{name}: fold {f}'s labels changed a model that scores them");
             assert_eq!(a.usage[..=f], b.usage[..=f], "{name}: fold {f}'s labels changed a usage prior that scores them");
         }

@@ -22,7 +22,7 @@
 //! false-discovery families.
 
 use super::permute::{self, shuffle_within, PermutationResult};
-use crate::evaluate::fit::{argmax, fit_and_score, Stat, StatTotals, Workspace};
+use crate::evaluate::fit::{self, argmax, Stat, StatTotals, Workspace};
 use crate::evaluate::task::PitcherTask;
 use crate::ingest::PitchLog;
 use crate::settings::Settings;
@@ -119,7 +119,7 @@ fn observe(loc: &PitcherLocation, settings: &Settings) -> Pooled {
     for part in &loc.parts {
         let t = &part.task;
         let mut ws = Workspace::new(t);
-        let scored = fit_and_score(t, &t.labels, settings, &mut ws, true);
+        let scored = fit::observe(t, &t.labels, settings, &mut ws);
         let (mut m, mut p) = (0, 0);
         for (i, &r) in scored.rows.iter().enumerate() {
             let y = t.labels[r as usize] as usize;
@@ -154,7 +154,7 @@ fn null_statistic(loc: &PitcherLocation, name: &str, settings: &Settings, j: u64
     for (part, (ws, labels)) in loc.parts.iter().zip(s.iter_mut()) {
         labels.copy_from_slice(&part.task.labels);
         shuffle_within(labels, &part.task.strata, &mut rng);
-        let scored = fit_and_score(&part.task, labels, settings, ws, false);
+        let scored = fit::refit(&part.task, labels, settings, ws);
         total.add(&scored.totals);
     }
     total.bits_stat()

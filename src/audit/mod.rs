@@ -9,7 +9,7 @@ pub mod summary;
 pub mod wording;
 
 use crate::error::{Error, Result};
-use crate::evaluate::fit::{argmax, fit_and_score, statistic, Workspace};
+use crate::evaluate::fit::{self, argmax, statistic, Workspace};
 use crate::evaluate::split::{PitcherPlan, Plan};
 use crate::evaluate::task::PitcherTask;
 use crate::evaluate::{self, HeldOut};
@@ -61,7 +61,7 @@ fn mix_of(names: &[String], task: &PitcherTask, rows: &[u32]) -> BTreeMap<String
 
 fn observe(task: &PitcherTask, settings: &Settings, names: &[String]) -> Observed {
     let mut ws = Workspace::new(task);
-    let scored = fit_and_score(task, &task.labels, settings, &mut ws, true);
+    let scored = fit::observe(task, &task.labels, settings, &mut ws);
     let figures = evaluate::overall(&scored, &task.labels);
     let counts = evaluate::per_count(task, &scored, &task.labels);
     let types = evaluate::per_type(task, &scored, &task.labels, names, settings.tree.min_type_pitches());

@@ -11,7 +11,7 @@
 //! Sequential stopping (Besag & Clifford 1991) is applied to the results in
 //! permutation order, so early stopping is deterministic too.
 
-use crate::evaluate::fit::{beyond_statistic, fit_and_score, statistic, Stat, Workspace};
+use crate::evaluate::fit::{self, beyond_statistic, statistic, Stat, Workspace};
 use crate::evaluate::task::PitcherTask;
 use crate::settings::Settings;
 use crate::significance::permutation_p::SequentialPermutation;
@@ -124,7 +124,7 @@ pub fn null_statistic(null: Null, task: &PitcherTask, settings: &Settings, j: u6
     labels.copy_from_slice(&task.labels);
     let mut rng = null_rng(null, settings.audit.seed(), &task.name, j);
     shuffle_within(labels, null.strata(task), &mut rng);
-    let scored = fit_and_score(task, labels, settings, ws, false);
+    let scored = fit::refit(task, labels, settings, ws);
     null.statistic(&scored, settings)
 }
 

@@ -31,7 +31,7 @@
 
 use super::stream;
 use crate::error::Result;
-use crate::evaluate::fit::{argmax, fit_and_score, Workspace};
+use crate::evaluate::fit::{self, argmax, Workspace};
 use crate::evaluate::split::Plan;
 use crate::evaluate::task::PitcherTask;
 use crate::evaluate::HeldOut;
@@ -209,7 +209,7 @@ pub fn cross_fit(log: &PitchLog, sit: &Situations, pitcher: u32, rows: &[u32], s
 /// and each game's sums by game id.
 fn fit_games(task: &PitcherTask, settings: &Settings) -> (usize, Vec<(u32, GameScore)>) {
     let mut ws = Workspace::new(task);
-    let scored = fit_and_score(task, &task.labels, settings, &mut ws, true);
+    let scored = fit::observe(task, &task.labels, settings, &mut ws);
     let mut by_game: BTreeMap<u32, GameScore> = BTreeMap::new();
     for (i, &r) in scored.rows.iter().enumerate() {
         let y = task.labels[r as usize] as usize;
@@ -359,7 +359,7 @@ pub fn transfer(log: &PitchLog, sit: &Situations, pitcher: u32, rows_before: &[u
     };
     let task = PitcherTask::build(log, sit, &plan.local(log, &rows), pitcher, rows.clone());
     let mut ws = Workspace::new(&task);
-    let scored = fit_and_score(&task, &task.labels, settings, &mut ws, true);
+    let scored = fit::observe(&task, &task.labels, settings, &mut ws);
     let k = task.n_classes;
     // His counts of each class before (training rows) and after (scored).
     // A type he did not throw before cannot be guessed by the before

@@ -170,7 +170,7 @@ fn bin_scaled(x: f64) -> u8 {
 /// codes, the grown tree and its kept nodes' probabilities, the sheet, and
 /// the held-out sums (with each row's probabilities when `keep_trees`, the
 /// observed fit, which also checks its shortcuts against the plain way).
-pub fn fit_and_score(
+fn fit_and_score(
     task: &PitcherTask,
     labels: &[u8],
     settings: &Settings,
@@ -221,6 +221,21 @@ pub fn fit_and_score(
         }
     }
     out
+}
+
+/// The stages of a fit: a pitcher's [`Workspace`] is prepared once
+/// (`Workspace::new`, label-independent); his observed labels are fitted
+/// once with [`observe`], keeping every fold's tree, prior and row
+/// probabilities; each permutation's labels are fitted with [`refit`],
+/// which keeps only what the test statistics need.
+pub fn observe(task: &PitcherTask, labels: &[u8], settings: &Settings, ws: &mut Workspace) -> Scored {
+    fit_and_score(task, labels, settings, ws, true)
+}
+
+/// A permutation's fit: the held-out sums of the test statistics (and the
+/// sheet's, when the workspace asks for them), nothing kept per row.
+pub fn refit(task: &PitcherTask, labels: &[u8], settings: &Settings, ws: &mut Workspace) -> Scored {
+    fit_and_score(task, labels, settings, ws, false)
 }
 
 /// The OOF parts, then "all training rows".
