@@ -4,7 +4,7 @@
 use crate::error::{Error, Result};
 use crate::model::TreeSettings;
 use crate::domain::columns::{OPTIONAL_COLUMNS, REQUIRED_COLUMNS};
-use crate::domain::defaults::{AUDIT_PERMUTATIONS, COMPARE_PERMUTATIONS, DEFAULT_SEED, FDR};
+use crate::domain::defaults::*;
 use crate::domain::levels::Factor;
 use serde::{Deserialize, Serialize};
 use std::collections::BTreeMap;
@@ -432,7 +432,7 @@ impl InputParams {
 
 impl AuditParams {
     fn check(a: &AuditConfig, o: &Overrides) -> Result<AuditParams> {
-        let statistic = match a.statistic.as_deref().unwrap_or("bits") {
+        let statistic = match a.statistic.as_deref().unwrap_or(STATISTIC) {
             "bits" => Statistic::Bits,
             "accuracy" => Statistic::Accuracy,
             other => {
@@ -452,11 +452,11 @@ impl AuditParams {
             permutations,
             fdr,
             statistic,
-            stop_after_exceedances: check_range("[audit] stop_after_exceedances", a.stop_after_exceedances.unwrap_or(10), 1, 1_000_000)?,
-            min_train_pitches: check_range("[audit] min_train_pitches", a.min_train_pitches.unwrap_or(300), 50, 10_000_000)?,
-            min_test_pitches: check_range("[audit] min_test_pitches", a.min_test_pitches.unwrap_or(100), 20, 10_000_000)?,
-            forward_blocks: check_range("[audit] forward_blocks", a.forward_blocks.unwrap_or(5), 2, 50)?,
-            new_type_share: check_range("[audit] new_type_share", a.new_type_share.unwrap_or(0.01), 0.0, 0.5)?,
+            stop_after_exceedances: check_range("[audit] stop_after_exceedances", a.stop_after_exceedances.unwrap_or(STOP_AFTER_EXCEEDANCES), 1, 1_000_000)?,
+            min_train_pitches: check_range("[audit] min_train_pitches", a.min_train_pitches.unwrap_or(MIN_TRAIN_PITCHES), 50, 10_000_000)?,
+            min_test_pitches: check_range("[audit] min_test_pitches", a.min_test_pitches.unwrap_or(MIN_TEST_PITCHES), 20, 10_000_000)?,
+            forward_blocks: check_range("[audit] forward_blocks", a.forward_blocks.unwrap_or(FORWARD_BLOCKS), 2, 50)?,
+            new_type_share: check_range("[audit] new_type_share", a.new_type_share.unwrap_or(NEW_TYPE_SHARE), 0.0, 0.5)?,
             test_season: o.test_season,
             pitchers: o.pitchers.clone(),
             team: o.team.clone(),
@@ -478,18 +478,18 @@ impl TreeParams {
             }
         };
         let growth = TreeSettings {
-            max_depth: check_range("[model] max_depth", m.max_depth.unwrap_or(6), 1, 20)?,
-            min_samples_leaf: check_range("[model] min_samples_leaf", m.min_samples_leaf.unwrap_or(20), 1, 100_000)?,
-            min_samples_split: check_range("[model] min_samples_split", m.min_samples_split.unwrap_or(40), 2, 100_000)?,
-            min_impurity_decrease: check_range("[model] min_impurity_decrease", m.min_impurity_decrease.unwrap_or(0.0), 0.0, 1.0)?,
+            max_depth: check_range("[model] max_depth", m.max_depth.unwrap_or(MAX_DEPTH), 1, 20)?,
+            min_samples_leaf: check_range("[model] min_samples_leaf", m.min_samples_leaf.unwrap_or(MIN_SAMPLES_LEAF), 1, 100_000)?,
+            min_samples_split: check_range("[model] min_samples_split", m.min_samples_split.unwrap_or(MIN_SAMPLES_SPLIT), 2, 100_000)?,
+            min_impurity_decrease: check_range("[model] min_impurity_decrease", m.min_impurity_decrease.unwrap_or(MIN_IMPURITY_DECREASE), 0.0, 1.0)?,
         };
         Ok(TreeParams {
             growth,
-            leaf_smoothing: check_range("[model] leaf_smoothing", m.leaf_smoothing.unwrap_or(10.0), 0.01, 1e6)?,
-            prior_blend: check_range("[model] prior_blend", m.prior_blend.unwrap_or(0.3), 0.0, 1.0)?,
-            split_alpha: check_range("[model] split_alpha", m.split_alpha.unwrap_or(0.05), 1e-12, 1.0)?,
+            leaf_smoothing: check_range("[model] leaf_smoothing", m.leaf_smoothing.unwrap_or(LEAF_SMOOTHING), 0.01, 1e6)?,
+            prior_blend: check_range("[model] prior_blend", m.prior_blend.unwrap_or(PRIOR_BLEND), 0.0, 1.0)?,
+            split_alpha: check_range("[model] split_alpha", m.split_alpha.unwrap_or(SPLIT_ALPHA), 1e-12, 1.0)?,
             prior_strength,
-            min_type_pitches: check_range("[model] min_type_pitches", m.min_type_pitches.unwrap_or(30), 1, 1_000_000)?,
+            min_type_pitches: check_range("[model] min_type_pitches", m.min_type_pitches.unwrap_or(MIN_TYPE_PITCHES), 1, 1_000_000)?,
         })
     }
 }
@@ -521,10 +521,10 @@ impl TellParams {
             }
         };
         Ok(TellParams {
-            min_effect: check_range("[tells] min_effect", t.min_effect.unwrap_or(0.10), 0.0, 1.0)?,
-            min_n: check_range("[tells] min_n", t.min_n.unwrap_or(20), 1, 1_000_000)?,
+            min_effect: check_range("[tells] min_effect", t.min_effect.unwrap_or(TELLS_MIN_EFFECT), 0.0, 1.0)?,
+            min_n: check_range("[tells] min_n", t.min_n.unwrap_or(TELLS_MIN_N), 1, 1_000_000)?,
             pairs,
-            fdr_method: match t.fdr_method.as_deref().unwrap_or("hierarchical") {
+            fdr_method: match t.fdr_method.as_deref().unwrap_or(TELLS_FDR_METHOD) {
                 "hierarchical" => FdrMethod::Hierarchical,
                 "pooled" => FdrMethod::Pooled,
                 other => {
@@ -540,8 +540,8 @@ impl TellParams {
 impl LocationParams {
     fn check(l: &LocationConfig) -> Result<LocationParams> {
         Ok(LocationParams {
-            min_train: check_range("[location] min_train_pitches", l.min_train_pitches.unwrap_or(150), 30, 10_000_000)?,
-            min_test: check_range("[location] min_test_pitches", l.min_test_pitches.unwrap_or(50), 10, 10_000_000)?,
+            min_train: check_range("[location] min_train_pitches", l.min_train_pitches.unwrap_or(LOCATION_MIN_TRAIN_PITCHES), 30, 10_000_000)?,
+            min_test: check_range("[location] min_test_pitches", l.min_test_pitches.unwrap_or(LOCATION_MIN_TEST_PITCHES), 10, 10_000_000)?,
         })
     }
 }
@@ -549,9 +549,9 @@ impl LocationParams {
 impl CompareParams {
     fn check(c: &CompareConfig, o: &Overrides) -> Result<CompareParams> {
         Ok(CompareParams {
-            new_pitch_share: check_range("[compare] new_pitch_share", c.new_pitch_share.unwrap_or(0.05), 0.0, 1.0)?,
-            absent_share: check_range("[compare] absent_share", c.absent_share.unwrap_or(0.01), 0.0, 1.0)?,
-            bootstrap: check_range("[compare] bootstrap", c.bootstrap.unwrap_or(400), 50, 100_000)?,
+            new_pitch_share: check_range("[compare] new_pitch_share", c.new_pitch_share.unwrap_or(COMPARE_NEW_PITCH_SHARE), 0.0, 1.0)?,
+            absent_share: check_range("[compare] absent_share", c.absent_share.unwrap_or(COMPARE_ABSENT_SHARE), 0.0, 1.0)?,
+            bootstrap: check_range("[compare] bootstrap", c.bootstrap.unwrap_or(COMPARE_BOOTSTRAP), 50, 100_000)?,
             permutations: check_range(
                 if o.compare_permutations.is_some() { "--permutations" } else { "[compare] permutations" },
                 o.compare_permutations.or(c.permutations).unwrap_or(COMPARE_PERMUTATIONS), 0, 1_000_000)?,

@@ -32,11 +32,12 @@ pub struct TreeSettings {
 
 impl Default for TreeSettings {
     fn default() -> Self {
+        use crate::domain::defaults::{MAX_DEPTH, MIN_IMPURITY_DECREASE, MIN_SAMPLES_LEAF, MIN_SAMPLES_SPLIT};
         TreeSettings {
-            max_depth: 6,
-            min_samples_leaf: 20,
-            min_samples_split: 40,
-            min_impurity_decrease: 0.0,
+            max_depth: MAX_DEPTH,
+            min_samples_leaf: MIN_SAMPLES_LEAF,
+            min_samples_split: MIN_SAMPLES_SPLIT,
+            min_impurity_decrease: MIN_IMPURITY_DECREASE,
         }
     }
 }
