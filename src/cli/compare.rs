@@ -8,11 +8,11 @@
 //! whole or not at all, and prints a staff table with each pitcher's
 //! changes (or, with --json, summary.json).
 
-use super::LogArgs;
+use super::{LogArgs, RunArgs};
 use std::path::{Path, PathBuf};
 use tellscope::compare::{self, period::PeriodSpec, Request};
 use tellscope::report::{self, Exporter, Stdout, Table};
-use tellscope::domain::defaults::{COMPARE_PERMUTATIONS, FDR};
+use tellscope::domain::defaults::COMPARE_PERMUTATIONS;
 use tellscope::settings::{ConfigFile, Overrides, Settings};
 use tellscope::Result;
 
@@ -29,13 +29,8 @@ pub struct Args {
     /// Report folder (default reports/<input file stem>-compare).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,
-    /// Compare only this pitcher (repeatable).
-    #[arg(long = "pitcher", value_name = "P")]
-    pub pitchers: Vec<String>,
-    /// Compare the pitchers who pitched for club T in the log's latest
-    /// season; every other pitcher in the log is the league.
-    #[arg(long, value_name = "T")]
-    pub team: Option<String>,
+    #[command(flatten)]
+    pub run: RunArgs,
     // Help texts that name a default are built from the default itself.
     #[arg(
         long,
@@ -43,14 +38,6 @@ pub struct Args {
         help = format!("Label swaps per pitcher for the predictability change (default {COMPARE_PERMUTATIONS}, `[compare] permutations`)")
     )]
     pub permutations: Option<usize>,
-    /// Random seed; the same seed gives the same report, byte for byte.
-    #[arg(long, value_name = "S")]
-    pub seed: Option<u64>,
-    #[arg(long, value_name = "Q", help = format!("False discovery rate within each family of tests (default {FDR})"))]
-    pub fdr: Option<f64>,
-    /// Print summary.json to stdout instead of the table.
-    #[arg(long)]
-    pub json: bool,
 }
 
 pub fn default_out(file: &Path) -> PathBuf {
@@ -65,21 +52,14 @@ pub fn run(args: Args) -> Result<()> {
     // The periods' text is checked before the log is read.
     let before = PeriodSpec::parse("--before", &args.before)?;
     let after = PeriodSpec::parse("--after", &args.after)?;
-    let settings = args.log.settings(Overrides {
-        seed: args.seed,
-        compare_permutations: args.permutations,
-        fdr: args.fdr,
-        pitchers: args.pitchers.clone(),
-        team: args.team.clone(),
-        ..Overrides::default()
-    })?;
+    let settings = args.log.settings(Overrides { compare_permutations: args.permutations, ..args.run.overrides() })?;
     let out = args.out.clone().unwrap_or_else(|| default_out(&args.log.file));
     let request = Request { before, after };
     let input = args.log.input()?;
-    let mut cmp = compare::run(&input.path, &settings, &request, !args.json).map_err(|e| input.failed(e, &settings, &out, "comparison"))?;
+    let mut cmp = compare::run(&input.path, &settings, &request, !args.run.json).map_err(|e| input.failed(e, &settings, &out, "comparison"))?;
     cmp.summary.input.path = input.shown();
     report::compare::write_compare_report(&out, &cmp)?;
-    if args.json {
+    if args.run.json {
         report::Json.export(&cmp, &mut Stdout)
     } else {
         Table { report: &out }.export(&cmp, &mut Stdout)

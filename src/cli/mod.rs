@@ -33,13 +33,42 @@ pub enum Command {
     Demo(demo::Args),
 }
 
+/// Options the audit and compare share: whom to run on, the seed, the
+/// false discovery rate, and what to print.
+#[derive(clap::Args, Debug, Clone)]
+pub struct RunArgs {
+    /// Only this pitcher (repeatable).
+    #[arg(long = "pitcher", value_name = "P")]
+    pub pitchers: Vec<String>,
+    /// Only the pitchers who pitched for club T in the log's latest season
+    /// (all their pitches); every other pitcher in the log is the league.
+    #[arg(long, value_name = "T")]
+    pub team: Option<String>,
+    /// Random seed; the same seed gives the same report, byte for byte.
+    #[arg(long, value_name = "S")]
+    pub seed: Option<u64>,
+    // A help text that names a default is built from the default itself.
+    #[arg(long, value_name = "Q", help = format!("False discovery rate of every flag, within each family of tests (default {})", tellscope::domain::defaults::FDR))]
+    pub fdr: Option<f64>,
+    /// Print summary.json to stdout instead of the table.
+    #[arg(long)]
+    pub json: bool,
+}
+
+impl RunArgs {
+    /// The flags as overrides of the config file.
+    pub fn overrides(&self) -> Overrides {
+        Overrides { seed: self.seed, fdr: self.fdr, pitchers: self.pitchers.clone(), team: self.team.clone(), ..Overrides::default() }
+    }
+}
+
 /// Options every command that reads a log shares.
 #[derive(clap::Args, Debug, Clone)]
 pub struct LogArgs {
     /// The pitch log, CSV or Parquet; `-` reads CSV from standard input (a
     /// query's output piped in).
     pub file: PathBuf,
-    /// A TOML config file ([columns], [pitch_groups], [audit], [model], [tells]).
+    /// A TOML config file: [columns], [pitch_groups], [audit], [model], [tells], [location], [compare] (every key and its default: config/defaults.toml).
     #[arg(long, value_name = "C")]
     pub config: Option<PathBuf>,
     /// Treat any rejected row as a failure (exit 3).
