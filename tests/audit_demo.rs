@@ -186,3 +186,32 @@ fn held_out_labels_never_shape_the_fit() {
         assert_eq!(a.model, b.model, "{name}: held-out probabilities changed");
     }
 }
+
+/// The three kinds of fit agree where they overlap: `score_rows` gives the
+/// observed fit's held-out rows, probabilities and sums (without its trees),
+/// and `refit` its sums, on the same labels and on shuffled ones.
+#[test]
+fn every_kind_of_fit_scores_alike() {
+    use rand::{seq::SliceRandom, SeedableRng};
+    use tellscope::evaluate::{fit, fit::Workspace, split::Plan, task::PitcherTask};
+    let s = settings(9);
+    let ing = tellscope::ingest::load(&demo_log(), &s.input).unwrap();
+    let sit = tellscope::situations::build(&ing.log);
+    let plan = Plan::new(&ing.log, None, 5).unwrap();
+    let p = ing.log.pitchers.iter().position(|x| x == "Oren Vasquell").unwrap() as u32;
+    let rows: Vec<u32> = (0..ing.log.len() as u32).filter(|&i| ing.log.pitcher[i as usize] == p).collect();
+    let task = PitcherTask::build(&ing.log, &sit, &plan.local(&ing.log, &rows), p, rows);
+    let mut shuffled = task.labels.clone();
+    shuffled.shuffle(&mut rand_chacha::ChaCha8Rng::seed_from_u64(3));
+    for labels in [&task.labels, &shuffled] {
+        let a = fit::observe(&task, labels, &s, &mut Workspace::new(&task));
+        let b = fit::score_rows(&task, labels, &s, &mut Workspace::new(&task));
+        let c = fit::refit(&task, labels, &s, &mut Workspace::new(&task));
+        assert!(!a.rows.is_empty() && !a.trees.is_empty());
+        assert_eq!((&a.rows, &a.model, &a.prior, a.unseen), (&b.rows, &b.model, &b.prior, b.unseen));
+        assert!(b.trees.is_empty() && c.rows.is_empty() && c.model.is_empty());
+        for t in [&b.totals, &c.totals] {
+            assert_eq!((a.totals.n, a.totals.bits, a.totals.acc), (t.n, t.bits, t.acc));
+        }
+    }
+}

@@ -209,7 +209,7 @@ pub fn cross_fit(log: &PitchLog, sit: &Situations, pitcher: u32, rows: &[u32], s
 /// and each game's sums by game id.
 fn fit_games(task: &PitcherTask, settings: &Settings) -> (usize, Vec<(u32, GameScore)>) {
     let mut ws = Workspace::new(task);
-    let scored = fit::observe(task, &task.labels, settings, &mut ws);
+    let scored = fit::score_rows(task, &task.labels, settings, &mut ws);
     let mut by_game: BTreeMap<u32, GameScore> = BTreeMap::new();
     for (i, &r) in scored.rows.iter().enumerate() {
         let y = task.labels[r as usize] as usize;

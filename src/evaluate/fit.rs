@@ -168,15 +168,8 @@ fn bin_scaled(x: f64) -> u8 {
 /// Fit every fold on `labels` and score the held-out rows. Per fold: the
 /// rows' table places, the training counts and usage, the prior features'
 /// codes, the grown tree and its kept nodes' probabilities, the sheet, and
-/// the held-out sums (with each row's probabilities when `keep_trees`, the
-/// observed fit, which also checks its shortcuts against the plain way).
-fn fit_and_score(
-    task: &PitcherTask,
-    labels: &[u8],
-    settings: &Settings,
-    ws: &mut Workspace,
-    keep_trees: bool,
-) -> Scored {
+/// the held-out sums, and what `keep` asks for beyond them.
+fn fit_and_score(task: &PitcherTask, labels: &[u8], settings: &Settings, ws: &mut Workspace, keep: Keep) -> Scored {
     let k = task.n_classes;
     let mut out = Scored { n_classes: k, ..Scored::default() };
     if ws.criticals.alpha() != settings.tree.split_alpha() {
@@ -189,15 +182,15 @@ fn fit_and_score(
         ws.place_rows(task, fi);
         let usage = ws.count_training(task, fi, labels);
         let strengths = ws.prior_code_tables(task, fi, &usage.probs, settings);
-        let (grown, m) = ws.grow(task, fi, settings, keep_trees);
+        let (grown, m) = ws.grow(task, fi, settings, keep);
         ws.node_probabilities(&grown, &usage.probs, m, settings);
         // The sheet an opponent keeps (scored for the observed fit and the
         // beyond-the-sheet test).
-        let with_sheet = keep_trees || ws.want_sheet;
+        let with_sheet = keep == Keep::Everything || ws.want_sheet;
         if with_sheet {
             ws.sheet_logs(task, fi, labels, &usage.probs, settings);
         }
-        if keep_trees {
+        if keep == Keep::Everything {
             // The observed fit checks the leaves found while growing against
             // walking each held-out row down the finished tree.
             let leaves = ws.trees[fi].as_ref().expect("the fold's learner is prepared").scored_leaves();
@@ -205,11 +198,11 @@ fn fit_and_score(
             ws.flat.leaves(&ws.x, &fold.test, &mut ws.leaves);
             assert_eq!(ws.leaves, leaves, "held-out leaves from growing disagree with the tree");
         }
-        ws.score_fold(&mut out, task, fi, labels, &usage, settings, with_sheet, keep_trees);
+        ws.score_fold(&mut out, task, fi, labels, &usage, settings, with_sheet, keep != Keep::Sums);
         if with_sheet && ws.sheet_fixed {
             std::mem::swap(&mut ws.sheet_log, &mut ws.sheet_cache[fi]);
         }
-        if keep_trees {
+        if keep == Keep::Everything {
             let tree = if settings.tree.split_alpha() < 1.0 {
                 crate::model::prune::prune_fast(&grown, &mut ws.criticals, m).0
             } else {
@@ -229,13 +222,34 @@ fn fit_and_score(
 /// probabilities; each permutation's labels are fitted with [`refit`],
 /// which keeps only what the test statistics need.
 pub fn observe(task: &PitcherTask, labels: &[u8], settings: &Settings, ws: &mut Workspace) -> Scored {
-    fit_and_score(task, labels, settings, ws, true)
+    fit_and_score(task, labels, settings, ws, Keep::Everything)
+}
+
+/// A fit whose held-out rows' probabilities are wanted (compare's
+/// cross-fitted periods and their label swaps), without the trees, priors
+/// and sheet of [`observe`] or its checks of the shortcuts (which every
+/// audited pitcher's observed fit runs). Its row probabilities and sums
+/// are [`observe`]'s.
+pub fn score_rows(task: &PitcherTask, labels: &[u8], settings: &Settings, ws: &mut Workspace) -> Scored {
+    fit_and_score(task, labels, settings, ws, Keep::Rows)
 }
 
 /// A permutation's fit: the held-out sums of the test statistics (and the
 /// sheet's, when the workspace asks for them), nothing kept per row.
 pub fn refit(task: &PitcherTask, labels: &[u8], settings: &Settings, ws: &mut Workspace) -> Scored {
-    fit_and_score(task, labels, settings, ws, false)
+    fit_and_score(task, labels, settings, ws, Keep::Sums)
+}
+
+/// What a fit keeps beyond the held-out sums.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Keep {
+    /// The sums only (a permutation).
+    Sums,
+    /// Each held-out row's probabilities too.
+    Rows,
+    /// Rows, each fold's pruned tree, usage prior and prior strengths, the
+    /// sheet's sums, and the checks of the shortcuts.
+    Everything,
 }
 
 /// The OOF parts, then "all training rows".
@@ -358,7 +372,7 @@ impl Workspace {
     /// except on a workspace's first fit, which prepares the learner from
     /// the matrix, and on the observed fit, whose checks read the matrix.
     /// Returns the grown tree and its candidate splits (for pruning).
-    fn grow(&mut self, task: &PitcherTask, fi: usize, settings: &Settings, keep_trees: bool) -> (Tree, usize) {
+    fn grow(&mut self, task: &PitcherTask, fi: usize, settings: &Settings, keep: Keep) -> (Tree, usize) {
         let fold = &task.folds[fi];
         let k = task.n_classes;
         let prior_col0 = task.n_situational;
@@ -367,7 +381,7 @@ impl Workspace {
         let n_train = fold.train.len();
         let (gc, gb) = (self.count_all.n_groups, self.batter_all.n_groups);
         let (cc, bc) = (&self.count_codes, &self.batter_codes);
-        if priors_on && (self.trees[fi].is_none() || keep_trees) {
+        if priors_on && (self.trees[fi].is_none() || keep != Keep::Sums) {
             let codes = &mut self.x.codes;
             for cls in 0..k {
                 let (fc, fb) = (prior_col0 + cls, prior_col0 + k + cls);
@@ -412,7 +426,7 @@ impl Workspace {
         // Candidate splits among the prior features: one fewer than their
         // distinct codes over the training rows, as the learner found them.
         let m = self.situational_candidates[fi] + self.prior_features.iter().map(|&f| learner.cuts_of(f)).sum::<usize>();
-        if keep_trees {
+        if keep == Keep::Everything {
             // The observed fit checks the shortcut against the plain count.
             assert_eq!(
                 m,
@@ -484,7 +498,7 @@ impl Workspace {
         usage: &UsagePrior,
         settings: &Settings,
         with_sheet: bool,
-        keep_trees: bool,
+        keep_rows: bool,
     ) {
         let fold = &task.folds[fi];
         let k = task.n_classes;
@@ -511,7 +525,7 @@ impl Workspace {
             let pr = (top == y) as i64;
             t.acc += (self.top[leaf] == y) as i64 - pr;
             t.acc_grown += (self.top[g] == y) as i64 - pr;
-            if keep_trees {
+            if keep_rows {
                 out.rows.push(r);
                 out.model.extend_from_slice(&self.grown_p[leaf * k..(leaf + 1) * k]);
                 out.prior.extend_from_slice(mix);

@@ -228,6 +228,24 @@ impl PitcherTask {
 /// ordinals), then one zeroed column per type for the count and batter
 /// priors, which each fit fills. Returns it with each column's kind and
 /// the number of situation features.
+/// One 0/1 column per code of `wanted` (distinct codes): whether each
+/// row's code is it, in one pass over the rows.
+fn one_hot(codes: &[u8], rows: &[u32], wanted: &[u8]) -> Vec<Vec<u8>> {
+    let mut column_of = [usize::MAX; 256];
+    for (i, &c) in wanted.iter().enumerate() {
+        debug_assert_eq!(column_of[c as usize], usize::MAX, "codes are distinct");
+        column_of[c as usize] = i;
+    }
+    let mut cols = vec![vec![0u8; rows.len()]; wanted.len()];
+    for (i, &r) in rows.iter().enumerate() {
+        let j = column_of[codes[r as usize] as usize];
+        if j != usize::MAX {
+            cols[j][i] = 1;
+        }
+    }
+    cols
+}
+
 fn features(log: &PitchLog, sit: &Situations, rows: &[u32], types: &[u16]) -> (FeatureMatrix, Vec<FeatureKind>, usize) {
     // Situation features.
     let mut names = Vec::new();
@@ -247,15 +265,15 @@ fn features(log: &PitchLog, sit: &Situations, rows: &[u32], types: &[u16]) -> (F
             // Only levels he can produce: none and his own types.
             let mut lv = vec![0u8];
             lv.extend(types.iter().map(|&t| t as u8 + 1));
-            for code in lv {
-                names.push(format!("{} = {}", fc.factor, fc.level(code)));
-                kinds.push(FeatureKind::Level { factor: fc.factor, level: fc.level(code).to_string() });
-                cols.push(rows.iter().map(|&r| (fc.codes[r as usize] == code) as u8).collect());
+            for (code, col) in lv.iter().zip(one_hot(&fc.codes, rows, &lv)) {
+                names.push(format!("{} = {}", fc.factor, fc.level(*code)));
+                kinds.push(FeatureKind::Level { factor: fc.factor, level: fc.level(*code).to_string() });
+                cols.push(col);
             }
             continue;
         }
-        for (code, level) in fc.levels.iter().enumerate() {
-            let col: Vec<u8> = rows.iter().map(|&r| (fc.codes[r as usize] == code as u8) as u8).collect();
+        let codes: Vec<u8> = (0..fc.levels.len()).map(|c| c as u8).collect();
+        for (level, col) in fc.levels.iter().zip(one_hot(&fc.codes, rows, &codes)) {
             if col.iter().all(|&c| c == col[0]) {
                 continue; // constant for him (e.g. his own hand's platoon side)
             }
@@ -317,3 +335,24 @@ fn plan_rows(plan: &PitcherPlan, n: usize) -> (Vec<Fold>, Vec<u32>, Vec<u32>) {
     (folds, discovery, held_out)
 }
 
+
+#[cfg(test)]
+mod tests {
+    use super::one_hot;
+
+    /// The one-pass columns equal comparing every row with every wanted
+    /// code, including codes no row has and rows whose code is not wanted.
+    #[test]
+    fn one_hot_equals_the_plain_comparison() {
+        let codes: Vec<u8> = (0..500u32).map(|i| ((i * 7919) % 13) as u8).collect();
+        let rows: Vec<u32> = (0..500).filter(|r| r % 3 != 1).collect();
+        for wanted in [vec![0u8, 1, 2], vec![12, 3, 200, 5], vec![], (0..13).collect()] {
+            let cols = one_hot(&codes, &rows, &wanted);
+            assert_eq!(cols.len(), wanted.len());
+            for (col, &w) in cols.iter().zip(&wanted) {
+                let plain: Vec<u8> = rows.iter().map(|&r| (codes[r as usize] == w) as u8).collect();
+                assert_eq!(*col, plain, "code {w}");
+            }
+        }
+    }
+}
