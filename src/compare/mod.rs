@@ -564,13 +564,18 @@ fn per_season_figures(log: &PitchLog, sit: &Situations, ready: &[Ready], setting
     if seasons.len() <= 2 {
         return vec![Vec::new(); ready.len()];
     }
+    // Each pitcher's rows, in log order, from one pass over the log.
+    let mut rows_of: Vec<Vec<u32>> = vec![Vec::new(); log.pitchers.len()];
+    for r in 0..log.len() {
+        rows_of[log.pitcher[r] as usize].push(r as u32);
+    }
     ready
         .par_iter()
         .map(|(p, _, _)| {
             let name = &log.pitchers[*p as usize];
             let mut out = Vec::new();
             for &s in &seasons {
-                let rows: Vec<u32> = (0..log.len() as u32).filter(|&r| log.pitcher[r as usize] == *p && log.season[r as usize] == s).collect();
+                let rows: Vec<u32> = rows_of[*p as usize].iter().copied().filter(|&r| log.season[r as usize] == s).collect();
                 let label = s.to_string();
                 let Ok(task) = predictability::build_task(log, sit, *p, &rows, settings.audit.forward_blocks(), &label) else { continue };
                 let Ok(fit) = predictability::fit_period(log, sit, task, settings, &label) else { continue };
