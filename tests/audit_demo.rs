@@ -155,18 +155,25 @@ fn same_seed_same_bytes_at_any_thread_count() {
     assert_ne!(summary_json(2, 8), two, "a different seed draws different permutations");
 }
 
-#[test]
-fn held_out_labels_never_shape_the_fit() {
-    use rand::{seq::SliceRandom, SeedableRng};
-    use tellscope::evaluate::{fit::observe, fit::Workspace, split::Plan, task::PitcherTask};
-    let s = settings(9);
+/// A demo pitcher's task under the season-forward scheme (the latest
+/// season held out).
+fn season_forward_task(s: &Settings, name: &str) -> tellscope::evaluate::task::PitcherTask {
+    use tellscope::evaluate::{split::Plan, task::PitcherTask};
     let ing = tellscope::ingest::load(&demo_log(), &s.input).unwrap();
     let sit = tellscope::situations::build(&ing.log);
     let plan = Plan::new(&ing.log, None, 5).unwrap();
+    let p = ing.log.pitchers.iter().position(|x| x == name).unwrap() as u32;
+    let rows: Vec<u32> = (0..ing.log.len() as u32).filter(|&i| ing.log.pitcher[i as usize] == p).collect();
+    PitcherTask::build(&ing.log, &sit, &plan.local(&ing.log, &rows), p, rows)
+}
+
+#[test]
+fn held_out_labels_never_shape_the_fit() {
+    use rand::{seq::SliceRandom, SeedableRng};
+    use tellscope::evaluate::{fit::observe, fit::Workspace};
+    let s = settings(9);
     for name in ["Oren Vasquell", "Jory Kestenbaum"] {
-        let p = ing.log.pitchers.iter().position(|x| x == name).unwrap() as u32;
-        let rows: Vec<u32> = (0..ing.log.len() as u32).filter(|&i| ing.log.pitcher[i as usize] == p).collect();
-        let task = PitcherTask::build(&ing.log, &sit, &plan.local(&ing.log, &rows), p, rows);
+        let task = season_forward_task(&s, name);
         let mut ws = Workspace::new(&task);
         let a = observe(&task, &task.labels, &s, &mut ws);
         // Shuffle the held-out season's labels only.
@@ -193,14 +200,9 @@ fn held_out_labels_never_shape_the_fit() {
 #[test]
 fn every_kind_of_fit_scores_alike() {
     use rand::{seq::SliceRandom, SeedableRng};
-    use tellscope::evaluate::{fit, fit::Workspace, split::Plan, task::PitcherTask};
+    use tellscope::evaluate::{fit, fit::Workspace};
     let s = settings(9);
-    let ing = tellscope::ingest::load(&demo_log(), &s.input).unwrap();
-    let sit = tellscope::situations::build(&ing.log);
-    let plan = Plan::new(&ing.log, None, 5).unwrap();
-    let p = ing.log.pitchers.iter().position(|x| x == "Oren Vasquell").unwrap() as u32;
-    let rows: Vec<u32> = (0..ing.log.len() as u32).filter(|&i| ing.log.pitcher[i as usize] == p).collect();
-    let task = PitcherTask::build(&ing.log, &sit, &plan.local(&ing.log, &rows), p, rows);
+    let task = season_forward_task(&s, "Oren Vasquell");
     let mut shuffled = task.labels.clone();
     shuffled.shuffle(&mut rand_chacha::ChaCha8Rng::seed_from_u64(3));
     for labels in [&task.labels, &shuffled] {

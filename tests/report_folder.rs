@@ -52,13 +52,20 @@ fn left_beside(root: &Path) -> Vec<String> {
     std::fs::read_dir(root).unwrap().map(|e| e.unwrap().file_name().to_string_lossy().to_string()).filter(|n| n.starts_with('.')).collect()
 }
 
-#[test]
-fn a_report_folder_is_replaced_whole() {
-    let root = scratch("folder");
+/// The plain staff audited and its report written to `<scratch>/report`:
+/// (scratch folder, report folder, audit).
+fn plain_staff_report(tag: &str) -> (PathBuf, PathBuf, audit::Audit) {
+    let root = scratch(tag);
     let out = root.join("report");
     let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/plain-staff/demo-log.csv");
     let a = audit::run(&log, &settings(), false).unwrap();
     tellscope::report::write_audit_report(&out, &a).unwrap();
+    (root, out, a)
+}
+
+#[test]
+fn a_report_folder_is_replaced_whole() {
+    let (root, out, a) = plain_staff_report("folder");
     // A chart of a pitcher no longer in the log, left by an earlier run.
     std::fs::write(out.join("charts/sheet-left-gone_pitcher.svg"), "<svg/>").unwrap();
     tellscope::report::write_audit_report(&out, &a).unwrap();
@@ -171,11 +178,7 @@ fn files_under(dir: &Path) -> std::collections::BTreeMap<String, Vec<u8>> {
 #[test]
 fn the_folder_is_its_exporters_output() {
     use tellscope::report::{export::report_files, Csv, Html, Json};
-    let root = scratch("exporters");
-    let out = root.join("report");
-    let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/plain-staff/demo-log.csv");
-    let a = audit::run(&log, &settings(), false).unwrap();
-    tellscope::report::write_audit_report(&out, &a).unwrap();
+    let (root, out, a) = plain_staff_report("exporters");
     let written = files_under(&out);
     let files = report_files(&a, &[&Html, &Json, &Csv]).unwrap();
     let in_memory: std::collections::BTreeMap<String, Vec<u8>> =

@@ -280,4 +280,16 @@ impl PitcherChanges {
     pub fn is_ok(&self) -> bool {
         self.status == "ok"
     }
+
+    /// The strongest evidence of a changed mix: the smallest q of a new or
+    /// dropped pitch or of the overall mix test (`None` without one).
+    pub fn mix_q(&self) -> Option<f64> {
+        let q = self
+            .changes
+            .iter()
+            .filter(|c| c.kind == "new_pitch" || c.kind == "dropped_pitch" || (c.kind == "mix_shift" && c.situation.is_empty()))
+            .filter_map(|c| c.q)
+            .fold(f64::NAN, f64::min);
+        (!q.is_nan()).then_some(q)
+    }
 }

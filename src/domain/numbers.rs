@@ -11,6 +11,15 @@ pub fn p_text(p: f64) -> String {
     }
 }
 
+/// A p- or q-value in a narrow terminal column: "<0.001" or "0.012".
+pub fn p_cell(p: f64) -> String {
+    if p < 0.001 {
+        "<0.001".into()
+    } else {
+        format!("{p:.3}")
+    }
+}
+
 /// A p- or q-value after its name on a chart label: "= 0.012" or "< 0.001".
 pub fn p_label(p: f64) -> String {
     if p < 0.001 {

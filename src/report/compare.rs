@@ -518,14 +518,7 @@ fn page(cmp: &Comparison, sink: &mut dyn Sink) -> Result<()> {
             sink.put(&format!("charts/{}.svg", c.name), c.svg.as_bytes())?;
             sink.put(&format!("charts/{}.png", c.name), &c.png)?;
         }
-        // The strongest evidence of a changed mix: a new or dropped pitch,
-        // or the overall mix test.
-        let mix_q = p
-            .changes
-            .iter()
-            .filter(|c| c.kind == "new_pitch" || c.kind == "dropped_pitch" || (c.kind == "mix_shift" && c.situation.is_empty()))
-            .filter_map(|c| c.q)
-            .fold(f64::NAN, f64::min);
+        let mix_q = p.mix_q();
         let pr = p.predictability.as_ref();
         staff.push(StaffRow {
             pitcher: p.pitcher.clone(),
@@ -535,8 +528,8 @@ fn page(cmp: &Comparison, sink: &mut dyn Sink) -> Result<()> {
             n_after: p.n_after,
             mix_shift: p.mix_shift.map(|x| format!("{:.0}", 100.0 * x)).unwrap_or_default(),
             mix_shift_v: p.mix_shift.unwrap_or(0.0),
-            mix_q: if mix_q.is_nan() { String::new() } else { p_text(mix_q) },
-            mix_q_v: if mix_q.is_nan() { 1.0 } else { mix_q },
+            mix_q: mix_q.map(p_text).unwrap_or_default(),
+            mix_q_v: mix_q.unwrap_or(1.0),
             bits_before: pr.map(|x| bits_text(x.before.bits_gained)).unwrap_or_default(),
             bits_before_v: pr.map(|x| x.before.bits_gained).unwrap_or(0.0),
             bits_after: pr.map(|x| bits_text(x.after.bits_gained)).unwrap_or_default(),

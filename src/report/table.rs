@@ -4,6 +4,7 @@
 use super::export::{Exporter, Sink, Table};
 use crate::audit::{wording, Audit};
 use crate::compare::Comparison;
+use crate::domain::numbers::p_cell;
 use crate::error::Result;
 
 /// The lines, each ending in a newline, as one output.
@@ -45,7 +46,7 @@ impl Exporter<Audit> for Table<'_> {
                 100.0 * g(p.model_accuracy),
                 100.0 * g(p.lift),
                 g(p.bits_gained),
-                if g(p.q_value) < 0.001 { "<0.001".to_string() } else { format!("{:.3}", g(p.q_value)) },
+                p_cell(g(p.q_value)),
                 p.tells.iter().filter(|t| t.within.is_none()).count(),
                 if p.location.is_some() { p.location_tells.len().to_string() } else { "-".to_string() },
                 if p.significant == Some(true) { "  *" } else { "   " },
@@ -112,14 +113,7 @@ impl Exporter<Comparison> for Table<'_> {
         ));
         o.push(String::new());
         o.push(format!("{:<22} {:>7} {:>7} {:>6} {:>7} {:>8} {:>8} {:>7} {:>7}", "pitcher", "before", "after", "shift", "q", "bits B", "bits A", "q", "changes"));
-        let qt = |q: f64| if q < 0.001 { "<0.001".to_string() } else { format!("{q:.3}") };
         for p in s.pitchers.iter().filter(|p| p.is_ok()) {
-            let mix_q = p
-                .changes
-                .iter()
-                .filter(|c| c.kind == "new_pitch" || c.kind == "dropped_pitch" || (c.kind == "mix_shift" && c.situation.is_empty()))
-                .filter_map(|c| c.q)
-                .fold(f64::NAN, f64::min);
             let pr = p.predictability.as_ref();
             o.push(format!(
                 "{:<22} {:>7} {:>7} {:>6.0} {:>7} {:>+8.3} {:>+8.3} {:>7} {:>7}",
@@ -127,10 +121,10 @@ impl Exporter<Comparison> for Table<'_> {
                 p.n_before,
                 p.n_after,
                 100.0 * p.mix_shift.unwrap_or(0.0),
-                if mix_q.is_nan() { String::new() } else { qt(mix_q) },
+                p.mix_q().map(p_cell).unwrap_or_default(),
                 pr.map(|x| x.before.bits_gained).unwrap_or(0.0),
                 pr.map(|x| x.after.bits_gained).unwrap_or(0.0),
-                pr.map(|x| qt(x.q)).unwrap_or_default(),
+                pr.map(|x| p_cell(x.q)).unwrap_or_default(),
                 p.significant_changes
             ));
         }
