@@ -171,7 +171,7 @@ pub fn selected_pitchers(log: &ingest::PitchLog, settings: &Settings) -> Result<
                 Some(_) => {
                     return Err(Error::Usage(format!(
                         "--pitcher \"{p}\" did not pitch for {} in the log's latest season; leave out --team or name one of its pitchers",
-                        settings.audit.team().as_deref().unwrap_or("the club")
+                        settings.audit.team().unwrap_or("the club")
                     )))
                 }
                 None => {

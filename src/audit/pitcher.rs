@@ -45,7 +45,7 @@ impl About {
 /// One pitcher's result: no figures, with his counts and the reason; or his
 /// scored figures.
 pub(super) enum PitcherResult {
-    Insufficient(Insufficient),
+    Insufficient(Box<Insufficient>),
     Scored(Box<Scored>),
 }
 
@@ -88,20 +88,20 @@ pub(super) fn insufficient(task: &PitcherTask, about: About, settings: &Settings
         settings.audit.min_train_pitches(),
         settings.audit.min_test_pitches()
     );
-    PitcherResult::Insufficient(Insufficient {
+    PitcherResult::Insufficient(Box::new(Insufficient {
         name: task.name.clone(),
         about,
         n_train: task.n_train(),
         n_test: task.n_test(),
         evaluation: task.evaluation.clone(),
         reason,
-    })
+    }))
 }
 
 impl Insufficient {
     /// His entry: counts, evaluation and reason; every figure empty.
-    fn into_summary(self) -> PitcherSummary {
-        let Insufficient { name, about, n_train, n_test, evaluation, reason } = self;
+    fn into_summary(self: Box<Self>) -> PitcherSummary {
+        let Insufficient { name, about, n_train, n_test, evaluation, reason } = *self;
         PitcherSummary {
             pitcher: name,
             throws: about.throws,

@@ -66,7 +66,7 @@ impl Exporter<Audit> for Table<'_> {
         heads.sort_by(|a, b| b.bits_gained.partial_cmp(&a.bits_gained).unwrap().then(a.pitcher.cmp(&b.pitcher)));
         if !heads.is_empty() {
             o.push(String::new());
-            o.push(format!("Headlines (the most pitches given away; the report lists up to three per pitcher):"));
+            o.push("Headlines (the most pitches given away; the report lists up to three per pitcher):".to_string());
             for p in heads {
                 o.push(format!("  {}: {}", p.pitcher, p.headline[0]));
             }
@@ -85,7 +85,7 @@ impl Exporter<Audit> for Table<'_> {
         });
         if !top.is_empty() {
             o.push(String::new());
-            o.push(format!("Top tells beyond the sheet:"));
+            o.push("Top tells beyond the sheet:".to_string());
             for t in top.iter().take(8) {
                 let checked = s
                     .pitchers
@@ -131,8 +131,8 @@ impl Exporter<Comparison> for Table<'_> {
         for p in s.pitchers.iter().filter(|p| !p.is_ok()) {
             o.push(format!("{:<22} {:>7} {:>7}  insufficient data", p.pitcher.chars().take(22).collect::<String>(), p.n_before, p.n_after));
         }
-        o.push(format!("  shift: pitches in every 100 that changed type (total variation of the whole mix), q: its strongest test (overall mix, new or dropped pitch)"));
-        o.push(format!("  bits: held-out bits gained per pitch in each period, q: the label-swap test of their difference"));
+        o.push("  shift: pitches in every 100 that changed type (total variation of the whole mix), q: its strongest test (overall mix, new or dropped pitch)".to_string());
+        o.push("  bits: held-out bits gained per pitch in each period, q: the label-swap test of their difference".to_string());
         for p in s.pitchers.iter().filter(|p| p.is_ok() && p.significant_changes > 0) {
             o.push(String::new());
             o.push(format!("{}:", p.pitcher));
