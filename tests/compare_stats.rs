@@ -21,7 +21,7 @@ fn total_variation_by_hand() {
     assert!((d - 0.10).abs() < 1e-12, "{d}");
     // The mix test reports the same distance from counts of unequal totals:
     // 118/200 = 0.59 ... against 49/100 ...
-    let t = mix_test(&[118, 48, 34], &[49, 31, 20], &mut ChaCha8Rng::seed_from_u64(1));
+    let t = mix_test(&[118, 48, 34], &[49, 31, 20], &mut ChaCha8Rng::seed_from_u64(1), 10);
     assert!((t.tvd - 0.10).abs() < 1e-12, "{}", t.tvd);
     // A new pitch at 25%, the rest scaled down: exactly the new share.
     let d = total_variation(&[55.0, 25.0, 20.0, 0.0], &[41.25, 18.75, 15.0, 25.0]).unwrap();
@@ -110,13 +110,38 @@ fn exact_p(before: &[u64], after: &[u64]) -> f64 {
 #[test]
 fn monte_carlo_mix_test_matches_the_exact_conditional_test() {
     for (before, after) in [(vec![5u64, 1, 0], vec![1u64, 3, 3]), (vec![4, 2, 2, 0], vec![1, 1, 3, 4]), (vec![3, 3, 1], vec![2, 4, 2])] {
-        let t = mix_test(&before, &after, &mut ChaCha8Rng::seed_from_u64(3));
+        // Without an early stop (more exceedances asked for than shuffles).
+        let t = mix_test(&before, &after, &mut ChaCha8Rng::seed_from_u64(3), MONTE_CARLO_PERMUTATIONS + 1);
         assert_eq!(t.test, TestKind::MonteCarloG, "{before:?} {after:?} should be too sparse for the chi-square");
+        assert_eq!(t.permutations, Some(MONTE_CARLO_PERMUTATIONS));
         let exact = exact_p(&before, &after);
         // Monte Carlo error of (b + 1)/(m + 1): four binomial standard errors.
         let m = MONTE_CARLO_PERMUTATIONS as f64;
         let tol = 4.0 * (exact * (1.0 - exact) / m).sqrt() + 2.0 / m;
         assert!((t.p - exact).abs() <= tol, "{before:?} {after:?}: Monte Carlo {} vs exact {exact}", t.p);
+    }
+}
+
+/// With the early stop the tool runs (h = 10 exceedances), p = h / l, where
+/// l, the shuffles run, is h plus the failures before the h-th success of
+/// Bernoulli(exact p) draws: a negative binomial (statrs
+/// `NegativeBinomial`, failures before r successes). l must lie between
+/// its 0.05% and 99.95% points, so each table misses the band less than
+/// 0.1% of the time; the tables' exact p (enumerated above) are large
+/// enough that running out of shuffles first is negligible.
+#[test]
+fn monte_carlo_mix_test_with_early_stop_stays_in_its_band() {
+    use statrs::distribution::{DiscreteCDF, NegativeBinomial};
+    let h = 10usize;
+    for (before, after) in [(vec![5u64, 1, 0], vec![1u64, 3, 3]), (vec![4, 2, 2, 0], vec![1, 1, 3, 4]), (vec![3, 3, 1], vec![2, 4, 2])] {
+        let exact = exact_p(&before, &after);
+        assert!(exact >= 0.01, "{before:?} {after:?}: exact p {exact} too small for this band");
+        let t = mix_test(&before, &after, &mut ChaCha8Rng::seed_from_u64(5), h);
+        let l = t.permutations.expect("a Monte Carlo test");
+        let failures = NegativeBinomial::new(h as f64, exact).unwrap();
+        let (lo, hi) = (h as u64 + failures.inverse_cdf(0.0005), h as u64 + failures.inverse_cdf(0.9995));
+        assert!((lo..=hi).contains(&(l as u64)), "{before:?} {after:?}: {l} shuffles, band {lo}..={hi} (exact p {exact})");
+        assert_eq!(t.p, h as f64 / l as f64);
     }
 }
 
@@ -126,7 +151,7 @@ fn the_asymptotic_test_is_the_scipy_checked_g_test() {
     // correction), the one checked against scipy.stats.chi2_contingency(
     // ..., correction=False, lambda_="log-likelihood") in stats_reference.rs.
     let (b, a) = ([300u64, 200, 100], [250u64, 250, 150]);
-    let t = mix_test(&b, &a, &mut ChaCha8Rng::seed_from_u64(1));
+    let t = mix_test(&b, &a, &mut ChaCha8Rng::seed_from_u64(1), 10);
     let r = table_test(&[b, a], TableStatistic::LogLikelihoodRatio, false).unwrap();
     assert_eq!(t.test, TestKind::GTest);
     assert_eq!((t.statistic, t.p, t.dof), (r.statistic, r.p_value, 2));

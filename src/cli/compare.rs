@@ -58,7 +58,9 @@ pub fn run(args: Args) -> Result<()> {
     let input = args.log.input()?;
     let mut cmp = compare::run(&input.path, &settings, &request, !args.run.json).map_err(|e| input.failed(e, &settings, &out, "comparison"))?;
     cmp.summary.input.path = input.shown();
+    let t = tellscope::progress::Timer::start();
     report::compare::write_compare_report(&out, &cmp)?;
+    t.lap("report");
     if args.run.json {
         report::Json.export(&cmp, &mut Stdout)
     } else {

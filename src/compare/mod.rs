@@ -98,9 +98,11 @@ fn seed64(seed: u64, pitcher: &str, purpose: &str) -> u64 {
 
 /// Compare the log at `path`.
 pub fn run(path: &Path, settings: &Settings, request: &Request, show_progress: bool) -> Result<Comparison> {
+    let timer = crate::progress::Timer::start();
     let Ingested { log, rejected, source } = ingest::load(path, &settings.input)?;
     let (before, after) = period::resolve(&log, &request.before, &request.after)?;
     let sit = situations::build(&log);
+    timer.lap("compare: ingest and situations");
     compare_log(&log, &sit, before, after, rejected, source, settings, show_progress)
 }
 
@@ -275,7 +277,7 @@ fn mix_changes(
         let t = &names[types[i] as usize];
         if let Some(new) = mix::new_or_dropped(sb[i], sa[i], settings.compare.new_pitch_share(), settings.compare.absent_share()) {
             let mut rng = stream(seed, name, &format!("arsenal {t}"), 0);
-            let test = mix::mix_test(&[all[0][i], nb - all[0][i]], &[all[1][i], na - all[1][i]], &mut rng);
+            let test = mix::mix_test(&[all[0][i], nb - all[0][i]], &[all[1][i], na - all[1][i]], &mut rng, settings.audit.stop_after_exceedances());
             let kind = if new { "new_pitch" } else { "dropped_pitch" };
             let mut c = blank(kind, BTreeMap::new(), sb[i], sa[i], sa[i] - sb[i], "share_difference", [nb as usize, na as usize], Some(&test));
             c.pitch_type = Some(t.clone());
@@ -290,7 +292,7 @@ fn mix_changes(
     let shift = |label: Option<&str>, b: &[u64], a: &[u64], rng: &mut ChaCha8Rng| -> Change {
         let b: Vec<u64> = kept.iter().map(|&i| b[i]).collect();
         let a: Vec<u64> = kept.iter().map(|&i| a[i]).collect();
-        let test = mix::mix_test(&b, &a, rng);
+        let test = mix::mix_test(&b, &a, rng, settings.audit.stop_after_exceedances());
         let i = mix::biggest_mover(&b, &a);
         let (xb, xa) = (mix::shares(&b), mix::shares(&a));
         let mut situation = BTreeMap::new();
@@ -374,7 +376,8 @@ fn location_changes(names: &[String], regions: &[u16], log: &PitchLog, name: &st
         let bu: Vec<u64> = used.iter().map(|&i| b[i]).collect();
         let au: Vec<u64> = used.iter().map(|&i| a[i]).collect();
         let t_name = &names[t as usize];
-        let test = mix::mix_test(&bu, &au, &mut stream(settings.audit.seed(), name, &format!("location {t_name}"), 0));
+        let mut rng = stream(settings.audit.seed(), name, &format!("location {t_name}"), 0);
+        let test = mix::mix_test(&bu, &au, &mut rng, settings.audit.stop_after_exceedances());
         let i = mix::biggest_mover(&bu, &au);
         let (sb, sa) = (mix::shares(&bu), mix::shares(&au));
         let mut c = blank("location_shift", BTreeMap::new(), sb[i], sa[i], test.tvd, "total_variation", [nb as usize, na as usize], Some(&test));
@@ -424,6 +427,7 @@ pub fn compare_log(
     settings: &Settings,
     show_progress: bool,
 ) -> Result<Comparison> {
+    let timer = crate::progress::Timer::start();
     let permutations = settings.compare.permutations();
     let labels = [before.label.as_str(), after.label.as_str()];
     let rows_of = period_rows(log, &before, &after);
@@ -434,6 +438,7 @@ pub fn compare_log(
         .collect();
     let prepared: Vec<Prepared> =
         chosen.par_iter().map(|&p| prepare(log, sit, p, rows_of[p as usize].clone(), labels, settings)).collect();
+    timer.lap("compare: periods' fits");
     let ready: Vec<Ready> = prepared
         .iter()
         .filter_map(|x| match x {
@@ -449,13 +454,16 @@ pub fn compare_log(
             [0, 1].map(|k| predictability::resample_period(&fits[k].cross.games, settings.compare.bootstrap(), seed64(settings.audit.seed(), name, &format!("bootstrap {k}"))))
         })
         .collect();
-    let swaps = swap_tests(log, sit, &ready, settings, permutations, show_progress);
+    timer.lap("compare: bootstraps");
+    let swaps = swap_tests(log, sit, &ready, settings, permutations, show_progress, &timer);
     let per_season = per_season_figures(log, sit, &ready, settings);
+    timer.lap("compare: per-season figures");
     // Tells of each period, looked up per pitcher below.
     let tasks_b: Vec<crate::evaluate::task::PitcherTask> = ready.iter().map(|r| r.2[0].task.clone()).collect();
     let tasks_a: Vec<crate::evaluate::task::PitcherTask> = ready.iter().map(|r| r.2[1].task.clone()).collect();
     let tells_b = tells_change::period_tells(log, sit, &before.rows, &tasks_b, settings);
     let tells_a = tells_change::period_tells(log, sit, &after.rows, &tasks_a, settings);
+    timer.lap("compare: tells");
     let run = pitcher::Run {
         log,
         sit,
@@ -465,20 +473,28 @@ pub fn compare_log(
         // Where each pitch goes, when the log has locations.
         regions: crate::audit::location::row_regions(log),
     };
-    // Every change of every pitcher, then the BH families.
-    let mut pitchers: Vec<PitcherChanges> = Vec::new();
-    let mut ready_i = 0usize;
-    for x in &prepared {
-        match x {
-            Prepared::Short { pitcher, rows, why } => pitchers.push(pitcher::short(log, *pitcher, rows, why)),
+    // Every change of every pitcher (each ready pitcher's place among the
+    // ready ones indexes his tests), then the BH families.
+    let ready_at: Vec<usize> = prepared
+        .iter()
+        .scan(0usize, |next, x| {
+            let i = *next;
+            *next += matches!(x, Prepared::Ready { .. }) as usize;
+            Some(i)
+        })
+        .collect();
+    let mut pitchers: Vec<PitcherChanges> = prepared
+        .par_iter()
+        .zip(&ready_at)
+        .map(|(x, &i)| match x {
+            Prepared::Short { pitcher, rows, why } => pitcher::short(log, *pitcher, rows, why),
             Prepared::Ready { pitcher, rows, fits } => {
-                let i = ready_i;
-                ready_i += 1;
-                pitchers.push(pitcher::ready(&run, *pitcher, rows, fits, &resampled[i], &swaps[i], per_season[i].clone()));
+                pitcher::ready(&run, *pitcher, rows, fits, &resampled[i], &swaps[i], per_season[i].clone())
             }
-        }
-    }
+        })
+        .collect();
     drop(run);
+    timer.lap("compare: changes");
     let (tests, significant) = apply_families(&mut pitchers, labels, settings);
     let notes = compare_notes(sit, &source, &before, &after, &pitchers, tests, significant, permutations, settings);
     let summary = CompareSummary {
@@ -528,6 +544,7 @@ fn swap_tests(
     settings: &Settings,
     permutations: usize,
     show_progress: bool,
+    timer: &crate::progress::Timer,
 ) -> Vec<(predictability::SwapResult, Option<f64>)> {
     use crate::audit::permute::{decision_sizes, PILOT};
     let bar = crate::progress::bar((ready.len() * permutations) as u64, "label swaps", show_progress);
@@ -542,6 +559,7 @@ fn swap_tests(
             pilot.permutations == PILOT && pilot.p <= 1.0 / (PILOT as f64 + 1.0) + 1e-12
         })
         .collect();
+    timer.lap("compare: label-swap pilots");
     let sizes = decision_sizes(&clear, settings.audit.fdr());
     let swaps = ready
         .par_iter()
@@ -554,6 +572,7 @@ fn swap_tests(
         })
         .collect();
     bar.finish_and_clear();
+    timer.lap("compare: label-swap tests");
     swaps
 }
 

@@ -32,7 +32,7 @@
 use super::stream;
 use crate::error::Result;
 use crate::evaluate::fit::{self, argmax, Workspace};
-use crate::evaluate::split::Plan;
+use crate::evaluate::split::{PitcherPlan, Plan};
 use crate::evaluate::task::PitcherTask;
 use crate::evaluate::HeldOut;
 use crate::ingest::PitchLog;
@@ -176,17 +176,10 @@ pub fn studentised(before: &CrossFitted, after: &CrossFitted) -> f64 {
 /// Cross-fit one pitcher's `rows` (global, log order) in `folds` folds.
 pub fn cross_fit(log: &PitchLog, sit: &Situations, pitcher: u32, rows: &[u32], settings: &Settings, label: &str) -> Result<CrossFitted> {
     let folds = settings.audit.forward_blocks();
-    let mut games: BTreeMap<u32, GameScore> = BTreeMap::new();
-    let (mut unseen, mut n_train) = (0usize, 0usize);
-    for f in 0..folds {
-        let plan = Plan::cross_fit(log, rows, folds, f, label)?;
-        let task = PitcherTask::build(log, sit, &plan.local(log, rows), pitcher, rows.to_vec());
-        n_train += task.n_train();
-        let (u, g) = fit_games(&task, settings);
-        unseen += u;
-        games.extend(g);
-    }
-    let games: Vec<GameScore> = games.into_values().collect();
+    let plan = PitcherPlan::cross_fit(log, rows, folds, label)?;
+    let task = PitcherTask::build(log, sit, &plan, pitcher, rows.to_vec());
+    let n_train: usize = task.folds.iter().map(|f| f.train.len()).sum();
+    let (unseen, games) = fit_games(&task, settings);
     let s = games.iter().fold(GameScore::default(), |a, g| GameScore {
         n: a.n + g.n,
         bits: a.bits + g.bits,
@@ -205,9 +198,9 @@ pub fn cross_fit(log: &PitchLog, sit: &Situations, pitcher: u32, rows: &[u32], s
     Ok(CrossFitted { figures, bits_var, unseen, n_train: n_train / folds, games })
 }
 
-/// Fit and score a one-fold task: its scored pitches of types new to him,
-/// and each game's sums by game id.
-fn fit_games(task: &PitcherTask, settings: &Settings) -> (usize, Vec<(u32, GameScore)>) {
+/// Fit and score a task: its scored pitches of types new to him, and each
+/// game's sums in game-id order.
+fn fit_games(task: &PitcherTask, settings: &Settings) -> (usize, Vec<GameScore>) {
     let mut ws = Workspace::new(task);
     let scored = fit::score_rows(task, &task.labels, settings, &mut ws);
     let mut by_game: BTreeMap<u32, GameScore> = BTreeMap::new();
@@ -220,7 +213,7 @@ fn fit_games(task: &PitcherTask, settings: &Settings) -> (usize, Vec<(u32, GameS
         g.model_right += (argmax(m) == y) as u8 as f64;
         g.prior_right += (argmax(p) == y) as u8 as f64;
     }
-    (scored.unseen, by_game.into_iter().collect())
+    (scored.unseen, by_game.into_values().collect())
 }
 
 /// Label-swap permutation test of the studentised change for one pitcher
@@ -333,31 +326,9 @@ pub fn label_swap_test(
 pub fn transfer(log: &PitchLog, sit: &Situations, pitcher: u32, rows_before: &[u32], rows_after: &[u32], settings: &Settings) -> Option<f64> {
     let mut rows: Vec<u32> = rows_before.iter().chain(rows_after).copied().collect();
     rows.sort_unstable();
-    let n = log.len();
-    let mut test_fold = vec![None; n];
-    let mut train_from = vec![None; n];
-    let mut held_out = vec![false; n];
-    let mut discovery = vec![false; n];
-    for &r in rows_before {
-        train_from[r as usize] = Some(0);
-        discovery[r as usize] = true;
-    }
-    for &r in rows_after {
-        test_fold[r as usize] = Some(0);
-        held_out[r as usize] = true;
-    }
-    let plan = Plan {
-        scheme: crate::evaluate::split::Scheme::CrossFit { fold: 0, folds: 1 },
-        test_fold,
-        train_from,
-        n_folds: 1,
-        discovery,
-        held_out,
-        train_label: "the before period".into(),
-        test_label: "the after period".into(),
-        tells_label: "the after period".into(),
-    };
-    let task = PitcherTask::build(log, sit, &plan.local(log, &rows), pitcher, rows.clone());
+    let after: Vec<bool> = rows.iter().map(|r| rows_after.binary_search(r).is_ok()).collect();
+    let plan = PitcherPlan::train_then_score(log, &rows, &after, "the before period", "the after period");
+    let task = PitcherTask::build(log, sit, &plan, pitcher, rows.clone());
     let mut ws = Workspace::new(&task);
     let scored = fit::observe(&task, &task.labels, settings, &mut ws);
     let k = task.n_classes;

@@ -18,10 +18,6 @@ pub enum Scheme {
     /// each scored by a model fitted on everything of his before it
     /// (earlier seasons and earlier blocks).
     Rolling { blocks: usize },
-    /// One fold of cross-fitting within a set of games: the games of fold
-    /// `fold` (of `folds`, dealt by date rank) scored by a model fitted on
-    /// the others.
-    CrossFit { fold: usize, folds: usize },
 }
 
 /// One pitcher's evaluation, as `summary.json` and the report state it.
@@ -51,7 +47,13 @@ pub struct PitcherEvaluation {
 pub struct PitcherPlan {
     pub n_folds: usize,
     pub test_fold: Vec<Option<u8>>,
+    /// Per row: the first fold whose training includes it (nested folds:
+    /// a row trains that fold and every later one). Unused when
+    /// `cross_fitted`.
     pub train_from: Vec<Option<u8>>,
+    /// Cross-fitted folds: a row trains every fold but the one that
+    /// scores it.
+    pub cross_fitted: bool,
     pub discovery: Vec<bool>,
     pub held_out: Vec<bool>,
     /// Stratum of each row, numbered from 0.
@@ -63,7 +65,87 @@ impl PitcherPlan {
     /// Does local row `i` train fold `f`?
     #[inline]
     pub fn trains(&self, i: usize, f: usize) -> bool {
+        if self.cross_fitted {
+            return matches!(self.test_fold[i], Some(t) if t as usize != f);
+        }
         matches!(self.train_from[i], Some(b) if (b as usize) <= f)
+    }
+
+    /// `folds`-fold cross-fitting over one pitcher's `rows` (global, log
+    /// order): his games, in date order, are dealt to folds by rank (game
+    /// i to fold i mod folds, so every fold spans the whole period and a
+    /// drifting mix is in every fold alike); each fold's games are scored
+    /// by a model fitted on his other games of `rows`, so every game is
+    /// scored by a model that did not see it. `compare` scores each period
+    /// with it. Tells are never found on it (compare finds them on the
+    /// forward-chained period); permutation strata are his seasons.
+    pub fn cross_fit(log: &PitchLog, rows: &[u32], folds: usize, label: &str) -> Result<PitcherPlan> {
+        let mut games: Vec<(i32, u32)> = rows.iter().map(|&r| (log.date[r as usize], log.game[r as usize])).collect();
+        games.sort_unstable();
+        games.dedup();
+        if folds < 2 || games.len() < folds {
+            return Err(Error::Data(format!("{label}: {} games, fewer than the {folds} folds cross-fitting needs", games.len())));
+        }
+        let at = |r: u32| (log.date[r as usize], log.game[r as usize]);
+        let test_fold: Vec<Option<u8>> =
+            rows.iter().map(|&r| Some((games.binary_search(&at(r)).expect("game listed above") % folds) as u8)).collect();
+        let mut seasons: Vec<i32> = rows.iter().map(|&r| log.season[r as usize]).collect();
+        seasons.sort_unstable();
+        seasons.dedup();
+        let n = rows.len();
+        let day = crate::ingest::parse::format_date;
+        Ok(PitcherPlan {
+            n_folds: folds,
+            test_fold,
+            train_from: vec![None; n],
+            cross_fitted: true,
+            discovery: vec![false; n],
+            held_out: vec![true; n],
+            stratum: rows.iter().map(|&r| seasons.binary_search(&log.season[r as usize]).unwrap() as u16).collect(),
+            evaluation: PitcherEvaluation {
+                scheme: "cross-fitted",
+                train: format!("his other games of {label}"),
+                scored: format!("every game of {label}, each scored by a model fitted on his other games there ({folds} folds)"),
+                n_scored: n,
+                scored_from: games.first().map(|g| day(g.0)),
+                scored_to: games.last().map(|g| day(g.0)),
+                scored_games: games.len(),
+                tells_checked_on: format!("no rows of {label} (tells are found on the forward-chained period)"),
+            },
+        })
+    }
+
+    /// One fold over one pitcher's `rows` (global, log order): the rows
+    /// marked `scored` are scored (and his tells checked there) by a model
+    /// fitted on all the others. Permutation strata are his seasons.
+    pub fn train_then_score(log: &PitchLog, rows: &[u32], scored: &[bool], train: &str, test: &str) -> PitcherPlan {
+        let mut seasons: Vec<i32> = rows.iter().map(|&r| log.season[r as usize]).collect();
+        seasons.sort_unstable();
+        seasons.dedup();
+        let mut scored_games = std::collections::BTreeSet::new();
+        for (&r, _) in rows.iter().zip(scored).filter(|x| *x.1) {
+            scored_games.insert((log.date[r as usize], log.game[r as usize]));
+        }
+        let day = crate::ingest::parse::format_date;
+        PitcherPlan {
+            n_folds: 1,
+            test_fold: scored.iter().map(|&s| s.then_some(0)).collect(),
+            train_from: scored.iter().map(|&s| (!s).then_some(0)).collect(),
+            cross_fitted: false,
+            discovery: scored.iter().map(|&s| !s).collect(),
+            held_out: scored.to_vec(),
+            stratum: rows.iter().map(|&r| seasons.binary_search(&log.season[r as usize]).unwrap() as u16).collect(),
+            evaluation: PitcherEvaluation {
+                scheme: "train then score",
+                train: train.to_string(),
+                scored: test.to_string(),
+                n_scored: scored.iter().filter(|&&s| s).count(),
+                scored_from: scored_games.first().map(|g| day(g.0)),
+                scored_to: scored_games.last().map(|g| day(g.0)),
+                scored_games: scored_games.len(),
+                tells_checked_on: test.to_string(),
+            },
+        }
     }
 
     /// The rolling scheme for one pitcher's `rows` (global indices, log
@@ -110,6 +192,7 @@ impl PitcherPlan {
             n_folds,
             test_fold: vec![None; n],
             train_from: vec![None; n],
+            cross_fitted: false,
             discovery: vec![false; n],
             held_out: vec![false; n],
             stratum: vec![0; n],
@@ -351,49 +434,6 @@ impl Plan {
         })
     }
 
-    /// Fold `fold` of `folds`-fold cross-fitting over `rows`' games: the
-    /// games, in date order, are dealt to folds by rank (game i to fold
-    /// i mod folds, so every fold spans the whole period and a drifting
-    /// mix is in every fold alike); the fold's games are scored by a model
-    /// fitted on every other game of `rows`. `compare` scores each period
-    /// with all its folds, so every game is scored by a model that did not
-    /// see it.
-    pub fn cross_fit(log: &PitchLog, rows: &[u32], folds: usize, fold: usize, label: &str) -> Result<Plan> {
-        let n = log.len();
-        let mut games: Vec<(i32, u32)> = rows.iter().map(|&r| (log.date[r as usize], log.game[r as usize])).collect();
-        games.sort_unstable();
-        games.dedup();
-        if folds < 2 || games.len() < folds {
-            return Err(Error::Data(format!("{label}: {} games, fewer than the {folds} folds cross-fitting needs", games.len())));
-        }
-        let mut test_fold = vec![None; n];
-        let mut train_from = vec![None; n];
-        let mut held_out = vec![false; n];
-        let mut discovery = vec![false; n];
-        for &r in rows {
-            let r = r as usize;
-            let i = games.binary_search(&(log.date[r], log.game[r])).expect("game listed above");
-            if i % folds == fold {
-                test_fold[r] = Some(0);
-                held_out[r] = true;
-            } else {
-                train_from[r] = Some(0);
-                discovery[r] = true;
-            }
-        }
-        Ok(Plan {
-            scheme: Scheme::CrossFit { fold, folds },
-            test_fold,
-            train_from,
-            n_folds: 1,
-            discovery,
-            held_out,
-            train_label: format!("his other games of {label}"),
-            test_label: format!("every game of {label}, each scored by a model fitted on his other games there ({folds} folds)"),
-            tells_label: format!("fold {} of {label}", fold + 1),
-        })
-    }
-
     /// Does row `i` train fold `f`?
     #[inline]
     pub fn trains(&self, i: usize, f: usize) -> bool {
@@ -405,7 +445,6 @@ impl Plan {
             Scheme::SeasonForward { .. } => "season-forward",
             Scheme::ForwardChaining { .. } => "forward-chaining",
             Scheme::Rolling { .. } => "rolling",
-            Scheme::CrossFit { .. } => "cross-fitted",
         }
     }
 
@@ -425,6 +464,7 @@ impl Plan {
             n_folds: self.n_folds,
             test_fold: rows.iter().map(|r| self.test_fold[at(r)]).collect(),
             train_from: rows.iter().map(|r| self.train_from[at(r)]).collect(),
+            cross_fitted: false,
             discovery: rows.iter().map(|r| self.discovery[at(r)]).collect(),
             held_out: rows.iter().map(|r| self.held_out[at(r)]).collect(),
             stratum: rows.iter().map(|&r| seasons.binary_search(&log.season[r as usize]).unwrap() as u16).collect(),

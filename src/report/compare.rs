@@ -564,6 +564,7 @@ fn page(cmp: &Comparison, sink: &mut dyn Sink) -> Result<()> {
         permutations => s.settings.permutations,
         bootstrap => s.settings.bootstrap,
         monte_carlo => s.settings.mix_monte_carlo,
+        stop_after => s.settings.stop_after_exceedances,
         fdr => s.settings.fdr,
         fdr_pct => format!("{:.0}%", s.settings.fdr * 100.0),
         tests => s.tests,
