@@ -97,6 +97,9 @@ pub struct Workspace {
     top: Vec<usize>,
     flat: crate::model::FlatTree,
     prior_features: Vec<usize>,
+    /// Per fold: candidate splits among the situation features on its
+    /// training rows (at least 1), read off the fold's learner when it is
+    /// prepared (the situation features never change between fits).
     situational_candidates: Vec<usize>,
     count_all: GroupCounts,
     batter_all: GroupCounts,
@@ -138,14 +141,7 @@ impl Workspace {
             top: Vec::new(),
             flat: crate::model::FlatTree::default(),
             prior_features: (task.n_situational..task.x.n_features()).collect(),
-            situational_candidates: task
-                .folds
-                .iter()
-                .map(|f| {
-                    let situational: Vec<usize> = (0..task.n_situational).collect();
-                    crate::model::prune::candidate_splits(&task.x, &situational, &f.train).max(1)
-                })
-                .collect(),
+            situational_candidates: vec![0; task.folds.len()],
             count_all: GroupCounts::new(12, k),
             batter_all: GroupCounts::new(if task.prior_features { task.n_batters } else { 1 }, k),
             count_oof: (0..OOF_FOLDS).map(|_| GroupCounts::new(12, k)).collect(),
@@ -415,6 +411,10 @@ impl Workspace {
                     let g = t.set_scored_keys(prior_col0 + k..prior_col0 + 2 * k, &keys(|s| s.2), PARTS * gb);
                     debug_assert_eq!(g, 1);
                 }
+                // Candidate splits among the situation features: one fewer
+                // than their distinct codes over the training rows, as the
+                // learner found them.
+                self.situational_candidates[fi] = (0..prior_col0).map(|f| t.cuts_of(f)).sum::<usize>().max(1);
                 slot.insert(t)
             }
         };
@@ -427,11 +427,13 @@ impl Workspace {
         // distinct codes over the training rows, as the learner found them.
         let m = self.situational_candidates[fi] + self.prior_features.iter().map(|&f| learner.cuts_of(f)).sum::<usize>();
         if keep == Keep::Everything {
-            // The observed fit checks the shortcut against the plain count.
+            // The observed fit checks the shortcuts against the plain count.
+            let situational: Vec<usize> = (0..prior_col0).collect();
             assert_eq!(
                 m,
-                self.situational_candidates[fi] + crate::model::prune::candidate_splits(&self.x, &self.prior_features, &fold.train),
-                "candidate splits from the code tables disagree with the rows"
+                crate::model::prune::candidate_splits(&self.x, &situational, &fold.train).max(1)
+                    + crate::model::prune::candidate_splits(&self.x, &self.prior_features, &fold.train),
+                "candidate splits from the learner disagree with the rows"
             );
         }
         (grown, m)

@@ -167,6 +167,19 @@ impl FeatureCuts {
     fn n_cuts(&self) -> usize {
         self.values.len().saturating_sub(1)
     }
+
+    /// The present codes and their last positions, from each code's last
+    /// position (`u32::MAX`: absent).
+    fn set_present(&mut self, last: &[u32; 256]) {
+        self.values.clear();
+        self.last_pos.clear();
+        for (v, &p) in last.iter().enumerate() {
+            if p != u32::MAX {
+                self.values.push(v as u8);
+                self.last_pos.push(p);
+            }
+        }
+    }
 }
 
 /// Scored rows' codes of features `first..first + width` read through a
@@ -298,17 +311,20 @@ impl FastTreeWorkspace {
         self.scored_codes.clear();
         self.codes.clear();
         self.codes.resize(n * self.n_features, 0);
+        self.cuts.clear();
+        self.cuts.resize(self.n_features, FeatureCuts::default());
+        // One pass per feature gathers its codes and finds where each
+        // present code last occurs.
         for f in 0..self.n_features {
             let col = x.column(f);
             let dst = &mut self.codes[f * n..(f + 1) * n];
-            for (d, &r) in dst.iter_mut().zip(rows) {
-                *d = col[r as usize];
+            let mut last = [u32::MAX; 256];
+            for (i, (d, &r)) in dst.iter_mut().zip(rows).enumerate() {
+                let c = col[r as usize];
+                *d = c;
+                last[c as usize] = i as u32;
             }
-        }
-        self.cuts.clear();
-        self.cuts.resize(self.n_features, FeatureCuts::default());
-        for f in 0..self.n_features {
-            self.scan_values(f);
+            self.cuts[f].set_present(&last);
         }
         self.layout_and_pack();
     }
@@ -504,15 +520,7 @@ impl FastTreeWorkspace {
         for (i, &c) in self.codes[f * n..(f + 1) * n].iter().enumerate() {
             last[c as usize] = i as u32;
         }
-        let cuts = &mut self.cuts[f];
-        cuts.values.clear();
-        cuts.last_pos.clear();
-        for (v, &p) in last.iter().enumerate() {
-            if p != u32::MAX {
-                cuts.values.push(v as u8);
-                cuts.last_pos.push(p);
-            }
-        }
+        self.cuts[f].set_present(&last);
     }
 
     /// Places every feature's cut bits. Features with at most one cut (a
@@ -544,12 +552,36 @@ impl FastTreeWorkspace {
             }
         }
         self.lanes = bit.div_ceil(8) * 8;
-        self.packed.clear();
-        self.packed.resize(self.rows.len() * self.stride, 0);
-        for f in 0..self.n_features {
-            self.pack_feature(f);
-        }
+        self.pack_all();
         self.layout_hist();
+    }
+
+    /// Packs every narrow feature's cut bit, one packed byte (up to eight
+    /// features) at a time: the byte is built for all rows in a contiguous
+    /// buffer, one pass per feature, then written into each row once. The
+    /// same bits as [`Self::pack_feature`] on every narrow feature.
+    fn pack_all(&mut self) {
+        let n = self.rows.len();
+        let s = self.stride;
+        self.packed.clear();
+        self.packed.resize(n * s, 0);
+        let mut byte_of_rows = vec![0u8; n];
+        for byte in 0..s {
+            byte_of_rows.iter_mut().for_each(|b| *b = 0);
+            for (f, cuts) in self.cuts.iter().enumerate() {
+                if cuts.capacity != 1 || cuts.bit / 8 != byte {
+                    continue;
+                }
+                let lowest = cuts.values.first().copied().unwrap_or(0);
+                let shift = cuts.bit % 8;
+                for (b, &c) in byte_of_rows.iter_mut().zip(&self.codes[f * n..(f + 1) * n]) {
+                    *b |= ((c > lowest) as u8) << shift;
+                }
+            }
+            for (row, &b) in self.packed.chunks_exact_mut(s).zip(&byte_of_rows) {
+                row[byte] = b;
+            }
+        }
     }
 
     /// Histogram slots of the wide features: codes 0 to the largest present.
