@@ -313,16 +313,26 @@ impl FastTreeWorkspace {
         self.codes.resize(n * self.n_features, 0);
         self.cuts.clear();
         self.cuts.resize(self.n_features, FeatureCuts::default());
-        // One pass per feature gathers its codes and finds where each
-        // present code last occurs.
         for f in 0..self.n_features {
             let col = x.column(f);
             let dst = &mut self.codes[f * n..(f + 1) * n];
+            for (d, &r) in dst.iter_mut().zip(rows) {
+                *d = col[r as usize];
+            }
+            // Where each present code last occurs, read from the end: once
+            // every code up to the largest has been met, no earlier row can
+            // add one (a 0/1 column is done after a few rows).
+            let top = dst.iter().copied().max().unwrap_or(0) as usize;
             let mut last = [u32::MAX; 256];
-            for (i, (d, &r)) in dst.iter_mut().zip(rows).enumerate() {
-                let c = col[r as usize];
-                *d = c;
-                last[c as usize] = i as u32;
+            let mut found = 0;
+            for (i, &c) in dst.iter().enumerate().rev() {
+                if last[c as usize] == u32::MAX {
+                    last[c as usize] = i as u32;
+                    found += 1;
+                    if found == top + 1 {
+                        break;
+                    }
+                }
             }
             self.cuts[f].set_present(&last);
         }
