@@ -160,7 +160,7 @@ fn null_statistic(loc: &PitcherLocation, name: &str, settings: &Settings, j: u64
     total.bits_stat()
 }
 
-fn pilot_clear(loc: &PitcherLocation, name: &str, observed: Stat, settings: &Settings) -> bool {
+fn pilot(loc: &PitcherLocation, name: &str, observed: Stat, settings: &Settings) -> permute::Pilot {
     permute::pilot(observed, scratch(loc), |j, s| null_statistic(loc, name, settings, j, s))
 }
 
@@ -286,16 +286,17 @@ pub fn audit(
     let observed: Vec<Pooled> = locs.par_iter().map(|l| observe(l, settings)).collect();
     timer.lap("location: tasks and observed fits");
     let with: Vec<usize> = (0..locs.len()).filter(|&i| locs[i].has_figures()).collect();
-    let clear: Vec<bool> =
-        with.par_iter().map(|&i| pilot_clear(&locs[i], &tasks[i].name, observed[i].totals.bits_stat(), settings)).collect();
-    let sizes = permute::decision_sizes(&clear, settings.audit.fdr());
+    let pilots: Vec<permute::Pilot> =
+        with.par_iter().map(|&i| pilot(&locs[i], &tasks[i].name, observed[i].totals.bits_stat(), settings)).collect();
+    let sizes = permute::decision_sizes(&pilots.iter().map(|p| p.clear).collect::<Vec<_>>(), settings.audit.fdr());
     timer.lap("location: pilots");
     let perms: Vec<PermutationResult> = with
         .par_iter()
-        .zip(sizes.par_iter())
-        .map(|(&i, &m1)| {
+        .zip(pilots.into_par_iter().zip(sizes.par_iter()))
+        .map(|(&i, (pilot, &m1))| {
             let (loc, name) = (&locs[i], &tasks[i].name);
-            permute::drive(observed[i].totals.bits_stat(), settings, Some(m1), progress, || scratch(loc), |j, s| null_statistic(loc, name, settings, j, s))
+            let observed = observed[i].totals.bits_stat();
+            permute::drive(observed, settings, Some(m1), pilot.nulls, progress, || scratch(loc), |j, s| null_statistic(loc, name, settings, j, s))
         })
         .collect();
     timer.lap("location: permutation tests");

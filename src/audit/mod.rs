@@ -432,16 +432,16 @@ fn permutation_tests(
     settings: &Settings,
     tick: &(dyn Fn(u64) + Sync),
 ) -> Vec<(permute::PermutationResult, permute::PermutationResult)> {
-    let clear: Vec<bool> =
-        ok_tasks.par_iter().zip(observed.par_iter()).map(|(t, o)| permute::pilot_clear(t, o.statistic, settings)).collect();
-    let sizes = permute::decision_sizes(&clear, settings.audit.fdr());
+    let pilots: Vec<permute::Pilot> =
+        ok_tasks.par_iter().zip(observed.par_iter()).map(|(t, o)| permute::pilot_whole(t, o.statistic, settings)).collect();
+    let sizes = permute::decision_sizes(&pilots.iter().map(|p| p.clear).collect::<Vec<_>>(), settings.audit.fdr());
     ok_tasks
         .par_iter()
         .zip(observed.par_iter())
-        .zip(sizes.par_iter())
-        .map(|((t, o), &m1)| {
-            let whole = permute::permutation_test(t, o.statistic, settings, Some(m1), tick);
-            let beyond = permute::null_test(permute::Null::BeyondSheet, t, o.beyond, settings, None, tick);
+        .zip(pilots.into_par_iter().zip(sizes.par_iter()))
+        .map(|((t, o), (pilot, &m1))| {
+            let whole = permute::permutation_test(t, o.statistic, settings, Some(m1), pilot, tick);
+            let beyond = permute::null_test(permute::Null::BeyondSheet, t, o.beyond, settings, None, Vec::new(), tick);
             (whole, beyond)
         })
         .collect()

@@ -133,34 +133,46 @@ pub fn permutation_test(
     observed: Stat,
     settings: &Settings,
     decide_at: Option<usize>,
+    pilot: Pilot,
     progress: &(dyn Fn(u64) + Sync),
 ) -> PermutationResult {
-    null_test(Null::Situation, task, observed, settings, decide_at, progress)
+    null_test(Null::Situation, task, observed, settings, decide_at, pilot.nulls, progress)
 }
 
-/// Permutations of the pilot (see [`pilot_clear`]).
+/// Permutations of the pilot (see [`Pilot`]).
 pub const PILOT: usize = 19;
 
-/// The pilot of the whole-model test: do none of `PILOT` permutations, on
-/// streams of their own (never reused by the test), reach the observed
-/// statistic? The audit counts the other pitchers' clear pilots to size a
-/// pitcher's early decision ([`decision_at`]); a pitcher's own pilot never
-/// sizes his own test, so his p-value stays valid.
-pub fn pilot_clear(task: &PitcherTask, observed: Stat, settings: &Settings) -> bool {
+/// A test's pilot: its first permutations (up to `PILOT`, stopping at the
+/// first that reaches the observed statistic) and whether none did. The
+/// audit counts the other pitchers' clear pilots to size a pitcher's early
+/// decision ([`decision_at`]); a pitcher's own pilot never sizes his own
+/// test, so its permutations are his test's first ones: they are drawn from
+/// the test's own streams 0, 1, ... and handed to it, not drawn twice.
+pub struct Pilot {
+    pub clear: bool,
+    pub nulls: Vec<Stat>,
+}
+
+/// The pilot of the whole-model test (see [`Pilot`]).
+pub fn pilot_whole(task: &PitcherTask, observed: Stat, settings: &Settings) -> Pilot {
     pilot(observed, (Null::Situation.workspace(task), task.labels.clone()), |j, (ws, labels)| {
         null_statistic(Null::Situation, task, settings, j, ws, labels)
     })
 }
 
-/// The pilot of any test: do none of `PILOT` null statistics, on streams
-/// `PILOT_STREAMS + k` of their own, reach `observed`? (Stops at the first
-/// that does.)
-pub fn pilot<W>(observed: Stat, mut scratch: W, null_stat: impl Fn(u64, &mut W) -> Stat) -> bool {
-    (0..PILOT as u64).all(|k| !null_stat(PILOT_STREAMS + k, &mut scratch).reaches(&observed))
+/// The pilot of any test: its permutations 0, 1, ... until one reaches
+/// `observed` or `PILOT` have been drawn.
+pub fn pilot<W>(observed: Stat, mut scratch: W, null_stat: impl Fn(u64, &mut W) -> Stat) -> Pilot {
+    let mut nulls = Vec::with_capacity(PILOT);
+    for j in 0..PILOT as u64 {
+        let v = null_stat(j, &mut scratch);
+        nulls.push(v);
+        if v.reaches(&observed) {
+            return Pilot { clear: false, nulls };
+        }
+    }
+    Pilot { clear: true, nulls }
 }
-
-/// Stream numbers of the pilot's permutations, far from the test's 0..m.
-const PILOT_STREAMS: u64 = 1 << 62;
 
 /// A pitcher's early-decision size m1 for a family of `family` tests when
 /// `others_clear` of the other pitchers' pilots were clear: the least m1
@@ -193,6 +205,7 @@ pub fn null_test(
     observed: Stat,
     settings: &Settings,
     decide_at: Option<usize>,
+    known: Vec<Stat>,
     progress: &(dyn Fn(u64) + Sync),
 ) -> PermutationResult {
     // Only the whole-model test decides early: on real logs nearly every
@@ -204,6 +217,7 @@ pub fn null_test(
         observed,
         settings,
         decide_at,
+        known,
         progress,
         || (null.workspace(task), task.labels.clone()),
         |j, (ws, labels)| null_statistic(null, task, settings, j, ws, labels),
@@ -212,11 +226,13 @@ pub fn null_test(
 
 /// A permutation test of the statistic `observed` through the one driver
 /// (`significance::driver::drive`), `settings.audit.permutations()` at most:
-/// `null_stat(j, scratch)` is permutation `j`'s statistic.
+/// `null_stat(j, scratch)` is permutation `j`'s statistic; `known` holds
+/// the first ones, already drawn by the test's pilot.
 pub fn drive<W: Send>(
     observed: Stat,
     settings: &Settings,
     decide_at: Option<usize>,
+    known: Vec<Stat>,
     progress: &(dyn Fn(u64) + Sync),
     scratch: impl Fn() -> W + Sync,
     null_stat: impl Fn(u64, &mut W) -> Stat + Sync,
@@ -225,6 +241,7 @@ pub fn drive<W: Send>(
         settings.audit.permutations(),
         settings.audit.stop_after_exceedances(),
         decide_at,
+        known,
         progress,
         scratch,
         null_stat,

@@ -533,10 +533,11 @@ fn period_rows(log: &PitchLog, before: &Period, after: &Period) -> Vec<[Vec<u32>
 }
 
 /// Each ready pitcher's label-swap test of his predictability change, and
-/// his before model's transfer to the after games. A pilot of PILOT deals
-/// per pitcher (streams of its own) says how many clear changes the run
-/// holds, to size each pitcher's early decision from the others' (as the
-/// audit's whole-model test does).
+/// his before model's transfer to the after games. A pilot of each
+/// pitcher's first PILOT deals says how many clear changes the run holds,
+/// to size each pitcher's early decision from the others' (as the audit's
+/// whole-model test does); his own test then goes on from his pilot's
+/// deals.
 fn swap_tests(
     log: &PitchLog,
     sit: &Situations,
@@ -546,28 +547,25 @@ fn swap_tests(
     show_progress: bool,
     timer: &crate::progress::Timer,
 ) -> Vec<(predictability::SwapResult, Option<f64>)> {
-    use crate::audit::permute::{decision_sizes, PILOT};
+    use crate::audit::permute::decision_sizes;
     let bar = crate::progress::bar((ready.len() * permutations) as u64, "label swaps", show_progress);
     let tick = |n: u64| bar.inc(n);
-    let none = |_: u64| {};
-    let clear: Vec<bool> = ready
-        .par_iter()
+    let deals: Vec<predictability::Deals> = ready
+        .iter()
         .map(|(p, rows, fits)| {
-            let name = &log.pitchers[*p as usize];
-            let observed = [&fits[0].cross, &fits[1].cross];
-            let pilot = predictability::label_swap_test(log, sit, *p, name, &rows[0], &rows[1], observed, settings, PILOT, None, "label-swap pilot", &none);
-            pilot.permutations == PILOT && pilot.p <= 1.0 / (PILOT as f64 + 1.0) + 1e-12
+            let name = log.pitchers[*p as usize].as_str();
+            predictability::Deals::new(log, sit, *p, name, &rows[0], &rows[1], [&fits[0].cross, &fits[1].cross], settings)
         })
         .collect();
+    let pilots: Vec<(bool, Vec<predictability::Deal>)> = deals.par_iter().map(|d| d.pilot()).collect();
     timer.lap("compare: label-swap pilots");
-    let sizes = decision_sizes(&clear, settings.audit.fdr());
+    let sizes = decision_sizes(&pilots.iter().map(|p| p.0).collect::<Vec<_>>(), settings.audit.fdr());
     let swaps = ready
         .par_iter()
-        .zip(sizes.par_iter())
-        .map(|((p, rows, fits), &m1)| {
-            let name = &log.pitchers[*p as usize];
-            let observed = [&fits[0].cross, &fits[1].cross];
-            let swap = predictability::label_swap_test(log, sit, *p, name, &rows[0], &rows[1], observed, settings, permutations, Some(m1), "label-swap", &tick);
+        .zip(deals.par_iter())
+        .zip(pilots.into_par_iter().zip(sizes.par_iter()))
+        .map(|(((p, rows, _), deals), ((_, known), &m1))| {
+            let swap = deals.test(permutations, Some(m1), known, &tick);
             (swap, predictability::transfer(log, sit, *p, &rows[0], &rows[1], settings))
         })
         .collect();

@@ -216,104 +216,155 @@ fn fit_games(task: &PitcherTask, settings: &Settings) -> (usize, Vec<GameScore>)
     (scored.unseen, by_game.into_values().collect())
 }
 
-/// Label-swap permutation test of the studentised change for one pitcher
-/// (see the module), with the interval of the change from the same deals.
-/// `purpose` names the deals' random streams: `"label-swap"` for the test,
-/// `"label-swap pilot"` for the pilot that sizes the other pitchers' early
-/// decisions (its deals are never the test's).
-#[allow(clippy::too_many_arguments)]
-pub fn label_swap_test(
-    log: &PitchLog,
-    sit: &Situations,
+/// One label-swap deal's (T, bits difference, lift difference); `None`
+/// when a dealt period cannot be cross-fitted.
+pub type Deal = Option<(f64, f64, f64)>;
+
+/// One pitcher's label swaps: his pooled games, the observed figures, and
+/// deal `j` on demand (see the module).
+pub struct Deals<'a> {
+    log: &'a PitchLog,
+    sit: &'a Situations,
     pitcher: u32,
-    name: &str,
-    rows_before: &[u32],
-    rows_after: &[u32],
-    observed: [&CrossFitted; 2],
-    settings: &Settings,
-    permutations: usize,
-    decide_at: Option<usize>,
-    purpose: &str,
-    progress: &(dyn Fn(u64) + Sync),
-) -> SwapResult {
-    let mut pooled: Vec<u32> = rows_before.iter().chain(rows_after).copied().collect();
-    pooled.sort_unstable();
-    let mut games: Vec<(i32, u32)> = pooled.iter().map(|&r| (log.date[r as usize], log.game[r as usize])).collect();
-    games.sort_unstable();
-    games.dedup();
-    let n_before_games = {
-        let mut g: Vec<u32> = rows_before.iter().map(|&r| log.game[r as usize]).collect();
-        g.sort_unstable();
-        g.dedup();
-        g.len()
-    };
-    let game_index: BTreeMap<u32, usize> = games.iter().enumerate().map(|(i, &(_, g))| (g, i)).collect();
-    let row_game: Vec<usize> = pooled.iter().map(|&r| game_index[&log.game[r as usize]]).collect();
-    let t_obs = studentised(observed[0], observed[1]);
-    let d_obs = observed[1].figures.bits_gained - observed[0].figures.bits_gained;
-    let l_obs = observed[1].figures.lift - observed[0].figures.lift;
-    // One deal: (T, bits difference, lift difference), None when a dealt
-    // period cannot be cross-fitted.
-    let one = |j: usize| -> Option<(f64, f64, f64)> {
-        let mut rng = stream(settings.audit.seed(), name, purpose, j as u64);
-        let mut in_before: Vec<bool> = (0..games.len()).map(|i| i < n_before_games).collect();
+    name: &'a str,
+    settings: &'a Settings,
+    pooled: Vec<u32>,
+    /// Each pooled row's game, as an index into the pooled games.
+    row_game: Vec<usize>,
+    n_games: usize,
+    n_before_games: usize,
+    t_obs: f64,
+    d_obs: f64,
+    l_obs: f64,
+}
+
+impl<'a> Deals<'a> {
+    #[allow(clippy::too_many_arguments)]
+    pub fn new(
+        log: &'a PitchLog,
+        sit: &'a Situations,
+        pitcher: u32,
+        name: &'a str,
+        rows_before: &[u32],
+        rows_after: &[u32],
+        observed: [&CrossFitted; 2],
+        settings: &'a Settings,
+    ) -> Deals<'a> {
+        let mut pooled: Vec<u32> = rows_before.iter().chain(rows_after).copied().collect();
+        pooled.sort_unstable();
+        let mut games: Vec<(i32, u32)> = pooled.iter().map(|&r| (log.date[r as usize], log.game[r as usize])).collect();
+        games.sort_unstable();
+        games.dedup();
+        let n_before_games = {
+            let mut g: Vec<u32> = rows_before.iter().map(|&r| log.game[r as usize]).collect();
+            g.sort_unstable();
+            g.dedup();
+            g.len()
+        };
+        let game_index: BTreeMap<u32, usize> = games.iter().enumerate().map(|(i, &(_, g))| (g, i)).collect();
+        let row_game: Vec<usize> = pooled.iter().map(|&r| game_index[&log.game[r as usize]]).collect();
+        Deals {
+            log,
+            sit,
+            pitcher,
+            name,
+            settings,
+            pooled,
+            row_game,
+            n_games: games.len(),
+            n_before_games,
+            t_obs: studentised(observed[0], observed[1]),
+            d_obs: observed[1].figures.bits_gained - observed[0].figures.bits_gained,
+            l_obs: observed[1].figures.lift - observed[0].figures.lift,
+        }
+    }
+
+    /// Deal `j`: games dealt at random to the two periods (the observed
+    /// numbers of games) by the deal's own stream, both cross-fitted again.
+    pub fn deal(&self, j: u64) -> Deal {
+        let mut rng = stream(self.settings.audit.seed(), self.name, "label-swap", j);
+        let mut in_before: Vec<bool> = (0..self.n_games).map(|i| i < self.n_before_games).collect();
         for i in (1..in_before.len()).rev() {
             let k = rng.random_range(0..=i);
             in_before.swap(i, k);
         }
         let (mut rb, mut ra) = (Vec::new(), Vec::new());
-        for (&r, &g) in pooled.iter().zip(&row_game) {
+        for (&r, &g) in self.pooled.iter().zip(&self.row_game) {
             if in_before[g] {
                 rb.push(r)
             } else {
                 ra.push(r)
             }
         }
-        let b = cross_fit(log, sit, pitcher, &rb, settings, "shuffled period").ok()?;
-        let a = cross_fit(log, sit, pitcher, &ra, settings, "shuffled period").ok()?;
+        let b = cross_fit(self.log, self.sit, self.pitcher, &rb, self.settings, "shuffled period").ok()?;
+        let a = cross_fit(self.log, self.sit, self.pitcher, &ra, self.settings, "shuffled period").ok()?;
         Some((studentised(&b, &a), a.figures.bits_gained - b.figures.bits_gained, a.figures.lift - b.figures.lift))
-    };
-    // A deal that cannot be scored counts as reaching the observed value,
-    // the conservative choice. Decided early for a clear change after
-    // `decide_at` deals (sized by the other pitchers' pilots, as in the
-    // audit).
-    let run = crate::significance::driver::drive(
-        permutations,
-        settings.audit.stop_after_exceedances(),
-        decide_at,
-        progress,
-        || (),
-        |j, _| one(j as usize),
-        |s: &Option<(f64, f64, f64)>| match s {
-            Some((t, _, _)) => t.abs() >= t_obs.abs() * (1.0 - 1e-9),
+    }
+
+    /// Does a deal reach the observed |T|? A deal that cannot be scored
+    /// counts as reaching it, the conservative choice.
+    fn reaches(&self, d: &Deal) -> bool {
+        match d {
+            Some((t, _, _)) => t.abs() >= self.t_obs.abs() * (1.0 - 1e-9),
             None => true,
-        },
-    );
-    let (mut spread_bits, mut spread_lift) = (Vec::new(), Vec::new());
-    for &(_, d, l) in run.nulls.iter().flatten() {
-        spread_bits.push(d.abs());
-        if l.is_finite() {
-            spread_lift.push(l.abs());
         }
     }
-    let half = |mut v: Vec<f64>| -> Option<f64> {
-        if v.is_empty() {
-            return None;
+
+    /// The pilot: the test's first `PILOT` deals (drawn in parallel), and
+    /// whether none reached the observed change. Its deals are handed to
+    /// [`Deals::test`], so none is drawn twice; the pilot only sizes the
+    /// other pitchers' early decisions.
+    pub fn pilot(&self) -> (bool, Vec<Deal>) {
+        use crate::audit::permute::PILOT;
+        let none = |_: u64| {};
+        let run = crate::significance::driver::drive(PILOT, PILOT + 1, None, Vec::new(), &none, || (), |j, _| self.deal(j), |d: &Deal| self.reaches(d));
+        let clear = run.nulls.len() == PILOT && !run.nulls.iter().any(|d| self.reaches(d));
+        (clear, run.nulls)
+    }
+
+    /// The label-swap permutation test of the studentised change, with the
+    /// interval of the change from the same deals: at most `permutations`
+    /// deals, the first ones `known` (from the pilot); decided early for a
+    /// clear change after `decide_at` deals (sized by the other pitchers'
+    /// pilots, as in the audit).
+    pub fn test(&self, permutations: usize, decide_at: Option<usize>, known: Vec<Deal>, progress: &(dyn Fn(u64) + Sync)) -> SwapResult {
+        let run = crate::significance::driver::drive(
+            permutations,
+            self.settings.audit.stop_after_exceedances(),
+            decide_at,
+            known,
+            progress,
+            || (),
+            |j, _| self.deal(j),
+            |d: &Deal| self.reaches(d),
+        );
+        let (mut spread_bits, mut spread_lift) = (Vec::new(), Vec::new());
+        for &(_, d, l) in run.nulls.iter().flatten() {
+            spread_bits.push(d.abs());
+            if l.is_finite() {
+                spread_lift.push(l.abs());
+            }
         }
-        v.sort_by(f64::total_cmp);
-        // The ceil(0.95 (m + 1))-th smallest, capped at the largest.
-        let k = ((0.95 * (v.len() + 1) as f64).ceil() as usize).clamp(1, v.len());
-        Some(v[k - 1])
-    };
-    let bits_half = half(spread_bits).unwrap_or(0.0);
-    let lift_interval = half(spread_lift).filter(|_| l_obs.is_finite()).map(|h| Interval { low: l_obs - h, high: l_obs + h });
-    SwapResult {
-        p: run.p_value,
-        permutations: run.permutations,
-        stopped_early: run.stopped_early,
-        t: t_obs,
-        bits_interval: Interval { low: d_obs - bits_half, high: d_obs + bits_half },
-        lift_interval,
+        let half = |mut v: Vec<f64>| -> Option<f64> {
+            if v.is_empty() {
+                return None;
+            }
+            v.sort_by(f64::total_cmp);
+            // The ceil(0.95 (m + 1))-th smallest, capped at the largest.
+            let k = ((0.95 * (v.len() + 1) as f64).ceil() as usize).clamp(1, v.len());
+            Some(v[k - 1])
+        };
+        let bits_half = half(spread_bits).unwrap_or(0.0);
+        let l_obs = self.l_obs;
+        let lift_interval = half(spread_lift).filter(|_| l_obs.is_finite()).map(|h| Interval { low: l_obs - h, high: l_obs + h });
+        SwapResult {
+            p: run.p_value,
+            permutations: run.permutations,
+            stopped_early: run.stopped_early,
+            t: self.t_obs,
+            bits_interval: Interval { low: self.d_obs - bits_half, high: self.d_obs + bits_half },
+            lift_interval,
+        }
     }
 }
 

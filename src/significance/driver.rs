@@ -29,17 +29,21 @@ pub struct Sequential<N> {
 }
 
 /// Run at most `m` permutations: `null(j, scratch)` is permutation `j`'s
-/// value and `reaches` says whether it reaches the observed statistic; the
+/// value (`known` holds those of permutations `0..known.len()` already
+/// drawn, by a pilot, and they are read first) and `reaches` says whether
+/// it reaches the observed statistic; the
 /// run stops after `stop_after` values reach it (Besag–Clifford), or after
 /// `decide_at` permutations with none reaching it. `scratch` is one per
 /// worker thread, made by `scratch` and kept across batches (a permutation's
 /// value must never depend on what it held before, so results are the same
 /// at any thread count). `progress` is told how many permutations each
 /// batch ran.
+#[allow(clippy::too_many_arguments)]
 pub fn drive<W: Send, N: Send>(
     m: usize,
     stop_after: usize,
     decide_at: Option<usize>,
+    known: Vec<N>,
     progress: &(dyn Fn(u64) + Sync),
     scratch: impl Fn() -> W + Sync,
     null: impl Fn(u64, &mut W) -> N + Sync,
@@ -52,7 +56,15 @@ pub fn drive<W: Send, N: Send>(
         seq = seq.with_early_decision(m1);
     }
     let mut nulls = Vec::new();
-    let mut start = 0usize;
+    let mut start = known.len().min(m);
+    for v in known.into_iter().take(m) {
+        if seq.is_done() {
+            break;
+        }
+        seq.push(if reaches(&v) { 1.0 } else { 0.0 });
+        nulls.push(v);
+    }
+    progress(start as u64);
     let pool: Vec<std::sync::Mutex<Option<W>>> =
         (0..rayon::current_num_threads().max(1)).map(|_| std::sync::Mutex::new(None)).collect();
     while start < m && !seq.is_done() {
