@@ -328,12 +328,15 @@ impl Workspace {
     /// in the training counts). A feature's code depends only on (fold
     /// part, group, class), so the codes are tabled per used (part, group)
     /// and rows only look them up. Returns the count and batter tables'
-    /// strengths (the batter's is 0 without prior features).
+    /// strengths (both 0 without prior features: a task that learns from
+    /// the situation only, a location task, has no table to shrink).
     fn prior_code_tables(&mut self, task: &PitcherTask, fi: usize, mix: &[f64], settings: &Settings) -> (f64, f64) {
         let k = task.n_classes;
-        let priors_on = task.prior_features;
+        if !task.prior_features {
+            return (0.0, 0.0);
+        }
         let s_count = priors::strength(&self.count_all, mix, settings.tree.prior_strength());
-        let s_batter = if priors_on { priors::strength(&self.batter_all, mix, settings.tree.prior_strength()) } else { 0.0 };
+        let s_batter = priors::strength(&self.batter_all, mix, settings.tree.prior_strength());
         let code_table = |all: &GroupCounts, oof: &[GroupCounts], s: f64, used: &[u32], table: &mut Vec<u8>| {
             let g = all.n_groups;
             table.resize(PARTS * g * k, 0);
@@ -355,11 +358,9 @@ impl Workspace {
                 }
             }
         };
-        if priors_on {
-            let (used_c, used_b) = &self.used_entries[fi];
-            code_table(&self.count_all, &self.count_oof, s_count, used_c, &mut self.count_codes);
-            code_table(&self.batter_all, &self.batter_oof, s_batter, used_b, &mut self.batter_codes);
-        }
+        let (used_c, used_b) = &self.used_entries[fi];
+        code_table(&self.count_all, &self.count_oof, s_count, used_c, &mut self.count_codes);
+        code_table(&self.batter_all, &self.batter_oof, s_batter, used_b, &mut self.batter_codes);
         (s_count, s_batter)
     }
 
