@@ -288,7 +288,7 @@ pub fn audit(
     let with: Vec<usize> = (0..locs.len()).filter(|&i| locs[i].has_figures()).collect();
     let pilots: Vec<permute::Pilot> =
         with.par_iter().map(|&i| pilot(&locs[i], &tasks[i].name, observed[i].totals.bits_stat(), settings)).collect();
-    let sizes = permute::decision_sizes(&pilots.iter().map(|p| p.clear).collect::<Vec<_>>(), settings.audit.fdr());
+    let sizes = permute::pilot_sizes(&pilots, settings.audit.fdr());
     timer.lap("location: pilots");
     let perms: Vec<PermutationResult> = with
         .par_iter()

@@ -434,7 +434,7 @@ fn permutation_tests(
 ) -> Vec<(permute::PermutationResult, permute::PermutationResult)> {
     let pilots: Vec<permute::Pilot> =
         ok_tasks.par_iter().zip(observed.par_iter()).map(|(t, o)| permute::pilot_whole(t, o.statistic, settings)).collect();
-    let sizes = permute::decision_sizes(&pilots.iter().map(|p| p.clear).collect::<Vec<_>>(), settings.audit.fdr());
+    let sizes = permute::pilot_sizes(&pilots, settings.audit.fdr());
     ok_tasks
         .par_iter()
         .zip(observed.par_iter())

@@ -148,9 +148,15 @@ pub const PILOT: usize = 19;
 /// decision ([`decision_at`]); a pitcher's own pilot never sizes his own
 /// test, so its permutations are his test's first ones: they are drawn from
 /// the test's own streams 0, 1, ... and handed to it, not drawn twice.
-pub struct Pilot {
+pub struct Pilot<N = Stat> {
     pub clear: bool,
-    pub nulls: Vec<Stat>,
+    pub nulls: Vec<N>,
+}
+
+/// Each test's early-decision size in a family of tests with these pilots
+/// (see [`decision_sizes`]).
+pub fn pilot_sizes<N>(pilots: &[Pilot<N>], fdr: f64) -> Vec<usize> {
+    decision_sizes(&pilots.iter().map(|p| p.clear).collect::<Vec<_>>(), fdr)
 }
 
 /// The pilot of the whole-model test (see [`Pilot`]).

@@ -23,7 +23,7 @@
 //!   ½ Σ |p_i − q_i|: the share of pitches that would have to change type
 //!   to turn one mix into the other.
 
-use crate::significance::contingency::{expected_counts_allow_asymptotic, table_test, TableStatistic};
+use crate::significance::contingency::{expected_counts_allow_asymptotic, g_term, table_test, TableStatistic};
 use crate::significance::permutation_p::SequentialPermutation;
 use crate::significance::resample::total_variation;
 use rand::Rng;
@@ -132,7 +132,7 @@ pub fn mix_test(before: &[u64], after: &[u64], rng: &mut ChaCha8Rng, stop_after:
 
 /// G of every 2 × K table with fixed margins (column totals `total`, the
 /// first row's total `n_before`), from each cell's term tabled once per
-/// possible count: 2·o·ln(o/e) (0 when o = 0), with e from the margins.
+/// possible count (`g_term`, `table_test`'s own), with e from the margins.
 /// The terms are summed in `table_test`'s order (the first row's kept
 /// columns, then the second's), so each value is `table_test`'s G to the
 /// last bit, without its logarithms, expected counts and p-value per
@@ -150,19 +150,11 @@ impl MarginG {
     fn new(total: &[u64], n_before: u64) -> MarginG {
         let n: u64 = total.iter().sum();
         let kept: Vec<usize> = (0..total.len()).filter(|&j| total[j] > 0).collect();
-        let term = |o: u64, e: f64| {
-            if o > 0 {
-                let o = o as f64;
-                2.0 * o * (o / e).ln()
-            } else {
-                0.0
-            }
-        };
         let row = |row_total: u64| -> Vec<Vec<f64>> {
             kept.iter()
                 .map(|&j| {
                     let e = row_total as f64 * total[j] as f64 / n as f64;
-                    (0..=total[j]).map(|o| term(o, e)).collect()
+                    (0..=total[j]).map(|o| g_term(o as f64, e)).collect()
                 })
                 .collect()
         };

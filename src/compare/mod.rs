@@ -547,7 +547,7 @@ fn swap_tests(
     show_progress: bool,
     timer: &crate::progress::Timer,
 ) -> Vec<(predictability::SwapResult, Option<f64>)> {
-    use crate::audit::permute::decision_sizes;
+    use crate::audit::permute::{pilot_sizes, Pilot};
     let bar = crate::progress::bar((ready.len() * permutations) as u64, "label swaps", show_progress);
     let tick = |n: u64| bar.inc(n);
     let deals: Vec<predictability::Deals> = ready
@@ -557,15 +557,15 @@ fn swap_tests(
             predictability::Deals::new(log, sit, *p, name, &rows[0], &rows[1], [&fits[0].cross, &fits[1].cross], settings)
         })
         .collect();
-    let pilots: Vec<(bool, Vec<predictability::Deal>)> = deals.par_iter().map(|d| d.pilot()).collect();
+    let pilots: Vec<Pilot<predictability::Deal>> = deals.par_iter().map(|d| d.pilot()).collect();
     timer.lap("compare: label-swap pilots");
-    let sizes = decision_sizes(&pilots.iter().map(|p| p.0).collect::<Vec<_>>(), settings.audit.fdr());
+    let sizes = pilot_sizes(&pilots, settings.audit.fdr());
     let swaps = ready
         .par_iter()
         .zip(deals.par_iter())
         .zip(pilots.into_par_iter().zip(sizes.par_iter()))
-        .map(|(((p, rows, _), deals), ((_, known), &m1))| {
-            let swap = deals.test(permutations, Some(m1), known, &tick);
+        .map(|(((p, rows, _), deals), (pilot, &m1))| {
+            let swap = deals.test(permutations, Some(m1), pilot.nulls, &tick);
             (swap, predictability::transfer(log, sit, *p, &rows[0], &rows[1], settings))
         })
         .collect();

@@ -30,6 +30,7 @@
 //!   tell anything?
 
 use super::stream;
+use crate::audit::permute::{Pilot, PILOT};
 use crate::error::Result;
 use crate::evaluate::fit::{self, argmax, Workspace};
 use crate::evaluate::split::{PitcherPlan, Plan};
@@ -314,12 +315,10 @@ impl<'a> Deals<'a> {
     /// whether none reached the observed change. Its deals are handed to
     /// [`Deals::test`], so none is drawn twice; the pilot only sizes the
     /// other pitchers' early decisions.
-    pub fn pilot(&self) -> (bool, Vec<Deal>) {
-        use crate::audit::permute::PILOT;
-        let none = |_: u64| {};
-        let run = crate::significance::driver::drive(PILOT, PILOT + 1, None, Vec::new(), &none, || (), |j, _| self.deal(j), |d: &Deal| self.reaches(d));
-        let clear = run.nulls.len() == PILOT && !run.nulls.iter().any(|d| self.reaches(d));
-        (clear, run.nulls)
+    pub fn pilot(&self) -> Pilot<Deal> {
+        use rayon::prelude::*;
+        let nulls: Vec<Deal> = (0..PILOT as u64).into_par_iter().map(|j| self.deal(j)).collect();
+        Pilot { clear: !nulls.iter().any(|d| self.reaches(d)), nulls }
     }
 
     /// The label-swap permutation test of the studentised change, with the

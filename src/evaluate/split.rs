@@ -89,9 +89,6 @@ impl PitcherPlan {
         let at = |r: u32| (log.date[r as usize], log.game[r as usize]);
         let test_fold: Vec<Option<u8>> =
             rows.iter().map(|&r| Some((games.binary_search(&at(r)).expect("game listed above") % folds) as u8)).collect();
-        let mut seasons: Vec<i32> = rows.iter().map(|&r| log.season[r as usize]).collect();
-        seasons.sort_unstable();
-        seasons.dedup();
         let n = rows.len();
         let day = crate::ingest::parse::format_date;
         Ok(PitcherPlan {
@@ -101,7 +98,7 @@ impl PitcherPlan {
             cross_fitted: true,
             discovery: vec![false; n],
             held_out: vec![true; n],
-            stratum: rows.iter().map(|&r| seasons.binary_search(&log.season[r as usize]).unwrap() as u16).collect(),
+            stratum: season_strata(log, rows),
             evaluation: PitcherEvaluation {
                 scheme: "cross-fitted",
                 train: format!("his other games of {label}"),
@@ -119,9 +116,6 @@ impl PitcherPlan {
     /// marked `scored` are scored (and his tells checked there) by a model
     /// fitted on all the others. Permutation strata are his seasons.
     pub fn train_then_score(log: &PitchLog, rows: &[u32], scored: &[bool], train: &str, test: &str) -> PitcherPlan {
-        let mut seasons: Vec<i32> = rows.iter().map(|&r| log.season[r as usize]).collect();
-        seasons.sort_unstable();
-        seasons.dedup();
         let mut scored_games = std::collections::BTreeSet::new();
         for (&r, _) in rows.iter().zip(scored).filter(|x| *x.1) {
             scored_games.insert((log.date[r as usize], log.game[r as usize]));
@@ -134,7 +128,7 @@ impl PitcherPlan {
             cross_fitted: false,
             discovery: scored.iter().map(|&s| !s).collect(),
             held_out: scored.to_vec(),
-            stratum: rows.iter().map(|&r| seasons.binary_search(&log.season[r as usize]).unwrap() as u16).collect(),
+            stratum: season_strata(log, rows),
             evaluation: PitcherEvaluation {
                 scheme: "train then score",
                 train: train.to_string(),
@@ -452,9 +446,6 @@ impl Plan {
     /// permutation strata are his seasons.
     pub fn local(&self, log: &PitchLog, rows: &[u32]) -> PitcherPlan {
         let at = |r: &u32| *r as usize;
-        let mut seasons: Vec<i32> = rows.iter().map(|&r| log.season[r as usize]).collect();
-        seasons.sort_unstable();
-        seasons.dedup();
         let mut scored_games = std::collections::BTreeSet::new();
         for r in rows.iter().map(at).filter(|&r| self.test_fold[r].is_some()) {
             scored_games.insert((log.date[r], log.game[r]));
@@ -467,7 +458,7 @@ impl Plan {
             cross_fitted: false,
             discovery: rows.iter().map(|r| self.discovery[at(r)]).collect(),
             held_out: rows.iter().map(|r| self.held_out[at(r)]).collect(),
-            stratum: rows.iter().map(|&r| seasons.binary_search(&log.season[r as usize]).unwrap() as u16).collect(),
+            stratum: season_strata(log, rows),
             evaluation: PitcherEvaluation {
                 scheme: self.scheme_name(),
                 train: self.train_label.clone(),
@@ -480,4 +471,13 @@ impl Plan {
             },
         }
     }
+}
+
+/// Each row's permutation stratum when the strata are his seasons: the
+/// index of the row's season among the seasons of `rows`.
+fn season_strata(log: &PitchLog, rows: &[u32]) -> Vec<u16> {
+    let mut seasons: Vec<i32> = rows.iter().map(|&r| log.season[r as usize]).collect();
+    seasons.sort_unstable();
+    seasons.dedup();
+    rows.iter().map(|&r| seasons.binary_search(&log.season[r as usize]).expect("a season of his rows") as u16).collect()
 }

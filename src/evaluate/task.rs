@@ -223,11 +223,7 @@ impl PitcherTask {
         self.folds.iter().map(|f| f.test.len()).sum()
     }
 }
-/// A pitcher's feature matrix over `rows`: the situation features (a 0/1
-/// column per level he meets, balls, strikes and the score margin as
-/// ordinals), then one zeroed column per type for the count and batter
-/// priors, which each fit fills. Returns it with each column's kind and
-/// the number of situation features.
+
 /// One 0/1 column per code of `wanted` (distinct codes): whether each
 /// row's code is it, in one pass over the rows.
 fn one_hot(codes: &[u8], rows: &[u32], wanted: &[u8]) -> Vec<Vec<u8>> {
@@ -246,6 +242,11 @@ fn one_hot(codes: &[u8], rows: &[u32], wanted: &[u8]) -> Vec<Vec<u8>> {
     cols
 }
 
+/// A pitcher's feature matrix over `rows`: the situation features (a 0/1
+/// column per level he meets, balls, strikes and the score margin as
+/// ordinals), then one zeroed column per type for the count and batter
+/// priors, which each fit fills. Returns it with each column's kind and
+/// the number of situation features.
 fn features(log: &PitchLog, sit: &Situations, rows: &[u32], types: &[u16]) -> (FeatureMatrix, Vec<FeatureKind>, usize) {
     // Situation features.
     let mut names = Vec::new();
@@ -334,7 +335,6 @@ fn plan_rows(plan: &PitcherPlan, n: usize) -> (Vec<Fold>, Vec<u32>, Vec<u32>) {
     }
     (folds, discovery, held_out)
 }
-
 
 #[cfg(test)]
 mod tests {

@@ -311,29 +311,11 @@ impl FastTreeWorkspace {
         self.scored_codes.clear();
         self.codes.clear();
         self.codes.resize(n * self.n_features, 0);
+        gather_columns(x, rows, &mut self.codes);
         self.cuts.clear();
         self.cuts.resize(self.n_features, FeatureCuts::default());
-        let max_row = rows.iter().copied().max().unwrap_or(0) as usize;
         for f in 0..self.n_features {
-            let col = x.column(f);
-            let dst = &mut self.codes[f * n..(f + 1) * n];
-            gather(col, rows, max_row, dst);
-            // Where each present code last occurs, read from the end: once
-            // every code up to the largest has been met, no earlier row can
-            // add one (a 0/1 column is done after a few rows).
-            let top = dst.iter().copied().max().unwrap_or(0) as usize;
-            let mut last = [u32::MAX; 256];
-            let mut found = 0;
-            for (i, &c) in dst.iter().enumerate().rev() {
-                if last[c as usize] == u32::MAX {
-                    last[c as usize] = i as u32;
-                    found += 1;
-                    if found == top + 1 {
-                        break;
-                    }
-                }
-            }
-            self.cuts[f].set_present(&last);
+            self.scan_values(f);
         }
         self.layout_and_pack();
     }
@@ -402,10 +384,7 @@ impl FastTreeWorkspace {
         self.scored_codes.clear();
         self.scored_codes.resize(m * self.n_features, 0);
         self.scored_keyed.clear();
-        let max_row = rows.iter().copied().max().unwrap_or(0) as usize;
-        for f in 0..self.n_features {
-            gather(x.column(f), rows, max_row, &mut self.scored_codes[f * m..(f + 1) * m]);
-        }
+        gather_columns(x, rows, &mut self.scored_codes);
     }
 
     /// Rewrites features of the scored rows, as [`Self::rewrite_features`]
@@ -520,12 +499,24 @@ impl FastTreeWorkspace {
 
     // ---- preparation ----
 
-    /// Finds the present codes of feature `f` and the last position of each.
+    /// Finds the present codes of feature `f` and the last position of
+    /// each, reading the column from the end: once every code up to the
+    /// largest has been met, no earlier row can add one (a 0/1 column is
+    /// done after a few rows).
     fn scan_values(&mut self, f: usize) {
         let n = self.rows.len();
+        let col = &self.codes[f * n..(f + 1) * n];
+        let top = col.iter().copied().max().unwrap_or(0) as usize;
         let mut last = [u32::MAX; 256];
-        for (i, &c) in self.codes[f * n..(f + 1) * n].iter().enumerate() {
-            last[c as usize] = i as u32;
+        let mut found = 0;
+        for (i, &c) in col.iter().enumerate().rev() {
+            if last[c as usize] == u32::MAX {
+                last[c as usize] = i as u32;
+                found += 1;
+                if found == top + 1 {
+                    break;
+                }
+            }
         }
         self.cuts[f].set_present(&last);
     }
@@ -994,28 +985,29 @@ impl FastTreeWorkspace {
     }
 }
 
+/// Every feature of `x` at `rows` into `dst`, column after column
+/// (`rows.len()` codes each): `dst[f · n + i] = x[f][rows[i]]`. The rows
+/// are checked against the matrix once, not once per code.
+fn gather_columns(x: &FeatureMatrix, rows: &[u32], dst: &mut [u8]) {
+    let n = rows.len();
+    assert_eq!(dst.len(), n * x.n_features(), "a column of codes per feature");
+    let Some(max_row) = rows.iter().copied().max() else { return };
+    assert!((max_row as usize) < x.n_rows, "rows within the matrix");
+    for (f, dst) in dst.chunks_exact_mut(n).enumerate() {
+        let col = x.column(f);
+        for (d, &r) in dst.iter_mut().zip(rows) {
+            // SAFETY: every row is at most max_row (the largest of `rows`,
+            // found above), below the matrix's row count, the length of
+            // each of its columns.
+            *d = unsafe { *col.get_unchecked(r as usize) };
+        }
+    }
+}
+
 /// Splits `idx[lo..hi]` stably by `code(p) <= threshold` (left first, left
 /// rows in place, right rows through `spill`), telling `side` each row's
 /// side; returns where the right rows start. Branch-free: the side of a row
 /// is as good as random.
-/// `dst[i] = col[rows[i]]`, with `max_row` the largest of `rows` (the
-/// callers find it once for all of a matrix's columns): one bounds check
-/// per column instead of one per code.
-#[inline]
-fn gather(col: &[u8], rows: &[u32], max_row: usize, dst: &mut [u8]) {
-    if rows.is_empty() {
-        return;
-    }
-    assert!(max_row < col.len(), "rows within the matrix");
-    debug_assert_eq!(rows.iter().copied().max(), Some(max_row as u32));
-    for (d, &r) in dst.iter_mut().zip(rows) {
-        debug_assert!((r as usize) <= max_row);
-        // SAFETY: r <= max_row < col.len() (max_row is the largest row, as
-        // the callers compute it, and checked against the column above).
-        *d = unsafe { *col.get_unchecked(r as usize) };
-    }
-}
-
 fn partition_stably(
     idx: &mut [u32],
     spill: &mut [u32],

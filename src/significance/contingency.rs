@@ -125,13 +125,7 @@ pub fn table_test<R: AsRef<[u64]>>(
             }
             stat += match statistic {
                 TableStatistic::PearsonChiSquare => (o - e) * (o - e) / e,
-                TableStatistic::LogLikelihoodRatio => {
-                    if o > 0.0 {
-                        2.0 * o * (o / e).ln()
-                    } else {
-                        0.0
-                    }
-                }
+                TableStatistic::LogLikelihoodRatio => g_term(o, e),
             };
         }
     }
@@ -146,6 +140,15 @@ pub fn table_test<R: AsRef<[u64]>>(
         kept_columns,
         yates_applied,
     })
+}
+
+/// One cell's term of the G statistic: 2·o·ln(o/e), 0 for an empty cell.
+pub fn g_term(observed: f64, expected: f64) -> f64 {
+    if observed > 0.0 {
+        2.0 * observed * (observed / expected).ln()
+    } else {
+        0.0
+    }
 }
 
 /// Whether expected counts are large enough to trust the chi-square

@@ -56,14 +56,18 @@ pub fn drive<W: Send, N: Send>(
         seq = seq.with_early_decision(m1);
     }
     let mut nulls = Vec::new();
-    let mut start = known.len().min(m);
-    for v in known.into_iter().take(m) {
-        if seq.is_done() {
-            break;
+    // Values in permutation order into the stopping rule, until it is done.
+    let mut read = |values: Vec<N>, seq: &mut SequentialPermutation| {
+        for v in values {
+            if seq.is_done() {
+                break;
+            }
+            seq.push(if reaches(&v) { 1.0 } else { 0.0 });
+            nulls.push(v);
         }
-        seq.push(if reaches(&v) { 1.0 } else { 0.0 });
-        nulls.push(v);
-    }
+    };
+    let mut start = known.len().min(m);
+    read(known.into_iter().take(m).collect(), &mut seq);
     progress(start as u64);
     let pool: Vec<std::sync::Mutex<Option<W>>> =
         (0..rayon::current_num_threads().max(1)).map(|_| std::sync::Mutex::new(None)).collect();
@@ -79,13 +83,7 @@ pub fn drive<W: Send, N: Send>(
                 null(j as u64, w)
             })
             .collect();
-        for v in values {
-            if seq.is_done() {
-                break;
-            }
-            seq.push(if reaches(&v) { 1.0 } else { 0.0 });
-            nulls.push(v);
-        }
+        read(values, &mut seq);
         progress((end - start) as u64);
         start = end;
     }
