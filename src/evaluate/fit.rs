@@ -116,6 +116,9 @@ pub struct Workspace {
     /// every fold), so its strength is estimated once.
     pub sheet_fixed: bool,
     sheet_cache: Vec<Vec<f64>>,
+    /// Per fold: situation features keyed with the count prior (balls,
+    /// strikes; see `count_keyed_features`).
+    count_fixed_width: Vec<usize>,
 }
 
 impl Workspace {
@@ -151,6 +154,7 @@ impl Workspace {
             want_sheet: false,
             sheet_fixed: false,
             sheet_cache: vec![Vec::new(); task.folds.len()],
+            count_fixed_width: vec![0; task.folds.len()],
         }
     }
 }
@@ -394,9 +398,12 @@ impl Workspace {
         // The held-out rows' prior codes are read through the code tables
         // themselves (a held-out row's key is its table entry).
         let (train, test) = self.row_slots[fi].split_at(n_train);
+        let fixed_width = &mut self.count_fixed_width[fi];
         let learner = match &mut self.trees[fi] {
             Some(t) => {
                 if priors_on {
+                    // The tables first: the rewrite reads present codes off them.
+                    fill_training_tables(t, cc, bc, k, *fixed_width);
                     t.rewrite_features(prior_col0..prior_col0 + 2 * k, |_, dst| prior_codes(cc, bc, k, train, dst));
                 }
                 t
@@ -411,6 +418,27 @@ impl Workspace {
                     debug_assert_eq!(g, 0);
                     let g = t.set_scored_keys(prior_col0 + k..prior_col0 + 2 * k, &keys(|s| s.2), PARTS * gb);
                     debug_assert_eq!(g, 1);
+                    // A training row's prior codes are a function of its
+                    // table entries: the count prior's (and its balls and
+                    // strikes) of its game-fold part and count, counted per
+                    // entry at large nodes; the batter prior's of its part
+                    // and batter. The trees are the same.
+                    let keys = |at: fn(&(u32, u32, u32)) -> u32| train.iter().map(|s| at(s) / k as u32).collect::<Vec<u32>>();
+                    let rows: Vec<u32> = train.iter().map(|s| s.0).collect();
+                    let count_keys = keys(|s| s.1);
+                    let (features, fixed) = count_keyed_features(task, &rows, &count_keys, PARTS * gc);
+                    let extra = features.len() - k;
+                    let g = t.set_training_keys(features, &count_keys, PARTS * gc, true);
+                    debug_assert_eq!(g, 0);
+                    if extra > 0 {
+                        for (row, fixed) in t.training_table(0).chunks_exact_mut(k + extra).zip(fixed.chunks_exact(extra)) {
+                            row[k..].copy_from_slice(fixed);
+                        }
+                    }
+                    *fixed_width = extra;
+                    let g = t.set_training_keys((prior_col0 + k..prior_col0 + 2 * k).collect(), &keys(|s| s.2), PARTS * gb, false);
+                    debug_assert_eq!(g, 1);
+                    fill_training_tables(&mut t, cc, bc, k, extra);
                 }
                 // Candidate splits among the situation features: one fewer
                 // than their distinct codes over the training rows, as the
@@ -422,6 +450,9 @@ impl Workspace {
         if priors_on {
             learner.scored_table(0).copy_from_slice(cc);
             learner.scored_table(1).copy_from_slice(bc);
+        }
+        if keep == Keep::Everything {
+            assert!(learner.keys_agree(), "the count-keyed codes disagree with the rows");
         }
         let grown = learner.fit(&self.train_labels, k);
         // Candidate splits among the prior features: one fewer than their
@@ -536,6 +567,51 @@ impl Workspace {
         }
         out.totals = t;
     }
+}
+
+/// The training key tables of a fold's learner: the count prior's codes
+/// (then the fixed balls and strikes, `fixed_width` of them, left as they
+/// are) and the batter prior's, from the code tables.
+fn fill_training_tables(t: &mut crate::model::fast_tree::FastTreeWorkspace, cc: &[u8], bc: &[u8], k: usize, fixed_width: usize) {
+    for (row, codes) in t.training_table(0).chunks_exact_mut(k + fixed_width).zip(cc.chunks_exact(k)) {
+        row[..k].copy_from_slice(codes);
+    }
+    t.training_table(1).copy_from_slice(bc);
+}
+
+/// The features keyed by a training row's count-table entry (game-fold
+/// part and count; `rows[i]` has entry `keys[i]`): the `k` count-prior
+/// columns, then the situation features that are a function of the entry
+/// on these rows (balls and strikes), with those features' codes per entry
+/// (`n_keys` rows of them, 0 for an entry no row has).
+fn count_keyed_features(task: &PitcherTask, rows: &[u32], keys: &[u32], n_keys: usize) -> (Vec<usize>, Vec<u8>) {
+    use crate::evaluate::task::FeatureKind;
+    let k = task.n_classes;
+    let mut features: Vec<usize> = (task.n_situational..task.n_situational + k).collect();
+    let mut fixed: Vec<Vec<u8>> = Vec::new();
+    for (f, kind) in task.kinds.iter().enumerate().take(task.n_situational) {
+        if !matches!(kind, FeatureKind::Ordinal { name: "balls" | "strikes", .. }) {
+            continue;
+        }
+        let col = task.x.column(f);
+        let mut table: Vec<Option<u8>> = vec![None; n_keys];
+        let agrees = keys.iter().zip(rows).all(|(&q, &r)| {
+            let c = col[r as usize];
+            *table[q as usize].get_or_insert(c) == c
+        });
+        if agrees {
+            features.push(f);
+            fixed.push(table.into_iter().map(|c| c.unwrap_or(0)).collect());
+        }
+    }
+    let w = features.len() - k;
+    let mut flat = vec![0u8; n_keys * w];
+    for (j, col) in fixed.iter().enumerate() {
+        for (q, &c) in col.iter().enumerate() {
+            flat[q * w + j] = c;
+        }
+    }
+    (features, flat)
 }
 
 /// The prior features' codes of the training rows at `slots` (row,

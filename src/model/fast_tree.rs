@@ -193,6 +193,27 @@ struct ScoredKeys {
     table: Vec<u8>,
 }
 
+/// Training rows' codes of some features that are a function of a key per
+/// row (a pitch's game-fold part and count, say): feature `features[j]` of
+/// training row `i` has code `table[keys[i] * width + j]` (see
+/// [`FastTreeWorkspace::set_training_keys`]). The present codes of these
+/// features are read off the keys the rows use, and, for a group counted
+/// by key, a large node's histograms of them are summed per key (one
+/// increment per row) and spread to the codes through the table.
+#[derive(Debug, Clone, Default)]
+struct TrainingKeys {
+    features: Vec<usize>,
+    keys: Vec<u32>,
+    n_keys: usize,
+    table: Vec<u8>,
+    /// Each key some training row has, with the last position holding it.
+    used: Vec<(u32, u32)>,
+    count_by_key: bool,
+    /// The group's wide features under the current layout: (place in
+    /// `features`, first histogram slot).
+    wide: Vec<(usize, usize)>,
+}
+
 /// Reusable state for fitting many trees on the same training rows of one
 /// feature matrix. See the module doc for the intended loop.
 #[derive(Debug, Clone)]
@@ -222,6 +243,9 @@ pub struct FastTreeWorkspace {
     hist: Vec<u32>,
     /// Scratch: each wide feature's offset in `codes` and first histogram slot.
     wide_columns: Vec<(usize, usize)>,
+    keyed: Vec<TrainingKeys>,
+    /// Per class and key, the node's rows (scratch of keyed sums).
+    key_hist: Vec<u32>,
     /// Rows to be scored by each fitted tree (see [`Self::prepare_scored`]).
     scored_rows: Vec<u32>,
     /// `scored_codes[f * m + i]`: feature `f` of scored row `scored_rows[i]`.
@@ -267,6 +291,8 @@ impl FastTreeWorkspace {
             hist_len: 0,
             hist: Vec::new(),
             wide_columns: Vec::new(),
+            keyed: Vec::new(),
+            key_hist: Vec::new(),
             scored_rows: Vec::new(),
             scored_codes: Vec::new(),
             scored_keyed: Vec::new(),
@@ -307,6 +333,7 @@ impl FastTreeWorkspace {
         self.rows.clear();
         self.rows.extend_from_slice(rows);
         self.n_features = x.n_features();
+        self.keyed.clear();
         self.scored_rows.clear();
         self.scored_codes.clear();
         self.codes.clear();
@@ -357,7 +384,7 @@ impl FastTreeWorkspace {
     fn rescan(&mut self, features: impl Iterator<Item = usize> + Clone) {
         let mut relayout = false;
         for f in features.clone() {
-            self.scan_values(f);
+            self.scan_values_or_keys(f);
             if self.cuts[f].n_cuts() > self.cuts[f].capacity {
                 relayout = true;
             }
@@ -417,6 +444,61 @@ impl FastTreeWorkspace {
     /// The code table of scored key group `group` (`n_keys × width` codes).
     pub fn scored_table(&mut self, group: usize) -> &mut [u8] {
         &mut self.scored_keyed[group].table
+    }
+
+    /// Declares that the training rows' codes of `features` are a function
+    /// of a key per row: feature `features[j]` of training row `i` has code
+    /// `table[keys[i] * features.len() + j]`, the table the caller writes
+    /// with [`Self::training_table`] *before* each rewrite of those
+    /// features (the code columns stay the truth for everything else; the
+    /// two must agree, which [`Self::keys_agree`] checks). A rewrite then
+    /// finds the features' present codes from the keys the rows use, not
+    /// from every row; with `count_by_key` (for a group of few keys) large
+    /// nodes also count them once per row and key instead of once per row
+    /// and feature. The trees are the same. Call after `prepare`; returns
+    /// the group's number for `training_table`.
+    pub fn set_training_keys(&mut self, features: Vec<usize>, keys: &[u32], n_keys: usize, count_by_key: bool) -> usize {
+        assert_eq!(keys.len(), self.rows.len(), "one key per training row");
+        assert!(keys.iter().all(|&q| (q as usize) < n_keys), "keys below n_keys");
+        assert!(features.iter().all(|&f| f < self.n_features));
+        assert!(
+            self.keyed.iter().all(|g| g.features.iter().all(|f| !features.contains(f))),
+            "a feature in one group at most"
+        );
+        let mut last = vec![u32::MAX; n_keys];
+        for (i, &q) in keys.iter().enumerate() {
+            last[q as usize] = i as u32;
+        }
+        let used = last.iter().enumerate().filter(|(_, &p)| p != u32::MAX).map(|(q, &p)| (q as u32, p)).collect();
+        let width = features.len();
+        self.keyed.push(TrainingKeys {
+            features,
+            keys: keys.to_vec(),
+            n_keys,
+            table: vec![0; n_keys * width],
+            used,
+            count_by_key,
+            wide: Vec::new(),
+        });
+        self.layout_hist();
+        self.keyed.len() - 1
+    }
+
+    /// The code table of training key group `group` (`n_keys × width` codes).
+    pub fn training_table(&mut self, group: usize) -> &mut [u8] {
+        &mut self.keyed[group].table
+    }
+
+    /// Whether every training row's codes of the keyed features are the
+    /// tables' (a check for the observed fit and tests; reads every code).
+    pub fn keys_agree(&self) -> bool {
+        let n = self.rows.len();
+        self.keyed.iter().all(|g| {
+            let w = g.features.len();
+            g.features.iter().enumerate().all(|(j, &f)| {
+                self.codes[f * n..(f + 1) * n].iter().zip(&g.keys).all(|(&c, &q)| g.table[q as usize * w + j] == c)
+            })
+        })
     }
 
     /// Thresholds feature `f` offers on the training rows: one fewer than
@@ -498,6 +580,25 @@ impl FastTreeWorkspace {
     }
 
     // ---- preparation ----
+
+    /// The present codes of feature `f` and their last positions, read off
+    /// its key group's used keys when it has one (the codes of the keys the
+    /// rows use, each at the last position of any of its keys), else off
+    /// the column.
+    fn scan_values_or_keys(&mut self, f: usize) {
+        let Some((g, j)) = self.keyed.iter().find_map(|g| g.features.iter().position(|&x| x == f).map(|j| (g, j))) else {
+            return self.scan_values(f);
+        };
+        let w = g.features.len();
+        let mut last = [u32::MAX; 256];
+        for &(q, pos) in &g.used {
+            let slot = &mut last[g.table[q as usize * w + j] as usize];
+            if *slot == u32::MAX || pos > *slot {
+                *slot = pos;
+            }
+        }
+        self.cuts[f].set_present(&last);
+    }
 
     /// Finds the present codes of feature `f` and the last position of
     /// each, reading the column from the end: once every code up to the
@@ -591,6 +692,14 @@ impl FastTreeWorkspace {
             at += *self.cuts[f].values.last().unwrap_or(&0) as usize + 1;
         }
         self.hist_len = at;
+        for g in &mut self.keyed {
+            g.wide.clear();
+            for (j, f) in g.features.iter().enumerate() {
+                if let Some(wi) = self.wide.iter().position(|w| w == f) {
+                    g.wide.push((j, self.hist_base[wi]));
+                }
+            }
+        }
     }
 
     /// Writes a narrow feature `f`'s cut bit into the packed rows (set when
@@ -670,18 +779,39 @@ impl FastTreeWorkspace {
                 }
             }
         };
-        let mut since_flush = 0;
         let base = &self.hist_base;
+        // A large node counts the keyed group's wide features per key (one
+        // increment per row) and spreads the key counts to their codes; a
+        // small one counts them per row like the other wide features.
+        let k = self.n_classes;
+        let keyed = self.keyed.iter().find(|g| g.count_by_key && !g.wide.is_empty() && hi - lo >= 2 * g.n_keys * k);
         // Each wide feature's code column, offset by its first histogram slot.
         let mut columns = std::mem::take(&mut self.wide_columns);
         columns.clear();
-        columns.extend(self.wide.iter().zip(base).map(|(&f, &b)| (f * n, b)));
+        columns.extend(
+            self.wide
+                .iter()
+                .zip(base)
+                .filter(|(f, _)| keyed.is_none_or(|g| !g.wide.iter().any(|&(j, _)| g.features[j] == **f)))
+                .map(|(&f, &b)| (f * n, b)),
+        );
         // The checks the loop below relies on, once per call: every row
         // index is below n, every label below the class count, and the
         // buffers have a stride (or histogram) per row and class.
         let (idx, labels, packed, codes) = (&self.idx[lo..hi], &self.labels[..n], &self.packed[..n * s], &self.codes[..]);
         assert!(acc.len() >= self.n_classes * s && hist.len() >= self.n_classes * h);
         assert!(columns.iter().all(|&(col, _)| col + n <= codes.len()));
+        let key_hist = &mut self.key_hist;
+        let (keys, n_keys) = match keyed {
+            Some(g) => {
+                key_hist.clear();
+                key_hist.resize(k * g.n_keys, 0);
+                assert_eq!(g.keys.len(), n);
+                (&g.keys[..], g.n_keys)
+            }
+            None => (&[][..], 0),
+        };
+        let mut since_flush = 0;
         for &p in idx {
             let p = p as usize;
             assert!(p < n);
@@ -689,7 +819,9 @@ impl FastTreeWorkspace {
             // are below the class count (checked by `fit`), so the slices
             // are in range by the asserts above; a wide feature's histogram
             // has a slot for every code up to its largest present code
-            // (`layout_hist`) and every training row's code is present.
+            // (`layout_hist`) and every training row's code is present;
+            // keys (one per training row, checked) are below n_keys
+            // (checked by `set_training_keys`).
             unsafe {
                 let l = *labels.get_unchecked(p) as usize;
                 let row = packed.get_unchecked(p * s..(p + 1) * s);
@@ -703,6 +835,9 @@ impl FastTreeWorkspace {
                     debug_assert!(slot < hist_l.len());
                     *hist_l.get_unchecked_mut(slot) += 1;
                 }
+                if n_keys > 0 {
+                    *key_hist.get_unchecked_mut(l * n_keys + *keys.get_unchecked(p) as usize) += 1;
+                }
             }
             since_flush += 1;
             // A byte lane holds at most 255.
@@ -713,6 +848,19 @@ impl FastTreeWorkspace {
         }
         flush(acc, out);
         self.wide_columns = columns;
+        if let Some(g) = keyed {
+            let w = g.features.len();
+            for (class, counts) in key_hist.chunks_exact(n_keys).enumerate() {
+                let hist_l = &mut hist[class * h..(class + 1) * h];
+                for (codes, &c) in g.table.chunks_exact(w).zip(counts) {
+                    if c != 0 {
+                        for &(j, b) in &g.wide {
+                            hist_l[b + codes[j] as usize] += c;
+                        }
+                    }
+                }
+            }
+        }
         // A wide feature's right count at cut j: rows with a code above
         // values[j], a suffix sum of its histogram over the present codes.
         for (wi, &f) in self.wide.iter().enumerate() {
@@ -901,31 +1049,37 @@ impl FastTreeWorkspace {
         let right_of = |bit: usize, class: usize| sums[class * lanes + bit];
         let every_node = self.options.scan == ThresholdScan::EveryNode;
 
-        // Pass 1: exact weighted Gini of every candidate, in scan order.
+        // Pass 1: exact weighted Gini of every candidate, in scan order. In
+        // linfa's scan a cut is a candidate only when the last training row
+        // with its code is in the node; that is checked first, so a deep
+        // node, which holds the last row of few codes, scores few cuts.
         self.candidates.clear();
         let mut best_exact = f64::INFINITY;
         for (f, cuts) in self.cuts.iter().enumerate() {
             let mut prev_right = n_node;
             for j in 0..cuts.n_cuts() {
-                let bit = cuts.bit + j;
-                let n_right: u32 = (0..k).map(|c| right_of(bit, c)).sum();
-                let n_left = n_node - n_right;
-                let here = prev_right - n_right; // node rows with code values[j]
-                prev_right = n_right;
-                let scored = if every_node {
-                    here > 0
-                } else {
-                    self.node_id[cuts.last_pos[j] as usize] == id
-                };
-                if !scored || n_left < min_leaf || n_right < min_leaf {
+                if !every_node && self.node_id[cuts.last_pos[j] as usize] != id {
                     continue;
                 }
-                let (mut sq_left, mut sq_right) = (0u64, 0u64);
+                let bit = cuts.bit + j;
+                let (mut n_right, mut sq_left, mut sq_right) = (0u32, 0u64, 0u64);
                 for (c, &total) in counts.iter().enumerate() {
-                    let r = right_of(bit, c) as u64;
-                    let l = total as u64 - r;
+                    let r = right_of(bit, c);
+                    n_right += r;
+                    let (r, l) = (r as u64, (total - r) as u64);
                     sq_left += l * l;
                     sq_right += r * r;
+                }
+                let n_left = n_node - n_right;
+                if every_node {
+                    let here = prev_right - n_right; // node rows with code values[j]
+                    prev_right = n_right;
+                    if here == 0 {
+                        continue;
+                    }
+                }
+                if n_left < min_leaf || n_right < min_leaf {
+                    continue;
                 }
                 let score = 1.0
                     - (sq_left as f64 / n_left as f64 + sq_right as f64 / n_right as f64)
@@ -1063,4 +1217,79 @@ fn linfa_split_score(left: &[u32], right: &[u32], n: u32) -> f32 {
     let n_left = n - n_right;
     let w = n_right as f32 / n as f32;
     w * linfa_gini(right, n_right) + (1.0 - w) * linfa_gini(left, n_left)
+}
+
+#[cfg(test)]
+mod keyed_tests {
+    use super::*;
+    use rand::{Rng, SeedableRng};
+    use rand_chacha::ChaCha8Rng;
+
+    /// Rows whose first features are a function of a key (a table of codes
+    /// per key), the rest free; labels that depend on both.
+    fn data(n: usize, n_keys: usize, rng: &mut ChaCha8Rng) -> (FeatureMatrix, Vec<u32>, Vec<u8>, Vec<u8>) {
+        let (keyed, free) = (4, 4);
+        let table: Vec<u8> = (0..n_keys * keyed).map(|_| rng.random_range(0..21)).collect();
+        let keys: Vec<u32> = (0..n).map(|_| rng.random_range(0..n_keys as u32)).collect();
+        let mut x = FeatureMatrix::new(n, (0..keyed + free).map(|f| format!("f{f}")).collect());
+        for j in 0..keyed {
+            let col: Vec<u8> = keys.iter().map(|&q| table[q as usize * keyed + j]).collect();
+            x.column_mut(j).copy_from_slice(&col);
+        }
+        for f in keyed..keyed + free {
+            let top = if f % 2 == 0 { 2 } else { 12 };
+            let col: Vec<u8> = (0..n).map(|_| rng.random_range(0..top)).collect();
+            x.column_mut(f).copy_from_slice(&col);
+        }
+        let labels: Vec<u8> = (0..n)
+            .map(|r| {
+                let lean = (x.column(0)[r] > 10) as u8 + (x.column(5)[r] > 5) as u8;
+                if rng.random_bool(0.6) { lean } else { rng.random_range(0..3) }
+            })
+            .collect();
+        (x, keys, table, labels)
+    }
+
+    /// A workspace told that some features are a function of a key grows
+    /// the same trees as one that is not, whether the key group is counted
+    /// per key or only scanned through its keys, and after rewrites of the
+    /// keyed features (new tables), in both threshold scans.
+    #[test]
+    fn keyed_features_grow_the_same_trees() {
+        let mut rng = ChaCha8Rng::seed_from_u64(7);
+        for scan in [ThresholdScan::Linfa, ThresholdScan::EveryNode] {
+            for count_by_key in [true, false] {
+                let (mut x, keys, mut table, labels) = data(3000, 24, &mut rng);
+                let rows: Vec<u32> = (0..3000).filter(|r| r % 7 != 0).collect();
+                let row_keys: Vec<u32> = rows.iter().map(|&r| keys[r as usize]).collect();
+                let row_labels: Vec<u8> = rows.iter().map(|&r| labels[r as usize]).collect();
+                let options = GrowOptions { scan, prune: false };
+                let settings = TreeSettings { max_depth: 6, min_samples_leaf: 5, min_samples_split: 10, min_impurity_decrease: 0.0 };
+                let mut plain = FastTreeWorkspace::with_options(settings, options);
+                let mut keyed = FastTreeWorkspace::with_options(settings, options);
+                plain.prepare(&x, &rows);
+                keyed.prepare(&x, &rows);
+                let g = keyed.set_training_keys((0..4).collect(), &row_keys, 24, count_by_key);
+                keyed.training_table(g).copy_from_slice(&table);
+                assert!(keyed.keys_agree());
+                assert_eq!(plain.fit(&row_labels, 3), keyed.fit(&row_labels, 3));
+                for _ in 0..5 {
+                    // New codes for the keyed features, from a new table
+                    // with fewer codes (so the present codes change).
+                    for t in table.iter_mut() {
+                        *t = rng.random_range(0..6) * 3;
+                    }
+                    for j in 0..4 {
+                        let col: Vec<u8> = keys.iter().map(|&q| table[q as usize * 4 + j]).collect();
+                        x.column_mut(j).copy_from_slice(&col);
+                    }
+                    plain.refresh_features(&x, &[0, 1, 2, 3]);
+                    keyed.training_table(g).copy_from_slice(&table);
+                    keyed.refresh_features(&x, &[0, 1, 2, 3]);
+                    assert!(keyed.keys_agree());
+                    assert_eq!(plain.fit(&row_labels, 3), keyed.fit(&row_labels, 3));
+                }
+            }
+        }
+    }
 }
