@@ -73,7 +73,7 @@ impl Null {
     pub fn workspace(self, task: &PitcherTask) -> Workspace {
         let mut ws = Workspace::new(task);
         ws.want_sheet = self == Null::BeyondSheet;
-        ws.sheet_fixed = self == Null::BeyondSheet;
+        ws.cells_fixed = self == Null::BeyondSheet;
         ws
     }
 }

@@ -110,12 +110,20 @@ pub struct Workspace {
     sheet_log: Vec<f64>,
     /// Score the sheet in refits too (the beyond-the-sheet test).
     pub want_sheet: bool,
-    /// The sheet's logs per fold, kept across refits when every refit's
-    /// labels keep each cell's training counts (the beyond-the-sheet
-    /// shuffles, within game × cell, do: a game lies wholly on one side of
-    /// every fold), so its strength is estimated once.
-    pub sheet_fixed: bool,
+    /// Every refit's labels keep each game's class counts in each cell
+    /// (count × batter side): the beyond-the-sheet shuffles, within game ×
+    /// cell, do. A game lies wholly on one side of every fold and in one
+    /// game-fold part, so each fold's sheet and its count table (counts by
+    /// part, count and class) are the same in every refit: the sheet's logs
+    /// and the count prior's strength and codes are worked out once per
+    /// fold, and the count-prior features are not rewritten.
+    pub cells_fixed: bool,
     sheet_cache: Vec<Vec<f64>>,
+    /// Per fold, when cells are fixed: the count prior's strength and code
+    /// table of the first fit.
+    count_cache: Vec<Option<(f64, Vec<u8>)>>,
+    /// The last `prior_code_tables` took the count prior from the cache.
+    count_reused: bool,
     /// Per fold: situation features keyed with the count prior (balls,
     /// strikes; see `count_keyed_features`).
     count_fixed_width: Vec<usize>,
@@ -152,8 +160,10 @@ impl Workspace {
             sheet: GroupCounts::new(24, k),
             sheet_log: Vec::new(),
             want_sheet: false,
-            sheet_fixed: false,
+            cells_fixed: false,
             sheet_cache: vec![Vec::new(); task.folds.len()],
+            count_cache: vec![None; task.folds.len()],
+            count_reused: false,
             count_fixed_width: vec![0; task.folds.len()],
         }
     }
@@ -199,7 +209,7 @@ fn fit_and_score(task: &PitcherTask, labels: &[u8], settings: &Settings, ws: &mu
             assert_eq!(ws.leaves, leaves, "held-out leaves from growing disagree with the tree");
         }
         ws.score_fold(&mut out, task, fi, labels, &usage, settings, with_sheet, keep != Keep::Sums);
-        if with_sheet && ws.sheet_fixed {
+        if with_sheet && ws.cells_fixed {
             std::mem::swap(&mut ws.sheet_log, &mut ws.sheet_cache[fi]);
         }
         if keep == Keep::Everything {
@@ -339,7 +349,16 @@ impl Workspace {
         if !task.prior_features {
             return (0.0, 0.0);
         }
-        let s_count = priors::strength(&self.count_all, mix, settings.tree.prior_strength());
+        let cached = if self.cells_fixed { self.count_cache[fi].as_ref() } else { None };
+        self.count_reused = cached.is_some();
+        let s_count = match cached {
+            Some((s, codes)) => {
+                self.count_codes.clear();
+                self.count_codes.extend_from_slice(codes);
+                *s
+            }
+            None => priors::strength(&self.count_all, mix, settings.tree.prior_strength()),
+        };
         let s_batter = priors::strength(&self.batter_all, mix, settings.tree.prior_strength());
         let code_table = |all: &GroupCounts, oof: &[GroupCounts], s: f64, used: &[u32], table: &mut Vec<u8>| {
             let g = all.n_groups;
@@ -363,7 +382,12 @@ impl Workspace {
             }
         };
         let (used_c, used_b) = &self.used_entries[fi];
-        code_table(&self.count_all, &self.count_oof, s_count, used_c, &mut self.count_codes);
+        if !self.count_reused {
+            code_table(&self.count_all, &self.count_oof, s_count, used_c, &mut self.count_codes);
+            if self.cells_fixed {
+                self.count_cache[fi] = Some((s_count, self.count_codes.clone()));
+            }
+        }
         code_table(&self.batter_all, &self.batter_oof, s_batter, used_b, &mut self.batter_codes);
         (s_count, s_batter)
     }
@@ -399,9 +423,15 @@ impl Workspace {
         // themselves (a held-out row's key is its table entry).
         let (train, test) = self.row_slots[fi].split_at(n_train);
         let fixed_width = &mut self.count_fixed_width[fi];
+        let count_reused = self.count_reused;
         let learner = match &mut self.trees[fi] {
             Some(t) => {
-                if priors_on {
+                if priors_on && count_reused {
+                    // The count prior is the learner's already: only the
+                    // batter prior changes.
+                    t.training_table(1).copy_from_slice(bc);
+                    t.rewrite_features(prior_col0 + k..prior_col0 + 2 * k, |_, dst| batter_prior_codes(bc, k, train, dst));
+                } else if priors_on {
                     // The tables first: the rewrite reads present codes off them.
                     fill_training_tables(t, cc, bc, k, *fixed_width);
                     t.rewrite_features(prior_col0..prior_col0 + 2 * k, |_, dst| prior_codes(cc, bc, k, train, dst));
@@ -489,8 +519,22 @@ impl Workspace {
         smoothed_node_probs_into(grown, mix, settings.tree.leaf_smoothing(), &mut self.parent, &mut self.grown_p);
         blend_toward(&mut self.grown_p, mix, settings.tree.prior_blend());
         let nn = grown.nodes.len();
+        // Logs only where a held-out row can read them: a grown leaf and
+        // the kept node it collapses to (NaN elsewhere, never read).
         self.log_p.clear();
-        self.log_p.extend(self.grown_p.iter().map(|x| x.log2()));
+        self.log_p.resize(nn * k, f64::NAN);
+        for (g, node) in grown.nodes.iter().enumerate() {
+            if node.split.is_some() {
+                continue;
+            }
+            for i in [g, self.kept[g]] {
+                if self.log_p[i * k].is_nan() {
+                    for (l, p) in self.log_p[i * k..(i + 1) * k].iter_mut().zip(&self.grown_p[i * k..(i + 1) * k]) {
+                        *l = p.log2();
+                    }
+                }
+            }
+        }
         self.top.clear();
         self.top.extend((0..nn).map(|i| argmax(&self.grown_p[i * k..(i + 1) * k])));
     }
@@ -500,7 +544,7 @@ impl Workspace {
     /// Dirichlet strength (as the count prior), logs tabled per cell; taken
     /// from the cache when the sheet is fixed across refits.
     fn sheet_logs(&mut self, task: &PitcherTask, fi: usize, labels: &[u8], mix: &[f64], settings: &Settings) {
-        if self.sheet_fixed && !self.sheet_cache[fi].is_empty() {
+        if self.cells_fixed && !self.sheet_cache[fi].is_empty() {
             std::mem::swap(&mut self.sheet_log, &mut self.sheet_cache[fi]);
             return;
         }
@@ -577,6 +621,18 @@ fn fill_training_tables(t: &mut crate::model::fast_tree::FastTreeWorkspace, cc: 
         row[..k].copy_from_slice(codes);
     }
     t.training_table(1).copy_from_slice(bc);
+}
+
+/// The batter prior's codes of the training rows at `slots` into `dst`
+/// (its `k` columns), as [`prior_codes`] writes them.
+fn batter_prior_codes(batter_codes: &[u8], k: usize, slots: &[(u32, u32, u32)], dst: &mut [u8]) {
+    let n = slots.len();
+    for (i, s) in slots.iter().enumerate() {
+        let b = &batter_codes[s.2 as usize..s.2 as usize + k];
+        for cls in 0..k {
+            dst[cls * n + i] = b[cls];
+        }
+    }
 }
 
 /// The features keyed by a training row's count-table entry (game-fold
