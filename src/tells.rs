@@ -592,7 +592,7 @@ impl BeyondTallies {
         // discovery rows and on the held-out rows.
         let sheet_of = |on: &[bool]| {
             let mut c = vec![0u32; 24 * kc];
-            let mut n = vec![0u32; 24];
+            let mut n = [0u32; 24];
             for (i, &yes) in on.iter().enumerate() {
                 if yes {
                     c[task.cell[i] as usize * kc + task.labels[i] as usize] += 1;

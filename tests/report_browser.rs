@@ -109,7 +109,7 @@ fn the_demo_report_loads_cleanly_with_every_chart() {
     assert!(dom.contains("Staff overview"));
     // Every chart is in the page and drawn.
     let drawn = dom.split("<svg").skip(1).filter(|s| s.contains("<rect") || s.contains("<path") || s.contains("<polyline")).count();
-    assert!(drawn >= 1 + 3 * ok, "{drawn} drawn charts in the page, expected {}", 1 + 3 * ok);
+    assert!(drawn > 3 * ok, "{drawn} drawn charts in the page, expected {}", 1 + 3 * ok);
     let shot = out.join("screenshot.png");
     headless(&out.join("index.html"), &dir.join("profile2"), &[format!("--screenshot={}", shot.display()), "--window-size=1200,2400".into()]);
     let img = image::open(&shot).expect("screenshot written");

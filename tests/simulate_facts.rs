@@ -26,13 +26,12 @@ use tellscope::domain::levels::{
 /// The demo's seed, as `tellscope demo` uses it (src/cli/demo.rs, demo-data/README.md).
 const DEMO_SEED: u64 = 2026;
 
-/// The plain staff of the first release: every pitch drawn from the mix or
-/// a rule, no shared habits (tests/fixtures/plain-staff/README.md).
-
 fn read(path: &str) -> String {
     std::fs::read_to_string(path).unwrap_or_else(|e| panic!("{path}: {e}"))
 }
 
+/// The plain staff of the first release: every pitch drawn from the mix or
+/// a rule, no shared habits (tests/fixtures/plain-staff/README.md).
 fn demo_scenario() -> &'static Scenario {
     static S: OnceLock<Scenario> = OnceLock::new();
     S.get_or_init(|| {

@@ -310,7 +310,7 @@ fn check_pages(path: &Path, meta: &polars_parquet::parquet::metadata::FileMetada
     for (g, rg) in meta.row_groups.iter().enumerate() {
         for c in rg.parquet_columns() {
             let name = c.descriptor().path_in_schema.join(".");
-            if !wanted.iter().any(|w| *w == name) {
+            if !wanted.contains(&name) {
                 continue;
             }
             let range = c.byte_range();

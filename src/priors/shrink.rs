@@ -665,7 +665,7 @@ pub fn fit_dirichlet_strength<R: AsRef<[u64]>>(
     let vals: Vec<f64> = grid.iter().map(|&t| f(t)).collect();
     let best = (0..GRID).fold(0, |b, i| if vals[i] > vals[b] { i } else { b });
     let (a, b) = (grid[best.saturating_sub(1)], grid[(best + 1).min(GRID - 1)]);
-    let mut t = golden_section_max(&f, a, b, 1e-10);
+    let mut t = golden_section_max(f, a, b, 1e-10);
     // The ends of the range are candidates too (golden section never
     // evaluates the bracket's end points).
     for end in [lo, hi] {

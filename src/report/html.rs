@@ -38,7 +38,7 @@ pub fn thousands(n: i64) -> String {
         out.push('-');
     }
     for (i, c) in digits.chars().enumerate() {
-        if i > 0 && (digits.len() - i) % 3 == 0 {
+        if i > 0 && (digits.len() - i).is_multiple_of(3) {
             out.push(',');
         }
         out.push(c);
@@ -311,7 +311,7 @@ fn count_rows(p: &PitcherSummary) -> Vec<CountRow> {
             interval: format!("{}–{}", numbers::pct(c.top_share_low), numbers::pct(c.top_share_high)),
             prior: numbers::pct(c.prior_accuracy),
             model: numbers::pct(c.model_accuracy),
-            q: c.q_value.map(|q| p_text(q)).unwrap_or_else(|| "—".into()),
+            q: c.q_value.map(p_text).unwrap_or_else(|| "—".into()),
             more_predictable: c.more_predictable,
         })
         .collect()
