@@ -34,8 +34,13 @@
 //! training rows as the tree grows, and their leaves read off
 //! [`FastTreeWorkspace::scored_leaves`]; features of theirs that are a
 //! function of a few keys can be read through a table instead
-//! ([`FastTreeWorkspace::set_scored_keys`]). Nothing is sorted and, after the
-//! first fit, nothing but the returned [`Tree`] is allocated.
+//! ([`FastTreeWorkspace::set_scored_keys`]), and so can training features
+//! ([`FastTreeWorkspace::set_training_keys`]): a rewrite then finds their
+//! present codes from the keys the rows use, and a group of few keys is
+//! summed per key at large nodes (one histogram increment per row and key,
+//! spread to the codes through the table, instead of one per row and
+//! feature). Nothing is sorted and, after the first fit, nothing but the
+//! returned [`Tree`] is allocated.
 //!
 //! # Same tree as linfa
 //!
