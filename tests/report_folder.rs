@@ -199,3 +199,46 @@ fn the_folder_is_its_exporters_output() {
     assert_eq!(json[0].bytes, written["summary.json"]);
     std::fs::remove_dir_all(&root).ok();
 }
+
+/// A large staff's page inlines the charts of at most
+/// `INLINE_ALL_CHARTS_UP_TO` pitchers: those with a significant model or a
+/// flagged tell, most flagged tells first, then most bits gained; a club's
+/// staff (the demo) has every chart inline. The staff is the demo's
+/// pitchers eight times over under new names.
+#[test]
+fn a_large_staffs_page_inlines_the_charts_of_a_few_pitchers() {
+    use tellscope::report::{inlined_pitchers, INLINE_ALL_CHARTS_UP_TO};
+    let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv");
+    let mut a = audit::run(&log, &settings(), false).unwrap();
+    assert_eq!(inlined_pitchers(&a.summary).len(), a.summary.pitchers.len());
+    let club = a.summary.pitchers.clone();
+    for copy in 2..=8 {
+        for p in &club {
+            let mut q = p.clone();
+            q.pitcher = format!("{} {copy}", p.pitcher);
+            a.summary.pitchers.push(q);
+        }
+    }
+    let ok: Vec<_> = a.summary.pitchers.iter().filter(|p| p.is_ok()).collect();
+    assert!(ok.len() > INLINE_ALL_CHARTS_UP_TO);
+    let shown = inlined_pitchers(&a.summary);
+    let eligible: Vec<_> = ok.iter().filter(|p| p.significant == Some(true) || !p.tells.is_empty()).collect();
+    assert!(eligible.len() > INLINE_ALL_CHARTS_UP_TO, "{} pitchers with a significant model or a flagged tell", eligible.len());
+    assert_eq!(shown.len(), INLINE_ALL_CHARTS_UP_TO);
+    // Nobody left out has more flagged tells, or as many and more bits, than
+    // anybody shown.
+    let key = |p: &tellscope::audit::summary::PitcherSummary| (p.tells.len(), p.bits_gained.unwrap_or(f64::NEG_INFINITY));
+    let least_shown = eligible.iter().filter(|p| shown.contains(p.pitcher.as_str())).map(|p| key(p)).min_by(|a, b| a.0.cmp(&b.0).then(a.1.total_cmp(&b.1))).unwrap();
+    for p in eligible.iter().filter(|p| !shown.contains(p.pitcher.as_str())) {
+        let k = key(p);
+        assert!(k.0 < least_shown.0 || (k.0 == least_shown.0 && k.1 <= least_shown.1), "{} left out: {k:?} against {least_shown:?}", p.pitcher);
+    }
+    // The page shows those charts only, and says so.
+    let root = scratch("large-staff");
+    let out = root.join("report");
+    tellscope::report::write_audit_report(&out, &a).unwrap();
+    let page = std::fs::read_to_string(out.join("index.html")).unwrap();
+    assert!(page.contains(&format!("the charts of {} pitchers only", shown.len())), "the page says how many pitchers' charts it shows");
+    let charts = std::fs::read_dir(out.join("charts")).unwrap().count();
+    assert!(page.matches("<svg").count() < charts / 2, "{} inline charts of {charts} files", page.matches("<svg").count());
+}

@@ -71,6 +71,8 @@ pub struct ChartSvgs {
     pub location: BTreeMap<String, String>,
     /// Some pitchers' charts are in charts/ only (a large staff).
     pub omitted: bool,
+    /// Pitchers whose charts the page shows.
+    pub shown: usize,
 }
 
 #[derive(Serialize)]
@@ -408,6 +410,7 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
             c.called_swings
         )),
         charts_omitted => charts.omitted,
+        charts_shown => charts.shown,
     };
     tmpl.render(ctx).map_err(|e| Error::Internal(format!("rendering index.html: {e}")))
 }

@@ -286,10 +286,33 @@ pub fn write_failed_report(dir: &Path, what: &str, why: &str, rejected: &[crate:
     st.commit()
 }
 
-/// Above this many pitchers, index.html inlines the charts of only the
-/// pitchers with a significant model or a flagged tell (every chart is still
-/// written under charts/), so a league-wide page stays light enough to open.
+/// Above this many pitchers, index.html inlines the charts of only this
+/// many: the pitchers with a significant model or a flagged tell, most
+/// flagged tells first, then most bits gained (every chart is still written
+/// under charts/). A league-wide page then stays light enough to open: on a
+/// real league nearly every pitcher's model is significant, and inlining
+/// them all made a page of about 100 MB.
 pub const INLINE_ALL_CHARTS_UP_TO: usize = 60;
+
+/// The pitchers whose charts index.html inlines (see
+/// [`INLINE_ALL_CHARTS_UP_TO`]).
+pub fn inlined_pitchers(s: &crate::audit::summary::Summary) -> std::collections::BTreeSet<&str> {
+    let ok: Vec<&crate::audit::summary::PitcherSummary> = s.pitchers.iter().filter(|p| p.is_ok()).collect();
+    if ok.len() <= INLINE_ALL_CHARTS_UP_TO {
+        return s.pitchers.iter().map(|p| p.pitcher.as_str()).collect();
+    }
+    let mut shown: Vec<&crate::audit::summary::PitcherSummary> =
+        ok.into_iter().filter(|p| p.significant == Some(true) || !p.tells.is_empty()).collect();
+    shown.sort_by(|a, b| {
+        b.tells
+            .len()
+            .cmp(&a.tells.len())
+            .then(b.bits_gained.unwrap_or(f64::NEG_INFINITY).total_cmp(&a.bits_gained.unwrap_or(f64::NEG_INFINITY)))
+            .then(a.pitcher.cmp(&b.pitcher))
+    });
+    shown.truncate(INLINE_ALL_CHARTS_UP_TO);
+    shown.into_iter().map(|p| p.pitcher.as_str()).collect()
+}
 
 /// Render and write an audit's report folder.
 pub fn write_audit_report(dir: &Path, audit: &Audit) -> Result<()> {
@@ -319,10 +342,8 @@ impl Exporter<Audit> for Html {
         let names: Vec<String> = s.pitchers.iter().map(|p| p.pitcher.clone()).collect();
         let stems: std::collections::BTreeMap<String, String> = names.iter().cloned().zip(unique_stems(&names)).collect();
         let ok = s.pitchers.iter().filter(|p| p.is_ok()).count();
-        let inline = |pitcher: &str| {
-            ok <= INLINE_ALL_CHARTS_UP_TO
-                || s.pitchers.iter().any(|p| p.pitcher == pitcher && (p.significant == Some(true) || !p.tells.is_empty()))
-        };
+        let shown = inlined_pitchers(s);
+        let inline = |pitcher: &str| shown.contains(pitcher);
         let mut svgs = html::ChartSvgs::default();
         figures::for_each_chart(s, &stems, |pitcher, chart| {
             sink.put(&format!("charts/{}.svg", chart.name), chart.svg.as_bytes())?;
@@ -340,6 +361,7 @@ impl Exporter<Audit> for Html {
             Ok(())
         })?;
         svgs.omitted = ok > INLINE_ALL_CHARTS_UP_TO;
+        svgs.shown = shown.len();
         sink.put("index.html", html::render(s, &audit.tests, &svgs, &stems)?.as_bytes())
     }
 }
