@@ -22,40 +22,12 @@ pub fn environment(name: &'static str, source: &'static str) -> Result<minijinja
     for (n, text) in [("sort_table.html", SORT_TABLE), (name, source)] {
         env.add_template(n, text).map_err(|e| Error::Internal(format!("template {n}: {e}")))?;
     }
-    env.add_filter("thousands", |v: minijinja::Value| match i64::try_from(v.clone()) {
-        Ok(n) => thousands(n),
+    // Counts grouped by thousands (`charts::fmt_n`); anything else as it is.
+    env.add_filter("thousands", |v: minijinja::Value| match u64::try_from(v.clone()) {
+        Ok(n) => super::charts::fmt_n(n),
         Err(_) => v.to_string(),
     });
     Ok(env)
-}
-
-/// A whole number with its thousands grouped by commas: 1419512 →
-/// "1,419,512".
-pub fn thousands(n: i64) -> String {
-    let digits = n.unsigned_abs().to_string();
-    let mut out = String::with_capacity(digits.len() + digits.len() / 3 + 1);
-    if n < 0 {
-        out.push('-');
-    }
-    for (i, c) in digits.chars().enumerate() {
-        if i > 0 && (digits.len() - i).is_multiple_of(3) {
-            out.push(',');
-        }
-        out.push(c);
-    }
-    out
-}
-
-#[cfg(test)]
-mod thousands_tests {
-    /// Grouping by hand: under a thousand unchanged, then a comma every
-    /// three digits from the right.
-    #[test]
-    fn groups_by_three() {
-        for (n, want) in [(0, "0"), (999, "999"), (1000, "1,000"), (9999, "9,999"), (1_419_512, "1,419,512"), (-12_345, "-12,345")] {
-            assert_eq!(super::thousands(n), want);
-        }
-    }
 }
 
 /// Inline SVG of each chart: the staff chart and each pitcher's charts.
