@@ -122,11 +122,6 @@ pub struct Workspace {
     /// Per fold, when cells are fixed: the count prior's strength and code
     /// table of the first fit.
     count_cache: Vec<Option<(f64, Vec<u8>)>>,
-    /// The last `prior_code_tables` took the count prior from the cache.
-    count_reused: bool,
-    /// Per fold: situation features keyed with the count prior (balls,
-    /// strikes; see `count_keyed_features`).
-    count_fixed_width: Vec<usize>,
 }
 
 impl Workspace {
@@ -163,8 +158,6 @@ impl Workspace {
             cells_fixed: false,
             sheet_cache: vec![Vec::new(); task.folds.len()],
             count_cache: vec![None; task.folds.len()],
-            count_reused: false,
-            count_fixed_width: vec![0; task.folds.len()],
         }
     }
 }
@@ -350,7 +343,7 @@ impl Workspace {
             return (0.0, 0.0);
         }
         let cached = if self.cells_fixed { self.count_cache[fi].as_ref() } else { None };
-        self.count_reused = cached.is_some();
+        let reused = cached.is_some();
         let s_count = match cached {
             Some((s, codes)) => {
                 self.count_codes.clear();
@@ -382,7 +375,7 @@ impl Workspace {
             }
         };
         let (used_c, used_b) = &self.used_entries[fi];
-        if !self.count_reused {
+        if !reused {
             code_table(&self.count_all, &self.count_oof, s_count, used_c, &mut self.count_codes);
             if self.cells_fixed {
                 self.count_cache[fi] = Some((s_count, self.count_codes.clone()));
@@ -422,19 +415,19 @@ impl Workspace {
         // The held-out rows' prior codes are read through the code tables
         // themselves (a held-out row's key is its table entry).
         let (train, test) = self.row_slots[fi].split_at(n_train);
-        let fixed_width = &mut self.count_fixed_width[fi];
-        let count_reused = self.count_reused;
+        let cells_fixed = self.cells_fixed;
         let learner = match &mut self.trees[fi] {
             Some(t) => {
-                if priors_on && count_reused {
-                    // The count prior is the learner's already: only the
-                    // batter prior changes.
+                if priors_on && cells_fixed {
+                    // The learner has fitted this fold before, so the count
+                    // prior it holds is the one kept since that first fit
+                    // (`prior_code_tables`): only the batter prior changes.
                     t.training_table(1).copy_from_slice(bc);
-                    t.rewrite_features(prior_col0 + k..prior_col0 + 2 * k, |_, dst| batter_prior_codes(bc, k, train, dst));
+                    t.rewrite_features(prior_col0 + k..prior_col0 + 2 * k, |_, dst| prior_codes(None, bc, k, train, dst));
                 } else if priors_on {
                     // The tables first: the rewrite reads present codes off them.
-                    fill_training_tables(t, cc, bc, k, *fixed_width);
-                    t.rewrite_features(prior_col0..prior_col0 + 2 * k, |_, dst| prior_codes(cc, bc, k, train, dst));
+                    fill_training_tables(t, cc, bc, k);
+                    t.rewrite_features(prior_col0..prior_col0 + 2 * k, |_, dst| prior_codes(Some(cc), bc, k, train, dst));
                 }
                 t
             }
@@ -465,10 +458,9 @@ impl Workspace {
                             row[k..].copy_from_slice(fixed);
                         }
                     }
-                    *fixed_width = extra;
                     let g = t.set_training_keys((prior_col0 + k..prior_col0 + 2 * k).collect(), &keys(|s| s.2), PARTS * gb, false);
                     debug_assert_eq!(g, 1);
-                    fill_training_tables(&mut t, cc, bc, k, extra);
+                    fill_training_tables(&mut t, cc, bc, k);
                 }
                 // Candidate splits among the situation features: one fewer
                 // than their distinct codes over the training rows, as the
@@ -614,25 +606,14 @@ impl Workspace {
 }
 
 /// The training key tables of a fold's learner: the count prior's codes
-/// (then the fixed balls and strikes, `fixed_width` of them, left as they
-/// are) and the batter prior's, from the code tables.
-fn fill_training_tables(t: &mut crate::model::fast_tree::FastTreeWorkspace, cc: &[u8], bc: &[u8], k: usize, fixed_width: usize) {
-    for (row, codes) in t.training_table(0).chunks_exact_mut(k + fixed_width).zip(cc.chunks_exact(k)) {
+/// (the group's first `k` features; its balls and strikes after them are
+/// left as they are) and the batter prior's, from the code tables.
+fn fill_training_tables(t: &mut crate::model::fast_tree::FastTreeWorkspace, cc: &[u8], bc: &[u8], k: usize) {
+    let width = t.training_width(0);
+    for (row, codes) in t.training_table(0).chunks_exact_mut(width).zip(cc.chunks_exact(k)) {
         row[..k].copy_from_slice(codes);
     }
     t.training_table(1).copy_from_slice(bc);
-}
-
-/// The batter prior's codes of the training rows at `slots` into `dst`
-/// (its `k` columns), as [`prior_codes`] writes them.
-fn batter_prior_codes(batter_codes: &[u8], k: usize, slots: &[(u32, u32, u32)], dst: &mut [u8]) {
-    let n = slots.len();
-    for (i, s) in slots.iter().enumerate() {
-        let b = &batter_codes[s.2 as usize..s.2 as usize + k];
-        for cls in 0..k {
-            dst[cls * n + i] = b[cls];
-        }
-    }
 }
 
 /// The features keyed by a training row's count-table entry (game-fold
@@ -672,16 +653,20 @@ fn count_keyed_features(task: &PitcherTask, rows: &[u32], keys: &[u32], n_keys: 
 
 /// The prior features' codes of the training rows at `slots` (row,
 /// count-table place, batter-table place) into `dst`: the `k` count-prior
-/// columns, then the `k` batter-prior columns, `slots.len()` codes each. One
-/// pass over the rows reads each row's two table entries once.
-fn prior_codes(count_codes: &[u8], batter_codes: &[u8], k: usize, slots: &[(u32, u32, u32)], dst: &mut [u8]) {
+/// columns when `count_codes` is given, then the `k` batter-prior columns,
+/// `slots.len()` codes each. One pass over the rows reads each row's table
+/// entries once.
+fn prior_codes(count_codes: Option<&[u8]>, batter_codes: &[u8], k: usize, slots: &[(u32, u32, u32)], dst: &mut [u8]) {
     let n = slots.len();
+    let first_batter = if count_codes.is_some() { k } else { 0 };
     for (i, s) in slots.iter().enumerate() {
-        let c = &count_codes[s.1 as usize..s.1 as usize + k];
-        let b = &batter_codes[s.2 as usize..s.2 as usize + k];
-        for cls in 0..k {
-            dst[cls * n + i] = c[cls];
-            dst[(k + cls) * n + i] = b[cls];
+        if let Some(cc) = count_codes {
+            for (cls, &c) in cc[s.1 as usize..s.1 as usize + k].iter().enumerate() {
+                dst[cls * n + i] = c;
+            }
+        }
+        for (cls, &b) in batter_codes[s.2 as usize..s.2 as usize + k].iter().enumerate() {
+            dst[(first_batter + cls) * n + i] = b;
         }
     }
 }

@@ -489,6 +489,11 @@ impl FastTreeWorkspace {
         self.keyed.len() - 1
     }
 
+    /// Features in training key group `group` (the table's width).
+    pub fn training_width(&self, group: usize) -> usize {
+        self.keyed[group].features.len()
+    }
+
     /// The code table of training key group `group` (`n_keys × width` codes).
     pub fn training_table(&mut self, group: usize) -> &mut [u8] {
         &mut self.keyed[group].table
