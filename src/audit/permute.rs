@@ -95,19 +95,19 @@ pub fn keyed_rng(domain: &[u8], seed: u64, pitcher: &str, j: u64) -> ChaCha8Rng 
     // A test draws its streams one after another with the same key, so
     // each thread keeps the last key it hashed.
     thread_local! {
-        static LAST: std::cell::RefCell<(Vec<u8>, u64, String, [u8; 32])> = const {
-            std::cell::RefCell::new((Vec::new(), 0, String::new(), [0; 32]))
-        };
+        static LAST: std::cell::RefCell<Option<(Vec<u8>, u64, String, [u8; 32])>> = const { std::cell::RefCell::new(None) };
     }
-    let key = LAST.with_borrow_mut(|last| {
-        if last.0.is_empty() || last.0 != domain || last.1 != seed || last.2 != pitcher {
+    let key = LAST.with_borrow_mut(|last| match last {
+        Some((d, s, p, key)) if d.as_slice() == domain && *s == seed && p.as_str() == pitcher => *key,
+        _ => {
             let mut h = Sha256::new();
             h.update(domain);
             h.update(seed.to_le_bytes());
             h.update(pitcher.as_bytes());
-            *last = (domain.to_vec(), seed, pitcher.to_string(), h.finalize().into());
+            let key: [u8; 32] = h.finalize().into();
+            *last = Some((domain.to_vec(), seed, pitcher.to_string(), key));
+            key
         }
-        last.3
     });
     let mut rng = ChaCha8Rng::from_seed(key);
     rng.set_stream(j);
