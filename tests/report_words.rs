@@ -6,6 +6,19 @@ use std::path::Path;
 use tellscope::audit;
 use tellscope::settings::{ConfigFile, Overrides, Settings};
 
+/// A count as the page writes it, worked here by hand: 1180 → "1,180".
+fn grouped(n: u64) -> String {
+    let d = n.to_string();
+    let mut out = String::new();
+    for (i, c) in d.chars().enumerate() {
+        if i > 0 && (d.len() - i).is_multiple_of(3) {
+            out.push(',');
+        }
+        out.push(c);
+    }
+    out
+}
+
 fn pct(x: f64) -> String {
     format!("{:.0}%", 100.0 * x)
 }
@@ -41,7 +54,7 @@ fn tell_sentences_carry_the_summary_numbers() {
             if !t["within"].is_null() {
                 continue; // narrower versions are listed in a fold, worded the same way
             }
-            let n = t["n"].as_u64().unwrap();
+            let n = grouped(t["n"].as_u64().unwrap());
             let share = pct(t["share"].as_f64().unwrap());
             let pitch = t["pitch_type"].as_str().unwrap();
             // A sheet tell is measured against his share elsewhere; a tell
@@ -59,7 +72,7 @@ fn tell_sentences_carry_the_summary_numbers() {
                     && l.contains(&reference)
                     && (l.contains(&format!(" {share} of the time")) || t["k"].as_u64() == Some(0))
                     && match t["held_out_share"].as_f64() {
-                        Some(h) => l.contains(&format!("{} (n = {}", pct(h), t["held_out_n"])),
+                        Some(h) => l.contains(&format!("{} (n = {}", pct(h), grouped(t["held_out_n"].as_u64().unwrap()))),
                         None => true,
                     }
             });
@@ -78,5 +91,56 @@ fn tell_sentences_carry_the_summary_numbers() {
         }
     }
     assert!(checked >= 10, "only {checked} tells checked");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
+/// A pitcher the log lists with both throwing hands is shown with his usual
+/// hand, and his section says so with both counts (counted here from the
+/// CSV text).
+#[test]
+fn a_pitcher_listed_with_both_hands_is_said_so() {
+    let src = std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/plain-staff/demo-log.csv")).unwrap();
+    let mut lines = src.lines();
+    let header = lines.next().unwrap();
+    let cols: Vec<&str> = header.split(',').collect();
+    let at = |n: &str| cols.iter().position(|c| *c == n).unwrap();
+    let (pitcher, game, throws) = (at("pitcher"), at("game"), at("throws"));
+    let rows: Vec<Vec<String>> = lines.map(|l| l.split(',').map(str::to_string).collect()).collect();
+    assert!(rows.iter().all(|r| r.len() == cols.len()), "the fixture has no quoted commas");
+    let who = rows[0][pitcher].clone();
+    // His games in order of first appearance; every third one flipped.
+    let mut games: Vec<String> = Vec::new();
+    let mut out = vec![header.to_string()];
+    let (mut usual, mut flipped) = (0usize, 0usize);
+    for r in &rows {
+        let mut r = r.clone();
+        if r[pitcher] == who {
+            if !games.contains(&r[game]) {
+                games.push(r[game].clone());
+            }
+            if games.iter().position(|g| *g == r[game]).unwrap() % 3 == 2 {
+                r[throws] = if r[throws] == "L" { "R".into() } else { "L".into() };
+                flipped += 1;
+            } else {
+                usual += 1;
+            }
+        }
+        out.push(r.join(","));
+    }
+    assert!(flipped > 0 && usual > flipped);
+    let dir = std::env::temp_dir().join(format!("tellscope-hands-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let log = dir.join("log.csv");
+    std::fs::write(&log, out.join("\n") + "\n").unwrap();
+    let hand = rows.iter().find(|r| r[pitcher] == who).unwrap()[throws].clone();
+    let s = Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(9), pitchers: vec![who.clone()], ..Overrides::default() }).unwrap();
+    let a = audit::run(&log, &s, false).unwrap();
+    let p = a.summary.pitchers.iter().find(|p| p.pitcher == who).unwrap();
+    assert_eq!(p.throws, hand);
+    let (word, other) = if hand == "L" { ("left", "right") } else { ("right", "left") };
+    let expected = format!("both hands ({} pitches {word}-handed, {} {other}-handed)", grouped(usual as u64), grouped(flipped as u64));
+    assert!(p.cautions.iter().any(|c| c.contains(&expected)), "{:?} lacks {expected}", p.cautions);
+    // Nobody else is said to throw with both hands.
+    assert!(a.summary.pitchers.iter().filter(|q| q.pitcher != who).all(|q| q.cautions.iter().all(|c| !c.contains("both hands"))));
     std::fs::remove_dir_all(&dir).ok();
 }

@@ -458,7 +458,7 @@ pub fn note(figures: &Option<LocationFigures>, missing: bool, settings: &Setting
     } else {
         format!(
             "No location figures: no pitch type of his has {} located pitches to learn from and {} to score.",
-            settings.location.min_train(), settings.location.min_test()
+            crate::domain::numbers::fmt_n(settings.location.min_train()), crate::domain::numbers::fmt_n(settings.location.min_test())
         )
     })
 }

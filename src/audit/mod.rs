@@ -149,7 +149,7 @@ pub fn input_notes(sit: &Situations, source: &ingest::SourceInfo, left_out: &str
     if source.rows_rejected > 0 {
         notes.push(format!(
             "{} of {} input rows broke the data contract and were left out; they are listed with reasons in rejected.csv.",
-            source.rows_rejected, source.rows_read
+            crate::domain::numbers::fmt_n(source.rows_rejected), crate::domain::numbers::fmt_n(source.rows_read)
         ));
     }
     notes

@@ -4,6 +4,7 @@
 
 use super::summary::*;
 use super::{count_summaries, headline, location, mix_of, pitches_by_team, sheet, wording, Tested};
+use crate::domain::levels::Hand;
 use crate::evaluate::task::PitcherTask;
 use crate::evaluate::split::PitcherEvaluation;
 use crate::ingest::PitchLog;
@@ -20,11 +21,31 @@ pub(super) struct About {
     pitches_by_team: Vec<TeamPitches>,
     /// With --team: his pitches for other clubs, in words.
     team_caution: Option<String>,
+    /// When the log lists him with both throwing hands, in words.
+    hand_caution: Option<String>,
 }
 
 impl About {
     pub(super) fn of(log: &PitchLog, task: &PitcherTask, settings: &Settings) -> About {
-        let throws = log.throws[task.rows[0] as usize].as_str().to_string();
+        // His usual hand; a pitcher listed with both hands is said so.
+        let first = log.throws[task.rows[0] as usize];
+        let same = task.rows.iter().filter(|&&r| log.throws[r as usize] == first).count();
+        let other = task.rows.len() - same;
+        let usual = match first {
+            _ if other <= same => first,
+            Hand::L => Hand::R,
+            Hand::R => Hand::L,
+        };
+        let throws = usual.as_str().to_string();
+        let hand_caution = (other > 0).then(|| {
+            let (n_usual, n_other) = if usual == first { (same, other) } else { (other, same) };
+            let (hand, other_hand) = if usual == Hand::L { ("left", "right") } else { ("right", "left") };
+            format!(
+                "The log lists him throwing with both hands ({} pitches {hand}-handed, {} {other_hand}-handed): batter side and platoon are read pitch by pitch, and he is shown as a {hand}-handed pitcher. If he throws with one hand, check the log's `throws` column.",
+                crate::domain::numbers::fmt_n(n_usual),
+                crate::domain::numbers::fmt_n(n_other),
+            )
+        });
         let mut pitches_by_season = BTreeMap::new();
         for &r in &task.rows {
             *pitches_by_season.entry(log.season[r as usize]).or_insert(0usize) += 1;
@@ -38,7 +59,7 @@ impl About {
                 format!("{w} All of them are used here, since they are all his habits; how he pitched for another club may differ from how he pitches for this one.")
             })
         });
-        About { throws, pitches_by_season, pitches_by_team, team_caution }
+        About { throws, pitches_by_season, pitches_by_team, team_caution, hand_caution }
     }
 }
 
@@ -81,12 +102,12 @@ impl PitcherResult {
 pub(super) fn insufficient(task: &PitcherTask, about: About, settings: &Settings) -> PitcherResult {
     let reason = format!(
         "{} pitches in the log ({}); the models could learn from at most {} of them and score {}, and at least {} to learn from and {} to score are needed before any figure is shown",
-        task.rows.len(),
-        about.pitches_by_season.iter().map(|(y, n)| format!("{n} in {y}")).collect::<Vec<_>>().join(", "),
-        task.n_train(),
-        task.n_test(),
-        settings.audit.min_train_pitches(),
-        settings.audit.min_test_pitches()
+        crate::domain::numbers::fmt_n(task.rows.len()),
+        about.pitches_by_season.iter().map(|(y, n)| format!("{} in {y}", crate::domain::numbers::fmt_n(*n))).collect::<Vec<_>>().join(", "),
+        crate::domain::numbers::fmt_n(task.n_train()),
+        crate::domain::numbers::fmt_n(task.n_test()),
+        crate::domain::numbers::fmt_n(settings.audit.min_train_pitches()),
+        crate::domain::numbers::fmt_n(settings.audit.min_test_pitches())
     );
     PitcherResult::Insufficient(Box::new(Insufficient {
         name: task.name.clone(),
@@ -203,7 +224,7 @@ pub(super) fn scored(run: &Run, task: &PitcherTask, about: About, at: usize) -> 
     let counts = count_summaries(task, o, his, names, settings);
     let (margin, lift_margin) = margins(task, o);
     let arsenal_changes = arsenal_changes(task, names, &test_mix, settings);
-    let mut cautions: Vec<String> = about.team_caution.iter().cloned().collect();
+    let mut cautions: Vec<String> = about.team_caution.iter().chain(&about.hand_caution).cloned().collect();
     cautions.extend(cautions_of(task, o, margin, &mix, &test_mix, &arsenal_changes));
     let rules = wording::rules(task, &o.scored, names);
     let headline = headline(&sheet_cells, &flagged, &task.evaluation.tells_checked_on);
@@ -335,7 +356,7 @@ fn cautions_of(
                 100.0 * c.after,
                 task.evaluation.tells_checked_on,
                 100.0 * c.before,
-                o.scored.unseen
+                crate::domain::numbers::fmt_n(o.scored.unseen)
             )
         } else {
             format!(

@@ -135,7 +135,7 @@ pub fn cell_phrase(c: &SheetCell) -> String {
         c.count,
         c.top_pitch,
         crate::domain::numbers::pct(c.top_share),
-        c.n,
+        crate::domain::numbers::fmt_n(c.n),
         crate::domain::numbers::pct(c.season_share)
     )
 }

@@ -1,7 +1,7 @@
 //! Words for the report: situations, tells, advice and the model's rules,
 //! each sentence built from the same values that `summary.json` carries.
 
-use crate::domain::numbers::{pct, q_text};
+use crate::domain::numbers::{fmt_n, pct, q_text};
 use crate::audit::summary::RuleSummary;
 use crate::evaluate::fit::Scored;
 use crate::evaluate::task::{FeatureKind, PitcherTask};
@@ -88,14 +88,14 @@ pub fn tell_sentence(t: &TellTest, test_label: &str) -> String {
             "{sit} he threw his {} {} of the time (n = {}) against {} otherwise; {}",
             t.pitch_type,
             pct(t.share),
-            t.n,
+            fmt_n(t.n),
             pct(t.baseline_share),
             q_text(t.q_value)
         ),
         Direction::Less if t.k == 0 => format!(
             "{sit} he never threw his {} (0 of {} pitches) against {} otherwise; {}",
             t.pitch_type,
-            t.n,
+            fmt_n(t.n),
             pct(t.baseline_share),
             q_text(t.q_value)
         ),
@@ -103,7 +103,7 @@ pub fn tell_sentence(t: &TellTest, test_label: &str) -> String {
             "{sit} he threw his {} only {} of the time (n = {}) against {} otherwise; {}",
             t.pitch_type,
             pct(t.share),
-            t.n,
+            fmt_n(t.n),
             pct(t.baseline_share),
             q_text(t.q_value)
         ),
@@ -118,9 +118,9 @@ fn held_phrase(t: &TellTest, test_label: &str) -> String {
         _ => String::new(),
     };
     match (t.verdict, t.held_out_share) {
-        (crate::tells::Verdict::Held, Some(h)) => format!("; in {test_label} it held at {} (n = {}{interval})", pct(h), t.held_out_n),
-        (crate::tells::Verdict::Faded, Some(h)) => format!("; in {test_label} it faded: {} (n = {}{interval})", pct(h), t.held_out_n),
-        (_, Some(h)) => format!("; in {test_label}: {} (n = {}{interval}), too few pitches to tell whether it held", pct(h), t.held_out_n),
+        (crate::tells::Verdict::Held, Some(h)) => format!("; in {test_label} it held at {} (n = {}{interval})", pct(h), fmt_n(t.held_out_n)),
+        (crate::tells::Verdict::Faded, Some(h)) => format!("; in {test_label} it faded: {} (n = {}{interval})", pct(h), fmt_n(t.held_out_n)),
+        (_, Some(h)) => format!("; in {test_label}: {} (n = {}{interval}), too few pitches to tell whether it held", pct(h), fmt_n(t.held_out_n)),
         _ => format!("; no pitches in this situation in {test_label} to check it"),
     }
 }
@@ -134,14 +134,14 @@ fn beyond_sentence(t: &TellTest, sit: &str, test_label: &str) -> String {
             "{sit} he threw his {} {} of the time (n = {}), where his count and batter-side habits alone would give {expected}; {}",
             t.pitch_type,
             pct(t.share),
-            t.n,
+            fmt_n(t.n),
             q_text(t.q_value)
         ),
         Direction::Less => format!(
             "{sit} he threw his {} only {} of the time (n = {}), where his count and batter-side habits alone would give {expected}; {}",
             t.pitch_type,
             pct(t.share),
-            t.n,
+            fmt_n(t.n),
             q_text(t.q_value)
         ),
     };
@@ -178,8 +178,8 @@ pub fn location_sentence(t: &TellTest, test_label: &str) -> String {
         }
     };
     let main = match t.direction {
-        Direction::More => format!("{sit} his {} went {place} {} of the time (n = {}) {against}; {}", t.pitch_type, pct(t.share), t.n, q_text(t.q_value)),
-        Direction::Less => format!("{sit} his {} went {place} only {} of the time (n = {}) {against}; {}", t.pitch_type, pct(t.share), t.n, q_text(t.q_value)),
+        Direction::More => format!("{sit} his {} went {place} {} of the time (n = {}) {against}; {}", t.pitch_type, pct(t.share), fmt_n(t.n), q_text(t.q_value)),
+        Direction::Less => format!("{sit} his {} went {place} only {} of the time (n = {}) {against}; {}", t.pitch_type, pct(t.share), fmt_n(t.n), q_text(t.q_value)),
     };
     format!("{main}{}.", held_phrase(t, test_label))
 }
@@ -255,7 +255,7 @@ pub fn advice(t: &TellTest, situation_mix: &[(String, f64)], per_season: f64) ->
                 pct(t.share),
                 mix_text.join(", "),
                 (change * 100.0).round(),
-                moved
+                fmt_n(moved.max(0))
             )
         }
         Direction::Less => format!(
@@ -265,7 +265,7 @@ pub fn advice(t: &TellTest, situation_mix: &[(String, f64)], per_season: f64) ->
             pct(t.share),
             mix_text.join(", "),
             (change * 100.0).round(),
-            moved
+            fmt_n(moved.max(0))
         ),
     };
     format!("{faded}{text}")
@@ -332,7 +332,7 @@ pub fn rules(task: &PitcherTask, scored: &Scored, names: &[String]) -> Vec<RuleS
         let top_pitch = names[task.class_types[top] as usize].clone();
         let when = if conditions.is_empty() { "in every situation".to_string() } else { conditions.join(", ") };
         out.push(RuleSummary {
-            text: format!("When {when}: {top_pitch} {} of {} training pitches.", pct(share), support),
+            text: format!("When {when}: {top_pitch} {} of {} training pitches.", pct(share), fmt_n(support)),
             conditions,
             support: support as usize,
             top_pitch,
@@ -348,6 +348,29 @@ mod tests {
 
     // Worked by hand: others 0.10 and 0.30 must grow to 0.60 in all; the
     // smaller rises to meet the larger (0.30), then both rise to 0.30 each.
+    /// The scored dates sit with the scored pitches' count, not after the
+    /// clause that follows it (worked by hand).
+    #[test]
+    fn scored_dates_go_with_the_scored_pitches() {
+        let mut e = crate::evaluate::split::PitcherEvaluation {
+            scheme: "rolling",
+            train: "his earlier games of 2026".into(),
+            scored: "his last 25 of 32 games of 2026 (2,262 pitches), in 4 blocks by date, each scored by a model fitted on his games before it; his first 7 games only trained the models".into(),
+            n_scored: 2262,
+            scored_from: Some("2026-05-10".into()),
+            scored_to: Some("2026-09-27".into()),
+            scored_games: 25,
+            tells_checked_on: "his 2026 games".into(),
+        };
+        assert_eq!(
+            evaluation_sentence(&e),
+            "How he was scored: his last 25 of 32 games of 2026 (2,262 pitches, 2026-05-10 to 2026-09-27), in 4 blocks by date, each scored by a model fitted on his games before it; his first 7 games only trained the models; the models learned from his earlier games of 2026. An opponent could have done the same with the games he had seen."
+        );
+        e.scored = "every game of 2026, each scored by a model fitted on his other games there (5 folds)".into();
+        e.scored_to = e.scored_from.clone();
+        assert!(evaluation_sentence(&e).starts_with("How he was scored: every game of 2026, each scored by a model fitted on his other games there (5 folds) (2026-05-10); the models"));
+    }
+
     #[test]
     fn rebalance_fills_the_least_used_first() {
         let o = vec![("a".to_string(), 0.10), ("b".to_string(), 0.30)];
@@ -365,13 +388,20 @@ mod tests {
 /// from a model fitted on everything of his before it."
 pub fn evaluation_sentence(e: &crate::evaluate::split::PitcherEvaluation) -> String {
     let dates = match (&e.scored_from, &e.scored_to) {
-        (Some(a), Some(b)) if a != b => format!(" ({a} to {b})"),
-        (Some(a), _) => format!(" ({a})"),
+        (Some(a), Some(b)) if a != b => format!("{a} to {b}"),
+        (Some(a), _) => a.clone(),
         _ => String::new(),
     };
+    // The dates go with the scored pitches' count when the text gives one,
+    // so they never read as the dates of a clause after it.
+    let scored = match e.scored.find(" pitches)") {
+        Some(at) if !dates.is_empty() => format!("{} pitches, {dates}{}", &e.scored[..at], &e.scored[at + " pitches".len()..]),
+        _ if !dates.is_empty() => format!("{} ({dates})", e.scored),
+        _ => e.scored.clone(),
+    };
     format!(
-        "How he was scored: {}{dates}; the models learned from {}. An opponent could have done the same with the games he had seen.",
-        e.scored, e.train
+        "How he was scored: {scored}; the models learned from {}. An opponent could have done the same with the games he had seen.",
+        e.train
     )
 }
 
@@ -386,7 +416,7 @@ pub fn beyond_short(t: &TellTest, test_label: &str) -> String {
         (crate::tells::Verdict::Faded, Some(h)) => format!("; faded to {} in {test_label}", pct(h)),
         _ => String::new(),
     };
-    format!("{sit}: {} {} where his count and side habits give {expected} (n = {}{check})", t.pitch_type, pct(t.share), t.n)
+    format!("{sit}: {} {} where his count and side habits give {expected} (n = {}{check})", t.pitch_type, pct(t.share), fmt_n(t.n))
 }
 
 /// Whether a tell costs him, in a coach's words, with the figures behind it.
@@ -395,7 +425,7 @@ pub fn cost_sentence(t: &TellTest, c: &crate::tells::TellCost) -> String {
     let figures = format!(
         "whiffs {} of {} swings against {} expected from {} (difference {:+.0} points, 95% interval {:+.0} to {:+.0}); called and swinging strikes {} against {}; in play {} against {}",
         pct(c.whiff_rate),
-        c.swings,
+        fmt_n(c.swings),
         pct(c.expected_whiff_rate),
         c.compared_with,
         100.0 * (c.whiff_rate - c.expected_whiff_rate),
@@ -419,7 +449,7 @@ pub fn cost_sentence(t: &TellTest, c: &crate::tells::TellCost) -> String {
             "{}: predictable, and it may be costing him, but the evidence is thin ({}, {} swings) — {figures}. Worth watching; no change is suggested on this evidence yet.",
             capitalize(&format!("his {} {sit}", t.pitch_type)),
             q_text(c.q_value),
-            c.swings
+            fmt_n(c.swings)
         )
     } else {
         format!(
@@ -459,7 +489,7 @@ pub fn league_lines(p: &crate::audit::summary::PitcherSummary, yardstick: &str) 
                 c.count,
                 c.top_pitch,
                 pct(c.top_share),
-                c.n,
+                fmt_n(c.n),
                 pct(c.top_share_low),
                 pct(c.top_share_high),
                 pct(c.league_share.unwrap_or(0.0)),

@@ -155,10 +155,10 @@ fn prepare(log: &PitchLog, sit: &Situations, p: u32, rows: [Vec<u32>; 2], labels
                 pitcher: p,
                 why: format!(
                     "Only {} pitches in {label}: each part of the period would be guessed by a model fitted on about {} of his other pitches there; at least {} to train on and {} to score are needed in each period before any figure is shown.",
-                    f.task.rows.len(),
-                    f.cross.n_train,
-                    settings.audit.min_train_pitches(),
-                    settings.audit.min_test_pitches()
+                    crate::domain::numbers::fmt_n(f.task.rows.len()),
+                    crate::domain::numbers::fmt_n(f.cross.n_train),
+                    crate::domain::numbers::fmt_n(settings.audit.min_train_pitches()),
+                    crate::domain::numbers::fmt_n(settings.audit.min_test_pitches())
                 ),
                 rows,
             };

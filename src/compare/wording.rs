@@ -81,14 +81,14 @@ pub fn change_text(c: &Change, before: &str, after: &str) -> String {
             (Some(count), false) => format!(
                 "{count} counts: {} (n = {} and {}), {q}.",
                 share_move(&t, c.before, c.after),
-                c.n_before,
-                c.n_after
+                crate::domain::numbers::fmt_n(c.n_before),
+                crate::domain::numbers::fmt_n(c.n_after)
             ),
             (Some(count), true) => format!(
                 "{count} counts, among the pitches he threw in both periods: {} (n = {} and {}), {q}.",
                 share_move(&t, c.before, c.after),
-                c.n_before,
-                c.n_after
+                crate::domain::numbers::fmt_n(c.n_before),
+                crate::domain::numbers::fmt_n(c.n_after)
             ),
             (None, false) => format!(
                 "Overall mix: {} of pitches (in all, {:.0} of every 100 pitches changed type), {q}.",
@@ -108,8 +108,8 @@ pub fn change_text(c: &Change, before: &str, after: &str) -> String {
                 "Where his {t} goes: the share thrown {} went from {sb} to {sa} (in all, {:.0} of every 100 went to a different region; n = {} and {}), {q} among the run's location tests.",
                 crate::audit::wording::region_phrase(&region),
                 100.0 * c.effect,
-                c.n_before,
-                c.n_after
+                crate::domain::numbers::fmt_n(c.n_before),
+                crate::domain::numbers::fmt_n(c.n_after)
             )
         }
         "predictability" => {
@@ -144,9 +144,9 @@ pub fn change_text(c: &Change, before: &str, after: &str) -> String {
                 "{lead}: {} he threw the {t} {} — {sb} in {before} (n = {}; {} otherwise), {sa} in {after} (n = {}; {} otherwise); {evidence}.",
                 situation_phrase(&situation_of(c)),
                 lean(c),
-                c.n_before,
+                crate::domain::numbers::fmt_n(c.n_before),
                 share_text(c.baseline_before.unwrap_or(0.0)),
-                c.n_after,
+                crate::domain::numbers::fmt_n(c.n_after),
                 share_text(c.baseline_after.unwrap_or(0.0)),
             )
         }

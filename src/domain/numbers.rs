@@ -2,6 +2,19 @@
 //! change in points or bits per pitch is written, so the page, the charts
 //! and the terminal cannot spell one two ways.
 
+/// A count for a reader: `1234567` as `1,234,567`.
+pub fn fmt_n<N: TryInto<u64>>(n: N) -> String {
+    let digits = n.try_into().map_or_else(|_| "?".to_string(), |n: u64| n.to_string());
+    let mut out = String::new();
+    for (i, c) in digits.chars().enumerate() {
+        if i > 0 && (digits.len() - i).is_multiple_of(3) {
+            out.push(',');
+        }
+        out.push(c);
+    }
+    out
+}
+
 /// A p- or q-value in a table: three decimals, or "< 0.001".
 pub fn p_text(p: f64) -> String {
     if p < 0.001 {

@@ -1,6 +1,7 @@
 //! Held-out schemes. Models are always scored on games they were not
 //! fitted on, and later than every game they were fitted on.
 
+use crate::domain::numbers::fmt_n;
 use crate::error::{Error, Result};
 use crate::ingest::PitchLog;
 use serde::Serialize;
@@ -237,23 +238,24 @@ impl PitcherPlan {
             format!(
                 "his {} games of {latest} ({} pitches), {per_block} scored by a model fitted on everything of his before it",
                 scored_games.len(),
-                plan.evaluation.n_scored
+                fmt_n(plan.evaluation.n_scored as u64)
             )
         } else {
             format!(
                 "his last {} of {n_games} games of {latest} ({} pitches), {per_block} scored by a model fitted on his games before it; his first {} games only trained the models",
                 scored_games.len(),
-                plan.evaluation.n_scored,
+                fmt_n(plan.evaluation.n_scored as u64),
                 n_games - scored_games.len()
             )
         };
         plan.evaluation.train = match earlier_seasons.as_slice() {
             [] => format!("his earlier games of {latest}"),
-            [one] => format!("his {one} games ({n_earlier} pitches) and his earlier games of {latest}"),
+            [one] => format!("his {one} games ({} pitches) and his earlier games of {latest}", fmt_n(n_earlier as u64)),
             many => format!(
-                "his games of {}-{} ({n_earlier} pitches) and his earlier games of {latest}",
+                "his games of {}-{} ({} pitches) and his earlier games of {latest}",
                 many[0],
-                many[many.len() - 1]
+                many[many.len() - 1],
+                fmt_n(n_earlier as u64)
             ),
         };
         plan

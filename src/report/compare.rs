@@ -4,7 +4,7 @@
 //! `summary.json`, `changes.csv`, `rejected.csv` and the charts under
 //! `charts/` as SVG and PNG.
 
-use crate::domain::numbers::{bits_text, p_text, points, q_text, share_text};
+use crate::domain::numbers::{bits_text, fmt_n, p_text, points, q_text, share_text};
 use super::charts::{self, Chart, ChartError};
 use super::csv::{rejected_csv, Table};
 use super::export::{Csv, Exporter, Html, Json, Sink};
@@ -437,8 +437,8 @@ fn tell_rows(p: &PitcherChanges) -> Vec<TellRow> {
             status: kind_text(&c.kind).into(),
             situation: situation_text(c),
             pitch: format!("{}{}", c.pitch_type.clone().unwrap_or_default(), if c.direction.as_deref() == Some("less") { " (avoided)" } else { "" }),
-            before: format!("{} (n = {}; {} otherwise)", share_text(c.before), c.n_before, share_text(c.baseline_before.unwrap_or(0.0))),
-            after: format!("{} (n = {}; {} otherwise)", share_text(c.after), c.n_after, share_text(c.baseline_after.unwrap_or(0.0))),
+            before: format!("{} (n = {}; {} otherwise)", share_text(c.before), fmt_n(c.n_before), share_text(c.baseline_before.unwrap_or(0.0))),
+            after: format!("{} (n = {}; {} otherwise)", share_text(c.after), fmt_n(c.n_after), share_text(c.baseline_after.unwrap_or(0.0))),
             q: c.q.map(p_text).unwrap_or_else(|| "not tested".into()),
             tell_q: format!(
                 "{} / {}",

@@ -22,9 +22,9 @@ pub fn environment(name: &'static str, source: &'static str) -> Result<minijinja
     for (n, text) in [("sort_table.html", SORT_TABLE), (name, source)] {
         env.add_template(n, text).map_err(|e| Error::Internal(format!("template {n}: {e}")))?;
     }
-    // Counts grouped by thousands (`charts::fmt_n`); anything else as it is.
+    // Counts grouped by thousands (`numbers::fmt_n`); anything else as it is.
     env.add_filter("thousands", |v: minijinja::Value| match u64::try_from(v.clone()) {
-        Ok(n) => super::charts::fmt_n(n),
+        Ok(n) => numbers::fmt_n(n),
         Err(_) => v.to_string(),
     });
     Ok(env)
@@ -164,12 +164,12 @@ fn location_text(p: &crate::audit::summary::PitcherSummary, fdr: f64) -> String 
         numbers::pct(l.model_accuracy),
         numbers::pct(l.prior_accuracy),
         l.bits_gained,
-        l.n,
+        numbers::fmt_n(l.n),
         p_text(l.p_value),
         p_text(l.q_value)
     );
     if !l.left_out.is_empty() {
-        let names: Vec<String> = l.left_out.iter().map(|t| format!("{} ({} located)", t.pitch_type, t.located_pitches)).collect();
+        let names: Vec<String> = l.left_out.iter().map(|t| format!("{} ({} located)", t.pitch_type, numbers::fmt_n(t.located_pitches))).collect();
         s.push_str(&format!(" Too few located pitches to include: {}.", names.join(", ")));
     }
     s
@@ -379,7 +379,7 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
             100.0 * (c.whiff_rate_called - c.expected_whiff_rate),
             100.0 * c.diff_low,
             100.0 * c.diff_high,
-            c.called_swings
+            numbers::fmt_n(c.called_swings)
         )),
         charts_omitted => charts.omitted,
         charts_shown => charts.shown,

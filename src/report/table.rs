@@ -4,7 +4,7 @@
 use super::export::{Exporter, Sink, Table};
 use crate::audit::{wording, Audit};
 use crate::compare::Comparison;
-use crate::domain::numbers::p_cell;
+use crate::domain::numbers::{fmt_n, p_cell};
 use crate::error::Result;
 
 /// The lines, each ending in a newline, as one output.
@@ -22,12 +22,21 @@ impl Exporter<Audit> for Table<'_> {
         if s.evaluation.scheme == "rolling" {
             o.push(format!(
                 "{} pitches ({} rejected); scored: {}; {} permutations, FDR {}",
-                s.input.rows_kept, s.input.rows_rejected, s.evaluation.test, s.settings.permutations, s.settings.fdr
+                fmt_n(s.input.rows_kept),
+                fmt_n(s.input.rows_rejected),
+                s.evaluation.test,
+                fmt_n(s.settings.permutations),
+                s.settings.fdr
             ));
         } else {
             o.push(format!(
                 "{} pitches ({} rejected); trained on {}, held out {}; {} permutations, FDR {}",
-                s.input.rows_kept, s.input.rows_rejected, s.evaluation.train, s.evaluation.test, s.settings.permutations, s.settings.fdr
+                fmt_n(s.input.rows_kept),
+                fmt_n(s.input.rows_rejected),
+                s.evaluation.train,
+                s.evaluation.test,
+                fmt_n(s.settings.permutations),
+                s.settings.fdr
             ));
         }
         o.push(String::new());
@@ -109,7 +118,15 @@ impl Exporter<Comparison> for Table<'_> {
         let (b, a) = (&s.periods.before, &s.periods.after);
         o.push(format!(
             "{} ({} pitches in {} games) vs {} ({} pitches in {} games); {} tests, {} significant at FDR {}",
-            b.label, b.pitches, b.games, a.label, a.pitches, a.games, s.tests, s.significant, s.settings.fdr
+            b.label,
+            fmt_n(b.pitches),
+            fmt_n(b.games),
+            a.label,
+            fmt_n(a.pitches),
+            fmt_n(a.games),
+            fmt_n(s.tests),
+            s.significant,
+            s.settings.fdr
         ));
         o.push(String::new());
         o.push(format!("{:<22} {:>7} {:>7} {:>6} {:>7} {:>8} {:>8} {:>7} {:>7}", "pitcher", "before", "after", "shift", "q", "bits B", "bits A", "q", "changes"));

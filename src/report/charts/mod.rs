@@ -142,18 +142,7 @@ pub fn file_stem(kind: &str, subject: &str) -> String {
     }
 }
 
-/// `1234567` as `1,234,567`.
-pub fn fmt_n(n: u64) -> String {
-    let digits = n.to_string();
-    let mut out = String::new();
-    for (i, c) in digits.chars().enumerate() {
-        if i > 0 && (digits.len() - i).is_multiple_of(3) {
-            out.push(',');
-        }
-        out.push(c);
-    }
-    out
-}
+pub use crate::domain::numbers::fmt_n;
 
 /// Drawing code of one chart, written once for every backend.
 pub(crate) trait Painter {
