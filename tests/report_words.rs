@@ -144,3 +144,37 @@ fn a_pitcher_listed_with_both_hands_is_said_so() {
     assert!(a.summary.pitchers.iter().filter(|q| q.pitcher != who).all(|q| q.cautions.iter().all(|c| !c.contains("both hands"))));
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A pitcher who throws one pitch on every scored pitch is told that his
+/// near-zero figures do not make him hard to read; the others are not.
+#[test]
+fn a_one_pitch_pitcher_is_not_called_hard_to_read() {
+    let src = std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/plain-staff/demo-log.csv")).unwrap();
+    let mut lines = src.lines();
+    let header = lines.next().unwrap();
+    let cols: Vec<&str> = header.split(',').collect();
+    let (pitcher, pitch_type) = (cols.iter().position(|c| *c == "pitcher").unwrap(), cols.iter().position(|c| *c == "pitch_type").unwrap());
+    let rows: Vec<Vec<String>> = lines.map(|l| l.split(',').map(str::to_string).collect()).collect();
+    let who = rows[0][pitcher].clone();
+    let out: Vec<String> = std::iter::once(header.to_string())
+        .chain(rows.iter().map(|r| {
+            let mut r = r.clone();
+            if r[pitcher] == who {
+                r[pitch_type] = "fastball".into();
+            }
+            r.join(",")
+        }))
+        .collect();
+    let dir = std::env::temp_dir().join(format!("tellscope-one-pitch-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let log = dir.join("log.csv");
+    std::fs::write(&log, out.join("\n") + "\n").unwrap();
+    let s = Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(9), ..Overrides::default() }).unwrap();
+    let a = audit::run(&log, &s, false).unwrap();
+    for p in a.summary.pitchers.iter().filter(|p| p.status == "ok") {
+        let said = p.cautions.iter().any(|c| c.contains("on every pitch scored: a hitter knows what is coming every time"));
+        assert_eq!(said, p.pitcher == who, "{}: {:?}", p.pitcher, p.cautions);
+    }
+    assert!(a.summary.pitchers.iter().any(|p| p.pitcher == who && p.status == "ok"));
+    std::fs::remove_dir_all(&dir).ok();
+}

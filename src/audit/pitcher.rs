@@ -381,6 +381,18 @@ fn cautions_of(
             task.evaluation.train, task.evaluation.scored, tvd
         ));
     }
+    // One pitch on (nearly) every scored pitch: nothing is left to guess,
+    // so a figure near zero does not mean he is hard to read.
+    if let Some((t, &share)) = test_mix.iter().max_by(|a, b| a.1.total_cmp(b.1)).filter(|(_, &s)| s >= 0.99) {
+        let (how_often, when) = if share >= 1.0 {
+            ("every pitch scored".to_string(), "every time")
+        } else {
+            (format!("{} of the pitches scored", crate::domain::numbers::pct(share)), "nearly every time")
+        };
+        cautions.push(format!(
+            "He threw his {t} on {how_often}: a hitter knows what is coming {when}, so there is little choice left for the situation to tell, and his figures and rank say nothing about how hard he is to read."
+        ));
+    }
     if o.figures.bits_gained < -margin {
         cautions.push(format!(
             "His situational guess did worse on {} than his plain pitch mix ({:+.3} bits per pitch): the tendencies learned from {} did not carry over. Something changed; see `tellscope compare`.",
