@@ -412,6 +412,11 @@ fn csv_header(path: &Path) -> Result<Vec<String>> {
 }
 
 /// Read the wanted columns (file names) of `path` as text.
+/// Files up to this size are read in one pass; a larger one (every
+/// tracked pitch there is, over a GB) three columns at a time, so its text
+/// is never held whole.
+const ONE_PASS_BYTES: u64 = 320 << 20;
+
 pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
     if !path.exists() {
         return Err(Error::Data(format!("{}: no such file; check the path", path.display())));
@@ -453,8 +458,8 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
     }
     // Columns are read a few at a time and turned into dictionary codes at
     // once, so the text of the whole file is never held in memory.
-    // A small file is read in one pass; a large one three columns at a time.
-    let group_size = if std::fs::metadata(path).map(|m| m.len()).unwrap_or(0) < 64 << 20 { keep.len().max(1) } else { 3 };
+    // A league's season or two (a few hundred MB) is read in one pass.
+    let group_size = if meta.len() <= ONE_PASS_BYTES { keep.len().max(1) } else { 3 };
     // The lines' field counts are taken while the columns are read (the
     // scan reads the file once more, on the other core).
     let read_columns = || -> Result<(Vec<(String, TextColumn)>, Option<usize>)> {
