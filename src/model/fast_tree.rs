@@ -154,6 +154,83 @@ const SPREAD: [u64; 256] = {
     t
 };
 
+/// One class run of a node's rows (every-node scan): its rows' bit sums go
+/// to `out` (the class's lanes), its wide features' codes to `hist` (the
+/// class's histogram) and its keys to `key_hist`.
+struct Run<'a> {
+    rows: &'a [u32],
+    packed: &'a [u8],
+    out: &'a mut [u32],
+    hist: &'a mut [u32],
+    /// Each wide feature's code column start and first histogram slot.
+    columns: &'a [(usize, usize)],
+    codes: &'a [u8],
+    key_hist: &'a mut [u32],
+    keys: &'a [u32],
+}
+
+impl Run<'_> {
+    /// The run's sums with `S` bytes of packed bits per row, the eight-lane
+    /// accumulators held in registers.
+    fn sum<const S: usize>(self) {
+        let mut a = [0u64; S];
+        self.sum_with(S, &mut a);
+    }
+
+    /// The same for any stride, accumulating in `acc` (`stride` words).
+    fn sum_any(self, stride: usize, acc: &mut [u64]) {
+        acc.fill(0);
+        self.sum_with(stride, acc);
+    }
+
+    #[inline(always)]
+    fn sum_with(self, s: usize, acc: &mut [u64]) {
+        let Run { rows, packed, out, hist, columns, codes, key_hist, keys } = self;
+        assert_eq!(acc.len(), s);
+        assert!(out.len() >= 8 * s);
+        let flush = |acc: &mut [u64], out: &mut [u32]| {
+            for (a, o) in acc.iter_mut().zip(out.chunks_exact_mut(8)) {
+                let v = *a;
+                if v != 0 {
+                    for (lane, o) in o.iter_mut().enumerate() {
+                        *o += ((v >> (8 * lane)) & 0xff) as u32;
+                    }
+                    *a = 0;
+                }
+            }
+        };
+        let keyed = !key_hist.is_empty();
+        let mut since_flush = 0;
+        for &p in rows {
+            let p = p as usize;
+            let row = &packed[p * s..(p + 1) * s];
+            for (a, &b) in acc.iter_mut().zip(row) {
+                *a += SPREAD[b as usize];
+            }
+            for &(col, b) in columns {
+                // SAFETY: as in `accumulate`: a wide feature's histogram has
+                // a slot for every code present among the training rows, and
+                // `col + p` is in the code columns (checked there).
+                unsafe {
+                    let slot = b + *codes.get_unchecked(col + p) as usize;
+                    debug_assert!(slot < hist.len());
+                    *hist.get_unchecked_mut(slot) += 1;
+                }
+            }
+            if keyed {
+                key_hist[keys[p] as usize] += 1;
+            }
+            since_flush += 1;
+            // A byte lane holds at most 255.
+            if since_flush == 255 {
+                flush(acc, out);
+                since_flush = 0;
+            }
+        }
+        flush(acc, out);
+    }
+}
+
 /// Cut bits of one feature.
 #[derive(Debug, Clone, Default)]
 struct FeatureCuts {
@@ -553,7 +630,27 @@ impl FastTreeWorkspace {
         counts.truncate(n_classes);
         self.n_classes = n_classes;
         self.idx.clear();
-        self.idx.extend(0..n as u32);
+        if self.options.scan == ThresholdScan::EveryNode {
+            // Rows grouped by class, in row order within a class: stable
+            // partitions keep every node's rows so, and its sums are taken
+            // one class run at a time ([`Self::accumulate`]). The every-node
+            // scan never reads the rows' order, so the tree is the same.
+            let mut at: Vec<u32> = counts
+                .iter()
+                .scan(0u32, |start, &c| {
+                    let here = *start;
+                    *start += c;
+                    Some(here)
+                })
+                .collect();
+            self.idx.resize(n, 0);
+            for (p, &l) in self.labels.iter().enumerate() {
+                self.idx[at[l as usize] as usize] = p as u32;
+                at[l as usize] += 1;
+            }
+        } else {
+            self.idx.extend(0..n as u32);
+        }
         self.spill.resize(n, 0);
         self.node_id.clear();
         self.node_id.resize(n, 0);
@@ -570,7 +667,7 @@ impl FastTreeWorkspace {
         let mut nodes = Vec::new();
         if self.splittable(n, 0, &counts) {
             self.ensure_slot(0);
-            self.accumulate(0, n, 0);
+            self.accumulate(0, n, 0, &counts);
         }
         self.grow(&mut nodes, 0, n, (0, m), 0, 0, 0, counts);
         Tree { nodes, n_classes }
@@ -760,7 +857,9 @@ impl FastTreeWorkspace {
     }
 
     /// Column sums of the cut bits over `idx[lo..hi]`, per class, into `slot`.
-    fn accumulate(&mut self, lo: usize, hi: usize, slot: usize) {
+    /// `counts`: the node's rows per class (in the every-node scan its rows
+    /// are grouped by class in that order).
+    fn accumulate(&mut self, lo: usize, hi: usize, slot: usize, counts: &[u32]) {
         let s = self.stride;
         let lanes = self.lanes;
         let h = self.hist_len;
@@ -821,42 +920,85 @@ impl FastTreeWorkspace {
             }
             None => (&[][..], 0),
         };
-        let mut since_flush = 0;
-        for &p in idx {
-            let p = p as usize;
-            assert!(p < n);
-            // SAFETY (all unchecked reads below): p < n (checked), labels
-            // are below the class count (checked by `fit`), so the slices
-            // are in range by the asserts above; a wide feature's histogram
-            // has a slot for every code up to its largest present code
-            // (`layout_hist`) and every training row's code is present;
-            // keys (one per training row, checked) are below n_keys
-            // (checked by `set_training_keys`).
-            unsafe {
-                let l = *labels.get_unchecked(p) as usize;
-                let row = packed.get_unchecked(p * s..(p + 1) * s);
-                let a = acc.get_unchecked_mut(l * s..(l + 1) * s);
-                for (a, &b) in a.iter_mut().zip(row) {
-                    *a += SPREAD[b as usize];
+        if self.options.scan == ThresholdScan::EveryNode {
+            // One class run at a time, its bit sums in registers.
+            let mut start = 0;
+            for (l, &c) in counts.iter().enumerate() {
+                let run = &idx[start..start + c as usize];
+                start += c as usize;
+                if run.is_empty() {
+                    continue;
                 }
-                let hist_l = hist.get_unchecked_mut(l * h..(l + 1) * h);
-                for &(col, b) in &columns {
-                    let slot = b + *codes.get_unchecked(col + p) as usize;
-                    debug_assert!(slot < hist_l.len());
-                    *hist_l.get_unchecked_mut(slot) += 1;
-                }
-                if n_keys > 0 {
-                    *key_hist.get_unchecked_mut(l * n_keys + *keys.get_unchecked(p) as usize) += 1;
+                let at = Run {
+                    rows: run,
+                    packed,
+                    out: &mut out[l * lanes..(l + 1) * lanes],
+                    hist: &mut hist[l * h..(l + 1) * h],
+                    columns: &columns,
+                    codes,
+                    key_hist: if n_keys > 0 { &mut key_hist[l * n_keys..(l + 1) * n_keys] } else { &mut [] },
+                    keys,
+                };
+                match s {
+                    0 => at.sum::<0>(),
+                    1 => at.sum::<1>(),
+                    2 => at.sum::<2>(),
+                    3 => at.sum::<3>(),
+                    4 => at.sum::<4>(),
+                    5 => at.sum::<5>(),
+                    6 => at.sum::<6>(),
+                    7 => at.sum::<7>(),
+                    8 => at.sum::<8>(),
+                    9 => at.sum::<9>(),
+                    10 => at.sum::<10>(),
+                    11 => at.sum::<11>(),
+                    12 => at.sum::<12>(),
+                    13 => at.sum::<13>(),
+                    14 => at.sum::<14>(),
+                    15 => at.sum::<15>(),
+                    16 => at.sum::<16>(),
+                    _ => at.sum_any(s, &mut acc[..s]),
                 }
             }
-            since_flush += 1;
-            // A byte lane holds at most 255.
-            if since_flush == 255 {
-                flush(acc, out);
-                since_flush = 0;
+            debug_assert_eq!(start, idx.len());
+        } else {
+            let mut since_flush = 0;
+            for &p in idx {
+                let p = p as usize;
+                assert!(p < n);
+                // SAFETY (all unchecked reads below): p < n (checked), labels
+                // are below the class count (checked by `fit`), so the slices
+                // are in range by the asserts above; a wide feature's histogram
+                // has a slot for every code up to its largest present code
+                // (`layout_hist`) and every training row's code is present;
+                // keys (one per training row, checked) are below n_keys
+                // (checked by `set_training_keys`).
+                unsafe {
+                    let l = *labels.get_unchecked(p) as usize;
+                    let row = packed.get_unchecked(p * s..(p + 1) * s);
+                    let a = acc.get_unchecked_mut(l * s..(l + 1) * s);
+                    for (a, &b) in a.iter_mut().zip(row) {
+                        *a += SPREAD[b as usize];
+                    }
+                    let hist_l = hist.get_unchecked_mut(l * h..(l + 1) * h);
+                    for &(col, b) in &columns {
+                        let slot = b + *codes.get_unchecked(col + p) as usize;
+                        debug_assert!(slot < hist_l.len());
+                        *hist_l.get_unchecked_mut(slot) += 1;
+                    }
+                    if n_keys > 0 {
+                        *key_hist.get_unchecked_mut(l * n_keys + *keys.get_unchecked(p) as usize) += 1;
+                    }
+                }
+                since_flush += 1;
+                // A byte lane holds at most 255.
+                if since_flush == 255 {
+                    flush(acc, out);
+                    since_flush = 0;
+                }
             }
+            flush(acc, out);
         }
-        flush(acc, out);
         self.wide_columns = columns;
         if let Some(g) = keyed {
             let w = g.features.len();
@@ -974,23 +1116,23 @@ impl FastTreeWorkspace {
             let left_smaller = mid - lo <= hi - mid;
             match (need_left, need_right) {
                 (true, true) if left_smaller => {
-                    self.accumulate(lo, mid, ls);
+                    self.accumulate(lo, mid, ls, &left_counts);
                     self.subtract(slot, ls, rs);
                 }
                 (true, true) => {
-                    self.accumulate(mid, hi, rs);
+                    self.accumulate(mid, hi, rs, &right_counts);
                     self.subtract(slot, rs, ls);
                 }
                 (true, false) if !left_smaller => {
-                    self.accumulate(mid, hi, rs);
+                    self.accumulate(mid, hi, rs, &right_counts);
                     self.subtract(slot, rs, ls);
                 }
-                (true, false) => self.accumulate(lo, mid, ls),
+                (true, false) => self.accumulate(lo, mid, ls, &left_counts),
                 (false, true) if left_smaller => {
-                    self.accumulate(lo, mid, ls);
+                    self.accumulate(lo, mid, ls, &left_counts);
                     self.subtract(slot, ls, rs);
                 }
-                (false, true) => self.accumulate(mid, hi, rs),
+                (false, true) => self.accumulate(mid, hi, rs, &right_counts),
                 (false, false) => unreachable!(),
             }
         }
