@@ -172,22 +172,34 @@ struct Run<'a> {
 impl Run<'_> {
     /// The run's sums with `S` bytes of packed bits per row, the eight-lane
     /// accumulators held in registers.
-    fn sum<const S: usize>(self) {
+    fn sum<const S: usize>(mut self) {
         let mut a = [0u64; S];
-        self.sum_with(S, &mut a);
+        self.pass(S, 0, &mut a, true);
+    }
+
+    /// The same with `8 + S2` bytes per row, in two passes over the run so
+    /// each pass's accumulators still fit in registers.
+    fn sum_wide<const S2: usize>(mut self) {
+        let mut a = [0u64; 8];
+        self.pass(8 + S2, 0, &mut a, true);
+        let mut b = [0u64; S2];
+        self.pass(8 + S2, 8, &mut b, false);
     }
 
     /// The same for any stride, accumulating in `acc` (`stride` words).
-    fn sum_any(self, stride: usize, acc: &mut [u64]) {
+    fn sum_any(mut self, stride: usize, acc: &mut [u64]) {
         acc.fill(0);
-        self.sum_with(stride, acc);
+        self.pass(stride, 0, acc, true);
     }
 
+    /// Bytes `first..first + acc.len()` of each row (`s` bytes a row) summed
+    /// into their lanes; with `extras`, the wide features' histograms and
+    /// the key counts too.
     #[inline(always)]
-    fn sum_with(self, s: usize, acc: &mut [u64]) {
-        let Run { rows, packed, out, hist, columns, codes, key_hist, keys } = self;
-        assert_eq!(acc.len(), s);
-        assert!(out.len() >= 8 * s);
+    fn pass(&mut self, s: usize, first: usize, acc: &mut [u64], extras: bool) {
+        let w = acc.len();
+        assert!(first + w <= s && self.out.len() >= 8 * (first + w));
+        let out = &mut self.out[8 * first..8 * (first + w)];
         let flush = |acc: &mut [u64], out: &mut [u32]| {
             for (a, o) in acc.iter_mut().zip(out.chunks_exact_mut(8)) {
                 let v = *a;
@@ -199,22 +211,27 @@ impl Run<'_> {
                 }
             }
         };
-        let keyed = !key_hist.is_empty();
+        let (packed, columns, codes, keys) = (self.packed, self.columns, self.codes, self.keys);
+        let (hist, key_hist) = (&mut *self.hist, &mut *self.key_hist);
+        let keyed = extras && !key_hist.is_empty();
         let mut since_flush = 0;
-        for &p in rows {
+        for &p in self.rows {
             let p = p as usize;
-            let row = &packed[p * s..(p + 1) * s];
+            let row = &packed[p * s + first..p * s + first + w];
             for (a, &b) in acc.iter_mut().zip(row) {
                 *a += SPREAD[b as usize];
             }
-            for &(col, b) in columns {
-                // SAFETY: as in `accumulate`: a wide feature's histogram has
-                // a slot for every code present among the training rows, and
-                // `col + p` is in the code columns (checked there).
-                unsafe {
-                    let slot = b + *codes.get_unchecked(col + p) as usize;
-                    debug_assert!(slot < hist.len());
-                    *hist.get_unchecked_mut(slot) += 1;
+            if extras {
+                for &(col, b) in columns {
+                    // SAFETY: as in `accumulate`: a wide feature's histogram
+                    // has a slot for every code present among the training
+                    // rows, and `col + p` is in the code columns (checked
+                    // there).
+                    unsafe {
+                        let slot = b + *codes.get_unchecked(col + p) as usize;
+                        debug_assert!(slot < hist.len());
+                        *hist.get_unchecked_mut(slot) += 1;
+                    }
                 }
             }
             if keyed {
@@ -949,14 +966,14 @@ impl FastTreeWorkspace {
                     6 => at.sum::<6>(),
                     7 => at.sum::<7>(),
                     8 => at.sum::<8>(),
-                    9 => at.sum::<9>(),
-                    10 => at.sum::<10>(),
-                    11 => at.sum::<11>(),
-                    12 => at.sum::<12>(),
-                    13 => at.sum::<13>(),
-                    14 => at.sum::<14>(),
-                    15 => at.sum::<15>(),
-                    16 => at.sum::<16>(),
+                    9 => at.sum_wide::<1>(),
+                    10 => at.sum_wide::<2>(),
+                    11 => at.sum_wide::<3>(),
+                    12 => at.sum_wide::<4>(),
+                    13 => at.sum_wide::<5>(),
+                    14 => at.sum_wide::<6>(),
+                    15 => at.sum_wide::<7>(),
+                    16 => at.sum_wide::<8>(),
                     _ => at.sum_any(s, &mut acc[..s]),
                 }
             }
