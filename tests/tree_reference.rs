@@ -999,3 +999,100 @@ fn leaf_rules_break_equal_keys_by_leaf_index() {
     assert_eq!(r.len(), 1);
     assert!(r[0].conditions.is_empty() && r[0].tell_excess == 0.0 && r[0].support == 7);
 }
+
+/// The every-node scan written the slow way (CART's scan, as scikit-learn's
+/// `DecisionTreeClassifier` considers a threshold between every two
+/// neighbouring values present in a node, recalled from its documentation),
+/// for one node's rows: each
+/// feature in index order, each code present in the node but its largest
+/// as a threshold candidate (`code <= v`, stored as the floor of the
+/// midpoint to the next present code), leaves of at least `min_leaf` rows,
+/// linfa's `f32` weighted Gini, the first lowest winning; a split must
+/// lower the node's Gini by at least `f64::EPSILON` (as the learner's
+/// default `min_impurity_decrease` of 0 does).
+fn every_node_slow(x: &FeatureMatrix, rows: &[u32], labels: &[u8], k: usize, s: TreeSettings, depth: usize, nodes: &mut Vec<Node>) -> usize {
+    let counts = |rs: &[u32]| -> Vec<u32> {
+        let mut c = vec![0u32; k];
+        for &r in rs {
+            c[labels[r as usize] as usize] += 1;
+        }
+        c
+    };
+    let gini = |c: &[u32], n: u32| -> f32 {
+        let m = n as f32;
+        1.0 - c.iter().filter(|&&v| v > 0).map(|&v| (v as f32 / m) * (v as f32 / m)).sum::<f32>()
+    };
+    let here = counts(rows);
+    let me = nodes.len();
+    nodes.push(Node { class_counts: here.clone(), split: None });
+    let n = rows.len();
+    let min_leaf = s.min_samples_leaf.max(1);
+    if depth >= s.max_depth || n < s.min_samples_split || n < 2 * min_leaf || here.iter().filter(|&&c| c > 0).count() < 2 {
+        return me;
+    }
+    let mut best: Option<(usize, u8, f32)> = None;
+    for f in 0..x.n_features() {
+        let mut present: Vec<u8> = rows.iter().map(|&r| x.get(r as usize, f)).collect();
+        present.sort_unstable();
+        present.dedup();
+        for w in present.windows(2) {
+            let (left, right): (Vec<u32>, Vec<u32>) = rows.iter().partition(|&&r| x.get(r as usize, f) <= w[0]);
+            if left.len() < min_leaf || right.len() < min_leaf {
+                continue;
+            }
+            let wr = right.len() as f32 / n as f32;
+            let score = wr * gini(&counts(&right), right.len() as u32) + (1.0 - wr) * gini(&counts(&left), left.len() as u32);
+            if best.is_none_or(|(_, _, b)| score < b) {
+                best = Some((f, ((w[0] as u16 + w[1] as u16) / 2) as u8, score));
+            }
+        }
+    }
+    let Some((feature, threshold, score)) = best else { return me };
+    if (gini(&here, n as u32) as f64 - score as f64) < f64::EPSILON {
+        return me;
+    }
+    let (l, r): (Vec<u32>, Vec<u32>) = rows.iter().partition(|&&q| x.get(q as usize, feature) <= threshold);
+    let left = every_node_slow(x, &l, labels, k, s, depth + 1, nodes);
+    let right = every_node_slow(x, &r, labels, k, s, depth + 1, nodes);
+    nodes[me].split = Some(Split { feature, threshold, left, right });
+    me
+}
+
+/// The learner's every-node scan grows the tree written the slow way above,
+/// node for node, with one-hot features from 1 to 150 (so a row's packed
+/// bits span every width the learner sums differently: up to 8 bytes, 9 to
+/// 16 in two passes, more), binned features beside them, 2 to 6 classes,
+/// and rows in scrambled order.
+#[test]
+fn every_node_scan_equals_the_slow_scan_at_every_width() {
+    let mut rng = ChaCha8Rng::seed_from_u64(2026_12_03);
+    let s = TreeSettings { max_depth: 5, min_samples_leaf: 5, min_samples_split: 10, min_impurity_decrease: 0.0 };
+    let every = GrowOptions { scan: ThresholdScan::EveryNode, prune: false };
+    for (case, n_binary) in [1usize, 5, 8, 12, 40, 64, 70, 100, 128, 136, 150].into_iter().enumerate() {
+        let (n, nf, k) = (400usize, n_binary + 3, 2 + case % 5);
+        let mut x = FeatureMatrix::new(n, (0..nf).map(|i| format!("f{i}")).collect());
+        for r in 0..n {
+            for f in 0..nf {
+                let c = if f < n_binary { rng.random_bool(0.3) as u8 } else { rng.random_range(0..=12u8) };
+                x.set(r, f, c);
+            }
+        }
+        // Labels leaning on a few features, with noise.
+        let labels: Vec<u8> = (0..n)
+            .map(|r| {
+                let lean = x.get(r, n_binary - 1) as usize + x.get(r, n_binary) as usize / 4 + x.get(r, 0) as usize;
+                ((lean + rng.random_range(0..2usize)) % k) as u8
+            })
+            .collect();
+        let mut rows: Vec<u32> = (0..n as u32).collect();
+        rows.shuffle(&mut rng);
+        let row_labels: Vec<u8> = rows.iter().map(|&r| labels[r as usize]).collect();
+        let mut ws = FastTreeWorkspace::with_options(s, every);
+        ws.prepare(&x, &rows);
+        let fast = ws.fit(&row_labels, k);
+        let mut nodes = Vec::new();
+        every_node_slow(&x, &rows, &labels, k, s, 0, &mut nodes);
+        assert!(nodes.len() > 3, "{n_binary} one-hot features: the data should grow a tree");
+        assert_eq!(fast, Tree { nodes, n_classes: k }, "{n_binary} one-hot features, {k} classes");
+    }
+}
