@@ -14,7 +14,10 @@
 //! * features with one cut (one-hot levels) have their bits packed into a
 //!   few bytes per row and are summed eight columns at a time by adding a
 //!   table-spread byte (`SPREAD`, one bit per byte lane) into a `u64`,
-//!   flushed before a lane can overflow;
+//!   flushed before a lane can overflow; under the every-node scan a fit's
+//!   rows are grouped by class at the root (stable partitions keep every
+//!   node's rows so), and a node is summed one class run at a time with its
+//!   accumulators in registers (`Run`);
 //! * wider features (balls, strikes, binned priors) are counted in a
 //!   histogram of their codes per class, one increment per row and feature,
 //!   and the right-side counts are its suffix sums over the present codes.
