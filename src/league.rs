@@ -122,10 +122,17 @@ pub fn arsenals(log: &PitchLog) -> HashMap<(u32, i32), Vec<u16>> {
 pub fn tell_shares(log: &PitchLog, sit: &Situations, league: &LeagueCells, tests: &mut [TellTest]) {
     let pitcher_of: HashMap<&str, u32> = log.pitchers.iter().enumerate().map(|(i, p)| (p.as_str(), i as u32)).collect();
     let type_of: HashMap<&str, u16> = log.pitch_types.iter().enumerate().map(|(i, t)| (t.as_str(), i as u16)).collect();
-    let mut hand_of: Vec<Option<Hand>> = vec![None; log.pitchers.len()];
+    // Each pitcher's usual hand (the audit's rule: most of his pitches).
+    let mut seen: Vec<Option<(Hand, usize, usize)>> = vec![None; log.pitchers.len()];
     for r in 0..log.len() {
-        hand_of[log.pitcher[r] as usize].get_or_insert(log.throws[r]);
+        let (first, same, other) = seen[log.pitcher[r] as usize].get_or_insert((log.throws[r], 0, 0));
+        if log.throws[r] == *first {
+            *same += 1;
+        } else {
+            *other += 1;
+        }
     }
+    let hand_of: Vec<Option<Hand>> = seen.iter().map(|s| s.map(|(first, same, other)| Hand::usual(first, same, other))).collect();
     // A situation's shape (its factor columns, at most two) and level
     // codes, the hand and the type, packed into one key.
     let mut shapes: Vec<Vec<usize>> = Vec::new();

@@ -5,6 +5,7 @@
 use super::summary::*;
 use super::{count_summaries, headline, location, mix_of, pitches_by_team, sheet, wording, Tested};
 use crate::domain::levels::Hand;
+use crate::domain::numbers::fmt_n;
 use crate::evaluate::task::PitcherTask;
 use crate::evaluate::split::PitcherEvaluation;
 use crate::ingest::PitchLog;
@@ -17,6 +18,8 @@ use std::collections::{BTreeMap, BTreeSet};
 /// What every pitcher's summary says, figures or not.
 pub(super) struct About {
     throws: String,
+    /// His usual throwing hand (`throws`).
+    hand: Hand,
     pitches_by_season: BTreeMap<i32, usize>,
     pitches_by_team: Vec<TeamPitches>,
     /// With --team: his pitches for other clubs, in words.
@@ -31,19 +34,15 @@ impl About {
         let first = log.throws[task.rows[0] as usize];
         let same = task.rows.iter().filter(|&&r| log.throws[r as usize] == first).count();
         let other = task.rows.len() - same;
-        let usual = match first {
-            _ if other <= same => first,
-            Hand::L => Hand::R,
-            Hand::R => Hand::L,
-        };
+        let usual = Hand::usual(first, same, other);
         let throws = usual.as_str().to_string();
         let hand_caution = (other > 0).then(|| {
             let (n_usual, n_other) = if usual == first { (same, other) } else { (other, same) };
             let (hand, other_hand) = if usual == Hand::L { ("left", "right") } else { ("right", "left") };
             format!(
                 "The log lists him throwing with both hands ({} pitches {hand}-handed, {} {other_hand}-handed): batter side and platoon are read pitch by pitch, and he is shown as a {hand}-handed pitcher. If he throws with one hand, check the log's `throws` column.",
-                crate::domain::numbers::fmt_n(n_usual),
-                crate::domain::numbers::fmt_n(n_other),
+                fmt_n(n_usual),
+                fmt_n(n_other),
             )
         });
         let mut pitches_by_season = BTreeMap::new();
@@ -59,7 +58,7 @@ impl About {
                 format!("{w} All of them are used here, since they are all his habits; how he pitched for another club may differ from how he pitches for this one.")
             })
         });
-        About { throws, pitches_by_season, pitches_by_team, team_caution, hand_caution }
+        About { throws, hand: usual, pitches_by_season, pitches_by_team, team_caution, hand_caution }
     }
 }
 
@@ -102,12 +101,12 @@ impl PitcherResult {
 pub(super) fn insufficient(task: &PitcherTask, about: About, settings: &Settings) -> PitcherResult {
     let reason = format!(
         "{} pitches in the log ({}); the models could learn from at most {} of them and score {}, and at least {} to learn from and {} to score are needed before any figure is shown",
-        crate::domain::numbers::fmt_n(task.rows.len()),
-        about.pitches_by_season.iter().map(|(y, n)| format!("{} in {y}", crate::domain::numbers::fmt_n(*n))).collect::<Vec<_>>().join(", "),
-        crate::domain::numbers::fmt_n(task.n_train()),
-        crate::domain::numbers::fmt_n(task.n_test()),
-        crate::domain::numbers::fmt_n(settings.audit.min_train_pitches()),
-        crate::domain::numbers::fmt_n(settings.audit.min_test_pitches())
+        fmt_n(task.rows.len()),
+        about.pitches_by_season.iter().map(|(y, n)| format!("{} in {y}", fmt_n(*n))).collect::<Vec<_>>().join(", "),
+        fmt_n(task.n_train()),
+        fmt_n(task.n_test()),
+        fmt_n(settings.audit.min_train_pitches()),
+        fmt_n(settings.audit.min_test_pitches())
     );
     PitcherResult::Insufficient(Box::new(Insufficient {
         name: task.name.clone(),
@@ -212,7 +211,7 @@ pub(super) fn scored(run: &Run, task: &PitcherTask, about: About, at: usize) -> 
         |i| log.season[task.rows[i] as usize],
         names,
         settings,
-        (&tested.league_cells, log.throws[task.rows[0] as usize]),
+        (&tested.league_cells, about.hand),
     );
     let train_rows = &task.folds.last().unwrap().train;
     let mix = mix_of(names, task, train_rows);
@@ -356,7 +355,7 @@ fn cautions_of(
                 100.0 * c.after,
                 task.evaluation.tells_checked_on,
                 100.0 * c.before,
-                crate::domain::numbers::fmt_n(o.scored.unseen)
+                fmt_n(o.scored.unseen)
             )
         } else {
             format!(

@@ -103,6 +103,25 @@ impl Hand {
         }
     }
 
+    /// The other side.
+    pub fn other(self) -> Hand {
+        match self {
+            Hand::L => Hand::R,
+            Hand::R => Hand::L,
+        }
+    }
+
+    /// A pitcher's usual throwing hand, the one of most of his pitches:
+    /// `first` is the hand of his first pitch in the log, thrown on `same`
+    /// of his pitches and the other hand on `other`; a tie goes to `first`.
+    pub fn usual(first: Hand, same: usize, other: usize) -> Hand {
+        if other > same {
+            first.other()
+        } else {
+            first
+        }
+    }
+
     /// Case-insensitive, trimmed.
     pub fn parse(s: &str) -> Option<Hand> {
         match s.trim() {
@@ -250,5 +269,20 @@ mod tests {
             bases.insert(bases_level(i & 1 != 0, i & 2 != 0, i & 4 != 0));
         }
         assert_eq!(bases.len(), 8);
+    }
+}
+
+#[cfg(test)]
+mod hand_tests {
+    use super::Hand;
+
+    /// The usual hand is the one of most pitches; a tie keeps his first
+    /// pitch's hand (worked by hand).
+    #[test]
+    fn usual_hand_is_the_one_of_most_pitches() {
+        assert_eq!(Hand::usual(Hand::R, 10, 0), Hand::R);
+        assert_eq!(Hand::usual(Hand::R, 4, 6), Hand::L);
+        assert_eq!(Hand::usual(Hand::L, 5, 5), Hand::L);
+        assert_eq!(Hand::usual(Hand::L, 1, 2), Hand::R);
     }
 }
