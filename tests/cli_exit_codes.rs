@@ -91,10 +91,12 @@ fn check_groups_rejection_reasons_with_counts_and_lines() {
     let l = balls[0];
     assert!(l.trim_start().starts_with('2'), "count 2 first: {l}");
     assert!(l.contains("6, 20"), "lists the lines: {l}");
-    // Two bad dates (lines 11, 12) have one reason.
+    // Two bad dates, each with its own reason: no such day (line 11) and
+    // slashes (line 12), which says how to write it.
     let dates: Vec<&str> = out.lines().filter(|l| l.contains("date")).collect();
-    assert_eq!(dates.len(), 1, "{out}");
-    assert!(dates[0].trim_start().starts_with('2') && dates[0].contains("11, 12"), "{}", dates[0]);
+    assert_eq!(dates.len(), 2, "{out}");
+    assert!(dates.iter().any(|l| l.contains("1 × date: is not a calendar date written YYYY-MM-DD (line 11)")), "{out}");
+    assert!(dates.iter().any(|l| l.contains("1 × date: is written with slashes") && l.contains("(line 12)")), "{out}");
     // A single breach is listed with count 1 and its line.
     let throws = line_of(&out, "1 ×");
     assert!(throws.contains("line"), "{throws}");
@@ -384,4 +386,29 @@ fn help_names_the_defaults_a_run_uses() {
     let demo = help("demo");
     let both = format!("default {} for the audit, {} label swaps", s.audit.permutations(), s.compare.permutations());
     assert!(demo.contains(&both), "{demo}");
+}
+
+/// `check` of a log with no valid row still lists why its rows were
+/// rejected (grouped, with lines) before failing with exit 3, and a date
+/// written with its time or with slashes says how to write it.
+#[test]
+fn check_of_an_unusable_log_lists_its_reasons() {
+    let dir = scratch("check-unusable");
+    let log = dir.join("dates.csv");
+    std::fs::write(
+        &log,
+        "game,date,pitcher,throws,batter,bats,inning,outs,balls,strikes,on_first,on_second,on_third,pitch_type\n\
+         G1,2025-04-03T19:05:00,A,R,B,L,1,0,0,0,0,0,0,fastball\n\
+         G1,2025-04-03 19:05,A,R,B,L,1,0,1,0,0,0,0,fastball\n\
+         G2,4/5/2025,A,R,B,L,1,0,0,0,0,0,0,slider\n",
+    )
+    .unwrap();
+    let o = run(&["check", log.to_str().unwrap()]);
+    assert_eq!(code(&o), 3, "{}", stderr(&o));
+    let out = stdout(&o);
+    assert!(out.contains("rows rejected  3"), "{out}");
+    assert!(out.contains("2 × date: is a date and time, not a calendar date; write the game's date alone, YYYY-MM-DD (lines 2, 3)"), "{out}");
+    assert!(out.contains("1 × date: is written with slashes; write dates as YYYY-MM-DD"), "{out}");
+    assert!(stderr(&o).contains("no valid row among 3 read"), "{}", stderr(&o));
+    std::fs::remove_dir_all(&dir).ok();
 }

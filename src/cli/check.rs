@@ -21,18 +21,30 @@ pub struct Args {
 pub fn run(args: Args) -> Result<()> {
     let settings = args.log.settings(Overrides::default())?;
     let input = args.log.input()?;
-    let ing = ingest::load(&input.path, &settings.input).map_err(|e| input.name_errors(e))?;
+    let shown = if input.is_stdin() { "stdin".to_string() } else { input.path.display().to_string() };
+    let ing = match ingest::load(&input.path, &settings.input) {
+        Ok(ing) => ing,
+        Err(e) => {
+            // An unusable log (no valid row, --strict): still list why its
+            // rows were rejected, then fail.
+            if let Ok(rejected) = ingest::rejected_rows(&input.path, &settings.input) {
+                if !rejected.is_empty() {
+                    println!("{shown}");
+                    println!("  rows rejected  {}", rejected.len());
+                    print_rejections(&rejected, ingest::read::Format::of(&input.path).locator());
+                }
+            }
+            return Err(input.name_errors(e));
+        }
+    };
     let log = &ing.log;
     let src = &ing.source;
     let loc = src.format.locator();
-    println!("{}", if input.is_stdin() { "stdin".to_string() } else { src.path.display().to_string() });
+    println!("{shown}");
     println!("  rows read      {}", src.rows_read);
     println!("  rows kept      {}", log.len());
     println!("  rows rejected  {}", src.rows_rejected);
-    for (reason, n, lines) in group_rejections(&ing.rejected, 5) {
-        let l: Vec<String> = lines.iter().map(|l| l.to_string()).collect();
-        println!("    {n:>6} × {reason} ({loc}{} {}{})", if n > 1 { "s" } else { "" }, l.join(", "), if n > lines.len() { ", ..." } else { "" });
-    }
+    print_rejections(&ing.rejected, loc);
     let seasons = log.seasons();
     let mut per_season: BTreeMap<i32, (usize, std::collections::BTreeSet<u32>)> = BTreeMap::new();
     for i in 0..log.len() {
@@ -79,4 +91,12 @@ pub fn run(args: Args) -> Result<()> {
         println!("  note: {n}");
     }
     Ok(())
+}
+
+/// The rejected rows' reasons, grouped, with counts and their first lines.
+fn print_rejections(rejected: &[ingest::Rejected], loc: &str) {
+    for (reason, n, lines) in group_rejections(rejected, 5) {
+        let l: Vec<String> = lines.iter().map(|l| l.to_string()).collect();
+        println!("    {n:>6} × {reason} ({loc}{} {}{})", if n > 1 { "s" } else { "" }, l.join(", "), if n > lines.len() { ", ..." } else { "" });
+    }
 }

@@ -264,7 +264,7 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
             .map(|r| format!(" (first: {} {} column {}: {})", table.format.locator(), r.line, r.column, r.reason))
             .unwrap_or_default();
         return Err(Error::Data(format!(
-            "{}: no valid row among {} read{why}; run `tellscope check` on it to see every reason",
+            "{}: no valid row among {} read{why}; `tellscope check` lists every reason",
             path.display(),
             table.n_rows
         )));

@@ -173,6 +173,12 @@ pub fn parse_cell(column: usize, v: &str) -> Result<Cell, String> {
             // 9999 would otherwise become a season of its own.
             Some((_, y)) if !(1800..=3000).contains(&y) => Err("has a year outside the plausible 1800..3000".to_string()),
             Some((d, y)) => Ok(Cell::Date(d, y)),
+            // A date and time, or a date with slashes, says how to fix it;
+            // neither is read as a day (a time in UTC can be the next day).
+            None if v.len() > 10 && v.is_char_boundary(10) && parse_date(&v[..10]).is_some() => {
+                Err("is a date and time, not a calendar date; write the game's date alone, YYYY-MM-DD".to_string())
+            }
+            None if v.contains('/') => Err("is written with slashes; write dates as YYYY-MM-DD (month and day order cannot be guessed)".to_string()),
             None => Err("is not a calendar date written YYYY-MM-DD".to_string()),
         },
         3 => hand(v, "throws").map(Cell::Hand).map_err(|b| b.2),
