@@ -238,24 +238,24 @@ impl PitcherPlan {
             format!(
                 "his {} games of {latest} ({} pitches), {per_block} scored by a model fitted on everything of his before it",
                 scored_games.len(),
-                fmt_n(plan.evaluation.n_scored as u64)
+                fmt_n(plan.evaluation.n_scored)
             )
         } else {
             format!(
                 "his last {} of {n_games} games of {latest} ({} pitches), {per_block} scored by a model fitted on his games before it; his first {} games only trained the models",
                 scored_games.len(),
-                fmt_n(plan.evaluation.n_scored as u64),
+                fmt_n(plan.evaluation.n_scored),
                 n_games - scored_games.len()
             )
         };
         plan.evaluation.train = match earlier_seasons.as_slice() {
             [] => format!("his earlier games of {latest}"),
-            [one] => format!("his {one} games ({} pitches) and his earlier games of {latest}", fmt_n(n_earlier as u64)),
+            [one] => format!("his {one} games ({} pitches) and his earlier games of {latest}", fmt_n(n_earlier)),
             many => format!(
                 "his games of {}-{} ({} pitches) and his earlier games of {latest}",
                 many[0],
                 many[many.len() - 1],
-                fmt_n(n_earlier as u64)
+                fmt_n(n_earlier)
             ),
         };
         plan

@@ -14,10 +14,10 @@
 //! * features with one cut (one-hot levels) have their bits packed into a
 //!   few bytes per row and are summed eight columns at a time by adding a
 //!   table-spread byte (`SPREAD`, one bit per byte lane) into a `u64`,
-//!   flushed before a lane can overflow; under the every-node scan a fit's
-//!   rows are grouped by class at the root (stable partitions keep every
-//!   node's rows so), and a node is summed one class run at a time with its
-//!   accumulators in registers (`Run`);
+//!   flushed before a lane can overflow; a fit's rows are grouped by class
+//!   at the root (stable partitions keep every node's rows so), and a node
+//!   is summed one class run at a time with its accumulators in registers
+//!   (`Run`);
 //! * wider features (balls, strikes, binned priors) are counted in a
 //!   histogram of their codes per class, one increment per row and feature,
 //!   and the right-side counts are its suffix sums over the present codes.
@@ -157,11 +157,13 @@ const SPREAD: [u64; 256] = {
     t
 };
 
-/// One class run of a node's rows (every-node scan): its rows' bit sums go
+/// One class run of a node's rows: its rows' bit sums go
 /// to `out` (the class's lanes), its wide features' codes to `hist` (the
 /// class's histogram) and its keys to `key_hist`.
 struct Run<'a> {
     rows: &'a [u32],
+    /// Training rows in all (every row of `rows` is below it).
+    n: usize,
     packed: &'a [u8],
     out: &'a mut [u32],
     hist: &'a mut [u32],
@@ -220,16 +222,18 @@ impl Run<'_> {
         let mut since_flush = 0;
         for &p in self.rows {
             let p = p as usize;
+            assert!(p < self.n);
             let row = &packed[p * s + first..p * s + first + w];
             for (a, &b) in acc.iter_mut().zip(row) {
                 *a += SPREAD[b as usize];
             }
             if extras {
                 for &(col, b) in columns {
-                    // SAFETY: as in `accumulate`: a wide feature's histogram
-                    // has a slot for every code present among the training
-                    // rows, and `col + p` is in the code columns (checked
-                    // there).
+                    // SAFETY: p < n (checked above) and every column starts
+                    // at most n before the end of `codes` (checked by
+                    // `accumulate`); a wide feature's histogram has a slot
+                    // for every code present among the training rows
+                    // (`layout_hist`).
                     unsafe {
                         let slot = b + *codes.get_unchecked(col + p) as usize;
                         debug_assert!(slot < hist.len());
@@ -649,27 +653,24 @@ impl FastTreeWorkspace {
         assert!(counts[n_classes..].iter().all(|&c| c == 0), "labels must be below n_classes = {n_classes}");
         counts.truncate(n_classes);
         self.n_classes = n_classes;
+        // Rows grouped by class, in row order within a class: stable
+        // partitions keep every node's rows so, and its sums are taken one
+        // class run at a time ([`Self::accumulate`]). Neither scan reads the
+        // order of a node's rows (linfa's last-row rule goes by row index,
+        // through `node_id`), so the tree is the same.
+        let mut at: Vec<u32> = counts
+            .iter()
+            .scan(0u32, |start, &c| {
+                let here = *start;
+                *start += c;
+                Some(here)
+            })
+            .collect();
         self.idx.clear();
-        if self.options.scan == ThresholdScan::EveryNode {
-            // Rows grouped by class, in row order within a class: stable
-            // partitions keep every node's rows so, and its sums are taken
-            // one class run at a time ([`Self::accumulate`]). The every-node
-            // scan never reads the rows' order, so the tree is the same.
-            let mut at: Vec<u32> = counts
-                .iter()
-                .scan(0u32, |start, &c| {
-                    let here = *start;
-                    *start += c;
-                    Some(here)
-                })
-                .collect();
-            self.idx.resize(n, 0);
-            for (p, &l) in self.labels.iter().enumerate() {
-                self.idx[at[l as usize] as usize] = p as u32;
-                at[l as usize] += 1;
-            }
-        } else {
-            self.idx.extend(0..n as u32);
+        self.idx.resize(n, 0);
+        for (p, &l) in self.labels.iter().enumerate() {
+            self.idx[at[l as usize] as usize] = p as u32;
+            at[l as usize] += 1;
         }
         self.spill.resize(n, 0);
         self.node_id.clear();
@@ -877,8 +878,8 @@ impl FastTreeWorkspace {
     }
 
     /// Column sums of the cut bits over `idx[lo..hi]`, per class, into `slot`.
-    /// `counts`: the node's rows per class (in the every-node scan its rows
-    /// are grouped by class in that order).
+    /// `counts`: the node's rows per class (its rows are grouped by class in
+    /// that order).
     fn accumulate(&mut self, lo: usize, hi: usize, slot: usize, counts: &[u32]) {
         let s = self.stride;
         let lanes = self.lanes;
@@ -888,26 +889,9 @@ impl FastTreeWorkspace {
         let out = &mut self.sums[slot * slot_len..(slot + 1) * slot_len];
         out.fill(0);
         let acc = &mut self.acc;
-        acc.fill(0);
         let hist = &mut self.hist;
         hist.clear();
         hist.resize(self.n_classes * h, 0);
-        let flush = |acc: &mut [u64], out: &mut [u32]| {
-            if s == 0 {
-                return;
-            }
-            for (a_class, o_class) in acc.chunks_exact_mut(s).zip(out.chunks_exact_mut(lanes)) {
-                for (a, o) in a_class.iter_mut().zip(o_class.chunks_exact_mut(8)) {
-                    let v = *a;
-                    if v != 0 {
-                        for (lane, o) in o.iter_mut().enumerate() {
-                            *o += ((v >> (8 * lane)) & 0xff) as u32;
-                        }
-                        *a = 0;
-                    }
-                }
-            }
-        };
         let base = &self.hist_base;
         // A large node counts the keyed group's wide features per key (one
         // increment per row) and spreads the key counts to their codes; a
@@ -924,11 +908,11 @@ impl FastTreeWorkspace {
                 .filter(|(f, _)| keyed.is_none_or(|g| !g.wide.iter().any(|&(j, _)| g.features[j] == **f)))
                 .map(|(&f, &b)| (f * n, b)),
         );
-        // The checks the loop below relies on, once per call: every row
-        // index is below n, every label below the class count, and the
-        // buffers have a stride (or histogram) per row and class.
-        let (idx, labels, packed, codes) = (&self.idx[lo..hi], &self.labels[..n], &self.packed[..n * s], &self.codes[..]);
-        assert!(acc.len() >= self.n_classes * s && hist.len() >= self.n_classes * h);
+        // The checks the runs rely on, once per call: the buffers have a
+        // stride (or histogram) per row and class (each run checks its rows
+        // are below n).
+        let (idx, packed, codes) = (&self.idx[lo..hi], &self.packed[..n * s], &self.codes[..]);
+        assert!(acc.len() >= s && hist.len() >= self.n_classes * h);
         assert!(columns.iter().all(|&(col, _)| col + n <= codes.len()));
         let key_hist = &mut self.key_hist;
         let (keys, n_keys) = match keyed {
@@ -940,85 +924,47 @@ impl FastTreeWorkspace {
             }
             None => (&[][..], 0),
         };
-        if self.options.scan == ThresholdScan::EveryNode {
-            // One class run at a time, its bit sums in registers.
-            let mut start = 0;
-            for (l, &c) in counts.iter().enumerate() {
-                let run = &idx[start..start + c as usize];
-                start += c as usize;
-                if run.is_empty() {
-                    continue;
-                }
-                let at = Run {
-                    rows: run,
-                    packed,
-                    out: &mut out[l * lanes..(l + 1) * lanes],
-                    hist: &mut hist[l * h..(l + 1) * h],
-                    columns: &columns,
-                    codes,
-                    key_hist: if n_keys > 0 { &mut key_hist[l * n_keys..(l + 1) * n_keys] } else { &mut [] },
-                    keys,
-                };
-                match s {
-                    0 => at.sum::<0>(),
-                    1 => at.sum::<1>(),
-                    2 => at.sum::<2>(),
-                    3 => at.sum::<3>(),
-                    4 => at.sum::<4>(),
-                    5 => at.sum::<5>(),
-                    6 => at.sum::<6>(),
-                    7 => at.sum::<7>(),
-                    8 => at.sum::<8>(),
-                    9 => at.sum_wide::<1>(),
-                    10 => at.sum_wide::<2>(),
-                    11 => at.sum_wide::<3>(),
-                    12 => at.sum_wide::<4>(),
-                    13 => at.sum_wide::<5>(),
-                    14 => at.sum_wide::<6>(),
-                    15 => at.sum_wide::<7>(),
-                    16 => at.sum_wide::<8>(),
-                    _ => at.sum_any(s, &mut acc[..s]),
-                }
+        // One class run at a time, its bit sums in registers.
+        let mut start = 0;
+        for (l, &c) in counts.iter().enumerate() {
+            let run = &idx[start..start + c as usize];
+            start += c as usize;
+            if run.is_empty() {
+                continue;
             }
-            debug_assert_eq!(start, idx.len());
-        } else {
-            let mut since_flush = 0;
-            for &p in idx {
-                let p = p as usize;
-                assert!(p < n);
-                // SAFETY (all unchecked reads below): p < n (checked), labels
-                // are below the class count (checked by `fit`), so the slices
-                // are in range by the asserts above; a wide feature's histogram
-                // has a slot for every code up to its largest present code
-                // (`layout_hist`) and every training row's code is present;
-                // keys (one per training row, checked) are below n_keys
-                // (checked by `set_training_keys`).
-                unsafe {
-                    let l = *labels.get_unchecked(p) as usize;
-                    let row = packed.get_unchecked(p * s..(p + 1) * s);
-                    let a = acc.get_unchecked_mut(l * s..(l + 1) * s);
-                    for (a, &b) in a.iter_mut().zip(row) {
-                        *a += SPREAD[b as usize];
-                    }
-                    let hist_l = hist.get_unchecked_mut(l * h..(l + 1) * h);
-                    for &(col, b) in &columns {
-                        let slot = b + *codes.get_unchecked(col + p) as usize;
-                        debug_assert!(slot < hist_l.len());
-                        *hist_l.get_unchecked_mut(slot) += 1;
-                    }
-                    if n_keys > 0 {
-                        *key_hist.get_unchecked_mut(l * n_keys + *keys.get_unchecked(p) as usize) += 1;
-                    }
-                }
-                since_flush += 1;
-                // A byte lane holds at most 255.
-                if since_flush == 255 {
-                    flush(acc, out);
-                    since_flush = 0;
-                }
+            let at = Run {
+                rows: run,
+                n,
+                packed,
+                out: &mut out[l * lanes..(l + 1) * lanes],
+                hist: &mut hist[l * h..(l + 1) * h],
+                columns: &columns,
+                codes,
+                key_hist: if n_keys > 0 { &mut key_hist[l * n_keys..(l + 1) * n_keys] } else { &mut [] },
+                keys,
+            };
+            match s {
+                0 => at.sum::<0>(),
+                1 => at.sum::<1>(),
+                2 => at.sum::<2>(),
+                3 => at.sum::<3>(),
+                4 => at.sum::<4>(),
+                5 => at.sum::<5>(),
+                6 => at.sum::<6>(),
+                7 => at.sum::<7>(),
+                8 => at.sum::<8>(),
+                9 => at.sum_wide::<1>(),
+                10 => at.sum_wide::<2>(),
+                11 => at.sum_wide::<3>(),
+                12 => at.sum_wide::<4>(),
+                13 => at.sum_wide::<5>(),
+                14 => at.sum_wide::<6>(),
+                15 => at.sum_wide::<7>(),
+                16 => at.sum_wide::<8>(),
+                _ => at.sum_any(s, &mut acc[..s]),
             }
-            flush(acc, out);
         }
+        debug_assert_eq!(start, idx.len());
         self.wide_columns = columns;
         if let Some(g) = keyed {
             let w = g.features.len();

@@ -558,8 +558,8 @@ fn page(cmp: &Comparison, sink: &mut dyn Sink) -> Result<()> {
         // Column headings: a season reads well, a date range is too long.
         before_short => if b.label.len() <= 8 { b.label.clone() } else { "before".to_string() },
         after_short => if a.label.len() <= 8 { a.label.clone() } else { "after".to_string() },
-        before_span => format!("{} to {}, {} games, {} pitches", b.first_date, b.last_date, charts::fmt_n(b.games as u64), charts::fmt_n(b.pitches as u64)),
-        after_span => format!("{} to {}, {} games, {} pitches", a.first_date, a.last_date, charts::fmt_n(a.games as u64), charts::fmt_n(a.pitches as u64)),
+        before_span => format!("{} to {}, {} games, {} pitches", b.first_date, b.last_date, fmt_n(b.games), fmt_n(b.pitches)),
+        after_span => format!("{} to {}, {} games, {} pitches", a.first_date, a.last_date, fmt_n(a.games), fmt_n(a.pitches)),
         evaluation => s.evaluation.description.clone(),
         permutations => s.settings.permutations,
         bootstrap => s.settings.bootstrap,
