@@ -13,6 +13,7 @@ use crate::ingest::PitchLog;
 use crate::domain::levels::Hand;
 use crate::situations::Situations;
 use crate::tells::TellTest;
+use rayon::prelude::*;
 use std::collections::{HashMap, HashSet};
 
 /// Cells of the sheet: count × batter side.
@@ -117,11 +118,13 @@ pub fn arsenals(log: &PitchLog) -> HashMap<(u32, i32), Vec<u16>> {
 /// Fill `league_share` on every flagged tell of `tests`: the tell pitch's
 /// share in the tell's situation (all seasons of the file) among the other
 /// pitchers of the tell pitcher's throwing hand who have the pitch in their
-/// arsenal that season. One pass over the file for every tell; each
-/// pitcher's own pitches are counted apart and taken out.
+/// arsenal that season. One pass over the file for every tell (in chunks
+/// of rows in parallel); each tell pitcher's own pitches are counted apart
+/// and taken out.
 pub fn tell_shares(log: &PitchLog, sit: &Situations, league: &LeagueCells, tests: &mut [TellTest]) {
     let pitcher_of: HashMap<&str, u32> = log.pitchers.iter().enumerate().map(|(i, p)| (p.as_str(), i as u32)).collect();
     let type_of: HashMap<&str, u16> = log.pitch_types.iter().enumerate().map(|(i, t)| (t.as_str(), i as u16)).collect();
+    let n_types = log.pitch_types.len();
     // Each pitcher's usual hand (the audit's rule: most of his pitches).
     let mut seen: Vec<Option<(Hand, usize, usize)>> = vec![None; log.pitchers.len()];
     for r in 0..log.len() {
@@ -133,73 +136,173 @@ pub fn tell_shares(log: &PitchLog, sit: &Situations, league: &LeagueCells, tests
         }
     }
     let hand_of: Vec<Option<Hand>> = seen.iter().map(|s| s.map(|(first, same, other)| Hand::usual(first, same, other))).collect();
-    // A situation's shape (its factor columns, at most two) and level
-    // codes, the hand and the type, packed into one key.
-    let mut shapes: Vec<Vec<usize>> = Vec::new();
-    let pack = |shape: usize, codes: &[u8], hand: Hand, ty: u16| -> u64 {
-        let c = codes.iter().fold(0u64, |a, &x| (a << 8) | x as u64);
-        ((shape as u64) << 48) | (c << 24) | (((hand == Hand::R) as u64) << 16) | ty as u64
-    };
-    let mut wanted: HashMap<u64, HashSet<u32>> = HashMap::new();
-    let mut key_of: Vec<Option<(u64, u32)>> = vec![None; tests.len()];
+    // A situation's shape (its factor columns, at most two); within a
+    // shape, a cell is its level codes, the hand and the type, numbered
+    // densely (a factor's unknown code is one more level, which no tell
+    // asks for).
+    let mut shapes: Vec<Shape> = Vec::new();
+    // Each wanted cell's slot, each tell's (slot, pitcher), and each slot's
+    // tell pitchers (their own pitches are taken out).
+    let mut slots: Vec<Vec<u32>> = Vec::new();
+    let mut key_of: Vec<Option<(u32, u32)>> = vec![None; tests.len()];
     for (i, t) in tests.iter().enumerate().filter(|(_, t)| t.flagged) {
-        let (Some(&p), Some(&ty)) = (pitcher_of.get(t.pitcher.as_str()), type_of.get(t.pitch_type.as_str())) else { continue };
-        let Some(parts) = sit.level_codes(&t.situation) else { continue };
+        let (Some(&p), Some(&ty)) = (
+            pitcher_of.get(t.pitcher.as_str()),
+            type_of.get(t.pitch_type.as_str()),
+        ) else {
+            continue;
+        };
+        let Some(parts) = sit.level_codes(&t.situation) else {
+            continue;
+        };
         if parts.is_empty() || parts.len() > 2 {
             continue;
         }
-        let shape: Vec<usize> = parts.iter().map(|x| x.0).collect();
-        let si = match shapes.iter().position(|s| *s == shape) {
+        let Some(hand) = hand_of[p as usize] else {
+            continue;
+        };
+        let columns: Vec<usize> = parts.iter().map(|x| x.0).collect();
+        let si = match shapes.iter().position(|s| s.columns == columns) {
             Some(i) => i,
             None => {
-                shapes.push(shape);
+                shapes.push(Shape::new(sit, columns, n_types));
                 shapes.len() - 1
             }
         };
         let codes: Vec<u8> = parts.iter().map(|x| x.1).collect();
-        let Some(hand) = hand_of[p as usize] else { continue };
-        let key = pack(si, &codes, hand, ty);
-        wanted.entry(key).or_default().insert(p);
-        key_of[i] = Some((key, p));
+        let shape = &mut shapes[si];
+        let cell = shape.cell(&codes, hand, ty);
+        if shape.slot[cell] == NO_SLOT {
+            shape.slot[cell] = slots.len() as u32;
+            slots.push(Vec::new());
+        }
+        let slot = shape.slot[cell];
+        if !slots[slot as usize].contains(&p) {
+            slots[slot as usize].push(p);
+        }
+        key_of[i] = Some((slot, p));
     }
-    if wanted.is_empty() {
+    if slots.is_empty() {
         return;
     }
+    // Each (slot, tell pitcher) pair's place among the own counts.
+    let mut own_at: HashMap<(u32, u32), usize> = HashMap::new();
+    for (slot, who) in slots.iter().enumerate() {
+        for &p in who {
+            let n = own_at.len();
+            own_at.entry((slot as u32, p)).or_insert(n);
+        }
+    }
+    let tell_pitcher: HashSet<u32> = slots.iter().flatten().copied().collect();
     let arsenal = &league.arsenal;
-    // League (n, of type) per key, and each tell pitcher's own.
-    let mut league: HashMap<u64, (u64, u64)> = HashMap::new();
-    let mut own: HashMap<(u64, u32), (u64, u64)> = HashMap::new();
-    let mut codes = Vec::with_capacity(2);
-    for r in 0..log.len() {
-        let (p, hand, y) = (log.pitcher[r], log.throws[r], log.pitch_type[r]);
-        let Some(ars) = arsenal.get(&(p, log.season[r])) else { continue };
-        for (si, shape) in shapes.iter().enumerate() {
-            codes.clear();
-            codes.extend(shape.iter().map(|&c| sit.factors[c].codes[r]));
-            for &t in ars {
-                let key = pack(si, &codes, hand, t);
-                let Some(who) = wanted.get(&key) else { continue };
-                let hit = (y == t) as u64;
-                let e = league.entry(key).or_default();
-                e.0 += 1;
-                e.1 += hit;
-                if who.contains(&p) {
-                    let o = own.entry((key, p)).or_default();
-                    o.0 += 1;
-                    o.1 += hit;
+    // League (n, of type) per slot, and each tell pitcher's own: integer
+    // sums over chunks of rows, so the same at any thread count.
+    let counts = |range: std::ops::Range<usize>| -> (Vec<[u64; 2]>, Vec<[u64; 2]>) {
+        let mut league = vec![[0u64; 2]; slots.len()];
+        let mut own = vec![[0u64; 2]; own_at.len()];
+        for r in range {
+            let (p, hand, y) = (log.pitcher[r], log.throws[r], log.pitch_type[r]);
+            let Some(ars) = arsenal.get(&(p, log.season[r])) else {
+                continue;
+            };
+            let mine = tell_pitcher.contains(&p);
+            for shape in &shapes {
+                let base = shape.row_base(sit, r, hand);
+                for &t in ars {
+                    let slot = shape.slot[base + t as usize];
+                    if slot == NO_SLOT {
+                        continue;
+                    }
+                    let hit = (y == t) as u64;
+                    let e = &mut league[slot as usize];
+                    e[0] += 1;
+                    e[1] += hit;
+                    if mine {
+                        if let Some(&o) = own_at.get(&(slot, p)) {
+                            own[o][0] += 1;
+                            own[o][1] += hit;
+                        }
+                    }
                 }
             }
         }
-    }
+        (league, own)
+    };
+    let add = |mut a: (Vec<[u64; 2]>, Vec<[u64; 2]>), b: (Vec<[u64; 2]>, Vec<[u64; 2]>)| {
+        for (x, y) in a.0.iter_mut().zip(&b.0).chain(a.1.iter_mut().zip(&b.1)) {
+            x[0] += y[0];
+            x[1] += y[1];
+        }
+        a
+    };
+    const CHUNK: usize = 1 << 16;
+    let (league, own) = (0..log.len().div_ceil(CHUNK))
+        .into_par_iter()
+        .map(|c| counts(c * CHUNK..((c + 1) * CHUNK).min(log.len())))
+        .reduce(
+            || (vec![[0u64; 2]; slots.len()], vec![[0u64; 2]; own_at.len()]),
+            add,
+        );
     for (t, k) in tests.iter_mut().zip(key_of) {
-        let Some((key, p)) = k else { continue };
-        let (n, x) = league.get(&key).copied().unwrap_or_default();
-        let (on, ox) = own.get(&(key, p)).copied().unwrap_or_default();
+        let Some((slot, p)) = k else { continue };
+        let [n, x] = league[slot as usize];
+        let [on, ox] = own_at.get(&(slot, p)).map_or([0, 0], |&o| own[o]);
         let (n, x) = (n - on, x - ox);
         if n > 0 {
             t.league_share = Some(x as f64 / n as f64);
             t.league_n = Some(n);
         }
+    }
+}
+
+/// A wanted cell's absence from a [`Shape`]'s table.
+const NO_SLOT: u32 = u32::MAX;
+
+/// The cells of one situation shape (one or two factor columns), numbered
+/// densely: level codes (a factor's unknown code as one more level), then
+/// the hand, then the pitch type.
+struct Shape {
+    columns: Vec<usize>,
+    /// Levels of each column, its unknown level included.
+    levels: Vec<usize>,
+    n_types: usize,
+    /// Each cell's slot among the wanted ones, or `NO_SLOT`.
+    slot: Vec<u32>,
+}
+
+impl Shape {
+    fn new(sit: &Situations, columns: Vec<usize>, n_types: usize) -> Shape {
+        let levels: Vec<usize> = columns
+            .iter()
+            .map(|&c| sit.factors[c].levels.len() + 1)
+            .collect();
+        let cells = levels.iter().product::<usize>() * 2 * n_types;
+        Shape {
+            columns,
+            levels,
+            n_types,
+            slot: vec![NO_SLOT; cells],
+        }
+    }
+
+    fn level(&self, i: usize, code: u8) -> usize {
+        (code as usize).min(self.levels[i] - 1)
+    }
+
+    fn base(&self, codes: impl Iterator<Item = u8>, hand: Hand) -> usize {
+        let at = codes
+            .enumerate()
+            .fold(0, |a, (i, c)| a * self.levels[i] + self.level(i, c));
+        (at * 2 + (hand == Hand::R) as usize) * self.n_types
+    }
+
+    fn cell(&self, codes: &[u8], hand: Hand, ty: u16) -> usize {
+        self.base(codes.iter().copied(), hand) + ty as usize
+    }
+
+    /// Row `r`'s first cell (type 0) under this shape.
+    fn row_base(&self, sit: &Situations, r: usize, hand: Hand) -> usize {
+        self.base(self.columns.iter().map(|&c| sit.factors[c].codes[r]), hand)
     }
 }
 

@@ -246,7 +246,9 @@ pub fn audit_log(
     let staff = Staff::plan(log, sit, scheme, &chosen, settings);
     let ok_tasks: Vec<&PitcherTask> = staff.tasks.iter().filter(|t| enough(t, settings)).collect();
     let tested = Tested::run(log, sit, &staff.discovery, &ok_tasks, settings, show_progress);
+    let timer = crate::progress::Timer::start();
     let figures = staff.league_figures(log, sit, &chosen, &ok_tasks, &tested.observed, settings);
+    timer.lap("league figures");
     let run = pitcher::Run {
         log,
         sit,
@@ -271,6 +273,7 @@ pub fn audit_log(
         pitchers.push(summary);
         outcomes.extend(by_situation);
     }
+    timer.lap("pitcher summaries");
     let notes = run_notes(log, sit, &source, &chosen, tested.location.missing, settings);
     let staff_called = crate::outcomes::staff_called(&pitchers.iter().filter_map(|p| p.called_outcomes.as_ref()).collect::<Vec<_>>());
     let yardstick = if club_count(log).unwrap_or(0) > 1 { "league" } else { "staff" };
@@ -411,10 +414,12 @@ impl Tested {
         timer.lap("location tests");
         let (perms, beyond_perms): (Vec<_>, Vec<_>) = perms.into_iter().unzip();
         crate::outcomes::cost_of_tells(log, sit, ok_tasks, &mut tests, settings.audit.fdr());
+        timer.lap("cost of tells");
         // The league as the yardstick: counted once for the file, for the
         // tells' shares here and the sheet cells later.
         let league_cells = crate::league::LeagueCells::build(log);
         crate::league::tell_shares(log, sit, &league_cells, &mut tests);
+        timer.lap("league yardstick");
         let model_q = fdr::bh_q_values(&perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
         // The beyond-the-sheet p-values form their own family over pitchers.
         let beyond_q = fdr::bh_q_values(&beyond_perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
