@@ -176,6 +176,9 @@ pub struct LocationFigures {
     pub n: usize,
     pub significant: bool,
     pub permutations: usize,
+    /// No permutation reached the observed statistic.
+    #[serde(skip)]
+    pub reached_none: bool,
     /// Held-out guess-right rate of the situational model's region, and of
     /// always guessing each pitch type's most used region.
     pub model_accuracy: f64,
@@ -313,6 +316,7 @@ pub fn audit(
             n,
             significant: q[w] <= settings.audit.fdr(),
             permutations: perms[w].permutations,
+            reached_none: perms[w].reached_none,
             model_accuracy: o.model_right as f64 / scored,
             prior_accuracy: o.prior_right as f64 / scored,
             by_type: o

@@ -15,7 +15,7 @@ use crate::evaluate::task::PitcherTask;
 use crate::evaluate::{self, HeldOut};
 use crate::ingest::{self, Ingested, Rejected};
 use crate::settings::Settings;
-use crate::significance::{fdr, wilson};
+use crate::significance::{budget, fdr, wilson};
 use crate::domain::levels::COUNTS;
 use crate::situations::{self, Situations};
 use crate::tells::{self, Direction, TellTest};
@@ -274,7 +274,8 @@ pub fn audit_log(
         outcomes.extend(by_situation);
     }
     timer.lap("pitcher summaries");
-    let notes = run_notes(log, sit, &source, &chosen, tested.location.missing, settings);
+    let mut notes = run_notes(log, sit, &source, &chosen, tested.location.missing, settings);
+    notes.extend(unresolved_notes(&tested, settings));
     let staff_called = crate::outcomes::staff_called(&pitchers.iter().filter_map(|p| p.called_outcomes.as_ref()).collect::<Vec<_>>());
     let yardstick = if club_count(log).unwrap_or(0) > 1 { "league" } else { "staff" };
     drop(run);
@@ -498,6 +499,20 @@ fn run_notes(
         );
     }
     notes
+}
+
+/// A note for each test family whose permutations were too few for its
+/// false-discovery control to flag the pitchers no permutation reached
+/// (`significance::budget`): on a league-wide run, hundreds of tests at once.
+fn unresolved_notes(tested: &Tested, settings: &Settings) -> Vec<String> {
+    let fdr = settings.audit.fdr();
+    let whole: Vec<(f64, bool, f64)> = tested.perms.iter().zip(&tested.model_q).map(|(p, &q)| (p.p_value, p.reached_none, q)).collect();
+    let beyond: Vec<(f64, bool, f64)> = tested.beyond_perms.iter().zip(&tested.beyond_q).map(|(p, &q)| (p.p_value, p.reached_none, q)).collect();
+    let location: Vec<(f64, bool, f64)> = tested.location.figures.iter().flatten().map(|f| (f.p_value, f.reached_none, f.q_value)).collect();
+    [("The whole-model test", whole), ("The beyond-the-sheet test", beyond), ("The location test (where his pitches go)", location)]
+        .into_iter()
+        .filter_map(|(name, family)| budget::unresolved(&family, fdr).map(|u| wording::unresolved_note(name, "shuffle", &u, u.enough_permutations(fdr, settings.audit.permutations()))))
+        .collect()
 }
 
 /// At most three findings, most pitches given away a season first: the

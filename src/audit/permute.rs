@@ -29,6 +29,8 @@ pub struct PermutationResult {
     pub stopped_early: bool,
     /// Stopped early as a clear effect (p = 1/(m1 + 1)).
     pub decided_early: bool,
+    /// No permutation reached the observed statistic.
+    pub reached_none: bool,
     /// Null statistics (primary) in permutation order.
     pub null: Vec<f64>,
 }
@@ -195,12 +197,21 @@ pub fn pilot<W>(observed: Stat, mut scratch: W, null_stat: impl Fn(u64, &mut W) 
 /// A pitcher's early-decision size m1 for a family of `family` tests when
 /// `others_clear` of the other pitchers' pilots were clear: the least m1
 /// whose p = 1/(m1 + 1) passes Benjamini–Hochberg with as few as a quarter
-/// of the rejections the pilots foresee (1 + others_clear).
+/// of the rejections the pilots foresee. A pilot with nothing to find is
+/// clear by chance once in `PILOT + 1` (its observed statistic the largest
+/// of `PILOT + 1` exchangeable ones), so the pilots foresee 1 + the clear
+/// pilots beyond the (family − 1)/(PILOT + 1) chance gives. On a league's
+/// location tests (668 pitchers, 56 clear pilots, 33 of them expected by
+/// chance, 9 clear effects) counting every clear pilot sized the decision
+/// at 940 permutations, whose p = 1/941 BH cannot pass with 9 rejections.
+/// Any size taken from the other pitchers' pilots keeps the test valid.
 pub fn decision_at(family: usize, others_clear: usize, fdr: f64) -> usize {
-    // Passing BH with a quarter of the foreseen rejections (1 + others):
-    // with none foreseen, four times the size that passes it alone, so a
-    // clear effect on a small staff reads q near a quarter of the bar.
-    let tests = (4 * family).div_ceil(1 + others_clear);
+    let by_chance = family.saturating_sub(1) as f64 / (PILOT + 1) as f64;
+    let foreseen = 1.0 + (others_clear as f64 - by_chance).max(0.0);
+    // Passing BH with a quarter of the foreseen rejections: with none
+    // foreseen, four times the size that passes it alone, so a clear effect
+    // on a small staff reads q near a quarter of the bar.
+    let tests = (4.0 * family as f64 / foreseen).ceil() as usize;
     SequentialPermutation::decision_size(tests, fdr)
 }
 
@@ -272,6 +283,7 @@ pub fn drive<W: Send>(
         permutations: run.permutations,
         stopped_early: run.stopped_early,
         decided_early: run.decided_early,
+        reached_none: run.reached_none,
         null: run.nulls.iter().map(|s| s.primary).collect(),
     }
 }
@@ -297,14 +309,24 @@ mod decision_tests {
 
     #[test]
     fn decision_size_from_family_and_pilots() {
+        // Worked by hand. None foreseen: 4 × 18 = 72 tests → 72 / 0.05.
         assert_eq!(decision_at(18, 0, 0.05), 1440);
-        // 17 foreseen rejections, a quarter of them 4.25: 18 / 4.25 → 5 tests → 100.
+        // 16 clear against 17/20 = 0.85 by chance: 16.15 foreseen, 72 / 16.15
+        // → 5 tests → 100.
         assert_eq!(decision_at(18, 16, 0.05), 100);
+        // 700 clear against 741/20 = 37.05 by chance: 663.95 foreseen,
+        // 2968 / 663.95 → 5 tests → 100.
         assert_eq!(decision_at(742, 700, 0.05), 100);
         // p = 1/101 passes BH when at least 742 × (1/101) / 0.05 ≈ 147 tests
-        // reject, a quarter of the 701 foreseen.
-        assert!(1.0 / 101.0 <= 0.05 * (701.0 / 4.0) / 742.0);
+        // reject, a quarter of the 664 foreseen.
+        assert!(1.0 / 101.0 <= 0.05 * (663.95 / 4.0) / 742.0);
         assert_eq!(decision_at(742, 0, 0.05), 59_360);
+        // A league's location tests: 55 other clear pilots against 667/20 =
+        // 33.35 by chance, 22.65 foreseen: 2672 / 22.65 → 118 tests → 2360
+        // (counting every clear pilot gave 2672 / 56 → 48 tests → 960).
+        assert_eq!(decision_at(668, 55, 0.05), 2360);
+        // Fewer clear pilots than chance gives foresee none beyond his own.
+        assert_eq!(decision_at(668, 20, 0.05), decision_at(668, 0, 0.05));
     }
 }
 

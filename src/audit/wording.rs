@@ -346,6 +346,19 @@ pub fn rules(task: &PitcherTask, scored: &Scored, names: &[String]) -> Vec<RuleS
 mod tests {
     use super::*;
 
+    /// The note of unresolved tests gives the counts the budget module found
+    /// and agrees in number with them.
+    #[test]
+    fn unresolved_note_counts_and_number() {
+        use crate::significance::budget::Unresolved;
+        let many = unresolved_note("The location test", "shuffle", &Unresolved { tests: 1668, at_floor: 9, p: 1.0 / 941.0, needed: 36 }, 9999);
+        assert!(many.starts_with("The location test: 9 of the 1,668 pitchers tested met no shuffle"), "{many}");
+        assert!(many.contains("(p = 0.0011,") && many.contains("at least 36 tests") && many.contains("they are not flagged"), "{many}");
+        assert!(many.contains("`--permutations 9999` or more") && many.ends_with("can settle them."), "{many}");
+        let one = unresolved_note("The whole-model test", "shuffle", &Unresolved { tests: 40, at_floor: 1, p: 0.001, needed: 2 }, 9999);
+        assert!(one.contains("1 of the 40 pitchers") && one.contains("he is not flagged") && one.contains("Read him as") && one.ends_with("settle it."), "{one}");
+    }
+
     // Worked by hand: others 0.10 and 0.30 must grow to 0.60 in all; the
     // smaller rises to meet the larger (0.30), then both rise to 0.30 each.
     /// The scored dates sit with the scored pitches' count, not after the
@@ -402,6 +415,26 @@ pub fn evaluation_sentence(e: &crate::evaluate::split::PitcherEvaluation) -> Str
     format!(
         "How he was scored: {scored}; the models learned from {}. An opponent could have done the same with the games he had seen.",
         e.train
+    )
+}
+
+/// A family's tests left unflagged at the least p-value their permutations
+/// allow (`significance::budget`), in words: `test` names the test ("The
+/// location test"), `draw` one permutation ("shuffle"), `more` a budget
+/// that would settle them.
+pub fn unresolved_note(test: &str, draw: &str, u: &crate::significance::budget::Unresolved, more: usize) -> String {
+    let one = u.at_floor == 1;
+    format!(
+        "{test}: {} of the {} pitchers tested met no {draw} of their data as strong as the real one (p = {:.4}, the least the {draw}s drawn allow), yet {} not flagged: with {} tests at once, a p-value that small clears the false-discovery bar only when at least {} tests reach it. Read {} as unresolved, not as showing nothing; a run with more {draw}s (`--permutations {}` or more) can settle {}.",
+        fmt_n(u.at_floor),
+        fmt_n(u.tests),
+        u.p,
+        if one { "he is" } else { "they are" },
+        fmt_n(u.tests),
+        fmt_n(u.needed),
+        if one { "him" } else { "them" },
+        more,
+        if one { "it" } else { "them" },
     )
 }
 

@@ -702,5 +702,15 @@ fn compare_notes(
             "With {permutations} label swaps per pitcher the smallest p-value a predictability change can reach is {minimum_p:.4}, above this run's bar for significance (about {cut:.4} among {tests} tests): no predictability change could pass. Run with --permutations {enough} or more to test it."
         ));
     }
+    // Changes no swap reached, left unflagged by the swaps' budget.
+    let family: Vec<(f64, bool, f64)> = pitchers.iter().filter_map(|p| p.predictability.as_ref()).map(|pr| (pr.p, pr.reached_none, pr.q)).collect();
+    if let Some(u) = crate::significance::budget::unresolved(&family, settings.audit.fdr()) {
+        notes.push(crate::audit::wording::unresolved_note(
+            "The predictability-change test",
+            "label swap",
+            &u,
+            u.enough_permutations(settings.audit.fdr(), permutations),
+        ));
+    }
     notes
 }

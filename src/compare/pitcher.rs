@@ -117,6 +117,7 @@ pub(super) fn ready(
             q: 1.0,
             permutations: swap.permutations,
             stopped_early: swap.stopped_early,
+            reached_none: swap.reached_none,
             studentised_statistic: swap.t,
             transfer_bits: *transfer,
             family: PREDICTABILITY_FAMILY.into(),

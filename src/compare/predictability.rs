@@ -124,6 +124,8 @@ pub struct SwapResult {
     pub p: f64,
     pub permutations: usize,
     pub stopped_early: bool,
+    /// No label swap reached the observed change.
+    pub reached_none: bool,
     /// Observed studentised statistic.
     pub t: f64,
     /// 95% interval of the bits and lift differences (see the module).
@@ -360,6 +362,7 @@ impl<'a> Deals<'a> {
             p: run.p_value,
             permutations: run.permutations,
             stopped_early: run.stopped_early,
+            reached_none: run.reached_none,
             t: self.t_obs,
             bits_interval: Interval { low: self.d_obs - bits_half, high: self.d_obs + bits_half },
             lift_interval,

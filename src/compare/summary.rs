@@ -232,6 +232,9 @@ pub struct Predictability {
     pub q: f64,
     pub permutations: usize,
     pub stopped_early: bool,
+    /// No label swap reached the observed change.
+    #[serde(skip)]
+    pub reached_none: bool,
     /// The studentised change the label-swap test ranks.
     pub studentised_statistic: f64,
     /// The before period's model on the after games, carried onto his

@@ -26,6 +26,9 @@ pub struct Sequential<N> {
     pub permutations: usize,
     pub stopped_early: bool,
     pub decided_early: bool,
+    /// No permutation reached the observed statistic: the p-value is the
+    /// least the permutations drawn allow (see `significance::budget`).
+    pub reached_none: bool,
 }
 
 /// Run at most `m` permutations: `null(j, scratch)` is permutation `j`'s
@@ -93,5 +96,6 @@ pub fn drive<W: Send, N: Send>(
         permutations: seq.permutations_run(),
         stopped_early: seq.stopped_early(),
         decided_early: seq.decided_early(),
+        reached_none: seq.exceedances() == 0,
     }
 }

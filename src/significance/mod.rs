@@ -6,6 +6,7 @@
 pub mod cmh;
 pub mod contingency;
 pub mod driver;
+pub mod budget;
 pub mod fdr;
 pub mod hypergeom;
 pub mod permutation_p;
