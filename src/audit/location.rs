@@ -179,6 +179,9 @@ pub struct LocationFigures {
     /// No permutation reached the observed statistic.
     #[serde(skip)]
     pub reached_none: bool,
+    /// Stopped at the early decision's size.
+    #[serde(skip)]
+    pub decided_early: bool,
     /// Held-out guess-right rate of the situational model's region, and of
     /// always guessing each pitch type's most used region.
     pub model_accuracy: f64,
@@ -317,6 +320,7 @@ pub fn audit(
             significant: q[w] <= settings.audit.fdr(),
             permutations: perms[w].permutations,
             reached_none: perms[w].reached_none,
+            decided_early: perms[w].decided_early,
             model_accuracy: o.model_right as f64 / scored,
             prior_accuracy: o.prior_right as f64 / scored,
             by_type: o

@@ -506,9 +506,16 @@ fn run_notes(
 /// (`significance::budget`): on a league-wide run, hundreds of tests at once.
 fn unresolved_notes(tested: &Tested, settings: &Settings) -> Vec<String> {
     let fdr = settings.audit.fdr();
-    let whole: Vec<(f64, bool, f64)> = tested.perms.iter().zip(&tested.model_q).map(|(p, &q)| (p.p_value, p.reached_none, q)).collect();
-    let beyond: Vec<(f64, bool, f64)> = tested.beyond_perms.iter().zip(&tested.beyond_q).map(|(p, &q)| (p.p_value, p.reached_none, q)).collect();
-    let location: Vec<(f64, bool, f64)> = tested.location.figures.iter().flatten().map(|f| (f.p_value, f.reached_none, f.q_value)).collect();
+    let outcome = |p: &permute::PermutationResult, q: f64| budget::Outcome { p: p.p_value, reached_none: p.reached_none, decided_early: p.decided_early, q };
+    let whole: Vec<budget::Outcome> = tested.perms.iter().zip(&tested.model_q).map(|(p, &q)| outcome(p, q)).collect();
+    let beyond: Vec<budget::Outcome> = tested.beyond_perms.iter().zip(&tested.beyond_q).map(|(p, &q)| outcome(p, q)).collect();
+    let location: Vec<budget::Outcome> = tested
+        .location
+        .figures
+        .iter()
+        .flatten()
+        .map(|f| budget::Outcome { p: f.p_value, reached_none: f.reached_none, decided_early: f.decided_early, q: f.q_value })
+        .collect();
     [("The whole-model test", whole), ("The beyond-the-sheet test", beyond), ("The location test (where his pitches go)", location)]
         .into_iter()
         .filter_map(|(name, family)| budget::unresolved(&family, fdr).map(|u| wording::unresolved_note(name, "shuffle", &u, u.enough_permutations(fdr, settings.audit.permutations()))))

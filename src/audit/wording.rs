@@ -351,12 +351,17 @@ mod tests {
     #[test]
     fn unresolved_note_counts_and_number() {
         use crate::significance::budget::Unresolved;
-        let many = unresolved_note("The location test", "shuffle", &Unresolved { tests: 1668, at_floor: 9, p: 1.0 / 941.0, needed: 36 }, 9999);
+        let many = unresolved_note("The location test", "shuffle", &Unresolved { tests: 1668, at_floor: 9, p: 1.0 / 941.0, needed: 36, decided_early: 0 }, 9999);
         assert!(many.starts_with("The location test: 9 of the 1,668 pitchers tested met no shuffle"), "{many}");
         assert!(many.contains("(p = 0.0011,") && many.contains("at least 36 tests") && many.contains("they are not flagged"), "{many}");
         assert!(many.contains("`--permutations 9999` or more") && many.ends_with("can settle them."), "{many}");
-        let one = unresolved_note("The whole-model test", "shuffle", &Unresolved { tests: 40, at_floor: 1, p: 0.001, needed: 2 }, 9999);
+        let one = unresolved_note("The whole-model test", "shuffle", &Unresolved { tests: 40, at_floor: 1, p: 0.001, needed: 2, decided_early: 0 }, 9999);
         assert!(one.contains("1 of the 40 pitchers") && one.contains("he is not flagged") && one.contains("Read him as") && one.ends_with("settle it."), "{one}");
+        // Tests decided early are not sent to a larger budget.
+        let early = unresolved_note("The predictability-change test", "label swap", &Unresolved { tests: 348, at_floor: 5, p: 1.0 / 1241.0, needed: 6, decided_early: 5 }, 4999);
+        assert!(!early.contains("--permutations") && early.ends_with("so more label swaps would not change them."), "{early}");
+        let some = unresolved_note("The location test", "shuffle", &Unresolved { tests: 668, at_floor: 7, p: 0.001, needed: 14, decided_early: 2 }, 4999);
+        assert!(some.contains("2 of them stopped early") && some.contains("`--permutations 4999` or more"), "{some}");
     }
 
     // Worked by hand: others 0.10 and 0.30 must grow to 0.60 in all; the
@@ -424,17 +429,26 @@ pub fn evaluation_sentence(e: &crate::evaluate::split::PitcherEvaluation) -> Str
 /// that would settle them.
 pub fn unresolved_note(test: &str, draw: &str, u: &crate::significance::budget::Unresolved, more: usize) -> String {
     let one = u.at_floor == 1;
+    let (they, them) = if one { ("he is", "him") } else { ("they are", "them") };
+    // A test decided early stopped at a size the other pitchers' first
+    // draws set, below the budget: a larger budget would not move it.
+    let advice = if u.decided_early == 0 {
+        format!("a run with more {draw}s (`--permutations {more}` or more) can settle {}.", if one { "it" } else { "them" })
+    } else if u.decided_early == u.at_floor {
+        format!("{} stopped early, when the other pitchers' first {draw}s foretold more results that strong than there were, so more {draw}s would not change {them}.", if one { "His test" } else { "Their tests" })
+    } else {
+        format!(
+            "{} of them stopped early, when the other pitchers' first {draw}s foretold more results that strong than there were; for the others, a run with more {draw}s (`--permutations {more}` or more) can settle them.",
+            fmt_n(u.decided_early)
+        )
+    };
     format!(
-        "{test}: {} of the {} pitchers tested met no {draw} of their data as strong as the real one (p = {:.4}, the least the {draw}s drawn allow), yet {} not flagged: with {} tests at once, a p-value that small clears the false-discovery bar only when at least {} tests reach it. Read {} as unresolved, not as showing nothing; a run with more {draw}s (`--permutations {}` or more) can settle {}.",
+        "{test}: {} of the {} pitchers tested met no {draw} of their data as strong as the real one (p = {:.4}, the least the {draw}s drawn allow), yet {they} not flagged: with {} tests at once, a p-value that small clears the false-discovery bar only when at least {} tests reach it. Read {them} as unresolved, not as showing nothing; {advice}",
         fmt_n(u.at_floor),
         fmt_n(u.tests),
         u.p,
-        if one { "he is" } else { "they are" },
         fmt_n(u.tests),
         fmt_n(u.needed),
-        if one { "him" } else { "them" },
-        more,
-        if one { "it" } else { "them" },
     )
 }
 

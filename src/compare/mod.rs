@@ -703,7 +703,11 @@ fn compare_notes(
         ));
     }
     // Changes no swap reached, left unflagged by the swaps' budget.
-    let family: Vec<(f64, bool, f64)> = pitchers.iter().filter_map(|p| p.predictability.as_ref()).map(|pr| (pr.p, pr.reached_none, pr.q)).collect();
+    let family: Vec<crate::significance::budget::Outcome> = pitchers
+        .iter()
+        .filter_map(|p| p.predictability.as_ref())
+        .map(|pr| crate::significance::budget::Outcome { p: pr.p, reached_none: pr.reached_none, decided_early: pr.decided_early, q: pr.q })
+        .collect();
     if let Some(u) = crate::significance::budget::unresolved(&family, settings.audit.fdr()) {
         notes.push(crate::audit::wording::unresolved_note(
             "The predictability-change test",

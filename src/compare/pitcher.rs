@@ -118,6 +118,7 @@ pub(super) fn ready(
             permutations: swap.permutations,
             stopped_early: swap.stopped_early,
             reached_none: swap.reached_none,
+            decided_early: swap.decided_early,
             studentised_statistic: swap.t,
             transfer_bits: *transfer,
             family: PREDICTABILITY_FAMILY.into(),

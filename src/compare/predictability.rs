@@ -126,6 +126,8 @@ pub struct SwapResult {
     pub stopped_early: bool,
     /// No label swap reached the observed change.
     pub reached_none: bool,
+    /// Stopped at the early decision's size.
+    pub decided_early: bool,
     /// Observed studentised statistic.
     pub t: f64,
     /// 95% interval of the bits and lift differences (see the module).
@@ -363,6 +365,7 @@ impl<'a> Deals<'a> {
             permutations: run.permutations,
             stopped_early: run.stopped_early,
             reached_none: run.reached_none,
+            decided_early: run.decided_early,
             t: self.t_obs,
             bits_interval: Interval { low: self.d_obs - bits_half, high: self.d_obs + bits_half },
             lift_interval,

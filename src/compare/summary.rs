@@ -235,6 +235,9 @@ pub struct Predictability {
     /// No label swap reached the observed change.
     #[serde(skip)]
     pub reached_none: bool,
+    /// Stopped at the early decision's size.
+    #[serde(skip)]
+    pub decided_early: bool,
     /// The studentised change the label-swap test ranks.
     pub studentised_statistic: f64,
     /// The before period's model on the after games, carried onto his

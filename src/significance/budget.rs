@@ -22,6 +22,21 @@ pub struct Unresolved {
     /// The fewest tests with a p-value that small for Benjamini–Hochberg to
     /// flag it: ⌈p · tests / fdr⌉.
     pub needed: usize,
+    /// Of the tests at the floor, those decided early (stopped at a size
+    /// the other tests' pilots set, below the budget): more permutations
+    /// would not change them.
+    pub decided_early: usize,
+}
+
+/// One test of a family as [`unresolved`] reads it.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Outcome {
+    pub p: f64,
+    /// No permutation reached the observed statistic.
+    pub reached_none: bool,
+    /// Stopped at the early decision's size.
+    pub decided_early: bool,
+    pub q: f64,
 }
 
 impl Unresolved {
@@ -40,13 +55,13 @@ impl Unresolved {
 }
 
 /// The family's unresolved tests, if any: `tests` holds each test's
-/// (p-value, whether no permutation reached the observed statistic,
-/// q-value), `fdr` the bar of the q-values.
-pub fn unresolved(tests: &[(f64, bool, f64)], fdr: f64) -> Option<Unresolved> {
-    let floor: Vec<f64> = tests.iter().filter(|&&(_, none, q)| none && q > fdr).map(|t| t.0).collect();
-    let p = floor.iter().copied().reduce(f64::min)?;
+/// outcome, `fdr` the bar of the q-values.
+pub fn unresolved(tests: &[Outcome], fdr: f64) -> Option<Unresolved> {
+    let floor: Vec<&Outcome> = tests.iter().filter(|t| t.reached_none && t.q > fdr).collect();
+    let p = floor.iter().map(|t| t.p).reduce(f64::min)?;
     let needed = (p * tests.len() as f64 / fdr).ceil().max(1.0) as usize;
-    Some(Unresolved { tests: tests.len(), at_floor: floor.len(), p, needed })
+    let decided_early = floor.iter().filter(|t| t.decided_early).count();
+    Some(Unresolved { tests: tests.len(), at_floor: floor.len(), p, needed, decided_early })
 }
 
 #[cfg(test)]
@@ -63,13 +78,13 @@ mod tests {
     fn needed_is_where_bh_starts_to_flag() {
         let (m, p, fdr) = (668, 1.0 / 941.0, 0.05);
         let family = |k: usize| -> Vec<f64> { (0..m).map(|i| if i < k { p } else { 0.5 }).collect() };
-        let with = |k: usize| -> Vec<(f64, bool, f64)> {
+        let with = |k: usize| -> Vec<Outcome> {
             let ps = family(k);
             let q = bh_q_values(&ps);
-            ps.iter().zip(&q).enumerate().map(|(i, (&p, &q))| (p, i < k, q)).collect()
+            ps.iter().zip(&q).enumerate().map(|(i, (&p, &q))| Outcome { p, reached_none: i < k, decided_early: i == 0, q }).collect()
         };
         let u = unresolved(&with(9), fdr).expect("nine strong tests, none flagged");
-        assert_eq!((u.tests, u.at_floor, u.p), (m, 9, p));
+        assert_eq!((u.tests, u.at_floor, u.p, u.decided_early), (m, 9, p, 1));
         // 668 / 941 / 0.05 = 14.2: fourteen are not enough, fifteen are.
         assert_eq!(u.needed, 15);
         assert!(bh_q_values(&family(u.needed - 1))[0] > fdr);
@@ -85,7 +100,8 @@ mod tests {
     /// floor; a family without floor tests has nothing unresolved.
     #[test]
     fn only_tests_no_permutation_reached() {
-        assert_eq!(unresolved(&[(0.002, false, 0.3), (0.4, false, 0.4)], 0.05), None);
+        let test = |p: f64, q: f64| Outcome { p, reached_none: false, decided_early: false, q };
+        assert_eq!(unresolved(&[test(0.002, 0.3), test(0.4, 0.4)], 0.05), None);
         assert_eq!(unresolved(&[], 0.05), None);
     }
 }
