@@ -153,8 +153,19 @@ pub fn permutation_test(
     null_test(Null::Situation, task, observed, settings, decide_at, pilot.nulls, progress)
 }
 
-/// Permutations of the pilot (see [`Pilot`]).
-pub const PILOT: usize = 19;
+/// Permutations of the pilot (see [`Pilot`]). A pilot with nothing to find
+/// is clear by chance once in `PILOT + 1`: with 99, one null test in a
+/// hundred, so a league's hundreds of null tests foresee few rejections
+/// that are not there (with 19, one in twenty did; see [`decision_at`]).
+/// A pilot stops at its first permutation that reaches the observed
+/// statistic, so a test with nothing to find still costs a few; a clear
+/// one's permutations are the first of his test.
+pub const PILOT: usize = 99;
+
+/// A test's pilot length under a budget of `m` permutations.
+pub fn pilot_len(m: usize) -> usize {
+    PILOT.min(m)
+}
 
 /// A test's pilot: its first permutations (up to `PILOT`, stopping at the
 /// first that reaches the observed statistic) and whether none did. The
@@ -175,16 +186,17 @@ pub fn pilot_sizes<N>(pilots: &[Pilot<N>], fdr: f64) -> Vec<usize> {
 
 /// The pilot of the whole-model test (see [`Pilot`]).
 pub fn pilot_whole(task: &PitcherTask, observed: Stat, settings: &Settings) -> Pilot {
-    pilot(observed, (Null::Situation.workspace(task), task.labels.clone()), |j, (ws, labels)| {
+    let len = pilot_len(settings.audit.permutations());
+    pilot(observed, (Null::Situation.workspace(task), task.labels.clone()), len, |j, (ws, labels)| {
         null_statistic(Null::Situation, task, settings, j, ws, labels)
     })
 }
 
 /// The pilot of any test: its permutations 0, 1, ... until one reaches
-/// `observed` or `PILOT` have been drawn.
-pub fn pilot<W>(observed: Stat, mut scratch: W, null_stat: impl Fn(u64, &mut W) -> Stat) -> Pilot {
-    let mut nulls = Vec::with_capacity(PILOT);
-    for j in 0..PILOT as u64 {
+/// `observed` or `len` have been drawn.
+pub fn pilot<W>(observed: Stat, mut scratch: W, len: usize, null_stat: impl Fn(u64, &mut W) -> Stat) -> Pilot {
+    let mut nulls = Vec::with_capacity(len);
+    for j in 0..len as u64 {
         let v = null_stat(j, &mut scratch);
         nulls.push(v);
         if v.reaches(&observed) {
@@ -201,10 +213,11 @@ pub fn pilot<W>(observed: Stat, mut scratch: W, null_stat: impl Fn(u64, &mut W) 
 /// clear by chance once in `PILOT + 1` (its observed statistic the largest
 /// of `PILOT + 1` exchangeable ones), so the pilots foresee 1 + the clear
 /// pilots beyond the (family − 1)/(PILOT + 1) chance gives. On a league's
-/// location tests (668 pitchers, 56 clear pilots, 33 of them expected by
-/// chance, 9 clear effects) counting every clear pilot sized the decision
-/// at 940 permutations, whose p = 1/941 BH cannot pass with 9 rejections.
-/// Any size taken from the other pitchers' pilots keeps the test valid.
+/// location tests (668 pitchers, 9 clear effects) pilots of 19 were clear
+/// for 56 pitchers, 33 of them by chance; counting every one sized the
+/// decision at 940 permutations, whose p = 1/941 BH cannot pass with 9
+/// rejections. Any size taken from the other pitchers' pilots keeps the
+/// test valid.
 pub fn decision_at(family: usize, others_clear: usize, fdr: f64) -> usize {
     let by_chance = family.saturating_sub(1) as f64 / (PILOT + 1) as f64;
     let foreseen = 1.0 + (others_clear as f64 - by_chance).max(0.0);
@@ -311,22 +324,22 @@ mod decision_tests {
     fn decision_size_from_family_and_pilots() {
         // Worked by hand. None foreseen: 4 × 18 = 72 tests → 72 / 0.05.
         assert_eq!(decision_at(18, 0, 0.05), 1440);
-        // 16 clear against 17/20 = 0.85 by chance: 16.15 foreseen, 72 / 16.15
-        // → 5 tests → 100.
+        // 16 clear against 17/100 = 0.17 by chance: 16.83 foreseen,
+        // 72 / 16.83 → 5 tests → 100.
         assert_eq!(decision_at(18, 16, 0.05), 100);
-        // 700 clear against 741/20 = 37.05 by chance: 663.95 foreseen,
-        // 2968 / 663.95 → 5 tests → 100.
+        // 700 clear against 741/100 = 7.41 by chance: 693.59 foreseen,
+        // 2968 / 693.59 → 5 tests → 100.
         assert_eq!(decision_at(742, 700, 0.05), 100);
         // p = 1/101 passes BH when at least 742 × (1/101) / 0.05 ≈ 147 tests
-        // reject, a quarter of the 664 foreseen.
-        assert!(1.0 / 101.0 <= 0.05 * (663.95 / 4.0) / 742.0);
+        // reject, a quarter of the 694 foreseen.
+        assert!(1.0 / 101.0 <= 0.05 * (693.59 / 4.0) / 742.0);
         assert_eq!(decision_at(742, 0, 0.05), 59_360);
-        // A league's location tests: 55 other clear pilots against 667/20 =
-        // 33.35 by chance, 22.65 foreseen: 2672 / 22.65 → 118 tests → 2360
-        // (counting every clear pilot gave 2672 / 56 → 48 tests → 960).
-        assert_eq!(decision_at(668, 55, 0.05), 2360);
+        // 55 other clear pilots among 668 against 667/100 = 6.67 by chance:
+        // 49.33 foreseen, 2672 / 49.33 → 55 tests → 1100 (counting every
+        // clear pilot: 2672 / 56 → 48 tests → 960).
+        assert_eq!(decision_at(668, 55, 0.05), 1100);
         // Fewer clear pilots than chance gives foresee none beyond his own.
-        assert_eq!(decision_at(668, 20, 0.05), decision_at(668, 0, 0.05));
+        assert_eq!(decision_at(668, 6, 0.05), decision_at(668, 0, 0.05));
     }
 }
 

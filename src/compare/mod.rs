@@ -534,7 +534,8 @@ fn period_rows(log: &PitchLog, before: &Period, after: &Period) -> Vec<[Vec<u32>
 
 /// Each ready pitcher's label-swap test of his predictability change, and
 /// his before model's transfer to the after games. A pilot of each
-/// pitcher's first PILOT deals says how many clear changes the run holds,
+/// pitcher's first deals (up to `PILOT`, until one reaches his change)
+/// says how many clear changes the run holds,
 /// to size each pitcher's early decision from the others' (as the audit's
 /// whole-model test does); his own test then goes on from his pilot's
 /// deals.
@@ -557,7 +558,7 @@ fn swap_tests(
             predictability::Deals::new(log, sit, *p, name, &rows[0], &rows[1], [&fits[0].cross, &fits[1].cross], settings)
         })
         .collect();
-    let pilots: Vec<Pilot<predictability::Deal>> = deals.par_iter().map(|d| d.pilot()).collect();
+    let pilots: Vec<Pilot<predictability::Deal>> = deals.par_iter().map(|d| d.pilot(permutations)).collect();
     timer.lap("compare: label-swap pilots");
     let sizes = pilot_sizes(&pilots, settings.audit.fdr());
     let swaps = ready

@@ -30,7 +30,7 @@
 //!   tell anything?
 
 use super::stream;
-use crate::audit::permute::{Pilot, PILOT};
+use crate::audit::permute::Pilot;
 use crate::error::Result;
 use crate::evaluate::fit::{self, argmax, Workspace};
 use crate::evaluate::split::{PitcherPlan, Plan};
@@ -315,14 +315,26 @@ impl<'a> Deals<'a> {
         }
     }
 
-    /// The pilot: the test's first `PILOT` deals (drawn in parallel), and
-    /// whether none reached the observed change. Its deals are handed to
-    /// [`Deals::test`], so none is drawn twice; the pilot only sizes the
-    /// other pitchers' early decisions.
-    pub fn pilot(&self) -> Pilot<Deal> {
+    /// The pilot: the test's first deals, up to `PILOT` of at most
+    /// `permutations`, drawn in parallel batches until a batch holds one
+    /// that reaches the observed change; and whether none did. Its deals
+    /// are handed to [`Deals::test`], so none is drawn twice; the pilot
+    /// only sizes the other pitchers' early decisions.
+    pub fn pilot(&self, permutations: usize) -> Pilot<Deal> {
         use rayon::prelude::*;
-        let nulls: Vec<Deal> = (0..PILOT as u64).into_par_iter().map(|j| self.deal(j)).collect();
-        Pilot { clear: !nulls.iter().any(|d| self.reaches(d)), nulls }
+        const BATCH: usize = 8;
+        let len = crate::audit::permute::pilot_len(permutations);
+        let mut nulls: Vec<Deal> = Vec::with_capacity(len);
+        while nulls.len() < len {
+            let (start, end) = (nulls.len(), (nulls.len() + BATCH).min(len));
+            let batch: Vec<Deal> = (start..end).into_par_iter().map(|j| self.deal(j as u64)).collect();
+            let reached = batch.iter().any(|d| self.reaches(d));
+            nulls.extend(batch);
+            if reached {
+                return Pilot { clear: false, nulls };
+            }
+        }
+        Pilot { clear: true, nulls }
     }
 
     /// The label-swap permutation test of the studentised change, with the

@@ -76,7 +76,11 @@ pub fn drive<W: Send, N: Send>(
         (0..rayon::current_num_threads().max(1)).map(|_| std::sync::Mutex::new(None)).collect();
     while start < m && !seq.is_done() {
         let size = seq.fewest_left().clamp(MIN_BATCH, BATCH);
-        let end = (start + size).min(m);
+        let mut end = (start + size).min(m);
+        // Never past the early decision's size: a clear test stops there.
+        if let Some(m1) = decide_at.filter(|&m1| start < m1) {
+            end = end.min(m1);
+        }
         let values: Vec<N> = (start..end)
             .into_par_iter()
             .map(|j| {
