@@ -275,7 +275,7 @@ pub fn audit_log(
     }
     timer.lap("pitcher summaries");
     let mut notes = run_notes(log, sit, &source, &chosen, tested.location.missing, settings);
-    notes.extend(unresolved_notes(&tested, settings));
+    notes.extend(unresolved_notes(&tested, &ok_tasks, settings));
     let staff_called = crate::outcomes::staff_called(&pitchers.iter().filter_map(|p| p.called_outcomes.as_ref()).collect::<Vec<_>>());
     let yardstick = if club_count(log).unwrap_or(0) > 1 { "league" } else { "staff" };
     drop(run);
@@ -504,8 +504,12 @@ fn run_notes(
 /// A note for each test family whose permutations were too few for its
 /// false-discovery control to flag the pitchers no permutation reached
 /// (`significance::budget`): on a league-wide run, hundreds of tests at once.
-fn unresolved_notes(tested: &Tested, settings: &Settings) -> Vec<String> {
+fn unresolved_notes(tested: &Tested, ok_tasks: &[&PitcherTask], settings: &Settings) -> Vec<String> {
     let fdr = settings.audit.fdr();
+    // The whole-model and beyond-the-sheet families are the audited
+    // pitchers in order; the location family those with location figures.
+    let names: Vec<&str> = ok_tasks.iter().map(|t| t.name.as_str()).collect();
+    let located: Vec<&str> = tested.location.figures.iter().zip(&names).filter(|(f, _)| f.is_some()).map(|(_, &n)| n).collect();
     let outcome = |p: &permute::PermutationResult, q: f64| budget::Outcome { p: p.p_value, reached_none: p.reached_none, decided_early: p.decided_early, q };
     let whole: Vec<budget::Outcome> = tested.perms.iter().zip(&tested.model_q).map(|(p, &q)| outcome(p, q)).collect();
     let beyond: Vec<budget::Outcome> = tested.beyond_perms.iter().zip(&tested.beyond_q).map(|(p, &q)| outcome(p, q)).collect();
@@ -516,9 +520,11 @@ fn unresolved_notes(tested: &Tested, settings: &Settings) -> Vec<String> {
         .flatten()
         .map(|f| budget::Outcome { p: f.p_value, reached_none: f.reached_none, decided_early: f.decided_early, q: f.q_value })
         .collect();
-    [("The whole-model test", whole), ("The beyond-the-sheet test", beyond), ("The location test (where his pitches go)", location)]
+    [("The whole-model test", whole, &names), ("The beyond-the-sheet test", beyond, &names), ("The location test (where his pitches go)", location, &located)]
         .into_iter()
-        .filter_map(|(name, family)| budget::unresolved(&family, fdr).map(|u| wording::unresolved_note(name, "shuffle", &u, u.enough_permutations(fdr, settings.audit.permutations()))))
+        .filter_map(|(test, family, who)| {
+            budget::unresolved(&family, fdr).map(|u| wording::unresolved_note(test, "shuffle", &u, who, u.enough_permutations(fdr, settings.audit.permutations())))
+        })
         .collect()
 }
 

@@ -351,17 +351,22 @@ mod tests {
     #[test]
     fn unresolved_note_counts_and_number() {
         use crate::significance::budget::Unresolved;
-        let many = unresolved_note("The location test", "shuffle", &Unresolved { tests: 1668, at_floor: 9, p: 1.0 / 941.0, needed: 36, decided_early: 0 }, 9999);
-        assert!(many.starts_with("The location test: 9 of the 1,668 pitchers tested met no shuffle"), "{many}");
+        let names: Vec<String> = (0..1668).map(|i| format!("P{i}")).collect();
+        let names: Vec<&str> = names.iter().map(|s| s.as_str()).collect();
+        let many = unresolved_note("The location test", "shuffle", &Unresolved { tests: 1668, at_floor: 9, p: 1.0 / 941.0, needed: 36, decided_early: 0, which: (0..9).collect() }, &names, 9999);
+        assert!(many.starts_with("The location test: 9 of the 1,668 pitchers tested (P0, P1, P2, P3, P4, P5, P6, P7, P8) met no shuffle"), "{many}");
         assert!(many.contains("(p = 0.0011,") && many.contains("at least 36 tests") && many.contains("they are not flagged"), "{many}");
         assert!(many.contains("`--permutations 9999` or more") && many.ends_with("can settle them."), "{many}");
-        let one = unresolved_note("The whole-model test", "shuffle", &Unresolved { tests: 40, at_floor: 1, p: 0.001, needed: 2, decided_early: 0 }, 9999);
-        assert!(one.contains("1 of the 40 pitchers") && one.contains("he is not flagged") && one.contains("Read him as") && one.ends_with("settle it."), "{one}");
+        let one = unresolved_note("The whole-model test", "shuffle", &Unresolved { tests: 40, at_floor: 1, p: 0.001, needed: 2, decided_early: 0, which: vec![7] }, &names, 9999);
+        assert!(one.contains("1 of the 40 pitchers tested (P7) met") && one.contains("he is not flagged") && one.contains("Read him as") && one.ends_with("settle it."), "{one}");
         // Tests decided early are not sent to a larger budget.
-        let early = unresolved_note("The predictability-change test", "label swap", &Unresolved { tests: 348, at_floor: 5, p: 1.0 / 1241.0, needed: 6, decided_early: 5 }, 4999);
+        let early = unresolved_note("The predictability-change test", "label swap", &Unresolved { tests: 348, at_floor: 5, p: 1.0 / 1241.0, needed: 6, decided_early: 5, which: (0..5).collect() }, &names, 4999);
         assert!(!early.contains("--permutations") && early.ends_with("so more label swaps would not change them."), "{early}");
-        let some = unresolved_note("The location test", "shuffle", &Unresolved { tests: 668, at_floor: 7, p: 0.001, needed: 14, decided_early: 2 }, 4999);
+        let some = unresolved_note("The location test", "shuffle", &Unresolved { tests: 668, at_floor: 7, p: 0.001, needed: 14, decided_early: 2, which: (0..7).collect() }, &names, 4999);
         assert!(some.contains("2 of them stopped early") && some.contains("`--permutations 4999` or more"), "{some}");
+        // More than a dozen are counted, not named.
+        let crowd = unresolved_note("The location test", "shuffle", &Unresolved { tests: 668, at_floor: 13, p: 0.001, needed: 14, decided_early: 0, which: (0..13).collect() }, &names, 4999);
+        assert!(crowd.contains("668 pitchers tested met") && !crowd.contains("P0"), "{crowd}");
     }
 
     // Worked by hand: others 0.10 and 0.30 must grow to 0.60 in all; the
@@ -425,10 +430,18 @@ pub fn evaluation_sentence(e: &crate::evaluate::split::PitcherEvaluation) -> Str
 
 /// A family's tests left unflagged at the least p-value their permutations
 /// allow (`significance::budget`), in words: `test` names the test ("The
-/// location test"), `draw` one permutation ("shuffle"), `more` a budget
-/// that would settle them.
-pub fn unresolved_note(test: &str, draw: &str, u: &crate::significance::budget::Unresolved, more: usize) -> String {
+/// location test"), `draw` one permutation ("shuffle"), `names` the
+/// family's pitchers (the note names those at the floor, up to a dozen),
+/// `more` a budget that would settle them.
+pub fn unresolved_note(test: &str, draw: &str, u: &crate::significance::budget::Unresolved, names: &[&str], more: usize) -> String {
     let one = u.at_floor == 1;
+    const NAMED: usize = 12;
+    let who = if u.which.len() <= NAMED {
+        let listed: Vec<&str> = u.which.iter().filter_map(|&i| names.get(i).copied()).collect();
+        format!(" ({})", listed.join(", "))
+    } else {
+        String::new()
+    };
     let (they, them) = if one { ("he is", "him") } else { ("they are", "them") };
     // A test decided early stopped at a size the other pitchers' first
     // draws set, below the budget: a larger budget would not move it.
@@ -443,7 +456,7 @@ pub fn unresolved_note(test: &str, draw: &str, u: &crate::significance::budget::
         )
     };
     format!(
-        "{test}: {} of the {} pitchers tested met no {draw} of their data as strong as the real one (p = {:.4}, the least the {draw}s drawn allow), yet {they} not flagged: with {} tests at once, a p-value that small clears the false-discovery bar only when at least {} tests reach it. Read {them} as unresolved, not as showing nothing; {advice}",
+        "{test}: {} of the {} pitchers tested{who} met no {draw} of their data as strong as the real one (p = {:.4}, the least the {draw}s drawn allow), yet {they} not flagged: with {} tests at once, a p-value that small clears the false-discovery bar only when at least {} tests reach it. Read {them} as unresolved, not as showing nothing; {advice}",
         fmt_n(u.at_floor),
         fmt_n(u.tests),
         u.p,

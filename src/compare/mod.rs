@@ -704,16 +704,19 @@ fn compare_notes(
         ));
     }
     // Changes no swap reached, left unflagged by the swaps' budget.
-    let family: Vec<crate::significance::budget::Outcome> = pitchers
+    let tested: Vec<(&str, &crate::compare::summary::Predictability)> =
+        pitchers.iter().filter_map(|p| p.predictability.as_ref().map(|pr| (p.pitcher.as_str(), pr))).collect();
+    let family: Vec<crate::significance::budget::Outcome> = tested
         .iter()
-        .filter_map(|p| p.predictability.as_ref())
-        .map(|pr| crate::significance::budget::Outcome { p: pr.p, reached_none: pr.reached_none, decided_early: pr.decided_early, q: pr.q })
+        .map(|(_, pr)| crate::significance::budget::Outcome { p: pr.p, reached_none: pr.reached_none, decided_early: pr.decided_early, q: pr.q })
         .collect();
+    let names: Vec<&str> = tested.iter().map(|(n, _)| *n).collect();
     if let Some(u) = crate::significance::budget::unresolved(&family, settings.audit.fdr()) {
         notes.push(crate::audit::wording::unresolved_note(
             "The predictability-change test",
             "label swap",
             &u,
+            &names,
             u.enough_permutations(settings.audit.fdr(), permutations),
         ));
     }

@@ -11,7 +11,7 @@
 
 /// Tests of a family that reached the least p-value their permutations
 /// allow and were not flagged.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct Unresolved {
     /// Tests in the family.
     pub tests: usize,
@@ -26,6 +26,8 @@ pub struct Unresolved {
     /// the other tests' pilots set, below the budget): more permutations
     /// would not change them.
     pub decided_early: usize,
+    /// Where the tests at the floor stand in the family, in order.
+    pub which: Vec<usize>,
 }
 
 /// One test of a family as [`unresolved`] reads it.
@@ -57,11 +59,11 @@ impl Unresolved {
 /// The family's unresolved tests, if any: `tests` holds each test's
 /// outcome, `fdr` the bar of the q-values.
 pub fn unresolved(tests: &[Outcome], fdr: f64) -> Option<Unresolved> {
-    let floor: Vec<&Outcome> = tests.iter().filter(|t| t.reached_none && t.q > fdr).collect();
-    let p = floor.iter().map(|t| t.p).reduce(f64::min)?;
+    let which: Vec<usize> = (0..tests.len()).filter(|&i| tests[i].reached_none && tests[i].q > fdr).collect();
+    let p = which.iter().map(|&i| tests[i].p).reduce(f64::min)?;
     let needed = (p * tests.len() as f64 / fdr).ceil().max(1.0) as usize;
-    let decided_early = floor.iter().filter(|t| t.decided_early).count();
-    Some(Unresolved { tests: tests.len(), at_floor: floor.len(), p, needed, decided_early })
+    let decided_early = which.iter().filter(|&&i| tests[i].decided_early).count();
+    Some(Unresolved { tests: tests.len(), at_floor: which.len(), p, needed, decided_early, which })
 }
 
 #[cfg(test)]
@@ -85,6 +87,7 @@ mod tests {
         };
         let u = unresolved(&with(9), fdr).expect("nine strong tests, none flagged");
         assert_eq!((u.tests, u.at_floor, u.p, u.decided_early), (m, 9, p, 1));
+        assert_eq!(u.which, (0..9).collect::<Vec<_>>());
         // 668 / 941 / 0.05 = 14.2: fourteen are not enough, fifteen are.
         assert_eq!(u.needed, 15);
         assert!(bh_q_values(&family(u.needed - 1))[0] > fdr);
