@@ -141,10 +141,12 @@ pub fn tell_shares(log: &PitchLog, sit: &Situations, league: &LeagueCells, tests
     // densely (a factor's unknown code is one more level, which no tell
     // asks for).
     let mut shapes: Vec<Shape> = Vec::new();
-    // Each wanted cell's slot, each tell's (slot, pitcher), and each slot's
-    // tell pitchers (their own pitches are taken out).
-    let mut slots: Vec<Vec<u32>> = Vec::new();
-    let mut key_of: Vec<Option<(u32, u32)>> = vec![None; tests.len()];
+    // Each wanted cell's slot (`n_slots` of them), each (slot, tell
+    // pitcher) pair's place among the own counts (his own pitches are taken
+    // out), and each tell's slot and place.
+    let mut n_slots = 0usize;
+    let mut own_at: HashMap<(u32, u32), usize> = HashMap::new();
+    let mut key_of: Vec<Option<(u32, usize)>> = vec![None; tests.len()];
     for (i, t) in tests.iter().enumerate().filter(|(_, t)| t.flagged) {
         let (Some(&p), Some(&ty)) = (
             pitcher_of.get(t.pitcher.as_str()),
@@ -173,32 +175,23 @@ pub fn tell_shares(log: &PitchLog, sit: &Situations, league: &LeagueCells, tests
         let shape = &mut shapes[si];
         let cell = shape.cell(&codes, hand, ty);
         if shape.slot[cell] == NO_SLOT {
-            shape.slot[cell] = slots.len() as u32;
-            slots.push(Vec::new());
+            shape.slot[cell] = n_slots as u32;
+            n_slots += 1;
         }
         let slot = shape.slot[cell];
-        if !slots[slot as usize].contains(&p) {
-            slots[slot as usize].push(p);
-        }
-        key_of[i] = Some((slot, p));
+        let n_own = own_at.len();
+        let own = *own_at.entry((slot, p)).or_insert(n_own);
+        key_of[i] = Some((slot, own));
     }
-    if slots.is_empty() {
+    if n_slots == 0 {
         return;
     }
-    // Each (slot, tell pitcher) pair's place among the own counts.
-    let mut own_at: HashMap<(u32, u32), usize> = HashMap::new();
-    for (slot, who) in slots.iter().enumerate() {
-        for &p in who {
-            let n = own_at.len();
-            own_at.entry((slot as u32, p)).or_insert(n);
-        }
-    }
-    let tell_pitcher: HashSet<u32> = slots.iter().flatten().copied().collect();
+    let tell_pitcher: HashSet<u32> = own_at.keys().map(|&(_, p)| p).collect();
     let arsenal = &league.arsenal;
     // League (n, of type) per slot, and each tell pitcher's own: integer
     // sums over chunks of rows, so the same at any thread count.
     let counts = |range: std::ops::Range<usize>| -> (Vec<[u64; 2]>, Vec<[u64; 2]>) {
-        let mut league = vec![[0u64; 2]; slots.len()];
+        let mut league = vec![[0u64; 2]; n_slots];
         let mut own = vec![[0u64; 2]; own_at.len()];
         for r in range {
             let (p, hand, y) = (log.pitcher[r], log.throws[r], log.pitch_type[r]);
@@ -240,13 +233,13 @@ pub fn tell_shares(log: &PitchLog, sit: &Situations, league: &LeagueCells, tests
         .into_par_iter()
         .map(|c| counts(c * CHUNK..((c + 1) * CHUNK).min(log.len())))
         .reduce(
-            || (vec![[0u64; 2]; slots.len()], vec![[0u64; 2]; own_at.len()]),
+            || (vec![[0u64; 2]; n_slots], vec![[0u64; 2]; own_at.len()]),
             add,
         );
     for (t, k) in tests.iter_mut().zip(key_of) {
-        let Some((slot, p)) = k else { continue };
+        let Some((slot, o)) = k else { continue };
         let [n, x] = league[slot as usize];
-        let [on, ox] = own_at.get(&(slot, p)).map_or([0, 0], |&o| own[o]);
+        let [on, ox] = own[o];
         let (n, x) = (n - on, x - ox);
         if n > 0 {
             t.league_share = Some(x as f64 / n as f64);

@@ -161,7 +161,9 @@ fn null_statistic(loc: &PitcherLocation, name: &str, settings: &Settings, j: u64
 }
 
 fn pilot(loc: &PitcherLocation, name: &str, observed: Stat, settings: &Settings) -> permute::Pilot {
-    permute::pilot(observed, scratch(loc), permute::pilot_len(settings.audit.permutations()), |j, s| null_statistic(loc, name, settings, j, s))
+    permute::pilot(scratch(loc), permute::pilot_len(settings.audit.permutations()), |j, s| null_statistic(loc, name, settings, j, s), |v| {
+        v.reaches(&observed)
+    })
 }
 
 /// A pitcher's location figures (`location` in summary.json).

@@ -187,19 +187,24 @@ pub fn pilot_sizes<N>(pilots: &[Pilot<N>], fdr: f64) -> Vec<usize> {
 /// The pilot of the whole-model test (see [`Pilot`]).
 pub fn pilot_whole(task: &PitcherTask, observed: Stat, settings: &Settings) -> Pilot {
     let len = pilot_len(settings.audit.permutations());
-    pilot(observed, (Null::Situation.workspace(task), task.labels.clone()), len, |j, (ws, labels)| {
-        null_statistic(Null::Situation, task, settings, j, ws, labels)
-    })
+    pilot(
+        (Null::Situation.workspace(task), task.labels.clone()),
+        len,
+        |j, (ws, labels)| null_statistic(Null::Situation, task, settings, j, ws, labels),
+        |v| v.reaches(&observed),
+    )
 }
 
-/// The pilot of any test: its permutations 0, 1, ... until one reaches
-/// `observed` or `len` have been drawn.
-pub fn pilot<W>(observed: Stat, mut scratch: W, len: usize, null_stat: impl Fn(u64, &mut W) -> Stat) -> Pilot {
+/// The pilot of any test (the audit's and compare's label swaps): its
+/// permutations 0, 1, ... until one `reaches` the observed statistic or
+/// `len` have been drawn. Pilots of different pitchers run in parallel.
+pub fn pilot<W, N>(mut scratch: W, len: usize, null: impl Fn(u64, &mut W) -> N, reaches: impl Fn(&N) -> bool) -> Pilot<N> {
     let mut nulls = Vec::with_capacity(len);
     for j in 0..len as u64 {
-        let v = null_stat(j, &mut scratch);
+        let v = null(j, &mut scratch);
+        let reached = reaches(&v);
         nulls.push(v);
-        if v.reaches(&observed) {
+        if reached {
             return Pilot { clear: false, nulls };
         }
     }

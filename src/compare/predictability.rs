@@ -316,25 +316,12 @@ impl<'a> Deals<'a> {
     }
 
     /// The pilot: the test's first deals, up to `PILOT` of at most
-    /// `permutations`, drawn in parallel batches until a batch holds one
-    /// that reaches the observed change; and whether none did. Its deals
-    /// are handed to [`Deals::test`], so none is drawn twice; the pilot
-    /// only sizes the other pitchers' early decisions.
+    /// `permutations`, until one reaches the observed change; and whether
+    /// none did (the audit's pilot, `permute::pilot`). Its deals are handed
+    /// to [`Deals::test`], so none is drawn twice; the pilot only sizes the
+    /// other pitchers' early decisions.
     pub fn pilot(&self, permutations: usize) -> Pilot<Deal> {
-        use rayon::prelude::*;
-        const BATCH: usize = 8;
-        let len = crate::audit::permute::pilot_len(permutations);
-        let mut nulls: Vec<Deal> = Vec::with_capacity(len);
-        while nulls.len() < len {
-            let (start, end) = (nulls.len(), (nulls.len() + BATCH).min(len));
-            let batch: Vec<Deal> = (start..end).into_par_iter().map(|j| self.deal(j as u64)).collect();
-            let reached = batch.iter().any(|d| self.reaches(d));
-            nulls.extend(batch);
-            if reached {
-                return Pilot { clear: false, nulls };
-            }
-        }
-        Pilot { clear: true, nulls }
+        crate::audit::permute::pilot((), crate::audit::permute::pilot_len(permutations), |j, _| self.deal(j), |d| self.reaches(d))
     }
 
     /// The label-swap permutation test of the studentised change, with the
