@@ -184,6 +184,10 @@ pub struct LocationFigures {
     /// Stopped at the early decision's size.
     #[serde(skip)]
     pub decided_early: bool,
+    /// Stopped once no outcome of its remaining permutations could get it
+    /// flagged among the location tests: its p-value is that of the
+    /// permutations drawn, an estimate.
+    pub ruled_out: bool,
     /// Held-out guess-right rate of the situational model's region, and of
     /// always guessing each pitch type's most used region.
     pub model_accuracy: f64,
@@ -298,15 +302,13 @@ pub fn audit(
         with.par_iter().map(|&i| pilot(&locs[i], &tasks[i].name, observed[i].totals.bits_stat(), settings)).collect();
     let sizes = permute::pilot_sizes(&pilots, settings.audit.fdr());
     timer.lap("location: pilots");
-    let perms: Vec<PermutationResult> = with
-        .par_iter()
-        .zip(pilots.into_par_iter().zip(sizes.par_iter()))
-        .map(|(&i, (pilot, &m1))| {
-            let (loc, name) = (&locs[i], &tasks[i].name);
-            let observed = observed[i].totals.bits_stat();
-            permute::drive(observed, settings, Some(m1), pilot.nulls, progress, || scratch(loc), |j, s| null_statistic(loc, name, settings, j, s))
-        })
-        .collect();
+    // One BH family: a test that can no longer be flagged in it stops.
+    let stats: Vec<Stat> = with.iter().map(|&i| observed[i].totals.bits_stat()).collect();
+    let members = pilots.into_iter().zip(sizes).map(|(pilot, m1)| permute::Member { known: pilot.nulls, decide_at: Some(m1) }).collect();
+    let perms: Vec<PermutationResult> = permute::drive_family(&stats, members, settings, progress, |w| scratch(&locs[with[w]]), |w, j, s| {
+        let i = with[w];
+        null_statistic(&locs[i], &tasks[i].name, settings, j, s)
+    });
     timer.lap("location: permutation tests");
     let q = fdr::bh_q_values(&perms.iter().map(|p| p.p_value).collect::<Vec<_>>());
     let mut figures: Vec<Option<LocationFigures>> = tasks.iter().map(|_| None).collect();
@@ -323,6 +325,7 @@ pub fn audit(
             permutations: perms[w].permutations,
             reached_none: perms[w].reached_none,
             decided_early: perms[w].decided_early,
+            ruled_out: perms[w].ruled_out,
             model_accuracy: o.model_right as f64 / scored,
             prior_accuracy: o.prior_right as f64 / scored,
             by_type: o

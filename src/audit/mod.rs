@@ -441,16 +441,15 @@ fn permutation_tests(
     let pilots: Vec<permute::Pilot> =
         ok_tasks.par_iter().zip(observed.par_iter()).map(|(t, o)| permute::pilot_whole(t, o.statistic, settings)).collect();
     let sizes = permute::pilot_sizes(&pilots, settings.audit.fdr());
-    ok_tasks
+    let whole: Vec<permute::PermutationResult> = ok_tasks
         .par_iter()
         .zip(observed.par_iter())
         .zip(pilots.into_par_iter().zip(sizes.par_iter()))
-        .map(|((t, o), (pilot, &m1))| {
-            let whole = permute::permutation_test(t, o.statistic, settings, Some(m1), pilot, tick);
-            let beyond = permute::null_test(permute::Null::BeyondSheet, t, o.beyond, settings, None, Vec::new(), tick);
-            (whole, beyond)
-        })
-        .collect()
+        .map(|((t, o), (pilot, &m1))| permute::permutation_test(t, o.statistic, settings, Some(m1), pilot, tick))
+        .collect();
+    let beyond_observed: Vec<_> = observed.iter().map(|o| o.beyond).collect();
+    let beyond = permute::beyond_tests(ok_tasks, &beyond_observed, settings, tick);
+    whole.into_iter().zip(beyond).collect()
 }
 
 /// How many clubs the log's `team` column names (None without one).

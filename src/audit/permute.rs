@@ -14,6 +14,8 @@
 use crate::evaluate::fit::{self, beyond_statistic, statistic, Stat, Workspace};
 use crate::evaluate::task::PitcherTask;
 use crate::settings::Settings;
+pub use crate::significance::driver::Member;
+use crate::significance::driver::Sequential;
 use crate::significance::permutation_p::SequentialPermutation;
 use rand::{Rng, SeedableRng};
 use rand_chacha::ChaCha8Rng;
@@ -31,6 +33,10 @@ pub struct PermutationResult {
     pub decided_early: bool,
     /// No permutation reached the observed statistic.
     pub reached_none: bool,
+    /// Stopped once no outcome of its remaining permutations could get it
+    /// flagged in its family (`significance::driver::drive_family`): its
+    /// p-value is that of the permutations drawn.
+    pub ruled_out: bool,
     /// Null statistics (primary) in permutation order.
     pub null: Vec<f64>,
 }
@@ -150,7 +156,7 @@ pub fn permutation_test(
     pilot: Pilot,
     progress: &(dyn Fn(u64) + Sync),
 ) -> PermutationResult {
-    null_test(Null::Situation, task, observed, settings, decide_at, pilot.nulls, progress)
+    situation_test(task, observed, settings, decide_at, pilot.nulls, progress)
 }
 
 /// Permutations of the pilot (see [`Pilot`]). A pilot with nothing to find
@@ -241,13 +247,14 @@ pub fn decision_sizes(clear: &[bool], fdr: f64) -> Vec<usize> {
     clear.iter().map(|&mine| decision_at(clear.len(), all_clear - mine as usize, fdr)).collect()
 }
 
-/// The permutation test of `null` (one driver for both tests): batches in
-/// parallel, read in order for Besag–Clifford stopping; the whole-model
-/// test is also decided early for a clear effect after `decide_at`
-/// permutations (`SequentialPermutation::with_early_decision`, sized by
-/// [`decision_at`]).
-pub fn null_test(
-    null: Null,
+/// The whole-model permutation test: batches in parallel, read in order
+/// for Besag–Clifford stopping, and decided early for a clear effect after
+/// `decide_at` permutations (`SequentialPermutation::with_early_decision`,
+/// sized by [`decision_at`]). On real logs nearly every pitcher's count and
+/// side habits make it significant, so that is where the refits go; the
+/// beyond-the-sheet test ([`beyond_tests`]), whose borderline pitchers
+/// matter most, keeps its full precision.
+fn situation_test(
     task: &PitcherTask,
     observed: Stat,
     settings: &Settings,
@@ -255,11 +262,7 @@ pub fn null_test(
     known: Vec<Stat>,
     progress: &(dyn Fn(u64) + Sync),
 ) -> PermutationResult {
-    // Only the whole-model test decides early: on real logs nearly every
-    // pitcher's count and side habits make it significant, so it is where
-    // the refits go; the beyond-the-sheet test, whose borderline pitchers
-    // matter most, keeps its full precision.
-    let decide_at = decide_at.filter(|_| null == Null::Situation);
+    let null = Null::Situation;
     drive(
         observed,
         settings,
@@ -268,6 +271,24 @@ pub fn null_test(
         progress,
         || (null.workspace(task), task.labels.clone()),
         |j, (ws, labels)| null_statistic(null, task, settings, j, ws, labels),
+    )
+}
+
+/// The beyond-the-sheet tests of a family of pitchers (the audited ones,
+/// one Benjamini–Hochberg family; `observed[i]` is `tasks[i]`'s statistic),
+/// run together: each by Besag–Clifford to the full budget, except that a
+/// test that can no longer be flagged in the family stops
+/// ([`drive_family`]). On a league most of this test's refits went to
+/// tests whose p-values lay below 0.05 but far above what BH could pass.
+pub fn beyond_tests(tasks: &[&PitcherTask], observed: &[Stat], settings: &Settings, progress: &(dyn Fn(u64) + Sync)) -> Vec<PermutationResult> {
+    let null = Null::BeyondSheet;
+    drive_family(
+        observed,
+        tasks.iter().map(|_| Member { known: Vec::new(), decide_at: None }).collect(),
+        settings,
+        progress,
+        |i| (null.workspace(tasks[i]), tasks[i].labels.clone()),
+        |i, j, (ws, labels)| null_statistic(null, tasks[i], settings, j, ws, labels),
     )
 }
 
@@ -294,6 +315,40 @@ pub fn drive<W: Send>(
         null_stat,
         |s: &Stat| s.reaches(&observed),
     );
+    result(observed, run)
+}
+
+/// The permutation tests of one Benjamini–Hochberg family of pitchers, run
+/// together (`significance::driver::drive_family`): `observed[i]` is test
+/// i's statistic, `members[i]` its pilot's permutations and early
+/// decision, `null_stat(i, j, scratch)` its permutation `j`'s statistic.
+/// A test that can no longer be flagged in the family stops (`ruled_out`);
+/// the family's flags are those of the full run.
+#[allow(clippy::too_many_arguments)]
+pub fn drive_family<W: Send>(
+    observed: &[Stat],
+    members: Vec<Member<Stat>>,
+    settings: &Settings,
+    progress: &(dyn Fn(u64) + Sync),
+    scratch: impl Fn(usize) -> W + Sync,
+    null_stat: impl Fn(usize, u64, &mut W) -> Stat + Sync,
+) -> Vec<PermutationResult> {
+    let at: Vec<usize> = (0..observed.len()).collect();
+    let runs = crate::significance::driver::drive_family(
+        &at,
+        members,
+        settings.audit.permutations(),
+        settings.audit.stop_after_exceedances(),
+        Some(settings.audit.fdr()),
+        progress,
+        |&i| scratch(i),
+        |&i, j, w| null_stat(i, j, w),
+        |&i, s: &Stat| s.reaches(&observed[i]),
+    );
+    observed.iter().zip(runs).map(|(&o, run)| result(o, run)).collect()
+}
+
+fn result(observed: Stat, run: Sequential<Stat>) -> PermutationResult {
     PermutationResult {
         observed: observed.primary,
         observed_tiebreak: observed.secondary,
@@ -302,6 +357,7 @@ pub fn drive<W: Send>(
         stopped_early: run.stopped_early,
         decided_early: run.decided_early,
         reached_none: run.reached_none,
+        ruled_out: run.ruled_out,
         null: run.nulls.iter().map(|s| s.primary).collect(),
     }
 }

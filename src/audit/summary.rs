@@ -275,6 +275,11 @@ pub struct PitcherSummary {
     pub beyond_permutations: Option<usize>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub beyond_significant: Option<bool>,
+    /// The beyond-the-sheet test stopped once no outcome of its remaining
+    /// permutations could get it flagged: its p-value is that of the
+    /// permutations drawn, an estimate; its flag is the full run's.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub beyond_ruled_out: Option<bool>,
     /// At most three findings in words, most pitches given away first.
     pub headline: Vec<String>,
     /// q-value of "he has some tell" (the first stage of the tell FDR control).

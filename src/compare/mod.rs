@@ -548,7 +548,7 @@ fn swap_tests(
     show_progress: bool,
     timer: &crate::progress::Timer,
 ) -> Vec<(predictability::SwapResult, Option<f64>)> {
-    use crate::audit::permute::{pilot_sizes, Pilot};
+    use crate::audit::permute::{pilot_sizes, Member, Pilot};
     let bar = crate::progress::bar((ready.len() * permutations) as u64, "label swaps", show_progress);
     let tick = |n: u64| bar.inc(n);
     let deals: Vec<predictability::Deals> = ready
@@ -561,15 +561,10 @@ fn swap_tests(
     let pilots: Vec<Pilot<predictability::Deal>> = deals.par_iter().map(|d| d.pilot(permutations)).collect();
     timer.lap("compare: label-swap pilots");
     let sizes = pilot_sizes(&pilots, settings.audit.fdr());
-    let swaps = ready
-        .par_iter()
-        .zip(deals.par_iter())
-        .zip(pilots.into_par_iter().zip(sizes.par_iter()))
-        .map(|(((p, rows, _), deals), (pilot, &m1))| {
-            let swap = deals.test(permutations, Some(m1), pilot.nulls, &tick);
-            (swap, predictability::transfer(log, sit, *p, &rows[0], &rows[1], settings))
-        })
-        .collect();
+    let members = pilots.into_iter().zip(sizes).map(|(pilot, m1)| Member { known: pilot.nulls, decide_at: Some(m1) }).collect();
+    let tests = predictability::swap_tests(&deals, members, permutations, settings, &tick);
+    let transfers: Vec<Option<f64>> = ready.par_iter().map(|(p, rows, _)| predictability::transfer(log, sit, *p, &rows[0], &rows[1], settings)).collect();
+    let swaps = tests.into_iter().zip(transfers).collect();
     bar.finish_and_clear();
     timer.lap("compare: label-swap tests");
     swaps

@@ -119,6 +119,7 @@ pub(super) fn ready(
             stopped_early: swap.stopped_early,
             reached_none: swap.reached_none,
             decided_early: swap.decided_early,
+            ruled_out: swap.ruled_out,
             studentised_statistic: swap.t,
             transfer_bits: *transfer,
             family: PREDICTABILITY_FAMILY.into(),

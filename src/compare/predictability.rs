@@ -128,6 +128,10 @@ pub struct SwapResult {
     pub reached_none: bool,
     /// Stopped at the early decision's size.
     pub decided_early: bool,
+    /// Stopped once no outcome of its remaining deals could get it flagged
+    /// among the predictability changes: its p-value is that of the deals
+    /// drawn, an estimate.
+    pub ruled_out: bool,
     /// Observed studentised statistic.
     pub t: f64,
     /// 95% interval of the bits and lift differences (see the module).
@@ -324,22 +328,9 @@ impl<'a> Deals<'a> {
         crate::audit::permute::pilot((), crate::audit::permute::pilot_len(permutations), |j, _| self.deal(j), |d| self.reaches(d))
     }
 
-    /// The label-swap permutation test of the studentised change, with the
-    /// interval of the change from the same deals: at most `permutations`
-    /// deals, the first ones `known` (from the pilot); decided early for a
-    /// clear change after `decide_at` deals (sized by the other pitchers'
-    /// pilots, as in the audit).
-    pub fn test(&self, permutations: usize, decide_at: Option<usize>, known: Vec<Deal>, progress: &(dyn Fn(u64) + Sync)) -> SwapResult {
-        let run = crate::significance::driver::drive(
-            permutations,
-            self.settings.audit.stop_after_exceedances(),
-            decide_at,
-            known,
-            progress,
-            || (),
-            |j, _| self.deal(j),
-            |d: &Deal| self.reaches(d),
-        );
+    /// The label-swap result of a run of deals: its p-value, and the
+    /// interval of the change from the same deals.
+    fn result(&self, run: crate::significance::driver::Sequential<Deal>) -> SwapResult {
         let (mut spread_bits, mut spread_lift) = (Vec::new(), Vec::new());
         for &(_, d, l) in run.nulls.iter().flatten() {
             spread_bits.push(d.abs());
@@ -365,11 +356,34 @@ impl<'a> Deals<'a> {
             stopped_early: run.stopped_early,
             reached_none: run.reached_none,
             decided_early: run.decided_early,
+            ruled_out: run.ruled_out,
             t: self.t_obs,
             bits_interval: Interval { low: self.d_obs - bits_half, high: self.d_obs + bits_half },
             lift_interval,
         }
     }
+}
+
+/// The label-swap permutation tests of one Benjamini–Hochberg family (the
+/// predictability changes, one per pitcher), run together: each at most
+/// `permutations` deals, the first ones from its pilot, decided early for
+/// a clear change after its `decide_at` deals (sized by the other pitchers'
+/// pilots, as in the audit); a test that can no longer be flagged in the
+/// family stops (`significance::driver::drive_family`). Each test's
+/// interval of the change comes from its own deals.
+pub fn swap_tests(deals: &[Deals], members: Vec<crate::significance::driver::Member<Deal>>, permutations: usize, settings: &Settings, progress: &(dyn Fn(u64) + Sync)) -> Vec<SwapResult> {
+    let runs = crate::significance::driver::drive_family(
+        deals,
+        members,
+        permutations,
+        settings.audit.stop_after_exceedances(),
+        Some(settings.audit.fdr()),
+        progress,
+        |_| (),
+        |d, j, _| d.deal(j),
+        |d, v| d.reaches(v),
+    );
+    deals.iter().zip(runs).map(|(d, run)| d.result(run)).collect()
 }
 
 /// Last period's tendencies on this period's games: the before model

@@ -238,6 +238,10 @@ pub struct Predictability {
     /// Stopped at the early decision's size.
     #[serde(skip)]
     pub decided_early: bool,
+    /// Stopped once no outcome of its remaining label swaps could get it
+    /// flagged among the predictability changes: `p` is that of the swaps
+    /// drawn, an estimate; its flag is the full run's.
+    pub ruled_out: bool,
     /// The studentised change the label-swap test ranks.
     pub studentised_statistic: f64,
     /// The before period's model on the after games, carried onto his

@@ -24,6 +24,22 @@ pub fn p_text(p: f64) -> String {
     }
 }
 
+/// A permutation test's p and q in words: "p = 0.004, q = 0.031"; for a
+/// test stopped once it could no longer pass the false-discovery bar,
+/// its values are estimates from the shuffles drawn, and it says so.
+pub fn p_and_q_text(p: f64, q: f64, shuffles: usize, ruled_out: bool) -> String {
+    if ruled_out {
+        format!(
+            "p ≈ {}, q ≈ {} (from {} shuffles: stopped once no further shuffle could bring it under the false-discovery bar)",
+            p_text(p),
+            p_text(q),
+            fmt_n(shuffles)
+        )
+    } else {
+        format!("p = {}, q = {}", p_text(p), p_text(q))
+    }
+}
+
 /// A p- or q-value in a narrow terminal column: "<0.001" or "0.012".
 pub fn p_cell(p: f64) -> String {
     if p < 0.001 {

@@ -406,7 +406,9 @@ fn difference_text(s: &CompareSummary, pr: &Predictability) -> String {
         .lift_difference_interval
         .map(|i| format!(" (95% interval {} to {})", points(i.low).trim_end_matches(" points"), points(i.high)))
         .unwrap_or_default();
-    let test = if pr.stopped_early {
+    let test = if pr.ruled_out {
+        format!("stopped after {} shuffles, once no further shuffle could bring it under the false-discovery bar, so p and q are estimates", pr.permutations)
+    } else if pr.stopped_early {
         format!("stopped early after {} shuffles", pr.permutations)
     } else {
         format!("{} shuffles", pr.permutations)

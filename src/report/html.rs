@@ -160,13 +160,12 @@ fn location_text(p: &crate::audit::summary::PitcherSummary, fdr: f64) -> String 
         "no evidence that the situation tells where a pitch goes beyond his usual spots for it."
     };
     let mut s = format!(
-        "Held out, a guess of the plate region from the situation and the pitch was right {} of the time, against {} for always guessing each pitch's usual region ({:+.3} bits per pitch, {} located pitches). Permutation test, regions shuffled within each pitch type's blocks of games: p = {}, q = {} — {verdict}",
+        "Held out, a guess of the plate region from the situation and the pitch was right {} of the time, against {} for always guessing each pitch's usual region ({:+.3} bits per pitch, {} located pitches). Permutation test, regions shuffled within each pitch type's blocks of games: {} — {verdict}",
         numbers::pct(l.model_accuracy),
         numbers::pct(l.prior_accuracy),
         l.bits_gained,
         numbers::fmt_n(l.n),
-        p_text(l.p_value),
-        p_text(l.q_value)
+        numbers::p_and_q_text(l.p_value, l.q_value, l.permutations, l.ruled_out)
     );
     if !l.left_out.is_empty() {
         let names: Vec<String> = l.left_out.iter().map(|t| format!("{} ({} located)", t.pitch_type, numbers::fmt_n(t.located_pitches))).collect();
@@ -194,12 +193,11 @@ fn pitcher_view(
     leaning.sort_by(|a, b| b.given_away.total_cmp(&a.given_away).then(a.count.cmp(&b.count)).then(a.bats.cmp(&b.bats)));
     let layers_text = match (p.sheet_bits, p.beyond_bits, p.beyond_p_value, p.beyond_q_value) {
         (Some(sb), Some(bb), Some(bp), Some(bq)) => format!(
-            "Of his {:+.3} bits per pitch, his sheet (mix by count and batter side, what every opponent charts) gives {:+.3}; everything beyond it {:+.3} (beyond-the-sheet test, labels shuffled within each game's count and side: p = {}, q = {}).",
+            "Of his {:+.3} bits per pitch, his sheet (mix by count and batter side, what every opponent charts) gives {:+.3}; everything beyond it {:+.3} (beyond-the-sheet test, labels shuffled within each game's count and side: {}).",
             g(p.bits_gained),
             sb,
             bb,
-            p_text(bp),
-            p_text(bq)
+            numbers::p_and_q_text(bp, bq, p.beyond_permutations.unwrap_or(0), p.beyond_ruled_out.unwrap_or(false))
         ),
         _ => String::new(),
     };

@@ -66,6 +66,27 @@ pub fn unresolved(tests: &[Outcome], fdr: f64) -> Option<Unresolved> {
     Some(Unresolved { tests: tests.len(), at_floor: which.len(), p, needed, decided_early, which })
 }
 
+/// The highest bar Benjamini–Hochberg can still set in a family whose
+/// tests' p-values are bounded below by `lower` (a finished test's bound is
+/// its p-value): fdr · R / m, with R the rejections BH makes on the bounds
+/// themselves. BH's rejections only fall as p-values rise (the step-up
+/// rule counts, for each r, the p-values at or below fdr · r / m), so
+/// whatever p-values at or above the bounds the family ends with, it makes
+/// at most R rejections, and a test whose bound lies above fdr · R / m is
+/// not among them. The same holds for the other tests' flags: for r ≤ R
+/// such a test never counts, whether it ends at its full run's p-value or
+/// at any other value above its bound, so stopping it changes no flag and
+/// no flagged test's q-value (our derivation from the step-up rule of
+/// Benjamini & Hochberg 1995; checked against the project's BH below).
+pub fn best_bar(lower: &[f64], fdr: f64) -> f64 {
+    let m = lower.len();
+    let rejections = crate::significance::fdr::bh_q_values(lower).into_iter().filter(|&q| q <= fdr).count();
+    if m == 0 {
+        return 0.0;
+    }
+    fdr * rejections as f64 / m as f64
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -106,5 +127,50 @@ mod tests {
         let test = |p: f64, q: f64| Outcome { p, reached_none: false, decided_early: false, q };
         assert_eq!(unresolved(&[test(0.002, 0.3), test(0.4, 0.4)], 0.05), None);
         assert_eq!(unresolved(&[], 0.05), None);
+    }
+
+    /// `best_bar` against the project's BH (checked against statsmodels in
+    /// tests/stats_reference.rs): in random families, any test whose bound
+    /// lies above the bar is never flagged, whatever p-values at or above
+    /// the bounds the family ends with, and the flags of the others are
+    /// the same whether such a test ends at one such value or another.
+    #[test]
+    fn a_test_above_the_best_bar_is_never_flagged() {
+        use rand::{Rng, SeedableRng};
+        let mut rng = rand_chacha::ChaCha8Rng::seed_from_u64(7);
+        let fdr = 0.05;
+        let mut above = 0;
+        for _ in 0..2000 {
+            let m = rng.random_range(1..60);
+            // Bounds as a family's exceedances allow: (b + 1)/1000, some
+            // tests with strong effects (b = 0).
+            let lower: Vec<f64> = (0..m).map(|_| (rng.random_range(0..120usize).saturating_sub(10) as f64 + 1.0) / 1000.0).collect();
+            let bar = best_bar(&lower, fdr);
+            let out: Vec<bool> = lower.iter().map(|&l| l > bar * (1.0 + 1e-9)).collect();
+            above += out.iter().filter(|&&o| o).count();
+            for _ in 0..5 {
+                // Two endings: every test at or above its bound; the tests
+                // above the bar moved elsewhere above theirs.
+                let end: Vec<f64> = lower.iter().map(|&l| (l + rng.random::<f64>() * rng.random::<f64>() * 0.05).min(1.0)).collect();
+                let moved: Vec<f64> = end.iter().zip(&lower).zip(&out).map(|((&e, &l), &o)| if o { (l + rng.random::<f64>() * 0.2).min(1.0) } else { e }).collect();
+                let (qe, qm) = (bh_q_values(&end), bh_q_values(&moved));
+                for i in 0..m {
+                    if out[i] {
+                        assert!(qe[i] > fdr && qm[i] > fdr, "a test above the bar was flagged");
+                    } else {
+                        assert_eq!(qe[i] <= fdr, qm[i] <= fdr, "another test's flag moved");
+                        if qe[i] <= fdr {
+                            assert_eq!(qe[i], qm[i], "a flagged test's q-value moved");
+                        }
+                    }
+                }
+            }
+        }
+        assert!(above > 1000, "the families should put many tests above the bar ({above})");
+        assert_eq!(best_bar(&[], fdr), 0.0);
+        // By hand: bounds 0.001, 0.002, 0.5 among three tests at 0.05:
+        // BH rejects the first two (0.001 ≤ 0.0167, 0.002 ≤ 0.0333), so the
+        // bar is 0.05 × 2/3.
+        assert!((best_bar(&[0.001, 0.002, 0.5], fdr) - 0.05 * 2.0 / 3.0).abs() < 1e-15);
     }
 }
