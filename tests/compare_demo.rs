@@ -272,3 +272,26 @@ fn more_than_two_seasons_give_predictability_per_season() {
     assert!(files.iter().any(|f| f.path.to_str() == Some("charts/compare-predictability-by-season-oren_vasquell.png")));
     std::fs::remove_dir_all(dir).ok();
 }
+
+/// With 19 label swaps the least p-value a predictability change can reach
+/// is 1/20 = 0.05, above the bar of its own Benjamini–Hochberg family (one
+/// test per compared pitcher; BH's step-up rule, Benjamini & Hochberg
+/// 1995): the notes say so once, either as the changes no swap reached or
+/// as the bar no further change can clear, counting that family's tests
+/// and not every test of the run.
+#[test]
+fn too_few_swaps_are_noted_once_against_the_predictability_family() {
+    let c = compare::run(&demo_log(), &settings(19), &request(PeriodSpec::Season(2025), PeriodSpec::Season(2026)), false).unwrap();
+    let family = c.summary.pitchers.iter().filter(|p| p.predictability.is_some()).count();
+    assert!(family >= 5, "only {family} pitchers compared");
+    let notes: Vec<&String> = c.summary.notes.iter().filter(|n| n.contains("label swap")).collect();
+    assert_eq!(notes.len(), 1, "{notes:?}");
+    let note = notes[0];
+    let counted = if note.starts_with("The predictability-change test") {
+        format!("of the {family} pitchers tested")
+    } else {
+        format!("among {family} predictability tests")
+    };
+    assert!(note.contains(&counted), "{note}");
+    assert!(!note.contains(&format!("among {} ", c.summary.tests)) || c.summary.tests == family, "{note}");
+}

@@ -367,6 +367,10 @@ mod tests {
         // More than a dozen are counted, not named.
         let crowd = unresolved_note("The location test", "shuffle", &Unresolved { tests: 668, at_floor: 13, p: 0.001, needed: 14, decided_early: 0, which: (0..13).collect() }, &names, 4999);
         assert!(crowd.contains("668 pitchers tested met") && !crowd.contains("P0"), "{crowd}");
+        // Among 12 tests at 1/20, BH needs ⌈0.05 · 12 / 0.05⌉ = 13 > 12:
+        // no count of tests can pass it, and the note says so.
+        let few = unresolved_note("The predictability-change test", "label swap", &Unresolved { tests: 12, at_floor: 2, p: 0.05, needed: 13, decided_early: 0, which: vec![0, 1] }, &names, 1999);
+        assert!(few.contains("cannot clear the false-discovery bar however many of them reach it") && !few.contains("at least 13"), "{few}");
     }
 
     // Worked by hand: others 0.10 and 0.30 must grow to 0.60 in all; the
@@ -455,13 +459,18 @@ pub fn unresolved_note(test: &str, draw: &str, u: &crate::significance::budget::
             fmt_n(u.decided_early)
         )
     };
+    // Among few tests the floor can lie above the bar even if every test
+    // reached it.
+    let bar = if u.needed > u.tests {
+        format!("with {} tests at once, a p-value that small cannot clear the false-discovery bar however many of them reach it", fmt_n(u.tests))
+    } else {
+        format!("with {} tests at once, a p-value that small clears the false-discovery bar only when at least {} tests reach it", fmt_n(u.tests), fmt_n(u.needed))
+    };
     format!(
-        "{test}: {} of the {} pitchers tested{who} met no {draw} of their data as strong as the real one (p = {:.4}, the least the {draw}s drawn allow), yet {they} not flagged: with {} tests at once, a p-value that small clears the false-discovery bar only when at least {} tests reach it. Read {them} as unresolved, not as showing nothing; {advice}",
+        "{test}: {} of the {} pitchers tested{who} met no {draw} of their data as strong as the real one (p = {:.4}, the least the {draw}s drawn allow), yet {they} not flagged: {bar}. Read {them} as unresolved, not as showing nothing; {advice}",
         fmt_n(u.at_floor),
         fmt_n(u.tests),
         u.p,
-        fmt_n(u.tests),
-        fmt_n(u.needed),
     )
 }
 

@@ -496,7 +496,7 @@ pub fn compare_log(
     drop(run);
     timer.lap("compare: changes");
     let (tests, significant) = apply_families(&mut pitchers, labels, settings);
-    let notes = compare_notes(sit, &source, &before, &after, &pitchers, tests, significant, permutations, settings);
+    let notes = compare_notes(sit, &source, &before, &after, &pitchers, permutations, settings);
     let summary = CompareSummary {
         tool: Tool::this(),
         input: Input::of(&source, log),
@@ -673,8 +673,6 @@ fn compare_notes(
     before: &Period,
     after: &Period,
     pitchers: &[PitcherChanges],
-    tests: usize,
-    significant: usize,
     permutations: usize,
     settings: &Settings,
 ) -> Vec<String> {
@@ -685,20 +683,8 @@ fn compare_notes(
             before.label, after.label
         ));
     }
-    // The bar one more test of this run would have to clear: BH rejects the
-    // (R+1)-th smallest p-value when it is at most fdr·(R+1)/m.
-    let cut = settings.audit.fdr() * (significant as f64 + 1.0) / tests.max(1) as f64;
-    let minimum_p = 1.0 / (permutations as f64 + 1.0);
-    if minimum_p > cut && pitchers.iter().any(|p| p.is_ok()) {
-        let enough = [999usize, 1999, 4999, 9999, 19_999, 49_999, 99_999]
-            .into_iter()
-            .find(|&n| 1.0 / (n as f64 + 1.0) <= cut / 2.0)
-            .unwrap_or(99_999);
-        notes.push(format!(
-            "With {permutations} label swaps per pitcher the smallest p-value a predictability change can reach is {minimum_p:.4}, above this run's bar for significance (about {cut:.4} among {tests} tests): no predictability change could pass. Run with --permutations {enough} or more to test it."
-        ));
-    }
-    // Changes no swap reached, left unflagged by the swaps' budget.
+    // The predictability changes form their own BH family (one test per
+    // pitcher), so their bar is that family's.
     let tested: Vec<(&str, &crate::compare::summary::Predictability)> =
         pitchers.iter().filter_map(|p| p.predictability.as_ref().map(|pr| (p.pitcher.as_str(), pr))).collect();
     let family: Vec<crate::significance::budget::Outcome> = tested
@@ -706,6 +692,7 @@ fn compare_notes(
         .map(|(_, pr)| crate::significance::budget::Outcome { p: pr.p, reached_none: pr.reached_none, decided_early: pr.decided_early, q: pr.q })
         .collect();
     let names: Vec<&str> = tested.iter().map(|(n, _)| *n).collect();
+    // Changes no swap reached, left unflagged by the swaps' budget.
     if let Some(u) = crate::significance::budget::unresolved(&family, settings.audit.fdr()) {
         notes.push(crate::audit::wording::unresolved_note(
             "The predictability-change test",
@@ -714,6 +701,23 @@ fn compare_notes(
             &names,
             u.enough_permutations(settings.audit.fdr(), permutations),
         ));
+    } else if !family.is_empty() {
+        // No change at the floor, but the floor itself may lie above the
+        // bar one more flagged change would have to clear: BH rejects the
+        // (R+1)-th smallest p-value when it is at most fdr·(R+1)/m.
+        let flagged = family.iter().filter(|o| o.q <= settings.audit.fdr()).count();
+        let cut = settings.audit.fdr() * (flagged as f64 + 1.0) / family.len() as f64;
+        let minimum_p = 1.0 / (permutations as f64 + 1.0);
+        if minimum_p > cut {
+            let enough = [999usize, 1999, 4999, 9999, 19_999, 49_999, 99_999]
+                .into_iter()
+                .find(|&n| 1.0 / (n as f64 + 1.0) <= cut / 2.0)
+                .unwrap_or(99_999);
+            notes.push(format!(
+                "With {permutations} label swaps per pitcher the smallest p-value a predictability change can reach is {minimum_p:.4}, above the bar for one more of them to pass (about {cut:.4} among {} predictability tests): no further predictability change could pass. Run with --permutations {enough} or more to test it.",
+                family.len()
+            ));
+        }
     }
     notes
 }
