@@ -99,33 +99,42 @@ impl PitcherTask {
                 crate::domain::levels::sheet_cell(log.balls[r], log.strikes[r], log.bats[r]) as u8
             })
             .collect();
-        let mut beyond_index: std::collections::HashMap<(u32, u8), usize> = std::collections::HashMap::new();
+        // Each row's game as a dense index (games sorted by id), for the
+        // tables below: a game × cell's stratum, a game's OOF fold.
+        let mut game_ids: Vec<u32> = rows.iter().map(|&r| log.game[r as usize]).collect();
+        game_ids.sort_unstable();
+        game_ids.dedup();
+        let game: Vec<u32> = rows.iter().map(|&r| log.game[r as usize]).collect();
+        let game_at: Vec<usize> = game.iter().map(|g| game_ids.binary_search(g).expect("his own game")).collect();
+        // Beyond-the-sheet strata: rows by game × sheet cell, numbered in
+        // order of first appearance.
+        let cells = cell.iter().map(|&c| c as usize + 1).max().unwrap_or(0);
+        let mut stratum_of = vec![usize::MAX; game_ids.len() * cells];
         let mut beyond_strata: Vec<Vec<u32>> = Vec::new();
-        for (i, &r) in rows.iter().enumerate() {
-            let slot = *beyond_index.entry((log.game[r as usize], cell[i])).or_insert_with(|| {
+        for (i, &at) in game_at.iter().enumerate() {
+            let slot = &mut stratum_of[at * cells + cell[i] as usize];
+            if *slot == usize::MAX {
+                *slot = beyond_strata.len();
                 beyond_strata.push(Vec::new());
-                beyond_strata.len() - 1
-            });
-            beyond_strata[slot].push(i as u32);
+            }
+            beyond_strata[*slot].push(i as u32);
         }
         let mut batters: Vec<u32> = rows.iter().map(|&r| log.batter[r as usize]).collect();
         batters.sort_unstable();
         batters.dedup();
         let batter: Vec<u32> =
             rows.iter().map(|&r| batters.binary_search(&log.batter[r as usize]).unwrap() as u32).collect();
-        let mut games: Vec<u32> = rows.iter().map(|&r| log.game[r as usize]).collect();
-        games.dedup();
-        let game: Vec<u32> = rows.iter().map(|&r| log.game[r as usize]).collect();
-        // Games in order of appearance, dealt round-robin into OOF folds.
-        let mut game_fold = std::collections::HashMap::new();
+        // Games in order of first appearance, dealt round-robin into OOF
+        // folds.
+        let mut game_fold = vec![u8::MAX; game_ids.len()];
         let mut next = 0usize;
-        for &g in &games {
-            game_fold.entry(g).or_insert_with(|| {
+        for &at in &game_at {
+            if game_fold[at] == u8::MAX {
+                game_fold[at] = (next % OOF_FOLDS) as u8;
                 next += 1;
-                ((next - 1) % OOF_FOLDS) as u8
-            });
+            }
         }
-        let oof = game.iter().map(|g| game_fold[g]).collect();
+        let oof = game_at.iter().map(|&at| game_fold[at]).collect();
 
         let (folds, discovery, held_out) = plan_rows(plan, rows.len());
 
