@@ -407,7 +407,7 @@ fn difference_text(s: &CompareSummary, pr: &Predictability) -> String {
         .map(|i| format!(" (95% interval {} to {})", points(i.low).trim_end_matches(" points"), points(i.high)))
         .unwrap_or_default();
     let test = if pr.ruled_out {
-        format!("stopped after {} shuffles, once no further shuffle could bring it under the false-discovery bar, so p and q are estimates", pr.permutations)
+        format!("stopped after {} shuffles, once no further shuffle could bring it under the false-discovery bar", pr.permutations)
     } else if pr.stopped_early {
         format!("stopped early after {} shuffles", pr.permutations)
     } else {
@@ -419,14 +419,15 @@ fn difference_text(s: &CompareSummary, pr: &Predictability) -> String {
     } else {
         ""
     };
+    // A test stopped once it could no longer pass gives estimates.
+    let (p_is, q) = if pr.ruled_out { ("≈", q_text(pr.q).replacen("q =", "q ≈", 1)) } else { ("=", q_text(pr.q)) };
     format!(
-        "Change from {bl} to {al}: {} bits per pitch (95% interval {} to {}); lift {}{lift_iv}. Label-swap test ({test}): p = {}, {}.{caveat}",
+        "Change from {bl} to {al}: {} bits per pitch (95% interval {} to {}); lift {}{lift_iv}. Label-swap test ({test}): p {p_is} {}, {q}.{caveat}",
         bits_text(pr.bits_difference),
         bits_text(iv.low),
         bits_text(iv.high),
         points(pr.lift_difference),
         p_text(pr.p),
-        q_text(pr.q)
     )
 }
 
