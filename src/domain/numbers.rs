@@ -24,19 +24,23 @@ pub fn p_text(p: f64) -> String {
     }
 }
 
-/// A permutation test's p and q in words: "p = 0.004, q = 0.031"; for a
-/// test stopped once it could no longer pass the false-discovery bar,
-/// its values are estimates from the shuffles drawn, and it says so.
+/// A test's p and q in words: "p = 0.004, q = 0.031", "p < 0.001, q =
+/// 0.012"; `estimated` (a test stopped once it could no longer pass the
+/// false-discovery bar) writes "≈" for "=".
+pub fn p_and_q(p: f64, q: f64, estimated: bool) -> String {
+    let is = |x: f64| if x < 0.001 { "< 0.001".to_string() } else { format!("{} {x:.3}", if estimated { "≈" } else { "=" }) };
+    format!("p {}, q {}", is(p), is(q))
+}
+
+/// A permutation test's p and q in words ([`p_and_q`]); for a test stopped
+/// once it could no longer pass the false-discovery bar, its values are
+/// estimates from the shuffles drawn, and it says so.
 pub fn p_and_q_text(p: f64, q: f64, shuffles: usize, ruled_out: bool) -> String {
+    let values = p_and_q(p, q, ruled_out);
     if ruled_out {
-        format!(
-            "p ≈ {}, q ≈ {} (from {} shuffles: stopped once no further shuffle could bring it under the false-discovery bar)",
-            p_text(p),
-            p_text(q),
-            fmt_n(shuffles)
-        )
+        format!("{values} (from {} shuffles: stopped once no further shuffle could bring it under the false-discovery bar)", fmt_n(shuffles))
     } else {
-        format!("p = {}, q = {}", p_text(p), p_text(q))
+        values
     }
 }
 
@@ -116,6 +120,11 @@ mod tests {
     #[test]
     fn spellings() {
         assert_eq!(p_text(0.0004), "< 0.001");
+        // p and q after their names: never "p = < 0.001".
+        assert_eq!(p_and_q(0.0005, 0.035, false), "p < 0.001, q = 0.035");
+        assert_eq!(p_and_q(0.025, 0.334, true), "p ≈ 0.025, q ≈ 0.334");
+        assert_eq!(p_and_q_text(0.004, 0.2, 500, false), "p = 0.004, q = 0.200");
+        assert!(p_and_q_text(0.089, 0.647, 100, true).starts_with("p ≈ 0.089, q ≈ 0.647 (from 100 shuffles: stopped once"));
         assert_eq!(p_text(0.0123), "0.012");
         assert_eq!(p_label(0.5), "= 0.500");
         assert_eq!(q_text(0.0009), "q < 0.001");

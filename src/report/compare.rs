@@ -4,7 +4,7 @@
 //! `summary.json`, `changes.csv`, `rejected.csv` and the charts under
 //! `charts/` as SVG and PNG.
 
-use crate::domain::numbers::{bits_text, fmt_n, p_text, points, q_text, share_text};
+use crate::domain::numbers::{self, bits_text, fmt_n, p_text, points, q_text, share_text};
 use super::charts::{self, Chart, ChartError};
 use super::csv::{rejected_csv, Table};
 use super::export::{Csv, Exporter, Html, Json, Sink};
@@ -419,15 +419,14 @@ fn difference_text(s: &CompareSummary, pr: &Predictability) -> String {
     } else {
         ""
     };
-    // A test stopped once it could no longer pass gives estimates.
-    let (p_is, q) = if pr.ruled_out { ("≈", q_text(pr.q).replacen("q =", "q ≈", 1)) } else { ("=", q_text(pr.q)) };
     format!(
-        "Change from {bl} to {al}: {} bits per pitch (95% interval {} to {}); lift {}{lift_iv}. Label-swap test ({test}): p {p_is} {}, {q}.{caveat}",
+        "Change from {bl} to {al}: {} bits per pitch (95% interval {} to {}); lift {}{lift_iv}. Label-swap test ({test}): {}.{caveat}",
         bits_text(pr.bits_difference),
         bits_text(iv.low),
         bits_text(iv.high),
         points(pr.lift_difference),
-        p_text(pr.p),
+        // A test stopped once it could no longer pass gives estimates.
+        numbers::p_and_q(pr.p, pr.q, pr.ruled_out),
     )
 }
 
