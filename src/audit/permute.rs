@@ -148,6 +148,14 @@ pub fn null_statistic(null: Null, task: &PitcherTask, settings: &Settings, j: u6
     null.statistic(&scored, settings)
 }
 
+/// The whole-model permutation test: batches in parallel, read in order
+/// for Besag–Clifford stopping, and decided early for a clear effect after
+/// `decide_at` permutations (`SequentialPermutation::with_early_decision`,
+/// sized by [`decision_at`]). On real logs nearly every pitcher's count and
+/// side habits make it significant, so that is where the refits go; the
+/// beyond-the-sheet test ([`beyond_tests`]), whose borderline pitchers
+/// matter most, keeps its full precision. Its first permutations are the
+/// pilot's.
 pub fn permutation_test(
     task: &PitcherTask,
     observed: Stat,
@@ -156,7 +164,16 @@ pub fn permutation_test(
     pilot: Pilot,
     progress: &(dyn Fn(u64) + Sync),
 ) -> PermutationResult {
-    situation_test(task, observed, settings, decide_at, pilot.nulls, progress)
+    let null = Null::Situation;
+    drive(
+        observed,
+        settings,
+        decide_at,
+        pilot.nulls,
+        progress,
+        || (null.workspace(task), task.labels.clone()),
+        |j, (ws, labels)| null_statistic(null, task, settings, j, ws, labels),
+    )
 }
 
 /// Permutations of the pilot (see [`Pilot`]). A pilot with nothing to find
@@ -245,33 +262,6 @@ pub fn decision_at(family: usize, others_clear: usize, fdr: f64) -> usize {
 pub fn decision_sizes(clear: &[bool], fdr: f64) -> Vec<usize> {
     let all_clear = clear.iter().filter(|&&c| c).count();
     clear.iter().map(|&mine| decision_at(clear.len(), all_clear - mine as usize, fdr)).collect()
-}
-
-/// The whole-model permutation test: batches in parallel, read in order
-/// for Besag–Clifford stopping, and decided early for a clear effect after
-/// `decide_at` permutations (`SequentialPermutation::with_early_decision`,
-/// sized by [`decision_at`]). On real logs nearly every pitcher's count and
-/// side habits make it significant, so that is where the refits go; the
-/// beyond-the-sheet test ([`beyond_tests`]), whose borderline pitchers
-/// matter most, keeps its full precision.
-fn situation_test(
-    task: &PitcherTask,
-    observed: Stat,
-    settings: &Settings,
-    decide_at: Option<usize>,
-    known: Vec<Stat>,
-    progress: &(dyn Fn(u64) + Sync),
-) -> PermutationResult {
-    let null = Null::Situation;
-    drive(
-        observed,
-        settings,
-        decide_at,
-        known,
-        progress,
-        || (null.workspace(task), task.labels.clone()),
-        |j, (ws, labels)| null_statistic(null, task, settings, j, ws, labels),
-    )
 }
 
 /// The beyond-the-sheet tests of a family of pitchers (the audited ones,
