@@ -475,6 +475,49 @@ fn permutation_p_values_are_never_zero() {
     assert!(SequentialPermutation::new(1.0, 10, 3).p_value() > 0.0);
 }
 
+/// The early decision's p-value for a test not decided early,
+/// P0(S ∪ {E_L ≤ c}), against scipy's beta-binomial closed form and a
+/// numerical integral over the observed statistic's null rank (fixture
+/// early_decision.json, made by make_early_decision_fixture.py with scipy
+/// 1.17.1). Through `SequentialPermutation` too: a full run of 999 with 9
+/// exceedances after a clear first 520 reads the fixture's (520, 999, 9),
+/// and a Besag–Clifford stop at the 10th exceedance on draw 601 (one of them
+/// among the first 520 in each) reads its
+/// (520, 600, 9).
+#[test]
+fn early_decision_p_matches_scipy_betabinom() {
+    let fx = fixture("early_decision.json");
+    let cases = fx["cases"].as_array().unwrap();
+    assert!(cases.len() >= 15);
+    for c in cases {
+        let (m1, big_l, k) = (u(&c["m1"]) as usize, u(&c["L"]) as usize, u(&c["c"]) as usize);
+        let got = permutation_p::early_decision_p(big_l, k, m1);
+        close(got, num(&c["p"]), 1e-9, 1e-13, &format!("early decision p (m1 {m1}, L {big_l}, c {k})"));
+        close(got, num(&c["p_quad"]), 1e-8, 1e-12, "against the integral");
+    }
+    let want = |m1: u64, l: u64, k: u64| {
+        let c = cases.iter().find(|c| (u(&c["m1"]), u(&c["L"]), u(&c["c"])) == (m1, l, k)).expect("case in the fixture");
+        num(&c["p"])
+    };
+    // A full run: 9 exceedances, one among the first 520 draws (so not
+    // decided early) and 8 late.
+    let mut s = SequentialPermutation::new(10.0, 999, 10).with_early_decision(520);
+    for j in 0..999 {
+        s.push(if j == 10 || (900..908).contains(&j) { 11.0 } else { 1.0 });
+    }
+    assert!(s.is_done() && !s.decided_early() && !s.stopped_early());
+    close(s.p_value(), want(520, 999, 9), 1e-9, 1e-13, "a full run after a clear start");
+    // Stopped at the 10th exceedance on draw 601 (draw 11 and draws
+    // 593..=601 reach it).
+    let mut s = SequentialPermutation::new(10.0, 999, 10).with_early_decision(520);
+    let mut j = 0;
+    while !s.push(if j == 10 || j >= 592 { 11.0 } else { 1.0 }) {
+        j += 1;
+    }
+    assert!(s.stopped_early() && s.permutations_run() == 601);
+    close(s.p_value(), want(520, 600, 9), 1e-9, 1e-13, "a Besag–Clifford stop after the decision's size");
+}
+
 // ------------------------------------------------------------------ resample
 
 #[test]

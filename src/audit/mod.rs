@@ -429,17 +429,21 @@ impl Tested {
 }
 
 /// Each audited pitcher's whole-model and beyond-the-sheet permutation
-/// tests. The whole-model test's early decision is sized from the other
-/// pitchers' pilots (each test's BH family is the audited pitchers): how
-/// many clear effects the run is likely to hold.
+/// tests. Each test's early decision is sized from the other pitchers'
+/// pilots of the same test (each test's BH family is the audited
+/// pitchers): how many clear effects the run is likely to hold.
 fn permutation_tests(
     ok_tasks: &[&PitcherTask],
     observed: &[Observed],
     settings: &Settings,
     tick: &(dyn Fn(u64) + Sync),
 ) -> Vec<(permute::PermutationResult, permute::PermutationResult)> {
-    let pilots: Vec<permute::Pilot> =
-        ok_tasks.par_iter().zip(observed.par_iter()).map(|(t, o)| permute::pilot_whole(t, o.statistic, settings)).collect();
+    // Both tests' pilots, every pitcher's in parallel.
+    let (pilots, beyond_pilots): (Vec<permute::Pilot>, Vec<permute::Pilot>) = ok_tasks
+        .par_iter()
+        .zip(observed.par_iter())
+        .map(|(t, o)| (permute::pilot_whole(t, o.statistic, settings), permute::pilot_of(permute::Null::BeyondSheet, t, o.beyond, settings)))
+        .unzip();
     let sizes = permute::pilot_sizes(&pilots, settings.audit.fdr());
     let whole: Vec<permute::PermutationResult> = ok_tasks
         .par_iter()
@@ -448,7 +452,7 @@ fn permutation_tests(
         .map(|((t, o), (pilot, &m1))| permute::permutation_test(t, o.statistic, settings, Some(m1), pilot, tick))
         .collect();
     let beyond_observed: Vec<_> = observed.iter().map(|o| o.beyond).collect();
-    let beyond = permute::beyond_tests(ok_tasks, &beyond_observed, settings, tick);
+    let beyond = permute::beyond_tests(ok_tasks, &beyond_observed, beyond_pilots, settings, tick);
     whole.into_iter().zip(beyond).collect()
 }
 

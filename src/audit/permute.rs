@@ -152,10 +152,8 @@ pub fn null_statistic(null: Null, task: &PitcherTask, settings: &Settings, j: u6
 /// for Besag–Clifford stopping, and decided early for a clear effect after
 /// `decide_at` permutations (`SequentialPermutation::with_early_decision`,
 /// sized by [`decision_at`]). On real logs nearly every pitcher's count and
-/// side habits make it significant, so that is where the refits go; the
-/// beyond-the-sheet test ([`beyond_tests`]), whose borderline pitchers
-/// matter most, keeps its full precision. Its first permutations are the
-/// pilot's.
+/// side habits make it significant, so that is where the refits go. Its
+/// first permutations are the pilot's.
 pub fn permutation_test(
     task: &PitcherTask,
     observed: Stat,
@@ -209,11 +207,16 @@ pub fn pilot_sizes<N>(pilots: &[Pilot<N>], fdr: f64) -> Vec<usize> {
 
 /// The pilot of the whole-model test (see [`Pilot`]).
 pub fn pilot_whole(task: &PitcherTask, observed: Stat, settings: &Settings) -> Pilot {
+    pilot_of(Null::Situation, task, observed, settings)
+}
+
+/// The pilot of a pitcher's test under `null` (see [`Pilot`]).
+pub fn pilot_of(null: Null, task: &PitcherTask, observed: Stat, settings: &Settings) -> Pilot {
     let len = pilot_len(settings.audit.permutations());
     pilot(
-        (Null::Situation.workspace(task), task.labels.clone()),
+        (null.workspace(task), task.labels.clone()),
         len,
-        |j, (ws, labels)| null_statistic(Null::Situation, task, settings, j, ws, labels),
+        |j, (ws, labels)| null_statistic(null, task, settings, j, ws, labels),
         |v| v.reaches(&observed),
     )
 }
@@ -265,16 +268,26 @@ pub fn decision_sizes(clear: &[bool], fdr: f64) -> Vec<usize> {
 }
 
 /// The beyond-the-sheet tests of a family of pitchers (the audited ones,
-/// one Benjamini–Hochberg family; `observed[i]` is `tasks[i]`'s statistic),
-/// run together: each by Besag–Clifford to the full budget, except that a
-/// test that can no longer be flagged in the family stops
-/// ([`drive_family`]). On a league most of this test's refits went to
-/// tests whose p-values lay below 0.05 but far above what BH could pass.
-pub fn beyond_tests(tasks: &[&PitcherTask], observed: &[Stat], settings: &Settings, progress: &(dyn Fn(u64) + Sync)) -> Vec<PermutationResult> {
+/// one Benjamini–Hochberg family; `observed[i]` is `tasks[i]`'s statistic,
+/// `pilots[i]` its pilot), run together: each by Besag–Clifford, decided
+/// early for a clear effect at the size the other pitchers' pilots give
+/// (as the whole-model test), and stopped once it can no longer be flagged
+/// in the family ([`drive_family`]). On a league most of this test's
+/// refits went to tests whose p-values lay below 0.05 but far above what
+/// BH could pass (a league's family is too large for an early decision
+/// below the budget); on a club's staff, to its few clear effects.
+pub fn beyond_tests(
+    tasks: &[&PitcherTask],
+    observed: &[Stat],
+    pilots: Vec<Pilot>,
+    settings: &Settings,
+    progress: &(dyn Fn(u64) + Sync),
+) -> Vec<PermutationResult> {
     let null = Null::BeyondSheet;
+    let sizes = pilot_sizes(&pilots, settings.audit.fdr());
     drive_family(
         observed,
-        tasks.iter().map(|_| Member { known: Vec::new(), decide_at: None }).collect(),
+        pilots.into_iter().zip(sizes).map(|(pilot, m1)| Member { known: pilot.nulls, decide_at: Some(m1) }).collect(),
         settings,
         progress,
         |i| (null.workspace(tasks[i]), tasks[i].labels.clone()),
