@@ -185,12 +185,15 @@ pub(crate) fn render<P: Painter>(
     })
 }
 
-/// Fixed encoder settings so the bytes depend on the pixels only.
+/// Fixed encoder settings so the bytes depend on the pixels only. The
+/// fast deflate with each row's best filter: on a league's 3,400 charts,
+/// 445 MB of PNG became 278 MB for 0.6 s more (the default deflate gave
+/// 173 MB for 3.6 s more, too dear for the league's minute).
 fn encode_png(rgb: &[u8], w: u32, h: u32) -> Result<Vec<u8>, ChartError> {
     use image024::codecs::png::{CompressionType, FilterType, PngEncoder};
     use image024::{ColorType, ImageEncoder};
     let mut out = Vec::new();
-    PngEncoder::new_with_quality(&mut out, CompressionType::Fast, FilterType::Sub)
+    PngEncoder::new_with_quality(&mut out, CompressionType::Fast, FilterType::Adaptive)
         .write_image(rgb, w, h, ColorType::Rgb8)
         .map_err(|e| ChartError::Encode(e.to_string()))?;
     Ok(out)
