@@ -372,6 +372,8 @@ pub struct FastTreeWorkspace {
     /// `sums[slot * slot_len + k * lanes + bit]`.
     sums: Vec<u32>,
     candidates: Vec<(usize, usize, f64)>,
+    /// Scratch of a node's split scan: each cut bit's rows on the right.
+    right_n: Vec<u32>,
     score_left: Vec<u32>,
     score_right: Vec<u32>,
 }
@@ -414,6 +416,7 @@ impl FastTreeWorkspace {
             acc: Vec::new(),
             sums: Vec::new(),
             candidates: Vec::new(),
+            right_n: Vec::new(),
             score_left: Vec::new(),
             score_right: Vec::new(),
         }
@@ -1171,6 +1174,19 @@ impl FastTreeWorkspace {
         // linfa's scan a cut is a candidate only when the last training row
         // with its code is in the node; that is checked first, so a deep
         // node, which holds the last row of few codes, scores few cuts.
+        //
+        // Each cut's rows on the right come first, summed over the classes
+        // for every bit at once (a loop the compiler vectorises), so a cut
+        // that would leave a side under the leaf size is passed over before
+        // its class sums of squares are taken (with many classes, as the
+        // location tasks' regions, those are most of a node's scan).
+        self.right_n.clear();
+        self.right_n.resize(lanes, 0);
+        for c in 0..k {
+            for (n, &r) in self.right_n.iter_mut().zip(&sums[c * lanes..(c + 1) * lanes]) {
+                *n += r;
+            }
+        }
         self.candidates.clear();
         let mut best_exact = f64::INFINITY;
         for (f, cuts) in self.cuts.iter().enumerate() {
@@ -1180,14 +1196,7 @@ impl FastTreeWorkspace {
                     continue;
                 }
                 let bit = cuts.bit + j;
-                let (mut n_right, mut sq_left, mut sq_right) = (0u32, 0u64, 0u64);
-                for (c, &total) in counts.iter().enumerate() {
-                    let r = right_of(bit, c);
-                    n_right += r;
-                    let (r, l) = (r as u64, (total - r) as u64);
-                    sq_left += l * l;
-                    sq_right += r * r;
-                }
+                let n_right = self.right_n[bit];
                 let n_left = n_node - n_right;
                 if every_node {
                     let here = prev_right - n_right; // node rows with code values[j]
@@ -1198,6 +1207,13 @@ impl FastTreeWorkspace {
                 }
                 if n_left < min_leaf || n_right < min_leaf {
                     continue;
+                }
+                let (mut sq_left, mut sq_right) = (0u64, 0u64);
+                for (c, &total) in counts.iter().enumerate() {
+                    let r = right_of(bit, c);
+                    let (r, l) = (r as u64, (total - r) as u64);
+                    sq_left += l * l;
+                    sq_right += r * r;
                 }
                 let score = 1.0
                     - (sq_left as f64 / n_left as f64 + sq_right as f64 / n_right as f64)
