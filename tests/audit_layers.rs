@@ -115,6 +115,34 @@ fn sheet_cells_sum_and_layers_add_up() {
     }
 }
 
+/// At the default 999 permutations both permutation tests decide a clear
+/// effect early (a test none of whose first m1 permutations reached its
+/// statistic stops with p = 1/(m1 + 1)), and m1 is sized so that such a
+/// p-value passes Benjamini–Hochberg whatever the others give: every test
+/// decided early is flagged. On the realistic demo some beyond-the-sheet
+/// tests are decided early (its planted beyond-the-sheet tells), so the
+/// check is not empty.
+#[test]
+fn a_test_decided_early_is_always_flagged() {
+    let audit = audit::run(&root().join("demo-data/demo-log.csv"), &settings(999), false).unwrap();
+    let decided = |perms: Option<usize>, p: Option<f64>, ruled_out: Option<bool>| match (perms, p) {
+        (Some(m), Some(p)) => m < 999 && ruled_out != Some(true) && (p - 1.0 / (m as f64 + 1.0)).abs() < 1e-15,
+        _ => false,
+    };
+    let (mut whole, mut beyond) = (0, 0);
+    for p in audit.summary.pitchers.iter().filter(|p| p.is_ok()) {
+        if decided(p.permutations, p.p_value, None) {
+            whole += 1;
+            assert_eq!(p.significant, Some(true), "{}: whole-model test decided early yet not flagged", p.pitcher);
+        }
+        if decided(p.beyond_permutations, p.beyond_p_value, p.beyond_ruled_out) {
+            beyond += 1;
+            assert_eq!(p.beyond_significant, Some(true), "{}: beyond-the-sheet test decided early yet not flagged", p.pitcher);
+        }
+    }
+    assert!(whole > 0 && beyond > 0, "{whole} whole-model and {beyond} beyond-the-sheet tests decided early");
+}
+
 fn write(log: &SimLog, tag: &str, seed: u64) -> PathBuf {
     let dir = std::env::temp_dir().join(format!("tellscope-layers-{}", std::process::id()));
     std::fs::create_dir_all(&dir).unwrap();
