@@ -349,6 +349,35 @@ mod tests {
         assert!((s.p_value() - 0.01).abs() < 1e-15);
     }
 
+    /// Bounds of the early decision's p-value that follow from its
+    /// definition, P0(S ∪ {E_L ≤ c}): at least x = P0(E_L ≤ c) and δ =
+    /// P0(S), at most their sum (the union bound it replaced), and rising
+    /// with c; with c = L − m1 or more every outcome with c exceedances by
+    /// L has none after m1 given S, so S ∩ {E_L ≤ c} = S and p = x.
+    #[test]
+    fn early_decision_p_lies_between_its_bounds() {
+        for &m1 in &[1usize, 20, 100, 359, 520, 1100] {
+            let delta = 1.0 / (m1 as f64 + 1.0);
+            for &big_l in &[m1, m1 + 1, m1 + 50, 999, 1999, 4999] {
+                if big_l < m1 {
+                    continue;
+                }
+                let mut last = 0.0;
+                for c in 0..30usize.min(big_l + 1) {
+                    let x = (c as f64 + 1.0) / (big_l as f64 + 1.0);
+                    let p = early_decision_p(big_l, c, m1);
+                    assert!(p >= x - 1e-15 && p >= delta - 1e-15, "m1 {m1}, L {big_l}, c {c}: {p} below {x} or {delta}");
+                    assert!(p <= (x + delta).min(1.0) + 1e-15, "m1 {m1}, L {big_l}, c {c}: {p} above the union bound");
+                    assert!(p >= last - 1e-15, "m1 {m1}, L {big_l}: falls at c {c}");
+                    if c >= big_l - m1 {
+                        assert!((p - x.max(delta)).abs() < 1e-12, "m1 {m1}, L {big_l}, c {c}: {p} against {x}");
+                    }
+                    last = p;
+                }
+            }
+        }
+    }
+
     #[test]
     fn sequential_rules() {
         // Besag & Clifford (1991): stop at h exceedances, p = h / l.
