@@ -442,7 +442,10 @@ fn permutation_tests(
     let (pilots, beyond_pilots): (Vec<permute::Pilot>, Vec<permute::Pilot>) = ok_tasks
         .par_iter()
         .zip(observed.par_iter())
-        .map(|(t, o)| (permute::pilot_whole(t, o.statistic, settings), permute::pilot_of(permute::Null::BeyondSheet, t, o.beyond, settings)))
+        .map(|(t, o)| {
+            use permute::{pilot_of, Null};
+            (pilot_of(Null::Situation, t, o.statistic, settings), pilot_of(Null::BeyondSheet, t, o.beyond, settings))
+        })
         .unzip();
     let sizes = permute::pilot_sizes(&pilots, settings.audit.fdr());
     let whole: Vec<permute::PermutationResult> = ok_tasks

@@ -205,12 +205,8 @@ pub fn pilot_sizes<N>(pilots: &[Pilot<N>], fdr: f64) -> Vec<usize> {
     decision_sizes(&pilots.iter().map(|p| p.clear).collect::<Vec<_>>(), fdr)
 }
 
-/// The pilot of the whole-model test (see [`Pilot`]).
-pub fn pilot_whole(task: &PitcherTask, observed: Stat, settings: &Settings) -> Pilot {
-    pilot_of(Null::Situation, task, observed, settings)
-}
-
-/// The pilot of a pitcher's test under `null` (see [`Pilot`]).
+/// The pilot of a pitcher's test under `null` (see [`Pilot`]): the
+/// whole-model test's (`Null::Situation`) or the beyond-the-sheet test's.
 pub fn pilot_of(null: Null, task: &PitcherTask, observed: Stat, settings: &Settings) -> Pilot {
     let len = pilot_len(settings.audit.permutations());
     pilot(
