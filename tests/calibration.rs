@@ -76,11 +76,7 @@ fn an_early_decision_keeps_permutation_p_values_valid() {
         ps.push(s.p_value());
     }
     // Half of the 1% to the decided share (two tails), half to the alphas.
-    let quantile = |p: f64, q: f64| {
-        use statrs::distribution::{Binomial, DiscreteCDF};
-        let b = Binomial::new(p, reps).unwrap();
-        (0..=reps).find(|&k| b.cdf(k) >= q).unwrap()
-    };
+    let quantile = |p: f64, q: f64| common::quantile(reps, p, q);
     let delta = 1.0 / (m1 as f64 + 1.0);
     let (lo, hi) = (quantile(delta, 0.0025), quantile(delta, 0.9975));
     assert!((lo..=hi).contains(&decided), "{decided} decided early of {reps}; band {lo}..={hi}");

@@ -7,10 +7,14 @@ use statrs::distribution::{Binomial, DiscreteCDF};
 
 /// Central 99% band of Binomial(n, p).
 pub fn band(n: u64, p: f64) -> (u64, u64) {
+    (quantile(n, p, 0.005), quantile(n, p, 0.995))
+}
+
+/// The least k with P(Binomial(n, p) ≤ k) ≥ q: a band's edge at any level,
+/// for a test that splits its 1% among several rules.
+pub fn quantile(n: u64, p: f64, q: f64) -> u64 {
     let b = Binomial::new(p, n).unwrap();
-    let lo = (0..=n).find(|&k| b.cdf(k) >= 0.005).unwrap();
-    let hi = (0..=n).find(|&k| b.cdf(k) >= 0.995).unwrap();
-    (lo, hi)
+    (0..=n).find(|&k| b.cdf(k) >= q).unwrap()
 }
 
 /// Uniform p-values: the count at or below 0.05 and at or below 0.5 each
