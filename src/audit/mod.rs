@@ -404,15 +404,20 @@ impl Tested {
         let tick = |n: u64| bar.inc(n);
         // The tell tests do not depend on the permutation tests; they run
         // alongside them and fill the workers' idle moments.
-        let (perms, mut tests) = rayon::join(
-            || permutation_tests(ok_tasks, &observed, settings, &tick),
-            || tells::find(log, sit, discovery, ok_tasks, settings),
+        // Where he throws it (its own permutation and tell tests) does not
+        // depend on them either: all three run together, so one stage's
+        // last, largest pitchers never leave a worker idle.
+        let ((perms, mut tests), location) = rayon::join(
+            || {
+                rayon::join(
+                    || permutation_tests(ok_tasks, &observed, settings, &tick),
+                    || tells::find(log, sit, discovery, ok_tasks, settings),
+                )
+            },
+            || location::audit(log, sit, discovery, ok_tasks, settings, &tick),
         );
-        timer.lap("permutation and tell tests");
-        // Where he throws it: its own permutation and tell tests.
-        let location = location::audit(log, sit, discovery, ok_tasks, settings, &tick);
         bar.finish_and_clear();
-        timer.lap("location tests");
+        timer.lap("permutation, tell and location tests");
         let (perms, beyond_perms): (Vec<_>, Vec<_>) = perms.into_iter().unzip();
         crate::outcomes::cost_of_tells(log, sit, ok_tasks, &mut tests, settings.audit.fdr());
         timer.lap("cost of tells");
