@@ -453,14 +453,20 @@ fn permutation_tests(
         })
         .unzip();
     let sizes = permute::pilot_sizes(&pilots, settings.audit.fdr());
-    let whole: Vec<permute::PermutationResult> = ok_tasks
-        .par_iter()
-        .zip(observed.par_iter())
-        .zip(pilots.into_par_iter().zip(sizes.par_iter()))
-        .map(|((t, o), (pilot, &m1))| permute::permutation_test(t, o.statistic, settings, Some(m1), pilot, tick))
-        .collect();
     let beyond_observed: Vec<_> = observed.iter().map(|o| o.beyond).collect();
-    let beyond = permute::beyond_tests(ok_tasks, &beyond_observed, beyond_pilots, settings, tick);
+    // The two tests are independent: the beyond-the-sheet family's rounds
+    // wait for their slowest pitcher, and the whole-model tests fill that wait.
+    let (whole, beyond): (Vec<permute::PermutationResult>, _) = rayon::join(
+        || {
+            ok_tasks
+                .par_iter()
+                .zip(observed.par_iter())
+                .zip(pilots.into_par_iter().zip(sizes.par_iter()))
+                .map(|((t, o), (pilot, &m1))| permute::permutation_test(t, o.statistic, settings, Some(m1), pilot, tick))
+                .collect()
+        },
+        || permute::beyond_tests(ok_tasks, &beyond_observed, beyond_pilots, settings, tick),
+    );
     whole.into_iter().zip(beyond).collect()
 }
 
