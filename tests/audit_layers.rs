@@ -125,17 +125,22 @@ fn sheet_cells_sum_and_layers_add_up() {
 #[test]
 fn a_test_decided_early_is_always_flagged() {
     let audit = audit::run(&root().join("demo-data/demo-log.csv"), &settings(999), false).unwrap();
-    let decided = |perms: Option<usize>, p: Option<f64>, ruled_out: Option<bool>| match (perms, p) {
-        (Some(m), Some(p)) => m < 999 && ruled_out != Some(true) && (p - 1.0 / (m as f64 + 1.0)).abs() < 1e-15,
-        _ => false,
+    // A test decided early stopped short of the budget with p = 1/(m + 1).
+    let decided = |flag: Option<bool>, perms: Option<usize>, p: Option<f64>| {
+        if flag != Some(true) {
+            return false;
+        }
+        let (m, p) = (perms.unwrap(), p.unwrap());
+        assert!(m < 999 && (p - 1.0 / (m as f64 + 1.0)).abs() < 1e-15, "decided early at {m} with p = {p}");
+        true
     };
     let (mut whole, mut beyond) = (0, 0);
     for p in audit.summary.pitchers.iter().filter(|p| p.is_ok()) {
-        if decided(p.permutations, p.p_value, None) {
+        if decided(p.decided_early, p.permutations, p.p_value) {
             whole += 1;
             assert_eq!(p.significant, Some(true), "{}: whole-model test decided early yet not flagged", p.pitcher);
         }
-        if decided(p.beyond_permutations, p.beyond_p_value, p.beyond_ruled_out) {
+        if decided(p.beyond_decided_early, p.beyond_permutations, p.beyond_p_value) {
             beyond += 1;
             assert_eq!(p.beyond_significant, Some(true), "{}: beyond-the-sheet test decided early yet not flagged", p.pitcher);
         }

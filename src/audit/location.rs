@@ -181,8 +181,7 @@ pub struct LocationFigures {
     /// No permutation reached the observed statistic.
     #[serde(skip)]
     pub reached_none: bool,
-    /// Stopped at the early decision's size.
-    #[serde(skip)]
+    /// Stopped as a clear effect, at the early decision's size.
     pub decided_early: bool,
     /// Stopped once no outcome of its remaining permutations could get it
     /// flagged among the location tests: its p-value is that of the

@@ -218,6 +218,11 @@ pub struct PitcherSummary {
     pub permutations: Option<usize>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub stopped_early: Option<bool>,
+    /// Stopped as a clear effect: none of its first `permutations`
+    /// reached the real statistic, at the size the other pitchers' pilots
+    /// set (p = 1/(permutations + 1)).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub decided_early: Option<bool>,
     #[serde(skip_serializing_if = "Option::is_none")]
     pub significant: Option<bool>,
     /// The permutation test's statistic with the real labels, and under
@@ -280,6 +285,10 @@ pub struct PitcherSummary {
     /// permutations drawn, an estimate; its flag is the full run's.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub beyond_ruled_out: Option<bool>,
+    /// The beyond-the-sheet test stopped as a clear effect (as
+    /// `decided_early`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub beyond_decided_early: Option<bool>,
     /// At most three findings in words, most pitches given away first.
     pub headline: Vec<String>,
     /// q-value of "he has some tell" (the first stage of the tell FDR control).

@@ -235,8 +235,8 @@ pub struct Predictability {
     /// No label swap reached the observed change.
     #[serde(skip)]
     pub reached_none: bool,
-    /// Stopped at the early decision's size.
-    #[serde(skip)]
+    /// Stopped as a clear change, at the early decision's size (no label
+    /// swap among the first `permutations` reached it).
     pub decided_early: bool,
     /// Stopped once no outcome of its remaining label swaps could get it
     /// flagged among the predictability changes: `p` is that of the swaps
