@@ -10,7 +10,7 @@
 //! audit's notes say so.
 
 use crate::ingest::PitchLog;
-use crate::domain::levels::Hand;
+use crate::domain::levels::{Hand, HandTally};
 use crate::situations::Situations;
 use crate::tells::TellTest;
 use rayon::prelude::*;
@@ -126,16 +126,14 @@ pub fn tell_shares(log: &PitchLog, sit: &Situations, league: &LeagueCells, tests
     let type_of: HashMap<&str, u16> = log.pitch_types.iter().enumerate().map(|(i, t)| (t.as_str(), i as u16)).collect();
     let n_types = log.pitch_types.len();
     // Each pitcher's usual hand (the audit's rule: most of his pitches).
-    let mut seen: Vec<Option<(Hand, usize, usize)>> = vec![None; log.pitchers.len()];
+    let mut seen: Vec<Option<HandTally>> = vec![None; log.pitchers.len()];
     for r in 0..log.len() {
-        let (first, same, other) = seen[log.pitcher[r] as usize].get_or_insert((log.throws[r], 0, 0));
-        if log.throws[r] == *first {
-            *same += 1;
-        } else {
-            *other += 1;
+        match &mut seen[log.pitcher[r] as usize] {
+            Some(t) => t.add(log.throws[r]),
+            slot @ None => *slot = Some(HandTally::new(log.throws[r])),
         }
     }
-    let hand_of: Vec<Option<Hand>> = seen.iter().map(|s| s.map(|(first, same, other)| Hand::usual(first, same, other))).collect();
+    let hand_of: Vec<Option<Hand>> = seen.iter().map(|s| s.map(|t| t.usual())).collect();
     // A situation's shape (its factor columns, at most two); within a
     // shape, a cell is its level codes, the hand and the type, numbered
     // densely (a factor's unknown code is one more level, which no tell

@@ -4,7 +4,7 @@
 
 use super::summary::*;
 use super::{count_summaries, headline, location, mix_of, pitches_by_team, sheet, wording, Tested};
-use crate::domain::levels::Hand;
+use crate::domain::levels::{Hand, HandTally};
 use crate::domain::numbers::fmt_n;
 use crate::evaluate::task::PitcherTask;
 use crate::evaluate::split::PitcherEvaluation;
@@ -31,13 +31,11 @@ pub(super) struct About {
 impl About {
     pub(super) fn of(log: &PitchLog, task: &PitcherTask, settings: &Settings) -> About {
         // His usual hand; a pitcher listed with both hands is said so.
-        let first = log.throws[task.rows[0] as usize];
-        let same = task.rows.iter().filter(|&&r| log.throws[r as usize] == first).count();
-        let other = task.rows.len() - same;
-        let usual = Hand::usual(first, same, other);
+        let tally = HandTally::of(task.rows.iter().map(|&r| log.throws[r as usize])).expect("a task has rows");
+        let usual = tally.usual();
         let throws = usual.as_str().to_string();
-        let hand_caution = (other > 0).then(|| {
-            let (n_usual, n_other) = if usual == first { (same, other) } else { (other, same) };
+        let hand_caution = (tally.other > 0).then(|| {
+            let (n_usual, n_other) = tally.split();
             let (hand, other_hand) = if usual == Hand::L { ("left", "right") } else { ("right", "left") };
             format!(
                 "The log lists him throwing with both hands ({} pitches {hand}-handed, {} {other_hand}-handed): batter side and platoon are read pitch by pitch, and he is shown as a {hand}-handed pitcher. If he throws with one hand, check the log's `throws` column.",

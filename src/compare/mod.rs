@@ -709,10 +709,7 @@ fn compare_notes(
         let cut = settings.audit.fdr() * (flagged as f64 + 1.0) / family.len() as f64;
         let minimum_p = 1.0 / (permutations as f64 + 1.0);
         if minimum_p > cut {
-            let enough = [999usize, 1999, 4999, 9999, 19_999, 49_999, 99_999]
-                .into_iter()
-                .find(|&n| 1.0 / (n as f64 + 1.0) <= cut / 2.0)
-                .unwrap_or(99_999);
+            let enough = crate::significance::budget::enough_for(cut / 2.0, permutations);
             notes.push(format!(
                 "With {permutations} label swaps per pitcher the smallest p-value a predictability change can reach is {minimum_p:.4}, above the bar for one more of them to pass (about {cut:.4} among {} predictability tests): no further predictability change could pass. Run with --permutations {enough} or more to test it.",
                 family.len()

@@ -272,6 +272,54 @@ mod tests {
     }
 }
 
+/// A pitcher's pitches by throwing hand, in log order: the hand of his
+/// first pitch, and how many of his pitches are thrown with it and with
+/// the other. The one count behind his usual hand wherever it is needed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct HandTally {
+    pub first: Hand,
+    pub same: usize,
+    pub other: usize,
+}
+
+impl HandTally {
+    /// A tally of one pitch.
+    pub fn new(first: Hand) -> HandTally {
+        HandTally { first, same: 1, other: 0 }
+    }
+
+    /// One more pitch, thrown with `hand`.
+    pub fn add(&mut self, hand: Hand) {
+        if hand == self.first {
+            self.same += 1;
+        } else {
+            self.other += 1;
+        }
+    }
+
+    /// The tally of these pitches' hands, in log order (None for none).
+    pub fn of(hands: impl IntoIterator<Item = Hand>) -> Option<HandTally> {
+        let mut it = hands.into_iter();
+        let mut t = HandTally::new(it.next()?);
+        it.for_each(|h| t.add(h));
+        Some(t)
+    }
+
+    /// His usual hand ([`Hand::usual`]).
+    pub fn usual(&self) -> Hand {
+        Hand::usual(self.first, self.same, self.other)
+    }
+
+    /// Pitches thrown with his usual hand and with the other.
+    pub fn split(&self) -> (usize, usize) {
+        if self.usual() == self.first {
+            (self.same, self.other)
+        } else {
+            (self.other, self.same)
+        }
+    }
+}
+
 #[cfg(test)]
 mod hand_tests {
     use super::Hand;
@@ -284,5 +332,18 @@ mod hand_tests {
         assert_eq!(Hand::usual(Hand::R, 4, 6), Hand::L);
         assert_eq!(Hand::usual(Hand::L, 5, 5), Hand::L);
         assert_eq!(Hand::usual(Hand::L, 1, 2), Hand::R);
+    }
+
+    /// A tally counts each hand against the first pitch's (worked by hand).
+    #[test]
+    fn a_tally_counts_hands_in_log_order() {
+        use super::HandTally;
+        use Hand::{L, R};
+        assert_eq!(HandTally::of([]), None);
+        let t = HandTally::of([L, R, R, L, R]).unwrap();
+        assert_eq!((t.first, t.same, t.other), (L, 2, 3));
+        assert_eq!((t.usual(), t.split()), (R, (3, 2)));
+        let t = HandTally::of([R, L]).unwrap();
+        assert_eq!((t.usual(), t.split()), (R, (1, 1)));
     }
 }

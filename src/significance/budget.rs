@@ -44,16 +44,21 @@ pub struct Outcome {
 impl Unresolved {
     /// A budget above `current` whose least p-value lets the tests at the
     /// floor pass Benjamini–Hochberg by themselves with room to spare (at
-    /// most half of fdr · at_floor / tests): the least of 1,999, 4,999,
-    /// 9,999, 19,999, 49,999 and 99,999 that does, else the largest.
+    /// most half of fdr · at_floor / tests), by [`enough_for`].
     pub fn enough_permutations(&self, fdr: f64, current: usize) -> usize {
-        let bar = fdr * self.at_floor as f64 / self.tests.max(1) as f64 / 2.0;
-        [1999, 4999, 9999, 19_999, 49_999, 99_999]
-            .into_iter()
-            .filter(|&n| n > current)
-            .find(|&n| 1.0 / (n as f64 + 1.0) <= bar)
-            .unwrap_or(99_999)
+        enough_for(fdr * self.at_floor as f64 / self.tests.max(1) as f64 / 2.0, current)
     }
+}
+
+/// The budget to suggest for a least p-value of at most `bar`: the least
+/// of 999, 1,999, 4,999, 9,999, 19,999, 49,999 and 99,999 above `current`
+/// whose least p-value 1/(n + 1) is at most `bar`, else the largest.
+pub fn enough_for(bar: f64, current: usize) -> usize {
+    [999, 1999, 4999, 9999, 19_999, 49_999, 99_999]
+        .into_iter()
+        .filter(|&n| n > current)
+        .find(|&n| 1.0 / (n as f64 + 1.0) <= bar)
+        .unwrap_or(99_999)
 }
 
 /// The family's unresolved tests, if any: `tests` holds each test's
@@ -118,6 +123,11 @@ mod tests {
         // (n >= 1484); with room to spare (half that), n >= 2968: 4,999.
         assert_eq!(u.enough_permutations(fdr, 999), 4999);
         assert_eq!(u.enough_permutations(fdr, 4999), 9999);
+        // Below the default budget the ladder starts at 999 (1/1000 is at
+        // most 0.001); above its top it stays there.
+        assert_eq!(enough_for(0.001, 200), 999);
+        assert_eq!(enough_for(0.001, 999), 1999);
+        assert_eq!(enough_for(1e-9, 999), 99_999);
     }
 
     /// A test with an exceedance, however small its p-value, is not at the
