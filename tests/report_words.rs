@@ -179,3 +179,26 @@ fn a_one_pitch_pitcher_is_not_called_hard_to_read() {
     assert!(a.summary.pitchers.iter().any(|p| p.pitcher == first && p.status == "ok"));
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A run asked for no shuffles says that no test was run, and never that
+/// its pitchers "met no shuffle as strong as the real one" (a floor of
+/// p = 1 that more shuffles could lower): the audit's three tests and
+/// compare's label swaps alike.
+#[test]
+fn a_run_without_shuffles_says_no_test_was_run() {
+    use tellscope::compare::{self, period::PeriodSpec, Request};
+    let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/plain-staff/demo-log.csv");
+    let s = Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(0), compare_permutations: Some(0), ..Overrides::default() }).unwrap();
+    let a = audit::run(&log, &s, false).unwrap();
+    let scored: Vec<_> = a.summary.pitchers.iter().filter_map(|p| p.p_value).collect();
+    assert!(!scored.is_empty() && scored.iter().all(|&p| p == 1.0), "{scored:?}");
+    let notes = &a.summary.notes;
+    assert!(notes.iter().any(|n| n.starts_with("No permutation test was run (`--permutations 0`)")), "{notes:#?}");
+    assert!(!notes.iter().any(|n| n.contains("met no shuffle")), "{notes:#?}");
+    let request = Request { before: PeriodSpec::parse("--before", "2025").unwrap(), after: PeriodSpec::parse("--after", "2026").unwrap() };
+    let c = compare::run(&log, &s, &request, false).unwrap();
+    assert!(c.summary.pitchers.iter().any(|p| p.predictability.is_some()), "some pitcher compared");
+    let notes = &c.summary.notes;
+    assert!(notes.iter().any(|n| n.starts_with("No label-swap test was run (`--permutations 0`)")), "{notes:#?}");
+    assert!(!notes.iter().any(|n| n.contains("met no label swap") || n.contains("smallest p-value a predictability change can reach")), "{notes:#?}");
+}

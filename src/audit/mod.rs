@@ -522,6 +522,13 @@ fn run_notes(
 /// false-discovery control to flag the pitchers no permutation reached
 /// (`significance::budget`): on a league-wide run, hundreds of tests at once.
 fn unresolved_notes(tested: &Tested, ok_tasks: &[&PitcherTask], settings: &Settings) -> Vec<String> {
+    if settings.audit.permutations() == 0 {
+        // Nothing was shuffled, so there is no floor to explain.
+        return vec![format!(
+            "No permutation test was run (`--permutations 0`): every p- and q-value reads 1 and no pitcher is flagged, whatever his figures. Run with `--permutations {}` to test them.",
+            crate::domain::defaults::AUDIT_PERMUTATIONS
+        )];
+    }
     let fdr = settings.audit.fdr();
     // The whole-model and beyond-the-sheet families are the audited
     // pitchers in order; the location family those with location figures.

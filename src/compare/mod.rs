@@ -693,7 +693,12 @@ fn compare_notes(
         .collect();
     let names: Vec<&str> = tested.iter().map(|(n, _)| *n).collect();
     // Changes no swap reached, left unflagged by the swaps' budget.
-    if let Some(u) = crate::significance::budget::unresolved(&family, settings.audit.fdr()) {
+    if permutations == 0 && !family.is_empty() {
+        notes.push(format!(
+            "No label-swap test was run (`--permutations 0`): every predictability change's p- and q-value reads 1 and none is flagged, whatever its size. Run with `--permutations {}` to test them.",
+            crate::domain::defaults::COMPARE_PERMUTATIONS
+        ));
+    } else if let Some(u) = crate::significance::budget::unresolved(&family, settings.audit.fdr()) {
         notes.push(crate::audit::wording::unresolved_note(
             "The predictability-change test",
             "label swap",
