@@ -219,3 +219,63 @@ fn outing_wobble_is_not_a_tell() {
     let (_, hi) = band(runs, 0.05);
     assert!(with_tell <= hi, "{with_tell} of {runs} wobbling staffs had a tell beyond the sheet (99% band at most {hi})");
 }
+
+/// Chance leans on the sheet: a staff with no count or side habit
+/// (tests/fixtures/scenarios/realistic_null_staff.toml: every pitcher's mix
+/// the same at every count and against either side) has, per pitcher, a
+/// leaning cell with chance at most fdr = 0.05 (Benjamini & Hochberg 1995:
+/// under the global null BH's false-discovery rate is its chance of any
+/// rejection; the per-cell tests are Bonferroni-widened for picking the
+/// top pitch). Pitchers with a leaning cell stay within the 99% binomial
+/// band of that rate (statrs' binomial CDF); the old rule (a Wilson
+/// interval above the season share in any of 24 cells) gave two pitchers
+/// in three.
+#[test]
+fn a_staff_without_count_habits_has_no_leaning_cells_beyond_chance() {
+    let text = std::fs::read_to_string(root().join("tests/fixtures/scenarios/realistic_null_staff.toml")).unwrap();
+    let scenario = Scenario::from_toml_str(&text).unwrap();
+    let (mut sheets, mut leaning) = (0u64, 0u64);
+    for seed in 1..=20u64 {
+        let path = write(&simulate(&scenario, 300 + seed), "nullsheet", seed);
+        let a = audit::run(&path, &seeded(0, Some(seed)), false).unwrap();
+        for p in a.summary.pitchers.iter().filter(|p| !p.sheet.is_empty()) {
+            sheets += 1;
+            leaning += p.sheet.iter().any(|c| c.leans) as u64;
+            for c in &p.sheet {
+                // A lean needs its q-value, and a thin cell has none.
+                assert!(!c.leans || c.lean_q.is_some_and(|q| q <= 0.05), "{} {} {}: leans with q {:?}", p.pitcher, c.count, c.bats, c.lean_q);
+                assert_eq!(c.lean_q.is_some(), c.n >= tellscope::domain::defaults::TELLS_MIN_N, "{} {} {}: n = {}", p.pitcher, c.count, c.bats, c.n);
+            }
+        }
+        std::fs::remove_file(&path).ok();
+    }
+    assert!(sheets >= 150, "only {sheets} sheets");
+    let hi = common::quantile(sheets, 0.05, 0.99);
+    assert!(leaning <= hi, "{leaning} of {sheets} pitchers without count habits have a leaning cell (99% band at most {hi})");
+}
+
+/// The headline's sheet findings on the realistic demo: his leaning cells
+/// when any cell leans, else his flagged count or side tells (worded "...
+/// against ...% otherwise"), and nothing when nothing is flagged. Some demo
+/// pitchers (relievers and half-season pitchers with the shared habits
+/// only) have no leaning cell but a flagged platoon tell, so the fallback
+/// is exercised.
+#[test]
+fn the_headline_falls_back_on_count_and_side_tells() {
+    let mut fell_back = 0;
+    for p in demo().summary.pitchers.iter().filter(|p| p.is_ok()) {
+        let leaning = p.sheet.iter().any(|c| c.leans);
+        let sheet_tells = p.tells.iter().filter(|t| t.layer == Layer::Sheet && t.within.is_none()).count();
+        let beyond_tells = p.tells.iter().filter(|t| t.layer == Layer::Beyond && t.within.is_none()).count();
+        let from_tells = p.headline.iter().filter(|h| h.contains(" otherwise (n = ")).count();
+        if leaning {
+            assert_eq!(from_tells, 0, "{}: a leaning cell, yet count or side tells in {:?}", p.pitcher, p.headline);
+        } else if sheet_tells > 0 {
+            assert!(from_tells > 0, "{}: no leaning cell and {sheet_tells} flagged sheet tells, yet {:?}", p.pitcher, p.headline);
+            fell_back += 1;
+        } else if beyond_tells == 0 {
+            assert!(p.headline.is_empty(), "{}: nothing flagged, yet {:?}", p.pitcher, p.headline);
+        }
+    }
+    assert!(fell_back > 0, "no demo pitcher fell back on his count or side tells");
+}

@@ -553,7 +553,8 @@ fn unresolved_notes(tested: &Tested, ok_tasks: &[&PitcherTask], settings: &Setti
 }
 
 /// At most three findings, most pitches given away a season first: the
-/// sheet's cells where he leans on one pitch beyond his season share of it,
+/// sheet's cells where he leans on one pitch beyond his season share of it
+/// (or, when none does, his flagged count and side tells),
 /// and his flagged tells beyond the sheet (the shift over what the sheet
 /// predicts, times the pitches in the situation a season).
 fn headline(cells: &[sheet::SheetCell], flagged: &[&TellTest], checked_on: &str) -> Vec<String> {
@@ -562,9 +563,16 @@ fn headline(cells: &[sheet::SheetCell], flagged: &[&TellTest], checked_on: &str)
         .filter(|c| c.leans)
         .map(|c| (c.given_away, sheet::cell_phrase(c)))
         .collect();
-    for t in flagged.iter().filter(|t| t.layer == tells::Layer::Beyond && t.within.is_none()) {
+    // With no cell standing out on its own, his flagged count or side
+    // tells (each pooling many cells) say where his sheet gives pitches away.
+    let sheet_too = found.is_empty();
+    for t in flagged.iter().filter(|t| t.within.is_none()) {
         let per_season = if t.held_out_n > 0 { t.held_out_n } else { t.n } as f64;
-        found.push((t.effect() * per_season, wording::beyond_short(t, checked_on)));
+        match t.layer {
+            tells::Layer::Beyond => found.push((t.effect() * per_season, wording::beyond_short(t, checked_on))),
+            tells::Layer::Sheet if sheet_too => found.push((t.effect() * per_season, wording::sheet_short(t, checked_on))),
+            tells::Layer::Sheet => {}
+        }
     }
     found.sort_by(|a, b| b.0.total_cmp(&a.0).then(a.1.cmp(&b.1)));
     found.into_iter().take(3).map(|(_, s)| s).collect()

@@ -6,7 +6,7 @@
 use crate::evaluate::task::PitcherTask;
 use crate::priors::{self, GroupCounts, UsagePrior};
 use crate::settings::Settings;
-use crate::significance::wilson;
+use crate::significance::{fdr, hypergeom, wilson};
 use crate::domain::levels::COUNTS;
 use serde::Serialize;
 use std::collections::BTreeMap;
@@ -30,8 +30,17 @@ pub struct SheetCell {
     /// His share of the top pitch over the whole season.
     pub season_share: f64,
     /// The cell leans on the top pitch: its interval lies above his season
-    /// share of it.
+    /// share of it, and its share stands out from the rest of his season
+    /// once his 24 cells are tested together (`lean_q` at most the run's
+    /// fdr).
     pub leans: bool,
+    /// The q-value of the cell's lean: a one-sided exact test of the top
+    /// pitch's count in the cell against the rest of his season
+    /// (hypergeometric, as Fisher's), times his pitch types for picking
+    /// the top one (Bonferroni), Benjamini–Hochberg over his cells with at
+    /// least `[tells] min_n` pitches; absent for a thinner cell.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub lean_q: Option<f64>,
     /// Pitches a hitter sitting on the top pitch in this cell guesses right
     /// beyond what the season share gives: (top_share − season_share) × n.
     pub given_away: f64,
@@ -77,7 +86,9 @@ pub fn sheet(
     let n_season: u32 = season.counts.iter().sum();
     let raw_share = |cls: usize| season.counts[cls] as f64 / n_season.max(1) as f64;
     let s = priors::strength(&g, &season.probs, settings.tree.prior_strength());
-    let mut cells = Vec::new();
+    let mut cells: Vec<SheetCell> = Vec::new();
+    // (cell, p-value of its lean) of the cells with enough pitches.
+    let mut lean_p: Vec<(usize, f64)> = Vec::new();
     for (c, count) in COUNTS.iter().enumerate() {
         for (side, bats) in ["L", "R"].iter().enumerate() {
             let cell = c * 2 + side;
@@ -87,7 +98,14 @@ pub fn sheet(
             let top_share = if n > 0 { row[top] as f64 / n as f64 } else { 0.0 };
             let ci = wilson::wilson_95(row[top] as u64, n as u64);
             let season_share = raw_share(top);
-            let leans = n >= settings.tells.min_n() && ci.low > season_share;
+            // Chance alone makes a few of 24 cells lean; the cell's test
+            // joins its pitcher's family below.
+            let tested = n >= settings.tells.min_n();
+            if tested {
+                let p = hypergeom::upper_tail(row[top] as u64, n_season as u64, season.counts[top] as u64, n as u64);
+                lean_p.push((cells.len(), (k as f64 * p).min(1.0)));
+            }
+            let leans = tested && ci.low > season_share;
             let counted = season_share >= crate::league::ARSENAL_SHARE;
             let his_season = (season.counts[top] as u64, n_season as u64);
             let other = league.0.share_without(league.1, latest, cell, task.class_types[top] as usize, (row[top] as u64, n as u64), his_season, counted);
@@ -115,12 +133,22 @@ pub fn sheet(
                     .collect(),
                 season_share,
                 leans,
+                lean_q: None,
                 given_away: if leans { (top_share - season_share) * n as f64 } else { 0.0 },
                 league_share: other.map(|x| x.share),
                 league_n: other.map(|x| x.n),
                 league_expected_share: expected,
                 above_league,
             });
+        }
+    }
+    let q = fdr::bh_q_values(&lean_p.iter().map(|&(_, p)| p).collect::<Vec<_>>());
+    for (&(i, _), &q) in lean_p.iter().zip(&q) {
+        let c = &mut cells[i];
+        c.lean_q = Some(q);
+        if q > settings.audit.fdr() {
+            c.leans = false;
+            c.given_away = 0.0;
         }
     }
     (cells, latest)

@@ -488,6 +488,19 @@ pub fn beyond_short(t: &TellTest, test_label: &str) -> String {
     format!("{sit}: {} {} where his count and side habits give {expected} (n = {}{check})", t.pitch_type, pct(t.share), fmt_n(t.n))
 }
 
+/// A flagged count or side tell for the headline: "Against same-side
+/// batters: slider 43% against 26% otherwise (n = 475; held at 40% in his
+/// 2026 games)".
+pub fn sheet_short(t: &TellTest, test_label: &str) -> String {
+    let sit = capitalize(&situation_phrase(&t.situation));
+    let check = match (t.verdict, t.held_out_share) {
+        (crate::tells::Verdict::Held, Some(h)) => format!("; held at {} in {test_label}", pct(h)),
+        (crate::tells::Verdict::Faded, Some(h)) => format!("; faded to {} in {test_label}", pct(h)),
+        _ => String::new(),
+    };
+    format!("{sit}: {} {} against {} otherwise (n = {}{check})", t.pitch_type, pct(t.share), pct(t.baseline_share), fmt_n(t.n))
+}
+
 /// Whether a tell costs him, in a coach's words, with the figures behind it.
 pub fn cost_sentence(t: &TellTest, c: &crate::tells::TellCost) -> String {
     let sit = situation_phrase(&t.situation);
