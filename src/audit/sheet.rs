@@ -60,10 +60,11 @@ pub struct SheetCell {
     #[serde(skip_serializing_if = "Option::is_none")]
     pub league_expected_share: Option<f64>,
     /// Well above the league: at least `tell_min_n` pitches, the lower end
-    /// of his share's Wilson 95% interval above the upper end of the
-    /// expectation's (the league's cell share's Wilson interval carried the
-    /// same way), and his share at least `[tells] min_effect` above
-    /// `league_expected_share`.
+    /// of his share's Wilson interval at level 1 − fdr / (24 × his pitch
+    /// types) (Bonferroni over the cells and the pick of the top pitch)
+    /// above the upper end of the expectation's (the league's cell share's
+    /// Wilson 95% interval carried the same way), and his share at least
+    /// `[tells] min_effect` above `league_expected_share`.
     pub above_league: bool,
 }
 
@@ -116,8 +117,13 @@ pub fn sheet(
                 let hi = wilson::wilson_95((o.share * o.n as f64).round() as u64, o.n).high;
                 (season_share * hi / o.season_share).min(1.0)
             });
+            // His share's interval widened for the 24 cells and his pitch
+            // types looked at together (Bonferroni), so that chance alone
+            // puts a cell above the league on at most one pitcher in
+            // 1/fdr (a 95% interval in each of 24 cells did on one in seven).
+            let together = wilson::wilson_interval(row[top] as u64, n as u64, 1.0 - settings.audit.fdr() / (COUNTS.len() * 2 * k) as f64);
             let above_league = match (expected, expected_high) {
-                (Some(e), Some(h)) => n >= settings.tells.min_n() && ci.low > h && top_share - e >= settings.tells.min_effect(),
+                (Some(e), Some(h)) => n >= settings.tells.min_n() && together.low > h && top_share - e >= settings.tells.min_effect(),
                 _ => false,
             };
             cells.push(SheetCell {
