@@ -192,3 +192,32 @@ fn forward_chaining_within_a_period_by_hand() {
     // Fewer games than blocks is an error, not a plan.
     assert!(Plan::forward_chaining(&log, &rows[..4], 3, "short").is_err());
 }
+
+/// compare's game-by-game mix test against scipy's exact permutation test
+/// (tests/fixtures/stats/game_permutation.json, made by
+/// make_game_permutation_fixture.py with scipy.stats.permutation_test,
+/// every deal of the games enumerated): the same G, and without an early
+/// stop a Monte Carlo p within four binomial standard errors (+ 2/m) of
+/// the exact one.
+#[test]
+fn game_mix_test_matches_scipys_exact_permutation_test() {
+    use tellscope::compare::mix::mix_test_by_games;
+    let text = std::fs::read_to_string(std::path::Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/stats/game_permutation.json")).unwrap();
+    let json: serde_json::Value = serde_json::from_str(&text).unwrap();
+    let games = |v: &serde_json::Value| -> Vec<Vec<u64>> {
+        v.as_array().unwrap().iter().map(|g| g.as_array().unwrap().iter().map(|x| x.as_u64().unwrap()).collect()).collect()
+    };
+    let cases = json["cases"].as_array().unwrap();
+    assert_eq!(cases.len(), 3);
+    for c in cases {
+        let (before, after) = (games(&c["before"]), games(&c["after"]));
+        let (g, exact) = (c["g"].as_f64().unwrap(), c["p_exact"].as_f64().unwrap());
+        let t = mix_test_by_games(&before, &after, &mut ChaCha8Rng::seed_from_u64(11), MONTE_CARLO_PERMUTATIONS + 1);
+        assert_eq!(t.test, TestKind::GamePermutationG);
+        assert!((t.statistic - g).abs() <= 1e-9 * g.max(1.0), "G {} vs scipy {g}", t.statistic);
+        assert_eq!(t.permutations, Some(MONTE_CARLO_PERMUTATIONS));
+        let m = MONTE_CARLO_PERMUTATIONS as f64;
+        let tol = 4.0 * (exact * (1.0 - exact) / m).sqrt() + 2.0 / m;
+        assert!((t.p - exact).abs() <= tol, "{before:?} {after:?}: Monte Carlo {} vs exact {exact}", t.p);
+    }
+}

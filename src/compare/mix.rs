@@ -15,15 +15,16 @@
 //!   shuffles, a clear shift the whole budget.
 //! * Both treat each pitch as an independent draw from the period's mix.
 //!   Pitches of one game share its opponent and the pitcher's feel that
-//!   night, so a real log can vary more than that (overdispersion) and
-//!   these p-values can then be too small; shuffling whole games between
-//!   the periods would allow for it (see the label-swap test in
-//!   `predictability`). The simulator draws pitches independently.
+//!   night, so a real log varies more than that (overdispersion) and
+//!   these p-values are then too small. `compare` therefore uses
+//!   [`mix_test_by_games`], which shuffles whole games between the periods;
+//!   these two remain as its one-pitch-per-game case and its references.
 //! * Effect size: the total variation distance between the two mixes,
 //!   ½ Σ |p_i − q_i|: the share of pitches that would have to change type
 //!   to turn one mix into the other.
 
 use crate::significance::contingency::{expected_counts_allow_asymptotic, g_term, table_test, TableStatistic};
+
 use crate::significance::permutation_p::SequentialPermutation;
 use crate::significance::resample::total_variation;
 use rand::Rng;
@@ -45,6 +46,9 @@ pub enum TestKind {
     MonteCarloG,
     /// Label-swap permutation of games between periods, model refitted.
     LabelSwapPermutation,
+    /// Whole games shuffled between the periods, G as the statistic
+    /// ([`mix_test_by_games`]).
+    GamePermutationG,
 }
 
 impl TestKind {
@@ -53,6 +57,7 @@ impl TestKind {
             TestKind::GTest => "g_test",
             TestKind::MonteCarloG => "monte_carlo_g",
             TestKind::LabelSwapPermutation => "label_swap_permutation",
+            TestKind::GamePermutationG => "game_permutation_g",
         }
     }
 }
@@ -175,6 +180,83 @@ impl MarginG {
     }
 }
 
+/// G of the 2 × K table with rows `b` and `a`, summed as `table_test`
+/// sums it (the first row's columns with a pitch, then the second's), so
+/// it is `table_test`'s G to the last bit without its allocations.
+fn g_two_rows(b: &[u64], a: &[u64]) -> f64 {
+    let nb: u64 = b.iter().sum();
+    let na: u64 = a.iter().sum();
+    let n = (nb + na) as f64;
+    let mut g = 0.0;
+    for (row, total) in [(b, nb), (a, na)] {
+        for (j, &o) in row.iter().enumerate() {
+            let col = b[j] + a[j];
+            if col > 0 {
+                g += g_term(o as f64, total as f64 * col as f64 / n);
+            }
+        }
+    }
+    g
+}
+
+/// Test equal mixes in the two periods with each period's pitches in
+/// games: `before[g]` and `after[g]` are one game's counts per pitch type
+/// (same order). Pitches of one game share its opponent and the
+/// pitcher's feel that night, so his mix wobbles from outing to outing and
+/// a test that treats pitches as independent finds "changes" that are only
+/// that wobble (on simulated staffs with no change and outing wobble, a
+/// third of the overall mix tests had p < 0.05). Here whole games are
+/// shuffled between the periods: under "the same mix in both periods"
+/// his outings are exchangeable, wobble and all. The statistic is the
+/// pooled table's G; a permutation deals the games with pitches in the cell
+/// to the periods at random, as many to each as it had (given which games
+/// have any, the deal is uniform under the null, so the test is exact up to
+/// Monte Carlo error), and the shuffles stop once `stop_after` of them
+/// reach the observed G (Besag & Clifford 1991) or after
+/// [`MONTE_CARLO_PERMUTATIONS`]. With one pitch per game it is the
+/// pitch-level test ([`mix_test`]'s Monte Carlo version).
+pub fn mix_test_by_games(before: &[Vec<u64>], after: &[Vec<u64>], rng: &mut ChaCha8Rng, stop_after: usize) -> MixTest {
+    let k = before.iter().chain(after).map(|g| g.len()).max().unwrap_or(0);
+    assert!(before.iter().chain(after).all(|g| g.len() == k), "one count per pitch type in every game");
+    let sum = |games: &[&Vec<u64>]| {
+        let mut t = vec![0u64; k];
+        for g in games {
+            t.iter_mut().zip(g.iter()).for_each(|(t, &x)| *t += x);
+        }
+        t
+    };
+    fn with_pitches(games: &[Vec<u64>]) -> Vec<&Vec<u64>> {
+        games.iter().filter(|g| g.iter().any(|&x| x > 0)).collect()
+    }
+    let (gb, ga) = (with_pitches(before), with_pitches(after));
+    let (b, a) = (sum(&gb), sum(&ga));
+    let as_f = |v: &[u64]| v.iter().map(|&x| x as f64).collect::<Vec<_>>();
+    let tvd = total_variation(&as_f(&b), &as_f(&a)).unwrap_or(0.0);
+    let obs = g_of(&b, &a);
+    let observed = g_two_rows(&b, &a);
+    if obs.dof == 0 || gb.is_empty() || ga.is_empty() {
+        return MixTest { test: TestKind::GamePermutationG, statistic: observed, dof: obs.dof, p: 1.0, permutations: Some(0), tvd };
+    }
+    let mut games: Vec<&Vec<u64>> = gb.iter().chain(&ga).copied().collect();
+    let total: Vec<u64> = b.iter().zip(&a).map(|(x, y)| x + y).collect();
+    let n_before = gb.len();
+    let (mut pb, mut pa) = (vec![0u64; k], vec![0u64; k]);
+    let mut seq = SequentialPermutation::new(observed, MONTE_CARLO_PERMUTATIONS, stop_after);
+    while !seq.is_done() {
+        // A uniform deal of n_before games to "before": the first n_before
+        // places of a partial Fisher–Yates shuffle.
+        pb.iter_mut().for_each(|x| *x = 0);
+        for i in 0..n_before {
+            let j = rng.random_range(i..games.len());
+            games.swap(i, j);
+            pb.iter_mut().zip(games[i].iter()).for_each(|(t, &x)| *t += x);
+        }
+        pa.iter_mut().zip(&total).zip(&pb).for_each(|((a, &t), &b)| *a = t - b);
+        seq.push(g_two_rows(&pb, &pa));
+    }
+    MixTest { test: TestKind::GamePermutationG, statistic: observed, dof: obs.dof, p: seq.p_value(), permutations: Some(seq.permutations_run()), tvd }
+}
+
 /// Shares of a count vector (all zero: all zero).
 pub fn shares(c: &[u64]) -> Vec<f64> {
     let n: u64 = c.iter().sum();
@@ -210,6 +292,30 @@ pub fn new_or_dropped(share_before: f64, share_after: f64, at_least: f64, below:
 mod tests {
     use super::*;
     use rand::SeedableRng;
+
+    /// The game test's G is `table_test`'s (itself checked against scipy's
+    /// `chi2_contingency`, lambda_="log-likelihood", in
+    /// tests/stats_reference.rs) to the last bit.
+    #[test]
+    fn the_game_tests_g_is_the_table_tests() {
+        for (b, a) in [(vec![50u64, 30, 20], vec![40u64, 35, 25]), (vec![9, 0, 1], vec![1, 8, 1]), (vec![7, 0, 0, 3], vec![2, 0, 5, 1])] {
+            assert_eq!(g_two_rows(&b, &a), g_of(&b, &a).statistic, "{b:?} {a:?}");
+        }
+    }
+
+    /// One pitch per game: the deal of games is a deal of pitches, so a
+    /// sharp shift is found; the same games on both sides find nothing.
+    #[test]
+    fn the_game_test_finds_a_shift_and_stops_on_none() {
+        let one = |t: usize| { let mut v = vec![0u64; 2]; v[t] = 1; v };
+        let before: Vec<Vec<u64>> = (0..40).map(|i| one((i % 10 == 0) as usize)).collect();
+        let after: Vec<Vec<u64>> = (0..40).map(|i| one((i % 10 != 0) as usize)).collect();
+        let t = mix_test_by_games(&before, &after, &mut ChaCha8Rng::seed_from_u64(2), 10);
+        assert_eq!(t.test, TestKind::GamePermutationG);
+        assert!(t.p < 0.001, "{}", t.p);
+        let same = mix_test_by_games(&before, &before, &mut ChaCha8Rng::seed_from_u64(2), 10);
+        assert_eq!((same.p, same.permutations), (1.0, Some(10)));
+    }
 
     #[test]
     fn large_tables_use_the_g_test() {

@@ -202,6 +202,33 @@ fn tallies(log: &PitchLog, rows: &[u32], types: &[u16]) -> (Vec<u64>, Vec<Vec<u6
     (all, by)
 }
 
+/// One period's pitches of a pitcher game by game (his games in id
+/// order): each game's counts per pitch type (his types' order), overall
+/// and in each count. The mix tests shuffle whole games between the
+/// periods ([`mix::mix_test_by_games`]).
+struct GameTallies {
+    all: Vec<Vec<u64>>,
+    /// `by[count][game]`.
+    by: Vec<Vec<Vec<u64>>>,
+}
+
+fn game_tallies(log: &PitchLog, rows: &[u32], types: &[u16]) -> GameTallies {
+    let k = types.len();
+    let mut games: Vec<u32> = rows.iter().map(|&r| log.game[r as usize]).collect();
+    games.sort_unstable();
+    games.dedup();
+    let mut all = vec![vec![0u64; k]; games.len()];
+    let mut by = vec![vec![vec![0u64; k]; games.len()]; COUNTS.len()];
+    for &r in rows {
+        let r = r as usize;
+        let g = games.binary_search(&log.game[r]).expect("his game");
+        let t = types.binary_search(&log.pitch_type[r]).expect("his type");
+        all[g][t] += 1;
+        by[log.balls[r] as usize * 3 + log.strikes[r] as usize][g][t] += 1;
+    }
+    GameTallies { all, by }
+}
+
 fn mix_map(names: &[String], types: &[u16], c: &[u64]) -> BTreeMap<String, f64> {
     let s = mix::shares(c);
     types.iter().zip(s).filter(|(_, x)| *x > 0.0).map(|(&t, x)| (names[t as usize].clone(), x)).collect()
@@ -265,6 +292,7 @@ fn mix_changes(
     types: &[u16],
     all: [&[u64]; 2],
     by: [&[Vec<u64>]; 2],
+    games: [&GameTallies; 2],
     settings: &Settings,
 ) -> (Vec<Change>, Vec<CountChange>) {
     let seed = settings.audit.seed();
@@ -277,7 +305,9 @@ fn mix_changes(
         let t = &names[types[i] as usize];
         if let Some(new) = mix::new_or_dropped(sb[i], sa[i], settings.compare.new_pitch_share(), settings.compare.absent_share()) {
             let mut rng = stream(seed, name, &format!("arsenal {t}"), 0);
-            let test = mix::mix_test(&[all[0][i], nb - all[0][i]], &[all[1][i], na - all[1][i]], &mut rng, settings.audit.stop_after_exceedances());
+            // Each game: this pitch and the rest.
+            let split = |g: &GameTallies| -> Vec<Vec<u64>> { g.all.iter().map(|c| vec![c[i], c.iter().sum::<u64>() - c[i]]).collect() };
+            let test = mix::mix_test_by_games(&split(games[0]), &split(games[1]), &mut rng, settings.audit.stop_after_exceedances());
             let kind = if new { "new_pitch" } else { "dropped_pitch" };
             let mut c = blank(kind, BTreeMap::new(), sb[i], sa[i], sa[i] - sb[i], "share_difference", [nb as usize, na as usize], Some(&test));
             c.pitch_type = Some(t.clone());
@@ -289,10 +319,11 @@ fn mix_changes(
     let kept: Vec<usize> = (0..types.len()).filter(|i| !arsenal.contains(i)).collect();
     let kt: Vec<u16> = kept.iter().map(|&i| types[i]).collect();
     let among = (!arsenal.is_empty()).then(|| "kept pitches".to_string());
-    let shift = |label: Option<&str>, b: &[u64], a: &[u64], rng: &mut ChaCha8Rng| -> Change {
+    let shift = |label: Option<&str>, b: &[u64], a: &[u64], cell: [&[Vec<u64>]; 2], rng: &mut ChaCha8Rng| -> Change {
         let b: Vec<u64> = kept.iter().map(|&i| b[i]).collect();
         let a: Vec<u64> = kept.iter().map(|&i| a[i]).collect();
-        let test = mix::mix_test(&b, &a, rng, settings.audit.stop_after_exceedances());
+        let only_kept = |gs: &[Vec<u64>]| -> Vec<Vec<u64>> { gs.iter().map(|g| kept.iter().map(|&i| g[i]).collect()).collect() };
+        let test = mix::mix_test_by_games(&only_kept(cell[0]), &only_kept(cell[1]), rng, settings.audit.stop_after_exceedances());
         let i = mix::biggest_mover(&b, &a);
         let (xb, xa) = (mix::shares(&b), mix::shares(&a));
         let mut situation = BTreeMap::new();
@@ -308,7 +339,7 @@ fn mix_changes(
         c
     };
     if kept.len() >= 2 {
-        out.push(shift(None, all[0], all[1], &mut stream(seed, name, "mix overall", 0)));
+        out.push(shift(None, all[0], all[1], [&games[0].all, &games[1].all], &mut stream(seed, name, "mix overall", 0)));
     }
     let mut counts = Vec::new();
     for (ci, label) in COUNTS.iter().enumerate() {
@@ -317,7 +348,7 @@ fn mix_changes(
         let nk = |c: &[u64]| kept.iter().map(|&i| c[i]).sum::<u64>() as usize;
         let tested = kept.len() >= 2 && nk(b) >= settings.tells.min_n() && nk(a) >= settings.tells.min_n();
         if tested {
-            out.push(shift(Some(label), b, a, &mut stream(seed, name, &format!("mix count {label}"), 0)));
+            out.push(shift(Some(label), b, a, [&games[0].by[ci], &games[1].by[ci]], &mut stream(seed, name, &format!("mix count {label}"), 0)));
         }
         let (tpb, tsb) = top(names, types, b);
         let (tpa, tsa) = top(names, types, a);
@@ -348,19 +379,26 @@ const LOCATION_MIN_PITCHES: u64 = 50;
 /// moved most.
 fn location_changes(names: &[String], regions: &[u16], log: &PitchLog, name: &str, types: &[u16], rows: &[Vec<u32>; 2], settings: &Settings) -> Vec<Change> {
     use crate::situations::regions::{Region, REGIONS};
-    // One pass per period: located pitches by (his type, region).
+    // One pass per period: located pitches by (his type, region), and by
+    // (his type, game, region) for the test, which shuffles whole games.
     let count = |rows: &[u32]| {
+        let mut games: Vec<u32> = rows.iter().map(|&r| log.game[r as usize]).collect();
+        games.sort_unstable();
+        games.dedup();
         let mut c = vec![[0u64; REGIONS]; types.len()];
+        let mut by_game = vec![vec![[0u64; REGIONS]; games.len()]; types.len()];
         for &r in rows {
             let r = r as usize;
             if regions[r] != crate::tells::NO_LABEL {
                 let t = types.binary_search(&log.pitch_type[r]).expect("his types hold every pitch of his");
+                let g = games.binary_search(&log.game[r]).expect("his game");
                 c[t][regions[r] as usize] += 1;
+                by_game[t][g][regions[r] as usize] += 1;
             }
         }
-        c
+        (c, by_game)
     };
-    let (before, after) = (count(&rows[0]), count(&rows[1]));
+    let ((before, games_b), (after, games_a)) = (count(&rows[0]), count(&rows[1]));
     let mut out = Vec::new();
     for (ti, &t) in types.iter().enumerate() {
         let (b, a) = (&before[ti], &after[ti]);
@@ -377,7 +415,8 @@ fn location_changes(names: &[String], regions: &[u16], log: &PitchLog, name: &st
         let au: Vec<u64> = used.iter().map(|&i| a[i]).collect();
         let t_name = &names[t as usize];
         let mut rng = stream(settings.audit.seed(), name, &format!("location {t_name}"), 0);
-        let test = mix::mix_test(&bu, &au, &mut rng, settings.audit.stop_after_exceedances());
+        let only_used = |gs: &[[u64; REGIONS]]| -> Vec<Vec<u64>> { gs.iter().map(|g| used.iter().map(|&i| g[i]).collect()).collect() };
+        let test = mix::mix_test_by_games(&only_used(&games_b[ti]), &only_used(&games_a[ti]), &mut rng, settings.audit.stop_after_exceedances());
         let i = mix::biggest_mover(&bu, &au);
         let (sb, sa) = (mix::shares(&bu), mix::shares(&au));
         let mut c = blank("location_shift", BTreeMap::new(), sb[i], sa[i], test.tvd, "total_variation", [nb as usize, na as usize], Some(&test));

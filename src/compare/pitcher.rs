@@ -5,7 +5,7 @@
 use super::predictability::{PeriodFit, Resampled, SwapResult};
 use super::summary::*;
 use super::{
-    blank, games_of, location_changes, mix, mix_changes, mix_map, period_figures, tallies, tell_change, tells_change,
+    blank, game_tallies, games_of, location_changes, mix, mix_changes, mix_map, period_figures, tallies, tell_change, tells_change,
     PREDICTABILITY_FAMILY,
 };
 use crate::ingest::PitchLog;
@@ -71,7 +71,8 @@ pub(super) fn ready(
     types.dedup();
     let (all_b, by_b) = tallies(log, &rows[0], &types);
     let (all_a, by_a) = tallies(log, &rows[1], &types);
-    let (mut changes, counts) = mix_changes(names, &name, &types, [&all_b, &all_a], [&by_b, &by_a], settings);
+    let (games_b, games_a) = (game_tallies(log, &rows[0], &types), game_tallies(log, &rows[1], &types));
+    let (mut changes, counts) = mix_changes(names, &name, &types, [&all_b, &all_a], [&by_b, &by_a], [&games_b, &games_a], settings);
     if let Some(regions) = &run.regions {
         changes.extend(location_changes(names, regions, log, &name, &types, rows, settings));
     }

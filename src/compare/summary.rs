@@ -132,7 +132,8 @@ pub struct Change {
     /// refitted).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub interval: Option<Interval>,
-    /// `g_test`, `monte_carlo_g`, `label_swap_permutation`; for a tell, the
+    /// `game_permutation_g` (mix, pitch and location changes: whole games
+    /// shuffled between the periods), `label_swap_permutation`; for a tell, the
     /// test its p and q come from (`mix_shift count 0-0`) or `none`.
     pub test: String,
     #[serde(skip_serializing_if = "Option::is_none")]

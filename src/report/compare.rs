@@ -287,6 +287,7 @@ fn test_text(t: &str) -> &'static str {
     match t {
         "g_test" => "G-test",
         "monte_carlo_g" => "Monte Carlo",
+        "game_permutation_g" => "games shuffled",
         "label_swap_permutation" => "label swap",
         t if t.starts_with("mix_shift count") => "count's mix test",
         _ => "—",
