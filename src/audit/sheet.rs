@@ -121,7 +121,9 @@ pub fn sheet(
             // types looked at together (Bonferroni), so that chance alone
             // puts a cell above the league on at most one pitcher in
             // 1/fdr (a 95% interval in each of 24 cells did on one in seven).
-            let together = wilson::wilson_interval(row[top] as u64, n as u64, 1.0 - settings.audit.fdr() / (COUNTS.len() * 2 * k) as f64);
+            // (An fdr so small that the level rounds to 1 is held just below.)
+            let alpha = (settings.audit.fdr() / (COUNTS.len() * 2 * k) as f64).max(1e-12);
+            let together = wilson::wilson_interval(row[top] as u64, n as u64, 1.0 - alpha);
             let above_league = match (expected, expected_high) {
                 (Some(e), Some(h)) => n >= settings.tells.min_n() && together.low > h && top_share - e >= settings.tells.min_effect(),
                 _ => false,
