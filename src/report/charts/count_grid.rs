@@ -469,9 +469,14 @@ impl Grid<'_> {
             HPos::Left,
             VPos::Center,
         )?;
+        // A sheet's leaning cells are tested together (BH over his cells).
+        if self.input.side.is_some() {
+            let q = format!("(q ≤ {} over his cells)", self.input.fdr);
+            text(root, &font::fit(&q, &f, max_w)?, (x, y + 48), &f, palette::INK, HPos::Left, VPos::Center)?;
+        }
         // Key to the yardstick's triangle (sheet panels only).
         if self.input.side.is_some() && self.cells.iter().flatten().any(|c| c.above_league) {
-            let y = y + 56;
+            let y = y + 74;
             root.draw(&Polygon::new(vec![(x + 2, y + 16), (x + 16, y + 16), (x + 9, y + 3)], palette::INK.filled()))?;
             text(root, "well above", (x + 26, y + 9), &f, palette::INK, HPos::Left, VPos::Center)?;
             text(root, &font::fit("the others' habit", &f, max_w)?, (x, y + 30), &f, palette::INK, HPos::Left, VPos::Center)?;
