@@ -375,8 +375,9 @@ mod tests {
 
     // Worked by hand: others 0.10 and 0.30 must grow to 0.60 in all; the
     // smaller rises to meet the larger (0.30), then both rise to 0.30 each.
-    /// The scored dates sit with the scored pitches' count, not after the
-    /// clause that follows it (worked by hand).
+    /// The scored dates sit with the scored pitches' count when the plan's
+    /// words give one (`scored_dated`, built in `evaluate::split`), and
+    /// follow the words otherwise (worked by hand).
     #[test]
     fn scored_dates_go_with_the_scored_pitches() {
         let mut e = crate::evaluate::split::PitcherEvaluation {
@@ -388,12 +389,15 @@ mod tests {
             scored_to: Some("2026-09-27".into()),
             scored_games: 25,
             tells_checked_on: "his 2026 games".into(),
+            scored_dated: Some("his last 25 of 32 games of 2026 (2,262 pitches, 2026-05-10 to 2026-09-27), in 4 blocks by date, each scored by a model fitted on his games before it; his first 7 games only trained the models".into()),
         };
         assert_eq!(
             evaluation_sentence(&e),
             "How he was scored: his last 25 of 32 games of 2026 (2,262 pitches, 2026-05-10 to 2026-09-27), in 4 blocks by date, each scored by a model fitted on his games before it; his first 7 games only trained the models; the models learned from his earlier games of 2026. An opponent could have done the same with the games he had seen."
         );
+        // Words without a pitch count: the dates follow them.
         e.scored = "every game of 2026, each scored by a model fitted on his other games there (5 folds)".into();
+        e.scored_dated = None;
         e.scored_to = e.scored_from.clone();
         assert!(evaluation_sentence(&e).starts_with("How he was scored: every game of 2026, each scored by a model fitted on his other games there (5 folds) (2026-05-10); the models"));
     }
@@ -414,17 +418,14 @@ mod tests {
 /// 2026 (3,047 pitches, 2026-03-26 to 2026-09-28), in 5 blocks by date, each
 /// from a model fitted on everything of his before it."
 pub fn evaluation_sentence(e: &crate::evaluate::split::PitcherEvaluation) -> String {
-    let dates = match (&e.scored_from, &e.scored_to) {
-        (Some(a), Some(b)) if a != b => format!("{a} to {b}"),
-        (Some(a), _) => a.clone(),
-        _ => String::new(),
-    };
-    // The dates go with the scored pitches' count when the text gives one,
-    // so they never read as the dates of a clause after it.
-    let scored = match e.scored.find(" pitches)") {
-        Some(at) if !dates.is_empty() => format!("{} pitches, {dates}{}", &e.scored[..at], &e.scored[at + " pitches".len()..]),
-        _ if !dates.is_empty() => format!("{} ({dates})", e.scored),
-        _ => e.scored.clone(),
+    // The dates go with the scored pitches' count when the words give one
+    // (`scored_dated`), so they never read as the dates of a clause after
+    // it; otherwise after the words.
+    let dates = e.date_span();
+    let scored = match &e.scored_dated {
+        Some(dated) => dated.clone(),
+        None if !dates.is_empty() => format!("{} ({dates})", e.scored),
+        None => e.scored.clone(),
     };
     format!(
         "How he was scored: {scored}; the models learned from {}. An opponent could have done the same with the games he had seen.",

@@ -38,6 +38,24 @@ pub struct PitcherEvaluation {
     pub scored_games: usize,
     /// Where his tells are checked (his held-out rows), in words.
     pub tells_checked_on: String,
+    /// `scored` with the scored dates beside its pitch count ("his 61
+    /// games of 2026 (925 pitches, 2026-03-27 to 2026-09-26), in 5
+    /// blocks ..."), when the words give one; otherwise the report puts the
+    /// dates after them ([`PitcherEvaluation::date_span`]).
+    #[serde(skip)]
+    pub scored_dated: Option<String>,
+}
+
+impl PitcherEvaluation {
+    /// The scored games' dates in words: "2026-03-27 to 2026-09-26", one
+    /// date for one day, empty with none.
+    pub fn date_span(&self) -> String {
+        match (&self.scored_from, &self.scored_to) {
+            (Some(a), Some(b)) if a != b => format!("{a} to {b}"),
+            (Some(a), _) => a.clone(),
+            _ => String::new(),
+        }
+    }
 }
 
 /// A plan for one pitcher's rows (local indices, his rows in log order):
@@ -109,6 +127,7 @@ impl PitcherPlan {
                 scored_to: games.last().map(|g| day(g.0)),
                 scored_games: games.len(),
                 tells_checked_on: format!("no rows of {label} (tells are found on the forward-chained period)"),
+                scored_dated: None,
             },
         })
     }
@@ -139,6 +158,7 @@ impl PitcherPlan {
                 scored_to: scored_games.last().map(|g| day(g.0)),
                 scored_games: scored_games.len(),
                 tells_checked_on: test.to_string(),
+                scored_dated: None,
             },
         }
     }
@@ -198,6 +218,7 @@ impl PitcherPlan {
                 n_scored: 0,
                 scored_from: None,
                 scored_to: None,
+                scored_dated: None,
                 scored_games: 0,
                 tells_checked_on: if first_held == 0 {
                     format!("his {latest} games")
@@ -234,20 +255,25 @@ impl PitcherPlan {
         plan.evaluation.scored_from = scored_games.first().map(|g| day(g.0));
         plan.evaluation.scored_to = scored_games.last().map(|g| day(g.0));
         let per_block = if n_folds > 1 { format!("in {n_folds} blocks by date, each") } else { "in one block".to_string() };
-        plan.evaluation.scored = if shift == 0 {
-            format!(
-                "his {} games of {latest} ({} pitches), {per_block} scored by a model fitted on everything of his before it",
-                scored_games.len(),
-                fmt_n(plan.evaluation.n_scored)
-            )
-        } else {
-            format!(
-                "his last {} of {n_games} games of {latest} ({} pitches), {per_block} scored by a model fitted on his games before it; his first {} games only trained the models",
-                scored_games.len(),
-                fmt_n(plan.evaluation.n_scored),
-                n_games - scored_games.len()
-            )
+        // The words, with what goes in the pitch count's parentheses.
+        let words = |pitches: &str| {
+            if shift == 0 {
+                format!(
+                    "his {} games of {latest} ({pitches}), {per_block} scored by a model fitted on everything of his before it",
+                    scored_games.len()
+                )
+            } else {
+                format!(
+                    "his last {} of {n_games} games of {latest} ({pitches}), {per_block} scored by a model fitted on his games before it; his first {} games only trained the models",
+                    scored_games.len(),
+                    n_games - scored_games.len()
+                )
+            }
         };
+        let pitches = format!("{} pitches", fmt_n(plan.evaluation.n_scored));
+        let dates = plan.evaluation.date_span();
+        plan.evaluation.scored = words(&pitches);
+        plan.evaluation.scored_dated = (!dates.is_empty()).then(|| words(&format!("{pitches}, {dates}")));
         plan.evaluation.train = match earlier_seasons.as_slice() {
             [] => format!("his earlier games of {latest}"),
             [one] => format!("his {one} games ({} pitches) and his earlier games of {latest}", fmt_n(n_earlier)),
@@ -470,6 +496,7 @@ impl Plan {
                 scored_to: scored_games.last().map(|g| day(g.0)),
                 scored_games: scored_games.len(),
                 tells_checked_on: self.tells_label.clone(),
+                scored_dated: None,
             },
         }
     }
@@ -482,4 +509,30 @@ fn season_strata(log: &PitchLog, rows: &[u32]) -> Vec<u16> {
     seasons.sort_unstable();
     seasons.dedup();
     rows.iter().map(|&r| seasons.binary_search(&log.season[r as usize]).expect("a season of his rows") as u16).collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::PitcherPlan;
+    use crate::ingest::parse::days_from_civil;
+    use crate::ingest::PitchLog;
+
+    /// The rolling plan's words put the scored dates beside the scored
+    /// pitches' count (worked by hand): a 2025 of 4 games and a 2026 of 10,
+    /// two pitches each, on consecutive days from 1 April and 1 May; all of
+    /// 2026 is scored.
+    #[test]
+    fn rolling_words_date_the_scored_pitches() {
+        let (start_25, start_26) = (days_from_civil(2025, 4, 1), days_from_civil(2026, 5, 1));
+        let game: Vec<u32> = (0..28).map(|i| i / 2).collect();
+        let season: Vec<i32> = game.iter().map(|&g| if g < 4 { 2025 } else { 2026 }).collect();
+        let date: Vec<i32> = game.iter().map(|&g| if g < 4 { start_25 + g as i32 } else { start_26 + g as i32 - 4 }).collect();
+        let log = PitchLog { date, season, game, ..PitchLog::default() };
+        let rows: Vec<u32> = (0..28).collect();
+        let e = PitcherPlan::rolling(&log, &rows, 5, 0).evaluation;
+        assert_eq!(e.n_scored, 20);
+        assert_eq!(e.date_span(), "2026-05-01 to 2026-05-10");
+        assert!(e.scored.starts_with("his 10 games of 2026 (20 pitches), in 5 blocks by date"), "{}", e.scored);
+        assert_eq!(e.scored_dated.as_deref(), Some(e.scored.replacen("(20 pitches)", "(20 pitches, 2026-05-01 to 2026-05-10)", 1).as_str()));
+    }
 }
