@@ -261,7 +261,8 @@ fn a_staff_without_count_habits_has_no_leaning_cells_beyond_chance() {
 
 /// The headline's sheet findings on the realistic demo: his leaning cells
 /// when any cell leans, else his flagged count or side tells (worded "...
-/// against ...% otherwise"), and nothing when nothing is flagged. Some demo
+/// against ...% otherwise"), and nothing when nothing is flagged; never
+/// two lines about one situation. Some demo
 /// pitchers (relievers and half-season pitchers with the shared habits
 /// only) have no leaning cell but a flagged platoon tell, so the fallback
 /// is exercised.
@@ -273,6 +274,11 @@ fn the_headline_falls_back_on_count_and_side_tells() {
         let sheet_tells = p.tells.iter().filter(|t| t.layer == Layer::Sheet && t.within.is_none()).count();
         let beyond_tells = p.tells.iter().filter(|t| t.layer == Layer::Beyond && t.within.is_none()).count();
         let from_tells = p.headline.iter().filter(|h| h.contains(" otherwise (n = ")).count();
+        // One line per situation: each line opens with its situation.
+        let mut places: Vec<&str> = p.headline.iter().map(|h| h.split(':').next().unwrap()).collect();
+        places.sort_unstable();
+        places.dedup();
+        assert_eq!(places.len(), p.headline.len(), "{}: one situation twice in {:?}", p.pitcher, p.headline);
         if leaning {
             assert_eq!(from_tells, 0, "{}: a leaning cell, yet count or side tells in {:?}", p.pitcher, p.headline);
         } else if sheet_tells > 0 {

@@ -558,24 +558,30 @@ fn unresolved_notes(tested: &Tested, ok_tasks: &[&PitcherTask], settings: &Setti
 /// and his flagged tells beyond the sheet (the shift over what the sheet
 /// predicts, times the pitches in the situation a season).
 fn headline(cells: &[sheet::SheetCell], flagged: &[&TellTest], checked_on: &str) -> Vec<String> {
-    let mut found: Vec<(f64, String)> = cells
+    // (pitches given away a season, the words, the situation).
+    let mut found: Vec<(f64, String, String)> = cells
         .iter()
         .filter(|c| c.leans)
-        .map(|c| (c.given_away, sheet::cell_phrase(c)))
+        .map(|c| (c.given_away, sheet::cell_phrase(c), format!("cell {} {}", c.count, c.bats)))
         .collect();
     // With no cell standing out on its own, his flagged count or side
     // tells (each pooling many cells) say where his sheet gives pitches away.
     let sheet_too = found.is_empty();
     for t in flagged.iter().filter(|t| t.within.is_none()) {
         let per_season = if t.held_out_n > 0 { t.held_out_n } else { t.n } as f64;
+        let situation = format!("{:?}", t.situation);
         match t.layer {
-            tells::Layer::Beyond => found.push((t.effect() * per_season, wording::beyond_short(t, checked_on))),
-            tells::Layer::Sheet if sheet_too => found.push((t.effect() * per_season, wording::sheet_short(t, checked_on))),
+            tells::Layer::Beyond => found.push((t.effect() * per_season, wording::beyond_short(t, checked_on), situation)),
+            tells::Layer::Sheet if sheet_too => found.push((t.effect() * per_season, wording::sheet_short(t, checked_on), situation)),
             tells::Layer::Sheet => {}
         }
     }
     found.sort_by(|a, b| b.0.total_cmp(&a.0).then(a.1.cmp(&b.1)));
-    found.into_iter().take(3).map(|(_, s)| s).collect()
+    // One finding per situation (his splitter down and his sinker up
+    // against same-side batters are one thing to fix), so three lines name
+    // up to three places.
+    let mut seen = std::collections::BTreeSet::new();
+    found.into_iter().filter(|f| seen.insert(f.2.clone())).take(3).map(|f| f.1).collect()
 }
 
 fn count_summaries(
