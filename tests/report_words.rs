@@ -202,3 +202,20 @@ fn a_run_without_shuffles_says_no_test_was_run() {
     assert!(notes.iter().any(|n| n.starts_with("No label-swap test was run (`--permutations 0`)")), "{notes:#?}");
     assert!(!notes.iter().any(|n| n.contains("met no label swap") || n.contains("smallest p-value a predictability change can reach")), "{notes:#?}");
 }
+
+/// The tree's branches of a pitcher whose permutation test found nothing
+/// carry a caution that they describe past pitches, and only those.
+#[test]
+fn branches_of_an_unflagged_pitcher_are_read_with_care() {
+    let s = Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(49), ..Overrides::default() }).unwrap();
+    let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv");
+    let a = audit::run(&log, &s, false).unwrap();
+    let dir = std::env::temp_dir().join(format!("tellscope-branches-{}", std::process::id()));
+    tellscope::report::write_audit_report(&dir, &a).unwrap();
+    let text = text_of(&std::fs::read_to_string(dir.join("index.html")).unwrap());
+    let caution = "so read them as the shape of his past pitches, not as habits that hold";
+    let want = a.summary.pitchers.iter().filter(|p| p.significant == Some(false) && !p.rules.is_empty()).count();
+    assert!(want > 0, "the realistic demo has an unflagged pitcher with branches");
+    assert_eq!(text.matches(caution).count(), want);
+    std::fs::remove_dir_all(&dir).ok();
+}
