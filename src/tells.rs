@@ -167,6 +167,21 @@ impl TellTest {
         }
     }
 
+    /// The effect as it stands in the held-out games: the training effect
+    /// while it held (or too few pitches say), and for a tell that faded
+    /// its held-out shift over what the held-out pitches would show with no
+    /// tell, signed as [`Self::effect`] and at least 0.
+    pub fn effect_now(&self) -> f64 {
+        match (self.verdict, self.held_out_share, self.held_out_expected_share) {
+            (Verdict::Faded, Some(h), Some(e)) => match self.direction {
+                Direction::More => h - e,
+                Direction::Less => e - h,
+            }
+            .max(0.0),
+            _ => self.effect(),
+        }
+    }
+
     /// The share a tell is measured against.
     pub fn reference_share(&self) -> f64 {
         match self.layer {

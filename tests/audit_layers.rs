@@ -289,4 +289,9 @@ fn the_headline_falls_back_on_count_and_side_tells() {
         }
     }
     assert!(fell_back > 0, "no demo pitcher fell back on his count or side tells");
+    // Answer key (demo-data/README.md): Lindqvist's 0-0 fastball tell was
+    // planted in 2025 only and fades in 2026; a faded tell gives away only
+    // what is left of it, so it does not lead his headline.
+    let lindqvist = &pitcher("Mateo Lindqvist").headline;
+    assert!(!lindqvist.is_empty() && !lindqvist[0].contains("faded"), "{lindqvist:?}");
 }

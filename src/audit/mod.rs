@@ -556,7 +556,8 @@ fn unresolved_notes(tested: &Tested, ok_tasks: &[&PitcherTask], settings: &Setti
 /// sheet's cells where he leans on one pitch beyond his season share of it
 /// (or, when none does, his flagged count and side tells),
 /// and his flagged tells beyond the sheet (the shift over what the sheet
-/// predicts, times the pitches in the situation a season).
+/// predicts, times the pitches in the situation a season; for a tell that
+/// faded, its held-out shift).
 fn headline(cells: &[sheet::SheetCell], flagged: &[&TellTest], checked_on: &str) -> Vec<String> {
     // (pitches given away a season, the words, the situation).
     let mut found: Vec<(f64, String, String)> = cells
@@ -567,12 +568,14 @@ fn headline(cells: &[sheet::SheetCell], flagged: &[&TellTest], checked_on: &str)
     // With no cell standing out on its own, his flagged count or side
     // tells (each pooling many cells) say where his sheet gives pitches away.
     let sheet_too = found.is_empty();
+    // A tell that faded in his held-out games gives away only what is left
+    // of it there, so one that still holds comes first.
     for t in flagged.iter().filter(|t| t.within.is_none()) {
         let per_season = if t.held_out_n > 0 { t.held_out_n } else { t.n } as f64;
         let situation = format!("{:?}", t.situation);
         match t.layer {
-            tells::Layer::Beyond => found.push((t.effect() * per_season, wording::beyond_short(t, checked_on), situation)),
-            tells::Layer::Sheet if sheet_too => found.push((t.effect() * per_season, wording::sheet_short(t, checked_on), situation)),
+            tells::Layer::Beyond => found.push((t.effect_now() * per_season, wording::beyond_short(t, checked_on), situation)),
+            tells::Layer::Sheet if sheet_too => found.push((t.effect_now() * per_season, wording::sheet_short(t, checked_on), situation)),
             tells::Layer::Sheet => {}
         }
     }
