@@ -36,9 +36,9 @@ pub struct CompareSettingsOut {
     pub seed: u64,
     /// Label-swap permutations per pitcher for the predictability change.
     pub permutations: usize,
-    /// Most shuffles of the Monte Carlo mix test (used when expected counts
-    /// are small); it stops once `stop_after_exceedances` shuffles reach
-    /// the observed G.
+    /// Most shuffles of whole games in each mix, pitch and location test
+    /// (`mix::mix_test_by_games`); it stops once `stop_after_exceedances`
+    /// shuffles reach the observed G.
     pub mix_monte_carlo: usize,
     pub bootstrap: usize,
     pub fdr: f64,
