@@ -39,14 +39,21 @@ fn text_of(html: &str) -> String {
     out.replace("&lt;", "<").replace("&gt;", ">").replace("&#x27;", "'").replace("&#x2f;", "/").replace("&quot;", "\"").replace("&amp;", "&")
 }
 
-#[test]
-fn tell_sentences_carry_the_summary_numbers() {
+/// The audit of `log` (relative to the project) at 49 permutations, its
+/// report written to a scratch folder `tag`: the audit, the folder and the
+/// page's text.
+fn audited_page(log: &str, tag: &str) -> (tellscope::audit::Audit, std::path::PathBuf, String) {
     let s = Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(49), ..Overrides::default() }).unwrap();
-    let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/plain-staff/demo-log.csv");
-    let a = audit::run(&log, &s, false).unwrap();
-    let dir = std::env::temp_dir().join(format!("tellscope-words-{}", std::process::id()));
+    let a = audit::run(&Path::new(env!("CARGO_MANIFEST_DIR")).join(log), &s, false).unwrap();
+    let dir = std::env::temp_dir().join(format!("tellscope-{tag}-{}", std::process::id()));
     tellscope::report::write_audit_report(&dir, &a).unwrap();
     let text = text_of(&std::fs::read_to_string(dir.join("index.html")).unwrap());
+    (a, dir, text)
+}
+
+#[test]
+fn tell_sentences_carry_the_summary_numbers() {
+    let (_, dir, text) = audited_page("tests/fixtures/plain-staff/demo-log.csv", "words");
     let json: serde_json::Value = serde_json::from_str(&std::fs::read_to_string(dir.join("summary.json")).unwrap()).unwrap();
     let mut checked = 0;
     for p in json["pitchers"].as_array().unwrap() {
@@ -207,12 +214,7 @@ fn a_run_without_shuffles_says_no_test_was_run() {
 /// carry a caution that they describe past pitches, and only those.
 #[test]
 fn branches_of_an_unflagged_pitcher_are_read_with_care() {
-    let s = Settings::resolve(&ConfigFile::default(), &Overrides { permutations: Some(49), ..Overrides::default() }).unwrap();
-    let log = Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv");
-    let a = audit::run(&log, &s, false).unwrap();
-    let dir = std::env::temp_dir().join(format!("tellscope-branches-{}", std::process::id()));
-    tellscope::report::write_audit_report(&dir, &a).unwrap();
-    let text = text_of(&std::fs::read_to_string(dir.join("index.html")).unwrap());
+    let (a, dir, text) = audited_page("demo-data/demo-log.csv", "branches");
     let caution = "so read them as the shape of his past pitches, not as habits that hold";
     let want = a.summary.pitchers.iter().filter(|p| p.significant == Some(false) && !p.rules.is_empty()).count();
     assert!(want > 0, "the realistic demo has an unflagged pitcher with branches");
