@@ -24,7 +24,6 @@
 //!   to turn one mix into the other.
 
 use crate::significance::contingency::{expected_counts_allow_asymptotic, g_term, table_test, TableStatistic};
-
 use crate::significance::permutation_p::SequentialPermutation;
 use crate::significance::resample::total_variation;
 use rand::Rng;
@@ -232,10 +231,13 @@ pub fn mix_test_by_games(before: &[Vec<u64>], after: &[Vec<u64>], rng: &mut ChaC
     let (b, a) = (sum(&gb), sum(&ga));
     let as_f = |v: &[u64]| v.iter().map(|&x| x as f64).collect::<Vec<_>>();
     let tvd = total_variation(&as_f(&b), &as_f(&a)).unwrap_or(0.0);
-    let obs = g_of(&b, &a);
     let observed = g_two_rows(&b, &a);
-    if obs.dof == 0 || gb.is_empty() || ga.is_empty() {
-        return MixTest { test: TestKind::GamePermutationG, statistic: observed, dof: obs.dof, p: 1.0, permutations: Some(0), tvd };
+    // `table_test`'s degrees of freedom: its rows and columns with a pitch.
+    let rows = (!gb.is_empty()) as usize + (!ga.is_empty()) as usize;
+    let columns = b.iter().zip(&a).filter(|(x, y)| *x + *y > 0).count();
+    let dof = rows.saturating_sub(1) * columns.saturating_sub(1);
+    if dof == 0 {
+        return MixTest { test: TestKind::GamePermutationG, statistic: observed, dof, p: 1.0, permutations: Some(0), tvd };
     }
     let mut games: Vec<&Vec<u64>> = gb.iter().chain(&ga).copied().collect();
     let total: Vec<u64> = b.iter().zip(&a).map(|(x, y)| x + y).collect();
@@ -254,7 +256,7 @@ pub fn mix_test_by_games(before: &[Vec<u64>], after: &[Vec<u64>], rng: &mut ChaC
         pa.iter_mut().zip(&total).zip(&pb).for_each(|((a, &t), &b)| *a = t - b);
         seq.push(g_two_rows(&pb, &pa));
     }
-    MixTest { test: TestKind::GamePermutationG, statistic: observed, dof: obs.dof, p: seq.p_value(), permutations: Some(seq.permutations_run()), tvd }
+    MixTest { test: TestKind::GamePermutationG, statistic: observed, dof, p: seq.p_value(), permutations: Some(seq.permutations_run()), tvd }
 }
 
 /// Shares of a count vector (all zero: all zero).
@@ -295,11 +297,18 @@ mod tests {
 
     /// The game test's G is `table_test`'s (itself checked against scipy's
     /// `chi2_contingency`, lambda_="log-likelihood", in
-    /// tests/stats_reference.rs) to the last bit.
+    /// tests/stats_reference.rs) to the last bit, and so are its degrees of
+    /// freedom.
     #[test]
     fn the_game_tests_g_is_the_table_tests() {
         for (b, a) in [(vec![50u64, 30, 20], vec![40u64, 35, 25]), (vec![9, 0, 1], vec![1, 8, 1]), (vec![7, 0, 0, 3], vec![2, 0, 5, 1])] {
             assert_eq!(g_two_rows(&b, &a), g_of(&b, &a).statistic, "{b:?} {a:?}");
+            // One pitch per game: the game test's table is this one.
+            let games = |row: &[u64]| -> Vec<Vec<u64>> {
+                row.iter().enumerate().flat_map(|(t, &n)| (0..n).map(move |_| (0..row.len()).map(|j| (j == t) as u64).collect())).collect()
+            };
+            let t = mix_test_by_games(&games(&b), &games(&a), &mut ChaCha8Rng::seed_from_u64(1), 10);
+            assert_eq!((t.statistic, t.dof), (g_of(&b, &a).statistic, g_of(&b, &a).dof), "{b:?} {a:?}");
         }
     }
 

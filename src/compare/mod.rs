@@ -116,8 +116,16 @@ enum Prepared {
     Short { pitcher: u32, rows: [Vec<u32>; 2], why: String },
 }
 
+/// The distinct games of `rows`, ascending.
+fn game_ids(log: &PitchLog, rows: &[u32]) -> Vec<u32> {
+    let mut games: Vec<u32> = rows.iter().map(|&r| log.game[r as usize]).collect();
+    games.sort_unstable();
+    games.dedup();
+    games
+}
+
 fn games_of(log: &PitchLog, rows: &[u32]) -> usize {
-    rows.iter().map(|&r| log.game[r as usize]).collect::<BTreeSet<_>>().len()
+    game_ids(log, rows).len()
 }
 
 fn prepare(log: &PitchLog, sit: &Situations, p: u32, rows: [Vec<u32>; 2], labels: [&str; 2], settings: &Settings) -> Prepared {
@@ -188,45 +196,40 @@ fn period_figures(label: &str, fit: &PeriodFit, res: Option<&Resampled>) -> Peri
     }
 }
 
-/// Counts per pitch type (indices into `types`) of `rows`, overall and per count.
-fn tallies(log: &PitchLog, rows: &[u32], types: &[u16]) -> (Vec<u64>, Vec<Vec<u64>>) {
-    let k = types.len();
-    let mut all = vec![0u64; k];
-    let mut by = vec![vec![0u64; k]; 12];
-    for &r in rows {
-        let r = r as usize;
-        let t = types.binary_search(&log.pitch_type[r]).expect("his type");
-        all[t] += 1;
-        by[log.balls[r] as usize * 3 + log.strikes[r] as usize][t] += 1;
-    }
-    (all, by)
+/// One period's counts per pitch type (indices into `types`) of a
+/// pitcher's `rows`, overall and per count, and the same game by game (his
+/// games in id order), which the mix tests shuffle between the periods
+/// ([`mix::mix_test_by_games`]).
+struct Tallies {
+    all: Vec<u64>,
+    /// `by[count]`.
+    by: Vec<Vec<u64>>,
+    /// `games_all[game]`.
+    games_all: Vec<Vec<u64>>,
+    /// `games_by[count][game]`.
+    games_by: Vec<Vec<Vec<u64>>>,
 }
 
-/// One period's pitches of a pitcher game by game (his games in id
-/// order): each game's counts per pitch type (his types' order), overall
-/// and in each count. The mix tests shuffle whole games between the
-/// periods ([`mix::mix_test_by_games`]).
-struct GameTallies {
-    all: Vec<Vec<u64>>,
-    /// `by[count][game]`.
-    by: Vec<Vec<Vec<u64>>>,
-}
-
-fn game_tallies(log: &PitchLog, rows: &[u32], types: &[u16]) -> GameTallies {
+fn tallies(log: &PitchLog, rows: &[u32], types: &[u16]) -> Tallies {
     let k = types.len();
-    let mut games: Vec<u32> = rows.iter().map(|&r| log.game[r as usize]).collect();
-    games.sort_unstable();
-    games.dedup();
-    let mut all = vec![vec![0u64; k]; games.len()];
-    let mut by = vec![vec![vec![0u64; k]; games.len()]; COUNTS.len()];
+    let games = game_ids(log, rows);
+    let mut t = Tallies {
+        all: vec![0; k],
+        by: vec![vec![0; k]; COUNTS.len()],
+        games_all: vec![vec![0; k]; games.len()],
+        games_by: vec![vec![vec![0; k]; games.len()]; COUNTS.len()],
+    };
     for &r in rows {
         let r = r as usize;
         let g = games.binary_search(&log.game[r]).expect("his game");
-        let t = types.binary_search(&log.pitch_type[r]).expect("his type");
-        all[g][t] += 1;
-        by[log.balls[r] as usize * 3 + log.strikes[r] as usize][g][t] += 1;
+        let ty = types.binary_search(&log.pitch_type[r]).expect("his type");
+        let count = log.balls[r] as usize * 3 + log.strikes[r] as usize;
+        t.all[ty] += 1;
+        t.by[count][ty] += 1;
+        t.games_all[g][ty] += 1;
+        t.games_by[count][g][ty] += 1;
     }
-    GameTallies { all, by }
+    t
 }
 
 fn mix_map(names: &[String], types: &[u16], c: &[u64]) -> BTreeMap<String, f64> {
@@ -290,11 +293,10 @@ fn mix_changes(
     names: &[String],
     name: &str,
     types: &[u16],
-    all: [&[u64]; 2],
-    by: [&[Vec<u64>]; 2],
-    games: [&GameTallies; 2],
+    tallied: [&Tallies; 2],
     settings: &Settings,
 ) -> (Vec<Change>, Vec<CountChange>) {
+    let all = tallied.map(|t| t.all.as_slice());
     let seed = settings.audit.seed();
     let mut out = Vec::new();
     let (sb, sa) = (mix::shares(all[0]), mix::shares(all[1]));
@@ -306,8 +308,8 @@ fn mix_changes(
         if let Some(new) = mix::new_or_dropped(sb[i], sa[i], settings.compare.new_pitch_share(), settings.compare.absent_share()) {
             let mut rng = stream(seed, name, &format!("arsenal {t}"), 0);
             // Each game: this pitch and the rest.
-            let split = |g: &GameTallies| -> Vec<Vec<u64>> { g.all.iter().map(|c| vec![c[i], c.iter().sum::<u64>() - c[i]]).collect() };
-            let test = mix::mix_test_by_games(&split(games[0]), &split(games[1]), &mut rng, settings.audit.stop_after_exceedances());
+            let split = |t: &Tallies| -> Vec<Vec<u64>> { t.games_all.iter().map(|c| vec![c[i], c.iter().sum::<u64>() - c[i]]).collect() };
+            let test = mix::mix_test_by_games(&split(tallied[0]), &split(tallied[1]), &mut rng, settings.audit.stop_after_exceedances());
             let kind = if new { "new_pitch" } else { "dropped_pitch" };
             let mut c = blank(kind, BTreeMap::new(), sb[i], sa[i], sa[i] - sb[i], "share_difference", [nb as usize, na as usize], Some(&test));
             c.pitch_type = Some(t.clone());
@@ -339,16 +341,16 @@ fn mix_changes(
         c
     };
     if kept.len() >= 2 {
-        out.push(shift(None, all[0], all[1], [&games[0].all, &games[1].all], &mut stream(seed, name, "mix overall", 0)));
+        out.push(shift(None, all[0], all[1], [&tallied[0].games_all, &tallied[1].games_all], &mut stream(seed, name, "mix overall", 0)));
     }
     let mut counts = Vec::new();
     for (ci, label) in COUNTS.iter().enumerate() {
-        let (b, a) = (&by[0][ci], &by[1][ci]);
+        let (b, a) = (&tallied[0].by[ci], &tallied[1].by[ci]);
         let n = [b.iter().sum::<u64>() as usize, a.iter().sum::<u64>() as usize];
         let nk = |c: &[u64]| kept.iter().map(|&i| c[i]).sum::<u64>() as usize;
         let tested = kept.len() >= 2 && nk(b) >= settings.tells.min_n() && nk(a) >= settings.tells.min_n();
         if tested {
-            out.push(shift(Some(label), b, a, [&games[0].by[ci], &games[1].by[ci]], &mut stream(seed, name, &format!("mix count {label}"), 0)));
+            out.push(shift(Some(label), b, a, [&tallied[0].games_by[ci], &tallied[1].games_by[ci]], &mut stream(seed, name, &format!("mix count {label}"), 0)));
         }
         let (tpb, tsb) = top(names, types, b);
         let (tpa, tsa) = top(names, types, a);
@@ -382,9 +384,7 @@ fn location_changes(names: &[String], regions: &[u16], log: &PitchLog, name: &st
     // One pass per period: located pitches by (his type, region), and by
     // (his type, game, region) for the test, which shuffles whole games.
     let count = |rows: &[u32]| {
-        let mut games: Vec<u32> = rows.iter().map(|&r| log.game[r as usize]).collect();
-        games.sort_unstable();
-        games.dedup();
+        let games = game_ids(log, rows);
         let mut c = vec![[0u64; REGIONS]; types.len()];
         let mut by_game = vec![vec![[0u64; REGIONS]; games.len()]; types.len()];
         for &r in rows {

@@ -5,7 +5,7 @@
 use super::predictability::{PeriodFit, Resampled, SwapResult};
 use super::summary::*;
 use super::{
-    blank, game_tallies, games_of, location_changes, mix, mix_changes, mix_map, period_figures, tallies, tell_change, tells_change,
+    blank, games_of, location_changes, mix, mix_changes, mix_map, period_figures, tallies, tell_change, tells_change,
     PREDICTABILITY_FAMILY,
 };
 use crate::ingest::PitchLog;
@@ -69,10 +69,9 @@ pub(super) fn ready(
     let mut types: Vec<u16> = rows[0].iter().chain(&rows[1]).map(|&r| log.pitch_type[r as usize]).collect();
     types.sort_unstable();
     types.dedup();
-    let (all_b, by_b) = tallies(log, &rows[0], &types);
-    let (all_a, by_a) = tallies(log, &rows[1], &types);
-    let (games_b, games_a) = (game_tallies(log, &rows[0], &types), game_tallies(log, &rows[1], &types));
-    let (mut changes, counts) = mix_changes(names, &name, &types, [&all_b, &all_a], [&by_b, &by_a], [&games_b, &games_a], settings);
+    let (tb, ta) = (tallies(log, &rows[0], &types), tallies(log, &rows[1], &types));
+    let (all_b, all_a) = (&tb.all, &ta.all);
+    let (mut changes, counts) = mix_changes(names, &name, &types, [&tb, &ta], settings);
     if let Some(regions) = &run.regions {
         changes.extend(location_changes(names, regions, log, &name, &types, rows, settings));
     }
@@ -101,8 +100,8 @@ pub(super) fn ready(
         n_after: rows[1].len(),
         games_before: games_of(log, &rows[0]),
         games_after: games_of(log, &rows[1]),
-        mix_before: Some(mix_map(names, &types, &all_b)),
-        mix_after: Some(mix_map(names, &types, &all_a)),
+        mix_before: Some(mix_map(names, &types, all_b)),
+        mix_after: Some(mix_map(names, &types, all_a)),
         mix_shift: crate::significance::resample::total_variation(
             &all_b.iter().map(|&x| x as f64).collect::<Vec<_>>(),
             &all_a.iter().map(|&x| x as f64).collect::<Vec<_>>(),
