@@ -167,6 +167,12 @@ impl TellTest {
         }
     }
 
+    /// Pitches the tell gives away as it stands in the held-out games: as
+    /// [`Self::strength`], with [`Self::effect_now`].
+    pub fn strength_now(&self) -> f64 {
+        self.effect_now() * self.n as f64
+    }
+
     /// The effect as it stands in the held-out games: the training effect
     /// while it held (or too few pitches say), and for a tell that faded
     /// its held-out shift over what the held-out pitches would show with no

@@ -481,11 +481,7 @@ pub fn unresolved_note(test: &str, draw: &str, u: &crate::significance::budget::
 pub fn beyond_short(t: &TellTest, test_label: &str) -> String {
     let sit = capitalize(&situation_phrase(&t.situation));
     let expected = pct(t.expected_share.unwrap_or(t.baseline_share));
-    let check = match (t.verdict, t.held_out_share) {
-        (crate::tells::Verdict::Held, Some(h)) => format!("; held at {} in {test_label}", pct(h)),
-        (crate::tells::Verdict::Faded, Some(h)) => format!("; faded to {} in {test_label}", pct(h)),
-        _ => String::new(),
-    };
+    let check = held_out_short(t, test_label);
     format!("{sit}: {} {} where his count and side habits give {expected} (n = {}{check})", t.pitch_type, pct(t.share), fmt_n(t.n))
 }
 
@@ -494,12 +490,18 @@ pub fn beyond_short(t: &TellTest, test_label: &str) -> String {
 /// 2026 games)".
 pub fn sheet_short(t: &TellTest, test_label: &str) -> String {
     let sit = capitalize(&situation_phrase(&t.situation));
-    let check = match (t.verdict, t.held_out_share) {
+    let check = held_out_short(t, test_label);
+    format!("{sit}: {} {} against {} otherwise (n = {}{check})", t.pitch_type, pct(t.share), pct(t.baseline_share), fmt_n(t.n))
+}
+
+/// A headline tell's held-out check: "; held at 40% in his 2026 games",
+/// "; faded to 22% in ...", or nothing when too few pitches say.
+fn held_out_short(t: &TellTest, test_label: &str) -> String {
+    match (t.verdict, t.held_out_share) {
         (crate::tells::Verdict::Held, Some(h)) => format!("; held at {} in {test_label}", pct(h)),
         (crate::tells::Verdict::Faded, Some(h)) => format!("; faded to {} in {test_label}", pct(h)),
         _ => String::new(),
-    };
-    format!("{sit}: {} {} against {} otherwise (n = {}{check})", t.pitch_type, pct(t.share), pct(t.baseline_share), fmt_n(t.n))
+    }
 }
 
 /// Whether a tell costs him, in a coach's words, with the figures behind it.

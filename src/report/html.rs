@@ -203,15 +203,13 @@ fn pitcher_view(
     };
     // "What to change": tells that cost him first (beyond the sheet or
     // on it), then the rest beyond the sheet, most pitches given away
-    // first (a faded tell by what is left of it); a tell that is predictable but still works says so and is
-    // left alone.
+    // first (a faded tell by what is left of it, as in the headline); a
+    // tell that is predictable but still works says so and is left alone.
     let mut to_weigh: Vec<&TellTest> = main.clone();
     to_weigh.extend(sheet_layer.iter().copied().filter(|t| t.within.is_none() && t.cost.as_ref().is_some_and(|c| c.costly)));
     to_weigh.sort_by(|a, b| {
         let costly = |t: &TellTest| t.cost.as_ref().is_some_and(|c| c.costly);
-        // A tell that faded counts what is left of it (as in the headline).
-        let now = |t: &TellTest| t.effect_now() * t.n as f64;
-        costly(b).cmp(&costly(a)).then(now(b).total_cmp(&now(a)))
+        costly(b).cmp(&costly(a)).then(b.strength_now().total_cmp(&a.strength_now()))
     });
     let advice = to_weigh
         .iter()
