@@ -4,7 +4,7 @@
 #   scripts/bench.sh league     also the league-scale log (768 pitchers, 1.6M pitches)
 #   scripts/bench.sh realistic  also the realistic league (32 clubs, ~1,400 pitchers, 1.5M pitches)
 #   scripts/bench.sh ingest     also a 10-million-row CSV ingest
-#   scripts/bench.sh notebook   also the analyst's notebook (benches/notebook) on the demo, and the ratio
+#   scripts/bench.sh notebook   also the analyst's notebooks (benches/notebook: season-forward, rolling) on the demo, and the ratios
 #   scripts/bench.sh compare    also compare of the demo's and the realistic league's two seasons
 set -euo pipefail
 cd "$(dirname "$0")/.."
@@ -99,14 +99,18 @@ PY
 fi
 
 if [ "${1:-}" = "notebook" ] || [ "${1:-}" = "all" ]; then
-    # The analyst's notebook (pandas + scikit-learn, season-forward, 999
-    # label permutations, Fisher tells) against the demo's median above.
-    nb=$(python3 benches/notebook/season_forward_audit.py demo-data/demo-log.csv | awk '/^wall/ {print $2}')
-    python3 - "$nb" "${walls[@]}" <<'PY'
+    # The analyst's notebooks (pandas + scikit-learn, 999 label
+    # permutations, Fisher tells) against the demo's median above: the
+    # simpler season-forward audit (issue 19's yardstick) and the same
+    # rolling evaluation tellscope does (issue 13's; about 3.5 minutes).
+    for nb in season_forward_audit rolling_audit; do
+        wall=$(python3 "benches/notebook/$nb.py" demo-data/demo-log.csv | awk '/^wall/ {print $2}')
+        python3 - "$nb" "$wall" "${walls[@]}" <<'PY'
 import statistics, sys
-nb = float(sys.argv[1]); med = statistics.median(float(x) for x in sys.argv[2:])
-print(f"notebook on the demo    wall {nb:7.2f} s   tellscope median {med:.2f} s   {nb / med:.1f}x")
+name, nb = sys.argv[1], float(sys.argv[2]); med = statistics.median(float(x) for x in sys.argv[3:])
+print(f"{name + ' on the demo':<32} wall {nb:7.2f} s   tellscope median {med:.2f} s   {nb / med:.1f}x")
 PY
+    done
 fi
 
 if [ "${1:-}" = "compare" ] || [ "${1:-}" = "all" ]; then
