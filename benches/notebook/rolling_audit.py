@@ -31,13 +31,12 @@ Run:  python3 benches/notebook/rolling_audit.py demo-data/demo-log.csv
 Needs pandas, numpy, scipy and scikit-learn. Prints wall seconds.
 """
 import sys
-import time
 
 import numpy as np
 import pandas as pd
 from sklearn.tree import DecisionTreeClassifier
 
-from season_forward_audit import FACTORS, PERMUTATIONS, bh, situations, tells
+from season_forward_audit import FACTORS, PERMUTATIONS, run
 
 BLOCKS = 5
 MIN_TRAIN, MIN_TEST = 300, 100
@@ -100,21 +99,5 @@ def audit_pitcher(g, rng):
     return observed, p_value
 
 
-def main(path):
-    start = time.time()
-    df = situations(pd.read_csv(path))
-    rng = np.random.default_rng(1)
-    results = {}
-    for pitcher, g in df.groupby("pitcher"):
-        r = audit_pitcher(g.reset_index(drop=True), rng)
-        if r is not None:
-            results[pitcher] = r
-    q = bh([r[1] for r in results.values()])
-    flagged, tested = tells(df)
-    wall = time.time() - start
-    print(f"{len(results)} pitchers audited, {sum(q <= 0.05)} significant; {flagged} of {tested} tells flagged")
-    print(f"wall {wall:.1f} s")
-
-
 if __name__ == "__main__":
-    main(sys.argv[1])
+    run(sys.argv[1], audit_pitcher)

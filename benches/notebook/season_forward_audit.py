@@ -115,13 +115,15 @@ def tells(df):
     return sum(q <= 0.05), len(rows)
 
 
-def main(path):
+def run(path, audit_pitcher):
+    """Audit every pitcher of the log at `path` with `audit_pitcher`, then
+    the tells; print the counts and the wall seconds."""
     start = time.time()
     df = situations(pd.read_csv(path))
     rng = np.random.default_rng(1)
     results = {}
     for pitcher, g in df.groupby("pitcher"):
-        r = audit_pitcher(g, rng)
+        r = audit_pitcher(g.reset_index(drop=True), rng)
         if r is not None:
             results[pitcher] = r
     q = bh([r[1] for r in results.values()])
@@ -132,4 +134,4 @@ def main(path):
 
 
 if __name__ == "__main__":
-    main(sys.argv[1])
+    run(sys.argv[1], audit_pitcher)
