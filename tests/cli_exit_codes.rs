@@ -320,8 +320,9 @@ fn a_device_or_a_folder_is_refused_not_read_forever() {
 /// A query's output piped in: `cat log.csv | tellscope audit - --out R`
 /// writes the same report, file for file and byte for byte, as `tellscope
 /// audit log.csv --out R2`, but for the input's name (`stdin`); without
-/// `--out` it goes to `reports/stdin`; `check -` reads stdin too, and an
-/// error names `stdin`, not a temporary file.
+/// `--out` it goes to `reports/stdin`; `check -` reads stdin too, a
+/// Parquet file piped in is read as Parquet, and an error names `stdin`,
+/// not a temporary file.
 #[test]
 fn a_log_piped_to_standard_input_gives_the_same_report() {
     use std::io::Write;
@@ -363,6 +364,16 @@ fn a_log_piped_to_standard_input_gives_the_same_report() {
     let e = piped(&["check", "-"], b"game,date\nG1,2025-04-03\n", &dir);
     assert_eq!(code(&e), 3);
     assert!(stderr(&e).starts_with("tellscope: stdin: required columns"), "{}", stderr(&e));
+    // A Parquet file piped in is known by its signature and read as the
+    // same file on disk is; a damaged one is an input error naming stdin.
+    let pq = fixture("logs/typed.parquet");
+    let f = piped(&["check", "-"], &std::fs::read(&pq).unwrap(), &dir);
+    let g = run(&["check", pq.to_str().unwrap()]);
+    assert_eq!((code(&f), code(&g)), (0, 0), "{}", stderr(&f));
+    assert_eq!(stdout(&f), stdout(&g).replacen(&pq.display().to_string(), "stdin", 1));
+    let h = piped(&["check", "-"], b"PAR1 and then nothing a Parquet file holds", &dir);
+    assert_eq!(code(&h), 3);
+    assert!(stderr(&h).starts_with("tellscope: stdin: could not be read as Parquet"), "{}", stderr(&h));
     std::fs::remove_dir_all(&dir).ok();
 }
 

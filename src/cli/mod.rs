@@ -65,8 +65,8 @@ impl RunArgs {
 /// Options every command that reads a log shares.
 #[derive(clap::Args, Debug, Clone)]
 pub struct LogArgs {
-    /// The pitch log, CSV or Parquet; `-` reads CSV from standard input (a
-    /// query's output piped in).
+    /// The pitch log, CSV or Parquet; `-` reads standard input (a query's
+    /// CSV output piped in, or a Parquet file, known by its signature).
     pub file: PathBuf,
     /// A TOML config file: [columns], [pitch_groups], [audit], [model], [tells], [location], [compare] (every key and its default: config/defaults.toml).
     #[arg(long, value_name = "C")]
@@ -147,11 +147,23 @@ impl LogArgs {
         }
         let dir = std::env::temp_dir().join(format!("tellscope-stdin-{}", std::process::id()));
         std::fs::create_dir_all(&dir).map_err(|e| tellscope::Error::io(&dir, "create a folder for standard input", e))?;
-        let path = dir.join("stdin.csv");
-        let input = LogInput { path: path.clone(), spool: Some(dir) };
-        let mut file = std::fs::File::create(&path).map_err(|e| tellscope::Error::io(&path, "write standard input", e))?;
+        let spooled = dir.join("stdin.csv");
+        let mut input = LogInput { path: spooled.clone(), spool: Some(dir) };
+        let mut file = std::fs::File::create(&spooled).map_err(|e| tellscope::Error::io(&spooled, "write standard input", e))?;
         std::io::copy(&mut std::io::stdin().lock(), &mut file)
             .map_err(|e| tellscope::Error::Io(format!("stdin: could not be read ({e})")))?;
+        drop(file);
+        // A Parquet file piped in is recognised by its signature (its first
+        // four bytes, "PAR1") and read as Parquet; anything else as CSV.
+        let mut head = [0u8; 4];
+        let is_parquet = std::fs::File::open(&spooled)
+            .and_then(|mut f| std::io::Read::read_exact(&mut f, &mut head))
+            .is_ok_and(|_| &head == b"PAR1");
+        if is_parquet {
+            let path = spooled.with_extension("parquet");
+            std::fs::rename(&spooled, &path).map_err(|e| tellscope::Error::io(&path, "write standard input", e))?;
+            input.path = path;
+        }
         Ok(input)
     }
 
