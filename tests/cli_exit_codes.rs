@@ -135,6 +135,24 @@ fn unusable_files_exit_3() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+/// A log written with semicolons or tabs (a spreadsheet's export in many
+/// locales) is named as such, not as a file missing its columns.
+#[test]
+fn another_separator_is_named() {
+    let dir = scratch("separator");
+    let good = std::fs::read_to_string(fixture("logs/good.csv")).unwrap();
+    for (sep, name) in [(";", "semicolons"), ("\t", "tabs")] {
+        let p = dir.join(format!("{name}.csv"));
+        std::fs::write(&p, good.replace(',', sep)).unwrap();
+        let o = check(&p, &[]);
+        assert_eq!(code(&o), 3, "{}", stderr(&o));
+        let err = stderr(&o);
+        assert_eq!(err.trim_end().lines().count(), 1, "one line: {err}");
+        assert!(err.contains(&format!("{name}.csv: the header is separated by {name}, not commas")), "{err}");
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
+
 #[test]
 fn an_unknown_flag_exits_2() {
     let o = check(&fixture("logs/good.csv"), &["--no-such-flag"]);

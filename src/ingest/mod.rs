@@ -210,6 +210,16 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
             if f == *c { c.to_string() } else { format!("{c} (mapped to \"{f}\")") }
         })
         .collect();
+    // A header read as one column holding semicolons or tabs is a file
+    // written with another separator (a spreadsheet's export in many
+    // locales), not a file missing its columns.
+    let separator = table.header.iter().find_map(|h| [(';', "semicolons"), ('\t', "tabs")].into_iter().find(|(c, _)| h.contains(*c)));
+    if let (false, Some((_, name))) = (missing.is_empty(), separator) {
+        return Err(Error::Data(format!(
+            "{}: the header is separated by {name}, not commas; export the log as comma-separated CSV (or Parquet)",
+            path.display()
+        )));
+    }
     if !missing.is_empty() {
         return Err(Error::Data(format!(
             "{}: required column{} {} missing from the header; add {} or map {} to the file's own header with a [columns] table in the config",

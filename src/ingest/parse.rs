@@ -54,11 +54,13 @@ fn hand<'a>(v: &'a str, col: &'static str) -> Result<Hand, Breach<'a>> {
     Hand::parse(v).ok_or((col, Some(v), "is not L or R".to_string()))
 }
 
-/// `0/1`, `true/false`, `yes/no`, case-insensitive.
+/// `0/1`, `true/false`, `yes/no`, case-insensitive; also `t/f` (how
+/// PostgreSQL's `psql --csv` writes a boolean column) and `1.0/0.0` (a 0/1
+/// column stored as floats, as exports with missing values often hold it).
 pub fn parse_bool(v: &str) -> Option<bool> {
     match v.to_ascii_lowercase().as_str() {
-        "1" | "true" | "yes" => Some(true),
-        "0" | "false" | "no" => Some(false),
+        "1" | "true" | "yes" | "t" | "1.0" => Some(true),
+        "0" | "false" | "no" | "f" | "0.0" => Some(false),
         _ => None,
     }
 }
@@ -187,7 +189,7 @@ pub fn parse_cell(column: usize, v: &str) -> Result<Cell, String> {
         7 => int("outs", 0, 2),
         8 => int("balls", 0, 3),
         9 => int("strikes", 0, 2),
-        10..=12 => parse_bool(v).map(Cell::Bool).ok_or_else(|| "is not 0/1, true/false or yes/no".to_string()),
+        10..=12 => parse_bool(v).map(Cell::Bool).ok_or_else(|| "is not 0/1, true/false, yes/no or t/f".to_string()),
         14 => int("season", 1800, 3000),
         15 => int("pa", 1, i64::from(u32::MAX)),
         16 => int("pitch_no", 1, i64::from(u32::MAX)),
@@ -365,13 +367,14 @@ mod tests {
 
     #[test]
     fn booleans_accept_contract_spellings() {
-        for s in ["1", "true", "TRUE", "Yes"] {
-            assert_eq!(parse_bool(s), Some(true));
+        for s in ["1", "true", "TRUE", "Yes", "t", "1.0"] {
+            assert_eq!(parse_bool(s), Some(true), "{s}");
         }
-        for s in ["0", "false", "No"] {
-            assert_eq!(parse_bool(s), Some(false));
+        for s in ["0", "false", "No", "F", "0.0"] {
+            assert_eq!(parse_bool(s), Some(false), "{s}");
         }
-        assert_eq!(parse_bool("2"), None);
-        assert_eq!(parse_bool("y"), None);
+        for s in ["2", "y", "0.5", "1.00", "tru"] {
+            assert_eq!(parse_bool(s), None, "{s}");
+        }
     }
 }
