@@ -114,6 +114,23 @@ fn a_missing_column_exits_3_with_one_line_naming_file_and_column() {
     assert!(err.contains("missing_column.csv") && err.contains("pitch_type"), "{err}");
 }
 
+/// A header that differs from a required column only in case or spaces is
+/// named in the error, so the user sees what to rename.
+#[test]
+fn a_near_miss_header_is_named() {
+    let dir = scratch("near-miss");
+    let good = std::fs::read_to_string(fixture("logs/good.csv")).unwrap();
+    let (header, rest) = good.split_once('\n').unwrap();
+    let p = dir.join("near.csv");
+    std::fs::write(&p, format!("{}\n{rest}", header.replace("pitch_type", "Pitch_Type").replacen("game", " game", 1))).unwrap();
+    let o = check(&p, &[]);
+    assert_eq!(code(&o), 3);
+    let err = stderr(&o);
+    assert_eq!(err.trim_end().lines().count(), 1, "one line: {err}");
+    assert!(err.contains(r#"game (the header has " game")"#) && err.contains(r#"pitch_type (the header has "Pitch_Type")"#), "{err}");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
 #[test]
 fn unusable_files_exit_3() {
     let dir = scratch("unusable");

@@ -207,7 +207,15 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
         .filter(|c| table.column(input.file_column(c)).is_none())
         .map(|c| {
             let f = input.file_column(c);
-            if f == *c { c.to_string() } else { format!("{c} (mapped to \"{f}\")") }
+            // A header that differs only in case or surrounding spaces is
+            // named, so the fix is plain (names must match exactly).
+            let near = table.header.iter().find(|h| h.trim().eq_ignore_ascii_case(f));
+            match (f == *c, near) {
+                (true, None) => c.to_string(),
+                (true, Some(h)) => format!("{c} (the header has \"{h}\")"),
+                (false, None) => format!("{c} (mapped to \"{f}\")"),
+                (false, Some(h)) => format!("{c} (mapped to \"{f}\"; the header has \"{h}\")"),
+            }
         })
         .collect();
     // A header read as one column holding semicolons or tabs is a file
