@@ -551,3 +551,35 @@ fn rows_with_too_few_or_too_many_fields_are_rejected_with_their_line() {
     assert!(r[1].0 == 4 && r[1].1.contains("15 fields where the header has 14"), "{r:?}");
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A pitch logged twice (the same date, game, pa and pitch_no; a log
+/// appended to itself, say) counts once: the later copy in the file is
+/// rejected, naming the line of the first, and the rejected rows stay in
+/// file order. Without pa and pitch_no two equal rows may be two pitches
+/// (a foul with two strikes repeats the count), so both are kept.
+#[test]
+fn a_pitch_logged_twice_counts_once() {
+    let dir = scratch("repeats");
+    let good = std::fs::read_to_string(fixture("good.csv")).unwrap();
+    let (header, body) = good.split_once('\n').unwrap();
+    let rows: Vec<&str> = body.lines().collect();
+    // Rows 1 and 3 again at the end, and a row with a bad hand between.
+    let bad = rows[0].replacen(",R,", ",X,", 1);
+    let text = format!("{header}\n{body}{}\n{bad}\n{}\n", rows[0], rows[2]);
+    let ing = load(&write(&dir, "twice.csv", &text));
+    assert_eq!(ing.log.len(), rows.len());
+    let lines: Vec<u64> = ing.rejected.iter().map(|r| r.line).collect();
+    let n = rows.len() as u64;
+    assert_eq!(lines, [n + 2, n + 3, n + 4], "in file order");
+    let repeats: Vec<&ingest::Rejected> = ing.rejected.iter().filter(|r| r.reason.contains("logged twice")).collect();
+    assert_eq!(repeats.len(), 2);
+    assert!(repeats[0].value.ends_with("(first at line 2)") && repeats[1].value.ends_with("(first at line 4)"), "{:?}", repeats);
+    assert_eq!(ing.source.rows_rejected, 3);
+    // The same rows without pa and pitch_no: nothing says they repeat.
+    let strip = |line: &str| line.split(',').take(14).collect::<Vec<_>>().join(",");
+    let plain: String = std::iter::once(HEADER.to_string()).chain(text.lines().skip(1).map(strip)).map(|l| l + "\n").collect();
+    let ing = load(&write(&dir, "plain.csv", &plain));
+    assert_eq!(ing.log.len(), rows.len() + 2);
+    assert_eq!(ing.rejected.len(), 1, "only the bad hand");
+    std::fs::remove_dir_all(&dir).ok();
+}

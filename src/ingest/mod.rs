@@ -451,7 +451,12 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
     finish_names(&mut log, &mut team, [games, pitchers, batters, types, teams]);
 
     let optional = Optional { pa, pitch_no, score, result, speed, side, height, team };
-    order_rows(&mut log, optional, |c| has(c));
+    let repeats = order_rows(&mut log, optional, |c| has(c), table.format.locator());
+    if !repeats.is_empty() {
+        rejected.extend(repeats);
+        // rejected.csv lists rows in file order.
+        rejected.sort_by_key(|r| r.line);
+    }
     (log, rejected, blank)
 }
 
@@ -506,16 +511,41 @@ fn finish_names(log: &mut PitchLog, team: &mut [Option<u32>], interners: [Intern
     log.teams = team_names;
 }
 
-/// Order the rows (CONTRACT §1): by date, game, pa, pitch_no.
-fn order_rows(log: &mut PitchLog, optional: Optional, has: impl Fn(&str) -> bool) {
+/// Order the rows (CONTRACT §1): by date, game, pa, pitch_no. With both
+/// `pa` and `pitch_no` in the file, a row repeating an earlier row's date,
+/// game, pa and pitch_no is a pitch logged twice (a log appended to itself,
+/// say): the later copy in the file is dropped and returned as rejected, so
+/// no pitch counts twice in a test.
+fn order_rows(log: &mut PitchLog, optional: Optional, has: impl Fn(&str) -> bool, locator: &str) -> Vec<Rejected> {
     // CONTRACT §1: order by date, game, pa, pitch_no; file order within a
     // game when pa/pitch_no are absent (they are then 0 for every row, so
     // the file position decides). The sort is stable.
     let mut order: Vec<u32> = (0..log.game.len() as u32).collect();
-    order.sort_by_key(|&i| {
+    let key = |i: u32| {
         let i = i as usize;
         (log.date[i], log.game[i], optional.pa[i], optional.pitch_no[i])
-    });
+    };
+    order.sort_by_key(|&i| key(i));
+    let mut repeats = Vec::new();
+    if has("pa") && has("pitch_no") {
+        let mut first = None;
+        order.retain(|&i| match first {
+            Some(f) if key(f) == key(i) => {
+                let (game, pa, pitch) = (&log.games[log.game[i as usize] as usize], optional.pa[i as usize], optional.pitch_no[i as usize]);
+                repeats.push(Rejected {
+                    line: log.source_line[i as usize],
+                    column: "(whole row)".to_string(),
+                    value: clip_value(&format!("game {game}, pa {pa}, pitch_no {pitch} (first at {locator} {})", log.source_line[f as usize])),
+                    reason: "repeats an earlier row's game, pa and pitch_no (a pitch logged twice); remove the copy".to_string(),
+                });
+                false
+            }
+            _ => {
+                first = Some(i);
+                true
+            }
+        });
+    }
     fn reorder<T: Copy>(v: &mut Vec<T>, order: &[u32]) {
         *v = order.iter().map(|&i| v[i as usize]).collect();
     }
@@ -552,6 +582,7 @@ fn order_rows(log: &mut PitchLog, optional: Optional, has: impl Fn(&str) -> bool
     log.loc_side_ft = opt(has("loc_side_ft"), side, &order);
     log.loc_height_ft = opt(has("loc_height_ft"), height, &order);
     log.team = opt(has("team"), team, &order);
+    repeats
 }
 
 /// Counts of rejection reasons for a summary: reason → (count, first lines).
