@@ -583,3 +583,42 @@ fn a_pitch_logged_twice_counts_once() {
     assert_eq!(ing.rejected.len(), 1, "only the bad hand");
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A game id met on two dates (games numbered afresh each season) names
+/// two games: the later date's rows get a game of their own, named with
+/// its date, so no outing, fold or test stratum spans two seasons.
+#[test]
+fn a_game_id_on_two_dates_is_two_games() {
+    let dir = scratch("game-ids");
+    let row = |date: &str, pitch: &str| format!("G1,{date},Wren Alder,R,Moss Quill,L,1,0,0,0,0,0,0,{pitch}");
+    let text = format!(
+        "{HEADER}\n{}\n{}\n{}\n{}\n{}\n",
+        row("2026-04-01", "slider"),
+        row("2025-04-01", "fastball"),
+        row("2025-04-01", "curveball"),
+        row("2026-04-01", "fastball"),
+        "G2,2025-04-02,Wren Alder,R,Moss Quill,L,1,0,0,0,0,0,0,sinker"
+    );
+    let ing = load(&write(&dir, "ids.csv", &text));
+    let log = &ing.log;
+    assert!(ing.rejected.is_empty());
+    let named: Vec<(String, String)> = (0..log.len())
+        .map(|i| (log.games[log.game[i] as usize].clone(), tellscope::ingest::parse::format_date(log.date[i])))
+        .collect();
+    let want = |g: &str, d: &str| (g.to_string(), d.to_string());
+    assert_eq!(
+        named,
+        [
+            want("G1", "2025-04-01"),
+            want("G1", "2025-04-01"),
+            want("G2", "2025-04-02"),
+            want("G1 (2026-04-01)", "2026-04-01"),
+            want("G1 (2026-04-01)", "2026-04-01"),
+        ]
+    );
+    // A log whose ids are unique keeps its games as they are.
+    let good = load(&fixture("good.csv"));
+    assert_eq!(good.log.games.len(), good.log.game.iter().collect::<std::collections::BTreeSet<_>>().len());
+    assert!(good.log.games.iter().all(|g| !g.contains('(')));
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -452,12 +452,38 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
 
     let optional = Optional { pa, pitch_no, score, result, speed, side, height, team };
     let repeats = order_rows(&mut log, optional, |c| has(c), table.format.locator());
+    split_games_by_date(&mut log);
     if !repeats.is_empty() {
         rejected.extend(repeats);
         // rejected.csv lists rows in file order.
         rejected.sort_by_key(|r| r.line);
     }
     (log, rejected, blank)
+}
+
+/// A game id met on more than one date (a log numbering its games afresh
+/// each season, say) names a game per date: each later date's rows get a
+/// game of their own, named `id (YYYY-MM-DD)`, so no game (an outing, a
+/// fold, a stratum of the tests) spans two days or two seasons. A log
+/// whose ids are unique, as the contract asks, is left as it is. Rows are
+/// in date order, so an id's first date keeps it.
+fn split_games_by_date(log: &mut PitchLog) {
+    let mut first_date: Vec<Option<i32>> = vec![None; log.games.len()];
+    let mut later: BTreeMap<(u32, i32), u32> = BTreeMap::new();
+    for i in 0..log.len() {
+        let (g, d) = (log.game[i], log.date[i]);
+        match first_date[g as usize] {
+            None => first_date[g as usize] = Some(d),
+            Some(f) if f == d => {}
+            Some(_) => {
+                let games = &mut log.games;
+                log.game[i] = *later.entry((g, d)).or_insert_with(|| {
+                    games.push(format!("{} ({})", games[g as usize], parse::format_date(d)));
+                    (games.len() - 1) as u32
+                });
+            }
+        }
+    }
 }
 
 /// A parsed row of the input, in file order.
