@@ -153,7 +153,8 @@ fn unusable_files_exit_3() {
 }
 
 /// A log written with semicolons or tabs (a spreadsheet's export in many
-/// locales) is named as such, not as a file missing its columns.
+/// locales), or in another encoding than UTF-8, is named as such, not as a
+/// file missing its columns or an unreadable one.
 #[test]
 fn another_separator_is_named() {
     let dir = scratch("separator");
@@ -166,6 +167,19 @@ fn another_separator_is_named() {
         let err = stderr(&o);
         assert_eq!(err.trim_end().lines().count(), 1, "one line: {err}");
         assert!(err.contains(&format!("{name}.csv: the header is separated by {name}, not commas")), "{err}");
+    }
+    // Other encodings: UTF-16 with its byte-order mark (a spreadsheet's
+    // "Unicode text"), and Latin-1 (an accent in a name is not UTF-8).
+    let utf16: Vec<u8> = [0xFF, 0xFE].into_iter().chain(good.encode_utf16().flat_map(|u| u.to_le_bytes())).collect();
+    let latin1: Vec<u8> = good.replacen("Wren Alder", "Wr\u{e9}n Alder", 1).chars().map(|c| c as u8).collect();
+    for (name, bytes, says) in [("utf16", utf16, "the file is UTF-16 text"), ("latin1", latin1, "the file is not UTF-8 text")] {
+        let p = dir.join(format!("{name}.csv"));
+        std::fs::write(&p, bytes).unwrap();
+        let o = check(&p, &[]);
+        assert_eq!(code(&o), 3, "{}", stderr(&o));
+        let err = stderr(&o);
+        assert_eq!(err.trim_end().lines().count(), 1, "one line: {err}");
+        assert!(err.contains(&format!("{name}.csv: {says}")) && err.contains("UTF-8"), "{err}");
     }
     std::fs::remove_dir_all(&dir).ok();
 }

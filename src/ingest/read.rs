@@ -201,10 +201,31 @@ fn ragged_rows(path: &Path) -> (Vec<(usize, usize)>, usize) {
     (out, width)
 }
 
+/// A CSV saved as UTF-16 (a spreadsheet's "Unicode text" export, known by
+/// its byte-order mark) would be read as text full of NUL bytes: refuse it,
+/// saying how to save it instead.
+fn refuse_utf16(path: &Path) -> Result<()> {
+    let mut head = [0u8; 2];
+    let read = std::fs::File::open(path).and_then(|mut f| std::io::Read::read_exact(&mut f, &mut head));
+    if read.is_ok() && (head == [0xFF, 0xFE] || head == [0xFE, 0xFF]) {
+        return Err(Error::Data(format!(
+            "{}: the file is UTF-16 text (a spreadsheet's \"Unicode text\" export); save it as comma-separated CSV in UTF-8",
+            path.display()
+        )));
+    }
+    Ok(())
+}
+
 fn polars_err(path: &Path, e: PolarsError) -> Error {
     let text = e.to_string();
     let lower = text.to_lowercase();
-    if lower.contains("empty") {
+    if lower.contains("utf-8") || lower.contains("utf8") {
+        Error::Data(format!(
+            "{}: the file is not UTF-8 text ({}); save it as comma-separated CSV in UTF-8 (a spreadsheet's \"CSV UTF-8\")",
+            path.display(),
+            text.lines().next().unwrap_or("")
+        ))
+    } else if lower.contains("empty") {
         Error::Data(format!("{}: the file is empty; export the pitch log with a header row and at least one pitch", path.display()))
     } else {
         Error::Data(format!(
@@ -429,6 +450,9 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
         )));
     }
     let format = Format::of(path);
+    if format == Format::Csv {
+        refuse_utf16(path)?;
+    }
     let header: Vec<String> = match format {
         Format::Csv => csv_header(path)?,
         Format::Parquet => parquet_header(path, wanted, meta.len())?,
