@@ -54,7 +54,7 @@ pub fn run(args: Args) -> Result<()> {
     }
     println!("  seasons        {}", seasons.iter().map(|s| s.to_string()).collect::<Vec<_>>().join(", "));
     for (s, (n, g)) in &per_season {
-        println!("    {s}: {n} pitches in {} games", g.len());
+        println!("    {s}: {n} pitch{} in {} game{}", if *n == 1 { "" } else { "es" }, g.len(), if g.len() == 1 { "" } else { "s" });
     }
     let mut type_counts = vec![0usize; log.pitch_types.len()];
     for &t in &log.pitch_type {
@@ -74,7 +74,7 @@ pub fn run(args: Args) -> Result<()> {
     println!("  pitchers       {}", log.pitchers.len());
     for (n, by_season, name) in &per_pitcher {
         let s: Vec<String> = by_season.iter().map(|(y, c)| format!("{y}: {c}")).collect();
-        println!("    {name:<24} {n:>7} pitches ({})", s.join(", "));
+        println!("    {name:<24} {n:>7} pitch{} ({})", if *n == 1 { "" } else { "es" }, s.join(", "));
     }
     println!(
         "  optional columns present: {}",

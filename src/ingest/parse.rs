@@ -51,7 +51,17 @@ fn int_in<'a>(v: &'a str, col: &'static str, lo: i64, hi: i64) -> Result<i64, Br
 }
 
 fn hand<'a>(v: &'a str, col: &'static str) -> Result<Hand, Breach<'a>> {
-    Hand::parse(v).ok_or((col, Some(v), "is not L or R".to_string()))
+    Hand::parse(v).ok_or_else(|| {
+        // A roster's "S" (or "B") for a switch hitter says nothing of the
+        // side he stood in for this plate appearance, which the factor needs.
+        let switch = col == "bats" && matches!(v.to_ascii_uppercase().as_str(), "S" | "B");
+        let reason = if switch {
+            "is a switch hitter's S or B; write the side he batted from in this plate appearance, L or R".to_string()
+        } else {
+            "is not L or R".to_string()
+        };
+        (col, Some(v), reason)
+    })
 }
 
 /// `0/1`, `true/false`, `yes/no`, case-insensitive; also `t/f` (how
@@ -363,6 +373,18 @@ mod tests {
         }
         assert!(parse_cell(1, "-001-01-01").is_err());
         assert!(parse_cell(1, "1800-01-01").is_ok() && parse_cell(1, "3000-12-31").is_ok());
+    }
+
+    /// A roster's switch-hitter letter is refused with the fix in the
+    /// reason; other bad hands keep the plain reason.
+    #[test]
+    fn a_switch_hitters_letter_names_the_fix() {
+        for v in ["S", "s", "B"] {
+            assert!(parse_cell(5, v).unwrap_err().starts_with("is a switch hitter's S or B"), "{v}");
+        }
+        assert_eq!(parse_cell(5, "X").unwrap_err(), "is not L or R");
+        assert_eq!(parse_cell(3, "S").unwrap_err(), "is not L or R", "a pitcher's hand");
+        assert!(parse_cell(5, "l").is_ok());
     }
 
     #[test]
