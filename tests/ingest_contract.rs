@@ -622,3 +622,29 @@ fn a_game_id_on_two_dates_is_two_games() {
     assert!(good.log.games.iter().all(|g| !g.contains('(')));
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// Pitch labels and pitcher names that differ only in case, spaces or
+/// punctuation stay apart (the contract reads labels as written) but are
+/// named in a note, with the fix: a typing slip would otherwise read as a
+/// new pitch or a newcomer.
+#[test]
+fn names_differing_only_in_case_are_noted() {
+    let dir = scratch("near-names");
+    let row = |pitcher: &str, pitch: &str| format!("G1,2025-04-01,{pitcher},R,Moss Quill,L,1,0,0,0,0,0,0,{pitch}");
+    let text = format!(
+        "{HEADER}\n{}\n{}\n{}\n{}\n",
+        row("Wren Alder", "slider"),
+        row("wren  alder", "Slider"),
+        row("Wren Alder", "four-seam"),
+        row("Juno Vale", "Four Seam")
+    );
+    let ing = load(&write(&dir, "near.csv", &text));
+    assert_eq!(ing.log.pitch_types.len(), 4, "labels are read as written");
+    let notes = ing.log.near_duplicate_names();
+    assert_eq!(notes.len(), 2, "{notes:?}");
+    assert!(notes[0].starts_with("pitch labels that differ only in case") && notes[0].contains(r#""Four Seam" and "four-seam""#) && notes[0].contains(r#""Slider" and "slider""#), "{}", notes[0]);
+    assert!(notes[0].ends_with("merge them with a [pitch_groups] table in the config"));
+    assert!(notes[1].starts_with("pitcher names") && notes[1].contains(r#""Wren Alder" and "wren  alder""#), "{}", notes[1]);
+    assert!(load(&fixture("good.csv")).log.near_duplicate_names().is_empty());
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -138,12 +138,12 @@ impl Evaluation {
 
 /// The report's notes about its input: factors left out (`left_out` says
 /// of what), caveats on how factors were built, rejected rows.
-pub fn input_notes(sit: &Situations, source: &ingest::SourceInfo, left_out: &str) -> Vec<String> {
+pub fn input_notes(log: &ingest::PitchLog, sit: &Situations, source: &ingest::SourceInfo, left_out: &str) -> Vec<String> {
     let mut notes = Vec::new();
     for (f, why) in &sit.dropped {
         notes.push(format!("The {f} factor is {left_out}: {why}."));
     }
-    for n in &sit.notes {
+    for n in sit.notes.iter().chain(&log.near_duplicate_names()) {
         notes.push(format!("Note: {n}."));
     }
     if source.rows_rejected > 0 {
@@ -490,7 +490,7 @@ fn run_notes(
     no_location: bool,
     settings: &Settings,
 ) -> Vec<String> {
-    let mut notes = input_notes(sit, source, "left out");
+    let mut notes = input_notes(log, sit, source, "left out");
     if club_count(log).unwrap_or(0) <= 1 {
         notes.push(
             "The file holds one club's pitchers, so the yardstick is the staff, not the league: each pitcher's sheet cells and percentiles are compared with the rest of his own staff (a league's log, with `--team`, compares them with the league).".into(),

@@ -87,7 +87,7 @@ pub fn run(args: Args) -> Result<()> {
     for (f, why) in &sit.dropped {
         println!("  note: factor {f} is not available: {why}");
     }
-    for n in &sit.notes {
+    for n in sit.notes.iter().chain(&log.near_duplicate_names()) {
         println!("  note: {n}");
     }
     Ok(())

@@ -535,7 +535,7 @@ pub fn compare_log(
     drop(run);
     timer.lap("compare: changes");
     let (tests, significant) = apply_families(&mut pitchers, labels, settings);
-    let notes = compare_notes(sit, &source, &before, &after, &pitchers, permutations, settings);
+    let notes = compare_notes(log, sit, &source, &before, &after, &pitchers, permutations, settings);
     let summary = CompareSummary {
         tool: Tool::this(),
         input: Input::of(&source, log),
@@ -707,6 +707,7 @@ fn apply_families(pitchers: &mut [PitcherChanges], labels: [&str; 2], settings: 
 /// too few label swaps for any predictability change to pass.
 #[allow(clippy::too_many_arguments)]
 fn compare_notes(
+    log: &crate::ingest::PitchLog,
     sit: &Situations,
     source: &SourceInfo,
     before: &Period,
@@ -715,7 +716,7 @@ fn compare_notes(
     permutations: usize,
     settings: &Settings,
 ) -> Vec<String> {
-    let mut notes = crate::audit::input_notes(sit, source, "left out of the tells");
+    let mut notes = crate::audit::input_notes(log, sit, source, "left out of the tells");
     if before.first_date > after.first_date {
         notes.push(format!(
             "--before {} is later than --after {}: every \"rose\" and \"fell\" reads from the first to the second as given.",

@@ -116,6 +116,47 @@ impl PitchLog {
         let set: BTreeSet<i32> = self.season.iter().copied().collect();
         set.into_iter().collect()
     }
+
+    /// Notes on pitch labels and pitcher names that differ only in case,
+    /// spaces or punctuation ("Slider" and "slider"): they are read as
+    /// different pitches or pitchers, which a typing slip in the log makes
+    /// look like a new pitch or a newcomer. One sentence per kind, without
+    /// a final stop; empty when there are none.
+    pub fn near_duplicate_names(&self) -> Vec<String> {
+        let groups = |names: &[String]| -> Vec<Vec<String>> {
+            let mut by_key: BTreeMap<String, Vec<String>> = BTreeMap::new();
+            for n in names {
+                let key: String = n.chars().filter(|c| c.is_alphanumeric()).flat_map(char::to_lowercase).collect();
+                by_key.entry(key).or_default().push(n.clone());
+            }
+            by_key.into_values().filter(|g| g.len() > 1).collect()
+        };
+        let listed = |gs: &[Vec<String>]| {
+            let shown: Vec<String> = gs
+                .iter()
+                .take(3)
+                .map(|g| g.iter().map(|n| format!("\"{n}\"")).collect::<Vec<_>>().join(" and "))
+                .collect();
+            let more = if gs.len() > 3 { format!(" (and {} more)", gs.len() - 3) } else { String::new() };
+            format!("{}{more}", shown.join("; "))
+        };
+        let mut notes = Vec::new();
+        let types = groups(&self.pitch_types);
+        if !types.is_empty() {
+            notes.push(format!(
+                "pitch labels that differ only in case, spaces or punctuation are read as different pitches: {}; if they are one pitch, merge them with a [pitch_groups] table in the config",
+                listed(&types)
+            ));
+        }
+        let pitchers = groups(&self.pitchers);
+        if !pitchers.is_empty() {
+            notes.push(format!(
+                "pitcher names that differ only in case, spaces or punctuation are read as different pitchers: {}; if they are one pitcher, correct the spelling in the log",
+                listed(&pitchers)
+            ));
+        }
+        notes
+    }
 }
 
 /// Interns strings into a table, giving each a stable index in first-seen
