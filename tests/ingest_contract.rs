@@ -584,21 +584,29 @@ fn a_pitch_logged_twice_counts_once() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+/// A log of first pitches of a plate appearance (game, date, pitcher,
+/// pitch type), every other required value the same.
+fn pitches(rows: &[(&str, &str, &str, &str)]) -> String {
+    let mut text = format!("{HEADER}\n");
+    for (game, date, pitcher, pitch) in rows {
+        text += &format!("{game},{date},{pitcher},R,Moss Quill,L,1,0,0,0,0,0,0,{pitch}\n");
+    }
+    text
+}
+
 /// A game id met on two dates (games numbered afresh each season) names
 /// two games: the later date's rows get a game of their own, named with
 /// its date, so no outing, fold or test stratum spans two seasons.
 #[test]
 fn a_game_id_on_two_dates_is_two_games() {
     let dir = scratch("game-ids");
-    let row = |date: &str, pitch: &str| format!("G1,{date},Wren Alder,R,Moss Quill,L,1,0,0,0,0,0,0,{pitch}");
-    let text = format!(
-        "{HEADER}\n{}\n{}\n{}\n{}\n{}\n",
-        row("2026-04-01", "slider"),
-        row("2025-04-01", "fastball"),
-        row("2025-04-01", "curveball"),
-        row("2026-04-01", "fastball"),
-        "G2,2025-04-02,Wren Alder,R,Moss Quill,L,1,0,0,0,0,0,0,sinker"
-    );
+    let text = pitches(&[
+        ("G1", "2026-04-01", "Wren Alder", "slider"),
+        ("G1", "2025-04-01", "Wren Alder", "fastball"),
+        ("G1", "2025-04-01", "Wren Alder", "curveball"),
+        ("G1", "2026-04-01", "Wren Alder", "fastball"),
+        ("G2", "2025-04-02", "Wren Alder", "sinker"),
+    ]);
     let ing = load(&write(&dir, "ids.csv", &text));
     let log = &ing.log;
     assert!(ing.rejected.is_empty());
@@ -630,14 +638,12 @@ fn a_game_id_on_two_dates_is_two_games() {
 #[test]
 fn names_differing_only_in_case_are_noted() {
     let dir = scratch("near-names");
-    let row = |pitcher: &str, pitch: &str| format!("G1,2025-04-01,{pitcher},R,Moss Quill,L,1,0,0,0,0,0,0,{pitch}");
-    let text = format!(
-        "{HEADER}\n{}\n{}\n{}\n{}\n",
-        row("Wren Alder", "slider"),
-        row("wren  alder", "Slider"),
-        row("Wren Alder", "four-seam"),
-        row("Juno Vale", "Four Seam")
-    );
+    let text = pitches(&[
+        ("G1", "2025-04-01", "Wren Alder", "slider"),
+        ("G1", "2025-04-01", "wren  alder", "Slider"),
+        ("G1", "2025-04-01", "Wren Alder", "four-seam"),
+        ("G1", "2025-04-01", "Juno Vale", "Four Seam"),
+    ]);
     let ing = load(&write(&dir, "near.csv", &text));
     assert_eq!(ing.log.pitch_types.len(), 4, "labels are read as written");
     let notes = ing.log.near_duplicate_names();
