@@ -43,7 +43,7 @@ fn main() {
     for name in names {
         let p = log.pitchers.iter().position(|x| *x == name).unwrap();
         let rows = by_pitcher[p].clone();
-        let plan = PitcherPlan::rolling(log, &rows, settings.audit.forward_blocks(), settings.audit.min_train_pitches());
+        let plan = PitcherPlan::rolling(log, &rows, settings.audit.forward_blocks(), settings.audit.min_train_pitches(), settings.audit.min_test_pitches());
         let task = PitcherTask::build(log, &sit, &plan, p as u32, rows);
         for null in [Null::Situation, Null::BeyondSheet] {
             let mut ws = null.workspace(&task);

@@ -113,7 +113,7 @@ pub enum Evaluation {
 impl Evaluation {
     fn plan_for(&self, log: &ingest::PitchLog, rows: &[u32], settings: &Settings) -> PitcherPlan {
         match self {
-            Evaluation::Rolling { blocks } => PitcherPlan::rolling(log, rows, *blocks, settings.audit.min_train_pitches()),
+            Evaluation::Rolling { blocks } => PitcherPlan::rolling(log, rows, *blocks, settings.audit.min_train_pitches(), settings.audit.min_test_pitches()),
             Evaluation::SeasonForward(plan) => plan.local(log, rows),
         }
     }

@@ -172,16 +172,31 @@ impl PitcherPlan {
     /// on his latest season; otherwise found on the first half of the
     /// latest season's blocks and checked on the rest.
     ///
-    /// Permutation strata are his earlier seasons (one each) and the latest
-    /// season's blocks (one each): a null shuffle never moves a label across
-    /// the line between what a model learns from and what it scores, so a
-    /// mix that drifts during the season stays in the null.
-    pub fn rolling(log: &PitchLog, rows: &[u32], blocks: usize, min_discovery: usize) -> PitcherPlan {
+    /// A latest season holding fewer than `min_scored` pitches (a log
+    /// exported in April, a call-up with a season behind him) is scored
+    /// together with his season before it: the window of scored games is
+    /// then his last two seasons, dealt into blocks the same way, and the
+    /// words say so.
+    ///
+    /// Permutation strata are his earlier seasons (one each) and the
+    /// window's blocks (one each, split by season in a two-season window):
+    /// a null shuffle never moves a label across the line between what a
+    /// model learns from and what it scores, so a mix that drifts during
+    /// the season stays in the null.
+    pub fn rolling(log: &PitchLog, rows: &[u32], blocks: usize, min_discovery: usize, min_scored: usize) -> PitcherPlan {
         let n = rows.len();
         let latest = rows.iter().map(|&r| log.season[r as usize]).max().unwrap_or(0);
+        let in_latest = rows.iter().filter(|&&r| log.season[r as usize] == latest).count();
+        let previous = rows.iter().map(|&r| log.season[r as usize]).filter(|&s| s < latest).max();
+        // The first season of the scored window, and its name in words.
+        let (from, window) = match previous {
+            Some(p) if in_latest < min_scored => (p, format!("{p}-{latest}")),
+            _ => (latest, latest.to_string()),
+        };
+        let two_seasons = from < latest;
         let mut games: Vec<(i32, u32)> = rows
             .iter()
-            .filter(|&&r| log.season[r as usize] == latest)
+            .filter(|&&r| log.season[r as usize] >= from)
             .map(|&r| (log.date[r as usize], log.game[r as usize]))
             .collect();
         games.sort_unstable();
@@ -189,14 +204,14 @@ impl PitcherPlan {
         let n_games = games.len();
         let blocks = blocks.min(n_games).max(1);
         let block_of = |r: usize| -> u8 {
-            let i = games.binary_search(&(log.date[r], log.game[r])).expect("a game of his latest season");
+            let i = games.binary_search(&(log.date[r], log.game[r])).expect("a game of his scored window");
             (i * blocks / n_games) as u8
         };
         let mut earlier_seasons: Vec<i32> =
-            rows.iter().map(|&r| log.season[r as usize]).filter(|&s| s < latest).collect();
+            rows.iter().map(|&r| log.season[r as usize]).filter(|&s| s < from).collect();
         earlier_seasons.sort_unstable();
         earlier_seasons.dedup();
-        let n_earlier = rows.iter().filter(|&&r| log.season[r as usize] < latest).count();
+        let n_earlier = rows.iter().filter(|&&r| log.season[r as usize] < from).count();
         // With earlier pitches, fold f scores block f; without, fold f
         // scores block f + 1 (the first block has nothing before it).
         let shift = usize::from(n_earlier == 0);
@@ -221,23 +236,26 @@ impl PitcherPlan {
                 scored_dated: None,
                 scored_games: 0,
                 tells_checked_on: if first_held == 0 {
-                    format!("his {latest} games")
+                    format!("his {window} games")
                 } else {
-                    format!("his later games of {latest}")
+                    format!("his later games of {window}")
                 },
             },
         };
         let mut scored_games = std::collections::BTreeSet::new();
         for (i, &r) in rows.iter().enumerate() {
             let r = r as usize;
-            if log.season[r] < latest {
+            if log.season[r] < from {
                 plan.train_from[i] = Some(0);
                 plan.discovery[i] = true;
                 plan.stratum[i] = earlier_seasons.binary_search(&log.season[r]).unwrap() as u16;
                 continue;
             }
             let b = block_of(r);
-            plan.stratum[i] = (earlier_seasons.len() + b as usize) as u16;
+            // Season x block: a block spanning the two seasons of a
+            // two-season window is two strata.
+            let cell = if two_seasons { 2 * b as usize + usize::from(log.season[r] == latest) } else { b as usize };
+            plan.stratum[i] = (earlier_seasons.len() + cell) as u16;
             // Block b trains every fold that scores a later block.
             if b < last {
                 plan.train_from[i] = Some(b + 1 - shift as u8);
@@ -256,17 +274,26 @@ impl PitcherPlan {
         plan.evaluation.scored_to = scored_games.last().map(|g| day(g.0));
         let per_block = if n_folds > 1 { format!("in {n_folds} blocks by date, each") } else { "in one block".to_string() };
         // The words, with what goes in the pitch count's parentheses.
+        // Why a two-season window: his latest season alone is short.
+        let why = if two_seasons {
+            format!("; {latest} alone holds {}, under the {} scored pitches a figure needs", fmt_n(in_latest), fmt_n(min_scored))
+        } else {
+            String::new()
+        };
         let words = |pitches: &str| {
             if shift == 0 {
                 format!(
-                    "his {} games of {latest} ({pitches}), {per_block} scored by a model fitted on everything of his before it",
+                    "his {} games of {window} ({pitches}{why}), {per_block} scored by a model fitted on everything of his before it",
                     scored_games.len()
                 )
             } else {
+                let first = match n_games - scored_games.len() {
+                    1 => "his first game".to_string(),
+                    k => format!("his first {k} games"),
+                };
                 format!(
-                    "his last {} of {n_games} games of {latest} ({pitches}), {per_block} scored by a model fitted on his games before it; his first {} games only trained the models",
-                    scored_games.len(),
-                    n_games - scored_games.len()
+                    "his last {} of {n_games} games of {window} ({pitches}{why}), {per_block} scored by a model fitted on his games before it; {first} only trained the models",
+                    scored_games.len()
                 )
             }
         };
@@ -275,10 +302,10 @@ impl PitcherPlan {
         plan.evaluation.scored = words(&pitches);
         plan.evaluation.scored_dated = (!dates.is_empty()).then(|| words(&format!("{pitches}, {dates}")));
         plan.evaluation.train = match earlier_seasons.as_slice() {
-            [] => format!("his earlier games of {latest}"),
-            [one] => format!("his {one} games ({} pitches) and his earlier games of {latest}", fmt_n(n_earlier)),
+            [] => format!("his earlier games of {window}"),
+            [one] => format!("his {one} games ({} pitches) and his earlier games of {window}", fmt_n(n_earlier)),
             many => format!(
-                "his games of {}-{} ({} pitches) and his earlier games of {latest}",
+                "his games of {}-{} ({} pitches) and his earlier games of {window}",
                 many[0],
                 many[many.len() - 1],
                 fmt_n(n_earlier)
@@ -529,7 +556,7 @@ mod tests {
         let date: Vec<i32> = game.iter().map(|&g| if g < 4 { start_25 + g as i32 } else { start_26 + g as i32 - 4 }).collect();
         let log = PitchLog { date, season, game, ..PitchLog::default() };
         let rows: Vec<u32> = (0..28).collect();
-        let e = PitcherPlan::rolling(&log, &rows, 5, 0).evaluation;
+        let e = PitcherPlan::rolling(&log, &rows, 5, 0, 0).evaluation;
         assert_eq!(e.n_scored, 20);
         assert_eq!(e.date_span(), "2026-05-01 to 2026-05-10");
         assert!(e.scored.starts_with("his 10 games of 2026 (20 pitches), in 5 blocks by date"), "{}", e.scored);
