@@ -552,22 +552,26 @@ fn rows_with_too_few_or_too_many_fields_are_rejected_with_their_line() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
-/// A pitch logged twice (the same date, game, pa and pitch_no; a log
-/// appended to itself, say) counts once: the later copy in the file is
-/// rejected, naming the line of the first, and the rejected rows stay in
-/// file order. Without pa and pitch_no two equal rows may be two pitches
-/// (a foul with two strikes repeats the count), so both are kept.
+/// A pitch logged twice (the same date, game, pa and pitch_no, and the
+/// same pitch there; a log appended to itself, say) counts once: the later
+/// copy in the file is rejected, naming the line of the first, and the
+/// rejected rows stay in file order. Two pitches sharing a place but not a
+/// pitcher are both kept, and so are equal rows without pa and pitch_no
+/// (a foul with two strikes repeats the count).
 #[test]
 fn a_pitch_logged_twice_counts_once() {
     let dir = scratch("repeats");
     let good = std::fs::read_to_string(fixture("good.csv")).unwrap();
     let (header, body) = good.split_once('\n').unwrap();
     let rows: Vec<&str> = body.lines().collect();
-    // Rows 1 and 3 again at the end, and a row with a bad hand between.
+    // Rows 1 and 3 again at the end, and a row with a bad hand between;
+    // then row 1's place (game, pa, pitch_no) with another pitcher, as a
+    // log numbering plate appearances per team has: a pitch of its own.
     let bad = rows[0].replacen(",R,", ",X,", 1);
-    let text = format!("{header}\n{body}{}\n{bad}\n{}\n", rows[0], rows[2]);
+    let other = rows[0].replacen("Wren Alder", "Juno Vale", 1);
+    let text = format!("{header}\n{body}{}\n{bad}\n{}\n{other}\n", rows[0], rows[2]);
     let ing = load(&write(&dir, "twice.csv", &text));
-    assert_eq!(ing.log.len(), rows.len());
+    assert_eq!(ing.log.len(), rows.len() + 1);
     let lines: Vec<u64> = ing.rejected.iter().map(|r| r.line).collect();
     let n = rows.len() as u64;
     assert_eq!(lines, [n + 2, n + 3, n + 4], "in file order");
@@ -579,7 +583,7 @@ fn a_pitch_logged_twice_counts_once() {
     let strip = |line: &str| line.split(',').take(14).collect::<Vec<_>>().join(",");
     let plain: String = std::iter::once(HEADER.to_string()).chain(text.lines().skip(1).map(strip)).map(|l| l + "\n").collect();
     let ing = load(&write(&dir, "plain.csv", &plain));
-    assert_eq!(ing.log.len(), rows.len() + 2);
+    assert_eq!(ing.log.len(), rows.len() + 3);
     assert_eq!(ing.rejected.len(), 1, "only the bad hand");
     std::fs::remove_dir_all(&dir).ok();
 }

@@ -580,9 +580,10 @@ fn finish_names(log: &mut PitchLog, team: &mut [Option<u32>], interners: [Intern
 
 /// Order the rows (CONTRACT §1): by date, game, pa, pitch_no. With both
 /// `pa` and `pitch_no` in the file, a row repeating an earlier row's date,
-/// game, pa and pitch_no is a pitch logged twice (a log appended to itself,
-/// say): the later copy in the file is dropped and returned as rejected, so
-/// no pitch counts twice in a test.
+/// game, pa and pitch_no, pitcher, batter, count, outs and pitch type is a
+/// pitch logged twice (a log appended to itself, say): the later copy in
+/// the file is dropped and returned as rejected, so no pitch counts twice
+/// in a test.
 fn order_rows(log: &mut PitchLog, optional: Optional, has: impl Fn(&str) -> bool, locator: &str) -> Vec<Rejected> {
     // CONTRACT §1: order by date, game, pa, pitch_no; file order within a
     // game when pa/pitch_no are absent (they are then 0 for every row, so
@@ -595,21 +596,34 @@ fn order_rows(log: &mut PitchLog, optional: Optional, has: impl Fn(&str) -> bool
     order.sort_by_key(|&i| key(i));
     let mut repeats = Vec::new();
     if has("pa") && has("pitch_no") {
-        let mut first = None;
-        order.retain(|&i| match first {
-            Some(f) if key(f) == key(i) => {
-                let (game, pa, pitch) = (&log.games[log.game[i as usize] as usize], optional.pa[i as usize], optional.pitch_no[i as usize]);
-                repeats.push(Rejected {
-                    line: log.source_line[i as usize],
-                    column: "(whole row)".to_string(),
-                    value: clip_value(&format!("game {game}, pa {pa}, pitch_no {pitch} (first at {locator} {})", log.source_line[f as usize])),
-                    reason: "repeats an earlier row's game, pa and pitch_no (a pitch logged twice); remove the copy".to_string(),
-                });
-                false
+        // What the pitch was: a copy agrees on all of it. Rows that share
+        // a place but not the pitch (a log numbering plate appearances per
+        // team, say) are two pitches, and are kept as they are.
+        let pitch = |i: u32| {
+            let i = i as usize;
+            (log.pitcher[i], log.batter[i], log.balls[i], log.strikes[i], log.outs[i], log.pitch_type[i])
+        };
+        // The kept rows of the current place (date, game, pa, pitch_no).
+        let mut place: Vec<u32> = Vec::new();
+        order.retain(|&i| {
+            if place.first().is_some_and(|&f| key(f) != key(i)) {
+                place.clear();
             }
-            _ => {
-                first = Some(i);
-                true
+            match place.iter().find(|&&f| pitch(f) == pitch(i)) {
+                Some(&f) => {
+                    let (game, pa, no) = (&log.games[log.game[i as usize] as usize], optional.pa[i as usize], optional.pitch_no[i as usize]);
+                    repeats.push(Rejected {
+                        line: log.source_line[i as usize],
+                        column: "(whole row)".to_string(),
+                        value: clip_value(&format!("game {game}, pa {pa}, pitch_no {no} (first at {locator} {})", log.source_line[f as usize])),
+                        reason: "repeats an earlier row's pitch: the same game, pa, pitch_no, pitcher, batter, count, outs and pitch type (a pitch logged twice); remove the copy".to_string(),
+                    });
+                    false
+                }
+                None => {
+                    place.push(i);
+                    true
+                }
             }
         });
     }
