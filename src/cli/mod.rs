@@ -155,11 +155,7 @@ impl LogArgs {
         drop(file);
         // A Parquet file piped in is recognised by its signature (its first
         // four bytes, "PAR1") and read as Parquet; anything else as CSV.
-        let mut head = [0u8; 4];
-        let is_parquet = std::fs::File::open(&spooled)
-            .and_then(|mut f| std::io::Read::read_exact(&mut f, &mut head))
-            .is_ok_and(|_| &head == b"PAR1");
-        if is_parquet {
+        if tellscope::ingest::read::starts_with(&spooled, b"PAR1") {
             let path = spooled.with_extension("parquet");
             std::fs::rename(&spooled, &path).map_err(|e| tellscope::Error::io(&path, "write standard input", e))?;
             input.path = path;

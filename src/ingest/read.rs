@@ -201,13 +201,18 @@ fn ragged_rows(path: &Path) -> (Vec<(usize, usize)>, usize) {
     (out, width)
 }
 
+/// Whether the file at `path` begins with the bytes `prefix` (a signature
+/// or byte-order mark); a file shorter than it, or unreadable, does not.
+pub fn starts_with(path: &Path, prefix: &[u8]) -> bool {
+    let mut head = vec![0u8; prefix.len()];
+    std::fs::File::open(path).and_then(|mut f| std::io::Read::read_exact(&mut f, &mut head)).is_ok_and(|_| head == prefix)
+}
+
 /// A CSV saved as UTF-16 (a spreadsheet's "Unicode text" export, known by
 /// its byte-order mark) would be read as text full of NUL bytes: refuse it,
 /// saying how to save it instead.
 fn refuse_utf16(path: &Path) -> Result<()> {
-    let mut head = [0u8; 2];
-    let read = std::fs::File::open(path).and_then(|mut f| std::io::Read::read_exact(&mut f, &mut head));
-    if read.is_ok() && (head == [0xFF, 0xFE] || head == [0xFE, 0xFF]) {
+    if starts_with(path, &[0xFF, 0xFE]) || starts_with(path, &[0xFE, 0xFF]) {
         return Err(Error::Data(format!(
             "{}: the file is UTF-16 text (a spreadsheet's \"Unicode text\" export); save it as comma-separated CSV in UTF-8",
             path.display()
