@@ -126,8 +126,7 @@ impl PitchLog {
         let groups = |names: &[String]| -> Vec<Vec<String>> {
             let mut by_key: BTreeMap<String, Vec<String>> = BTreeMap::new();
             for n in names {
-                let key: String = n.chars().filter(|c| c.is_alphanumeric()).flat_map(char::to_lowercase).collect();
-                by_key.entry(key).or_default().push(n.clone());
+                by_key.entry(loose_name(n)).or_default().push(n.clone());
             }
             by_key.into_values().filter(|g| g.len() > 1).collect()
         };
@@ -157,6 +156,14 @@ impl PitchLog {
         }
         notes
     }
+}
+
+/// A name as a loose key: its letters and digits, lower-cased, so names
+/// that differ only in case, spaces or punctuation ("Pitch_Type" and
+/// "pitch type", "Wren Alder" and "wren  alder") share it. For hints and
+/// notes only: names are always read as written.
+pub fn loose_name(name: &str) -> String {
+    name.chars().filter(|c| c.is_alphanumeric()).flat_map(char::to_lowercase).collect()
 }
 
 /// Interns strings into a table, giving each a stable index in first-seen
@@ -248,9 +255,9 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
         .filter(|c| table.column(input.file_column(c)).is_none())
         .map(|c| {
             let f = input.file_column(c);
-            // A header that differs only in case or surrounding spaces is
+            // A header that differs only in case, spaces or punctuation is
             // named, so the fix is plain (names must match exactly).
-            let near = table.header.iter().find(|h| h.trim().eq_ignore_ascii_case(f));
+            let near = table.header.iter().find(|h| loose_name(h) == loose_name(f));
             match (f == *c, near) {
                 (true, None) => c.to_string(),
                 (true, Some(h)) => format!("{c} (the header has \"{h}\")"),
