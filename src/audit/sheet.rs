@@ -90,6 +90,12 @@ pub fn sheet(
     let mut cells: Vec<SheetCell> = Vec::new();
     // (cell, p-value of its lean) of the cells with enough pitches.
     let mut lean_p: Vec<(usize, f64)> = Vec::new();
+    // His share's interval widened for the 24 cells and his pitch types
+    // looked at together (Bonferroni), so that chance alone puts a cell
+    // above the league on at most one pitcher in 1/fdr (a 95% interval in
+    // each of 24 cells did on one in seven). (An fdr so small that the
+    // level rounds to 1 is held just below.)
+    let alpha = (settings.audit.fdr() / (COUNTS.len() * 2 * k) as f64).max(1e-12);
     for (c, count) in COUNTS.iter().enumerate() {
         for (side, bats) in ["L", "R"].iter().enumerate() {
             let cell = c * 2 + side;
@@ -117,15 +123,9 @@ pub fn sheet(
                 let hi = wilson::wilson_95((o.share * o.n as f64).round() as u64, o.n).high;
                 (season_share * hi / o.season_share).min(1.0)
             });
-            // His share's interval widened for the 24 cells and his pitch
-            // types looked at together (Bonferroni), so that chance alone
-            // puts a cell above the league on at most one pitcher in
-            // 1/fdr (a 95% interval in each of 24 cells did on one in seven).
-            // (An fdr so small that the level rounds to 1 is held just below.)
-            let alpha = (settings.audit.fdr() / (COUNTS.len() * 2 * k) as f64).max(1e-12);
             let together = wilson::wilson_interval(row[top] as u64, n as u64, 1.0 - alpha);
             let above_league = match (expected, expected_high) {
-                (Some(e), Some(h)) => n >= settings.tells.min_n() && together.low > h && top_share - e >= settings.tells.min_effect(),
+                (Some(e), Some(h)) => tested && together.low > h && top_share - e >= settings.tells.min_effect(),
                 _ => false,
             };
             cells.push(SheetCell {
