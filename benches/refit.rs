@@ -67,5 +67,31 @@ fn main() {
                 REFITS as f64 / best
             );
         }
+        // Where he throws it: every pitch type's region task refitted.
+        if let Some(regions) = tellscope::audit::location::row_regions(log) {
+            use tellscope::audit::location::{null_statistic, scratch, PitcherLocation};
+            let loc = PitcherLocation::build(&task, &regions, &settings);
+            if loc.has_figures() {
+                let mut s = scratch(&loc);
+                let mut best = f64::INFINITY;
+                let mut check = 0.0;
+                for _ in 0..ROUNDS {
+                    let t = Instant::now();
+                    for j in 0..REFITS {
+                        check += null_statistic(&loc, &name, &settings, j as u64, &mut s).secondary;
+                    }
+                    best = best.min(t.elapsed().as_secs_f64());
+                }
+                let rows: usize = loc.parts.iter().map(|p| p.task.n_train()).sum();
+                println!(
+                    "{name:<20} {:<7} {:>5} training pitches over {} types: {:7.1} us per refit, {:6.0} refits/s (checksum {check:.3})",
+                    "where",
+                    rows,
+                    loc.parts.len(),
+                    1e6 * best / REFITS as f64,
+                    REFITS as f64 / best
+                );
+            }
+        }
     }
 }

@@ -140,15 +140,17 @@ fn location_rng(seed: u64, pitcher: &str, j: u64) -> ChaCha8Rng {
     permute::keyed_rng(b"tellscope location v1", seed, pitcher, j)
 }
 
-type Scratch = Vec<(Workspace, Vec<u8>)>;
+/// A location test's reusable state: per type, its fit workspace and labels.
+pub type Scratch = Vec<(Workspace, Vec<u8>)>;
 
-fn scratch(loc: &PitcherLocation) -> Scratch {
+/// A pitcher's location scratch (one per worker).
+pub fn scratch(loc: &PitcherLocation) -> Scratch {
     loc.parts.iter().map(|p| (Workspace::new(&p.task), p.task.labels.clone())).collect()
 }
 
 /// Permutation `j`: every type's regions shuffled within its blocks by one
 /// stream (types in order), every type refitted, the pooled statistic.
-fn null_statistic(loc: &PitcherLocation, name: &str, settings: &Settings, j: u64, s: &mut Scratch) -> Stat {
+pub fn null_statistic(loc: &PitcherLocation, name: &str, settings: &Settings, j: u64, s: &mut Scratch) -> Stat {
     let mut rng = location_rng(settings.audit.seed(), name, j);
     let mut total = StatTotals::default();
     for (part, (ws, labels)) in loc.parts.iter().zip(s.iter_mut()) {
