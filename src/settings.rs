@@ -57,6 +57,9 @@ pub struct AuditConfig {
     /// Blocks of games: of each pitcher's latest season in the rolling
     /// scheme, of a period in compare's forward-chaining.
     pub forward_blocks: Option<usize>,
+    /// Seasons before the scored one the rolling scheme's models learn
+    /// from (older ones only while these hold too few pitches).
+    pub history_seasons: Option<usize>,
     /// A held-out pitch of a type under this share of the training pitches
     /// is new to him: counted and explained, left out of the figures.
     pub new_type_share: Option<f64>,
@@ -203,6 +206,7 @@ pub struct AuditParams {
     min_train_pitches: usize,
     min_test_pitches: usize,
     forward_blocks: usize,
+    history_seasons: usize,
     new_type_share: f64,
     test_season: Option<i32>,
     pitchers: Vec<String>,
@@ -226,6 +230,10 @@ copy_getters!(AuditParams {
     /// Blocks of games: of each pitcher's latest season in the rolling
     /// scheme, of a period in compare's forward-chaining.
     forward_blocks: usize,
+    /// Seasons before the scored one the rolling scheme's models learn
+    /// from; older seasons join only while these hold fewer than
+    /// `min_train_pitches`.
+    history_seasons: usize,
     /// A held-out pitch of a type under this share of the training pitches
     /// is new to him.
     new_type_share: f64,
@@ -456,6 +464,7 @@ impl AuditParams {
             min_train_pitches: check_range("[audit] min_train_pitches", a.min_train_pitches.unwrap_or(MIN_TRAIN_PITCHES), 50, 10_000_000)?,
             min_test_pitches: check_range("[audit] min_test_pitches", a.min_test_pitches.unwrap_or(MIN_TEST_PITCHES), 20, 10_000_000)?,
             forward_blocks: check_range("[audit] forward_blocks", a.forward_blocks.unwrap_or(FORWARD_BLOCKS), 2, 50)?,
+            history_seasons: check_range("[audit] history_seasons", a.history_seasons.unwrap_or(HISTORY_SEASONS), 1, 100)?,
             new_type_share: check_range("[audit] new_type_share", a.new_type_share.unwrap_or(NEW_TYPE_SHARE), 0.0, 0.5)?,
             test_season: o.test_season,
             pitchers: o.pitchers.clone(),

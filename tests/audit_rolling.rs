@@ -108,6 +108,54 @@ fn an_added_pitch_does_not_move_the_headline() {
     assert!(far.len() >= 2, "the first release's season-forward fit no longer shows the failure: {far:?}");
 }
 
+/// The history window (`[audit] history_seasons`, default 1; see
+/// `split::recent_rows`): on a log of four seasons
+/// (tests/fixtures/scenarios/long_history_staff.toml) the models learn from
+/// the season before the scored one, and the two older seasons are left
+/// out, counted and said so. A pitcher who replaced his fastball with a
+/// sinker two seasons ago, with no situational habit, is then measured
+/// against the mix he throws now: sinker every time, right on about 60% of
+/// the scored pitches (a 99% binomial band), and bits gained within their
+/// sampling margin of 0. The regression case, learning from every season
+/// (`history_seasons = 10`), shows the failure: his plain mix is the
+/// fastball he no longer throws, right on none of the scored pitches, and
+/// his headline measures the arsenal change, far above the margin.
+#[test]
+fn older_seasons_are_left_out_so_an_old_arsenal_does_not_make_the_headline() {
+    let path = log_of(&scenario("long_history_staff.toml"), 1, "history");
+    let a = audit::run(&path, &settings(19), false).unwrap();
+    assert_eq!(a.summary.pitchers.len(), 3);
+    for p in &a.summary.pitchers {
+        assert!(p.is_ok(), "{}: {}", p.pitcher, p.status);
+        // Every season is still listed; 2023 and 2024 are left out.
+        assert_eq!(p.pitches_by_season.keys().copied().collect::<Vec<i32>>(), vec![2023, 2024, 2025, 2026]);
+        let older = p.evaluation.older_left_out.as_ref().expect("older seasons left out");
+        assert_eq!((older.from, older.to), (2023, 2024));
+        assert_eq!(older.pitches, p.pitches_by_season[&2023] + p.pitches_by_season[&2024]);
+        // The models learn from 2025 and the earlier blocks of 2026 only.
+        assert!(p.n_train < p.pitches_by_season[&2025] + p.pitches_by_season[&2026], "{}: {} trained on", p.pitcher, p.n_train);
+        let words = audit::wording::evaluation_sentence(&p.evaluation);
+        assert!(words.contains(&format!("his older games, of 2023-2024 ({} pitches), are left out", tellscope::domain::numbers::fmt_n(older.pitches))), "{words}");
+        let (bits, margin) = (p.bits_gained.unwrap(), p.bits_margin.unwrap());
+        assert!(bits.abs() <= margin, "{}: bits {bits:.4}, margin {margin:.4}", p.pitcher);
+    }
+    let changer = a.summary.pitchers.iter().find(|p| p.pitcher == "Long Changer").unwrap();
+    assert_eq!(changer.prior_pitch.as_deref(), Some("sinker"));
+    let n = changer.n_test as u64;
+    let right = (changer.prior_accuracy.unwrap() * n as f64).round() as u64;
+    let (lo, hi) = band(n, 0.6);
+    assert!((lo..=hi).contains(&right), "sinker right on {right} of {n}, band {lo}..={hi}");
+
+    let cfg: ConfigFile = toml::from_str("[audit]\nhistory_seasons = 10\n").unwrap();
+    let every = Settings::resolve(&cfg, &Overrides { permutations: Some(19), ..Overrides::default() }).unwrap();
+    let b = audit::run(&path, &every, false).unwrap();
+    let old = b.summary.pitchers.iter().find(|p| p.pitcher == "Long Changer").unwrap();
+    assert!(old.evaluation.older_left_out.is_none());
+    assert_eq!(old.prior_pitch.as_deref(), Some("fastball"));
+    assert_eq!(old.prior_accuracy, Some(0.0));
+    assert!(old.bits_gained.unwrap() > 3.0 * old.bits_margin.unwrap(), "learning from every season no longer shows the failure: bits {:?}", old.bits_gained);
+}
+
 /// Model p-values over `seeds` simulations of `text`, and the runs with a
 /// flagged tell.
 fn null_runs(text: &str, seeds: u64, tag: &str) -> (Vec<f64>, u64) {

@@ -10,7 +10,7 @@ pub mod wording;
 
 use crate::error::{Error, Result};
 use crate::evaluate::fit::{self, argmax, statistic, Workspace};
-use crate::evaluate::split::{PitcherPlan, Plan};
+use crate::evaluate::split::{self, PitcherPlan, Plan};
 use crate::evaluate::task::PitcherTask;
 use crate::evaluate::{self, HeldOut};
 use crate::ingest::{self, Ingested, Rejected};
@@ -111,18 +111,33 @@ pub enum Evaluation {
 }
 
 impl Evaluation {
-    fn plan_for(&self, log: &ingest::PitchLog, rows: &[u32], settings: &Settings) -> PitcherPlan {
+    /// A pitcher's plan and the rows it covers: under the rolling scheme
+    /// his recent seasons ([`split::recent_rows`]), otherwise all his rows.
+    fn plan_for(&self, log: &ingest::PitchLog, rows: &[u32], settings: &Settings) -> (Vec<u32>, PitcherPlan) {
         match self {
-            Evaluation::Rolling { blocks } => PitcherPlan::rolling(log, rows, *blocks, settings.audit.min_train_pitches(), settings.audit.min_test_pitches()),
-            Evaluation::SeasonForward(plan) => plan.local(log, rows),
+            Evaluation::Rolling { blocks } => {
+                let a = &settings.audit;
+                let recent = split::recent_rows(log, rows, a.history_seasons(), a.min_train_pitches(), a.min_test_pitches());
+                let mut plan = PitcherPlan::rolling(log, &recent.rows, *blocks, a.min_train_pitches(), a.min_test_pitches());
+                plan.evaluation.older_left_out = recent.older;
+                (recent.rows, plan)
+            }
+            Evaluation::SeasonForward(plan) => (rows.to_vec(), plan.local(log, rows)),
         }
     }
 
-    fn out(&self) -> EvaluationOut {
+    fn out(&self, settings: &Settings) -> EvaluationOut {
         match self {
             Evaluation::Rolling { blocks } => EvaluationOut {
                 scheme: "rolling".into(),
-                train: "for each pitcher, everything of his before each scored block (earlier seasons and earlier blocks)".into(),
+                train: format!(
+                    "for each pitcher, everything of his before each scored block back to {} (earlier blocks, and older seasons only while those hold fewer than {} pitches)",
+                    match settings.audit.history_seasons() {
+                        1 => "the season before the scored one".to_string(),
+                        h => format!("the {h} seasons he pitched before the scored one"),
+                    },
+                    crate::domain::numbers::fmt_n(settings.audit.min_train_pitches())
+                ),
                 test: format!("each pitcher's latest season in the log, split by date into up to {blocks} blocks, each scored by a model fitted on his pitches before it"),
                 tells_checked_on: "each pitcher's latest season (the later half of it when he has no earlier season to find tells on)".into(),
             },
@@ -263,7 +278,7 @@ pub fn audit_log(
     let mut outcomes = Vec::new();
     let mut audited = 0usize;
     for task in &staff.tasks {
-        let about = pitcher::About::of(log, task, settings);
+        let about = pitcher::About::of(log, task, &staff.all_rows_of[task.pitcher as usize], settings);
         let result = if enough(task, settings) {
             audited += 1;
             pitcher::scored(&run, task, about, audited - 1)
@@ -285,7 +300,7 @@ pub fn audit_log(
         tool: Tool::this(),
         input: Input::of(&source, log),
         settings: SettingsOut::of(settings),
-        evaluation: scheme.out(),
+        evaluation: scheme.out(settings),
         notes,
         staff_called_outcomes: staff_called,
         yardstick: yardstick.to_string(),
@@ -303,6 +318,10 @@ fn enough(t: &PitcherTask, settings: &Settings) -> bool {
 
 /// Every pitcher of the log planned, and the chosen pitchers' tasks.
 struct Staff {
+    /// Per pitcher, every row of his in the log.
+    all_rows_of: Vec<Vec<u32>>,
+    /// Per pitcher, the rows his plan covers (his recent seasons under the
+    /// rolling scheme).
     rows_of: Vec<Vec<u32>>,
     plans: Vec<Option<PitcherPlan>>,
     /// Per log row: a row tells are found on.
@@ -314,14 +333,20 @@ impl Staff {
     /// Every pitcher's plan (the tells' staff shares read all pitchers'
     /// discovery rows), then the chosen pitchers' tasks.
     fn plan(log: &ingest::PitchLog, sit: &Situations, scheme: &Evaluation, chosen: &[u32], settings: &Settings) -> Staff {
-        let mut rows_of: Vec<Vec<u32>> = vec![Vec::new(); log.pitchers.len()];
+        let mut all_rows_of: Vec<Vec<u32>> = vec![Vec::new(); log.pitchers.len()];
         for i in 0..log.len() {
-            rows_of[log.pitcher[i] as usize].push(i as u32);
+            all_rows_of[log.pitcher[i] as usize].push(i as u32);
         }
-        let plans: Vec<Option<PitcherPlan>> = rows_of
+        let (rows_of, plans): (Vec<Vec<u32>>, Vec<Option<PitcherPlan>>) = all_rows_of
             .par_iter()
-            .map(|rows| (!rows.is_empty()).then(|| scheme.plan_for(log, rows, settings)))
-            .collect();
+            .map(|rows| match rows.is_empty() {
+                true => (Vec::new(), None),
+                false => {
+                    let (used, plan) = scheme.plan_for(log, rows, settings);
+                    (used, Some(plan))
+                }
+            })
+            .unzip();
         let mut discovery = vec![false; log.len()];
         for (rows, plan) in rows_of.iter().zip(&plans) {
             if let Some(plan) = plan {
@@ -337,7 +362,7 @@ impl Staff {
                 PitcherTask::build(log, sit, plan, p, rows_of[p as usize].clone())
             })
             .collect();
-        Staff { rows_of, plans, discovery, tasks }
+        Staff { all_rows_of, rows_of, plans, discovery, tasks }
     }
 
     /// Every audited pitcher's observed (pitcher, bits gained, beyond the

@@ -29,7 +29,9 @@ pub(super) struct About {
 }
 
 impl About {
-    pub(super) fn of(log: &PitchLog, task: &PitcherTask, settings: &Settings) -> About {
+    /// `all_rows`: every row of his in the log (the task's rows leave out
+    /// seasons older than the models learn from).
+    pub(super) fn of(log: &PitchLog, task: &PitcherTask, all_rows: &[u32], settings: &Settings) -> About {
         // His usual hand; a pitcher listed with both hands is said so.
         let tally = HandTally::of(task.rows.iter().map(|&r| log.throws[r as usize])).expect("a task has rows");
         let usual = tally.usual();
@@ -44,7 +46,7 @@ impl About {
             )
         });
         let mut pitches_by_season = BTreeMap::new();
-        for &r in &task.rows {
+        for &r in all_rows {
             *pitches_by_season.entry(log.season[r as usize]).or_insert(0usize) += 1;
         }
         let pitches_by_team = match settings.audit.team() {
@@ -99,7 +101,7 @@ impl PitcherResult {
 pub(super) fn insufficient(task: &PitcherTask, about: About, settings: &Settings) -> PitcherResult {
     let reason = format!(
         "{} pitches in the log ({}); the models could learn from at most {} of them and score {}, and at least {} to learn from and {} to score are needed before any figure is shown",
-        fmt_n(task.rows.len()),
+        fmt_n(about.pitches_by_season.values().sum::<usize>()),
         about.pitches_by_season.iter().map(|(y, n)| format!("{} in {y}", fmt_n(*n))).collect::<Vec<_>>().join(", "),
         fmt_n(task.n_train()),
         fmt_n(task.n_test()),

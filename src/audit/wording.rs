@@ -388,6 +388,7 @@ mod tests {
             scored_from: Some("2026-05-10".into()),
             scored_to: Some("2026-09-27".into()),
             scored_games: 25,
+            older_left_out: None,
             tells_checked_on: "his 2026 games".into(),
             scored_dated: Some("his last 25 of 32 games of 2026 (2,262 pitches, 2026-05-10 to 2026-09-27), in 4 blocks by date, each scored by a model fitted on his games before it; his first 7 games only trained the models".into()),
         };
@@ -427,8 +428,19 @@ pub fn evaluation_sentence(e: &crate::evaluate::split::PitcherEvaluation) -> Str
         None if !dates.is_empty() => format!("{} ({dates})", e.scored),
         None => e.scored.clone(),
     };
+    // Older seasons left out (the rolling scheme's history window).
+    let older = match &e.older_left_out {
+        Some(o) => {
+            let seasons = if o.from == o.to { o.from.to_string() } else { format!("{}-{}", o.from, o.to) };
+            format!(
+                "; his older games, of {seasons} ({} pitches), are left out, since habits move between seasons and an opponent reads his recent ones",
+                fmt_n(o.pitches)
+            )
+        }
+        None => String::new(),
+    };
     format!(
-        "How he was scored: {scored}; the models learned from {}. An opponent could have done the same with the games he had seen.",
+        "How he was scored: {scored}; the models learned from {}{older}. An opponent could have done the same with the games he had seen.",
         e.train
     )
 }

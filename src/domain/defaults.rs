@@ -25,6 +25,9 @@ pub const STOP_AFTER_EXCEEDANCES: usize = 10;
 pub const MIN_TRAIN_PITCHES: usize = 300;
 pub const MIN_TEST_PITCHES: usize = 100;
 pub const FORWARD_BLOCKS: usize = 5;
+/// Seasons before the scored one the rolling scheme's models learn from
+/// (more only while they hold fewer than `MIN_TRAIN_PITCHES`).
+pub const HISTORY_SEASONS: usize = 1;
 pub const NEW_TYPE_SHARE: f64 = 0.01;
 
 // [model]

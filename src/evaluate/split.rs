@@ -36,6 +36,10 @@ pub struct PitcherEvaluation {
     pub scored_to: Option<String>,
     /// Games scored.
     pub scored_games: usize,
+    /// His older seasons the models leave out (rolling scheme, see
+    /// [`recent_rows`]); absent when none are.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub older_left_out: Option<OlderLeftOut>,
     /// Where his tells are checked (his held-out rows), in words.
     pub tells_checked_on: String,
     /// `scored` with the scored dates beside its pitch count ("his 61
@@ -44,6 +48,15 @@ pub struct PitcherEvaluation {
     /// dates after them ([`PitcherEvaluation::date_span`]).
     #[serde(skip)]
     pub scored_dated: Option<String>,
+}
+
+/// Seasons of a pitcher older than the rolling scheme learns from.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct OlderLeftOut {
+    /// First and last season left out.
+    pub from: i32,
+    pub to: i32,
+    pub pitches: usize,
 }
 
 impl PitcherEvaluation {
@@ -126,6 +139,7 @@ impl PitcherPlan {
                 scored_from: games.first().map(|g| day(g.0)),
                 scored_to: games.last().map(|g| day(g.0)),
                 scored_games: games.len(),
+                older_left_out: None,
                 tells_checked_on: format!("no rows of {label} (tells are found on the forward-chained period)"),
                 scored_dated: None,
             },
@@ -157,6 +171,7 @@ impl PitcherPlan {
                 scored_from: scored_games.first().map(|g| day(g.0)),
                 scored_to: scored_games.last().map(|g| day(g.0)),
                 scored_games: scored_games.len(),
+                older_left_out: None,
                 tells_checked_on: test.to_string(),
                 scored_dated: None,
             },
@@ -185,14 +200,8 @@ impl PitcherPlan {
     /// the season stays in the null.
     pub fn rolling(log: &PitchLog, rows: &[u32], blocks: usize, min_discovery: usize, min_scored: usize) -> PitcherPlan {
         let n = rows.len();
-        let latest = rows.iter().map(|&r| log.season[r as usize]).max().unwrap_or(0);
-        let in_latest = rows.iter().filter(|&&r| log.season[r as usize] == latest).count();
-        let previous = rows.iter().map(|&r| log.season[r as usize]).filter(|&s| s < latest).max();
-        // The first season of the scored window, and its name in words.
-        let (from, window) = match previous {
-            Some(p) if in_latest < min_scored => (p, format!("{p}-{latest}")),
-            _ => (latest, latest.to_string()),
-        };
+        let (from, latest, in_latest) = scored_window(log, rows, min_scored);
+        let window = if from < latest { format!("{from}-{latest}") } else { latest.to_string() };
         let two_seasons = from < latest;
         let mut games: Vec<(i32, u32)> = rows
             .iter()
@@ -235,6 +244,7 @@ impl PitcherPlan {
                 scored_to: None,
                 scored_dated: None,
                 scored_games: 0,
+                older_left_out: None,
                 tells_checked_on: if first_held == 0 {
                     format!("his {window} games")
                 } else {
@@ -312,6 +322,71 @@ impl PitcherPlan {
             ),
         };
         plan
+    }
+}
+
+/// A pitcher's scored window under the rolling scheme: (its first season,
+/// his latest season, his pitches in the latest season). The window is his
+/// latest season, or his last two when the latest holds fewer than
+/// `min_scored` pitches and he has a season before it.
+fn scored_window(log: &PitchLog, rows: &[u32], min_scored: usize) -> (i32, i32, usize) {
+    let latest = rows.iter().map(|&r| log.season[r as usize]).max().unwrap_or(0);
+    let in_latest = rows.iter().filter(|&&r| log.season[r as usize] == latest).count();
+    let previous = rows.iter().map(|&r| log.season[r as usize]).filter(|&s| s < latest).max();
+    match previous {
+        Some(p) if in_latest < min_scored => (p, latest, in_latest),
+        _ => (latest, latest, in_latest),
+    }
+}
+
+/// A pitcher's rows the rolling scheme uses, and the older ones it leaves
+/// out ([`recent_rows`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct Recent {
+    /// His rows from the first season the models learn from on (log order).
+    pub rows: Vec<u32>,
+    /// Seasons left out as older; `None` when nothing is.
+    pub older: Option<OlderLeftOut>,
+}
+
+/// The rows of a pitcher the rolling scheme learns from and scores: his
+/// scored window (see [`PitcherPlan::rolling`]) and the `history` seasons
+/// he pitched before it, and further seasons back, latest first, only
+/// while those hold fewer than `min_train` pitches. Habits and arsenals
+/// move between seasons, and an opponent scouting him now reads his recent
+/// seasons, not his first ones: on a long log a veteran's oldest seasons
+/// would otherwise outweigh his current ones in the models, his usage
+/// prior and his tells. A log of two seasons keeps every row.
+pub fn recent_rows(log: &PitchLog, rows: &[u32], history: usize, min_train: usize, min_scored: usize) -> Recent {
+    let history = history.max(1);
+    let (from, _, _) = scored_window(log, rows, min_scored);
+    // His seasons before the window with their pitches, latest first.
+    let mut before: Vec<(i32, usize)> = Vec::new();
+    for &r in rows {
+        let s = log.season[r as usize];
+        if s < from {
+            match before.iter_mut().find(|(y, _)| *y == s) {
+                Some((_, c)) => *c += 1,
+                None => before.push((s, 1)),
+            }
+        }
+    }
+    before.sort_unstable_by(|a, b| b.0.cmp(&a.0));
+    let mut kept = 0;
+    let mut pitches = 0;
+    while kept < before.len() && (kept < history || pitches < min_train) {
+        pitches += before[kept].1;
+        kept += 1;
+    }
+    let older = &before[kept..];
+    if older.is_empty() {
+        return Recent { rows: rows.to_vec(), older: None };
+    }
+    // The oldest season kept (at least one is: `history` is at least 1).
+    let first_kept = before[kept - 1].0;
+    Recent {
+        rows: rows.iter().copied().filter(|&r| log.season[r as usize] >= first_kept).collect(),
+        older: Some(OlderLeftOut { from: older[older.len() - 1].0, to: older[0].0, pitches: older.iter().map(|o| o.1).sum() }),
     }
 }
 
@@ -522,6 +597,7 @@ impl Plan {
                 scored_from: scored_games.first().map(|g| day(g.0)),
                 scored_to: scored_games.last().map(|g| day(g.0)),
                 scored_games: scored_games.len(),
+                older_left_out: None,
                 tells_checked_on: self.tells_label.clone(),
                 scored_dated: None,
             },
@@ -540,9 +616,61 @@ fn season_strata(log: &PitchLog, rows: &[u32]) -> Vec<u16> {
 
 #[cfg(test)]
 mod tests {
-    use super::PitcherPlan;
+    use super::{recent_rows, OlderLeftOut, PitcherPlan};
     use crate::ingest::parse::days_from_civil;
     use crate::ingest::PitchLog;
+
+    /// A pitcher's rows by season: `counts[i]` pitches in season `2020 + i`,
+    /// one game a season, in season order.
+    fn seasons_log(counts: &[usize]) -> (PitchLog, Vec<u32>) {
+        let (mut season, mut game, mut date) = (Vec::new(), Vec::new(), Vec::new());
+        for (i, &c) in counts.iter().enumerate() {
+            for _ in 0..c {
+                season.push(2020 + i as i32);
+                game.push(i as u32);
+                date.push(days_from_civil(2020 + i as i32, 5, 1));
+            }
+        }
+        let rows = (0..season.len() as u32).collect();
+        (PitchLog { date, season, game, ..PitchLog::default() }, rows)
+    }
+
+    /// The history window, worked by hand: the scored season and the one
+    /// before it are kept, older seasons are left out (first, last, pitches),
+    /// and older seasons join, latest first, while the kept ones hold fewer
+    /// than the minimum to learn from.
+    #[test]
+    fn the_models_learn_from_the_season_before_and_older_ones_only_when_short() {
+        // 2020..2026, 400 a season: 2025 and 2026 kept, 2020-2024 left out.
+        let (log, rows) = seasons_log(&[400; 7]);
+        let r = recent_rows(&log, &rows, 1, 300, 100);
+        assert_eq!(r.rows, (2000..2800).collect::<Vec<u32>>());
+        assert_eq!(r.older, Some(OlderLeftOut { from: 2020, to: 2024, pitches: 2000 }));
+        // Two seasons of history: 2024 kept too.
+        let r = recent_rows(&log, &rows, 2, 300, 100);
+        assert_eq!(r.older, Some(OlderLeftOut { from: 2020, to: 2023, pitches: 1600 }));
+        // 2025 holds 100 (under 300): 2024 joins (100 + 150 = 250, still
+        // under), then 2023 (650): 2020-2022 left out.
+        let (log, rows) = seasons_log(&[50, 60, 70, 400, 150, 100, 500]);
+        let r = recent_rows(&log, &rows, 1, 300, 100);
+        assert_eq!(r.older, Some(OlderLeftOut { from: 2020, to: 2022, pitches: 180 }));
+        assert_eq!(r.rows.len(), 400 + 150 + 100 + 500);
+        // A short latest season (40, under 100) is scored with 2025: the
+        // window is 2025-2026, and the season before it is 2024.
+        let (log, rows) = seasons_log(&[500, 500, 500, 500, 500, 500, 40]);
+        let r = recent_rows(&log, &rows, 1, 300, 100);
+        assert_eq!(r.older, Some(OlderLeftOut { from: 2020, to: 2023, pitches: 2000 }));
+        assert_eq!(r.rows.len(), 500 + 500 + 40);
+        // Two seasons in all: nothing is left out, whatever the counts.
+        for counts in [[400, 400], [10, 1000], [1000, 10]] {
+            let (log, rows) = seasons_log(&counts);
+            let r = recent_rows(&log, &rows, 1, 300, 100);
+            assert_eq!((r.rows, r.older), (rows, None));
+        }
+        // Not enough anywhere: every season is kept.
+        let (log, rows) = seasons_log(&[50, 50, 50, 50]);
+        assert_eq!(recent_rows(&log, &rows, 1, 300, 100).older, None);
+    }
 
     /// The rolling plan's words put the scored dates beside the scored
     /// pitches' count (worked by hand): a 2025 of 4 games and a 2026 of 10,
