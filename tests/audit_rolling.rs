@@ -136,6 +136,7 @@ fn older_seasons_are_left_out_so_an_old_arsenal_does_not_make_the_headline() {
         assert!(p.n_train < p.pitches_by_season[&2025] + p.pitches_by_season[&2026], "{}: {} trained on", p.pitcher, p.n_train);
         let words = audit::wording::evaluation_sentence(&p.evaluation);
         assert!(words.contains(&format!("his older games, of 2023-2024 ({} pitches), are left out", tellscope::domain::numbers::fmt_n(older.pitches))), "{words}");
+        assert!(words.contains("scored by a model fitted on his games before it") && !words.contains("everything of his"), "{words}");
         let (bits, margin) = (p.bits_gained.unwrap(), p.bits_margin.unwrap());
         assert!(bits.abs() <= margin, "{}: bits {bits:.4}, margin {margin:.4}", p.pitcher);
     }

@@ -118,8 +118,7 @@ impl Evaluation {
             Evaluation::Rolling { blocks } => {
                 let a = &settings.audit;
                 let recent = split::recent_rows(log, rows, a.history_seasons(), a.min_train_pitches(), a.min_test_pitches());
-                let mut plan = PitcherPlan::rolling(log, &recent.rows, *blocks, a.min_train_pitches(), a.min_test_pitches());
-                plan.evaluation.older_left_out = recent.older;
+                let plan = PitcherPlan::rolling_recent(log, &recent, *blocks, a.min_train_pitches(), a.min_test_pitches());
                 (recent.rows, plan)
             }
             Evaluation::SeasonForward(plan) => (rows.to_vec(), plan.local(log, rows)),

@@ -199,6 +199,13 @@ impl PitcherPlan {
     /// model learns from and what it scores, so a mix that drifts during
     /// the season stays in the null.
     pub fn rolling(log: &PitchLog, rows: &[u32], blocks: usize, min_discovery: usize, min_scored: usize) -> PitcherPlan {
+        Self::rolling_recent(log, &Recent { rows: rows.to_vec(), older: None }, blocks, min_discovery, min_scored)
+    }
+
+    /// [`PitcherPlan::rolling`] over the rows [`recent_rows`] keeps: its
+    /// words and `older_left_out` say which older seasons are left out.
+    pub fn rolling_recent(log: &PitchLog, recent: &Recent, blocks: usize, min_discovery: usize, min_scored: usize) -> PitcherPlan {
+        let rows = &recent.rows[..];
         let n = rows.len();
         let (from, latest, in_latest) = scored_window(log, rows, min_scored);
         let window = if from < latest { format!("{from}-{latest}") } else { latest.to_string() };
@@ -292,8 +299,10 @@ impl PitcherPlan {
         };
         let words = |pitches: &str| {
             if shift == 0 {
+                // With older seasons left out, not "everything" before it.
+                let basis = if recent.older.is_some() { "his games before it" } else { "everything of his before it" };
                 format!(
-                    "his {} games of {window} ({pitches}{why}), {per_block} scored by a model fitted on everything of his before it",
+                    "his {} games of {window} ({pitches}{why}), {per_block} scored by a model fitted on {basis}",
                     scored_games.len()
                 )
             } else {
@@ -311,6 +320,7 @@ impl PitcherPlan {
         let dates = plan.evaluation.date_span();
         plan.evaluation.scored = words(&pitches);
         plan.evaluation.scored_dated = (!dates.is_empty()).then(|| words(&format!("{pitches}, {dates}")));
+        plan.evaluation.older_left_out = recent.older.clone();
         plan.evaluation.train = match earlier_seasons.as_slice() {
             [] => format!("his earlier games of {window}"),
             [one] => format!("his {one} games ({} pitches) and his earlier games of {window}", fmt_n(n_earlier)),
