@@ -140,6 +140,9 @@ fn older_seasons_are_left_out_so_an_old_arsenal_does_not_make_the_headline() {
         let (bits, margin) = (p.bits_gained.unwrap(), p.bits_margin.unwrap());
         assert!(bits.abs() <= margin, "{}: bits {bits:.4}, margin {margin:.4}", p.pitcher);
     }
+    // The run's notes say it once for the whole staff.
+    let note = a.summary.notes.iter().find(|n| n.contains("history_seasons")).expect("a note on older seasons");
+    assert!(note.contains("3 of the 3 pitchers here have older seasons left out"), "{note}");
     let changer = a.summary.pitchers.iter().find(|p| p.pitcher == "Long Changer").unwrap();
     assert_eq!(changer.prior_pitch.as_deref(), Some("sinker"));
     let n = changer.n_test as u64;
@@ -152,6 +155,7 @@ fn older_seasons_are_left_out_so_an_old_arsenal_does_not_make_the_headline() {
     let b = audit::run(&path, &every, false).unwrap();
     let old = b.summary.pitchers.iter().find(|p| p.pitcher == "Long Changer").unwrap();
     assert!(old.evaluation.older_left_out.is_none());
+    assert!(!b.summary.notes.iter().any(|n| n.contains("history_seasons")));
     assert_eq!(old.prior_pitch.as_deref(), Some("fastball"));
     assert_eq!(old.prior_accuracy, Some(0.0));
     assert!(old.bits_gained.unwrap() > 3.0 * old.bits_margin.unwrap(), "learning from every season no longer shows the failure: bits {:?}", old.bits_gained);

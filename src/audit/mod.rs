@@ -291,6 +291,7 @@ pub fn audit_log(
     timer.lap("pitcher summaries");
     let mut notes = run_notes(log, sit, &source, &chosen, tested.location.missing, settings);
     notes.extend(unresolved_notes(&tested, &ok_tasks, settings));
+    notes.extend(older_seasons_note(&pitchers, settings));
     let staff_called = crate::outcomes::staff_called(&pitchers.iter().filter_map(|p| p.called_outcomes.as_ref()).collect::<Vec<_>>());
     let yardstick = if club_count(log).unwrap_or(0) > 1 { "league" } else { "staff" };
     drop(run);
@@ -308,6 +309,28 @@ pub fn audit_log(
         pitchers,
     };
     Ok(Audit { summary, tests, rejected, outcomes })
+}
+
+/// On a log of more seasons than the models learn from, how many of the
+/// run's pitchers have older seasons left out ([`split::recent_rows`]).
+fn older_seasons_note(pitchers: &[PitcherSummary], settings: &Settings) -> Option<String> {
+    use crate::domain::numbers::fmt_n;
+    let older: Vec<_> = pitchers.iter().filter_map(|p| p.evaluation.older_left_out.as_ref()).collect();
+    if older.is_empty() {
+        return None;
+    }
+    let pitches: usize = older.iter().map(|o| o.pitches).sum();
+    let back = match settings.audit.history_seasons() {
+        1 => "the season he pitched before the scored one".to_string(),
+        h => format!("the {h} seasons he pitched before the scored one"),
+    };
+    Some(format!(
+        "The models learn from each pitcher's scored season and {back}, and from older seasons only while those hold fewer than {} pitches (`[audit] history_seasons`): {} of the {} pitchers here have older seasons left out ({} pitches in all), since habits and arsenals move between seasons and an opponent reads the recent ones. Each pitcher's section names his.",
+        fmt_n(settings.audit.min_train_pitches()),
+        fmt_n(older.len()),
+        fmt_n(pitchers.len()),
+        fmt_n(pitches)
+    ))
 }
 
 /// Enough pitches to learn from and to score for any figure.
@@ -524,7 +547,7 @@ fn run_notes(
     if let Some(team) = &settings.audit.team() {
         let latest = log.season.iter().copied().max().unwrap_or(0);
         notes.push(format!(
-            "--team {team}: {} who pitched for {team} in {latest} {}, with all their pitches in the log (a traded pitcher's pitches for other clubs included, and said so); the log's other {} pitchers are the league.",
+            "--team {team}: {} who pitched for {team} in {latest} {}, with their pitches for every club (a traded pitcher's pitches for other clubs included, and said so); the log's other {} pitchers are the league.",
             if chosen.len() == 1 { "the one pitcher".to_string() } else { format!("the {} pitchers", chosen.len()) },
             if chosen.len() == 1 { "is audited" } else { "are audited" },
             log.pitchers.len() - chosen.len()
