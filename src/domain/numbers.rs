@@ -15,6 +15,17 @@ pub fn fmt_n<N: TryInto<u64>>(n: N) -> String {
     out
 }
 
+/// A lift for a reader: "+12%", or "—" when the usage prior was never
+/// right (the lift, a ratio to its accuracy, is then not defined; the
+/// figures carry 0).
+pub fn lift_text(lift: f64, prior_accuracy: f64) -> String {
+    if prior_accuracy > 0.0 {
+        format!("{:+.0}%", 100.0 * lift)
+    } else {
+        "—".into()
+    }
+}
+
 /// A p- or q-value in a table: three decimals, or "< 0.001".
 pub fn p_text(p: f64) -> String {
     if p < 0.001 {
@@ -114,6 +125,13 @@ pub fn bits_text(x: f64) -> String {
 
 #[cfg(test)]
 mod tests {
+    #[test]
+    fn lift_is_not_spelled_when_the_prior_was_never_right() {
+        assert_eq!(super::lift_text(0.104, 0.41), "+10%");
+        assert_eq!(super::lift_text(-0.031, 0.52), "-3%");
+        assert_eq!(super::lift_text(0.0, 0.0), "—");
+    }
+
     use super::*;
 
     // Spellings worked by hand from the rules above.

@@ -394,7 +394,7 @@ fn period_row(f: &PeriodFigures) -> PeriodRow {
         n_test: f.n_test,
         prior: share_text(f.prior_accuracy),
         model: share_text(f.model_accuracy),
-        lift: format!("{:+.0}%", 100.0 * f.lift),
+        lift: numbers::lift_text(f.lift, f.prior_accuracy),
         bits: bits_text(f.bits_gained),
         interval: format!("{} to {}", bits_text(f.bits_interval.low), bits_text(f.bits_interval.high)),
     }

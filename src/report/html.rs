@@ -248,7 +248,7 @@ fn pitcher_view(
         q_value: g(p.q_value),
         prior_text: numbers::pct(g(p.prior_accuracy)),
         model_text: numbers::pct(g(p.model_accuracy)),
-        lift_text: format!("{:+.0}%", 100.0 * g(p.lift)),
+        lift_text: numbers::lift_text(g(p.lift), g(p.prior_accuracy)),
         bits_text: format!("{:+.3}", g(p.bits_gained)),
         p_text: p_text(g(p.p_value)),
         q_text: p_text(g(p.q_value)),

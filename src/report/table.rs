@@ -47,13 +47,13 @@ impl Exporter<Audit> for Table<'_> {
             let g = |x: Option<f64>| x.unwrap_or(0.0);
             let name: String = p.pitcher.chars().take(22).collect();
             let line = format!(
-                "{:<22} {:>6} {:>6} {:>6.1}% {:>6.1}% {:>+6.0}% {:>+7.3} {:>7} {:>6} {:>6}{}{}",
+                "{:<22} {:>6} {:>6} {:>6.1}% {:>6.1}% {:>7} {:>+7.3} {:>7} {:>6} {:>6}{}{}",
                 name,
                 p.n_train,
                 p.n_test,
                 100.0 * g(p.prior_accuracy),
                 100.0 * g(p.model_accuracy),
-                100.0 * g(p.lift),
+                crate::domain::numbers::lift_text(g(p.lift), g(p.prior_accuracy)),
                 g(p.bits_gained),
                 p_cell(g(p.q_value)),
                 p.tells.iter().filter(|t| t.within.is_none()).count(),
