@@ -185,12 +185,13 @@ fn another_separator_is_named() {
 }
 
 /// `--pitcher` naming no pitcher of the log is a usage error (exit 2); one
-/// written in another case or spacing is answered with the log's spelling.
+/// written in another case, spacing or word order is answered with the
+/// log's spelling.
 #[test]
 fn an_unknown_pitcher_exits_2_naming_a_near_spelling() {
     let log = fixture("logs/good.csv");
     let out = scratch("unknown-pitcher");
-    for (name, says) in [("wren  ALDER", r#"the log has "Wren Alder""#), ("Nobody Atall", "run `tellscope check` to list the pitchers")] {
+    for (name, says) in [("wren  ALDER", r#"the log has "Wren Alder""#), ("Alder, Wren", r#"the log has "Wren Alder""#), ("Nobody Atall", "run `tellscope check` to list the pitchers")] {
         let o = run(&["audit", log.to_str().unwrap(), "--pitcher", name, "--out", out.to_str().unwrap()]);
         assert_eq!(code(&o), 2, "{}", stderr(&o));
         let err = stderr(&o);

@@ -635,8 +635,8 @@ fn a_game_id_on_two_dates_is_two_games() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
-/// Pitch labels and pitcher names that differ only in case, spaces or
-/// punctuation stay apart (the contract reads labels as written) but are
+/// Pitch labels and pitcher names that differ only in case, spaces,
+/// punctuation or word order stay apart (the contract reads labels as written) but are
 /// named in a note, with the fix: a typing slip would otherwise read as a
 /// new pitch or a newcomer.
 #[test]
@@ -647,6 +647,8 @@ fn names_differing_only_in_case_are_noted() {
         ("G1", "2025-04-01", "wren  alder", "Slider"),
         ("G1", "2025-04-01", "Wren Alder", "four-seam"),
         ("G1", "2025-04-01", "Juno Vale", "Four Seam"),
+        ("G1", "2025-04-01", "Vale Juno", "slider"),
+        ("G1", "2025-04-01", "Juno Valerian", "slider"),
     ]);
     let ing = load(&write(&dir, "near.csv", &text));
     assert_eq!(ing.log.pitch_types.len(), 4, "labels are read as written");
@@ -655,6 +657,9 @@ fn names_differing_only_in_case_are_noted() {
     assert!(notes[0].starts_with("pitch labels that differ only in case") && notes[0].contains(r#""Four Seam" and "four-seam""#) && notes[0].contains(r#""Slider" and "slider""#), "{}", notes[0]);
     assert!(notes[0].ends_with("merge them with a [pitch_groups] table in the config"));
     assert!(notes[1].starts_with("pitcher names") && notes[1].contains(r#""Wren Alder" and "wren  alder""#), "{}", notes[1]);
+    // A name written last name first is the same words in another order
+    // (a quoted "Vale, Juno" alike: punctuation is not a word).
+    assert!(notes[1].contains(r#""Juno Vale" and "Vale Juno""#) && !notes[1].contains("Valerian"), "{}", notes[1]);
     assert!(load(&fixture("good.csv")).log.near_duplicate_names().is_empty());
     std::fs::remove_dir_all(&dir).ok();
 }

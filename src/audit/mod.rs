@@ -190,7 +190,7 @@ pub fn selected_pitchers(log: &ingest::PitchLog, settings: &Settings) -> Result<
                 }
                 None => {
                     // A name written in another case or spacing is named.
-                    let near = log.pitchers.iter().find(|q| ingest::loose_name(q) == ingest::loose_name(p));
+                    let near = log.pitchers.iter().find(|q| ingest::same_loose_name(q, p));
                     let hint = near.map_or_else(|| "run `tellscope check` to list the pitchers".to_string(), |q| format!("the log has \"{q}\""));
                     return Err(Error::Usage(format!("--pitcher \"{p}\" is not in the log; {hint}")));
                 }

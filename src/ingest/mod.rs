@@ -118,17 +118,36 @@ impl PitchLog {
     }
 
     /// Notes on pitch labels and pitcher names that differ only in case,
-    /// spaces or punctuation ("Slider" and "slider"): they are read as
+    /// spaces, punctuation or word order ("Slider" and "slider", "Wren
+    /// Alder" and "Alder, Wren"): they are read as
     /// different pitches or pitchers, which a typing slip in the log makes
     /// look like a new pitch or a newcomer. One sentence per kind, without
     /// a final stop; empty when there are none.
     pub fn near_duplicate_names(&self) -> Vec<String> {
+        // Names sharing either key ([`loose_name`], [`word_key`]) form a
+        // group: each name joins the group of the first name with its key.
         let groups = |names: &[String]| -> Vec<Vec<String>> {
-            let mut by_key: BTreeMap<String, Vec<String>> = BTreeMap::new();
-            for n in names {
-                by_key.entry(loose_name(n)).or_default().push(n.clone());
+            let mut group_of: Vec<usize> = (0..names.len()).collect();
+            let mut first: BTreeMap<(u8, String), usize> = BTreeMap::new();
+            for (i, n) in names.iter().enumerate() {
+                for key in [(0, loose_name(n)), (1, word_key(n))] {
+                    match first.get(&key) {
+                        Some(&j) => {
+                            // Merge i's group into j's (the lower index leads).
+                            let (a, b) = (group_of[j].min(group_of[i]), group_of[j].max(group_of[i]));
+                            group_of.iter_mut().filter(|g| **g == b).for_each(|g| *g = a);
+                        }
+                        None => {
+                            first.insert(key, i);
+                        }
+                    }
+                }
             }
-            by_key.into_values().filter(|g| g.len() > 1).collect()
+            let mut by_group: BTreeMap<usize, Vec<String>> = BTreeMap::new();
+            for (i, n) in names.iter().enumerate() {
+                by_group.entry(group_of[i]).or_default().push(n.clone());
+            }
+            by_group.into_values().filter(|g| g.len() > 1).collect()
         };
         let listed = |gs: &[Vec<String>]| {
             let shown: Vec<String> = gs
@@ -143,14 +162,14 @@ impl PitchLog {
         let types = groups(&self.pitch_types);
         if !types.is_empty() {
             notes.push(format!(
-                "pitch labels that differ only in case, spaces or punctuation are read as different pitches: {}; if they are one pitch, merge them with a [pitch_groups] table in the config",
+                "pitch labels that differ only in case, spaces, punctuation or word order are read as different pitches: {}; if they are one pitch, merge them with a [pitch_groups] table in the config",
                 listed(&types)
             ));
         }
         let pitchers = groups(&self.pitchers);
         if !pitchers.is_empty() {
             notes.push(format!(
-                "pitcher names that differ only in case, spaces or punctuation are read as different pitchers: {}; if they are one pitcher, correct the spelling in the log",
+                "pitcher names that differ only in case, spaces, punctuation or word order are read as different pitchers: {}; if they are one pitcher, correct the spelling in the log",
                 listed(&pitchers)
             ));
         }
@@ -164,6 +183,22 @@ impl PitchLog {
 /// notes only: names are always read as written.
 pub fn loose_name(name: &str) -> String {
     name.chars().filter(|c| c.is_alphanumeric()).flat_map(char::to_lowercase).collect()
+}
+
+/// A name's words, lower-cased and sorted, so a name written last name
+/// first ("Alder, Wren") shares it with the same name written first name
+/// first ("Wren Alder"). For hints and notes only.
+pub fn word_key(name: &str) -> String {
+    let mut words: Vec<String> =
+        name.split(|c: char| !c.is_alphanumeric()).filter(|w| !w.is_empty()).map(|w| w.to_lowercase()).collect();
+    words.sort_unstable();
+    words.join(" ")
+}
+
+/// Whether two names are the same but for case, spaces, punctuation or
+/// word order ([`loose_name`], [`word_key`]).
+pub fn same_loose_name(a: &str, b: &str) -> bool {
+    loose_name(a) == loose_name(b) || word_key(a) == word_key(b)
 }
 
 /// Interns strings into a table, giving each a stable index in first-seen
@@ -257,7 +292,7 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
             let f = input.file_column(c);
             // A header that differs only in case, spaces or punctuation is
             // named, so the fix is plain (names must match exactly).
-            let near = table.header.iter().find(|h| loose_name(h) == loose_name(f));
+            let near = table.header.iter().find(|h| same_loose_name(h, f));
             match (f == *c, near) {
                 (true, None) => c.to_string(),
                 (true, Some(h)) => format!("{c} (the header has \"{h}\")"),
