@@ -76,6 +76,32 @@ fn check_of_a_good_file_exits_0_and_describes_it() {
     let present = value_of(&out, "optional columns present:");
     assert_eq!(present, "pa, pitch_no, score_diff, result, speed_mph, team");
     assert!(o.stderr.is_empty(), "nothing on stderr: {}", stderr(&o));
+    // Two seasons: nothing is older than the models learn from.
+    assert!(!out.contains("history_seasons"), "{out}");
+}
+
+/// `check` of a log of more seasons than the audit's models learn from says
+/// so: the good log's rows moved back two years make a log of 2023-2026.
+#[test]
+fn check_of_a_long_log_says_how_far_back_the_models_learn() {
+    let dir = scratch("long-log");
+    let text = std::fs::read_to_string(fixture("logs/good.csv")).unwrap();
+    let mut lines = text.lines();
+    let mut long = format!("{}\n", lines.next().unwrap());
+    for l in lines.filter(|l| !l.is_empty()) {
+        long.push_str(&format!("{l}\n{}\n", l.replace("2025-", "2023-").replace("2026-", "2024-").replace(",2025,", ",2023,").replace(",2026,", ",2024,")));
+    }
+    let path = dir.join("long.csv");
+    std::fs::write(&path, long).unwrap();
+    let o = check(&path, &[]);
+    let out = stdout(&o);
+    assert_eq!(code(&o), 0, "stderr: {}", stderr(&o));
+    assert_eq!(value_of(&out, "seasons"), "2023, 2024, 2025, 2026");
+    assert!(
+        out.contains("note: 4 seasons: the audit's models learn from each pitcher's scored season and the season before it (older ones only while those hold fewer than 300 pitches; [audit] history_seasons)"),
+        "{out}"
+    );
+    std::fs::remove_dir_all(&dir).ok();
 }
 
 #[test]

@@ -90,6 +90,16 @@ pub fn run(args: Args) -> Result<()> {
     for n in sit.notes.iter().chain(&log.near_duplicate_names()) {
         println!("  note: {n}");
     }
+    // More seasons than the audit's models learn from.
+    let history = settings.audit.history_seasons();
+    if seasons.len() > history + 1 {
+        println!(
+            "  note: {} seasons: the audit's models learn from each pitcher's scored season and the {} before it (older ones only while those hold fewer than {} pitches; [audit] history_seasons)",
+            seasons.len(),
+            if history == 1 { "season".to_string() } else { format!("{history} seasons") },
+            settings.audit.min_train_pitches()
+        );
+    }
     Ok(())
 }
 
