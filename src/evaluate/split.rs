@@ -381,7 +381,7 @@ pub fn recent_rows(log: &PitchLog, rows: &[u32], history: usize, min_train: usiz
             }
         }
     }
-    before.sort_unstable_by(|a, b| b.0.cmp(&a.0));
+    before.sort_unstable_by_key(|b| std::cmp::Reverse(b.0));
     let mut kept = 0;
     let mut pitches = 0;
     while kept < before.len() && (kept < history || pitches < min_train) {
