@@ -125,6 +125,7 @@ fn older_seasons_are_left_out_so_an_old_arsenal_does_not_make_the_headline() {
     let path = log_of(&scenario("long_history_staff.toml"), 1, "history");
     let a = audit::run(&path, &settings(19), false).unwrap();
     assert_eq!(a.summary.pitchers.len(), 3);
+    assert_eq!(a.summary.settings.history_seasons, 1, "the summary records the window");
     for p in &a.summary.pitchers {
         assert!(p.is_ok(), "{}: {}", p.pitcher, p.status);
         // Every season is still listed; 2023 and 2024 are left out.
@@ -153,6 +154,7 @@ fn older_seasons_are_left_out_so_an_old_arsenal_does_not_make_the_headline() {
     let cfg: ConfigFile = toml::from_str("[audit]\nhistory_seasons = 10\n").unwrap();
     let every = Settings::resolve(&cfg, &Overrides { permutations: Some(19), ..Overrides::default() }).unwrap();
     let b = audit::run(&path, &every, false).unwrap();
+    assert_eq!(b.summary.settings.history_seasons, 10);
     let old = b.summary.pitchers.iter().find(|p| p.pitcher == "Long Changer").unwrap();
     assert!(old.evaluation.older_left_out.is_none());
     assert!(!b.summary.notes.iter().any(|n| n.contains("history_seasons")));

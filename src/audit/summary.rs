@@ -78,6 +78,10 @@ pub struct SettingsOut {
     pub stop_after_exceedances: usize,
     pub min_train_pitches: usize,
     pub min_test_pitches: usize,
+    /// Blocks of each pitcher's scored season (rolling scheme).
+    pub forward_blocks: usize,
+    /// Seasons before the scored one the rolling scheme's models learn from.
+    pub history_seasons: usize,
     pub tree_max_depth: usize,
     pub tree_min_samples_leaf: usize,
     pub tree_min_samples_split: usize,
@@ -104,6 +108,8 @@ impl SettingsOut {
             stop_after_exceedances: settings.audit.stop_after_exceedances(),
             min_train_pitches: settings.audit.min_train_pitches(),
             min_test_pitches: settings.audit.min_test_pitches(),
+            forward_blocks: settings.audit.forward_blocks(),
+            history_seasons: settings.audit.history_seasons(),
             tree_max_depth: settings.tree.growth().max_depth,
             tree_min_samples_leaf: settings.tree.growth().min_samples_leaf,
             tree_min_samples_split: settings.tree.growth().min_samples_split,
