@@ -663,3 +663,37 @@ fn names_differing_only_in_case_are_noted() {
     assert!(load(&fixture("good.csv")).log.near_duplicate_names().is_empty());
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A pitcher the log lists for two clubs on one date is two men sharing a
+/// name (or wrong rows): they stay one pitcher, as written, and a note
+/// names him with the date and both clubs. The same name for one club in
+/// two games of a day (a doubleheader) and for two clubs on two days (a
+/// trade) is not noted.
+#[test]
+fn a_name_on_two_clubs_in_one_day_is_noted() {
+    let dir = scratch("two-clubs");
+    let row = |game: &str, date: &str, pitcher: &str, team: &str| {
+        format!("{game},{date},{pitcher},R,Moss Quill,L,1,0,0,0,0,0,0,fastball,{team}\n")
+    };
+    let mut text = format!("{HEADER},team\n");
+    for r in [
+        row("G1", "2025-05-03", "Luis Varga", "Tinker Flats"),
+        row("G2", "2025-05-03", "Luis Varga", "Harbor Lights"),
+        row("G3", "2025-05-04", "Wren Alder", "Tinker Flats"),
+        row("G4", "2025-05-04", "Wren Alder", "Tinker Flats"),
+        row("G5", "2025-05-05", "Juno Vale", "Tinker Flats"),
+        row("G6", "2025-05-06", "Juno Vale", "Harbor Lights"),
+    ] {
+        text += &r;
+    }
+    let ing = load(&write(&dir, "two-clubs.csv", &text));
+    assert!(ing.rejected.is_empty());
+    assert_eq!(ing.log.pitchers.len(), 3, "names are read as written");
+    let notes = ing.log.names_on_two_clubs_in_a_day();
+    assert_eq!(notes.len(), 1, "{notes:?}");
+    assert!(notes[0].contains(r#""Luis Varga" (2025-05-03: Tinker Flats and Harbor Lights)"#), "{}", notes[0]);
+    assert!(!notes[0].contains("Wren Alder") && !notes[0].contains("Juno Vale"), "{}", notes[0]);
+    assert!(notes[0].ends_with("give each his own id in `pitcher`"), "{}", notes[0]);
+    assert!(load(&fixture("good.csv")).log.names_on_two_clubs_in_a_day().is_empty());
+    std::fs::remove_dir_all(&dir).ok();
+}

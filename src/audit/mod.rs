@@ -157,7 +157,7 @@ pub fn input_notes(log: &ingest::PitchLog, sit: &Situations, source: &ingest::So
     for (f, why) in &sit.dropped {
         notes.push(format!("The {f} factor is {left_out}: {why}."));
     }
-    for n in sit.notes.iter().chain(&log.near_duplicate_names()) {
+    for n in sit.notes.iter().chain(&log.near_duplicate_names()).chain(&log.names_on_two_clubs_in_a_day()) {
         notes.push(format!("Note: {n}."));
     }
     if source.rows_rejected > 0 {

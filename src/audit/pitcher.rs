@@ -40,7 +40,7 @@ impl About {
             let (n_usual, n_other) = tally.split();
             let (hand, other_hand) = if usual == Hand::L { ("left", "right") } else { ("right", "left") };
             format!(
-                "The log lists him throwing with both hands ({} pitches {hand}-handed, {} {other_hand}-handed): batter side and platoon are read pitch by pitch, and he is shown as a {hand}-handed pitcher. If he throws with one hand, check the log's `throws` column.",
+                "The log lists him throwing with both hands ({} pitches {hand}-handed, {} {other_hand}-handed): batter side and platoon are read pitch by pitch, and he is shown as a {hand}-handed pitcher. If he throws with one hand, check the log's `throws` column; if two pitchers share his name in the log, give each his own id in `pitcher`.",
                 fmt_n(n_usual),
                 fmt_n(n_other),
             )

@@ -87,7 +87,7 @@ pub fn run(args: Args) -> Result<()> {
     for (f, why) in &sit.dropped {
         println!("  note: factor {f} is not available: {why}");
     }
-    for n in sit.notes.iter().chain(&log.near_duplicate_names()) {
+    for n in sit.notes.iter().chain(&log.near_duplicate_names()).chain(&log.names_on_two_clubs_in_a_day()) {
         println!("  note: {n}");
     }
     // More seasons than the audit's models learn from.

@@ -14,7 +14,7 @@ use parse::*;
 use read::{Format, RawTable};
 use serde::Serialize;
 use sha2::{Digest, Sha256};
-use std::collections::{BTreeMap, BTreeSet};
+use std::collections::{BTreeMap, BTreeSet, HashMap};
 use std::path::{Path, PathBuf};
 
 /// One rejected input row: where, which column, the value and why.
@@ -174,6 +174,48 @@ impl PitchLog {
             ));
         }
         notes
+    }
+}
+
+impl PitchLog {
+    /// A note on pitchers the log lists for two clubs on one date: a man
+    /// pitches for one club a day, so two pitchers share the name there (a
+    /// league's log keyed by name, two men of one name in it) or the rows
+    /// are wrong. Read as written, they are one pitcher with both men's
+    /// pitches. One sentence without a final stop; empty without a `team`
+    /// column or when no name is.
+    pub fn names_on_two_clubs_in_a_day(&self) -> Vec<String> {
+        let Some(team) = &self.team else { return Vec::new() };
+        // Rows are in date order: each date's pitchers and their first club.
+        let mut today: HashMap<u32, u32> = HashMap::new();
+        let mut date = None;
+        let mut found: BTreeMap<u32, (i32, u32, u32)> = BTreeMap::new();
+        for r in 0..self.len() {
+            if date != Some(self.date[r]) {
+                date = Some(self.date[r]);
+                today.clear();
+            }
+            let Some(t) = team[r] else { continue };
+            let first = *today.entry(self.pitcher[r]).or_insert(t);
+            if first != t {
+                found.entry(self.pitcher[r]).or_insert((self.date[r], first, t));
+            }
+        }
+        if found.is_empty() {
+            return Vec::new();
+        }
+        let shown: Vec<String> = found
+            .iter()
+            .take(3)
+            .map(|(&p, &(d, a, b))| {
+                format!("\"{}\" ({}: {} and {})", self.pitchers[p as usize], parse::format_date(d), self.teams[a as usize], self.teams[b as usize])
+            })
+            .collect();
+        let more = if found.len() > 3 { format!(" (and {} more)", found.len() - 3) } else { String::new() };
+        vec![format!(
+            "pitcher names the log lists for two clubs on the same day, so two pitchers may share the name: {}{more}; they are read as one pitcher with both men's pitches, so give each his own id in `pitcher`",
+            shown.join("; ")
+        )]
     }
 }
 
