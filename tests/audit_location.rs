@@ -95,7 +95,8 @@ fn null_staffs_are_quiet_and_their_location_p_values_uniform() {
 }
 
 /// Without location columns everything else runs, and the report says what
-/// location figures need.
+/// location figures need; with them in inches they are set aside whole
+/// (`ingest::units`), no row is lost, and the notes say how to convert.
 #[test]
 fn without_location_columns_the_audit_runs_and_says_so() {
     let scn = scenario("location_staff.toml");
@@ -114,7 +115,32 @@ fn without_location_columns_the_audit_runs_and_says_so() {
     let path = dir.join("no-location.csv");
     std::fs::write(&path, stripped).unwrap();
     let a = audit::run(&path, &settings(19, 1), false).unwrap();
+    // The same log with its locations in inches: the columns are set aside
+    // whole (no row rejected), and the notes say why and how to convert.
+    let inches: String = text
+        .lines()
+        .enumerate()
+        .map(|(r, l)| {
+            let cells: Vec<String> = l
+                .split(',')
+                .enumerate()
+                .map(|(i, v)| match (r, drop.contains(&i), v.parse::<f64>()) {
+                    (1.., true, Ok(x)) => format!("{:.2}", 12.0 * x),
+                    _ => v.to_string(),
+                })
+                .collect();
+            cells.join(",") + "\n"
+        })
+        .collect();
+    let in_inches = dir.join("inches.csv");
+    std::fs::write(&in_inches, inches).unwrap();
+    let b = audit::run(&in_inches, &settings(19, 1), false).unwrap();
     std::fs::remove_dir_all(&dir).ok();
+    assert_eq!(b.summary.input.rows_rejected, 0);
+    assert_eq!(b.summary.input.rows_kept, a.summary.input.rows_kept);
+    assert!(b.summary.pitchers.iter().all(|p| p.location.is_none()));
+    assert!(b.summary.notes.iter().any(|n| n.contains("`loc_side_ft` and `loc_height_ft` columns are left out") && n.contains("look like inches (divide by 12)")), "{:?}", b.summary.notes);
+    assert!(!b.summary.notes.iter().any(|n| n.contains("add them")), "a set-aside column is not called missing");
     let ok: Vec<_> = a.summary.pitchers.iter().filter(|p| p.is_ok()).collect();
     assert!(!ok.is_empty() && ok.iter().all(|p| p.bits_gained.is_some() && p.location.is_none() && p.location_tells.is_empty()));
     assert!(ok.iter().all(|p| p.location_note.as_deref().is_some_and(|n| n.contains("no location columns"))));

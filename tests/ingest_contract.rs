@@ -697,3 +697,69 @@ fn a_name_on_two_clubs_in_one_day_is_noted() {
     assert!(load(&fixture("good.csv")).log.names_on_two_clubs_in_a_day().is_empty());
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A log whose rows carry these speeds and locations, one pitch each.
+fn measured(rows: &[(f64, f64, f64)]) -> String {
+    let mut text = format!("{HEADER},speed_mph,loc_side_ft,loc_height_ft\n");
+    for (i, (speed, side, height)) in rows.iter().enumerate() {
+        text += &format!("G{},2025-04-{:02},Wren Alder,R,Moss Quill,L,1,0,0,0,0,0,0,fastball,{speed},{side},{height}\n", i / 10, 1 + i / 10);
+    }
+    text
+}
+
+/// Measurement columns in other units than the contract's (speeds in
+/// km/h, locations in inches or metres) are set aside whole, named with
+/// their median and the conversion, and no row is rejected for them: read
+/// row by row, a log in km/h lost 96% of its rows and one in inches 75%
+/// (the pitches above 20 "feet"), and one in metres put every pitch in the
+/// middle of the plate. The same values in the contract's units are kept,
+/// and a single implausible value is still rejected with its row.
+#[test]
+fn measurement_columns_in_other_units_are_set_aside_whole() {
+    let dir = scratch("units");
+    // 40 pitches in feet and mph: speeds 84-95, sides -1.0..0.95, heights 1.5-3.45.
+    let feet: Vec<(f64, f64, f64)> = (0..40).map(|i| (84.0 + (i % 12) as f64, -1.0 + 0.05 * i as f64, 1.5 + 0.05 * i as f64)).collect();
+    let ing = load(&write(&dir, "feet.csv", &measured(&feet)));
+    assert!(ing.rejected.is_empty() && ing.source.optional_set_aside.is_empty());
+    assert!(ing.log.speed_mph.is_some() && ing.log.loc_height_ft.is_some());
+
+    let kmh: Vec<_> = feet.iter().map(|&(v, s, h)| (v * 1.609, s, h)).collect();
+    let ing = load(&write(&dir, "kmh.csv", &measured(&kmh)));
+    assert!(ing.rejected.is_empty(), "no row is lost to the units");
+    assert_eq!(ing.log.len(), 40);
+    assert!(ing.log.speed_mph.is_none() && ing.log.loc_height_ft.is_some());
+    let a = &ing.source.optional_set_aside;
+    assert_eq!(a.len(), 1);
+    assert_eq!(a[0].columns, vec!["speed_mph"]);
+    assert!(a[0].reason.contains("looks like km/h; divide by 1.609"), "{}", a[0].reason);
+    assert!(!ing.source.optional_missing.contains(&"speed_mph".to_string()), "set aside, not missing");
+
+    let inches: Vec<_> = feet.iter().map(|&(v, s, h)| (v, s * 12.0, h * 12.0)).collect();
+    let ing = load(&write(&dir, "inches.csv", &measured(&inches)));
+    assert!(ing.rejected.is_empty());
+    assert!(ing.log.loc_side_ft.is_none() && ing.log.loc_height_ft.is_none() && ing.log.speed_mph.is_some());
+    let a = &ing.source.optional_set_aside;
+    assert_eq!(a[0].columns, vec!["loc_side_ft", "loc_height_ft"]);
+    assert!(a[0].reason.contains("look like inches (divide by 12)"), "{}", a[0].reason);
+
+    let metres: Vec<_> = feet.iter().map(|&(v, s, h)| (v, s * 0.3048, h * 0.3048)).collect();
+    let ing = load(&write(&dir, "metres.csv", &measured(&metres)));
+    assert!(ing.log.loc_height_ft.is_none());
+    assert!(ing.source.optional_set_aside[0].reason.contains("look like metres (multiply by 3.281)"));
+
+    // One wild value among feet is a bad row, not a column in other units.
+    let mut one_off = feet.clone();
+    one_off[7].2 = 31.0;
+    let ing = load(&write(&dir, "one-off.csv", &measured(&one_off)));
+    assert!(ing.source.optional_set_aside.is_empty());
+    assert_eq!(ing.rejected.len(), 1);
+    assert_eq!(ing.rejected[0].column, "loc_height_ft");
+
+    // Too few values decide nothing: among 15 pitches, the 10 in km/h are
+    // rejected row by row.
+    let few: Vec<_> = kmh[..10].iter().chain(&feet[10..15]).copied().collect();
+    let ing = load(&write(&dir, "few.csv", &measured(&few)));
+    assert!(ing.source.optional_set_aside.is_empty());
+    assert_eq!(ing.rejected.len(), 10);
+    std::fs::remove_dir_all(&dir).ok();
+}

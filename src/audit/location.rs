@@ -468,7 +468,7 @@ pub fn note(figures: &Option<LocationFigures>, missing: bool, settings: &Setting
         return None;
     }
     Some(if missing {
-        "No location figures: the log has no location columns.".to_string()
+        "No location figures: the log has no location columns to use (see the notes).".to_string()
     } else {
         format!(
             "No location figures: no pitch type of his has {} located pitches to learn from and {} to score.",

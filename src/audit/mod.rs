@@ -160,6 +160,16 @@ pub fn input_notes(log: &ingest::PitchLog, sit: &Situations, source: &ingest::So
     for n in sit.notes.iter().chain(&log.near_duplicate_names()).chain(&log.names_on_two_clubs_in_a_day()) {
         notes.push(format!("Note: {n}."));
     }
+    for a in &source.optional_set_aside {
+        let cols: Vec<String> = a.columns.iter().map(|c| format!("`{c}`")).collect();
+        notes.push(format!(
+            "The log's {} {} left out, as if the file had {}: {}.",
+            cols.join(" and "),
+            if cols.len() == 1 { "column is" } else { "columns are" },
+            if cols.len() == 1 { "none" } else { "neither" },
+            a.reason
+        ));
+    }
     if source.rows_rejected > 0 {
         notes.push(format!(
             "{} of {} input rows broke the data contract and were left out; they are listed with reasons in rejected.csv.",
@@ -553,7 +563,9 @@ fn run_notes(
             log.pitchers.len() - chosen.len()
         ));
     }
-    if no_location {
+    // Location columns set aside for their units are explained above.
+    let set_aside = source.optional_set_aside.iter().any(|a| a.columns.iter().any(|c| c == "loc_height_ft"));
+    if no_location && !set_aside {
         notes.push(
             "The log has no `loc_side_ft` and `loc_height_ft` columns, so where each pitch goes (location figures and location tells) cannot be shown; add them to see it.".into(),
         );

@@ -45,6 +45,10 @@ pub struct Input {
     pub sha256: String,
     pub optional_present: Vec<String>,
     pub optional_missing: Vec<String>,
+    /// Optional columns in other units than the contract's, set aside whole
+    /// (absent when none are).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub optional_set_aside: Vec<crate::ingest::units::SetAside>,
     pub seasons: Vec<i32>,
 }
 
@@ -64,6 +68,7 @@ impl Input {
             sha256: source.sha256.clone(),
             optional_present: source.optional_present.clone(),
             optional_missing: source.optional_missing.clone(),
+            optional_set_aside: source.optional_set_aside.clone(),
             seasons: log.seasons(),
         }
     }

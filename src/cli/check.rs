@@ -83,6 +83,9 @@ pub fn run(args: Args) -> Result<()> {
     if !src.optional_missing.is_empty() {
         println!("  optional columns absent:  {}", src.optional_missing.join(", "));
     }
+    for a in &src.optional_set_aside {
+        println!("  optional columns set aside: {} ({})", a.columns.join(", "), a.reason);
+    }
     let sit = situations::build(log);
     for (f, why) in &sit.dropped {
         println!("  note: factor {f} is not available: {why}");

@@ -4,6 +4,7 @@
 
 pub mod parse;
 pub mod read;
+pub mod units;
 
 use crate::error::{Error, Result};
 use crate::domain::columns::{OPTIONAL_COLUMNS, REQUIRED_COLUMNS};
@@ -52,6 +53,9 @@ pub struct SourceInfo {
     pub optional_present: Vec<String>,
     /// Optional contract columns absent from the file.
     pub optional_missing: Vec<String>,
+    /// Optional columns the file has but in other units than the
+    /// contract's, set aside whole ([`units::misread_units`]).
+    pub optional_set_aside: Vec<units::SetAside>,
 }
 
 /// A validated pitch log, one entry per kept pitch, ordered by date, game,
@@ -326,7 +330,7 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
         .collect();
     // The file's checksum is computed while polars reads it.
     let (table, sha) = rayon::join(|| read::read_table(path, &wanted), || sha256_of(path));
-    let table = table?;
+    let mut table = table?;
     let missing: Vec<String> = REQUIRED_COLUMNS
         .iter()
         .filter(|c| table.column(input.file_column(c)).is_none())
@@ -378,6 +382,12 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
             path.display()
         )));
     }
+    // A measurement column in other units is set aside whole, as if the
+    // file had none, before any row is read.
+    let set_aside = units::misread_units(&table, input);
+    let aside = |c: &str| set_aside.iter().any(|s| s.columns.iter().any(|x| x == c));
+    let file_names: Vec<String> = OPTIONAL_COLUMNS.iter().filter(|c| aside(c)).map(|c| input.file_column(c).to_string()).collect();
+    table.columns.retain(|(name, _)| !file_names.contains(name));
     let (log, rejected, blank) = validate(&table, input);
     let present: Vec<String> = OPTIONAL_COLUMNS
         .iter()
@@ -386,7 +396,7 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
         .collect();
     let absent: Vec<String> = OPTIONAL_COLUMNS
         .iter()
-        .filter(|c| table.column(input.file_column(c)).is_none())
+        .filter(|c| table.column(input.file_column(c)).is_none() && !aside(c))
         .map(|c| c.to_string())
         .collect();
     let source = SourceInfo {
@@ -397,6 +407,7 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
         sha256: sha?,
         optional_present: present,
         optional_missing: absent,
+        optional_set_aside: set_aside,
     };
     if !checked {
         return Ok(Ingested { log, rejected, source });
