@@ -763,3 +763,33 @@ fn measurement_columns_in_other_units_are_set_aside_whole() {
     assert_eq!(ing.rejected.len(), 10);
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A log whose count columns hold the count after each pitch (a feed's
+/// convention, not the contract's) is refused with the reason and the fix:
+/// every plate appearance starts at 0-0, and here its first pitches do not.
+/// Read as written every pitch would sit one count late. The same plate
+/// appearances with the count before each pitch read as usual.
+#[test]
+fn counts_after_the_pitch_are_refused() {
+    let dir = scratch("count-after");
+    let log = |after: bool| {
+        let mut text = format!("{HEADER},pa,pitch_no\n");
+        for pa in 1..=25 {
+            // Two balls, then in play: before the pitch 0-0, 1-0, 2-0.
+            for (k, balls) in [0, 1, 2].into_iter().enumerate() {
+                let b = if after { (balls + 1).min(3) } else { balls };
+                text += &format!("G1,2025-04-01,Wren Alder,R,Moss Quill,L,1,0,{b},0,0,0,0,fastball,{pa},{}\n", k + 1);
+            }
+        }
+        text
+    };
+    let before = load(&write(&dir, "before.csv", &log(false)));
+    assert_eq!(before.log.len(), 75);
+    assert!(before.log.count_after_the_pitch().is_none());
+    let err = data_error(&write(&dir, "after.csv", &log(true)), &defaults());
+    assert!(
+        err.contains("only 0 of 25 plate appearances' first pitches (pitch_no 1) are at 0-0") && err.ends_with("give the count before it"),
+        "{err}"
+    );
+    std::fs::remove_dir_all(&dir).ok();
+}

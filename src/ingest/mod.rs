@@ -182,6 +182,32 @@ impl PitchLog {
 }
 
 impl PitchLog {
+    /// When the count columns hold the count after each pitch rather than
+    /// before it (a feed's convention the contract does not use), why, in
+    /// words: every plate appearance starts at 0-0, so with `pitch_no` the
+    /// first pitches tell. Read as written, every pitch would sit one count
+    /// late (and the last of each plate appearance at 4 balls or 3 strikes,
+    /// rejected), so every count tell would be wrong. Needs 20 first
+    /// pitches; a log of the contract's counts has them all at 0-0, so a
+    /// minority there is taken as the other convention (or wrong counts).
+    pub fn count_after_the_pitch(&self) -> Option<String> {
+        let pitch_no = self.pitch_no.as_ref()?;
+        let (mut first, mut at_zero) = (0usize, 0usize);
+        for r in 0..self.len() {
+            if pitch_no[r] == 1 {
+                first += 1;
+                at_zero += usize::from(self.balls[r] == 0 && self.strikes[r] == 0);
+            }
+        }
+        (first >= 20 && 2 * at_zero < first).then(|| {
+            format!(
+                "only {} of {} plate appearances' first pitches (pitch_no 1) are at 0-0, where every plate appearance starts: the balls and strikes columns look like the count after each pitch; give the count before it",
+                crate::domain::numbers::fmt_n(at_zero),
+                crate::domain::numbers::fmt_n(first)
+            )
+        })
+    }
+
     /// A note on pitchers the log lists for two clubs on one date: a man
     /// pitches for one club a day, so two pitchers share the name there (a
     /// league's log keyed by name, two men of one name in it) or the rows
@@ -422,6 +448,9 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
             path.display(),
             table.n_rows
         )));
+    }
+    if let Some(why) = log.count_after_the_pitch() {
+        return Err(Error::Data(format!("{}: {why}", path.display())));
     }
     if input.strict() && !rejected.is_empty() {
         let r = &rejected[0];
