@@ -199,7 +199,15 @@ pub fn parse_cell(column: usize, v: &str) -> Result<Cell, String> {
         7 => int("outs", 0, 2),
         8 => int("balls", 0, 3),
         9 => int("strikes", 0, 2),
-        10..=12 => parse_bool(v).map(Cell::Bool).ok_or_else(|| "is not 0/1, true/false, yes/no or t/f".to_string()),
+        10..=12 => parse_bool(v).map(Cell::Bool).ok_or_else(|| {
+            // A whole number above 1 is a runner's id (a convention of some
+            // exports: the runner on the base, or empty): said so, not read.
+            if v.parse::<u64>().is_ok_and(|n| n > 1) {
+                "is a number, not 0/1: if it is the runner's id, write 1 where a runner is on the base and 0 where none is".to_string()
+            } else {
+                "is not 0/1, true/false, yes/no or t/f".to_string()
+            }
+        }),
         14 => int("season", 1800, 3000),
         15 => int("pa", 1, i64::from(u32::MAX)),
         16 => int("pitch_no", 1, i64::from(u32::MAX)),
@@ -220,6 +228,9 @@ pub type Value<'a, 'c> = Option<(&'a str, &'c Result<Cell, String>)>;
 /// The checked value of a column every pitch needs.
 fn needed<'a, 'c>(v: Value<'a, 'c>, col: &'static str) -> Result<(&'a str, Cell), Breach<'a>> {
     match v {
+        // An empty base column means no runner in some exports (which write
+        // the runner's id where there is one): the fix is named.
+        None if col.starts_with("on_") => Err((col, None, "is empty; every pitch needs a value here (write 0 where no runner is on the base)".to_string())),
         None => Err((col, None, "is empty; every pitch needs a value here".to_string())),
         Some((s, Err(reason))) => Err((col, Some(s), reason.clone())),
         Some((s, Ok(c))) => Ok((s, *c)),
@@ -398,5 +409,10 @@ mod tests {
         for s in ["2", "y", "0.5", "1.00", "tru"] {
             assert_eq!(parse_bool(s), None, "{s}");
         }
+        // A base column holding runners' ids is refused with the fix named;
+        // other refusals keep the plain reason.
+        assert!(parse_cell(10, "608070").unwrap_err().contains("if it is the runner's id, write 1"));
+        assert!(parse_cell(11, "2").unwrap_err().contains("runner's id"));
+        assert_eq!(parse_cell(12, "y").unwrap_err(), "is not 0/1, true/false, yes/no or t/f");
     }
 }
