@@ -793,3 +793,43 @@ fn counts_after_the_pitch_are_refused() {
     );
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A log of two pitchers, each throwing 30 pitches in the first inning of
+/// his game, with the score difference of each pitch.
+fn scored(first: impl Fn(i32) -> i32, second: impl Fn(i32) -> i32) -> String {
+    let mut text = format!("{HEADER},score_diff\n");
+    for (game, pitcher, score) in [("G1", "Wren Alder", &first as &dyn Fn(i32) -> i32), ("G2", "Juno Vale", &second)] {
+        for i in 0..30 {
+            text += &format!("{game},2025-04-01,{pitcher},R,Moss Quill,L,1,0,0,0,0,0,0,fastball,{}\n", score(i));
+        }
+    }
+    text
+}
+
+/// A score difference that rises while a pitcher is on the mound is not the
+/// pitcher's team's runs minus the opponent's (only the batting side scores
+/// then): taken from the batting side, or from one team throughout (the
+/// home team's), it is set aside whole with the reason, since "ahead" would
+/// read as "behind". The contract's column, which only falls there, is kept.
+#[test]
+fn a_score_difference_from_the_other_side_is_set_aside() {
+    let dir = scratch("score-side");
+    // A run every other pitch: 14 changes a pitcher.
+    let falls = |i: i32| -(i / 2);
+    let rises = |i: i32| i / 2;
+    let ing = load(&write(&dir, "pitcher.csv", &scored(falls, falls)));
+    assert!(ing.source.optional_set_aside.is_empty() && ing.log.score_diff.is_some());
+    assert!(ing.source.optional_present.contains(&"score_diff".to_string()));
+
+    let ing = load(&write(&dir, "batting.csv", &scored(rises, rises)));
+    assert!(ing.rejected.is_empty() && ing.log.score_diff.is_none());
+    assert!(!ing.source.optional_present.contains(&"score_diff".to_string()));
+    let a = &ing.source.optional_set_aside;
+    assert_eq!(a[0].columns, vec!["score_diff"]);
+    assert!(a[0].reason.contains("in 28 of its 28 changes") && a[0].reason.contains("batting side's runs minus the pitcher's team's"), "{}", a[0].reason);
+
+    let ing = load(&write(&dir, "home.csv", &scored(falls, rises)));
+    let a = &ing.source.optional_set_aside;
+    assert!(a[0].reason.contains("in 14 of its 28 changes") && a[0].reason.contains("one team's score throughout"), "{}", a[0].reason);
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -414,10 +414,18 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
     let aside = |c: &str| set_aside.iter().any(|s| s.columns.iter().any(|x| x == c));
     let file_names: Vec<String> = OPTIONAL_COLUMNS.iter().filter(|c| aside(c)).map(|c| input.file_column(c).to_string()).collect();
     table.columns.retain(|(name, _)| !file_names.contains(name));
-    let (log, rejected, blank) = validate(&table, input);
+    let (mut log, rejected, blank) = validate(&table, input);
+    let mut set_aside = set_aside;
+    // A score difference taken from the other side is set aside too: its
+    // "ahead" would read as "behind".
+    if let Some(reason) = units::score_from_the_other_side(&log) {
+        log.score_diff = None;
+        set_aside.push(units::SetAside { columns: vec!["score_diff".into()], reason });
+    }
+    let aside = |c: &str| set_aside.iter().any(|s| s.columns.iter().any(|x| x == c));
     let present: Vec<String> = OPTIONAL_COLUMNS
         .iter()
-        .filter(|c| table.column(input.file_column(c)).is_some())
+        .filter(|c| table.column(input.file_column(c)).is_some() && !aside(c))
         .map(|c| c.to_string())
         .collect();
     let absent: Vec<String> = OPTIONAL_COLUMNS

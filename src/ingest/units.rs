@@ -18,6 +18,7 @@
 //! the trade (common practice, no published source).
 
 use super::read::{RawTable, TextColumn};
+use super::PitchLog;
 use crate::settings::InputParams;
 use serde::Serialize;
 
@@ -101,4 +102,37 @@ fn median(col: &TextColumn, n_rows: usize, abs: bool) -> Option<f64> {
         seen += n;
         2 * seen >= total
     }).map(|v| v.0)
+}
+
+/// When `score_diff` is not the pitcher's team's runs minus the
+/// opponent's, why, in words. While a pitcher is on the mound only the
+/// batting side scores, so between two of his pitches in one inning the
+/// contract's score difference can only fall: a column that rises there in
+/// a quarter or more of its changes (20 at least) is taken from the batting
+/// side (it only rises) or from one fixed team, the home team's say (it
+/// rises and falls). Read as written, "ahead" would read as "behind".
+pub fn score_from_the_other_side(log: &PitchLog) -> Option<String> {
+    let score = log.score_diff.as_ref()?;
+    let (mut up, mut down) = (0usize, 0usize);
+    for r in 1..log.len() {
+        let same = log.game[r] == log.game[r - 1] && log.pitcher[r] == log.pitcher[r - 1] && log.inning[r] == log.inning[r - 1];
+        if let (true, Some(a), Some(b)) = (same, score[r - 1], score[r]) {
+            up += usize::from(b > a);
+            down += usize::from(b < a);
+        }
+    }
+    let total = up + down;
+    if total < 20 || 4 * up < total {
+        return None;
+    }
+    let side = if 10 * up >= 9 * total {
+        "it looks like the batting side's runs minus the pitcher's team's; give the pitcher's team's runs minus the opponent's (this column with its sign turned)"
+    } else {
+        "it looks like one team's score throughout (the home team's, say), not the pitcher's team's; give the pitcher's team's runs minus the opponent's"
+    };
+    Some(format!(
+        "`score_diff` rises between two pitches of one pitcher in one inning in {} of its {} changes, where only the batting side can score: {side}",
+        crate::domain::numbers::fmt_n(up),
+        crate::domain::numbers::fmt_n(total)
+    ))
 }

@@ -164,7 +164,7 @@ pub fn build(log: &PitchLog) -> Situations {
             levels: fixed(Factor::Score),
             codes: sd.iter().map(|d| d.map(|d| score_index(d) as u8).unwrap_or(UNKNOWN)).collect(),
         }),
-        None => dropped.push((Factor::Score, "the log has no score_diff column".into())),
+        None => dropped.push((Factor::Score, "the log has no score_diff column to use".into())),
     }
     let mut notes = Vec::new();
     if log.pa.is_none() {
