@@ -833,3 +833,35 @@ fn a_score_difference_from_the_other_side_is_set_aside() {
     assert!(a[0].reason.contains("in 14 of its 28 changes") && a[0].reason.contains("one team's score throughout"), "{}", a[0].reason);
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A log whose `outs` hold the outs after each pitch is refused with the
+/// reason and the fix: outs before each pitch stay the same through a plate
+/// appearance, and here they rise on its last pitch. A log numbering plate
+/// appearances per team (both clubs' pitchers with the same numbers in a
+/// game, at different outs) is read as usual.
+#[test]
+fn outs_after_the_pitch_are_refused() {
+    let dir = scratch("outs-after");
+    // 24 plate appearances of three pitches (0-0, 1-0, 1-1), each ending in
+    // an out: outs 0, 1, 2 by turns before it.
+    let log = |after: bool, per_team: bool| {
+        let mut text = format!("{HEADER},pa,pitch_no\n");
+        for pa in 1..=24u32 {
+            let outs = (pa - 1) % 3;
+            for (k, (b, s)) in [(0, 0), (1, 0), (1, 1)].into_iter().enumerate() {
+                let o = if after && k == 2 { outs + 1 } else { outs };
+                text += &format!("G1,2025-04-01,Wren Alder,R,Moss Quill,L,1,{o},{b},{s},0,0,0,fastball,{pa},{}\n", k + 1);
+                if per_team {
+                    // The other club's plate appearance of the same number.
+                    text += &format!("G1,2025-04-01,Juno Vale,R,Birk Pell,L,1,{},{b},{s},0,0,0,slider,{pa},{}\n", 2 - outs, k + 1);
+                }
+            }
+        }
+        text
+    };
+    assert!(load(&write(&dir, "before.csv", &log(false, false))).log.outs_after_the_pitch().is_none());
+    assert!(load(&write(&dir, "per-team.csv", &log(false, true))).log.outs_after_the_pitch().is_none());
+    let err = data_error(&write(&dir, "after.csv", &log(true, false)), &defaults());
+    assert!(err.contains("the outs change within 16 of 24 plate appearances") && err.ends_with("give the outs before it"), "{err}");
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -208,6 +208,42 @@ impl PitchLog {
         })
     }
 
+    /// When the `outs` column holds the outs after each pitch rather than
+    /// before it, why, in words. Outs before the pitch stay the same through
+    /// a plate appearance (but for a runner out on the bases, now and then);
+    /// after the pitch they rise on the last pitch of every plate appearance
+    /// that ends in an out, about two in three. With `pa`, a quarter or more
+    /// of the plate appearances of two pitches or more (20 at least) whose
+    /// outs change is taken as the other convention. Read as written, every
+    /// out-ending pitch would sit one out late and the inning's last one at
+    /// 3 outs, rejected.
+    pub fn outs_after_the_pitch(&self) -> Option<String> {
+        let pa = self.pa.as_ref()?;
+        // A plate appearance is (game, pa, pitcher): a log numbering plate
+        // appearances per team holds two of each number in a game, the
+        // two clubs' pitchers'. Per one: its first outs, pitches, changed.
+        let mut seen: HashMap<(u32, u32, u32), (u8, u32, bool)> = HashMap::new();
+        for r in 0..self.len() {
+            let e = seen.entry((self.game[r], pa[r], self.pitcher[r])).or_insert((self.outs[r], 0, false));
+            e.1 += 1;
+            e.2 |= e.0 != self.outs[r];
+        }
+        let (mut multi, mut changed) = (0usize, 0usize);
+        for &(_, n, c) in seen.values() {
+            if n >= 2 {
+                multi += 1;
+                changed += usize::from(c);
+            }
+        }
+        (multi >= 20 && 4 * changed >= multi).then(|| {
+            format!(
+                "the outs change within {} of {} plate appearances of two pitches or more, where outs before each pitch stay the same through a plate appearance: the outs column looks like the outs after each pitch; give the outs before it",
+                crate::domain::numbers::fmt_n(changed),
+                crate::domain::numbers::fmt_n(multi)
+            )
+        })
+    }
+
     /// A note on pitchers the log lists for two clubs on one date: a man
     /// pitches for one club a day, so two pitchers share the name there (a
     /// league's log keyed by name, two men of one name in it) or the rows
@@ -457,7 +493,7 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
             table.n_rows
         )));
     }
-    if let Some(why) = log.count_after_the_pitch() {
+    if let Some(why) = log.count_after_the_pitch().or_else(|| log.outs_after_the_pitch()) {
         return Err(Error::Data(format!("{}: {why}", path.display())));
     }
     if input.strict() && !rejected.is_empty() {
