@@ -55,8 +55,16 @@ fn hand<'a>(v: &'a str, col: &'static str) -> Result<Hand, Breach<'a>> {
         // A roster's "S" (or "B") for a switch hitter says nothing of the
         // side he stood in for this plate appearance, which the factor needs.
         let switch = col == "bats" && matches!(v.to_ascii_uppercase().as_str(), "S" | "B");
+        // A hand written out ("Left", "RHP", "rh") names its letter.
+        let spelled = match v.to_ascii_lowercase().as_str() {
+            "left" | "lhp" | "lh" | "lhb" => Some('L'),
+            "right" | "rhp" | "rh" | "rhb" => Some('R'),
+            _ => None,
+        };
         let reason = if switch {
             "is a switch hitter's S or B; write the side he batted from in this plate appearance, L or R".to_string()
+        } else if let Some(letter) = spelled {
+            format!("is not L or R; write the hand as its letter ({letter})")
         } else {
             "is not L or R".to_string()
         };
@@ -396,6 +404,14 @@ mod tests {
         assert_eq!(parse_cell(5, "X").unwrap_err(), "is not L or R");
         assert_eq!(parse_cell(3, "S").unwrap_err(), "is not L or R", "a pitcher's hand");
         assert!(parse_cell(5, "l").is_ok());
+    }
+
+    #[test]
+    fn a_hand_written_out_is_refused_with_its_letter() {
+        assert_eq!(hand("Left", "throws").unwrap_err().2, "is not L or R; write the hand as its letter (L)");
+        assert_eq!(hand("RHP", "throws").unwrap_err().2, "is not L or R; write the hand as its letter (R)");
+        assert_eq!(hand("x", "bats").unwrap_err().2, "is not L or R");
+        assert!(hand("l", "bats").is_ok() && hand("R", "throws").is_ok());
     }
 
     #[test]
