@@ -199,6 +199,16 @@ pub fn parse_cell(column: usize, v: &str) -> Result<Cell, String> {
                 Err("is a date and time, not a calendar date; write the game's date alone, YYYY-MM-DD".to_string())
             }
             None if v.contains('/') => Err("is written with slashes; write dates as YYYY-MM-DD (month and day order cannot be guessed)".to_string()),
+            // Eight digits are a date without its dashes; a whole number
+            // of five digits is a spreadsheet's day number (days since
+            // 1899-12-30: 45,748 is 2025-04-01, checked with Python's
+            // datetime).
+            None if v.len() == 8 && v.bytes().all(|b| b.is_ascii_digit()) && parse_date(&format!("{}-{}-{}", &v[..4], &v[4..6], &v[6..])).is_some() => {
+                Err("is a date without its dashes; write it YYYY-MM-DD".to_string())
+            }
+            None if v.parse::<u32>().is_ok_and(|n| (20_000..=80_000).contains(&n)) => {
+                Err("is a number, like a spreadsheet's day number; format the column as dates written YYYY-MM-DD before exporting".to_string())
+            }
             None => Err("is not a calendar date written YYYY-MM-DD".to_string()),
         },
         3 => hand(v, "throws").map(Cell::Hand).map_err(|b| b.2),
@@ -404,6 +414,14 @@ mod tests {
         assert_eq!(parse_cell(5, "X").unwrap_err(), "is not L or R");
         assert_eq!(parse_cell(3, "S").unwrap_err(), "is not L or R", "a pitcher's hand");
         assert!(parse_cell(5, "l").is_ok());
+    }
+
+    #[test]
+    fn dates_written_another_way_are_refused_with_the_fix() {
+        assert_eq!(parse_cell(1, "20250403").unwrap_err(), "is a date without its dashes; write it YYYY-MM-DD");
+        assert!(parse_cell(1, "45748").unwrap_err().contains("spreadsheet's day number"));
+        assert_eq!(parse_cell(1, "20251399").unwrap_err(), "is not a calendar date written YYYY-MM-DD");
+        assert_eq!(parse_cell(1, "7").unwrap_err(), "is not a calendar date written YYYY-MM-DD");
     }
 
     #[test]
