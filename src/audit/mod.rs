@@ -131,10 +131,7 @@ impl Evaluation {
                 scheme: "rolling".into(),
                 train: format!(
                     "for each pitcher, everything of his before each scored block back to {} (earlier blocks, and older seasons only while those hold fewer than {} pitches)",
-                    match settings.audit.history_seasons() {
-                        1 => "the season before the scored one".to_string(),
-                        h => format!("the {h} seasons he pitched before the scored one"),
-                    },
+                    split::history_words(settings.audit.history_seasons()),
                     crate::domain::numbers::fmt_n(settings.audit.min_train_pitches())
                 ),
                 test: format!("each pitcher's latest season in the log, split by date into up to {blocks} blocks, each scored by a model fitted on his pitches before it"),
@@ -330,12 +327,9 @@ fn older_seasons_note(pitchers: &[PitcherSummary], settings: &Settings) -> Optio
         return None;
     }
     let pitches: usize = older.iter().map(|o| o.pitches).sum();
-    let back = match settings.audit.history_seasons() {
-        1 => "the season he pitched before the scored one".to_string(),
-        h => format!("the {h} seasons he pitched before the scored one"),
-    };
     Some(format!(
-        "The models learn from each pitcher's scored season and {back}, and from older seasons only while those hold fewer than {} pitches (`[audit] history_seasons`): {} of the {} pitchers here have older seasons left out ({} pitches in all), since habits and arsenals move between seasons and an opponent reads the recent ones. Each pitcher's section names his.",
+        "The models learn from each pitcher's scored season and {}, and from older seasons only while those hold fewer than {} pitches (`[audit] history_seasons`): {} of the {} pitchers here have older seasons left out ({} pitches in all), since habits and arsenals move between seasons and an opponent reads the recent ones. Each pitcher's section names his.",
+        split::history_words(settings.audit.history_seasons()),
         fmt_n(settings.audit.min_train_pitches()),
         fmt_n(older.len()),
         fmt_n(pitchers.len()),

@@ -45,8 +45,8 @@ pub struct Input {
     pub sha256: String,
     pub optional_present: Vec<String>,
     pub optional_missing: Vec<String>,
-    /// Optional columns in other units than the contract's, set aside whole
-    /// (absent when none are).
+    /// Optional columns in other units than the contract's (or a score
+    /// taken from the other side), set aside whole (absent when none are).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub optional_set_aside: Vec<crate::ingest::units::SetAside>,
     pub seasons: Vec<i32>,

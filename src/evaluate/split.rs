@@ -359,6 +359,16 @@ pub struct Recent {
     pub older: Option<OlderLeftOut>,
 }
 
+/// How far back the rolling scheme's models learn, in words: "the season
+/// he pitched before the scored one" (`history` 1), or "the 2 seasons he
+/// pitched before the scored one".
+pub fn history_words(history: usize) -> String {
+    match history {
+        1 => "the season he pitched before the scored one".to_string(),
+        h => format!("the {h} seasons he pitched before the scored one"),
+    }
+}
+
 /// The rows of a pitcher the rolling scheme learns from and scores: his
 /// scored window (see [`PitcherPlan::rolling`]) and the `history` seasons
 /// he pitched before it, and further seasons back, latest first, only

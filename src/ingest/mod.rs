@@ -54,7 +54,8 @@ pub struct SourceInfo {
     /// Optional contract columns absent from the file.
     pub optional_missing: Vec<String>,
     /// Optional columns the file has but in other units than the
-    /// contract's, set aside whole ([`units::misread_units`]).
+    /// contract's, or taken from the other side, set aside whole
+    /// ([`units::misread_units`], [`units::score_from_the_other_side`]).
     pub optional_set_aside: Vec<units::SetAside>,
 }
 
@@ -154,13 +155,7 @@ impl PitchLog {
             by_group.into_values().filter(|g| g.len() > 1).collect()
         };
         let listed = |gs: &[Vec<String>]| {
-            let shown: Vec<String> = gs
-                .iter()
-                .take(3)
-                .map(|g| g.iter().map(|n| format!("\"{n}\"")).collect::<Vec<_>>().join(" and "))
-                .collect();
-            let more = if gs.len() > 3 { format!(" (and {} more)", gs.len() - 3) } else { String::new() };
-            format!("{}{more}", shown.join("; "))
+            first_three(gs.iter().map(|g| g.iter().map(|n| format!("\"{n}\"")).collect::<Vec<_>>().join(" and ")))
         };
         let mut notes = Vec::new();
         let types = groups(&self.pitch_types);
@@ -179,9 +174,7 @@ impl PitchLog {
         }
         notes
     }
-}
 
-impl PitchLog {
     /// When the count columns hold the count after each pitch rather than
     /// before it (a feed's convention the contract does not use), why, in
     /// words: every plate appearance starts at 0-0, so with `pitch_no` the
@@ -270,19 +263,21 @@ impl PitchLog {
         if found.is_empty() {
             return Vec::new();
         }
-        let shown: Vec<String> = found
-            .iter()
-            .take(3)
-            .map(|(&p, &(d, a, b))| {
-                format!("\"{}\" ({}: {} and {})", self.pitchers[p as usize], parse::format_date(d), self.teams[a as usize], self.teams[b as usize])
-            })
-            .collect();
-        let more = if found.len() > 3 { format!(" (and {} more)", found.len() - 3) } else { String::new() };
+        let shown = first_three(found.iter().map(|(&p, &(d, a, b))| {
+            format!("\"{}\" ({}: {} and {})", self.pitchers[p as usize], parse::format_date(d), self.teams[a as usize], self.teams[b as usize])
+        }));
         vec![format!(
-            "pitcher names the log lists for two clubs on the same day, so two pitchers may share the name: {}{more}; they are read as one pitcher with both men's pitches, so give each his own id in `pitcher`",
-            shown.join("; ")
+            "pitcher names the log lists for two clubs on the same day, so two pitchers may share the name: {shown}; they are read as one pitcher with both men's pitches, so give each his own id in `pitcher`"
         )]
     }
+}
+
+/// The first three of a note's items, joined by "; ", and how many more.
+fn first_three(items: impl ExactSizeIterator<Item = String>) -> String {
+    let n = items.len();
+    let shown: Vec<String> = items.take(3).collect();
+    let more = if n > 3 { format!(" (and {} more)", n - 3) } else { String::new() };
+    format!("{}{more}", shown.join("; "))
 }
 
 /// A name as a loose key: its letters and digits, lower-cased, so names
@@ -446,12 +441,10 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
     }
     // A measurement column in other units is set aside whole, as if the
     // file had none, before any row is read.
-    let set_aside = units::misread_units(&table, input);
-    let aside = |c: &str| set_aside.iter().any(|s| s.columns.iter().any(|x| x == c));
-    let file_names: Vec<String> = OPTIONAL_COLUMNS.iter().filter(|c| aside(c)).map(|c| input.file_column(c).to_string()).collect();
-    table.columns.retain(|(name, _)| !file_names.contains(name));
+    let mut set_aside = units::misread_units(&table, input);
+    let file_names: Vec<&str> = set_aside.iter().flat_map(|s| &s.columns).map(|c| input.file_column(c)).collect();
+    table.columns.retain(|(name, _)| !file_names.contains(&name.as_str()));
     let (mut log, rejected, blank) = validate(&table, input);
-    let mut set_aside = set_aside;
     // A score difference taken from the other side is set aside too: its
     // "ahead" would read as "behind".
     if let Some(reason) = units::score_from_the_other_side(&log) {

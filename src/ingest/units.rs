@@ -7,7 +7,9 @@
 //! middle of the plate. Such a column is set aside whole, as if the file
 //! did not have it, and the run says why and how to convert it; nothing is
 //! guessed or converted. Single implausible values are still rejected row
-//! by row.
+//! by row. A `score_diff` taken from the other side (the batting team's,
+//! or one team's throughout) is set aside the same way
+//! ([`score_from_the_other_side`]): its "ahead" would read as "behind".
 //!
 //! The column's median decides: pitch speeds of any league lie far below
 //! 110 mph (a median above it is km/h), pitches cross the plate about
@@ -25,7 +27,8 @@ use serde::Serialize;
 /// Fewer values than this decide nothing.
 const MIN_VALUES: usize = 20;
 
-/// Optional columns set aside for their units, and why.
+/// Optional columns set aside for their units (or the side they are taken
+/// from), and why.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct SetAside {
     /// Contract names of the columns set aside (the two location columns go
