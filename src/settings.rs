@@ -30,6 +30,17 @@ pub struct ConfigFile {
     pub compare: CompareConfig,
     #[serde(default)]
     pub location: LocationConfig,
+    #[serde(default)]
+    pub set_aside: SetAsideConfig,
+}
+
+/// Pitch labels that are not the pitcher's choice of pitch, set aside
+/// before the audit (`crate::domain::labels`).
+#[derive(Debug, Clone, Default, Deserialize)]
+#[serde(deny_unknown_fields)]
+pub struct SetAsideConfig {
+    /// Replaces the default list; `[]` sets none aside.
+    pub pitch_labels: Option<Vec<String>>,
 }
 
 /// Where he throws it (crate::location): how many located pitches of one
@@ -169,6 +180,8 @@ macro_rules! copy_getters {
 pub struct InputParams {
     columns: BTreeMap<String, String>,
     pitch_groups: BTreeMap<String, String>,
+    /// Loose key of each label set aside = what it is, in words.
+    set_aside: BTreeMap<String, String>,
     strict: bool,
 }
 
@@ -181,6 +194,16 @@ impl InputParams {
     /// The group a raw pitch label belongs to (itself when ungrouped).
     pub fn pitch_group<'a>(&'a self, label: &'a str) -> &'a str {
         self.pitch_groups.get(label).map(String::as_str).unwrap_or(label)
+    }
+
+    /// Why a raw pitch label's rows are set aside ("a pitchout"), or `None`
+    /// when it names a pitch: a label in `[pitch_groups]` is always a pitch.
+    pub fn set_aside_as(&self, label: &str) -> Option<&str> {
+        let label = label.trim();
+        if self.pitch_groups.contains_key(label) {
+            return None;
+        }
+        self.set_aside.get(&crate::domain::labels::loose_name(label)).map(String::as_str)
     }
 
     /// The same reading with `--strict` off: to keep a failed run's
@@ -434,7 +457,18 @@ impl InputParams {
                 }
             }
         }
-        Ok(InputParams { columns: cfg.columns.clone(), pitch_groups: groups, strict: o.strict })
+        let set_aside = match &cfg.set_aside.pitch_labels {
+            None => crate::domain::labels::NOT_CHOSEN.iter().map(|(l, what)| (l.to_string(), Some(*what))).collect::<Vec<_>>(),
+            Some(labels) => labels.iter().map(|l| (l.clone(), crate::domain::labels::what_it_is(l))).collect(),
+        };
+        let set_aside = set_aside
+            .into_iter()
+            .map(|(l, what)| {
+                let what = what.map(str::to_string).unwrap_or_else(|| "a label listed in [set_aside] pitch_labels".to_string());
+                (crate::domain::labels::loose_name(&l), what)
+            })
+            .collect();
+        Ok(InputParams { columns: cfg.columns.clone(), pitch_groups: groups, set_aside, strict: o.strict })
     }
 }
 

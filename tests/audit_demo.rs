@@ -217,3 +217,71 @@ fn every_kind_of_fit_scores_alike() {
         }
     }
 }
+
+/// Pitches that are not the pitcher's choice (a pitchout beside a pitch of
+/// the plate appearance, intentional balls, unknown types) are set aside
+/// before anything is learned: the audit of the demo with them added is the
+/// audit of the demo, figure for figure, and the run says what it set
+/// aside. Kept as pitches (`[set_aside] pitch_labels = []`), they would
+/// become pitch types of their own.
+#[test]
+fn pitches_that_are_not_his_choice_leave_every_figure_unchanged() {
+    let text = std::fs::read_to_string(demo_log()).unwrap();
+    let mut lines: Vec<String> = text.lines().map(str::to_string).collect();
+    let header: Vec<&str> = lines[0].split(',').collect();
+    let col = |name: &str| header.iter().position(|h| *h == name).unwrap();
+    let (pt, pa, pitch_no, balls) = (col("pitch_type"), col("pa"), col("pitch_no"), col("balls"));
+    let mut added = Vec::new();
+    for (i, line) in lines.iter().enumerate().skip(1) {
+        let mut f: Vec<String> = line.split(',').map(str::to_string).collect();
+        if i % 97 == 0 {
+            // A pitchout beside a pitch of the plate appearance.
+            f[pt] = "PO".into();
+            added.push(f.join(","));
+        } else if i % 131 == 0 {
+            f[pt] = "unknown".into();
+            added.push(f.join(","));
+        } else if i % 499 == 0 {
+            // An intentional walk: a plate appearance of its own at the
+            // game's end, four intentional balls.
+            for b in 0..4 {
+                let mut g = f.clone();
+                g[pa] = "900".into();
+                g[pitch_no] = (b + 1).to_string();
+                g[balls] = b.to_string();
+                g[col("strikes")] = "0".into();
+                g[pt] = "Intentional Ball".into();
+                added.push(g.join(","));
+            }
+        }
+    }
+    let n_added = added.len();
+    lines.extend(added);
+    let dir = std::env::temp_dir().join(format!("tellscope-set-aside-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("with-pitchouts.csv");
+    std::fs::write(&path, lines.join("\n") + "\n").unwrap();
+
+    let with = audit::run(&path, &settings(199), false).unwrap();
+    let plain = demo();
+    assert_eq!(with.summary.input.rows_set_aside, n_added);
+    assert_eq!(with.set_aside.len(), n_added, "every set-aside row is kept for set_aside.csv");
+    assert_eq!(with.summary.input.rows_kept, plain.summary.input.rows_kept);
+    let labels: Vec<&str> = with.summary.input.pitch_labels_set_aside.iter().map(|l| l.label.as_str()).collect();
+    assert_eq!(labels.len(), 3, "{labels:?}");
+    for l in ["PO", "unknown", "Intentional Ball"] {
+        assert!(labels.contains(&l), "{l} missing from {labels:?}");
+    }
+    assert!(with.summary.notes.iter().any(|n| n.contains("set aside") && n.contains("\"PO\" (a pitchout)")), "{:?}", with.summary.notes);
+    let json = |a: &Audit| serde_json::to_string(&a.summary.pitchers).unwrap();
+    assert!(json(&with) == json(plain), "the set-aside pitches changed a figure");
+
+    // Kept as pitches, they become pitch types the model must guess.
+    let cfg: ConfigFile = toml::from_str("[set_aside]\npitch_labels = []\n").unwrap();
+    let keep = Settings::resolve(&cfg, &Overrides { permutations: Some(0), ..Overrides::default() }).unwrap();
+    let ing = tellscope::ingest::load(&path, &keep.input).unwrap();
+    assert!(ing.set_aside.is_empty());
+    for l in ["PO", "unknown", "Intentional Ball"] {
+        assert!(ing.log.pitch_types.iter().any(|t| t == l), "{l} kept as a pitch type");
+    }
+}

@@ -865,3 +865,59 @@ fn outs_after_the_pitch_are_refused() {
     assert!(err.contains("the outs change within 16 of 24 plate appearances") && err.ends_with("give the outs before it"), "{err}");
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// Labels that do not name a pitch the pitcher chose are set aside, not
+/// rejected: listed with line and reason, counted by label, kept out of the
+/// log, and no failure under --strict. A label in [pitch_groups] is a
+/// pitch; `[set_aside] pitch_labels` replaces the list (`[]` sets none
+/// aside); a row that also breaks the contract is rejected.
+#[test]
+fn labels_that_are_not_his_choice_are_set_aside_with_their_lines() {
+    let dir = scratch("set-aside");
+    let row = |label: &str| format!("g1,2025-04-01,P,R,B,L,1,0,0,0,0,0,0,{label}");
+    let mut text = vec![HEADER.to_string()];
+    for label in ["fastball", "PO", "slider", "Intentional Ball", "un", "?", "fastball", "pitch-out", "EP"] {
+        text.push(row(label));
+    }
+    text.push("g1,2025-04-01,P,R,B,L,0,0,0,0,0,0,0,PO".into()); // inning 0: rejected
+    let p = write(&dir, "labels.csv", &(text.join("\n") + "\n"));
+
+    let ing = load(&p);
+    let lines: Vec<u64> = ing.set_aside.iter().map(|r| r.line).collect();
+    assert_eq!(lines, vec![3, 5, 6, 7, 9], "header is line 1");
+    assert!(ing.set_aside.iter().all(|r| r.column == "pitch_type"));
+    assert_eq!(ing.set_aside[1].value, "Intentional Ball");
+    assert!(ing.set_aside[1].reason.contains("\"Intentional Ball\" is an intentional ball, not the pitcher's choice"), "{}", ing.set_aside[1].reason);
+    assert!(ing.set_aside[3].reason.contains("an unknown pitch type"), "{}", ing.set_aside[3].reason);
+    assert_eq!(ing.rejected.len(), 1, "the broken row is rejected, not set aside");
+    assert_eq!(ing.rejected[0].line, 11);
+    assert_eq!(ing.source.rows_set_aside, 5);
+    let by: Vec<(String, usize)> = ing.source.pitch_labels_set_aside.iter().map(|l| (l.label.clone(), l.pitches)).collect();
+    assert_eq!(by.len(), 5, "{by:?}");
+    assert_eq!(ing.log.pitch_types, vec!["EP", "fastball", "slider"]);
+    assert_eq!(ing.log.len(), 4);
+
+    // --strict fails on rejected rows only.
+    let only_aside = write(&dir, "aside-only.csv", &(text[..10].join("\n") + "\n"));
+    let strict = Settings::resolve(&ConfigFile::default(), &Overrides { strict: true, ..Overrides::default() }).unwrap();
+    assert_eq!(ingest::load(&only_aside, &strict.input).unwrap().source.rows_set_aside, 5);
+
+    // A grouped label is a pitch; a list of one's own replaces the defaults.
+    let grouped = with_config("[pitch_groups]\npitchout = [\"PO\"]\n");
+    let ing = ingest::load(&only_aside, &grouped.input).unwrap();
+    assert!(ing.log.pitch_types.contains(&"pitchout".to_string()));
+    assert_eq!(ing.source.rows_set_aside, 4);
+    let none = with_config("[set_aside]\npitch_labels = []\n");
+    assert_eq!(ingest::load(&only_aside, &none.input).unwrap().source.rows_set_aside, 0);
+    let own = with_config("[set_aside]\npitch_labels = [\"EP\", \"pitchout\"]\n");
+    let ing = ingest::load(&only_aside, &own.input).unwrap();
+    let reasons: Vec<&str> = ing.set_aside.iter().map(|r| r.reason.as_str()).collect();
+    assert_eq!(reasons.len(), 2, "{reasons:?}");
+    assert!(reasons[0].contains("\"pitch-out\" is a pitchout"), "{reasons:?}");
+    assert!(reasons[1].contains("\"EP\" is a label listed in [set_aside] pitch_labels, not the pitcher's choice"), "{reasons:?}");
+
+    // Nothing left but set-aside rows: a data error naming the fix.
+    let all = write(&dir, "all-aside.csv", &format!("{HEADER}\n{}\n{}\n", row("PO"), row("IN")));
+    let msg = data_error(&all, &defaults());
+    assert!(msg.contains("set aside") && msg.contains("[set_aside] pitch_labels"), "{msg}");
+}

@@ -29,6 +29,8 @@ pub struct Audit {
     pub summary: Summary,
     pub tests: Vec<TellTest>,
     pub rejected: Vec<Rejected>,
+    /// Rows whose pitch label is not the pitcher's choice (`set_aside.csv`).
+    pub set_aside: Vec<Rejected>,
     /// Outcome figures per audited pitcher, pitch type and situation level
     /// (`outcomes.csv`; empty without a `result` column).
     pub outcomes: Vec<crate::outcomes::SituationOutcomes>,
@@ -90,7 +92,7 @@ fn observe(task: &PitcherTask, settings: &Settings, names: &[String]) -> Observe
 /// Run the audit of the log at `path`.
 pub fn run(path: &Path, settings: &Settings, show_progress: bool) -> Result<Audit> {
     let t = crate::progress::Timer::start();
-    let Ingested { log, rejected, source } = ingest::load(path, &settings.input)?;
+    let Ingested { log, rejected, set_aside, source } = ingest::load(path, &settings.input)?;
     t.lap("ingest");
     let sit = situations::build(&log);
     t.lap("situations");
@@ -98,7 +100,7 @@ pub fn run(path: &Path, settings: &Settings, show_progress: bool) -> Result<Audi
         Some(test) => Evaluation::SeasonForward(Plan::season_forward(&log, test)?),
         None => Evaluation::Rolling { blocks: settings.audit.forward_blocks() },
     };
-    audit_log(&log, &sit, &scheme, rejected, source, settings, show_progress)
+    audit_log(&log, &sit, &scheme, ingest::LeftOut { rejected, set_aside }, source, settings, show_progress)
 }
 
 /// How the audit scores its pitchers.
@@ -165,6 +167,14 @@ pub fn input_notes(log: &ingest::PitchLog, sit: &Situations, source: &ingest::So
             if cols.len() == 1 { "column is" } else { "columns are" },
             if cols.len() == 1 { "none" } else { "neither" },
             a.reason
+        ));
+    }
+    if source.rows_set_aside > 0 {
+        notes.push(format!(
+            "{} of {} input rows were set aside because their pitch label is not the pitcher's choice of pitch: {}. A model would learn the bench's calls and the tracker's gaps from them and read them as tells; they are listed in set_aside.csv (to keep a label as a pitch, list it in [pitch_groups] or set [set_aside] pitch_labels in the config).",
+            crate::domain::numbers::fmt_n(source.rows_set_aside),
+            crate::domain::numbers::fmt_n(source.rows_read),
+            source.labels_set_aside_text()
         ));
     }
     if source.rows_rejected > 0 {
@@ -259,7 +269,7 @@ pub fn audit_log(
     log: &ingest::PitchLog,
     sit: &Situations,
     scheme: &Evaluation,
-    rejected: Vec<Rejected>,
+    left_out: ingest::LeftOut,
     source: ingest::SourceInfo,
     settings: &Settings,
     show_progress: bool,
@@ -315,7 +325,7 @@ pub fn audit_log(
         tells_flagged: tests.iter().filter(|t| t.flagged).count(),
         pitchers,
     };
-    Ok(Audit { summary, tests, rejected, outcomes })
+    Ok(Audit { summary, tests, rejected: left_out.rejected, set_aside: left_out.set_aside, outcomes })
 }
 
 /// On a log of more seasons than the models learn from, how many of the

@@ -49,6 +49,12 @@ pub struct Input {
     /// taken from the other side), set aside whole (absent when none are).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub optional_set_aside: Vec<crate::ingest::units::SetAside>,
+    /// Rows whose pitch label is not the pitcher's choice of pitch
+    /// (pitchouts, intentional balls, unknown types; `set_aside.csv`).
+    pub rows_set_aside: usize,
+    /// Those rows by label: how many, and what the label is.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub pitch_labels_set_aside: Vec<crate::ingest::LabelSetAside>,
     pub seasons: Vec<i32>,
 }
 
@@ -69,6 +75,8 @@ impl Input {
             optional_present: source.optional_present.clone(),
             optional_missing: source.optional_missing.clone(),
             optional_set_aside: source.optional_set_aside.clone(),
+            rows_set_aside: source.rows_set_aside,
+            pitch_labels_set_aside: source.pitch_labels_set_aside.clone(),
             seasons: log.seasons(),
         }
     }

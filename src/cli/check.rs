@@ -27,11 +27,16 @@ pub fn run(args: Args) -> Result<()> {
         Err(e) => {
             // An unusable log (no valid row, --strict): still list why its
             // rows were rejected, then fail.
-            if let Ok(rejected) = ingest::rejected_rows(&input.path, &settings.input) {
-                if !rejected.is_empty() {
+            if let Ok((rejected, set_aside)) = ingest::rows_left_out(&input.path, &settings.input) {
+                if !rejected.is_empty() || !set_aside.is_empty() {
+                    let loc = ingest::read::Format::of(&input.path).locator();
                     println!("{shown}");
                     println!("  rows rejected  {}", rejected.len());
-                    print_rejections(&rejected, ingest::read::Format::of(&input.path).locator());
+                    print_rejections(&rejected, loc);
+                    if !set_aside.is_empty() {
+                        println!("  rows set aside {} (not the pitcher's choice of pitch)", set_aside.len());
+                        print_rejections(&set_aside, loc);
+                    }
                 }
             }
             return Err(input.name_errors(e));
@@ -45,6 +50,10 @@ pub fn run(args: Args) -> Result<()> {
     println!("  rows kept      {}", log.len());
     println!("  rows rejected  {}", src.rows_rejected);
     print_rejections(&ing.rejected, loc);
+    if src.rows_set_aside > 0 {
+        println!("  rows set aside {} (not the pitcher's choice of pitch)", src.rows_set_aside);
+        print_rejections(&ing.set_aside, loc);
+    }
     let seasons = log.seasons();
     let mut per_season: BTreeMap<i32, (usize, std::collections::BTreeSet<u32>)> = BTreeMap::new();
     for i in 0..log.len() {

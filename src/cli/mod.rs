@@ -112,9 +112,16 @@ impl LogInput {
     pub fn failed(&self, e: tellscope::Error, settings: &tellscope::settings::Settings, out: &std::path::Path, what: &str) -> tellscope::Error {
         let e = self.name_errors(e);
         if e.exit_code() == 3 {
-            if let Ok(rejected) = tellscope::ingest::rejected_rows(&self.path, &settings.input) {
-                if !rejected.is_empty() && tellscope::report::write_failed_report(out, what, &e.to_string(), &rejected).is_ok() {
-                    eprintln!("note: {} rejected rows and why are in {}", rejected.len(), out.join("rejected.csv").display());
+            if let Ok((rejected, set_aside)) = tellscope::ingest::rows_left_out(&self.path, &settings.input) {
+                if (!rejected.is_empty() || !set_aside.is_empty())
+                    && tellscope::report::write_failed_report(out, what, &e.to_string(), &rejected, &set_aside).is_ok()
+                {
+                    if !rejected.is_empty() {
+                        eprintln!("note: {} rejected rows and why are in {}", rejected.len(), out.join("rejected.csv").display());
+                    }
+                    if !set_aside.is_empty() {
+                        eprintln!("note: {} rows set aside and why are in {}", set_aside.len(), out.join("set_aside.csv").display());
+                    }
                 }
             }
         }

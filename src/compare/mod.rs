@@ -68,6 +68,8 @@ pub struct Request {
 pub struct Comparison {
     pub summary: CompareSummary,
     pub rejected: Vec<Rejected>,
+    /// Rows whose pitch label is not the pitcher's choice (`set_aside.csv`).
+    pub set_aside: Vec<Rejected>,
 }
 
 /// The random stream of one use (`purpose`) of one pitcher, number `j`:
@@ -99,11 +101,11 @@ fn seed64(seed: u64, pitcher: &str, purpose: &str) -> u64 {
 /// Compare the log at `path`.
 pub fn run(path: &Path, settings: &Settings, request: &Request, show_progress: bool) -> Result<Comparison> {
     let timer = crate::progress::Timer::start();
-    let Ingested { log, rejected, source } = ingest::load(path, &settings.input)?;
+    let Ingested { log, rejected, set_aside, source } = ingest::load(path, &settings.input)?;
     let (before, after) = period::resolve(&log, &request.before, &request.after)?;
     let sit = situations::build(&log);
     timer.lap("compare: ingest and situations");
-    compare_log(&log, &sit, before, after, rejected, source, settings, show_progress)
+    compare_log(&log, &sit, before, after, ingest::LeftOut { rejected, set_aside }, source, settings, show_progress)
 }
 
 
@@ -461,7 +463,7 @@ pub fn compare_log(
     sit: &Situations,
     before: Period,
     after: Period,
-    rejected: Vec<Rejected>,
+    left_out: ingest::LeftOut,
     source: SourceInfo,
     settings: &Settings,
     show_progress: bool,
@@ -554,7 +556,7 @@ pub fn compare_log(
         significant,
         pitchers,
     };
-    Ok(Comparison { summary, rejected })
+    Ok(Comparison { summary, rejected: left_out.rejected, set_aside: left_out.set_aside })
 }
 
 /// Each pitcher's rows in the before and the after period.

@@ -4,6 +4,7 @@
 
 pub mod columns;
 pub mod defaults;
+pub mod labels;
 pub mod levels;
 pub mod numbers;
 pub mod result;

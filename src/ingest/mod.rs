@@ -57,6 +57,32 @@ pub struct SourceInfo {
     /// contract's, or taken from the other side, set aside whole
     /// ([`units::misread_units`], [`units::score_from_the_other_side`]).
     pub optional_set_aside: Vec<units::SetAside>,
+    /// Rows whose pitch label is not the pitcher's choice of pitch
+    /// (`[set_aside] pitch_labels`), left out of the log and kept in
+    /// `Ingested::set_aside`.
+    pub rows_set_aside: usize,
+    /// Those rows by label, most first.
+    pub pitch_labels_set_aside: Vec<LabelSetAside>,
+}
+
+/// One pitch label whose rows were set aside: how many, and what it is.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct LabelSetAside {
+    pub label: String,
+    pub pitches: usize,
+    pub what: String,
+}
+
+impl SourceInfo {
+    /// The labels set aside in words, most pitches first: `"PO" (a
+    /// pitchout) 178, "IN" (an intentional ball) 134`.
+    pub fn labels_set_aside_text(&self) -> String {
+        self.pitch_labels_set_aside
+            .iter()
+            .map(|l| format!("\"{}\" ({}) {}", l.label, l.what, crate::domain::numbers::fmt_n(l.pitches)))
+            .collect::<Vec<_>>()
+            .join(", ")
+    }
 }
 
 /// A validated pitch log, one entry per kept pitch, ordered by date, game,
@@ -100,11 +126,22 @@ pub struct PitchLog {
     pub team: Option<Vec<Option<u32>>>,
 }
 
+/// The rows a run leaves out: those breaking the contract, and those set
+/// aside as not the pitcher's choice of pitch.
+#[derive(Debug, Clone, Default)]
+pub struct LeftOut {
+    pub rejected: Vec<Rejected>,
+    pub set_aside: Vec<Rejected>,
+}
+
 /// A log and what was set aside while reading it.
 #[derive(Debug, Clone)]
 pub struct Ingested {
     pub log: PitchLog,
     pub rejected: Vec<Rejected>,
+    /// Rows whose pitch label is not the pitcher's choice of pitch, with the
+    /// reason (kept as rejected rows are, but not a breach of the contract).
+    pub set_aside: Vec<Rejected>,
     pub source: SourceInfo,
 }
 
@@ -280,13 +317,10 @@ fn first_three(items: impl ExactSizeIterator<Item = String>) -> String {
     format!("{}{more}", shown.join("; "))
 }
 
-/// A name as a loose key: its letters and digits, lower-cased, so names
-/// that differ only in case, spaces or punctuation ("Pitch_Type" and
-/// "pitch type", "Wren Alder" and "wren  alder") share it. For hints and
-/// notes only: names are always read as written.
-pub fn loose_name(name: &str) -> String {
-    name.chars().filter(|c| c.is_alphanumeric()).flat_map(char::to_lowercase).collect()
-}
+/// A name as a loose key (see [`crate::domain::labels::loose_name`]). For
+/// hints and notes, and for matching the labels set aside: names are
+/// always read as written.
+pub use crate::domain::labels::loose_name;
 
 /// A name's words, lower-cased and sorted, so a name written last name
 /// first ("Alder, Wren") shares it with the same name written first name
@@ -354,13 +388,15 @@ fn sha256_of(path: &Path) -> Result<String> {
     Ok(hasher.finalize().iter().map(|b| format!("{b:02x}")).collect())
 }
 
-/// Read, validate and order a pitch log.
-/// The rows of `path` the contract rejects, with their reasons, even when
-/// the log as a whole is unusable (no valid row, `--strict`): so a failed
-/// run can still keep them. An error only when the file cannot be read.
-pub fn rejected_rows(path: &Path, input: &InputParams) -> Result<Vec<Rejected>> {
-    load_checked(path, &input.lenient(), false).map(|i| i.rejected)
+/// The rows of `path` the contract rejects, and those set aside as not
+/// the pitcher's choice, with their reasons, even when the log as a whole
+/// is unusable (no valid row, `--strict`): so a failed run can still keep
+/// them. An error only when the file cannot be read.
+pub fn rows_left_out(path: &Path, input: &InputParams) -> Result<(Vec<Rejected>, Vec<Rejected>)> {
+    load_checked(path, &input.lenient(), false).map(|i| (i.rejected, i.set_aside))
 }
+
+/// Read, validate and order a pitch log.
 
 pub fn load(path: &Path, input: &InputParams) -> Result<Ingested> {
     load_checked(path, input, true)
@@ -444,7 +480,7 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
     let mut set_aside = units::misread_units(&table, input);
     let file_names: Vec<&str> = set_aside.iter().flat_map(|s| &s.columns).map(|c| input.file_column(c)).collect();
     table.columns.retain(|(name, _)| !file_names.contains(&name.as_str()));
-    let (mut log, rejected, blank) = validate(&table, input);
+    let (mut log, rejected, aside_rows, blank) = validate(&table, input);
     // A score difference taken from the other side is set aside too: its
     // "ahead" would read as "behind".
     if let Some(reason) = units::score_from_the_other_side(&log) {
@@ -471,9 +507,18 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
         optional_present: present,
         optional_missing: absent,
         optional_set_aside: set_aside,
+        rows_set_aside: aside_rows.len(),
+        pitch_labels_set_aside: labels_set_aside(&aside_rows, input),
     };
     if !checked {
-        return Ok(Ingested { log, rejected, source });
+        return Ok(Ingested { log, rejected, set_aside: aside_rows, source });
+    }
+    if log.is_empty() && !aside_rows.is_empty() && rejected.is_empty() {
+        return Err(Error::Data(format!(
+            "{}: every row's pitch label is set aside as not the pitcher's choice of pitch ({}); if these labels are pitches, list them in [pitch_groups] or set [set_aside] pitch_labels in the config",
+            path.display(),
+            source.labels_set_aside_text()
+        )));
     }
     if log.is_empty() {
         let why = rejected
@@ -502,13 +547,31 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
             r.reason
         )));
     }
-    Ok(Ingested { log, rejected, source })
+    Ok(Ingested { log, rejected, set_aside: aside_rows, source })
+}
+
+/// The set-aside rows counted by label, most first (then by label).
+fn labels_set_aside(rows: &[Rejected], input: &InputParams) -> Vec<LabelSetAside> {
+    let mut by: BTreeMap<&str, usize> = BTreeMap::new();
+    for r in rows {
+        *by.entry(r.value.as_str()).or_default() += 1;
+    }
+    let mut out: Vec<LabelSetAside> = by
+        .into_iter()
+        .map(|(label, pitches)| LabelSetAside {
+            label: label.to_string(),
+            pitches,
+            what: input.set_aside_as(label).unwrap_or_default().to_string(),
+        })
+        .collect();
+    out.sort_by(|a, b| b.pitches.cmp(&a.pitches).then(a.label.cmp(&b.label)));
+    out
 }
 
 /// Validate every row straight into the log's columns (file order), then
 /// order them: one column at a time is permuted, so no row-sized copy of the
 /// whole log is ever made.
-fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, usize) {
+fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, Vec<Rejected>, usize) {
     use rayon::prelude::*;
     let col = |c: &str| table.column(input.file_column(c));
     let cols: Vec<Option<&read::TextColumn>> =
@@ -522,6 +585,7 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
     let mut types = Interner::default();
     let mut teams = Interner::default();
     let mut rejected = Vec::new();
+    let mut aside = Vec::new();
     let mut blank = 0usize;
     let cap = table.n_rows;
     let mut log = PitchLog {
@@ -593,12 +657,27 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
     let (mut game_ids, mut pitcher_ids, mut batter_ids, mut type_ids, mut team_ids) =
         (cache(cols[0]), cache(cols[2]), cache(cols[4]), cache(cols[13]), cache(cols[22]));
     let code = |ci: usize, i: usize| cols[ci].and_then(|c| c.code(i));
+    // Each pitch label is looked up once: why its rows are set aside, if
+    // they are (not the pitcher's choice of pitch).
+    let aside_as: Vec<Option<&str>> = cols[13].map_or_else(Vec::new, |c| c.dict.iter().map(|v| input.set_aside_as(v)).collect());
     for start in (0..table.n_rows).step_by(CHUNK) {
         let end = (start + CHUNK).min(table.n_rows);
         let parsed: Vec<Parsed> = (start..end).into_par_iter().map(parse_at).collect();
         for (i, parsed) in (start..end).zip(parsed) {
             match parsed {
                 Parsed::Blank => blank += 1,
+                Parsed::Row(p) if code(13, i).and_then(|c| aside_as[c]).is_some() => {
+                    let what = code(13, i).and_then(|c| aside_as[c]).unwrap_or_default();
+                    aside.push(Rejected {
+                        line: table.location(i),
+                        column: "pitch_type".into(),
+                        value: clip_value(p.pitch_type),
+                        reason: format!(
+                            "\"{}\" is {what}, not the pitcher's choice of pitch: set aside ([set_aside] pitch_labels in the config)",
+                            clip_value(p.pitch_type)
+                        ),
+                    });
+                }
                 Parsed::Row(p) => {
                     log.game.push(intern(&mut game_ids, code(0, i), |t| t.get(p.game), &mut games));
                     log.date.push(p.date);
@@ -660,7 +739,7 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
         // rejected.csv lists rows in file order.
         rejected.sort_by_key(|r| r.line);
     }
-    (log, rejected, blank)
+    (log, rejected, aside, blank)
 }
 
 /// A game id met on more than one date (a log numbering its games afresh

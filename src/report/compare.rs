@@ -492,6 +492,9 @@ impl Exporter<Comparison> for Json {
 impl Exporter<Comparison> for Csv {
     fn export(&self, cmp: &Comparison, sink: &mut dyn Sink) -> Result<()> {
         sink.put("changes.csv", &changes_csv(&cmp.summary)?)?;
+        if !cmp.set_aside.is_empty() {
+            sink.put("set_aside.csv", &rejected_csv(&cmp.set_aside)?)?;
+        }
         sink.put("rejected.csv", &rejected_csv(&cmp.rejected)?)
     }
 }

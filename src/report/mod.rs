@@ -93,7 +93,7 @@ fn staging_of(dir: &Path) -> PathBuf {
 }
 
 /// Files a tellscope report folder holds at its top level.
-const REPORT_FILES: [&str; 8] = ["index.html", "summary.json", "tells.csv", "counts.csv", "outcomes.csv", "rejected.csv", "changes.csv", "charts"];
+const REPORT_FILES: [&str; 9] = ["index.html", "summary.json", "tells.csv", "counts.csv", "outcomes.csv", "rejected.csv", "set_aside.csv", "changes.csv", "charts"];
 
 /// Staging folders of this process not yet committed or removed: what an
 /// interrupt (Ctrl-C, SIGTERM) removes before the process exits. The lock
@@ -274,11 +274,20 @@ impl Drop for Staging {
 /// its own holding `rejected.csv` (every rejected row, line, column, value,
 /// reason) and a short `index.html` saying why, so nothing is lost.
 /// `what` names the run that failed (`audit`, `comparison`).
-pub fn write_failed_report(dir: &Path, what: &str, why: &str, rejected: &[crate::ingest::Rejected]) -> Result<()> {
+pub fn write_failed_report(dir: &Path, what: &str, why: &str, rejected: &[crate::ingest::Rejected], set_aside: &[crate::ingest::Rejected]) -> Result<()> {
     let mut st = Staging::new(dir);
     st.add("rejected.csv", &csv::rejected_csv(rejected)?)?;
+    let aside = if set_aside.is_empty() {
+        String::new()
+    } else {
+        st.add("set_aside.csv", &csv::rejected_csv(set_aside)?)?;
+        format!(
+            "<p>{} rows were set aside as not the pitcher's choice of pitch (pitchouts, intentional balls, unknown types and the like); each is listed in <a href=\"set_aside.csv\">set_aside.csv</a>.</p>",
+            set_aside.len()
+        )
+    };
     let page = format!(
-        "<!DOCTYPE html><html lang=\"en\"><head><meta charset=\"utf-8\"><title>tellscope: no {what}</title></head><body style=\"font-family:sans-serif;max-width:50rem;margin:2rem auto\"><h1>No {what} was possible</h1><p>{}</p><p>{} rows were rejected; each is listed with its line, column, value and reason in <a href=\"rejected.csv\">rejected.csv</a>. Fix them (or the export) and run the {what} again.</p></body></html>\n",
+        "<!DOCTYPE html><html lang=\"en\"><head><meta charset=\"utf-8\"><title>tellscope: no {what}</title></head><body style=\"font-family:sans-serif;max-width:50rem;margin:2rem auto\"><h1>No {what} was possible</h1><p>{}</p><p>{} rows were rejected; each is listed with its line, column, value and reason in <a href=\"rejected.csv\">rejected.csv</a>. Fix them (or the export) and run the {what} again.</p>{aside}</body></html>\n",
         charts::escape_xml(why),
         rejected.len()
     );
@@ -331,6 +340,9 @@ impl Exporter<Audit> for Csv {
         sink.put("counts.csv", &csv::counts_csv(&audit.summary)?)?;
         if !audit.outcomes.is_empty() {
             sink.put("outcomes.csv", &csv::outcomes_csv(&audit.outcomes)?)?;
+        }
+        if !audit.set_aside.is_empty() {
+            sink.put("set_aside.csv", &csv::rejected_csv(&audit.set_aside)?)?;
         }
         sink.put("rejected.csv", &csv::rejected_csv(&audit.rejected)?)
     }

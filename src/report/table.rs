@@ -7,6 +7,15 @@ use crate::compare::Comparison;
 use crate::domain::numbers::{fmt_n, p_cell};
 use crate::error::Result;
 
+/// ", N set aside" after the rejected count, when any row was set aside.
+fn set_aside_text(n: usize) -> String {
+    if n == 0 {
+        String::new()
+    } else {
+        format!(", {} set aside", fmt_n(n))
+    }
+}
+
 /// The lines, each ending in a newline, as one output.
 fn put_lines(sink: &mut dyn Sink, lines: Vec<String>) -> Result<()> {
     let mut text = lines.join("\n");
@@ -21,18 +30,20 @@ impl Exporter<Audit> for Table<'_> {
         let mut o: Vec<String> = Vec::new();
         if s.evaluation.scheme == "rolling" {
             o.push(format!(
-                "{} pitches ({} rejected); scored: {}; {} permutations, FDR {}",
+                "{} pitches ({} rejected{}); scored: {}; {} permutations, FDR {}",
                 fmt_n(s.input.rows_kept),
                 fmt_n(s.input.rows_rejected),
+                set_aside_text(s.input.rows_set_aside),
                 s.evaluation.test,
                 fmt_n(s.settings.permutations),
                 s.settings.fdr
             ));
         } else {
             o.push(format!(
-                "{} pitches ({} rejected); trained on {}, held out {}; {} permutations, FDR {}",
+                "{} pitches ({} rejected{}); trained on {}, held out {}; {} permutations, FDR {}",
                 fmt_n(s.input.rows_kept),
                 fmt_n(s.input.rows_rejected),
+                set_aside_text(s.input.rows_set_aside),
                 s.evaluation.train,
                 s.evaluation.test,
                 fmt_n(s.settings.permutations),
