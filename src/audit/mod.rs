@@ -156,7 +156,7 @@ pub fn input_notes(log: &ingest::PitchLog, sit: &Situations, source: &ingest::So
     for (f, why) in &sit.dropped {
         notes.push(format!("The {f} factor is {left_out}: {why}."));
     }
-    for n in sit.notes.iter().chain(&log.near_duplicate_names()).chain(&log.names_on_two_clubs_in_a_day()) {
+    for n in sit.notes.iter().chain(&log.near_duplicate_names()).chain(&log.names_on_two_clubs_in_a_day()).chain(&log.renamed_labels()) {
         notes.push(format!("Note: {n}."));
     }
     for a in &source.optional_set_aside {

@@ -328,9 +328,11 @@ fn arsenal_changes(task: &PitcherTask, names: &[String], test_mix: &BTreeMap<Str
         let before = found_mix.get(t).copied().unwrap_or(0.0);
         let after = test_mix.get(t).copied().unwrap_or(0.0);
         if after >= settings.compare.new_pitch_share() && before < settings.compare.absent_share() {
-            changes.push(ArsenalChange { pitch_type: t.clone(), change: "added".into(), before, after });
+            let in_place_of = crate::domain::labels::took_the_place_of(&found_mix, test_mix, t, settings.compare.new_pitch_share())
+                .map(|(old, before, after)| ReplacedLabel { pitch_type: old.to_string(), before, after });
+            changes.push(ArsenalChange { pitch_type: t.clone(), change: "added".into(), before, after, in_place_of });
         } else if before >= settings.compare.new_pitch_share() && after < settings.compare.absent_share() {
-            changes.push(ArsenalChange { pitch_type: t.clone(), change: "dropped".into(), before, after });
+            changes.push(ArsenalChange { pitch_type: t.clone(), change: "dropped".into(), before, after, in_place_of: None });
         }
     }
     changes
@@ -355,9 +357,27 @@ fn cautions_of(
     }
     for c in arsenal_changes {
         let (what, t) = (&c.change, &c.pitch_type);
+        // A pitch he now "drops" because the log renamed it is told in the
+        // added pitch's caution.
+        let renamed_away = |old: &str| arsenal_changes.iter().any(|a| a.in_place_of.as_ref().is_some_and(|r| r.pitch_type == old));
+        if what == "dropped" && renamed_away(t) {
+            continue;
+        }
         cautions.push(if what == "added" {
+            let renamed = c
+                .in_place_of
+                .as_ref()
+                .map(|r| {
+                    format!(
+                        " It took the place of his {old} ({:.0}% before, {:.0}% now): if the {t} is his {old} under a new name (the log writing all or some of his {old}s as \"{t}\"), merge the two with [pitch_groups] and run again.",
+                        100.0 * r.before,
+                        100.0 * r.after,
+                        old = r.pitch_type
+                    )
+                })
+                .unwrap_or_default();
             format!(
-                "Changed arsenal: a {t} is {:.0}% of his pitches in {} but was {:.1}% before. Until he had thrown it in the games a model learned from, it was new to the models: {} pitches of types new to him are left out of his figures (counted, not scored); after that the {t} is scored like any other pitch. His tells found on the older games describe the old arsenal.",
+                "Changed arsenal: a {t} is {:.0}% of his pitches in {} but was {:.1}% before. Until he had thrown it in the games a model learned from, it was new to the models: {} pitches of types new to him are left out of his figures (counted, not scored); after that the {t} is scored like any other pitch. His tells found on the older games describe the old arsenal.{renamed}",
                 100.0 * c.after,
                 task.evaluation.tells_checked_on,
                 100.0 * c.before,

@@ -337,6 +337,19 @@ pub struct ArsenalChange {
     pub change: String,
     pub before: f64,
     pub after: f64,
+    /// An added pitch that took the place of one of his old labels
+    /// (`domain::labels::took_the_place_of`): that label, its share before
+    /// and after. A renamed pitch looks like this; so can a real swap.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub in_place_of: Option<ReplacedLabel>,
+}
+
+/// The old label an added pitch took the place of.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ReplacedLabel {
+    pub pitch_type: String,
+    pub before: f64,
+    pub after: f64,
 }
 
 impl PitcherSummary {

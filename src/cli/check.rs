@@ -99,7 +99,7 @@ pub fn run(args: Args) -> Result<()> {
     for (f, why) in &sit.dropped {
         println!("  note: factor {f} is not available: {why}");
     }
-    for n in sit.notes.iter().chain(&log.near_duplicate_names()).chain(&log.names_on_two_clubs_in_a_day()) {
+    for n in sit.notes.iter().chain(&log.near_duplicate_names()).chain(&log.names_on_two_clubs_in_a_day()).chain(&log.renamed_labels()) {
         println!("  note: {n}");
     }
     // More seasons than the audit's models learn from.

@@ -309,6 +309,86 @@ impl PitchLog {
     }
 }
 
+impl PitchLog {
+    /// A note on pitch labels the log seems to rename between two seasons:
+    /// at least three pitchers (of at least 100 pitches in both) who threw
+    /// none of a label in one season (under 1%) throw it on at least 5% of
+    /// the next, each in place of the same old label
+    /// ([`crate::domain::labels::took_the_place_of`]). A tracking system
+    /// that renames a pitch does it for everyone at once; one pitcher's new
+    /// pitch is his changed-arsenal caution. One sentence per rename,
+    /// without a final stop.
+    pub fn renamed_labels(&self) -> Vec<String> {
+        use crate::domain::defaults::{COMPARE_ABSENT_SHARE, COMPARE_NEW_PITCH_SHARE};
+        const MIN_PITCHES: usize = 100;
+        const MIN_PITCHERS: usize = 3;
+        // A share of the pitchers who threw the old label: in a league a few
+        // pitchers swap the same two pitches every winter (4 of 600 a
+        // changeup for a splitter in the simulated realistic league).
+        const MIN_SHARE: f64 = 0.2;
+        // Pitch counts by (pitcher, season), rows of one outing hitting the
+        // same entry one after another.
+        let mut at: HashMap<(u32, i32), usize> = HashMap::new();
+        let mut tables: Vec<Vec<usize>> = Vec::new();
+        let mut last: Option<((u32, i32), usize)> = None;
+        for r in 0..self.len() {
+            let key = (self.pitcher[r], self.season[r]);
+            let i = match last {
+                Some((k, i)) if k == key => i,
+                _ => *at.entry(key).or_insert_with(|| {
+                    tables.push(vec![0; self.pitch_types.len()]);
+                    tables.len() - 1
+                }),
+            };
+            last = Some((key, i));
+            tables[i][self.pitch_type[r] as usize] += 1;
+        }
+        let counts: BTreeMap<(u32, i32), &Vec<usize>> = at.into_iter().map(|(k, i)| (k, &tables[i])).collect();
+        let mix = |c: &[usize]| -> BTreeMap<String, f64> {
+            let n: usize = c.iter().sum();
+            c.iter().enumerate().filter(|(_, &k)| k > 0).map(|(t, &k)| (self.pitch_types[t].clone(), k as f64 / n as f64)).collect()
+        };
+        // (season, old label, new label) -> pitchers; (season, old label) ->
+        // pitchers who threw it (at least 5%) the season before.
+        let mut renames: BTreeMap<(i32, String, String), Vec<u32>> = BTreeMap::new();
+        let mut threw: BTreeMap<(i32, String), usize> = BTreeMap::new();
+        for (&(p, s0), c0) in &counts {
+            let Some(&c1) = counts.get(&(p, s0 + 1)) else { continue };
+            if c0.iter().sum::<usize>() < MIN_PITCHES || c1.iter().sum::<usize>() < MIN_PITCHES {
+                continue;
+            }
+            let (before, after) = (mix(c0.as_slice()), mix(c1.as_slice()));
+            for (t, &b) in &before {
+                if b >= COMPARE_NEW_PITCH_SHARE {
+                    *threw.entry((s0 + 1, t.clone())).or_default() += 1;
+                }
+            }
+            for (new, &share) in &after {
+                if share < COMPARE_NEW_PITCH_SHARE || before.get(new).copied().unwrap_or(0.0) >= COMPARE_ABSENT_SHARE {
+                    continue;
+                }
+                if let Some((old, _, _)) = crate::domain::labels::took_the_place_of(&before, &after, new, COMPARE_NEW_PITCH_SHARE) {
+                    renames.entry((s0 + 1, old.to_string(), new.clone())).or_default().push(p);
+                }
+            }
+        }
+        renames
+            .into_iter()
+            .filter(|((season, old, _), who)| {
+                who.len() >= MIN_PITCHERS && who.len() as f64 >= MIN_SHARE * threw.get(&(*season, old.clone())).copied().unwrap_or(0) as f64
+            })
+            .map(|((season, old, new), who)| {
+                let n = who.len();
+                let names = first_three(who.iter().map(|&p| self.pitchers[p as usize].clone()).collect::<Vec<_>>().into_iter());
+                let of = threw.get(&(season, old.clone())).copied().unwrap_or(0);
+                format!(
+                    "in {season} the log writes \"{new}\", a label they did not use the season before, for {n} of the {of} pitchers who threw \"{old}\" then, each in place of his \"{old}\" ({names}): that looks like the tracking system renaming the pitch, not {n} arsenal changes at once; if it is, merge the two with [pitch_groups] ({old} = [\"{old}\", \"{new}\"]) and run again, since until then each of them is read as having changed his arsenal, which skews his figures"
+                )
+            })
+            .collect()
+    }
+}
+
 /// The first three of a note's items, joined by "; ", and how many more.
 fn first_three(items: impl ExactSizeIterator<Item = String>) -> String {
     let n = items.len();
