@@ -73,7 +73,9 @@ fi
 
 if [ "${1:-}" = "ingest" ] || [ "${1:-}" = "all" ]; then
     if [ ! -f "$WORK/ten-million.csv" ]; then
-        # The league log repeated with distinct game ids until 10M rows.
+        # The league log repeated until 10M rows, each repetition two
+        # seasons later with its own game ids (the same games on the same
+        # dates would be copies, and the check drops copies).
         [ -f "$WORK/league.csv" ] || "$BIN" simulate tests/fixtures/scenarios/league.toml --out "$WORK/league.csv" --seed 1 > /dev/null
         python3 - "$WORK/league.csv" "$WORK/ten-million.csv" <<'PY'
 import sys
@@ -85,7 +87,9 @@ with open(dst, "w") as f:
     n, rep = 0, 0
     while n < 10_000_000:
         for l in body:
-            f.write(f"R{rep}-" + l + "\n")
+            game, date, season, rest = l.split(",", 3)
+            year = int(date[:4]) + 2 * rep
+            f.write(f"R{rep}-{game},{year}{date[4:]},{int(season) + 2 * rep},{rest}\n")
             n += 1
             if n >= 10_000_000:
                 break

@@ -961,3 +961,59 @@ fn a_label_renamed_for_several_pitchers_at_once_is_named_with_the_fix() {
     assert!(note_of("relabel = { slider = \"sweeper\" }", 2, 3).is_empty(), "two pitchers are left to their own cautions");
     assert!(note_of("add = { cutter = 0.20 }", 4, 4).is_empty(), "an added pitch takes its share from all of his pitches");
 }
+
+/// A game logged twice, which the row rule cannot see: under a second id on
+/// the same date (two clubs' exports merged), or its rows again under its
+/// own id in a log without pa and pitch_no (a log appended to itself). The
+/// copies later in the file are rejected, every outing of them, the
+/// reliever's short ones too, and what is kept is the log without them; a
+/// doubleheader (two real games of one pitcher on one date) is kept whole.
+#[test]
+fn a_game_logged_twice_counts_once() {
+    let dir = scratch("copied-games");
+    let demo = std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/plain-staff/demo-log.csv")).unwrap();
+    let lines: Vec<&str> = demo.lines().collect();
+    let (header, body) = (lines[0], &lines[1..2001]);
+    let game_of = |l: &str| l.split(',').next().unwrap().to_string();
+    let plain = write(&dir, "plain.csv", &format!("{header}\n{}\n", body.join("\n")));
+    let original = load(&plain);
+
+    // Two games again under ids of their own.
+    let copied: Vec<String> = body
+        .iter()
+        .filter(|l| ["G2025-003", "G2025-004"].contains(&game_of(l).as_str()))
+        .map(|l| l.replacen("G2025-00", "AWAY-00", 1))
+        .collect();
+    assert!(copied.len() > 100, "{} rows copied", copied.len());
+    let text = format!("{header}\n{}\n{}\n", body.join("\n"), copied.join("\n"));
+    let ing = load(&write(&dir, "merged.csv", &text));
+    assert_same_rows(&ing.log, &original.log, true);
+    assert_eq!(ing.rejected.len(), copied.len(), "every copied row, short outings too");
+    let first_copy = body.len() as u64 + 2;
+    assert!(ing.rejected.iter().enumerate().all(|(k, r)| r.line == first_copy + k as u64), "the later rows, in file order");
+    assert!(ing.rejected.iter().all(|r| r.reason.contains("one game logged twice under two ids") && r.value.contains("first copy: game G2025-00")), "{:?}", ing.rejected[0]);
+
+    // A doubleheader: a later game of the same pitchers moved to the date
+    // of an earlier one is two real games, kept whole.
+    let date_of = |g: &str| body.iter().find(|l| game_of(l) == g).unwrap().split(',').nth(1).unwrap().to_string();
+    let (d3, d4) = (date_of("G2025-003"), date_of("G2025-004"));
+    let moved: Vec<String> = body.iter().map(|l| if game_of(l) == "G2025-008" { l.replacen(&date_of("G2025-008"), &d3, 1) } else { l.to_string() }).collect();
+    assert_ne!(d3, d4);
+    let ing = load(&write(&dir, "doubleheader.csv", &format!("{header}\n{}\n", moved.join("\n"))));
+    assert!(ing.rejected.is_empty(), "{:?}", ing.rejected.first());
+    assert_eq!(ing.log.len(), body.len());
+
+    // The rows appended to themselves, without pa and pitch_no.
+    let strip = |l: &str| {
+        let f: Vec<&str> = l.split(',').collect();
+        f.iter().enumerate().filter(|(i, _)| *i != 8 && *i != 9).map(|(_, v)| *v).collect::<Vec<_>>().join(",")
+    };
+    assert!(header.split(',').nth(8) == Some("pa") && header.split(',').nth(9) == Some("pitch_no"));
+    let no_pa: Vec<String> = body.iter().map(|l| strip(l)).collect();
+    let once = load(&write(&dir, "once.csv", &format!("{}\n{}\n", strip(header), no_pa.join("\n"))));
+    let ing = load(&write(&dir, "appended.csv", &format!("{}\n{}\n{}\n", strip(header), no_pa.join("\n"), no_pa.join("\n"))));
+    assert_same_rows(&ing.log, &once.log, true);
+    assert_eq!(ing.rejected.len(), body.len());
+    assert!(ing.rejected.iter().all(|r| r.line > body.len() as u64 + 1 && r.reason.contains("the game's rows are logged twice")));
+    std::fs::remove_dir_all(&dir).ok();
+}

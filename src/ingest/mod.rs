@@ -847,6 +847,125 @@ fn split_games_by_date(log: &mut PitchLog) {
     }
 }
 
+/// A pitcher's outing logged twice, which the row-by-row rule
+/// ([`order_rows`]) cannot see: a game under a second id on the same date
+/// (two clubs' exports of one game merged, say), or the same game's rows
+/// again under its own id in a log without `pa` and `pitch_no` (a log
+/// appended to itself). A copy repeats the outing pitch for pitch, every
+/// value of every row (batter, inning, outs, count, bases, pitch type, and
+/// the score, result, speed and location where the file has them); two real
+/// outings of at least 10 pitches never do. Under a second id, once one outing of 10 pitches or
+/// more gives the copy away, every outing of that game repeating one of the
+/// first game's is a copy too (a reliever's three pitches among them). The
+/// copy later in the file is dropped from `order` (in date, game order) and
+/// returned as rejected, so no pitch counts twice in a test.
+fn drop_copied_games(log: &PitchLog, optional: &Optional, numbered: bool, order: &mut Vec<u32>, locator: &str) -> Vec<Rejected> {
+    const LONG: usize = 10;
+    const TWICE_IN_GAME: &str = "repeats, pitch for pitch, the pitcher's earlier pitches in this game (every value of each row): the game's rows are logged twice; remove the copy";
+    const UNDER_TWO_IDS: &str = "repeats, pitch for pitch, the same pitcher's outing in another game on the same date (every value but the game id): one game logged twice under two ids; remove the copy";
+    // Everything the row says of the pitch (the optional columns the file
+    // has included: a copy repeats its speed and location to the digit).
+    let pitch = |i: u32| {
+        let i = i as usize;
+        let sit = (log.batter[i], log.bats[i], log.inning[i], log.outs[i], log.balls[i], log.strikes[i], log.on_first[i], log.on_second[i], log.on_third[i]);
+        let got = |v: &Vec<Option<f32>>| v.get(i).copied().flatten().map(f32::to_bits);
+        let more = (optional.score.get(i).copied().flatten(), optional.result.get(i).copied().flatten(), got(&optional.speed), got(&optional.side), got(&optional.height));
+        (sit, log.pitch_type[i], more)
+    };
+    let same = |a: &[u32], b: &[u32]| a.len() == b.len() && a.iter().zip(b).all(|(&x, &y)| pitch(x) == pitch(y));
+    // Each copied row with its note: which outing it copies, and how.
+    let mut copies: Vec<(u32, u32)> = Vec::new();
+    let mut notes: Vec<(String, &str)> = Vec::new();
+    let mut start = 0;
+    while start < order.len() {
+        let date = log.date[order[start] as usize];
+        let end = start + order[start..].iter().take_while(|&&i| log.date[i as usize] == date).count();
+        // Each (pitcher, game) outing of the day, in order, and each game's
+        // first line in the file.
+        let mut outings: BTreeMap<(u32, u32), Vec<u32>> = BTreeMap::new();
+        let mut first_line: HashMap<u32, u64> = HashMap::new();
+        for &i in &order[start..end] {
+            let (p, g) = (log.pitcher[i as usize], log.game[i as usize]);
+            outings.entry((p, g)).or_default().push(i);
+            let line = first_line.entry(g).or_insert(u64::MAX);
+            *line = (*line).min(log.source_line[i as usize]);
+        }
+        // The same game's rows twice over: found through one long outing,
+        // then every outing of that game that is its first half twice.
+        let twice = |rows: &[u32]| rows.len() % 2 == 0 && same(&rows[..rows.len() / 2], &rows[rows.len() / 2..]);
+        // (A numbered log's copy repeats its pa and pitch_no too, and the row
+        // rule has dropped it.)
+        let doubled: BTreeSet<u32> = if numbered {
+            BTreeSet::new()
+        } else {
+            outings.iter().filter(|(_, rows)| rows.len() >= 2 * LONG && twice(rows)).map(|((_, g), _)| *g).collect()
+        };
+        for ((p, g), rows) in &outings {
+            let half = rows.len() / 2;
+            if doubled.contains(g) && !rows.is_empty() && twice(rows) {
+                let value = format!(
+                    "game {}, {} (first copy at {locator} {})",
+                    log.games[*g as usize], log.pitchers[*p as usize], log.source_line[rows[0] as usize]
+                );
+                notes.push((value, TWICE_IN_GAME));
+                copies.extend(rows[half..].iter().map(|&i| (i, notes.len() as u32 - 1)));
+            }
+        }
+        // A game under a second id: found through one long outing, then
+        // every outing of the copy that repeats one of the original's.
+        let mut pairs: BTreeSet<(u32, u32)> = BTreeSet::new();
+        let by_pitcher: Vec<(&(u32, u32), &Vec<u32>)> = outings.iter().collect();
+        for (a, ((p, g1), r1)) in by_pitcher.iter().enumerate() {
+            for ((q, g2), r2) in &by_pitcher[a + 1..] {
+                if q != p {
+                    break;
+                }
+                if r1.len() >= LONG && same(r1, r2) {
+                    let (orig, copy) = if first_line[g1] <= first_line[g2] { (*g1, *g2) } else { (*g2, *g1) };
+                    pairs.insert((orig, copy));
+                }
+            }
+        }
+        for &(orig, copy) in &pairs {
+            for ((p, g), rows) in &outings {
+                if *g != copy {
+                    continue;
+                }
+                if let Some(o) = outings.get(&(*p, orig)).filter(|o| same(o, rows)) {
+                    let value = format!(
+                        "game {}, {} (first copy: game {}, {locator} {})",
+                        log.games[copy as usize], log.pitchers[*p as usize], log.games[orig as usize], log.source_line[o[0] as usize]
+                    );
+                    notes.push((value, UNDER_TWO_IDS));
+                    copies.extend(rows.iter().map(|&i| (i, notes.len() as u32 - 1)));
+                }
+            }
+        }
+        start = end;
+    }
+    if copies.is_empty() {
+        return Vec::new();
+    }
+    // A row is dropped once (its first note), and the rest kept in order.
+    copies.sort_unstable();
+    copies.dedup_by_key(|c| c.0);
+    let mut dropped = vec![false; log.len()];
+    copies.iter().for_each(|&(i, _)| dropped[i as usize] = true);
+    order.retain(|&i| !dropped[i as usize]);
+    let notes: Vec<(String, String)> = notes.into_iter().map(|(v, r)| (clip_value(&v), r.to_string())).collect();
+    let mut out: Vec<Rejected> = copies
+        .into_iter()
+        .map(|(i, n)| Rejected {
+            line: log.source_line[i as usize],
+            column: "(whole row)".to_string(),
+            value: notes[n as usize].0.clone(),
+            reason: notes[n as usize].1.clone(),
+        })
+        .collect();
+    out.sort_by_key(|r| r.line);
+    out
+}
+
 /// A parsed row of the input, in file order.
 enum Parsed<'a> {
     Blank,
@@ -947,6 +1066,7 @@ fn order_rows(log: &mut PitchLog, optional: Optional, has: impl Fn(&str) -> bool
             }
         });
     }
+    repeats.extend(drop_copied_games(log, &optional, has("pa") || has("pitch_no"), &mut order, locator));
     fn reorder<T: Copy>(v: &mut Vec<T>, order: &[u32]) {
         *v = order.iter().map(|&i| v[i as usize]).collect();
     }
