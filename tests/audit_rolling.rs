@@ -334,3 +334,38 @@ fn a_short_latest_season_is_scored_with_the_season_before_it() {
     let a = audit::run(&path, &Settings::resolve(&ConfigFile::default(), &o).unwrap(), false).unwrap();
     assert!(a.summary.pitchers.iter().find(|p| p.pitcher == "Anselm Drury").unwrap().is_ok());
 }
+
+/// One pitcher whose slider the log writes as "sweeper" from 2026 gets the
+/// rename hint in his changed-arsenal caution (`in_place_of`); one who adds
+/// a cutter, or drops a pitch alone, does not.
+#[test]
+fn a_pitch_dropped_for_one_of_its_share_reads_as_a_possible_rename() {
+    let mut text = String::from(
+        "[club]\nname = \"Hint Hollow\"\n[[season]]\nyear = 2025\ngames = 40\nstart = \"2025-04-03\"\n[[season]]\nyear = 2026\ngames = 40\nstart = \"2026-04-02\"\n[batters]\npool = 30\nleft = 0.4\nright = 0.5\nswitch = 0.1\n",
+    );
+    for (name, role, change) in [
+        ("Renn Calloway", "starter", "relabel = { slider = \"sweeper\" }"),
+        ("Tam Ostrander", "starter", "add = { cutter = 0.25 }"),
+        ("Ves Pollard", "starter", "drop = [\"changeup\"]"),
+        ("Wynn Harrow", "reliever", ""),
+    ] {
+        text += &format!("[[pitcher]]\nname = \"{name}\"\nthrows = \"R\"\nrole = \"{role}\"\nmix = {{ fastball = 50, slider = 30, changeup = 20 }}\n");
+        if !change.is_empty() {
+            text += &format!("  [[pitcher.change]]\n  season = 2026\n  {change}\n");
+        }
+    }
+    let a = audit::run(&log_of(&text, 3, "rename-hint"), &settings(0), false).unwrap();
+    let p = |name: &str| a.summary.pitchers.iter().find(|p| p.pitcher == name).unwrap();
+    let renamed = p("Renn Calloway");
+    let added = renamed.arsenal_changes.iter().find(|c| c.change == "added").expect("the sweeper reads as added");
+    assert_eq!(added.pitch_type, "sweeper");
+    assert_eq!(added.in_place_of.as_ref().map(|r| r.pitch_type.as_str()), Some("slider"));
+    assert!(renamed.cautions.iter().any(|c| c.contains("if the sweeper is his slider under a new name")), "{:?}", renamed.cautions);
+    assert!(!renamed.cautions.iter().any(|c| c.starts_with("Changed arsenal: he dropped his slider")), "told once, in the added pitch's caution");
+    for name in ["Tam Ostrander", "Ves Pollard"] {
+        let q = p(name);
+        assert!(!q.arsenal_changes.is_empty(), "{name}: a change");
+        assert!(q.arsenal_changes.iter().all(|c| c.in_place_of.is_none()), "{name}: {:?}", q.arsenal_changes);
+        assert!(!q.cautions.iter().any(|c| c.contains("under a new name")), "{name}");
+    }
+}

@@ -328,12 +328,23 @@ fn arsenal_changes(task: &PitcherTask, names: &[String], test_mix: &BTreeMap<Str
         let before = found_mix.get(t).copied().unwrap_or(0.0);
         let after = test_mix.get(t).copied().unwrap_or(0.0);
         if after >= settings.compare.new_pitch_share() && before < settings.compare.absent_share() {
-            let in_place_of = crate::domain::labels::took_the_place_of(&found_mix, test_mix, t, settings.compare.new_pitch_share())
-                .map(|(old, before, after)| ReplacedLabel { pitch_type: old.to_string(), before, after });
-            changes.push(ArsenalChange { pitch_type: t.clone(), change: "added".into(), before, after, in_place_of });
+            changes.push(ArsenalChange { pitch_type: t.clone(), change: "added".into(), before, after, in_place_of: None });
         } else if before >= settings.compare.new_pitch_share() && after < settings.compare.absent_share() {
             changes.push(ArsenalChange { pitch_type: t.clone(), change: "dropped".into(), before, after, in_place_of: None });
         }
+    }
+    // A pitch added as one of about its share (within 30%) was dropped may
+    // be that pitch under a new name. One pitcher's mix drifts between
+    // seasons, so a pitch merely giving way to a new one is not taken for
+    // it (the run's note finds partial renames across pitchers).
+    let dropped: Vec<(String, f64, f64)> =
+        changes.iter().filter(|c| c.change == "dropped").map(|c| (c.pitch_type.clone(), c.before, c.after)).collect();
+    for c in changes.iter_mut().filter(|c| c.change == "added") {
+        c.in_place_of = dropped
+            .iter()
+            .filter(|(_, b, _)| (c.after - b).abs() <= 0.3 * b)
+            .min_by(|x, y| (c.after - x.1).abs().total_cmp(&(c.after - y.1).abs()))
+            .map(|(t, before, after)| ReplacedLabel { pitch_type: t.clone(), before: *before, after: *after });
     }
     changes
 }
@@ -369,7 +380,7 @@ fn cautions_of(
                 .as_ref()
                 .map(|r| {
                     format!(
-                        " It took the place of his {old} ({:.0}% before, {:.0}% now): if the {t} is his {old} under a new name (the log writing all or some of his {old}s as \"{t}\"), merge the two with [pitch_groups] and run again.",
+                        " It came in as his {old} went out ({:.0}% before, {:.1}% now): if the {t} is his {old} under a new name (the log writing his {old}s as \"{t}\"), merge the two with [pitch_groups] and run again.",
                         100.0 * r.before,
                         100.0 * r.after,
                         old = r.pitch_type

@@ -337,9 +337,9 @@ pub struct ArsenalChange {
     pub change: String,
     pub before: f64,
     pub after: f64,
-    /// An added pitch that took the place of one of his old labels
-    /// (`domain::labels::took_the_place_of`): that label, its share before
-    /// and after. A renamed pitch looks like this; so can a real swap.
+    /// An added pitch of about the share (within 30%) of a pitch he
+    /// dropped: that pitch, its share before and after. A renamed pitch
+    /// looks like this; so can a real swap.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub in_place_of: Option<ReplacedLabel>,
 }
