@@ -54,7 +54,7 @@ fn hand<'a>(v: &'a str, col: &'static str) -> Result<Hand, Breach<'a>> {
     Hand::parse(v).ok_or_else(|| {
         // A roster's "S" (or "B") for a switch hitter says nothing of the
         // side he stood in for this plate appearance, which the factor needs.
-        let switch = col == "bats" && matches!(v.to_ascii_uppercase().as_str(), "S" | "B");
+        let switch = col == "bats" && matches!(v.to_ascii_uppercase().as_str(), "S" | "B" | "SWITCH" | "BOTH");
         // A hand written out ("Left", "RHP", "rh") names its letter.
         let spelled = match v.to_ascii_lowercase().as_str() {
             "left" | "lhp" | "lh" | "lhb" => Some('L'),
@@ -62,7 +62,7 @@ fn hand<'a>(v: &'a str, col: &'static str) -> Result<Hand, Breach<'a>> {
             _ => None,
         };
         let reason = if switch {
-            "is a switch hitter's S or B; write the side he batted from in this plate appearance, L or R".to_string()
+            "is a switch hitter's mark (S, B, switch or both); write the side he batted from in this plate appearance, L or R".to_string()
         } else if let Some(letter) = spelled {
             format!("is not L or R; write the hand as its letter ({letter})")
         } else {
@@ -408,8 +408,8 @@ mod tests {
     /// reason; other bad hands keep the plain reason.
     #[test]
     fn a_switch_hitters_letter_names_the_fix() {
-        for v in ["S", "s", "B"] {
-            assert!(parse_cell(5, v).unwrap_err().starts_with("is a switch hitter's S or B"), "{v}");
+        for v in ["S", "s", "B", "Switch", "both"] {
+            assert!(parse_cell(5, v).unwrap_err().starts_with("is a switch hitter's mark"), "{v}");
         }
         assert_eq!(parse_cell(5, "X").unwrap_err(), "is not L or R");
         assert_eq!(parse_cell(3, "S").unwrap_err(), "is not L or R", "a pitcher's hand");
