@@ -477,7 +477,6 @@ pub fn rows_left_out(path: &Path, input: &InputParams) -> Result<(Vec<Rejected>,
 }
 
 /// Read, validate and order a pitch log.
-
 pub fn load(path: &Path, input: &InputParams) -> Result<Ingested> {
     load_checked(path, input, true)
 }
@@ -748,14 +747,12 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
                 Parsed::Blank => blank += 1,
                 Parsed::Row(p) if code(13, i).and_then(|c| aside_as[c]).is_some() => {
                     let what = code(13, i).and_then(|c| aside_as[c]).unwrap_or_default();
+                    let label = clip_value(p.pitch_type);
                     aside.push(Rejected {
                         line: table.location(i),
                         column: "pitch_type".into(),
-                        value: clip_value(p.pitch_type),
-                        reason: format!(
-                            "\"{}\" is {what}, not the pitcher's choice of pitch: set aside ([set_aside] pitch_labels in the config)",
-                            clip_value(p.pitch_type)
-                        ),
+                        reason: format!("\"{label}\" is {what}, not the pitcher's choice of pitch: set aside ([set_aside] pitch_labels in the config)"),
+                        value: label,
                     });
                 }
                 Parsed::Row(p) => {
@@ -853,12 +850,12 @@ fn split_games_by_date(log: &mut PitchLog) {
 /// again under its own id in a log without `pa` and `pitch_no` (a log
 /// appended to itself). A copy repeats the outing pitch for pitch, every
 /// value of every row (batter, inning, outs, count, bases, pitch type, and
-/// the score, result, speed and location where the file has them); two real
-/// outings of at least 10 pitches never do. Under a second id, once one outing of 10 pitches or
-/// more gives the copy away, every outing of that game repeating one of the
-/// first game's is a copy too (a reliever's three pitches among them). The
-/// copy later in the file is dropped from `order` (in date, game order) and
-/// returned as rejected, so no pitch counts twice in a test.
+/// the score, result, speed and location where the file has them); two
+/// real outings of at least 10 pitches never do. Once one outing of 10
+/// pitches or more gives a copied game away, every outing of that game
+/// repeating its original is a copy too (a reliever's three pitches among
+/// them). The copy later in the file is dropped from `order` (in date, game
+/// order) and returned as rejected, so no pitch counts twice in a test.
 fn drop_copied_games(log: &PitchLog, optional: &Optional, numbered: bool, order: &mut Vec<u32>, locator: &str) -> Vec<Rejected> {
     const LONG: usize = 10;
     const TWICE_IN_GAME: &str = "repeats, pitch for pitch, the pitcher's earlier pitches in this game (every value of each row): the game's rows are logged twice; remove the copy";
