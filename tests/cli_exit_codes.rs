@@ -369,6 +369,49 @@ fn an_unusable_log_still_keeps_its_rejected_rows() {
     assert!(std::fs::read_to_string(out.join("index.html")).unwrap().contains("No comparison was possible"));
 }
 
+/// Rows set aside as not the pitcher's choice go to set_aside.csv, in an
+/// audit's report and a comparison's, and when nothing else is left the
+/// run fails (exit 3) keeping them there; `check` lists them apart from
+/// the rejected rows and exits 0.
+#[test]
+fn rows_set_aside_are_kept_in_set_aside_csv() {
+    let dir = scratch("set-aside");
+    let mut text = std::fs::read_to_string(fixture("logs/good.csv")).unwrap();
+    let first = text.lines().nth(1).unwrap().to_string();
+    let header = text.lines().next().unwrap().to_string();
+    let pt = header.split(',').position(|h| h == "pitch_type").unwrap();
+    let with = |label: &str| first.split(',').enumerate().map(|(i, v)| if i == pt { label } else { v }).collect::<Vec<_>>().join(",");
+    text += &format!("{}\n{}\n", with("PO"), with("Intentional Ball"));
+    let n_lines = text.lines().count() as u64;
+    let log = dir.join("with-pitchouts.csv");
+    std::fs::write(&log, &text).unwrap();
+
+    let o = check(&log, &["--strict"]);
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    assert_eq!(value_of(&stdout(&o), "rows rejected"), "0");
+    assert!(value_of(&stdout(&o), "rows set aside").starts_with("2 (not the pitcher's choice of pitch)"), "{}", stdout(&o));
+
+    for (cmd, extra) in [("audit", vec!["--permutations", "0"]), ("compare", vec!["--before", "2025", "--after", "2026", "--permutations", "0"])] {
+        let out = dir.join(cmd);
+        let mut args = vec![cmd, log.to_str().unwrap(), "--out", out.to_str().unwrap()];
+        args.extend(extra);
+        let o = run(&args);
+        let aside = std::fs::read_to_string(out.join("set_aside.csv")).unwrap_or_else(|e| panic!("{cmd}: {e}; {}", stderr(&o)));
+        let lines: Vec<&str> = aside.lines().collect();
+        assert_eq!(lines[0], "line,column,value,reason", "{cmd}");
+        assert!(lines[1].starts_with(&format!("{},pitch_type,PO,", n_lines - 1)) && lines[2].starts_with(&format!("{n_lines},pitch_type,Intentional Ball,")), "{cmd}: {aside}");
+    }
+
+    let all = dir.join("all-aside.csv");
+    std::fs::write(&all, format!("{header}\n{}\n{}\n", with("PO"), with("UN"))).unwrap();
+    let out = dir.join("failed");
+    let o = run(&["audit", all.to_str().unwrap(), "--out", out.to_str().unwrap()]);
+    assert_eq!(code(&o), 3, "{}", stderr(&o));
+    assert!(stderr(&o).contains("set aside"), "{}", stderr(&o));
+    assert_eq!(std::fs::read_to_string(out.join("set_aside.csv")).unwrap().lines().count(), 3);
+    std::fs::remove_dir_all(&dir).ok();
+}
+
 /// A setting's error names the config file and the key, and NaN is no
 /// number a setting accepts (exit 2).
 #[test]
