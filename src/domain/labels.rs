@@ -1,7 +1,7 @@
 //! Pitch labels that do not name a pitch the pitcher chose: pitchouts and
-//! intentional balls (the bench's call), automatic balls and strikes (a
-//! clock or rule violation, no pitch thrown) and unknown types (the
-//! tracking could not tell). A model that learns them learns the manager's
+//! intentional balls (the bench's call), pickoff throws (not a pitch),
+//! automatic balls and strikes (a clock or rule violation, no pitch thrown)
+//! and unknown types (the tracking could not tell). A model that learns them learns the manager's
 //! decisions and the tracker's gaps, and reads them as tells: a run's
 //! labels matching [`NOT_CHOSEN`] (by [`loose_name`]) are set aside by
 //! default (`[set_aside] pitch_labels`). The spellings are common practice
@@ -16,6 +16,7 @@ pub fn loose_name(name: &str) -> String {
 
 const PITCHOUT: &str = "a pitchout";
 const INTENTIONAL: &str = "an intentional ball";
+const PICKOFF: &str = "a pickoff throw";
 const AUTO_BALL: &str = "an automatic ball (a clock or rule violation, no pitch thrown)";
 const AUTO_STRIKE: &str = "an automatic strike (a clock or rule violation, no pitch thrown)";
 const UNKNOWN: &str = "an unknown pitch type";
@@ -29,6 +30,9 @@ pub const NOT_CHOSEN: &[(&str, &str)] = &[
     ("intentional", INTENTIONAL),
     ("IN", INTENTIONAL),
     ("IB", INTENTIONAL),
+    ("pickoff", PICKOFF),
+    ("pickoff attempt", PICKOFF),
+    ("PK", PICKOFF),
     ("automatic ball", AUTO_BALL),
     ("AB", AUTO_BALL),
     ("automatic strike", AUTO_STRIKE),
@@ -117,6 +121,7 @@ mod tests {
         assert_eq!(what_it_is("PITCHOUT"), Some(PITCHOUT));
         assert_eq!(what_it_is("Intentional Ball"), Some(INTENTIONAL));
         assert_eq!(what_it_is("n/a"), Some(UNKNOWN));
+        assert_eq!(what_it_is("Pick-off"), Some(PICKOFF));
         assert_eq!(what_it_is("--"), Some(UNKNOWN), "punctuation only is unknown");
         assert_eq!(what_it_is("slider"), None);
         assert_eq!(what_it_is("FF"), None);
