@@ -1017,3 +1017,17 @@ fn a_game_logged_twice_counts_once() {
     assert!(ing.rejected.iter().all(|r| r.line > body.len() as u64 + 1 && r.reason.contains("the game's rows are logged twice")));
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A log without a season column whose games run across 1 January (a
+/// winter league) is told that the calendar year cuts its season in two;
+/// a summer league's log, whose seasons are apart, is not.
+#[test]
+fn a_season_across_the_new_year_is_noted() {
+    let dir = scratch("winter");
+    let winter = pitches(&[("W1", "2025-12-20", "Wren Alder", "fastball"), ("W2", "2026-01-10", "Wren Alder", "slider")]);
+    let note = load(&write(&dir, "winter.csv", &winter)).log.season_across_new_year().expect("a note");
+    assert!(note.contains("(2025-12-20 to 2026-01-10)") && note.contains("add a season column"), "{note}");
+    let summer = pitches(&[("S1", "2025-09-28", "Wren Alder", "fastball"), ("S2", "2026-03-27", "Wren Alder", "slider")]);
+    assert_eq!(load(&write(&dir, "summer.csv", &summer)).log.season_across_new_year(), None);
+    std::fs::remove_dir_all(&dir).ok();
+}

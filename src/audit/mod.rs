@@ -159,6 +159,9 @@ pub fn input_notes(log: &ingest::PitchLog, sit: &Situations, source: &ingest::So
     for n in sit.notes.iter().chain(&log.near_duplicate_names()).chain(&log.names_on_two_clubs_in_a_day()).chain(&log.renamed_labels()) {
         notes.push(format!("Note: {n}."));
     }
+    if let Some(n) = source.optional_missing.iter().any(|c| c == "season").then(|| log.season_across_new_year()).flatten() {
+        notes.push(format!("Note: {n}."));
+    }
     for a in &source.optional_set_aside {
         let cols: Vec<String> = a.columns.iter().map(|c| format!("`{c}`")).collect();
         notes.push(format!(

@@ -95,6 +95,9 @@ pub fn run(args: Args) -> Result<()> {
     for a in &src.optional_set_aside {
         println!("  optional columns set aside: {} ({})", a.columns.join(", "), a.reason);
     }
+    if let Some(n) = src.optional_missing.iter().any(|c| c == "season").then(|| log.season_across_new_year()).flatten() {
+        println!("  note: {n}");
+    }
     let sit = situations::build(log);
     for (f, why) in &sit.dropped {
         println!("  note: factor {f} is not available: {why}");

@@ -310,6 +310,31 @@ impl PitchLog {
 }
 
 impl PitchLog {
+    /// A note for a log without a `season` column whose games run across
+    /// the turn of a year (a winter league's season, November to February):
+    /// seasons then default to the calendar year, which cuts that season in
+    /// two. Play on both sides of a 1 January within 30 days of it says so.
+    /// One sentence without a final stop, or `None`.
+    pub fn season_across_new_year(&self) -> Option<String> {
+        let dates: BTreeSet<i32> = self.date.iter().copied().collect();
+        let crossed: Vec<i32> = self
+            .seasons()
+            .windows(2)
+            .filter(|w| w[1] == w[0] + 1)
+            .map(|w| w[1])
+            .filter(|&y| {
+                let new_year = parse::days_from_civil(y, 1, 1);
+                dates.range(new_year - 30..new_year).next().is_some() && dates.range(new_year..new_year + 30).next().is_some()
+            })
+            .collect();
+        let y = *crossed.first()?;
+        Some(format!(
+            "the log has no season column and its games run across the turn of the year ({} to {}): seasons default to the calendar year, which cuts a season played over the winter in two; add a season column (its year for every game of it) and run again",
+            parse::format_date(*dates.range(..parse::days_from_civil(y, 1, 1)).next_back()?),
+            parse::format_date(*dates.range(parse::days_from_civil(y, 1, 1)..).next()?)
+        ))
+    }
+
     /// A note on pitch labels the log seems to rename between two seasons:
     /// at least three pitchers (of at least 100 pitches in both) who threw
     /// none of a label in one season (under 1%) throw it on at least 5% of
