@@ -126,13 +126,13 @@ fn every_breach_is_one_rejected_row_with_its_line_and_column() {
     let ing = load(&fixture("bad_rows.csv"));
     let want: Vec<(u64, &str, &str)> = BAD_LINES.to_vec();
     let got: Vec<(u64, &str, &str)> =
-        ing.rejected.iter().map(|r| (r.line, r.column.as_str(), r.value.as_str())).collect();
+        ing.rejected.iter().map(|r| (r.line, r.column.as_ref(), r.value.as_str())).collect();
     assert_eq!(got, want, "one Rejected per bad line, in file order, naming the contract column");
     for r in &ing.rejected {
         assert!(!r.reason.trim().is_empty(), "line {} has a reason", r.line);
     }
     // The same breach gets the same reason, so reasons group.
-    let balls: Vec<&str> = ing.rejected.iter().filter(|r| r.column == "balls").map(|r| r.reason.as_str()).collect();
+    let balls: Vec<&str> = ing.rejected.iter().filter(|r| r.column == "balls").map(|r| r.reason.as_ref()).collect();
     assert_eq!(balls.len(), 2);
     assert_eq!(balls[0], balls[1]);
     assert_eq!(ing.source.rows_read, 20);
@@ -345,7 +345,7 @@ fn a_rejected_parquet_row_is_located_by_its_row_index() {
     assert_eq!(ing.rejected.len(), 1);
     let r = &ing.rejected[0];
     // The 0-based row index, as documented on `Rejected::line`.
-    assert_eq!((r.line, r.column.as_str(), r.value.as_str()), (5, "balls", "4"));
+    assert_eq!((r.line, r.column.as_ref(), r.value.as_str()), (5, "balls", "4"));
     std::fs::remove_dir_all(&dir).ok();
 }
 
@@ -492,7 +492,7 @@ fn control_characters_long_names_and_far_years_are_rejected_with_their_line() {
     );
     let ing = load(&write(&dir, "hostile.csv", &text));
     assert_eq!(ing.log.len(), 1);
-    let r: Vec<(u64, &str, &str)> = ing.rejected.iter().map(|r| (r.line, r.column.as_str(), r.reason.as_str())).collect();
+    let r: Vec<(u64, &str, &str)> = ing.rejected.iter().map(|r| (r.line, r.column.as_ref(), r.reason.as_ref())).collect();
     assert_eq!(r.len(), 3, "{r:?}");
     assert!(r.iter().any(|(l, c, why)| *l == 3 && *c == "pitcher" && why.contains("control character")), "{r:?}");
     assert!(r.iter().any(|(l, c, why)| *l == 4 && *c == "pitcher" && why.contains("longer than")), "{r:?}");
@@ -545,7 +545,7 @@ fn rows_with_too_few_or_too_many_fields_are_rejected_with_their_line() {
     );
     let ing = load(&write(&dir, "ragged.csv", &text));
     assert_eq!(ing.log.len(), 2);
-    let r: Vec<(u64, &str)> = ing.rejected.iter().map(|r| (r.line, r.reason.as_str())).collect();
+    let r: Vec<(u64, &str)> = ing.rejected.iter().map(|r| (r.line, r.reason.as_ref())).collect();
     assert_eq!(r.len(), 2, "{r:?}");
     assert!(r[0].0 == 3 && r[0].1.contains("13 fields where the header has 14"), "{r:?}");
     assert!(r[1].0 == 4 && r[1].1.contains("15 fields where the header has 14"), "{r:?}");
@@ -911,7 +911,7 @@ fn labels_that_are_not_his_choice_are_set_aside_with_their_lines() {
     assert_eq!(ingest::load(&only_aside, &none.input).unwrap().source.rows_set_aside, 0);
     let own = with_config("[set_aside]\npitch_labels = [\"EP\", \"pitchout\"]\n");
     let ing = ingest::load(&only_aside, &own.input).unwrap();
-    let reasons: Vec<&str> = ing.set_aside.iter().map(|r| r.reason.as_str()).collect();
+    let reasons: Vec<&str> = ing.set_aside.iter().map(|r| r.reason.as_ref()).collect();
     assert_eq!(reasons.len(), 2, "{reasons:?}");
     assert!(reasons[0].contains("\"pitch-out\" is a pitchout"), "{reasons:?}");
     assert!(reasons[1].contains("\"EP\" is a label listed in [set_aside] pitch_labels, not the pitcher's choice"), "{reasons:?}");

@@ -23,9 +23,12 @@ use std::path::{Path, PathBuf};
 pub struct Rejected {
     /// 1-based CSV line (header = line 1) or 0-based Parquet row index.
     pub line: u64,
-    pub column: String,
+    /// A contract column, or `(whole row)` (never allocated per row).
+    pub column: std::borrow::Cow<'static, str>,
     pub value: String,
-    pub reason: String,
+    /// Why; a fixed reason is shared, not copied per row (a log of
+    /// millions of copied rows keeps millions of these).
+    pub reason: std::borrow::Cow<'static, str>,
 }
 
 /// A rejected value as kept in rejected.csv: whole up to 200 characters,
@@ -776,7 +779,7 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
                     aside.push(Rejected {
                         line: table.location(i),
                         column: "pitch_type".into(),
-                        reason: format!("\"{label}\" is {what}, not the pitcher's choice of pitch: set aside ([set_aside] pitch_labels in the config)"),
+                        reason: format!("\"{label}\" is {what}, not the pitcher's choice of pitch: set aside ([set_aside] pitch_labels in the config)").into(),
                         value: label,
                     });
                 }
@@ -821,11 +824,11 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
                 }
                 Parsed::Breach((column, value, reason)) => rejected.push(Rejected {
                     line: table.location(i),
-                    column: column.to_string(),
+                    column: column.into(),
                     // A rejected value is kept, but an absurdly long one only
                     // in part (with its length), so rejected.csv stays small.
                     value: clip_value(value.unwrap_or("")),
-                    reason,
+                    reason: reason.into(),
                 }),
             }
         }
@@ -897,7 +900,7 @@ fn drop_copied_games(log: &PitchLog, optional: &Optional, numbered: bool, order:
     let same = |a: &[u32], b: &[u32]| a.len() == b.len() && a.iter().zip(b).all(|(&x, &y)| pitch(x) == pitch(y));
     // Each copied row with its note: which outing it copies, and how.
     let mut copies: Vec<(u32, u32)> = Vec::new();
-    let mut notes: Vec<(String, &str)> = Vec::new();
+    let mut notes: Vec<(String, &'static str)> = Vec::new();
     let mut start = 0;
     while start < order.len() {
         let date = log.date[order[start] as usize];
@@ -974,14 +977,14 @@ fn drop_copied_games(log: &PitchLog, optional: &Optional, numbered: bool, order:
     let mut dropped = vec![false; log.len()];
     copies.iter().for_each(|&(i, _)| dropped[i as usize] = true);
     order.retain(|&i| !dropped[i as usize]);
-    let notes: Vec<(String, String)> = notes.into_iter().map(|(v, r)| (clip_value(&v), r.to_string())).collect();
+    let notes: Vec<(String, &'static str)> = notes.into_iter().map(|(v, r)| (clip_value(&v), r)).collect();
     let mut out: Vec<Rejected> = copies
         .into_iter()
         .map(|(i, n)| Rejected {
             line: log.source_line[i as usize],
-            column: "(whole row)".to_string(),
+            column: "(whole row)".into(),
             value: notes[n as usize].0.clone(),
-            reason: notes[n as usize].1.clone(),
+            reason: notes[n as usize].1.into(),
         })
         .collect();
     out.sort_by_key(|r| r.line);
@@ -1075,9 +1078,9 @@ fn order_rows(log: &mut PitchLog, optional: Optional, has: impl Fn(&str) -> bool
                     let (game, pa, no) = (&log.games[log.game[i as usize] as usize], optional.pa[i as usize], optional.pitch_no[i as usize]);
                     repeats.push(Rejected {
                         line: log.source_line[i as usize],
-                        column: "(whole row)".to_string(),
+                        column: "(whole row)".into(),
                         value: clip_value(&format!("game {game}, pa {pa}, pitch_no {no} (first at {locator} {})", log.source_line[f as usize])),
-                        reason: "repeats an earlier row's pitch: the same game, pa, pitch_no, pitcher, batter, count, outs and pitch type (a pitch logged twice); remove the copy".to_string(),
+                        reason: "repeats an earlier row's pitch: the same game, pa, pitch_no, pitcher, batter, count, outs and pitch type (a pitch logged twice); remove the copy".into(),
                     });
                     false
                 }

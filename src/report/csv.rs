@@ -195,9 +195,9 @@ pub fn outcomes_csv(rows: &[crate::outcomes::SituationOutcomes]) -> Result<Vec<u
 pub fn rejected_csv(rejected: &[Rejected]) -> Result<Vec<u8>> {
     Table::default()
         .u64("line", rejected.iter().map(|r| r.line).collect())
-        .str("column", rejected.iter().map(|r| r.column.clone()).collect())
+        .str("column", rejected.iter().map(|r| r.column.to_string()).collect())
         .str("value", rejected.iter().map(|r| r.value.clone()).collect())
-        .str("reason", rejected.iter().map(|r| r.reason.clone()).collect())
+        .str("reason", rejected.iter().map(|r| r.reason.to_string()).collect())
         .to_csv(rejected.len())
 }
 
