@@ -369,3 +369,28 @@ fn a_pitch_dropped_for_one_of_its_share_reads_as_a_possible_rename() {
         assert!(!q.cautions.iter().any(|c| c.contains("under a new name")), "{name}");
     }
 }
+
+/// A former member of the staff (his latest season older than the log's)
+/// is scored on his own last season and marked so: a caution in his
+/// section and a run note naming exactly those pitchers, counted by hand
+/// from `pitches_by_season`.
+#[test]
+fn pitchers_gone_before_the_latest_season_are_marked() {
+    let a = audit::run(&root().join("demo-data/demo-log.csv"), &settings(9), false).unwrap();
+    let latest = *a.summary.input.seasons.last().unwrap();
+    let gone: Vec<&str> = a
+        .summary
+        .pitchers
+        .iter()
+        .filter(|p| p.is_ok() && *p.pitches_by_season.keys().next_back().unwrap() < latest)
+        .map(|p| p.pitcher.as_str())
+        .collect();
+    assert!(!gone.is_empty(), "the demo has pitchers who left after 2025");
+    for p in a.summary.pitchers.iter().filter(|p| p.is_ok()) {
+        let marked = p.cautions.iter().any(|c| c.starts_with(&format!("He last pitched in {} in this log, which runs to {latest}", latest - 1)));
+        assert_eq!(marked, gone.contains(&p.pitcher.as_str()), "{}: {:?}", p.pitcher, p.cautions);
+    }
+    let note = a.summary.notes.iter().find(|n| n.contains("last pitched before")).expect("a run note");
+    assert!(note.starts_with(&format!("{} of the pitchers with figures last pitched before {latest}", gone.len())), "{note}");
+    assert!(gone.iter().all(|g| note.contains(g)), "{note}");
+}

@@ -278,6 +278,12 @@ pub fn audit_log(
     show_progress: bool,
 ) -> Result<Audit> {
     let chosen = selected_pitchers(log, settings)?;
+    // Each pitcher scored on his own latest season: the log's latest, for
+    // telling former members of a staff apart.
+    let latest = match scheme {
+        Evaluation::Rolling { .. } => log.season.iter().copied().max(),
+        Evaluation::SeasonForward(_) => None,
+    };
     let staff = Staff::plan(log, sit, scheme, &chosen, settings);
     let ok_tasks: Vec<&PitcherTask> = staff.tasks.iter().filter(|t| enough(t, settings)).collect();
     let tested = Tested::run(log, sit, &staff.discovery, &ok_tasks, settings, show_progress);
@@ -297,7 +303,7 @@ pub fn audit_log(
     let mut outcomes = Vec::new();
     let mut audited = 0usize;
     for task in &staff.tasks {
-        let about = pitcher::About::of(log, task, &staff.all_rows_of[task.pitcher as usize], settings);
+        let about = pitcher::About::of(log, task, &staff.all_rows_of[task.pitcher as usize], latest, settings);
         let result = if enough(task, settings) {
             audited += 1;
             pitcher::scored(&run, task, about, audited - 1)
@@ -312,6 +318,7 @@ pub fn audit_log(
     let mut notes = run_notes(log, sit, &source, &chosen, tested.location.missing, settings);
     notes.extend(unresolved_notes(&tested, &ok_tasks, settings));
     notes.extend(older_seasons_note(&pitchers, settings));
+    notes.extend(gone_note(&pitchers, latest));
     let staff_called = crate::outcomes::staff_called(&pitchers.iter().filter_map(|p| p.called_outcomes.as_ref()).collect::<Vec<_>>());
     let yardstick = if club_count(log).unwrap_or(0) > 1 { "league" } else { "staff" };
     drop(run);
@@ -333,6 +340,26 @@ pub fn audit_log(
 
 /// On a log of more seasons than the models learn from, how many of the
 /// run's pitchers have older seasons left out ([`split::recent_rows`]).
+/// A note on the pitchers scored on a season before the log's latest
+/// (former members of a staff, in a club's log of several seasons): who
+/// they are, so the staff table is not read as today's staff.
+fn gone_note(pitchers: &[PitcherSummary], latest: Option<i32>) -> Option<String> {
+    let latest = latest?;
+    let gone: Vec<&str> = pitchers
+        .iter()
+        .filter(|p| p.is_ok() && p.pitches_by_season.keys().next_back().is_some_and(|&s| s < latest))
+        .map(|p| p.pitcher.as_str())
+        .collect();
+    if gone.is_empty() {
+        return None;
+    }
+    let shown = if gone.len() > 5 { format!("{} and {} more", gone[..5].join(", "), gone.len() - 5) } else { gone.join(", ") };
+    Some(format!(
+        "{} of the pitchers with figures last pitched before {latest}, the log's latest season ({shown}): each is scored on his own latest season, so his figures describe him then, not a pitcher on today's staff.",
+        crate::domain::numbers::fmt_n(gone.len())
+    ))
+}
+
 fn older_seasons_note(pitchers: &[PitcherSummary], settings: &Settings) -> Option<String> {
     use crate::domain::numbers::fmt_n;
     let older: Vec<_> = pitchers.iter().filter_map(|p| p.evaluation.older_left_out.as_ref()).collect();

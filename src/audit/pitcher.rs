@@ -26,12 +26,15 @@ pub(super) struct About {
     team_caution: Option<String>,
     /// When the log lists him with both throwing hands, in words.
     hand_caution: Option<String>,
+    /// When his latest season is older than the log's, in words.
+    gone_caution: Option<String>,
 }
 
 impl About {
     /// `all_rows`: every row of his in the log (the task's rows leave out
-    /// seasons older than the models learn from).
-    pub(super) fn of(log: &PitchLog, task: &PitcherTask, all_rows: &[u32], settings: &Settings) -> About {
+    /// seasons older than the models learn from); `latest`: the log's
+    /// latest season, when each pitcher is scored on his own latest one.
+    pub(super) fn of(log: &PitchLog, task: &PitcherTask, all_rows: &[u32], latest: Option<i32>, settings: &Settings) -> About {
         // His usual hand; a pitcher listed with both hands is said so.
         let tally = HandTally::of(task.rows.iter().map(|&r| log.throws[r as usize])).expect("a task has rows");
         let usual = tally.usual();
@@ -58,7 +61,16 @@ impl About {
                 format!("{w} All of them are used here, since they are all his habits; how he pitched for another club may differ from how he pitches for this one.")
             })
         });
-        About { throws, hand: usual, pitches_by_season, pitches_by_team, team_caution, hand_caution }
+        // A pitcher gone from the log before its latest season (a former
+        // member of the staff) is scored on his own last season.
+        let his_latest = pitches_by_season.keys().next_back().copied();
+        let gone_caution = match (his_latest, latest) {
+            (Some(his), Some(latest)) if his < latest => Some(format!(
+                "He last pitched in {his} in this log, which runs to {latest}: his figures describe him then, and a hitter facing him now may see a different pitcher."
+            )),
+            _ => None,
+        };
+        About { throws, hand: usual, pitches_by_season, pitches_by_team, team_caution, hand_caution, gone_caution }
     }
 }
 
@@ -226,7 +238,7 @@ pub(super) fn scored(run: &Run, task: &PitcherTask, about: About, at: usize) -> 
     let counts = count_summaries(task, o, his, names, settings);
     let (margin, lift_margin) = margins(task, o);
     let arsenal_changes = arsenal_changes(task, names, &test_mix, settings);
-    let mut cautions: Vec<String> = about.team_caution.iter().chain(&about.hand_caution).cloned().collect();
+    let mut cautions: Vec<String> = about.gone_caution.iter().chain(&about.team_caution).chain(&about.hand_caution).cloned().collect();
     cautions.extend(cautions_of(task, o, margin, &mix, &test_mix, &arsenal_changes));
     let rules = wording::rules(task, &o.scored, names);
     let headline = headline(&sheet_cells, &flagged, &task.evaluation.tells_checked_on);

@@ -85,6 +85,9 @@ struct PitcherView {
     layers_text: String,
     beyond_significant: bool,
     anchor: String,
+    /// His latest season, when it is older than the log's (a former member
+    /// of the staff, scored on his own last season).
+    last_pitched: Option<i32>,
     throws: String,
     n_train: usize,
     n_test: usize,
@@ -175,6 +178,14 @@ fn location_text(p: &crate::audit::summary::PitcherSummary, fdr: f64) -> String 
 }
 
 /// One audited pitcher's section of the page.
+/// His latest season when it is older than the log's latest, under the
+/// rolling scheme (each pitcher on his own latest season).
+pub(super) fn last_pitched(p: &PitcherSummary, summary: &Summary) -> Option<i32> {
+    let his = *p.pitches_by_season.keys().next_back()?;
+    let latest = *summary.input.seasons.last()?;
+    (summary.evaluation.scheme == "rolling" && his < latest).then_some(his)
+}
+
 fn pitcher_view(
     p: &PitcherSummary,
     summary: &Summary,
@@ -236,6 +247,7 @@ fn pitcher_view(
         layers_text,
         beyond_significant: p.beyond_significant.unwrap_or(false),
         anchor: stems.get(&p.pitcher).cloned().unwrap_or_default(),
+        last_pitched: last_pitched(p, summary),
         throws: p.throws.clone(),
         n_train: p.n_train,
         n_test: p.n_test,

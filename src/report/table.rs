@@ -58,7 +58,7 @@ impl Exporter<Audit> for Table<'_> {
             let g = |x: Option<f64>| x.unwrap_or(0.0);
             let name: String = p.pitcher.chars().take(22).collect();
             let line = format!(
-                "{:<22} {:>6} {:>6} {:>6.1}% {:>6.1}% {:>7} {:>+7.3} {:>7} {:>6} {:>6}{}{}",
+                "{:<22} {:>6} {:>6} {:>6.1}% {:>6.1}% {:>7} {:>+7.3} {:>7} {:>6} {:>6}{}{}{}",
                 name,
                 p.n_train,
                 p.n_test,
@@ -70,7 +70,8 @@ impl Exporter<Audit> for Table<'_> {
                 p.tells.iter().filter(|t| t.within.is_none()).count(),
                 if p.location.is_some() { p.location_tells.len().to_string() } else { "-".to_string() },
                 if p.significant == Some(true) { "  *" } else { "   " },
-                if p.location.as_ref().is_some_and(|l| l.significant) { " +" } else { "" }
+                if p.location.as_ref().is_some_and(|l| l.significant) { " +" } else { "  " },
+                super::html::last_pitched(p, s).map(|y| format!("  last pitched {y}")).unwrap_or_default()
             );
             o.push(line.trim_end().to_string());
         }
