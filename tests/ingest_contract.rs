@@ -1031,3 +1031,72 @@ fn a_season_across_the_new_year_is_noted() {
     assert_eq!(load(&write(&dir, "summer.csv", &summer)).log.season_across_new_year(), None);
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// `pa` numbered per team (both clubs' pitchers in one game) or per
+/// inning repeats its numbers within a game: ordered by it, the halves and
+/// innings would interleave (and per inning, a leadoff batter's first pitch
+/// in two innings read as one pitch logged twice). Such a game keeps its
+/// file order, with a note, and reads exactly as the same game numbered
+/// through: the same rows in the same order, the same situations.
+#[test]
+fn pa_numbered_per_team_or_per_inning_keeps_the_game_in_order() {
+    let dir = scratch("pa-numbering");
+    let demo = std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/plain-staff/demo-log.csv")).unwrap();
+    let lines: Vec<&str> = demo.lines().collect();
+    let header: Vec<&str> = lines[0].split(',').collect();
+    let col = |n: &str| header.iter().position(|h| *h == n).unwrap();
+    let (gi, di, ti, pi, ii, pti) = (col("game"), col("date"), col("team"), col("pa"), col("inning"), col("pitcher"));
+    let rows: Vec<Vec<String>> = lines[1..].iter().map(|l| l.split(',').map(str::to_string).collect()).collect();
+    // Two games on other dates become the other club's half of two games:
+    // the same id and date, another club and other pitchers, after them in
+    // the file.
+    let mut games: Vec<String> = rows.iter().map(|r| r[gi].clone()).collect();
+    games.dedup();
+    let (home, away) = (&games[..2], &games[2..4]);
+    let mut ours: Vec<Vec<String>> = rows.iter().filter(|r| home.contains(&r[gi])).cloned().collect();
+    for (h, a) in home.iter().zip(away) {
+        let date = rows.iter().find(|r| &r[gi] == h).unwrap()[di].clone();
+        for r in rows.iter().filter(|r| &r[gi] == a) {
+            let mut r = r.clone();
+            r[gi] = h.clone();
+            r[di] = date.clone();
+            r[ti] = "Quarry Town Owls".into();
+            r[pti] = format!("Owl {}", r[pti]);
+            ours.push(r);
+        }
+    }
+    // pa through the game (the other club's after), per team, per inning.
+    let renumber = |how: &dyn Fn(&Vec<String>) -> (String, String)| -> String {
+        let mut next: std::collections::HashMap<(String, String), u32> = Default::default();
+        let mut seen: std::collections::HashMap<(String, String, String), u32> = Default::default();
+        let mut text = lines[0].to_string() + "\n";
+        for r in &ours {
+            let (scope, tag) = how(r);
+            let n = *seen.entry((r[gi].clone(), tag.clone(), r[pi].clone())).or_insert_with(|| {
+                let c = next.entry((r[gi].clone(), scope)).or_insert(0);
+                *c += 1;
+                *c
+            });
+            let mut r = r.clone();
+            r[pi] = n.to_string();
+            text += &(r.join(",") + "\n");
+        }
+        text
+    };
+    let through = load(&write(&dir, "through.csv", &renumber(&|r| (String::new(), r[ti].clone()))));
+    let per_team = load(&write(&dir, "per-team.csv", &renumber(&|r| (r[ti].clone(), r[ti].clone()))));
+    let per_inning = load(&write(&dir, "per-inning.csv", &renumber(&|r| (format!("{} {}", r[ti], r[ii]), r[ti].clone()))));
+    assert!(through.log.pa_numbering.is_none());
+    let base = tellscope::situations::build(&through.log);
+    for (what, ing) in [("per team", &per_team), ("per inning", &per_inning)] {
+        let note = ing.log.pa_numbering.as_deref().unwrap_or_else(|| panic!("{what}: no note"));
+        assert!(note.starts_with("in 2 of the 2 games, `pa` numbers hold pitches of two innings or two clubs"), "{what}: {note}");
+        assert!(ing.rejected.is_empty(), "{what}: {:?}", ing.rejected.first());
+        assert_eq!(ing.log.source_line, through.log.source_line, "{what}: the same rows in the same order");
+        let sit = tellscope::situations::build(&ing.log);
+        for (a, b) in base.factors.iter().zip(&sit.factors) {
+            assert!(a.codes == b.codes, "{what}: factor {} differs", a.factor);
+        }
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -156,7 +156,7 @@ pub fn input_notes(log: &ingest::PitchLog, sit: &Situations, source: &ingest::So
     for (f, why) in &sit.dropped {
         notes.push(format!("The {f} factor is {left_out}: {why}."));
     }
-    for n in sit.notes.iter().chain(&log.near_duplicate_names()).chain(&log.names_on_two_clubs_in_a_day()).chain(&log.renamed_labels()) {
+    for n in sit.notes.iter().chain(&log.near_duplicate_names()).chain(&log.names_on_two_clubs_in_a_day()).chain(&log.renamed_labels()).chain(&log.pa_numbering) {
         notes.push(format!("Note: {n}."));
     }
     if let Some(n) = source.optional_missing.iter().any(|c| c == "season").then(|| log.season_across_new_year()).flatten() {

@@ -102,7 +102,7 @@ pub fn run(args: Args) -> Result<()> {
     for (f, why) in &sit.dropped {
         println!("  note: factor {f} is not available: {why}");
     }
-    for n in sit.notes.iter().chain(&log.near_duplicate_names()).chain(&log.names_on_two_clubs_in_a_day()).chain(&log.renamed_labels()) {
+    for n in sit.notes.iter().chain(&log.near_duplicate_names()).chain(&log.names_on_two_clubs_in_a_day()).chain(&log.renamed_labels()).chain(&log.pa_numbering) {
         println!("  note: {n}");
     }
     // More seasons than the audit's models learn from.

@@ -15,7 +15,7 @@ use parse::*;
 use read::{Format, RawTable};
 use serde::Serialize;
 use sha2::{Digest, Sha256};
-use std::collections::{BTreeMap, BTreeSet, HashMap};
+use std::collections::{BTreeMap, BTreeSet, HashMap, HashSet};
 use std::path::{Path, PathBuf};
 
 /// One rejected input row: where, which column, the value and why.
@@ -127,6 +127,10 @@ pub struct PitchLog {
     pub loc_side_ft: Option<Vec<Option<f32>>>,
     pub loc_height_ft: Option<Vec<Option<f32>>>,
     pub team: Option<Vec<Option<u32>>>,
+    /// When `pa` is not numbered through the game (per team, per inning),
+    /// why, in words: the rows were then kept in file order within each
+    /// game.
+    pub pa_numbering: Option<String>,
 }
 
 /// The rows a run leaves out: those breaking the contract, and those set
@@ -252,12 +256,13 @@ impl PitchLog {
     /// 3 outs, rejected.
     pub fn outs_after_the_pitch(&self) -> Option<String> {
         let pa = self.pa.as_ref()?;
-        // A plate appearance is (game, pa, pitcher): a log numbering plate
-        // appearances per team holds two of each number in a game, the
-        // two clubs' pitchers'. Per one: its first outs, pitches, changed.
-        let mut seen: HashMap<(u32, u32, u32), (u8, u32, bool)> = HashMap::new();
+        // A plate appearance is (game, pa, pitcher, inning): a log numbering
+        // plate appearances per team holds two of each number in a game, the
+        // two clubs' pitchers', and one numbering them per inning one in
+        // every inning. Per one: its first outs, pitches, changed.
+        let mut seen: HashMap<(u32, u32, u32, u16), (u8, u32, bool)> = HashMap::new();
         for r in 0..self.len() {
-            let e = seen.entry((self.game[r], pa[r], self.pitcher[r])).or_insert((self.outs[r], 0, false));
+            let e = seen.entry((self.game[r], pa[r], self.pitcher[r], self.inning[r])).or_insert((self.outs[r], 0, false));
             e.1 += 1;
             e.2 |= e.0 != self.outs[r];
         }
@@ -872,6 +877,38 @@ fn split_games_by_date(log: &mut PitchLog) {
     }
 }
 
+/// The games (date, game) whose `pa` is not numbered through the game, and
+/// a note on them: a plate appearance lies in one inning and is pitched to
+/// by one club, so a number whose rows span two innings, or two clubs with
+/// a `team` column, is a number used again (per team, per inning). A game
+/// with a tenth of its numbers so, and at least two, is taken as numbered
+/// that way; numbered through the game, a plate appearance spans two
+/// innings only when the third out falls on the bases during it.
+fn pa_not_through_the_game(log: &PitchLog, optional: &Optional) -> (HashSet<(i32, u32)>, Option<String>) {
+    let mut first: HashMap<(i32, u32, u32), (u16, Option<u32>, bool)> = HashMap::new();
+    for i in 0..log.len() {
+        let team = optional.team.get(i).copied().flatten();
+        let e = first.entry((log.date[i], log.game[i], optional.pa[i])).or_insert((log.inning[i], team, false));
+        e.2 |= e.0 != log.inning[i] || matches!((e.1, team), (Some(a), Some(b)) if a != b);
+    }
+    // Per game: numbers, numbers used again.
+    let mut games: HashMap<(i32, u32), (usize, usize)> = HashMap::new();
+    for (&(d, g, _), e) in &first {
+        let c = games.entry((d, g)).or_default();
+        c.0 += 1;
+        c.1 += usize::from(e.2);
+    }
+    let not_through: HashSet<(i32, u32)> = games.iter().filter(|(_, &(n, r))| r >= 2 && 10 * r >= n).map(|(&k, _)| k).collect();
+    let note = (!not_through.is_empty()).then(|| {
+        format!(
+            "in {} of the {} games, `pa` numbers hold pitches of two innings or two clubs, so it is numbered per team or per inning there rather than through the game: those games' rows are kept in the file's order (give the file in game order, or number pa through the game)",
+            crate::domain::numbers::fmt_n(not_through.len()),
+            crate::domain::numbers::fmt_n(games.len())
+        )
+    });
+    (not_through, note)
+}
+
 /// A pitcher's outing logged twice, which the row-by-row rule
 /// ([`order_rows`]) cannot see: a game under a second id on the same date
 /// (two clubs' exports of one game merged, say), or the same game's rows
@@ -1053,9 +1090,19 @@ fn order_rows(log: &mut PitchLog, optional: Optional, has: impl Fn(&str) -> bool
     // game when pa/pitch_no are absent (they are then 0 for every row, so
     // the file position decides). The sort is stable.
     let mut order: Vec<u32> = (0..log.game.len() as u32).collect();
+    // A `pa` numbered per team or per inning repeats its numbers within a
+    // game: ordered by it, the halves and innings would interleave, so the
+    // rows keep their file order within each game instead.
+    let (not_through, note) = if has("pa") { pa_not_through_the_game(log, &optional) } else { (HashSet::new(), None) };
+    log.pa_numbering = note;
+    let through = |i: usize| not_through.is_empty() || !not_through.contains(&(log.date[i], log.game[i]));
     let key = |i: u32| {
         let i = i as usize;
-        (log.date[i], log.game[i], optional.pa[i], optional.pitch_no[i])
+        if through(i) {
+            (log.date[i], log.game[i], optional.pa[i], optional.pitch_no[i])
+        } else {
+            (log.date[i], log.game[i], 0, 0)
+        }
     };
     order.sort_by_key(|&i| key(i));
     let mut repeats = Vec::new();
@@ -1065,14 +1112,26 @@ fn order_rows(log: &mut PitchLog, optional: Optional, has: impl Fn(&str) -> bool
         // team, say) are two pitches, and are kept as they are.
         let pitch = |i: u32| {
             let i = i as usize;
-            (log.pitcher[i], log.batter[i], log.balls[i], log.strikes[i], log.outs[i], log.pitch_type[i])
+            let bases = (log.on_first[i], log.on_second[i], log.on_third[i]);
+            (log.pitcher[i], log.batter[i], log.inning[i], bases, log.balls[i], log.strikes[i], log.outs[i], log.pitch_type[i])
         };
-        // The kept rows of the current place (date, game, pa, pitch_no).
-        let mut place: Vec<u32> = Vec::new();
+        // The kept rows of a place (date, game, pa, pitch_no): the current
+        // one in place order, or each place's in file order.
+        let place_of = |i: u32| {
+            let i = i as usize;
+            (log.date[i], log.game[i], optional.pa[i], optional.pitch_no[i])
+        };
+        let mut current: Vec<u32> = Vec::new();
+        let mut by_place: HashMap<(i32, u32, u32, u32), Vec<u32>> = HashMap::new();
         order.retain(|&i| {
-            if place.first().is_some_and(|&f| key(f) != key(i)) {
-                place.clear();
-            }
+            let place = if through(i as usize) {
+                if current.first().is_some_and(|&f| place_of(f) != place_of(i)) {
+                    current.clear();
+                }
+                &mut current
+            } else {
+                by_place.entry(place_of(i)).or_default()
+            };
             match place.iter().find(|&&f| pitch(f) == pitch(i)) {
                 Some(&f) => {
                     let (game, pa, no) = (&log.games[log.game[i as usize] as usize], optional.pa[i as usize], optional.pitch_no[i as usize]);
@@ -1080,7 +1139,7 @@ fn order_rows(log: &mut PitchLog, optional: Optional, has: impl Fn(&str) -> bool
                         line: log.source_line[i as usize],
                         column: "(whole row)".into(),
                         value: clip_value(&format!("game {game}, pa {pa}, pitch_no {no} (first at {locator} {})", log.source_line[f as usize])),
-                        reason: "repeats an earlier row's pitch: the same game, pa, pitch_no, pitcher, batter, count, outs and pitch type (a pitch logged twice); remove the copy".into(),
+                        reason: "repeats an earlier row's pitch: the same game, pa, pitch_no, pitcher, batter, inning, bases, count, outs and pitch type (a pitch logged twice); remove the copy".into(),
                     });
                     false
                 }
