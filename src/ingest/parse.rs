@@ -180,6 +180,17 @@ fn text_cell(v: &str) -> Result<Cell, String> {
     Ok(Cell::Text)
 }
 
+/// The inning number of a value that writes the half in too ("Top 3",
+/// "bot 7", "3T", "B9", "▲3"), as some play-by-play exports do.
+fn inning_with_half(v: &str) -> Option<u32> {
+    let lower = v.trim().to_lowercase();
+    let digits: String = lower.chars().filter(char::is_ascii_digit).collect();
+    let rest: String = lower.chars().filter(|c| !c.is_ascii_digit() && !c.is_whitespace() && *c != '.' && *c != '-').collect();
+    let half = ["top", "bot", "bottom", "t", "b", "tp", "btm", "▲", "▼", "↑", "↓"].contains(&rest.as_str());
+    let n: u32 = digits.parse().ok()?;
+    (half && (1..=99).contains(&n)).then_some(n)
+}
+
 /// Checks one non-empty value of contract column `column` (an index into
 /// REQUIRED_COLUMNS then OPTIONAL_COLUMNS) against its rule; the error is
 /// the reason. A value's check does not depend on its row, so a column's
@@ -213,7 +224,14 @@ pub fn parse_cell(column: usize, v: &str) -> Result<Cell, String> {
         },
         3 => hand(v, "throws").map(Cell::Hand).map_err(|b| b.2),
         5 => hand(v, "bats").map(Cell::Hand).map_err(|b| b.2),
-        6 => int("inning", 1, 99),
+        6 => int("inning", 1, 99).map_err(|e| {
+            // Said once for all innings, so `check` groups them as one reason.
+            if inning_with_half(v).is_some() {
+                "is an inning with its half written in (as \"Top 3\" or \"3B\"); write the inning number alone".to_string()
+            } else {
+                e
+            }
+        }),
         7 => int("outs", 0, 2),
         8 => int("balls", 0, 3),
         9 => int("strikes", 0, 2),
@@ -402,6 +420,21 @@ mod tests {
         }
         assert!(parse_cell(1, "-001-01-01").is_err());
         assert!(parse_cell(1, "1800-01-01").is_ok() && parse_cell(1, "3000-12-31").is_ok());
+    }
+
+    /// An inning written with its half is refused with the fix named (one
+    /// reason for every inning); other bad innings keep the plain reason.
+    #[test]
+    fn an_inning_with_its_half_names_the_number() {
+        for (v, n) in [("Top 3", 3), ("bot 7", 7), ("3T", 3), ("B9", 9), ("Bottom 10", 10), ("▲ 2", 2)] {
+            assert_eq!(inning_with_half(v), Some(n), "{v}");
+            let e = parse_cell(6, v).unwrap_err();
+            assert!(e.starts_with("is an inning with its half written in") && e.ends_with("write the inning number alone"), "{v}: {e}");
+        }
+        for v in ["3rd", "x", "Top", "Top 0"] {
+            assert!(!parse_cell(6, v).unwrap_err().contains("its half"), "{v}");
+        }
+        assert!(parse_cell(6, "3").is_ok());
     }
 
     /// A roster's switch-hitter letter is refused with the fix in the
