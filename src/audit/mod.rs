@@ -156,10 +156,7 @@ pub fn input_notes(log: &ingest::PitchLog, sit: &Situations, source: &ingest::So
     for (f, why) in &sit.dropped {
         notes.push(format!("The {f} factor is {left_out}: {why}."));
     }
-    for n in sit.notes.iter().chain(&log.near_duplicate_names()).chain(&log.names_on_two_clubs_in_a_day()).chain(&log.renamed_labels()).chain(&log.pa_numbering) {
-        notes.push(format!("Note: {n}."));
-    }
-    if let Some(n) = source.optional_missing.iter().any(|c| c == "season").then(|| log.season_across_new_year()).flatten() {
+    for n in sit.notes.iter().chain(&ingest::log_notes(log, source)) {
         notes.push(format!("Note: {n}."));
     }
     for a in &source.optional_set_aside {
@@ -338,8 +335,6 @@ pub fn audit_log(
     Ok(Audit { summary, tests, rejected: left_out.rejected, set_aside: left_out.set_aside, outcomes })
 }
 
-/// On a log of more seasons than the models learn from, how many of the
-/// run's pitchers have older seasons left out ([`split::recent_rows`]).
 /// A note on the pitchers scored on a season before the log's latest
 /// (former members of a staff, in a club's log of several seasons): who
 /// they are, so the staff table is not read as today's staff.
@@ -347,7 +342,7 @@ fn gone_note(pitchers: &[PitcherSummary], latest: Option<i32>) -> Option<String>
     let latest = latest?;
     let gone: Vec<&str> = pitchers
         .iter()
-        .filter(|p| p.is_ok() && p.pitches_by_season.keys().next_back().is_some_and(|&s| s < latest))
+        .filter(|p| p.is_ok() && summary::gone_since(&p.pitches_by_season, latest).is_some())
         .map(|p| p.pitcher.as_str())
         .collect();
     if gone.is_empty() {
@@ -360,6 +355,8 @@ fn gone_note(pitchers: &[PitcherSummary], latest: Option<i32>) -> Option<String>
     ))
 }
 
+/// On a log of more seasons than the models learn from, how many of the
+/// run's pitchers have older seasons left out ([`split::recent_rows`]).
 fn older_seasons_note(pitchers: &[PitcherSummary], settings: &Settings) -> Option<String> {
     use crate::domain::numbers::fmt_n;
     let older: Vec<_> = pitchers.iter().filter_map(|p| p.evaluation.older_left_out.as_ref()).collect();

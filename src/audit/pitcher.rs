@@ -63,13 +63,11 @@ impl About {
         });
         // A pitcher gone from the log before its latest season (a former
         // member of the staff) is scored on his own last season.
-        let his_latest = pitches_by_season.keys().next_back().copied();
-        let gone_caution = match (his_latest, latest) {
-            (Some(his), Some(latest)) if his < latest => Some(format!(
-                "He last pitched in {his} in this log, which runs to {latest}: his figures describe him then, and a hitter facing him now may see a different pitcher."
-            )),
-            _ => None,
-        };
+        let gone_caution = latest.and_then(|latest| {
+            super::summary::gone_since(&pitches_by_season, latest).map(|his| {
+                format!("He last pitched in {his} in this log, which runs to {latest}: his figures describe him then, and a hitter facing him now may see a different pitcher.")
+            })
+        });
         About { throws, hand: usual, pitches_by_season, pitches_by_team, team_caution, hand_caution, gone_caution }
     }
 }
@@ -378,11 +376,11 @@ fn cautions_of(
             task.n_test()
         ));
     }
+    // A pitch he now "drops" because the log renamed it is told in the
+    // added pitch's caution.
+    let renamed_away = |old: &str| arsenal_changes.iter().any(|a| a.in_place_of.as_ref().is_some_and(|r| r.pitch_type == old));
     for c in arsenal_changes {
         let (what, t) = (&c.change, &c.pitch_type);
-        // A pitch he now "drops" because the log renamed it is told in the
-        // added pitch's caution.
-        let renamed_away = |old: &str| arsenal_changes.iter().any(|a| a.in_place_of.as_ref().is_some_and(|r| r.pitch_type == old));
         if what == "dropped" && renamed_away(t) {
             continue;
         }

@@ -358,6 +358,26 @@ impl PitcherSummary {
     }
 }
 
+/// His latest season in the log (`pitches_by_season`) when it is older
+/// than `latest`, the log's: a former member of a staff, scored on his own
+/// last season.
+pub fn gone_since(pitches_by_season: &BTreeMap<i32, usize>, latest: i32) -> Option<i32> {
+    let his = *pitches_by_season.keys().next_back()?;
+    (his < latest).then_some(his)
+}
+
+impl Summary {
+    /// [`gone_since`] for a pitcher of this run, under the rolling scheme
+    /// (each pitcher on his own latest season); `None` otherwise.
+    pub fn last_pitched(&self, p: &PitcherSummary) -> Option<i32> {
+        let latest = *self.input.seasons.last()?;
+        if self.evaluation.scheme != "rolling" {
+            return None;
+        }
+        gone_since(&p.pitches_by_season, latest)
+    }
+}
+
 /// Pitches of one pitcher for one club in one season.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct TeamPitches {

@@ -27,7 +27,7 @@ pub fn run(args: Args) -> Result<()> {
         Err(e) => {
             // An unusable log (no valid row, --strict): still list why its
             // rows were rejected, then fail.
-            if let Ok((rejected, set_aside)) = ingest::rows_left_out(&input.path, &settings.input) {
+            if let Ok(ingest::LeftOut { rejected, set_aside }) = ingest::rows_left_out(&input.path, &settings.input) {
                 if !rejected.is_empty() || !set_aside.is_empty() {
                     let loc = ingest::read::Format::of(&input.path).locator();
                     println!("{shown}");
@@ -95,14 +95,11 @@ pub fn run(args: Args) -> Result<()> {
     for a in &src.optional_set_aside {
         println!("  optional columns set aside: {} ({})", a.columns.join(", "), a.reason);
     }
-    if let Some(n) = src.optional_missing.iter().any(|c| c == "season").then(|| log.season_across_new_year()).flatten() {
-        println!("  note: {n}");
-    }
     let sit = situations::build(log);
     for (f, why) in &sit.dropped {
         println!("  note: factor {f} is not available: {why}");
     }
-    for n in sit.notes.iter().chain(&log.near_duplicate_names()).chain(&log.names_on_two_clubs_in_a_day()).chain(&log.renamed_labels()).chain(&log.pa_numbering) {
+    for n in sit.notes.iter().chain(&ingest::log_notes(log, src)) {
         println!("  note: {n}");
     }
     // More seasons than the audit's models learn from.

@@ -112,7 +112,7 @@ impl LogInput {
     pub fn failed(&self, e: tellscope::Error, settings: &tellscope::settings::Settings, out: &std::path::Path, what: &str) -> tellscope::Error {
         let e = self.name_errors(e);
         if e.exit_code() == 3 {
-            if let Ok((rejected, set_aside)) = tellscope::ingest::rows_left_out(&self.path, &settings.input) {
+            if let Ok(tellscope::ingest::LeftOut { rejected, set_aside }) = tellscope::ingest::rows_left_out(&self.path, &settings.input) {
                 if (!rejected.is_empty() || !set_aside.is_empty())
                     && tellscope::report::write_failed_report(out, what, &e.to_string(), &rejected, &set_aside).is_ok()
                 {

@@ -125,14 +125,14 @@ pub fn bits_text(x: f64) -> String {
 
 #[cfg(test)]
 mod tests {
+    use super::*;
+
     #[test]
     fn lift_is_not_spelled_when_the_prior_was_never_right() {
-        assert_eq!(super::lift_text(0.104, 0.41), "+10%");
-        assert_eq!(super::lift_text(-0.031, 0.52), "-3%");
-        assert_eq!(super::lift_text(0.0, 0.0), "—");
+        assert_eq!(lift_text(0.104, 0.41), "+10%");
+        assert_eq!(lift_text(-0.031, 0.52), "-3%");
+        assert_eq!(lift_text(0.0, 0.0), "—");
     }
-
-    use super::*;
 
     // Spellings worked by hand from the rules above.
     #[test]

@@ -315,9 +315,7 @@ impl PitchLog {
             "pitcher names the log lists for two clubs on the same day, so two pitchers may share the name: {shown}; they are read as one pitcher with both men's pitches, so give each his own id in `pitcher`"
         )]
     }
-}
 
-impl PitchLog {
     /// A note for a log without a `season` column whose games run across
     /// the turn of a year (a winter league's season, November to February):
     /// seasons then default to the calendar year, which cuts that season in
@@ -407,19 +405,33 @@ impl PitchLog {
         }
         renames
             .into_iter()
-            .filter(|((season, old, _), who)| {
-                who.len() >= MIN_PITCHERS && who.len() as f64 >= MIN_SHARE * threw.get(&(*season, old.clone())).copied().unwrap_or(0) as f64
-            })
-            .map(|((season, old, new), who)| {
-                let n = who.len();
+            .filter_map(|((season, old, new), who)| {
+                let (n, of) = (who.len(), threw.get(&(season, old.clone())).copied().unwrap_or(0));
+                if n < MIN_PITCHERS || (n as f64) < MIN_SHARE * of as f64 {
+                    return None;
+                }
                 let names = first_three(who.iter().map(|&p| self.pitchers[p as usize].clone()).collect::<Vec<_>>().into_iter());
-                let of = threw.get(&(season, old.clone())).copied().unwrap_or(0);
-                format!(
+                Some(format!(
                     "in {season} the log writes \"{new}\", a label they did not use the season before, for {n} of the {of} pitchers who threw \"{old}\" then, each in place of his \"{old}\" ({names}): that looks like the tracking system renaming the pitch, not {n} arsenal changes at once; if it is, merge the two with [pitch_groups] ({old} = [\"{old}\", \"{new}\"]) and run again, since until then each of them is read as having changed his arsenal, which skews his figures"
-                )
+                ))
             })
             .collect()
     }
+}
+
+/// The log's notes for `check` and a run's notes (each a sentence without
+/// a final stop): names that differ only loosely, a name on two clubs in a
+/// day, labels renamed between seasons, `pa` numbered per team or inning,
+/// and a season across the new year when the file has no `season` column.
+pub fn log_notes(log: &PitchLog, source: &SourceInfo) -> Vec<String> {
+    let mut notes = log.near_duplicate_names();
+    notes.extend(log.names_on_two_clubs_in_a_day());
+    notes.extend(log.renamed_labels());
+    notes.extend(log.pa_numbering.clone());
+    if source.optional_missing.iter().any(|c| c == "season") {
+        notes.extend(log.season_across_new_year());
+    }
+    notes
 }
 
 /// The first three of a note's items, joined by "; ", and how many more.
@@ -505,8 +517,8 @@ fn sha256_of(path: &Path) -> Result<String> {
 /// the pitcher's choice, with their reasons, even when the log as a whole
 /// is unusable (no valid row, `--strict`): so a failed run can still keep
 /// them. An error only when the file cannot be read.
-pub fn rows_left_out(path: &Path, input: &InputParams) -> Result<(Vec<Rejected>, Vec<Rejected>)> {
-    load_checked(path, &input.lenient(), false).map(|i| (i.rejected, i.set_aside))
+pub fn rows_left_out(path: &Path, input: &InputParams) -> Result<LeftOut> {
+    load_checked(path, &input.lenient(), false).map(|i| LeftOut { rejected: i.rejected, set_aside: i.set_aside })
 }
 
 /// Read, validate and order a pitch log.
@@ -969,7 +981,7 @@ fn drop_copied_games(log: &PitchLog, optional: &Optional, numbered: bool, order:
                     "game {}, {} (first copy at {locator} {})",
                     log.games[*g as usize], log.pitchers[*p as usize], log.source_line[rows[0] as usize]
                 );
-                notes.push((value, TWICE_IN_GAME));
+                notes.push((clip_value(&value), TWICE_IN_GAME));
                 copies.extend(rows[half..].iter().map(|&i| (i, notes.len() as u32 - 1)));
             }
         }
@@ -998,7 +1010,7 @@ fn drop_copied_games(log: &PitchLog, optional: &Optional, numbered: bool, order:
                         "game {}, {} (first copy: game {}, {locator} {})",
                         log.games[copy as usize], log.pitchers[*p as usize], log.games[orig as usize], log.source_line[o[0] as usize]
                     );
-                    notes.push((value, UNDER_TWO_IDS));
+                    notes.push((clip_value(&value), UNDER_TWO_IDS));
                     copies.extend(rows.iter().map(|&i| (i, notes.len() as u32 - 1)));
                 }
             }
@@ -1014,7 +1026,6 @@ fn drop_copied_games(log: &PitchLog, optional: &Optional, numbered: bool, order:
     let mut dropped = vec![false; log.len()];
     copies.iter().for_each(|&(i, _)| dropped[i as usize] = true);
     order.retain(|&i| !dropped[i as usize]);
-    let notes: Vec<(String, &'static str)> = notes.into_iter().map(|(v, r)| (clip_value(&v), r)).collect();
     let mut out: Vec<Rejected> = copies
         .into_iter()
         .map(|(i, n)| Rejected {

@@ -178,14 +178,6 @@ fn location_text(p: &crate::audit::summary::PitcherSummary, fdr: f64) -> String 
 }
 
 /// One audited pitcher's section of the page.
-/// His latest season when it is older than the log's latest, under the
-/// rolling scheme (each pitcher on his own latest season).
-pub(super) fn last_pitched(p: &PitcherSummary, summary: &Summary) -> Option<i32> {
-    let his = *p.pitches_by_season.keys().next_back()?;
-    let latest = *summary.input.seasons.last()?;
-    (summary.evaluation.scheme == "rolling" && his < latest).then_some(his)
-}
-
 fn pitcher_view(
     p: &PitcherSummary,
     summary: &Summary,
@@ -247,7 +239,7 @@ fn pitcher_view(
         layers_text,
         beyond_significant: p.beyond_significant.unwrap_or(false),
         anchor: stems.get(&p.pitcher).cloned().unwrap_or_default(),
-        last_pitched: last_pitched(p, summary),
+        last_pitched: summary.last_pitched(p),
         throws: p.throws.clone(),
         n_train: p.n_train,
         n_test: p.n_test,
