@@ -960,6 +960,13 @@ fn a_label_renamed_for_several_pitchers_at_once_is_named_with_the_fix() {
     assert!(split[0].contains("for 4 of the 5 pitchers"), "{}", split[0]);
     assert!(note_of("relabel = { slider = \"sweeper\" }", 2, 3).is_empty(), "two pitchers are left to their own cautions");
     assert!(note_of("add = { cutter = 0.20 }", 4, 4).is_empty(), "an added pitch takes its share from all of his pitches");
+    // A tracking system that writes every label anew (codes for names):
+    // one note, each new label with the old one of its own share, not
+    // with the fastball, the largest that went out.
+    let codes = note_of("relabel = { fastball = \"FB\", slider = \"SL\", changeup = \"CH\" }", 4, 5);
+    assert_eq!(codes.len(), 1, "{codes:?}");
+    assert!(codes[0].starts_with("in 2026 the log writes 3 labels it did not use the season before: \"CH\" in place of \"changeup\" for 4 of the 4 pitchers who threw it, \"FB\" in place of \"fastball\" for 4 of 5, \"SL\" in place of \"slider\" for 4 of 5;"), "{}", codes[0]);
+    assert!(codes[0].contains("(changeup = [\"changeup\", \"CH\"], fastball = [\"fastball\", \"FB\"], slider = [\"slider\", \"SL\"])"), "{}", codes[0]);
 }
 
 /// A game logged twice, which the row rule cannot see: under a second id on

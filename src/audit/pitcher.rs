@@ -346,14 +346,23 @@ fn arsenal_changes(task: &PitcherTask, names: &[String], test_mix: &BTreeMap<Str
     // A pitch added as one of about its share (within 30%) was dropped may
     // be that pitch under a new name. One pitcher's mix drifts between
     // seasons, so a pitch merely giving way to a new one is not taken for
-    // it (the run's note finds partial renames across pitchers).
+    // it (the run's note finds partial renames across pitchers). A dropped
+    // label written the same but for case, spaces or punctuation is that
+    // pitch whatever its share.
     let dropped: Vec<(String, f64, f64)> =
         changes.iter().filter(|c| c.change == "dropped").map(|c| (c.pitch_type.clone(), c.before, c.after)).collect();
     for c in changes.iter_mut().filter(|c| c.change == "added") {
+        let key = crate::domain::labels::loose_name(&c.pitch_type);
+        let same_name = |t: &str| crate::domain::labels::loose_name(t) == key;
         c.in_place_of = dropped
             .iter()
-            .filter(|(_, b, _)| (c.after - b).abs() <= 0.3 * b)
-            .min_by(|x, y| (c.after - x.1).abs().total_cmp(&(c.after - y.1).abs()))
+            .find(|(t, _, _)| same_name(t))
+            .or_else(|| {
+                dropped
+                    .iter()
+                    .filter(|(_, b, _)| (c.after - b).abs() <= 0.3 * b)
+                    .min_by(|x, y| (c.after - x.1).abs().total_cmp(&(c.after - y.1).abs()))
+            })
             .map(|(t, before, after)| ReplacedLabel { pitch_type: t.clone(), before: *before, after: *after });
     }
     changes

@@ -62,9 +62,14 @@ pub fn what_it_is(label: &str) -> Option<&'static str> {
 /// share from all of his pitches in proportion (a label of share `b` falls
 /// by `b · rise`: excess 0); a renamed pitch (all of it, or some, now
 /// written under the new label) hands its share across (it falls by the
-/// whole rise: excess `rise · (1 − b)`, the most). Returns the old label
-/// and its shares before and after. For notes: the log's labels are
-/// always read as written.
+/// whole rise: excess `rise · (1 − b)`, the most). An old label can hand
+/// the new one no more than the new one gained, so its fall counts up to
+/// the rise: when the log renames every label at once (each old label
+/// falls to nothing), each new label meets the old one of its own share,
+/// not the largest. An old label written the same but for case, spaces or
+/// punctuation ([`loose_name`]) that passes is taken first. Returns the
+/// old label and its shares before and after. For notes: the log's labels
+/// are always read as written.
 pub fn took_the_place_of<'a>(
     before: &'a std::collections::BTreeMap<String, f64>,
     after: &std::collections::BTreeMap<String, f64>,
@@ -76,13 +81,19 @@ pub fn took_the_place_of<'a>(
     if rise <= 0.0 {
         return None;
     }
-    let excess = |b: f64, a: f64| (b - a) - b * rise;
+    let excess = |b: f64, a: f64| (b - a).min(rise) - b * rise;
+    let key = loose_name(new);
     before
         .iter()
         .filter(|(t, &b)| t.as_str() != new && b >= new_share && b < 1.0)
         .map(|(t, &b)| (t.as_str(), b, share(after, t)))
         .filter(|&(_, b, a)| excess(b, a) >= 0.5 * rise * (1.0 - b))
-        .max_by(|x, y| excess(x.1, x.2).total_cmp(&excess(y.1, y.2)).then(y.0.cmp(x.0)))
+        .max_by(|x, y| {
+            (loose_name(x.0) == key)
+                .cmp(&(loose_name(y.0) == key))
+                .then(excess(x.1, x.2).total_cmp(&excess(y.1, y.2)))
+                .then(y.0.cmp(x.0))
+        })
 }
 
 #[cfg(test)]
@@ -113,6 +124,29 @@ mod tests {
         let cutter = mix(&[("fastball", 0.48), ("slider", 0.32), ("cutter", 0.2)]);
         assert_eq!(took_the_place_of(&heavy, &cutter, "cutter", 0.05), None);
         assert_eq!(took_the_place_of(&before, &before, "slider", 0.05), None, "no rise");
+    }
+
+    /// Worked by hand: every label renamed at once, each falling to
+    /// nothing. Uncapped, every new label would meet the fastball (the
+    /// largest fall: 0.5 − 0.5 · 0.19 = 0.405 for "CH"); capped at the
+    /// rise, the excesses for "CH" are the fastball's 0.19 − 0.095 =
+    /// 0.095, the slider's 0.19 − 0.057 = 0.133 and the changeup's
+    /// 0.19 − 0.038 = 0.152.
+    #[test]
+    fn a_label_scheme_renamed_whole_pairs_each_label_with_its_own() {
+        let before = mix(&[("fastball", 0.5), ("slider", 0.3), ("changeup", 0.2)]);
+        let codes = mix(&[("FB", 0.52), ("SL", 0.29), ("CH", 0.19)]);
+        assert_eq!(took_the_place_of(&before, &codes, "CH", 0.05), Some(("changeup", 0.2, 0.0)));
+        assert_eq!(took_the_place_of(&before, &codes, "SL", 0.05), Some(("slider", 0.3, 0.0)));
+        assert_eq!(took_the_place_of(&before, &codes, "FB", 0.05), Some(("fastball", 0.5, 0.0)));
+        // Capitalised: the same loose name is taken first, even where the
+        // shares alone would pair "Slider" with the changeup (0.24 moved:
+        // the changeup's excess 0.24 − 0.0624 = 0.178 against the slider's
+        // 0.24 − 0.072 = 0.168).
+        let before = mix(&[("fastball", 0.44), ("slider", 0.3), ("changeup", 0.26)]);
+        let capitals = mix(&[("Fastball", 0.5), ("Slider", 0.24), ("Changeup", 0.26)]);
+        assert_eq!(took_the_place_of(&before, &capitals, "Slider", 0.05), Some(("slider", 0.3, 0.0)));
+        assert_eq!(took_the_place_of(&before, &capitals, "Changeup", 0.05), Some(("changeup", 0.26, 0.0)));
     }
 
     #[test]

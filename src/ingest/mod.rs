@@ -403,20 +403,53 @@ impl PitchLog {
                 }
             }
         }
-        renames
+        // The renames that pass, by season: (old, new, pitchers, of).
+        let mut by_season: BTreeMap<i32, Vec<(String, String, Vec<u32>, usize)>> = BTreeMap::new();
+        for ((season, old, new), who) in renames {
+            let (n, of) = (who.len(), threw.get(&(season, old.clone())).copied().unwrap_or(0));
+            if n >= MIN_PITCHERS && (n as f64) >= MIN_SHARE * of as f64 {
+                by_season.entry(season).or_default().push((old, new, who, of));
+            }
+        }
+        by_season
             .into_iter()
-            .filter_map(|((season, old, new), who)| {
-                let (n, of) = (who.len(), threw.get(&(season, old.clone())).copied().unwrap_or(0));
-                if n < MIN_PITCHERS || (n as f64) < MIN_SHARE * of as f64 {
-                    return None;
+            .map(|(season, renames)| {
+                if let [(old, new, who, of)] = renames.as_slice() {
+                    let n = who.len();
+                    let names = first_three(who.iter().map(|&p| self.pitchers[p as usize].clone()).collect::<Vec<_>>().into_iter());
+                    return format!(
+                        "in {season} the log writes \"{new}\", a label they did not use the season before, for {n} of the {of} pitchers who threw \"{old}\" then, each in place of his \"{old}\" ({names}): that looks like the tracking system renaming the pitch, not {n} arsenal changes at once; if it is, merge the two with [pitch_groups] ({}) and run again, since until then each of them is read as having changed his arsenal, which skews his figures",
+                        group_line(old, new)
+                    );
                 }
-                let names = first_three(who.iter().map(|&p| self.pitchers[p as usize].clone()).collect::<Vec<_>>().into_iter());
-                Some(format!(
-                    "in {season} the log writes \"{new}\", a label they did not use the season before, for {n} of the {of} pitchers who threw \"{old}\" then, each in place of his \"{old}\" ({names}): that looks like the tracking system renaming the pitch, not {n} arsenal changes at once; if it is, merge the two with [pitch_groups] ({old} = [\"{old}\", \"{new}\"]) and run again, since until then each of them is read as having changed his arsenal, which skews his figures"
-                ))
+                // A tracking system that renames its labels wholesale (codes
+                // for names, a new capitalisation): one note, every pair.
+                let pairs = renames
+                    .iter()
+                    .enumerate()
+                    .map(|(i, (old, new, who, of))| {
+                        let whom = if i == 0 { format!("{} of the {of} pitchers who threw it", who.len()) } else { format!("{} of {of}", who.len()) };
+                        format!("\"{new}\" in place of \"{old}\" for {whom}")
+                    })
+                    .collect::<Vec<_>>()
+                    .join(", ");
+                let groups = renames.iter().map(|(old, new, _, _)| group_line(old, new)).collect::<Vec<_>>().join(", ");
+                format!(
+                    "in {season} the log writes {} labels it did not use the season before: {pairs}; that looks like the tracking system renaming its labels, not arsenal changes; if it is, merge each pair with [pitch_groups] ({groups}) and run again, since until then each of those pitchers is read as having changed his arsenal, which skews his figures",
+                    renames.len()
+                )
             })
             .collect()
     }
+}
+
+/// A `[pitch_groups]` line merging `new` into `old`, the key quoted when
+/// it is not a bare TOML key (letters, digits, `_` and `-` only).
+fn group_line(old: &str, new: &str) -> String {
+    let bare = !old.is_empty() && old.chars().all(|c| c.is_ascii_alphanumeric() || c == '_' || c == '-');
+    let quoted = |t: &str| format!("{t:?}");
+    let key = if bare { old.to_string() } else { quoted(old) };
+    format!("{key} = [{}, {}]", quoted(old), quoted(new))
 }
 
 /// The log's notes for `check` and a run's notes (each a sentence without
