@@ -76,6 +76,54 @@ fn team_audits_exactly_the_clubs_pitchers_of_the_latest_season() {
     assert!(a.summary.notes.iter().any(|n| n.starts_with(&format!("--team {CLUB}"))));
 }
 
+/// A pitcher traded away during the latest season (his later rows
+/// rewritten to another club) is still the club's, marked as gone: the
+/// club of his latest pitch, in `now_with`, his caution and the staff
+/// table. A pitcher traded in is not marked.
+#[test]
+fn a_pitcher_traded_away_is_marked_with_his_new_club() {
+    let text = std::fs::read_to_string(league_csv()).unwrap();
+    let header: Vec<&str> = text.lines().next().unwrap().split(',').collect();
+    let col = |n: &str| header.iter().position(|h| *h == n).unwrap();
+    let (pc, dc, tc) = (col("pitcher"), col("date"), col("team"));
+    // The club's busiest 2026 pitcher leaves for Team 03 on 1 July.
+    let mut n: BTreeMap<String, usize> = BTreeMap::new();
+    for l in text.lines().skip(1) {
+        let f: Vec<&str> = l.split(',').collect();
+        if f[tc] == CLUB && f[dc].starts_with("2026") {
+            *n.entry(f[pc].to_string()).or_default() += 1;
+        }
+    }
+    let who = n.iter().max_by_key(|(p, k)| (**k, std::cmp::Reverse((*p).clone()))).unwrap().0.clone();
+    let moved: Vec<String> = text
+        .lines()
+        .map(|l| {
+            let mut f: Vec<&str> = l.split(',').collect();
+            if f.len() == header.len() && f[pc] == who && f[dc] >= "2026-07-01" {
+                f[tc] = "Team 03";
+            }
+            f.join(",")
+        })
+        .collect();
+    let path = league_csv().with_file_name("traded-away.csv");
+    std::fs::write(&path, moved.join("\n") + "\n").unwrap();
+    let a = tellscope::audit::run(&path, &settings(Some(CLUB), vec![who.clone()]), false).unwrap();
+    let p = &a.summary.pitchers[0];
+    assert_eq!(p.now_with.as_deref(), Some("Team 03"));
+    assert!(p.cautions.iter().any(|c| c.contains("His latest pitches were for Team 03: he has left Team 01.")), "{:?}", p.cautions);
+    use tellscope::report::export::{Exporter, Table};
+    let mut printed: Vec<tellscope::report::ReportFile> = Vec::new();
+    Table { report: &path }.export(&a, &mut printed).unwrap();
+    let table = String::from_utf8(printed[0].bytes.clone()).unwrap();
+    assert!(table.lines().any(|l| l.starts_with(&who) && l.ends_with("now with Team 03")), "{table}");
+
+    // Untouched, he is not marked; nor is a pitcher traded in.
+    let by_pitcher = hand_count();
+    let traded_in = by_pitcher.iter().find(|(_, s)| s.contains(&(2026, CLUB.to_string())) && s.iter().any(|(_, t)| t != CLUB)).unwrap().0.clone();
+    let a = tellscope::audit::run(league_csv(), &settings(Some(CLUB), vec![who, traded_in]), false).unwrap();
+    assert!(a.summary.pitchers.iter().all(|p| p.now_with.is_none()));
+}
+
 #[test]
 fn an_unknown_club_or_a_log_without_clubs_is_a_usage_error() {
     let s = settings(Some("Team 99"), Vec::new());

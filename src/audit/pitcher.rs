@@ -22,6 +22,8 @@ pub(super) struct About {
     hand: Hand,
     pitches_by_season: BTreeMap<i32, usize>,
     pitches_by_team: Vec<TeamPitches>,
+    /// With --team: the club of his latest pitch, when it is another.
+    now_with: Option<String>,
     /// With --team: his pitches for other clubs, in words.
     team_caution: Option<String>,
     /// When the log lists him with both throwing hands, in words.
@@ -56,9 +58,17 @@ impl About {
             Some(_) => pitches_by_team(log, &task.rows),
             None => Vec::new(),
         };
+        // A pitcher traded away: his latest pitch (the log is in date
+        // order) was for another club.
+        let now_with = settings.audit.team().as_ref().and_then(|team| {
+            let last = *all_rows.iter().max()? as usize;
+            let club = log.team.as_ref()?[last].map(|t| log.teams[t as usize].clone())?;
+            (club != **team).then_some(club)
+        });
         let team_caution = settings.audit.team().as_ref().and_then(|team| {
             wording::elsewhere_sentence(team, &pitches_by_team).map(|w| {
-                format!("{w} All of them are used here, since they are all his habits; how he pitched for another club may differ from how he pitches for this one.")
+                let gone = now_with.as_ref().map(|c| format!(" His latest pitches were for {c}: he has left {team}.")).unwrap_or_default();
+                format!("{w}{gone} All of them are used here, since they are all his habits; how he pitched for another club may differ from how he pitches for this one.")
             })
         });
         // A pitcher gone from the log before its latest season (a former
@@ -68,7 +78,7 @@ impl About {
                 format!("He last pitched in {his} in this log, which runs to {latest}: his figures describe him then, and a hitter facing him now may see a different pitcher.")
             })
         });
-        About { throws, hand: usual, pitches_by_season, pitches_by_team, team_caution, hand_caution, gone_caution }
+        About { throws, hand: usual, pitches_by_season, pitches_by_team, now_with, team_caution, hand_caution, gone_caution }
     }
 }
 
@@ -140,6 +150,7 @@ impl Insufficient {
             n_test,
             pitches_by_season: about.pitches_by_season,
             pitches_by_team: about.pitches_by_team,
+            now_with: about.now_with,
             evaluation,
             cautions: vec![format!("No figures: {reason}.")],
             reason: Some(reason),
@@ -250,6 +261,7 @@ pub(super) fn scored(run: &Run, task: &PitcherTask, about: About, at: usize) -> 
         n_test: task.n_test(),
         pitches_by_season: about.pitches_by_season,
         pitches_by_team: about.pitches_by_team,
+        now_with: about.now_with,
         evaluation: task.evaluation.clone(),
         reason: None,
         mix: Some(mix),

@@ -204,6 +204,10 @@ pub struct PitcherSummary {
     /// pitches for other clubs are kept and used).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub pitches_by_team: Vec<TeamPitches>,
+    /// With `--team`: the club his latest pitch was for, when it is not
+    /// the audited one (traded away during the season).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub now_with: Option<String>,
     /// His own evaluation: scheme, what was trained on, what was scored.
     pub evaluation: crate::evaluate::split::PitcherEvaluation,
     /// Why he has no figures (insufficient data only).

@@ -240,6 +240,9 @@ pub fn parse_cell(column: usize, v: &str) -> Result<Cell, String> {
             // exports: the runner on the base, or empty): said so, not read.
             if v.parse::<u64>().is_ok_and(|n| n > 1) {
                 "is a number, not 0/1: if it is the runner's id, write 1 where a runner is on the base and 0 where none is".to_string()
+            } else if v.contains(' ') || v.chars().count() > 5 {
+                // A name ("Wren Alder", "aldew001"), not a mistyped yes/no.
+                "is text, not 0/1: if it is the runner's name or id, write 1 where a runner is on the base and 0 where none is".to_string()
             } else {
                 "is not 0/1, true/false, yes/no or t/f".to_string()
             }
@@ -481,5 +484,8 @@ mod tests {
         assert!(parse_cell(10, "608070").unwrap_err().contains("if it is the runner's id, write 1"));
         assert!(parse_cell(11, "2").unwrap_err().contains("runner's id"));
         assert_eq!(parse_cell(12, "y").unwrap_err(), "is not 0/1, true/false, yes/no or t/f");
+        assert!(parse_cell(10, "Wren Alder").unwrap_err().contains("if it is the runner's name or id, write 1"));
+        assert!(parse_cell(12, "aldew001").unwrap_err().contains("runner's name or id"));
+        assert_eq!(parse_cell(11, "maybe").unwrap_err(), "is not 0/1, true/false, yes/no or t/f");
     }
 }

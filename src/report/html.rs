@@ -88,6 +88,8 @@ struct PitcherView {
     /// His latest season, when it is older than the log's (a former member
     /// of the staff, scored on his own last season).
     last_pitched: Option<i32>,
+    /// With --team: the club he was traded to.
+    now_with: Option<String>,
     throws: String,
     n_train: usize,
     n_test: usize,
@@ -240,6 +242,7 @@ fn pitcher_view(
         beyond_significant: p.beyond_significant.unwrap_or(false),
         anchor: stems.get(&p.pitcher).cloned().unwrap_or_default(),
         last_pitched: summary.last_pitched(p),
+        now_with: p.now_with.clone(),
         throws: p.throws.clone(),
         n_train: p.n_train,
         n_test: p.n_test,

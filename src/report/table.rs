@@ -71,7 +71,10 @@ impl Exporter<Audit> for Table<'_> {
                 if p.location.is_some() { p.location_tells.len().to_string() } else { "-".to_string() },
                 if p.significant == Some(true) { "  *" } else { "   " },
                 if p.location.as_ref().is_some_and(|l| l.significant) { " +" } else { "  " },
-                s.last_pitched(p).map(|y| format!("  last pitched {y}")).unwrap_or_default()
+                s.last_pitched(p)
+                    .map(|y| format!("  last pitched {y}"))
+                    .or_else(|| p.now_with.as_ref().map(|c| format!("  now with {c}")))
+                    .unwrap_or_default()
             );
             o.push(line.trim_end().to_string());
         }
