@@ -179,3 +179,46 @@ fn compare_finds_a_moved_pitch_and_only_that() {
     let others: Vec<&str> = shifts.iter().filter(|(p, c)| c.significant && *p != "Moved Changeup").map(|(_, c)| c.text.as_str()).collect();
     assert!(others.len() <= 1, "{others:?}");
 }
+
+/// A log whose earlier season has no locations and no results (tracking
+/// installed between seasons) says so in a run note, with the counts by
+/// season, which are checked here against a count over the CSV text.
+#[test]
+fn a_season_without_locations_is_named_in_a_note() {
+    let text = std::fs::read_to_string(format!("{}/tests/fixtures/plain-staff/demo-log.csv", env!("CARGO_MANIFEST_DIR"))).unwrap();
+    let mut lines = text.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let col = |n: &str| header.iter().position(|h| *h == n).unwrap();
+    let (season, result, side, height) = (col("season"), col("result"), col("loc_side_ft"), col("loc_height_ft"));
+    let mut out = vec![header.join(",")];
+    let mut by: std::collections::BTreeMap<String, (usize, usize)> = Default::default();
+    for l in lines {
+        let mut f: Vec<&str> = l.split(',').collect();
+        let e = by.entry(f[season].to_string()).or_default();
+        e.1 += 1;
+        if f[season] == "2025" {
+            (f[result], f[side], f[height]) = ("", "", "");
+            e.0 += 1;
+        }
+        out.push(f.join(","));
+    }
+    let dir = std::env::temp_dir().join(format!("tellscope-location-gaps-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("log.csv");
+    std::fs::write(&path, out.join("\n") + "\n").unwrap();
+    let a = audit::run(&path, &settings(19, 3), false).unwrap();
+    let fmt = tellscope::domain::numbers::fmt_n;
+    let (gaps, all): (usize, usize) = by.values().fold((0, 0), |(g, n), &(m, k)| (g + m, n + k));
+    let seasons: Vec<String> = by.iter().map(|(y, &(m, n))| format!("{y}: {} of {}", fmt(m), fmt(n))).collect();
+    let head = format!("{} of the audited pitchers' {} pitches have no location in the log ({})", fmt(gaps), fmt(all), seasons.join("; "));
+    assert!(a.summary.notes.iter().any(|n| n.starts_with(&head)), "{head}\n{:?}", a.summary.notes);
+    assert!(a.summary.notes.iter().any(|n| n.contains("have no result in the log") && n.contains("whether a tell costs him rests on the pitches with one")));
+    // Every pitcher's located pitches are 2026's only.
+    let located: usize = a.summary.pitchers.iter().filter_map(|p| p.location.as_ref()).map(|l| l.n).sum();
+    assert!(located > 0 && located <= by["2026"].1);
+    std::fs::remove_dir_all(&dir).ok();
+
+    // The plain log has no such note.
+    let plain = audit::run(std::path::Path::new(&format!("{}/tests/fixtures/plain-staff/demo-log.csv", env!("CARGO_MANIFEST_DIR"))), &settings(19, 3), false).unwrap();
+    assert!(!plain.summary.notes.iter().any(|n| n.contains("have no location") || n.contains("have no result")), "{:?}", plain.summary.notes);
+}

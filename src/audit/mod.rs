@@ -606,7 +606,47 @@ fn run_notes(
             "The log has no `result` column, so whether a tell costs him (whiffs, called and swinging strikes, balls in play of the tell's pitch against comparable spots) cannot be shown; add `result` to see it.".into(),
         );
     }
+    let mine: Vec<bool> = {
+        let mut m = vec![false; log.pitchers.len()];
+        chosen.iter().for_each(|&p| m[p as usize] = true);
+        m
+    };
+    if let (Some(side), Some(height)) = (&log.loc_side_ft, &log.loc_height_ft) {
+        notes.extend(gaps_note(log, &mine, |r| side[r].is_none() || height[r].is_none(), "location", "location figures and location tells rest on the located pitches alone"));
+    }
+    if let Some(result) = &log.result {
+        notes.extend(gaps_note(log, &mine, |r| result[r].is_none(), "result", "whether a tell costs him rests on the pitches with one"));
+    }
     notes
+}
+
+/// A note when an optional column is empty for a marked share of the run's
+/// pitchers' pitches (tracking installed partway through a log's seasons,
+/// a park without it): at least a twentieth of them, or a fifth of a
+/// season's. `missing(row)`: the row has no value; `what`: the value, in
+/// words; `so`: what then rests on fewer pitches.
+fn gaps_note(log: &ingest::PitchLog, mine: &[bool], missing: impl Fn(usize) -> bool, what: &str, so: &str) -> Option<String> {
+    let mut by: BTreeMap<i32, (usize, usize)> = BTreeMap::new();
+    for r in 0..log.len() {
+        if mine[log.pitcher[r] as usize] {
+            let e = by.entry(log.season[r]).or_default();
+            e.0 += missing(r) as usize;
+            e.1 += 1;
+        }
+    }
+    let (gaps, all) = by.values().fold((0, 0), |(g, a), &(m, n)| (g + m, a + n));
+    let marked = by.values().any(|&(m, n)| 5 * m >= n);
+    if gaps == 0 || !(20 * gaps >= all || marked) {
+        return None;
+    }
+    use crate::domain::numbers::fmt_n;
+    let seasons: Vec<String> = by.iter().map(|(y, &(m, n))| format!("{y}: {} of {}", fmt_n(m), fmt_n(n))).collect();
+    Some(format!(
+        "{} of the audited pitchers' {} pitches have no {what} in the log ({}), so {so}.",
+        fmt_n(gaps),
+        fmt_n(all),
+        seasons.join("; ")
+    ))
 }
 
 /// A note for each test family whose permutations were too few for its
