@@ -116,6 +116,11 @@ fn a_pitcher_traded_away_is_marked_with_his_new_club() {
     Table { report: &path }.export(&a, &mut printed).unwrap();
     let table = String::from_utf8(printed[0].bytes.clone()).unwrap();
     assert!(table.lines().any(|l| l.starts_with(&who) && l.ends_with("now with Team 03")), "{table}");
+    // compare --team says it in his caution too.
+    use tellscope::compare::{self, period::PeriodSpec, Request};
+    let request = Request { before: PeriodSpec::parse("--before", "2025").unwrap(), after: PeriodSpec::parse("--after", "2026").unwrap() };
+    let c = compare::run(&path, &settings(Some(CLUB), vec![who.clone()]), &request, false).unwrap();
+    assert!(c.summary.pitchers[0].cautions.iter().any(|x| x.contains("His latest pitches were for Team 03: he has left Team 01.")), "{:?}", c.summary.pitchers[0].cautions);
 
     // Untouched, he is not marked; nor is a pitcher traded in.
     let by_pitcher = hand_count();

@@ -232,6 +232,19 @@ pub fn pitches_by_team<'a>(log: &ingest::PitchLog, rows: impl IntoIterator<Item 
     by.into_iter().map(|((season, team), pitches)| TeamPitches { season, team, pitches }).collect()
 }
 
+/// With `--team`: the club of the latest of his `rows` (the log is in date
+/// order) when it is not `team`, a pitcher traded away.
+pub fn now_with<'a>(log: &ingest::PitchLog, rows: impl IntoIterator<Item = &'a u32>, team: &str) -> Option<String> {
+    let last = *rows.into_iter().max()? as usize;
+    let club = log.team.as_ref()?[last].map(|t| log.teams[t as usize].clone())?;
+    (club != team).then_some(club)
+}
+
+/// "His latest pitches were for C: he has left T." for a pitcher traded away.
+pub fn left_sentence(now_with: Option<&String>, team: &str) -> String {
+    now_with.map(|c| format!(" His latest pitches were for {c}: he has left {team}.")).unwrap_or_default()
+}
+
 /// Pitchers with a pitch for `team` in the log's latest season.
 pub fn team_pitchers(log: &ingest::PitchLog, team: &str) -> Result<Vec<u32>> {
     let Some(teams) = log.team.as_ref() else {

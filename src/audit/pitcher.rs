@@ -58,16 +58,10 @@ impl About {
             Some(_) => pitches_by_team(log, &task.rows),
             None => Vec::new(),
         };
-        // A pitcher traded away: his latest pitch (the log is in date
-        // order) was for another club.
-        let now_with = settings.audit.team().as_ref().and_then(|team| {
-            let last = *all_rows.iter().max()? as usize;
-            let club = log.team.as_ref()?[last].map(|t| log.teams[t as usize].clone())?;
-            (club != **team).then_some(club)
-        });
+        let now_with = settings.audit.team().as_ref().and_then(|team| super::now_with(log, all_rows, team));
         let team_caution = settings.audit.team().as_ref().and_then(|team| {
             wording::elsewhere_sentence(team, &pitches_by_team).map(|w| {
-                let gone = now_with.as_ref().map(|c| format!(" His latest pitches were for {c}: he has left {team}.")).unwrap_or_default();
+                let gone = super::left_sentence(now_with.as_ref(), team);
                 format!("{w}{gone} All of them are used here, since they are all his habits; how he pitched for another club may differ from how he pitches for this one.")
             })
         });

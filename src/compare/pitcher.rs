@@ -143,7 +143,8 @@ fn cautions_of(log: &PitchLog, rows: &[Vec<u32>; 2], figures: [&PeriodFigures; 2
     if let Some(team) = &settings.audit.team() {
         let by_team = crate::audit::pitches_by_team(log, rows[0].iter().chain(&rows[1]));
         if let Some(w) = crate::audit::wording::elsewhere_sentence(team, &by_team) {
-            cautions.push(format!("{w} All of them are compared, since they are all his habits; a change of club can change how he pitches."));
+            let gone = crate::audit::left_sentence(crate::audit::now_with(log, rows[0].iter().chain(&rows[1]), team).as_ref(), team);
+            cautions.push(format!("{w}{gone} All of them are compared, since they are all his habits; a change of club can change how he pitches."));
         }
     }
     for (f, label) in figures.into_iter().zip(labels) {
