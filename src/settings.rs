@@ -20,6 +20,10 @@ pub struct ConfigFile {
     /// Group name = the labels merged into it.
     #[serde(default)]
     pub pitch_groups: BTreeMap<String, Vec<String>>,
+    /// Contract result (`ball`, `called_strike`, ...) = the file's own
+    /// values that count as it ("foul_tip", "blocked_ball").
+    #[serde(default)]
+    pub result_groups: BTreeMap<String, Vec<String>>,
     #[serde(default)]
     pub audit: AuditConfig,
     #[serde(default)]
@@ -180,6 +184,9 @@ macro_rules! copy_getters {
 pub struct InputParams {
     columns: BTreeMap<String, String>,
     pitch_groups: BTreeMap<String, String>,
+    /// Loose key of a file's own `result` value = the contract result it
+    /// counts as (`[result_groups]`).
+    result_groups: BTreeMap<String, crate::domain::result::PitchResult>,
     /// Loose key of each label set aside = what it is, in words.
     set_aside: BTreeMap<String, String>,
     strict: bool,
@@ -204,6 +211,14 @@ impl InputParams {
             return None;
         }
         self.set_aside.get(&crate::domain::labels::loose_name(label)).map(String::as_str)
+    }
+
+    /// A `result` value read as a contract result: one of the seven
+    /// written in any case, spacing or punctuation ("Called Strike"), or a
+    /// value listed in `[result_groups]`.
+    pub fn result_of(&self, value: &str) -> Option<crate::domain::result::PitchResult> {
+        let key = crate::domain::labels::loose_name(value);
+        self.result_groups.get(&key).copied().or_else(|| crate::domain::result::PitchResult::parse(value))
     }
 
     /// The same reading with `--strict` off: to keep a failed run's
@@ -457,6 +472,30 @@ impl InputParams {
                 }
             }
         }
+        let mut result_groups = BTreeMap::new();
+        for (result, members) in &cfg.result_groups {
+            let Some(r) = crate::domain::result::PitchResult::parse(result) else {
+                return Err(Error::Usage(format!(
+                    "[result_groups] {result}: not a contract result; each key must be one of {} (e.g. ball = [\"blocked_ball\"])",
+                    crate::domain::result::PitchResult::ALL.map(|r| r.as_str()).join(", ")
+                )));
+            };
+            for m in members {
+                let key = crate::domain::labels::loose_name(m);
+                if key.is_empty() {
+                    return Err(Error::Usage(format!("[result_groups] {result} lists \"{m}\", which has no letter or digit; list the values as the log writes them")));
+                }
+                if let Some(prev) = result_groups.insert(key, r) {
+                    if prev != r {
+                        return Err(Error::Usage(format!(
+                            "[result_groups] puts \"{m}\" under both {} and {}; list each value under one result only",
+                            prev.as_str(),
+                            r.as_str()
+                        )));
+                    }
+                }
+            }
+        }
         let set_aside = match &cfg.set_aside.pitch_labels {
             None => crate::domain::labels::NOT_CHOSEN.iter().map(|(l, what)| (l.to_string(), Some(*what))).collect::<Vec<_>>(),
             Some(labels) => labels.iter().map(|l| (l.clone(), crate::domain::labels::what_it_is(l))).collect(),
@@ -468,7 +507,7 @@ impl InputParams {
                 (crate::domain::labels::loose_name(&l), what)
             })
             .collect();
-        Ok(InputParams { columns: cfg.columns.clone(), pitch_groups: groups, set_aside, strict: o.strict })
+        Ok(InputParams { columns: cfg.columns.clone(), pitch_groups: groups, result_groups, set_aside, strict: o.strict })
     }
 }
 

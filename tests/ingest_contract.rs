@@ -303,6 +303,57 @@ fn pitch_groups_merge_labels() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+/// A log's own outcome codes: the seven contract results are read in any
+/// case or spacing ("Called Strike"); another value ("foul_tip") rejects
+/// its row with the fix named, per value, until [result_groups] lists it
+/// under the result it counts as; a [result_groups] key that is not a
+/// contract result, or a value under two results, is a usage error.
+#[test]
+fn result_values_of_the_logs_own_map_through_result_groups() {
+    use tellscope::domain::result::PitchResult;
+    let dir = scratch("result-groups");
+    let row = |strikes: u8, result: &str| format!("G-0501,2025-05-01,Wren Alder,R,Moss Quill,L,1,0,0,{strikes},0,0,0,fastball,{result}");
+    let p = write(
+        &dir,
+        "results.csv",
+        &format!(
+            "{HEADER},result\n{}\n{}\n{}\n{}\n",
+            row(0, "Called Strike"),
+            row(1, "foul_tip"),
+            row(2, "blocked_ball"),
+            row(2, "IN-PLAY")
+        ),
+    );
+    let plain = load(&p);
+    assert_eq!(plain.log.len(), 2, "the contract's results in other spellings are kept");
+    let kept: Vec<Option<PitchResult>> = plain.log.result.as_ref().unwrap().clone();
+    assert_eq!(kept, [Some(PitchResult::CalledStrike), Some(PitchResult::InPlay)]);
+    let reasons: Vec<(u64, &str)> = plain.rejected.iter().map(|r| (r.line, r.reason.as_ref())).collect();
+    assert_eq!(reasons.len(), 2);
+    assert_eq!(reasons[0].0, 3);
+    assert!(reasons[0].1.starts_with("\"foul_tip\" is not one of ball,") && reasons[0].1.contains("[result_groups]"), "{}", reasons[0].1);
+    assert!(reasons[1].1.contains("as ball = [\"blocked_ball\"] would for a ball"), "{}", reasons[1].1);
+
+    let s = with_config("[result_groups]\nswinging_strike = [\"Foul Tip\"]\nball = [\"blocked_ball\", \"ball_in_dirt\"]\n");
+    let ing = ingest::load(&p, &s.input).unwrap();
+    assert!(ing.rejected.is_empty());
+    assert_eq!(
+        ing.log.result.unwrap(),
+        [Some(PitchResult::CalledStrike), Some(PitchResult::SwingingStrike), Some(PitchResult::Ball), Some(PitchResult::InPlay)]
+    );
+
+    let usage = |toml_text: &str| {
+        let cfg: ConfigFile = toml::from_str(toml_text).unwrap();
+        match Settings::resolve(&cfg, &Overrides::default()) {
+            Err(e @ Error::Usage(_)) => e.to_string(),
+            other => panic!("expected a usage error, got {other:?}"),
+        }
+    };
+    assert!(usage("[result_groups]\nwhiff = [\"foul_tip\"]\n").contains("whiff: not a contract result"));
+    assert!(usage("[result_groups]\nfoul = [\"foul_tip\"]\nswinging_strike = [\"foul tip\"]\n").contains("under both"));
+    std::fs::remove_dir_all(&dir).ok();
+}
+
 // ---------------------------------------------------------------- formats
 
 fn tiny_scenario() -> Scenario {

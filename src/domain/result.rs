@@ -39,8 +39,10 @@ impl PitchResult {
         }
     }
 
+    /// One of the seven, written in any case, spacing or punctuation
+    /// ("called_strike", "Called Strike", "called-strike").
     pub fn parse(s: &str) -> Option<PitchResult> {
-        let s = s.trim().to_ascii_lowercase();
-        PitchResult::ALL.iter().copied().find(|r| r.as_str() == s)
+        let s = crate::domain::labels::loose_name(s);
+        PitchResult::ALL.iter().copied().find(|r| crate::domain::labels::loose_name(r.as_str()) == s)
     }
 }

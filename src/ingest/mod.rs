@@ -781,7 +781,19 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
     let checks: Vec<Vec<std::result::Result<parse::Cell, String>>> = cols
         .par_iter()
         .enumerate()
-        .map(|(ci, c)| c.map_or_else(Vec::new, |c| c.dict.iter().map(|v| parse::parse_cell(ci, v)).collect()))
+        .map(|(ci, c)| {
+            c.map_or_else(Vec::new, |c| {
+                c.dict
+                    .iter()
+                    .map(|v| match ci {
+                        // `result` (column 18: the fifth optional one)
+                        // through the config's [result_groups].
+                        18 => input.result_of(v).map(parse::Cell::Result).ok_or_else(|| parse::unknown_result(v)),
+                        _ => parse::parse_cell(ci, v),
+                    })
+                    .collect()
+            })
+        })
         .collect();
     let parse_at = |i: usize| {
         let mut vals: [parse::Value; REQUIRED_COLUMNS.len() + OPTIONAL_COLUMNS.len()] = [None; REQUIRED_COLUMNS.len() + OPTIONAL_COLUMNS.len()];

@@ -191,6 +191,17 @@ fn inning_with_half(v: &str) -> Option<u32> {
     (half && (1..=99).contains(&n)).then_some(n)
 }
 
+/// Why a `result` value is refused, with the fix: a log's own outcome
+/// codes ("foul_tip", "blocked_ball") are each listed under the contract
+/// result they count as, which only the club can say. Said once per
+/// distinct value, so `check` counts each value's rows.
+pub fn unknown_result(v: &str) -> String {
+    let shown: String = v.chars().take(40).collect();
+    format!(
+        "\"{shown}\" is not one of ball, called_strike, swinging_strike, foul, in_play, hit_by_pitch, other; if it counts as one of them, list it under that one in [result_groups] in the config (as ball = [\"{shown}\"] would for a ball)"
+    )
+}
+
 /// Checks one non-empty value of contract column `column` (an index into
 /// REQUIRED_COLUMNS then OPTIONAL_COLUMNS) against its rule; the error is
 /// the reason. A value's check does not depend on its row, so a column's
@@ -251,9 +262,7 @@ pub fn parse_cell(column: usize, v: &str) -> Result<Cell, String> {
         15 => int("pa", 1, i64::from(u32::MAX)),
         16 => int("pitch_no", 1, i64::from(u32::MAX)),
         17 => int("score_diff", -200, 200),
-        18 => PitchResult::parse(v).map(Cell::Result).ok_or_else(|| {
-            "is not one of ball, called_strike, swinging_strike, foul, in_play, hit_by_pitch, other".to_string()
-        }),
+        18 => PitchResult::parse(v).map(Cell::Result).ok_or_else(|| unknown_result(v)),
         19 => number(Some(v), "speed_mph", 0.0, 125.0).map(|x| Cell::Num(x.unwrap_or(0.0))).map_err(|b| b.2),
         20 => number(Some(v), "loc_side_ft", -20.0, 20.0).map(|x| Cell::Num(x.unwrap_or(0.0))).map_err(|b| b.2),
         21 => number(Some(v), "loc_height_ft", -10.0, 20.0).map(|x| Cell::Num(x.unwrap_or(0.0))).map_err(|b| b.2),
