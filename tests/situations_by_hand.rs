@@ -248,3 +248,69 @@ fn a_zero_zero_count_opens_a_plate_appearance_without_pa() {
     assert_eq!(sit.pa_id, [0, 0, 1, 1]);
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A pitch whose previous pitch of the plate appearance is missing from
+/// the log has `prev_pitch` unknown, not the pitch before the gap. In the
+/// fixture: line 3 (PA 1's slider, 0-1) set aside as a pitchout, so line 4
+/// (1-1) follows a gap; line 5 (PA 2's first pitch) rejected, so line 6,
+/// the first pitch left of PA 2 and past 0-0, follows one. Line 11, the
+/// reliever's first pitch at 0-2, still reads `none`; every other row
+/// reads as in the full log. The same without `pa` and `pitch_no`, from
+/// the count alone (a pitch adds one ball or one strike, or a foul keeps
+/// two strikes: rules of the count).
+#[test]
+fn a_pitch_after_one_missing_from_the_log_has_an_unknown_previous_pitch() {
+    let dir = scratch("gaps");
+    let text = std::fs::read_to_string(fixture("situations.csv")).unwrap();
+    let full = load(&fixture("situations.csv"));
+    let full_sit = situations::build(&full);
+    let prev_of = |log: &PitchLog, sit: &Situations| -> Vec<(u64, String)> {
+        (0..log.len()).map(|i| (log.source_line[i], level(sit, Factor::PrevPitch, i))).collect()
+    };
+    let full_prev = prev_of(&full, &full_sit);
+    let edited: Vec<String> = text
+        .lines()
+        .enumerate()
+        .map(|(k, l)| match k + 1 {
+            3 => l.replace(",slider,", ",PO,"),
+            5 => l.replacen(",1,1,0,", ",0,1,0,", 1), // inning 0: rejected
+            _ => l.to_string(),
+        })
+        .collect();
+    assert_ne!(edited[4], text.lines().nth(4).unwrap(), "line 5 was broken");
+    for (tag, drop) in [("with-pa", &[][..]), ("no-pa", &["pa", "pitch_no"][..])] {
+        let d = dir.join(tag);
+        std::fs::create_dir_all(&d).unwrap();
+        let path = d.join("gaps.csv");
+        std::fs::write(&path, edited.join("\n") + "\n").unwrap();
+        let path = if drop.is_empty() {
+            path
+        } else {
+            // The edited file without the columns (no quoted cells).
+            let t = std::fs::read_to_string(&path).unwrap();
+            let header: Vec<&str> = t.lines().next().unwrap().split(',').collect();
+            let keep: Vec<usize> = (0..header.len()).filter(|&i| !drop.contains(&header[i])).collect();
+            let out: Vec<String> = t.lines().map(|l| {
+                let c: Vec<&str> = l.split(',').collect();
+                keep.iter().map(|&i| c[i]).collect::<Vec<_>>().join(",")
+            }).collect();
+            let p = d.join("gaps-no-pa.csv");
+            std::fs::write(&p, out.join("\n") + "\n").unwrap();
+            p
+        };
+        let ing = ingest::load(&path, &settings().input).unwrap();
+        assert_eq!((ing.set_aside.len(), ing.rejected.len()), (1, 1), "{tag}");
+        let sit = situations::build(&ing.log);
+        for (line, prev) in prev_of(&ing.log, &sit) {
+            let want = match line {
+                4 | 6 => "unknown".to_string(),
+                _ => full_prev.iter().find(|(l, _)| *l == line).unwrap().1.clone(),
+            };
+            assert_eq!(prev, want, "{tag}: line {line}");
+        }
+        assert_eq!(full_prev.iter().find(|(l, _)| *l == 11).unwrap().1, "none", "the reliever's first pitch");
+        assert!(sit.notes.iter().any(|n| n.starts_with("2 pitches come right after a pitch of the same plate appearance that is missing")), "{tag}: {:?}", sit.notes);
+    }
+    assert!(!full_sit.notes.iter().any(|n| n.contains("missing from the log")), "{:?}", full_sit.notes);
+    std::fs::remove_dir_all(&dir).ok();
+}

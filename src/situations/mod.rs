@@ -65,6 +65,28 @@ impl Situations {
     }
 }
 
+/// Whether the pitch before row `i` in its plate appearance is missing
+/// from the log, so its `prev_pitch` cannot be known: within a plate
+/// appearance and pitcher, `pitch_no` skips a number or the count moves
+/// in a way no single pitch moves it (a pitch adds one ball or one strike,
+/// or leaves a two-strike count as it is: a foul; rules of the count,
+/// common practice); or the first pitch of a plate appearance, thrown by
+/// the pitcher of the row before, is past 0-0 (a plate appearance starts
+/// at 0-0; a reliever's first pitch may come later in one, with no pitch
+/// of his own before it).
+pub fn missing_before(log: &PitchLog, i: usize, first_of_pa: bool, new_pa: bool) -> bool {
+    let count_moved = |j: usize| -> bool {
+        let (b0, s0, b1, s1) = (log.balls[j - 1], log.strikes[j - 1], log.balls[j], log.strikes[j]);
+        (b1 == b0 + 1 && s1 == s0) || (b1 == b0 && s1 == s0 + 1) || (b1 == b0 && s1 == s0 && s0 == 2)
+    };
+    if !first_of_pa {
+        let skipped = log.pitch_no.as_ref().is_some_and(|p| p[i] != p[i - 1].wrapping_add(1));
+        return skipped || !count_moved(i);
+    }
+    let same_pitcher = i > 0 && log.game[i] == log.game[i - 1] && log.pitcher[i] == log.pitcher[i - 1];
+    new_pa && same_pitcher && (log.balls[i], log.strikes[i]) != (0, 0)
+}
+
 /// Build every factor from an ordered log.
 ///
 /// Plate appearances: with a `pa` column a new one starts when `(game, pa)`
@@ -73,7 +95,9 @@ impl Situations {
 /// since every pitch moves the count or ends the PA — rules of the count,
 /// common practice). A pitching change inside a plate appearance restarts
 /// `prev_pitch` at `none`, since the new pitcher did not throw the previous
-/// pitch.
+/// pitch. A pitch whose previous pitch is missing from the log (rejected,
+/// set aside, or never logged: [`missing_before`]) has `prev_pitch`
+/// [`UNKNOWN`], not the pitch before the gap.
 pub fn build(log: &PitchLog) -> Situations {
     let n = log.len();
     let mut pa_id = Vec::with_capacity(n);
@@ -83,6 +107,7 @@ pub fn build(log: &PitchLog) -> Situations {
     // (pitcher, batter) -> PAs in the current game
     let mut seen: HashMap<(u32, u32), u32> = HashMap::new();
     let mut cur_times: u32 = 1;
+    let mut gaps = 0usize;
     for i in 0..n {
         let new_game = i == 0 || log.game[i] != log.game[i - 1];
         if new_game {
@@ -114,7 +139,15 @@ pub fn build(log: &PitchLog) -> Situations {
         pa_id.push(cur_pa);
         times.push(times_through_index(cur_times) as u8);
         let same_pa_same_pitcher = !new_pa && log.pitcher[i] == log.pitcher[i - 1];
-        prev.push(if same_pa_same_pitcher { log.pitch_type[i - 1] as u8 + 1 } else { 0 });
+        let first_of_pa = new_pa || log.pitcher[i] != log.pitcher[i - 1];
+        prev.push(if missing_before(log, i, first_of_pa, new_pa) {
+            gaps += 1;
+            UNKNOWN
+        } else if same_pa_same_pitcher {
+            log.pitch_type[i - 1] as u8 + 1
+        } else {
+            0
+        });
     }
 
     let fixed = |f: Factor| f.fixed_levels().iter().map(|s| s.to_string()).collect::<Vec<_>>();
@@ -170,6 +203,12 @@ pub fn build(log: &PitchLog) -> Situations {
     if log.pa.is_none() {
         // Kept, but inferred; inference can be wrong on logs with gaps.
         notes.push("no pa column: plate appearances were inferred from batter changes and 0-0 counts".to_string());
+    }
+    if gaps > 0 {
+        notes.push(format!(
+            "{} pitches come right after a pitch of the same plate appearance that is missing from the log (rejected, set aside or never logged: the count or pitch_no skips), so their previous pitch is read as unknown rather than as the one before the gap",
+            crate::domain::numbers::fmt_n(gaps)
+        ));
     }
     Situations { factors, dropped, notes, pa_id }
 }
