@@ -885,6 +885,41 @@ fn a_score_difference_from_the_other_side_is_set_aside() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+/// A file listing each game's pitches last to first, without `pa` and
+/// `pitch_no` to set the order right: the count falls between consecutive
+/// pitches to one batter where it should rise, so a note says the file
+/// runs backward, and neither the score check (its changes read backward
+/// too) nor the gap note (every pitch seems to follow a gap) misreads it.
+/// The plain-staff demo, forward and backward.
+#[test]
+fn a_file_that_runs_backward_is_named() {
+    let dir = scratch("backward");
+    let demo = std::fs::read_to_string(fixture("../plain-staff/demo-log.csv")).unwrap();
+    let mut lines = demo.lines();
+    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let keep: Vec<usize> = (0..header.len()).filter(|&i| header[i] != "pa" && header[i] != "pitch_no").collect();
+    let cut = |l: &str| -> String {
+        let c: Vec<&str> = l.split(',').collect();
+        keep.iter().map(|&i| c[i]).collect::<Vec<_>>().join(",")
+    };
+    let body: Vec<String> = lines.take(3000).map(cut).collect();
+    let head = cut(&header.join(","));
+    let forward = write(&dir, "forward.csv", &format!("{head}\n{}\n", body.join("\n")));
+    let backward = write(&dir, "backward.csv", &format!("{head}\n{}\n", body.iter().rev().cloned().collect::<Vec<_>>().join("\n")));
+    let sit_notes = |p: &Path| {
+        let ing = load(p);
+        assert!(ing.source.optional_set_aside.is_empty(), "score_diff kept: {:?}", ing.source.optional_set_aside);
+        tellscope::situations::build(&ing.log).notes
+    };
+    let notes = sit_notes(&backward);
+    let note = notes.iter().find(|n| n.contains("the file seems to list each game's pitches last to first")).unwrap_or_else(|| panic!("{notes:?}"));
+    assert!(note.starts_with("the count falls from one pitch to the next in ") && note.contains("add pa and pitch_no columns"), "{note}");
+    assert!(!notes.iter().any(|n| n.contains("missing from the log")), "{notes:?}");
+    let notes = sit_notes(&forward);
+    assert!(!notes.iter().any(|n| n.contains("last to first") || n.contains("missing from the log")), "{notes:?}");
+    std::fs::remove_dir_all(&dir).ok();
+}
+
 /// A log whose `outs` hold the outs after each pitch is refused with the
 /// reason and the fix: outs before each pitch stay the same through a plate
 /// appearance, and here they rise on its last pitch. A log numbering plate

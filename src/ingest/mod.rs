@@ -341,6 +341,32 @@ impl PitchLog {
         ))
     }
 
+    /// Pairs of consecutive rows of one game, pitcher and batter whose
+    /// count rises by one, and those whose count falls by one: (rises,
+    /// falls). Within a plate appearance the count only rises (or holds, on
+    /// a two-strike foul); it falls only from one plate appearance to the
+    /// next (rules of the count, common practice).
+    pub fn count_moves(&self) -> (usize, usize) {
+        let (mut rises, mut falls) = (0usize, 0usize);
+        for i in 1..self.len() {
+            if self.game[i] == self.game[i - 1] && self.pitcher[i] == self.pitcher[i - 1] && self.batter[i] == self.batter[i - 1] {
+                let (a, b) = (self.balls[i - 1] + self.strikes[i - 1], self.balls[i] + self.strikes[i]);
+                rises += (b == a + 1) as usize;
+                falls += (b + 1 == a) as usize;
+            }
+        }
+        (rises, falls)
+    }
+
+    /// Whether the log, in its reading order, lists each game's pitches
+    /// last to first (a file sorted backward, without `pa` and `pitch_no`
+    /// to set it right): the count falls between consecutive pitches to
+    /// one batter at least 100 times and four times as often as it rises.
+    pub fn runs_backward(&self) -> bool {
+        let (rises, falls) = self.count_moves();
+        falls >= 100 && falls > 4 * rises
+    }
+
     /// A note on pitch labels the log seems to rename between two seasons:
     /// at least three pitchers (of at least 100 pitches in both) who threw
     /// none of a label in one season (under 1%) throw it on at least 5% of

@@ -124,6 +124,11 @@ pub fn score_from_the_other_side(log: &PitchLog) -> Option<String> {
             down += usize::from(b < a);
         }
     }
+    // In a file that runs backward (each game's last pitch first) the
+    // score's changes read the other way too.
+    if log.runs_backward() {
+        std::mem::swap(&mut up, &mut down);
+    }
     let total = up + down;
     if total < 20 || 4 * up < total {
         return None;

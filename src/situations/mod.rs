@@ -204,7 +204,17 @@ pub fn build(log: &PitchLog) -> Situations {
         // Kept, but inferred; inference can be wrong on logs with gaps.
         notes.push("no pa column: plate appearances were inferred from batter changes and 0-0 counts".to_string());
     }
-    if gaps > 0 {
+    let backward = log.runs_backward();
+    if backward {
+        let (rises, falls) = log.count_moves();
+        notes.push(format!(
+            "the count falls from one pitch to the next in {} of the log's pairs of consecutive pitches to one batter and rises in {}: the file seems to list each game's pitches last to first; write them in the order thrown, or add pa and pitch_no columns, since until then plate appearances, previous pitches and times through the order are read backward",
+            crate::domain::numbers::fmt_n(falls),
+            crate::domain::numbers::fmt_n(rises)
+        ));
+    }
+    // Read backward, every pitch seems to follow a gap: the note above says why.
+    if gaps > 0 && !backward {
         notes.push(format!(
             "{} pitches come right after a pitch of the same plate appearance that is missing from the log (rejected, set aside or never logged: the count or pitch_no skips), so their previous pitch is read as unknown rather than as the one before the gap",
             crate::domain::numbers::fmt_n(gaps)
