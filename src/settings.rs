@@ -213,6 +213,17 @@ impl InputParams {
         self.set_aside.get(&crate::domain::labels::loose_name(label)).map(String::as_str)
     }
 
+    /// Why a `result` value's rows are set aside ("a pitchout": the bench's
+    /// call, not the pitcher's), by the same list as pitch labels; `None`
+    /// for a value listed in `[result_groups]` or an unknown one.
+    pub fn result_set_aside_as(&self, value: &str) -> Option<&str> {
+        let key = crate::domain::labels::loose_name(value);
+        if self.result_groups.contains_key(&key) {
+            return None;
+        }
+        self.set_aside.get(&key).map(String::as_str).filter(|w| !crate::domain::labels::is_unknown_pitch(w))
+    }
+
     /// A `result` value read as a contract result: one of the seven
     /// written in any case, spacing or punctuation ("Called Strike"), or a
     /// value listed in `[result_groups]`.

@@ -354,6 +354,50 @@ fn result_values_of_the_logs_own_map_through_result_groups() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+/// Missing values as R, spreadsheets and databases write them (`NA`,
+/// `null`, `-`): empty cells in optional columns, a reason that says so in
+/// required ones. A pitchout or intentional ball written in `result` (its
+/// pitch label a pitch type) sets its row aside, as the same label in
+/// `pitch_type` does, unless [result_groups] lists it.
+#[test]
+fn missing_markers_and_pitchouts_in_result() {
+    let dir = scratch("markers");
+    let row = |balls: &str, strikes: u8, result: &str, speed: &str, score: &str| {
+        format!("G-0501,2025-05-01,Wren Alder,R,Moss Quill,L,1,0,{balls},{strikes},0,0,0,fastball,{result},{speed},{score}")
+    };
+    let p = write(
+        &dir,
+        "markers.csv",
+        &format!(
+            "{HEADER},result,speed_mph,score_diff\n{}\n{}\n{}\n{}\n{}\n{}\n",
+            row("0", 0, "NA", "NA", "NA"),
+            row("0", 1, "ball", "null", "-"),
+            row("1", 1, "pitchout", "91.0", "0"),
+            row("1", 1, "Intent_Ball", "80.0", "0"),
+            row("NA", 1, "ball", "90.0", "0"),
+            row("1", 2, "foul", "#N/A", "0"),
+        ),
+    );
+    let ing = load(&p);
+    assert_eq!(ing.log.len(), 3, "{:?} {:?}", ing.rejected, ing.set_aside);
+    assert_eq!(ing.log.result.as_ref().unwrap()[0], None, "NA is a missing result");
+    assert!(ing.log.speed_mph.as_ref().unwrap().iter().all(Option::is_none), "NA, null and #N/A are missing speeds");
+    assert_eq!(ing.log.score_diff.as_ref().unwrap()[..2], [None, None]);
+    assert_eq!(ing.rejected.len(), 1);
+    assert_eq!((ing.rejected[0].line, ing.rejected[0].column.as_ref()), (6, "balls"));
+    assert_eq!(ing.rejected[0].reason, "is \"NA\", a missing value; every pitch needs a value here");
+    let aside: Vec<(u64, &str, &str)> = ing.set_aside.iter().map(|r| (r.line, r.column.as_ref(), r.value.as_str())).collect();
+    assert_eq!(aside, [(4, "result", "pitchout"), (5, "result", "Intent_Ball")]);
+    assert!(ing.set_aside[0].reason.starts_with("the result \"pitchout\" is a pitchout, not the pitcher's choice of pitch"), "{}", ing.set_aside[0].reason);
+    assert!(ing.set_aside[1].reason.contains("is an intentional ball"), "{}", ing.set_aside[1].reason);
+    // Listed in [result_groups], a value is a result like any other.
+    let s = with_config("[result_groups]\nball = [\"pitchout\"]\n");
+    let ing = ingest::load(&p, &s.input).unwrap();
+    assert_eq!(ing.set_aside.len(), 1);
+    assert_eq!(ing.log.len(), 4);
+    std::fs::remove_dir_all(&dir).ok();
+}
+
 // ---------------------------------------------------------------- formats
 
 fn tiny_scenario() -> Scenario {

@@ -21,6 +21,12 @@ const AUTO_BALL: &str = "an automatic ball (a clock or rule violation, no pitch 
 const AUTO_STRIKE: &str = "an automatic strike (a clock or rule violation, no pitch thrown)";
 const UNKNOWN: &str = "an unknown pitch type";
 
+/// Whether a set-aside description is the unknown pitch type's (which
+/// names a pitch label only: an unknown result is a missing value).
+pub fn is_unknown_pitch(what: &str) -> bool {
+    what == UNKNOWN
+}
+
 /// The labels set aside by default, each with what it is. A label of
 /// punctuation only ("?", "-") has an empty loose key and reads as unknown.
 pub const NOT_CHOSEN: &[(&str, &str)] = &[
@@ -28,6 +34,7 @@ pub const NOT_CHOSEN: &[(&str, &str)] = &[
     ("PO", PITCHOUT),
     ("intentional ball", INTENTIONAL),
     ("intentional", INTENTIONAL),
+    ("intent ball", INTENTIONAL),
     ("IN", INTENTIONAL),
     ("IB", INTENTIONAL),
     ("pickoff", PICKOFF),

@@ -812,19 +812,37 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
                 c.dict
                     .iter()
                     .map(|v| match ci {
+                        // A required column's missing-value marker ("NA")
+                        // is said to be one; a pitch label is read as
+                        // written (an unknown pitch, set aside).
+                        _ if ci < REQUIRED_COLUMNS.len() && ci != 13 && parse::missing_marker(v) => {
+                            Err(format!("is \"{v}\", a missing value; every pitch needs a value here"))
+                        }
                         // `result` (column 18: the fifth optional one)
                         // through the config's [result_groups].
-                        18 => input.result_of(v).map(parse::Cell::Result).ok_or_else(|| parse::unknown_result(v)),
+                        18 => input
+                            .result_of(v)
+                            // A pitchout's row is set aside below, whatever its result.
+                            .or_else(|| input.result_set_aside_as(v).map(|_| crate::domain::result::PitchResult::Other))
+                            .map(parse::Cell::Result)
+                            .ok_or_else(|| parse::unknown_result(v)),
                         _ => parse::parse_cell(ci, v),
                     })
                     .collect()
             })
         })
         .collect();
+    // An optional column's missing-value markers ("NA", "null", "-": how R
+    // and databases write a missing value) are empty cells.
+    let missing: Vec<Vec<bool>> = cols
+        .iter()
+        .enumerate()
+        .map(|(ci, c)| c.map_or_else(Vec::new, |c| c.dict.iter().map(|v| ci >= REQUIRED_COLUMNS.len() && parse::missing_marker(v)).collect()))
+        .collect();
     let parse_at = |i: usize| {
         let mut vals: [parse::Value; REQUIRED_COLUMNS.len() + OPTIONAL_COLUMNS.len()] = [None; REQUIRED_COLUMNS.len() + OPTIONAL_COLUMNS.len()];
-        for ((v, c), check) in vals.iter_mut().zip(&cols).zip(&checks) {
-            *v = c.and_then(|c| c.code(i).map(|code| (c.dict[code].as_str(), &check[code])));
+        for (((v, c), check), missing) in vals.iter_mut().zip(&cols).zip(&checks).zip(&missing) {
+            *v = c.and_then(|c| c.code(i).filter(|&code| !missing[code]).map(|code| (c.dict[code].as_str(), &check[code])));
         }
         if let Ok(k) = table.ragged.binary_search_by_key(&i, |r| r.0) {
             // Too few or too many fields: its values would land in the wrong
@@ -855,6 +873,10 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
     // Each pitch label is looked up once: why its rows are set aside, if
     // they are (not the pitcher's choice of pitch).
     let aside_as: Vec<Option<&str>> = cols[13].map_or_else(Vec::new, |c| c.dict.iter().map(|v| input.set_aside_as(v)).collect());
+    // And each result value: a pitchout or an intentional ball written in
+    // `result` (its pitch label a pitch type) is the bench's call too.
+    let aside_result: Vec<Option<&str>> =
+        cols[18].map_or_else(Vec::new, |c| c.dict.iter().map(|v| if input.result_of(v).is_some() { None } else { input.result_set_aside_as(v) }).collect());
     for start in (0..table.n_rows).step_by(CHUNK) {
         let end = (start + CHUNK).min(table.n_rows);
         let parsed: Vec<Parsed> = (start..end).into_par_iter().map(parse_at).collect();
@@ -869,6 +891,16 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
                         column: "pitch_type".into(),
                         reason: format!("\"{label}\" is {what}, not the pitcher's choice of pitch: set aside ([set_aside] pitch_labels in the config)").into(),
                         value: label,
+                    });
+                }
+                Parsed::Row(_) if code(18, i).and_then(|c| aside_result[c]).is_some() => {
+                    let c = code(18, i).expect("a result value");
+                    let value = clip_value(&cols[18].expect("the result column").dict[c]);
+                    aside.push(Rejected {
+                        line: table.location(i),
+                        column: "result".into(),
+                        reason: format!("the result \"{value}\" is {}, not the pitcher's choice of pitch: set aside ([set_aside] pitch_labels in the config)", aside_result[c].unwrap_or_default()).into(),
+                        value,
                     });
                 }
                 Parsed::Row(p) => {

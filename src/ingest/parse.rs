@@ -191,6 +191,14 @@ fn inning_with_half(v: &str) -> Option<u32> {
     (half && (1..=99).contains(&n)).then_some(n)
 }
 
+/// Whether a value is a missing-value marker: `NA`, `N/A`, `#N/A`,
+/// `NaN`, `null`, `None` in any case, or punctuation alone (`-`, `?`), as R,
+/// spreadsheets and databases write a missing value. In an optional column
+/// it is an empty cell; in a required one a reason that says so.
+pub fn missing_marker(v: &str) -> bool {
+    matches!(crate::domain::labels::loose_name(v).as_str(), "" | "na" | "nan" | "null" | "none")
+}
+
 /// Why a `result` value is refused, with the fix: a log's own outcome
 /// codes ("foul_tip", "blocked_ball") are each listed under the contract
 /// result they count as, which only the club can say. Said once per
@@ -496,5 +504,15 @@ mod tests {
         assert!(parse_cell(10, "Wren Alder").unwrap_err().contains("if it is the runner's name or id, write 1"));
         assert!(parse_cell(12, "aldew001").unwrap_err().contains("runner's name or id"));
         assert_eq!(parse_cell(11, "maybe").unwrap_err(), "is not 0/1, true/false, yes/no or t/f");
+    }
+
+    #[test]
+    fn missing_markers_are_the_usual_spellings() {
+        for v in ["NA", "N/A", "#N/A", "NaN", "nan", "null", "NULL", "None", "-", "?", "--"] {
+            assert!(missing_marker(v), "{v}");
+        }
+        for v in ["0", "-1", "-0.5", "ball", "Nash", "n", "NAS"] {
+            assert!(!missing_marker(v), "{v}");
+        }
     }
 }
