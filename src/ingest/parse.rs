@@ -192,11 +192,15 @@ fn inning_with_half(v: &str) -> Option<u32> {
 }
 
 /// Whether a value is a missing-value marker: `NA`, `N/A`, `#N/A`,
-/// `NaN`, `null`, `None` in any case, or punctuation alone (`-`, `?`), as R,
-/// spreadsheets and databases write a missing value. In an optional column
-/// it is an empty cell; in a required one a reason that says so.
+/// `NaN`, `null`, `None` as R, pandas, spreadsheets and databases write
+/// them (all in one case, so a name such as "Na" is not one), or
+/// punctuation alone (`-`, `?`). In an optional column it is an empty cell;
+/// in a required one a reason that says so.
 pub fn missing_marker(v: &str) -> bool {
-    matches!(crate::domain::labels::loose_name(v).as_str(), "" | "na" | "nan" | "null" | "none")
+    const MARKERS: [&str; 7] = ["na", "n/a", "#n/a", "nan", "null", "none", "<na>"];
+    let v = v.trim();
+    let one_case = v == v.to_lowercase() || v == v.to_uppercase() || v == "NaN" || v == "None" || v == "Null";
+    (one_case && MARKERS.contains(&v.to_lowercase().as_str())) || crate::domain::labels::loose_name(v).is_empty()
 }
 
 /// Why a `result` value is refused, with the fix: a log's own outcome
@@ -508,10 +512,10 @@ mod tests {
 
     #[test]
     fn missing_markers_are_the_usual_spellings() {
-        for v in ["NA", "N/A", "#N/A", "NaN", "nan", "null", "NULL", "None", "-", "?", "--"] {
+        for v in ["NA", "N/A", "#N/A", "NaN", "nan", "null", "NULL", "None", "none", "<NA>", "-", "?", "--"] {
             assert!(missing_marker(v), "{v}");
         }
-        for v in ["0", "-1", "-0.5", "ball", "Nash", "n", "NAS"] {
+        for v in ["0", "-1", "-0.5", "ball", "Nash", "n", "NAS", "Na", "nA"] {
             assert!(!missing_marker(v), "{v}");
         }
     }
