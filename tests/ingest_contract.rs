@@ -398,6 +398,47 @@ fn missing_markers_and_pitchouts_in_result() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+/// `pa` and `pitch_no` numbered from 0 (as a program counting from 0
+/// writes them) read as from 1, with a note, instead of every first pitch
+/// rejected: the same rows in the same order as the file numbered from 1,
+/// and the same situations. A file numbered from 1 gets no note.
+#[test]
+fn pa_and_pitch_no_counted_from_zero_read_as_from_one() {
+    let dir = scratch("from-zero");
+    let demo = std::fs::read_to_string(fixture("../plain-staff/demo-log.csv")).unwrap();
+    let mut lines = demo.lines();
+    let head = lines.next().unwrap();
+    let header: Vec<&str> = head.split(',').collect();
+    let (pa, no) = (header.iter().position(|h| *h == "pa").unwrap(), header.iter().position(|h| *h == "pitch_no").unwrap());
+    let body: Vec<&str> = lines.take(3000).collect();
+    let shifted: Vec<String> = body
+        .iter()
+        .map(|l| {
+            let mut c: Vec<String> = l.split(',').map(str::to_string).collect();
+            for i in [pa, no] {
+                c[i] = (c[i].parse::<u32>().unwrap() - 1).to_string();
+            }
+            c.join(",")
+        })
+        .collect();
+    let one = load(&write(&dir, "one.csv", &format!("{head}\n{}\n", body.join("\n"))));
+    let zero = load(&write(&dir, "zero.csv", &format!("{head}\n{}\n", shifted.join("\n"))));
+    assert!(zero.rejected.is_empty());
+    assert_same_rows(&one.log, &zero.log, true);
+    assert_eq!(zero.log.pa, one.log.pa);
+    assert_eq!(zero.log.pitch_no, one.log.pitch_no);
+    let (s1, s0) = (tellscope::situations::build(&one.log), tellscope::situations::build(&zero.log));
+    for (a, b) in s1.factors.iter().zip(&s0.factors) {
+        assert_eq!(a.codes, b.codes, "{}", a.factor);
+    }
+    assert!(one.log.counted_from_zero.is_none());
+    assert_eq!(
+        zero.log.counted_from_zero.as_deref(),
+        Some("`pa` and `pitch_no` count from 0 in this file, where the contract counts from 1: each number is read one higher (the order is the same)")
+    );
+    std::fs::remove_dir_all(&dir).ok();
+}
+
 // ---------------------------------------------------------------- formats
 
 fn tiny_scenario() -> Scenario {

@@ -131,6 +131,9 @@ pub struct PitchLog {
     /// why, in words: the rows were then kept in file order within each
     /// game.
     pub pa_numbering: Option<String>,
+    /// `pa` or `pitch_no` numbered from 0 in the file, read as from 1: a
+    /// note when they are.
+    pub counted_from_zero: Option<String>,
 }
 
 /// The rows a run leaves out: those breaking the contract, and those set
@@ -487,6 +490,7 @@ pub fn log_notes(log: &PitchLog, source: &SourceInfo) -> Vec<String> {
     notes.extend(log.names_on_two_clubs_in_a_day());
     notes.extend(log.renamed_labels());
     notes.extend(log.pa_numbering.clone());
+    notes.extend(log.counted_from_zero.clone());
     if source.optional_missing.iter().any(|c| c == "season") {
         notes.extend(log.season_across_new_year());
     }
@@ -803,6 +807,16 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
     // Rows are parsed in parallel a chunk at a time (memory stays bounded),
     // then taken in file order: the result does not depend on threads.
     const CHUNK: usize = 1 << 15;
+    // `pa` and `pitch_no` numbered from 0 (as a program counting from 0
+    // writes them) hold a 0 and nothing below it: every number is read one
+    // higher, the same order, rather than each first pitch rejected.
+    let from_zero = |ci: usize| {
+        cols[ci].is_some_and(|c| {
+            let n = |v: &String| v.trim().parse::<f64>().ok();
+            c.dict.iter().any(|v| n(v) == Some(0.0)) && c.dict.iter().all(|v| n(v).is_none_or(|x| x >= 0.0))
+        })
+    };
+    let zero_based = [from_zero(15), from_zero(16)];
     // Each column's distinct values are checked once; rows look them up.
     let checks: Vec<Vec<std::result::Result<parse::Cell, String>>> = cols
         .par_iter()
@@ -820,6 +834,7 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
                         }
                         // `result` (column 18: the fifth optional one)
                         // through the config's [result_groups].
+                        15 | 16 if zero_based[ci - 15] => parse::parse_counted_from_zero(ci, v),
                         18 => input
                             .result_of(v)
                             // A pitchout's row is set aside below, whatever its result.
@@ -959,6 +974,14 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
     let optional = Optional { pa, pitch_no, score, result, speed, side, height, team };
     let repeats = order_rows(&mut log, optional, |c| has(c), table.format.locator());
     split_games_by_date(&mut log);
+    let named: Vec<&str> = ["pa", "pitch_no"].into_iter().zip(zero_based).filter(|(_, z)| *z).map(|(c, _)| c).collect();
+    if !named.is_empty() {
+        log.counted_from_zero = Some(format!(
+            "{} {} from 0 in this file, where the contract counts from 1: each number is read one higher (the order is the same)",
+            named.iter().map(|c| format!("`{c}`")).collect::<Vec<_>>().join(" and "),
+            if named.len() == 1 { "counts" } else { "count" }
+        ));
+    }
     if !repeats.is_empty() {
         rejected.extend(repeats);
         // rejected.csv lists rows in file order.

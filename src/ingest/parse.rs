@@ -203,6 +203,13 @@ pub fn missing_marker(v: &str) -> bool {
     (one_case && MARKERS.contains(&v.to_lowercase().as_str())) || crate::domain::labels::loose_name(v).is_empty()
 }
 
+/// `pa` (column 15) or `pitch_no` (16) of a file that numbers them from 0:
+/// read one higher, so the contract's numbering from 1 holds.
+pub fn parse_counted_from_zero(column: usize, v: &str) -> Result<Cell, String> {
+    let col = if column == 15 { "pa" } else { "pitch_no" };
+    int_in(v, col, 0, i64::from(u32::MAX) - 1).map(|n| Cell::Int(n + 1)).map_err(|b| b.2)
+}
+
 /// Why a `result` value is refused, with the fix: a log's own outcome
 /// codes ("foul_tip", "blocked_ball") are each listed under the contract
 /// result they count as, which only the club can say. Said once per
