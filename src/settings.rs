@@ -214,11 +214,13 @@ impl InputParams {
     }
 
     /// Why a `result` value's rows are set aside ("a pitchout": the bench's
-    /// call, not the pitcher's), by the same list as pitch labels; `None`
-    /// for a value listed in `[result_groups]` or an unknown one.
+    /// call, not the pitcher's), by the same list as pitch labels, spelled
+    /// out only (a two-letter code such as "IN" could be a result's own
+    /// code, in play say); `None` for a value listed in `[result_groups]`
+    /// or an unknown one.
     pub fn result_set_aside_as(&self, value: &str) -> Option<&str> {
         let key = crate::domain::labels::loose_name(value);
-        if self.result_groups.contains_key(&key) {
+        if self.result_groups.contains_key(&key) || key.chars().count() < 5 {
             return None;
         }
         self.set_aside.get(&key).map(String::as_str).filter(|w| !crate::domain::labels::is_unknown_pitch(w))

@@ -378,6 +378,11 @@ fn missing_markers_and_pitchouts_in_result() {
             row("1", 2, "foul", "#N/A", "0"),
         ),
     );
+    // A two-letter code in `result` is a result's own code, not a set-aside
+    // label ("IN" may be in play): rejected as unknown, not set aside.
+    let coded = write(&dir, "coded.csv", &format!("{HEADER},result,speed_mph,score_diff\n{}\n{}\n", row("0", 0, "IN", "90.0", "0"), row("0", 0, "ball", "90.0", "0")));
+    let c = load(&coded);
+    assert!(c.set_aside.is_empty() && c.rejected[0].reason.contains("[result_groups]"), "{:?}", c.rejected);
     let ing = load(&p);
     assert_eq!(ing.log.len(), 3, "{:?} {:?}", ing.rejected, ing.set_aside);
     assert_eq!(ing.log.result.as_ref().unwrap()[0], None, "NA is a missing result");
