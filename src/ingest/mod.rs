@@ -808,12 +808,28 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
     // then taken in file order: the result does not depend on threads.
     const CHUNK: usize = 1 << 15;
     // `pa` and `pitch_no` numbered from 0 (as a program counting from 0
-    // writes them) hold a 0 and nothing below it: every number is read one
-    // higher, the same order, rather than each first pitch rejected.
+    // writes them) hold nothing below 0, and about as many rows at 0 as at 1
+    // (every plate appearance, or every game, has its 0): every number is
+    // read one higher, the same order, rather than each first pitch
+    // rejected. A stray 0 in a column numbered from 1 is rejected as ever.
     let from_zero = |ci: usize| {
         cols[ci].is_some_and(|c| {
             let n = |v: &String| v.trim().parse::<f64>().ok();
-            c.dict.iter().any(|v| n(v) == Some(0.0)) && c.dict.iter().all(|v| n(v).is_none_or(|x| x >= 0.0))
+            if !c.dict.iter().all(|v| n(v).is_none_or(|x| x >= 0.0)) {
+                return false;
+            }
+            let code_of = |x: f64| c.dict.iter().position(|v| n(v) == Some(x));
+            let Some(zero) = code_of(0.0) else { return false };
+            let one = code_of(1.0);
+            let (mut at0, mut at1) = (0usize, 0usize);
+            for i in 0..table.n_rows {
+                match c.code(i) {
+                    Some(k) if k == zero => at0 += 1,
+                    Some(k) if Some(k) == one => at1 += 1,
+                    _ => {}
+                }
+            }
+            at0 >= 2 && 2 * at0 >= at1
         })
     };
     let zero_based = [from_zero(15), from_zero(16)];
