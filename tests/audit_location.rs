@@ -216,6 +216,19 @@ fn a_season_without_locations_is_named_in_a_note() {
     // Every pitcher's located pitches are 2026's only.
     let located: usize = a.summary.pitchers.iter().filter_map(|p| p.location.as_ref()).map(|l| l.n).sum();
     assert!(located > 0 && located <= by["2026"].1);
+
+    // With no result at all, the note says what cannot be shown.
+    let none: Vec<String> = std::fs::read_to_string(&path).unwrap().lines().enumerate().map(|(k, l)| {
+        let mut f: Vec<&str> = l.split(',').collect();
+        if k > 0 {
+            f[result] = "NA";
+        }
+        f.join(",")
+    }).collect();
+    std::fs::write(&path, none.join("\n") + "\n").unwrap();
+    let a = audit::run(&path, &settings(19, 3), false).unwrap();
+    let want = format!("None of the audited pitchers' {} pitches has a result in the log, so whether a tell costs him cannot be shown.", fmt(all));
+    assert!(a.summary.notes.contains(&want), "{want}\n{:?}", a.summary.notes);
     std::fs::remove_dir_all(&dir).ok();
 
     // The plain log has no such note.

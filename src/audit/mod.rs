@@ -625,10 +625,20 @@ fn run_notes(
         m
     };
     if let (Some(side), Some(height)) = (&log.loc_side_ft, &log.loc_height_ft) {
-        notes.extend(gaps_note(log, &mine, |r| side[r].is_none() || height[r].is_none(), "location", "location figures and location tells rest on the located pitches alone"));
+        notes.extend(gaps_note(
+            log,
+            &mine,
+            |r| side[r].is_none() || height[r].is_none(),
+            ("location", "location figures and location tells rest on the located pitches alone", "where his pitches go (location figures and location tells) cannot be shown"),
+        ));
     }
     if let Some(result) = &log.result {
-        notes.extend(gaps_note(log, &mine, |r| result[r].is_none(), "result", "whether a tell costs him rests on the pitches with one"));
+        notes.extend(gaps_note(
+            log,
+            &mine,
+            |r| result[r].is_none(),
+            ("result", "whether a tell costs him rests on the pitches with one", "whether a tell costs him cannot be shown"),
+        ));
     }
     notes
 }
@@ -636,9 +646,10 @@ fn run_notes(
 /// A note when an optional column is empty for a marked share of the run's
 /// pitchers' pitches (tracking installed partway through a log's seasons,
 /// a park without it): at least a twentieth of them, or a fifth of a
-/// season's. `missing(row)`: the row has no value; `what`: the value, in
-/// words; `so`: what then rests on fewer pitches.
-fn gaps_note(log: &ingest::PitchLog, mine: &[bool], missing: impl Fn(usize) -> bool, what: &str, so: &str) -> Option<String> {
+/// season's. `missing(row)`: the row has no value; `(what, so, none)`: the
+/// value, in words; what then rests on fewer pitches; what cannot be shown
+/// when no pitch has one.
+fn gaps_note(log: &ingest::PitchLog, mine: &[bool], missing: impl Fn(usize) -> bool, (what, so, none): (&str, &str, &str)) -> Option<String> {
     let mut by: BTreeMap<i32, (usize, usize)> = BTreeMap::new();
     for r in 0..log.len() {
         if mine[log.pitcher[r] as usize] {
@@ -653,6 +664,9 @@ fn gaps_note(log: &ingest::PitchLog, mine: &[bool], missing: impl Fn(usize) -> b
         return None;
     }
     use crate::domain::numbers::fmt_n;
+    if gaps == all {
+        return Some(format!("None of the audited pitchers' {} pitches has a {what} in the log, so {none}.", fmt_n(all)));
+    }
     let seasons: Vec<String> = by.iter().map(|(y, &(m, n))| format!("{y}: {} of {}", fmt_n(m), fmt_n(n))).collect();
     Some(format!(
         "{} of the audited pitchers' {} pitches have no {what} in the log ({}), so {so}.",
