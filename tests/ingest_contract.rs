@@ -444,6 +444,31 @@ fn pa_and_pitch_no_counted_from_zero_read_as_from_one() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+/// Game ids numbered per club (each club's nth game): one id holds the
+/// pitchers of more than two clubs on a day, which no game does. A note
+/// says so (not the note on `pa` numbered per team, which the collisions
+/// would otherwise read as); each pitcher's rows keep the file's order.
+#[test]
+fn game_ids_numbered_per_club_are_named() {
+    let dir = scratch("per-club-ids");
+    let mut text = format!("{HEADER},pa,pitch_no,team\n");
+    for (club, pitcher) in [("Harbor Owls", "Wren Alder"), ("Mill Foxes", "Juno Vale"), ("Ridge Hawks", "Tam Ostrow")] {
+        for (pa, batter) in [(1, "Moss Quill"), (2, "Tal Brook")] {
+            for (k, (b, st)) in [(0, 0), (0, 1), (1, 1)].iter().enumerate() {
+                text += &format!("1,2025-05-01,{pitcher},R,{batter} of {club},L,1,0,{b},{st},0,0,0,fastball,{pa},{},{club}\n", k + 1);
+            }
+        }
+    }
+    let ing = load(&write(&dir, "ids.csv", &text));
+    assert_eq!(ing.log.len(), 18);
+    let note = ing.log.pa_numbering.as_deref().expect("a note");
+    assert!(note.starts_with("in 1 of the 1 games, one game id holds pitchers of more than two clubs on one day (\"1\" on 2025-05-01 holds 3)"), "{note}");
+    // Each pitcher's rows in the file's order: his six pitches together.
+    let by: Vec<&str> = ing.log.pitcher.iter().map(|&p| ing.log.pitchers[p as usize].as_str()).collect();
+    assert_eq!(by, [["Wren Alder"; 6], ["Juno Vale"; 6], ["Tam Ostrow"; 6]].concat());
+    std::fs::remove_dir_all(&dir).ok();
+}
+
 // ---------------------------------------------------------------- formats
 
 fn tiny_scenario() -> Scenario {

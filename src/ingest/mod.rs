@@ -1053,6 +1053,25 @@ fn pa_not_through_the_game(log: &PitchLog, optional: &Optional) -> (HashSet<(i32
         c.1 += usize::from(e.2);
     }
     let not_through: HashSet<(i32, u32)> = games.iter().filter(|(_, &(n, r))| r >= 2 && 10 * r >= n).map(|(&k, _)| k).collect();
+    // A game has two clubs: an id holding more on one day is numbered per
+    // club (each club's nth game), which is what the `pa` collisions show.
+    let mut clubs: HashMap<(i32, u32), HashSet<u32>> = HashMap::new();
+    for i in 0..log.len() {
+        if let Some(t) = optional.team.get(i).copied().flatten() {
+            clubs.entry((log.date[i], log.game[i])).or_default().insert(t);
+        }
+    }
+    let crowded: Vec<(usize, (i32, u32))> = clubs.iter().filter(|(_, c)| c.len() > 2).map(|(&k, c)| (c.len(), k)).collect();
+    if let Some(&(most, (date, game))) = crowded.iter().max() {
+        let note = format!(
+            "in {} of the {} games, one game id holds pitchers of more than two clubs on one day (\"{}\" on {} holds {most}): the ids look numbered per club (each club's nth game), not per game; each pitcher's outings are read in the file's order, but give each game an id of its own",
+            crate::domain::numbers::fmt_n(crowded.len()),
+            crate::domain::numbers::fmt_n(games.len()),
+            log.games[game as usize],
+            parse::format_date(date)
+        );
+        return (not_through, Some(note));
+    }
     let note = (!not_through.is_empty()).then(|| {
         format!(
             "in {} of the {} games, `pa` numbers hold pitches of two innings or two clubs, so it is numbered per team or per inning there rather than through the game: those games' rows are kept in the file's order (give the file in game order, or number pa through the game)",
