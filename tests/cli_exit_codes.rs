@@ -346,7 +346,7 @@ fn a_bad_scenario_exits_2() {
 /// rejected rows are still kept, with a short page saying why.
 #[test]
 fn an_unusable_log_still_keeps_its_rejected_rows() {
-    let dir = scratch("unusable");
+    let dir = scratch("unusable-kept");
     let log = dir.join("allbad.csv");
     std::fs::write(
         &log,

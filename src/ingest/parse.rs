@@ -221,6 +221,23 @@ pub fn unknown_result(v: &str) -> String {
     )
 }
 
+/// A date written as a timestamp at midnight (`2025-04-03 00:00:00`,
+/// `2025-04-03T00:00:00.000Z`, as databases and some exports write a date
+/// column) is that date; any other value comes back as it is. A time of day
+/// other than midnight stays refused (in UTC it can be the next day).
+fn midnight_dropped(v: &str) -> &str {
+    if v.len() <= 11 || !v.is_char_boundary(10) || !v.is_char_boundary(11) {
+        return v;
+    }
+    let (day, sep, time) = (&v[..10], &v[10..11], &v[11..]);
+    let midnight = time.starts_with("00") && time.chars().all(|c| matches!(c, '0' | ':' | '.' | 'Z' | '+'));
+    if (sep == "T" || sep == " ") && midnight {
+        day
+    } else {
+        v
+    }
+}
+
 /// Checks one non-empty value of contract column `column` (an index into
 /// REQUIRED_COLUMNS then OPTIONAL_COLUMNS) against its rule; the error is
 /// the reason. A value's check does not depend on its row, so a column's
@@ -229,7 +246,7 @@ pub fn parse_cell(column: usize, v: &str) -> Result<Cell, String> {
     let int = |col, lo, hi| int_in(v, col, lo, hi).map(Cell::Int).map_err(|b| b.2);
     match column {
         0 | 2 | 4 | 13 | 22 => text_cell(v),
-        1 => match parse_date(v) {
+        1 => match parse_date(midnight_dropped(v)) {
             // The same plausible years as the `season` column: a year 0 or
             // 9999 would otherwise become a season of its own.
             Some((_, y)) if !(1800..=3000).contains(&y) => Err("has a year outside the plausible 1800..3000".to_string()),
@@ -512,6 +529,14 @@ mod tests {
         assert!(parse_cell(10, "608070").unwrap_err().contains("if it is the runner's id, write 1"));
         assert!(parse_cell(11, "2").unwrap_err().contains("runner's id"));
         assert_eq!(parse_cell(12, "y").unwrap_err(), "is not 0/1, true/false, yes/no or t/f");
+        // A date stored as a timestamp at midnight is that date; another
+        // time of day is refused.
+        for v in ["2025-04-03 00:00:00", "2025-04-03T00:00:00.000Z", "2025-04-03T00:00", "2025-04-03 00:00:00+00:00"] {
+            assert!(matches!(parse_cell(1, v), Ok(Cell::Date(d, 2025)) if d == days_from_civil(2025, 4, 3)), "{v}");
+        }
+        for v in ["2025-04-03 19:05:00", "2025-04-03T00:30:00", "2025-04-03 00:00:01", "2025-04-03x00"] {
+            assert!(parse_cell(1, v).is_err(), "{v}");
+        }
         assert!(parse_cell(10, "Wren Alder").unwrap_err().contains("if it is the runner's name or id, write 1"));
         assert!(parse_cell(12, "aldew001").unwrap_err().contains("runner's name or id"));
         assert_eq!(parse_cell(11, "maybe").unwrap_err(), "is not 0/1, true/false, yes/no or t/f");
