@@ -294,7 +294,16 @@ pub fn parse_cell(column: usize, v: &str) -> Result<Cell, String> {
                 "is not 0/1, true/false, yes/no or t/f".to_string()
             }
         }),
-        14 => int("season", 1800, 3000),
+        14 => int("season", 1800, 3000).map_err(|e| {
+            // A winter league's season written as its span ("2025-26").
+            let b = v.as_bytes();
+            let span = b.len() >= 6 && b[..4].iter().all(u8::is_ascii_digit) && matches!(b[4], b'-' | b'/') && b[5..].iter().all(u8::is_ascii_digit);
+            if span {
+                "is a span of years; write one year per season (the year the season is counted under, the same for all its games)".to_string()
+            } else {
+                e
+            }
+        }),
         15 => int("pa", 1, i64::from(u32::MAX)),
         16 => int("pitch_no", 1, i64::from(u32::MAX)),
         17 => int("score_diff", -200, 200),
@@ -529,6 +538,9 @@ mod tests {
         assert!(parse_cell(10, "608070").unwrap_err().contains("if it is the runner's id, write 1"));
         assert!(parse_cell(11, "2").unwrap_err().contains("runner's id"));
         assert_eq!(parse_cell(12, "y").unwrap_err(), "is not 0/1, true/false, yes/no or t/f");
+        assert!(parse_cell(14, "2025-26").unwrap_err().starts_with("is a span of years"));
+        assert!(parse_cell(14, "2025/2026").unwrap_err().starts_with("is a span of years"));
+        assert_eq!(parse_cell(14, "20x5").unwrap_err(), "is not a whole number");
         // A date stored as a timestamp at midnight is that date; another
         // time of day is refused.
         for v in ["2025-04-03 00:00:00", "2025-04-03T00:00:00.000Z", "2025-04-03T00:00", "2025-04-03 00:00:00+00:00"] {
