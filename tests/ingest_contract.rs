@@ -403,6 +403,14 @@ fn missing_markers_and_pitchouts_in_result() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+/// The plain-staff demo's header and its first `n` rows.
+fn plain_staff_lines(n: usize) -> (String, Vec<String>) {
+    let demo = std::fs::read_to_string(fixture("../plain-staff/demo-log.csv")).unwrap();
+    let mut lines = demo.lines();
+    let head = lines.next().unwrap().to_string();
+    (head, lines.take(n).map(str::to_string).collect())
+}
+
 /// `pa` and `pitch_no` numbered from 0 (as a program counting from 0
 /// writes them) read as from 1, with a note, instead of every first pitch
 /// rejected: the same rows in the same order as the file numbered from 1,
@@ -410,12 +418,9 @@ fn missing_markers_and_pitchouts_in_result() {
 #[test]
 fn pa_and_pitch_no_counted_from_zero_read_as_from_one() {
     let dir = scratch("from-zero");
-    let demo = std::fs::read_to_string(fixture("../plain-staff/demo-log.csv")).unwrap();
-    let mut lines = demo.lines();
-    let head = lines.next().unwrap();
+    let (head, body) = plain_staff_lines(3000);
     let header: Vec<&str> = head.split(',').collect();
     let (pa, no) = (header.iter().position(|h| *h == "pa").unwrap(), header.iter().position(|h| *h == "pitch_no").unwrap());
-    let body: Vec<&str> = lines.take(3000).collect();
     let shifted: Vec<String> = body
         .iter()
         .map(|l| {
@@ -1009,15 +1014,14 @@ fn a_score_difference_from_the_other_side_is_set_aside() {
 #[test]
 fn a_file_that_runs_backward_is_named() {
     let dir = scratch("backward");
-    let demo = std::fs::read_to_string(fixture("../plain-staff/demo-log.csv")).unwrap();
-    let mut lines = demo.lines();
-    let header: Vec<&str> = lines.next().unwrap().split(',').collect();
+    let (head, lines) = plain_staff_lines(3000);
+    let header: Vec<&str> = head.split(',').collect();
     let keep: Vec<usize> = (0..header.len()).filter(|&i| header[i] != "pa" && header[i] != "pitch_no").collect();
     let cut = |l: &str| -> String {
         let c: Vec<&str> = l.split(',').collect();
         keep.iter().map(|&i| c[i]).collect::<Vec<_>>().join(",")
     };
-    let body: Vec<String> = lines.take(3000).map(cut).collect();
+    let body: Vec<String> = lines.iter().map(|l| cut(l)).collect();
     let head = cut(&header.join(","));
     let forward = write(&dir, "forward.csv", &format!("{head}\n{}\n", body.join("\n")));
     let backward = write(&dir, "backward.csv", &format!("{head}\n{}\n", body.iter().rev().cloned().collect::<Vec<_>>().join("\n")));
