@@ -137,6 +137,11 @@ fn every_breach_is_one_rejected_row_with_its_line_and_column() {
     assert_eq!(balls[0], balls[1]);
     assert_eq!(ing.source.rows_read, 20);
     assert_eq!(ing.source.rows_rejected, 16);
+    // The commonest reasons, for the run's note: the two balls rows, then
+    // the single ones by column.
+    let top: Vec<(&str, usize)> = ing.source.rejected_reasons.iter().map(|r| (r.column.as_str(), r.rows)).collect();
+    assert_eq!(top, [("balls", 2), ("bats", 1), ("batter", 1)]);
+    assert_eq!(ing.source.rejected_reasons[0].reason, balls[0]);
     // The valid rows are kept, in pa / pitch_no order.
     assert_eq!(ing.log.len(), 4);
     assert_eq!(ing.log.source_line, [2, 4, 19, 21]);

@@ -178,9 +178,19 @@ pub fn input_notes(log: &ingest::PitchLog, sit: &Situations, source: &ingest::So
         ));
     }
     if source.rows_rejected > 0 {
+        use crate::domain::numbers::fmt_n;
+        // Each reason's first clause; its fix is in rejected.csv and check.
+        let most: Vec<String> = source
+            .rejected_reasons
+            .iter()
+            .map(|r| format!("{} for `{}` ({})", fmt_n(r.rows), r.column, r.reason.split("; ").next().unwrap_or_default()))
+            .collect();
+        let more = if source.rejected_reasons.iter().map(|r| r.rows).sum::<usize>() < source.rows_rejected { ", and others" } else { "" };
         notes.push(format!(
-            "{} of {} input rows broke the data contract and were left out; they are listed with reasons in rejected.csv.",
-            crate::domain::numbers::fmt_n(source.rows_rejected), crate::domain::numbers::fmt_n(source.rows_read)
+            "{} of {} input rows broke the data contract and were left out: {}{more}. They are listed in rejected.csv, each with its reason and the fix (`tellscope check` groups them).",
+            fmt_n(source.rows_rejected),
+            fmt_n(source.rows_read),
+            most.join("; ")
         ));
     }
     notes

@@ -55,6 +55,10 @@ pub struct Input {
     /// Those rows by label: how many, and what the label is.
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub pitch_labels_set_aside: Vec<crate::ingest::LabelSetAside>,
+    /// The commonest reasons rows were rejected (at most three; absent
+    /// when none were).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub rejected_reasons: Vec<crate::ingest::RejectedReason>,
     pub seasons: Vec<i32>,
 }
 
@@ -77,6 +81,7 @@ impl Input {
             optional_set_aside: source.optional_set_aside.clone(),
             rows_set_aside: source.rows_set_aside,
             pitch_labels_set_aside: source.pitch_labels_set_aside.clone(),
+            rejected_reasons: source.rejected_reasons.clone(),
             seasons: log.seasons(),
         }
     }

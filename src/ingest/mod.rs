@@ -66,6 +66,31 @@ pub struct SourceInfo {
     pub rows_set_aside: usize,
     /// Those rows by label, most first.
     pub pitch_labels_set_aside: Vec<LabelSetAside>,
+    /// The rejected rows' commonest reasons (column and reason), most rows
+    /// first, at most three: what the run's note names.
+    pub rejected_reasons: Vec<RejectedReason>,
+}
+
+/// One reason rows were rejected, with how many.
+#[derive(Debug, Clone, PartialEq, Eq, Serialize)]
+pub struct RejectedReason {
+    pub column: String,
+    pub reason: String,
+    pub rows: usize,
+}
+
+/// The commonest reasons among rejected rows, most rows first (then by
+/// column and reason), at most `n`.
+fn commonest_reasons(rows: &[Rejected], n: usize) -> Vec<RejectedReason> {
+    let mut by: BTreeMap<(&str, &str), usize> = BTreeMap::new();
+    for r in rows {
+        *by.entry((r.column.as_ref(), r.reason.as_ref())).or_default() += 1;
+    }
+    let mut out: Vec<RejectedReason> =
+        by.into_iter().map(|((c, reason), rows)| RejectedReason { column: c.to_string(), reason: reason.to_string(), rows }).collect();
+    out.sort_by(|a, b| b.rows.cmp(&a.rows).then_with(|| (&a.column, &a.reason).cmp(&(&b.column, &b.reason))));
+    out.truncate(n);
+    out
 }
 
 /// One pitch label whose rows were set aside: how many, and what it is.
@@ -696,6 +721,7 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
         optional_set_aside: set_aside,
         rows_set_aside: aside_rows.len(),
         pitch_labels_set_aside: labels_set_aside(&aside_rows, input),
+        rejected_reasons: commonest_reasons(&rejected, 3),
     };
     if !checked {
         return Ok(Ingested { log, rejected, set_aside: aside_rows, source });
