@@ -21,7 +21,7 @@ pub struct ConfigFile {
     #[serde(default)]
     pub pitch_groups: BTreeMap<String, Vec<String>>,
     /// Contract result (`ball`, `called_strike`, ...) = the file's own
-    /// values that count as it ("foul_tip", "blocked_ball").
+    /// values that count as it ("foul_tip", "ball_in_dirt").
     #[serde(default)]
     pub result_groups: BTreeMap<String, Vec<String>>,
     #[serde(default)]
@@ -489,7 +489,7 @@ impl InputParams {
         for (result, members) in &cfg.result_groups {
             let Some(r) = crate::domain::result::PitchResult::parse(result) else {
                 return Err(Error::Usage(format!(
-                    "[result_groups] {result}: not a contract result; each key must be one of {} (e.g. ball = [\"blocked_ball\"])",
+                    "[result_groups] {result}: not a contract result; each key must be one of {} (e.g. ball = [\"ball_in_dirt\"])",
                     crate::domain::result::PitchResult::ALL.map(|r| r.as_str()).join(", ")
                 )));
             };

@@ -325,7 +325,7 @@ fn result_values_of_the_logs_own_map_through_result_groups() {
             "{HEADER},result\n{}\n{}\n{}\n{}\n",
             row(0, "Called Strike"),
             row(1, "foul_tip"),
-            row(2, "blocked_ball"),
+            row(2, "dirt ball"),
             row(2, "IN-PLAY")
         ),
     );
@@ -337,9 +337,9 @@ fn result_values_of_the_logs_own_map_through_result_groups() {
     assert_eq!(reasons.len(), 2);
     assert_eq!(reasons[0].0, 3);
     assert!(reasons[0].1.starts_with("\"foul_tip\" is not one of ball,") && reasons[0].1.contains("[result_groups]"), "{}", reasons[0].1);
-    assert!(reasons[1].1.contains("as ball = [\"blocked_ball\"] would for a ball"), "{}", reasons[1].1);
+    assert!(reasons[1].1.contains("as ball = [\"dirt ball\"] would for a ball"), "{}", reasons[1].1);
 
-    let s = with_config("[result_groups]\nswinging_strike = [\"Foul Tip\"]\nball = [\"blocked_ball\", \"ball_in_dirt\"]\n");
+    let s = with_config("[result_groups]\nswinging_strike = [\"Foul Tip\"]\nball = [\"Dirt-Ball\", \"ball_in_dirt\"]\n");
     let ing = ingest::load(&p, &s.input).unwrap();
     assert!(ing.rejected.is_empty());
     assert_eq!(
@@ -378,7 +378,7 @@ fn missing_markers_and_pitchouts_in_result() {
             row("0", 0, "NA", "NA", "NA"),
             row("0", 1, "ball", "null", "-"),
             row("1", 1, "pitchout", "91.0", "0"),
-            row("1", 1, "Intent_Ball", "80.0", "0"),
+            row("1", 1, "Intentional_Ball", "80.0", "0"),
             row("NA", 1, "ball", "90.0", "0"),
             row("1", 2, "foul", "#N/A", "0"),
         ),
@@ -397,7 +397,7 @@ fn missing_markers_and_pitchouts_in_result() {
     assert_eq!((ing.rejected[0].line, ing.rejected[0].column.as_ref()), (6, "balls"));
     assert_eq!(ing.rejected[0].reason, "is \"NA\", a missing value; every pitch needs a value here");
     let aside: Vec<(u64, &str, &str)> = ing.set_aside.iter().map(|r| (r.line, r.column.as_ref(), r.value.as_str())).collect();
-    assert_eq!(aside, [(4, "result", "pitchout"), (5, "result", "Intent_Ball")]);
+    assert_eq!(aside, [(4, "result", "pitchout"), (5, "result", "Intentional_Ball")]);
     assert!(ing.set_aside[0].reason.starts_with("the result \"pitchout\" is a pitchout, not the pitcher's choice of pitch"), "{}", ing.set_aside[0].reason);
     assert!(ing.set_aside[1].reason.contains("is an intentional ball"), "{}", ing.set_aside[1].reason);
     // Listed in [result_groups], a value is a result like any other.

@@ -211,7 +211,7 @@ pub fn parse_counted_from_zero(column: usize, v: &str) -> Result<Cell, String> {
 }
 
 /// Why a `result` value is refused, with the fix: a log's own outcome
-/// codes ("foul_tip", "blocked_ball") are each listed under the contract
+/// codes ("foul_tip", "ball_in_dirt") are each listed under the contract
 /// result they count as, which only the club can say. Said once per
 /// distinct value, so `check` counts each value's rows.
 pub fn unknown_result(v: &str) -> String {
