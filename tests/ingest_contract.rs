@@ -804,8 +804,14 @@ fn a_game_id_on_two_dates_is_two_games() {
             want("G1 (2026-04-01)", "2026-04-01"),
         ]
     );
+    // A note says so, with the first such id's dates.
+    assert_eq!(
+        log.games_on_two_dates.as_deref(),
+        Some("1 of the 2 game ids is used on more than one date (\"G1\" on 2025-04-01 and 2026-04-01): each date's rows are read as a game of its own, so a game suspended and finished another day counts as two, its times through the order starting again; if ids are numbered afresh each season, nothing is lost")
+    );
     // A log whose ids are unique keeps its games as they are.
     let good = load(&fixture("good.csv"));
+    assert!(good.log.games_on_two_dates.is_none());
     assert_eq!(good.log.games.len(), good.log.game.iter().collect::<std::collections::BTreeSet<_>>().len());
     assert!(good.log.games.iter().all(|g| !g.contains('(')));
     std::fs::remove_dir_all(&dir).ok();

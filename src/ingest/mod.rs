@@ -159,6 +159,9 @@ pub struct PitchLog {
     /// `pa` or `pitch_no` numbered from 0 in the file, read as from 1: a
     /// note when they are.
     pub counted_from_zero: Option<String>,
+    /// Game ids met on more than one date, each date read as a game of its
+    /// own: a note when there are.
+    pub games_on_two_dates: Option<String>,
 }
 
 /// The rows a run leaves out: those breaking the contract, and those set
@@ -516,6 +519,7 @@ pub fn log_notes(log: &PitchLog, source: &SourceInfo) -> Vec<String> {
     notes.extend(log.renamed_labels());
     notes.extend(log.pa_numbering.clone());
     notes.extend(log.counted_from_zero.clone());
+    notes.extend(log.games_on_two_dates.clone());
     if source.optional_missing.iter().any(|c| c == "season") {
         notes.extend(log.season_across_new_year());
     }
@@ -1015,7 +1019,7 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
 
     let optional = Optional { pa, pitch_no, score, result, speed, side, height, team };
     let repeats = order_rows(&mut log, optional, |c| has(c), table.format.locator());
-    split_games_by_date(&mut log);
+    log.games_on_two_dates = split_games_by_date(&mut log);
     let named: Vec<&str> = ["pa", "pitch_no"].into_iter().zip(zero_based).filter(|(_, z)| *z).map(|(c, _)| c).collect();
     if !named.is_empty() {
         log.counted_from_zero = Some(format!(
@@ -1038,9 +1042,13 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
 /// fold, a stratum of the tests) spans two days or two seasons. A log
 /// whose ids are unique, as the contract asks, is left as it is. Rows are
 /// in date order, so an id's first date keeps it.
-fn split_games_by_date(log: &mut PitchLog) {
+/// Returns a note when any id was split: how many, with the first one's
+/// dates (a game suspended and finished another day is read as two games,
+/// its times through the order starting again in the second).
+fn split_games_by_date(log: &mut PitchLog) -> Option<String> {
     let mut first_date: Vec<Option<i32>> = vec![None; log.games.len()];
     let mut later: BTreeMap<(u32, i32), u32> = BTreeMap::new();
+    let n_ids = log.games.len();
     for i in 0..log.len() {
         let (g, d) = (log.game[i], log.date[i]);
         match first_date[g as usize] {
@@ -1055,6 +1063,20 @@ fn split_games_by_date(log: &mut PitchLog) {
             }
         }
     }
+    let split: BTreeSet<u32> = later.keys().map(|&(g, _)| g).collect();
+    let &first = split.iter().next()?;
+    let dates: Vec<String> = std::iter::once(first_date[first as usize]?)
+        .chain(later.keys().filter(|&&(g, _)| g == first).map(|&(_, d)| d))
+        .map(parse::format_date)
+        .collect();
+    Some(format!(
+        "{} of the {} game ids {} used on more than one date (\"{}\" on {}): each date's rows are read as a game of its own, so a game suspended and finished another day counts as two, its times through the order starting again; if ids are numbered afresh each season, nothing is lost",
+        crate::domain::numbers::fmt_n(split.len()),
+        crate::domain::numbers::fmt_n(n_ids),
+        if split.len() == 1 { "is" } else { "are" },
+        log.games[first as usize],
+        dates.join(" and ")
+    ))
 }
 
 /// The games (date, game) whose `pa` is not numbered through the game, and
