@@ -171,7 +171,7 @@ pub fn input_notes(log: &ingest::PitchLog, sit: &Situations, source: &ingest::So
     }
     if source.rows_set_aside > 0 {
         notes.push(format!(
-            "{} of {} input rows were set aside because their pitch label is not the pitcher's choice of pitch: {}. A model would learn the bench's calls and the tracker's gaps from them and read them as tells; they are listed in set_aside.csv (to keep a label as a pitch, list it in [pitch_groups] or set [set_aside] pitch_labels in the config).",
+            "{} of {} input rows were set aside because their pitch label (or result) says the pitch was not the pitcher's choice: {}. A model would learn the bench's calls and the tracker's gaps from them and read them as tells; they are listed in set_aside.csv (to keep a label as a pitch, list it in [pitch_groups] or set [set_aside] pitch_labels in the config).",
             crate::domain::numbers::fmt_n(source.rows_set_aside),
             crate::domain::numbers::fmt_n(source.rows_read),
             source.labels_set_aside_text()
