@@ -70,7 +70,11 @@ impl LeagueCells {
         let of_type = row[ty].checked_sub(ct)?;
         let season_total = v.iter().sum::<u64>().checked_sub(sn)?;
         let season_type = (0..CELLS).map(|c| v[c * self.n_types + ty]).sum::<u64>().checked_sub(st)?;
-        (total > 0 && season_type > 0).then(|| CellNorm {
+        // His own counts come off the table of his usual hand; a pitcher the
+    // log lists with both hands has some of them in the other table, so
+    // what is left can hold fewer pitches than pitches of the type: no
+    // yardstick then.
+    (total > 0 && season_type > 0 && of_type <= total && season_type <= season_total).then(|| CellNorm {
             share: of_type as f64 / total as f64,
             n: total,
             season_share: season_type as f64 / season_total as f64,
@@ -325,5 +329,25 @@ mod tests {
         assert_eq!(percentile_of_score(&[10.0, 20.0], 5.0), Some(0.0));
         assert_eq!(percentile_of_score(&[10.0, 20.0], 25.0), Some(100.0));
         assert_eq!(percentile_of_score(&[], 1.0), None);
+    }
+
+    /// Worked by hand: the table of right-handers holds, in cell 0, 10
+    /// pitches of type 0 among 30; a pitcher whose own 6 of 8 there come
+    /// off leaves 4 of 22 (share 4/22). A pitcher also listed left-handed,
+    /// whose cell counts are not all in this table, can take off more than
+    /// it holds: 2 of type 0 among 25 would leave 8 of the type among 5
+    /// pitches, and 12 of 12 more of the type than there are. No yardstick
+    /// then, never a share above 1 (a fuzzed log found the first).
+    #[test]
+    fn his_own_pitches_come_off_the_table() {
+        let n_types = 2;
+        let mut v = vec![0u64; CELLS * n_types];
+        (v[0], v[1]) = (10, 20);
+        let cells = LeagueCells { n_types, counts: HashMap::from([((Hand::R, 2025, 0u16), v)]), arsenal: HashMap::new() };
+        let c = cells.share_without(Hand::R, 2025, 0, 0, (6, 8), (6, 8), true).unwrap();
+        assert_eq!((c.share, c.n), (4.0 / 22.0, 22));
+        // More of the type than pitches left: no yardstick.
+        assert!(cells.share_without(Hand::R, 2025, 0, 0, (2, 25), (0, 0), true).is_none());
+        assert!(cells.share_without(Hand::R, 2025, 0, 0, (12, 12), (0, 0), true).is_none());
     }
 }
