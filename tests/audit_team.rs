@@ -269,3 +269,65 @@ fn compare_with_a_team_says_where_a_traded_pitchers_pitches_came_from() {
     let traded = c.summary.pitchers.iter().find(|p| p.is_ok() && by_pitcher[&p.pitcher].iter().any(|(_, t)| t != CLUB)).expect("a traded pitcher compared");
     assert!(traded.cautions.iter().any(|x| x.starts_with(&format!("Not all his pitches were for {CLUB}"))), "{:?}", traded.cautions);
 }
+
+/// A pitcher the log lists with both hands: the yardstick of his sheet is
+/// the other pitchers' pitches of his usual hand, so only his pitches in
+/// that hand's table come off it. Some of a right-hander's 2026 rows
+/// relabelled left-handed must leave each cell's league share what it is
+/// when those rows are not in the log at all (the others' pitches are the
+/// same in both); taking all his pitches off the table, as before, gave
+/// other shares. On the plain-staff demo (one club: the staff is the
+/// yardstick).
+#[test]
+fn a_pitcher_listed_with_both_hands_keeps_the_others_as_his_yardstick() {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/plain-staff/demo-log.csv");
+    let text = std::fs::read_to_string(&path).unwrap();
+    let header: Vec<&str> = text.lines().next().unwrap().split(',').collect();
+    let col = |n: &str| header.iter().position(|h| *h == n).unwrap();
+    let (pc, tc, sc) = (col("pitcher"), col("throws"), col("season"));
+    // The right-hander with the most 2026 pitches; every tenth of them
+    // relabelled left-handed, or left out.
+    let mut n: BTreeMap<String, usize> = BTreeMap::new();
+    for l in text.lines().skip(1) {
+        let f: Vec<&str> = l.split(',').collect();
+        if f[tc] == "R" && f[sc] == "2026" {
+            *n.entry(f[pc].to_string()).or_default() += 1;
+        }
+    }
+    let who = n.iter().max_by_key(|(p, k)| (**k, std::cmp::Reverse((*p).clone()))).unwrap().0.clone();
+    let (mut flipped, mut dropped) = (vec![header.join(",")], vec![header.join(",")]);
+    let mut k = 0;
+    for l in text.lines().skip(1) {
+        let mut f: Vec<&str> = l.split(',').collect();
+        if f[pc] == who && f[sc] == "2026" {
+            k += 1;
+            if k % 10 == 0 {
+                f[tc] = "L";
+                flipped.push(f.join(","));
+                continue;
+            }
+        }
+        flipped.push(f.join(","));
+        dropped.push(f.join(","));
+    }
+    let dir = std::env::temp_dir().join(format!("tellscope-hands-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let s = settings(None, vec![who.clone()]);
+    let run = |name: &str, lines: &[String]| {
+        let p = dir.join(name);
+        std::fs::write(&p, lines.join("\n") + "\n").unwrap();
+        tellscope::audit::run(&p, &s, false).unwrap().summary.pitchers.into_iter().next().unwrap()
+    };
+    let (a, b) = (run("flipped.csv", &flipped), run("dropped.csv", &dropped));
+    assert!(a.cautions.iter().any(|c| c.contains("both hands")), "{:?}", a.cautions);
+    let (sa, sb) = (a.sheet, b.sheet);
+    let mut compared = 0;
+    for (x, y) in sa.iter().zip(&sb) {
+        if x.top_pitch == y.top_pitch && x.league_share.is_some() {
+            assert_eq!(x.league_share, y.league_share, "{} {} {}", x.count, x.bats, x.top_pitch);
+            compared += 1;
+        }
+    }
+    assert!(compared >= 12, "{compared} cells compared");
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -227,6 +227,7 @@ pub(super) fn scored(run: &Run, task: &PitcherTask, about: About, at: usize) -> 
     let (sheet_cells, sheet_season) = sheet::sheet(
         task,
         |i| log.season[task.rows[i] as usize],
+        |i| log.throws[task.rows[i] as usize],
         names,
         settings,
         (&tested.league_cells, about.hand),

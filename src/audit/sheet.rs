@@ -73,6 +73,7 @@ pub struct SheetCell {
 pub fn sheet(
     task: &PitcherTask,
     season_of_row: impl Fn(usize) -> i32,
+    hand_of_row: impl Fn(usize) -> crate::domain::levels::Hand,
     names: &[String],
     settings: &Settings,
     league: (&crate::league::LeagueCells, crate::domain::levels::Hand),
@@ -80,9 +81,18 @@ pub fn sheet(
     let k = task.n_classes;
     let latest = (0..task.rows.len()).map(&season_of_row).max().unwrap_or(0);
     let mut g = GroupCounts::new(24, k);
+    // His pitches the league's table of his hand holds (all of them, but
+    // for a pitcher the log also lists with the other hand): what comes
+    // off it so the yardstick is the others'.
+    let mut in_table = GroupCounts::new(24, k);
     for i in (0..task.rows.len()).filter(|&i| season_of_row(i) == latest) {
         g.add(task.cell[i] as usize, task.labels[i] as usize);
+        if hand_of_row(i) == league.1 {
+            in_table.add(task.cell[i] as usize, task.labels[i] as usize);
+        }
     }
+    let table_season = in_table.class_totals();
+    let table_n: u64 = table_season.iter().map(|&c| c as u64).sum();
     let season = UsagePrior::from_counts(g.class_totals());
     let n_season: u32 = season.counts.iter().sum();
     let raw_share = |cls: usize| season.counts[cls] as f64 / n_season.max(1) as f64;
@@ -114,8 +124,9 @@ pub fn sheet(
             }
             let leans = tested && ci.low > season_share;
             let counted = season_share >= crate::league::ARSENAL_SHARE;
-            let his_season = (season.counts[top] as u64, n_season as u64);
-            let other = league.0.share_without(league.1, latest, cell, task.class_types[top] as usize, (row[top] as u64, n as u64), his_season, counted);
+            let his_season = (table_season[top] as u64, table_n);
+            let his_cell = (in_table.counts[cell * k + top] as u64, in_table.totals[cell] as u64);
+            let other = league.0.share_without(league.1, latest, cell, task.class_types[top] as usize, his_cell, his_season, counted);
             let expected = other.map(|o| o.expected_for(season_share));
             // The league's own uncertainty: the top of its cell share's
             // Wilson 95% interval, carried the same way.
