@@ -76,6 +76,19 @@ fn team_audits_exactly_the_clubs_pitchers_of_the_latest_season() {
     assert!(a.summary.notes.iter().any(|n| n.starts_with(&format!("--team {CLUB}"))));
 }
 
+/// The pitcher (column `pc`) with the most rows of the CSV `text` that
+/// `keep` takes, the first by name on a tie.
+fn busiest(text: &str, pc: usize, keep: impl Fn(&[&str]) -> bool) -> String {
+    let mut n: BTreeMap<String, usize> = BTreeMap::new();
+    for l in text.lines().skip(1) {
+        let f: Vec<&str> = l.split(',').collect();
+        if keep(&f) {
+            *n.entry(f[pc].to_string()).or_default() += 1;
+        }
+    }
+    n.iter().max_by_key(|(p, k)| (**k, std::cmp::Reverse((*p).clone()))).unwrap().0.clone()
+}
+
 /// A pitcher traded away during the latest season (his later rows
 /// rewritten to another club) is still the club's, marked as gone: the
 /// club of his latest pitch, in `now_with`, his caution and the staff
@@ -87,14 +100,7 @@ fn a_pitcher_traded_away_is_marked_with_his_new_club() {
     let col = |n: &str| header.iter().position(|h| *h == n).unwrap();
     let (pc, dc, tc) = (col("pitcher"), col("date"), col("team"));
     // The club's busiest 2026 pitcher leaves for Team 03 on 1 July.
-    let mut n: BTreeMap<String, usize> = BTreeMap::new();
-    for l in text.lines().skip(1) {
-        let f: Vec<&str> = l.split(',').collect();
-        if f[tc] == CLUB && f[dc].starts_with("2026") {
-            *n.entry(f[pc].to_string()).or_default() += 1;
-        }
-    }
-    let who = n.iter().max_by_key(|(p, k)| (**k, std::cmp::Reverse((*p).clone()))).unwrap().0.clone();
+    let who = busiest(&text, pc, |f| f[tc] == CLUB && f[dc].starts_with("2026"));
     let moved: Vec<String> = text
         .lines()
         .map(|l| {
@@ -287,14 +293,7 @@ fn a_pitcher_listed_with_both_hands_keeps_the_others_as_his_yardstick() {
     let (pc, tc, sc) = (col("pitcher"), col("throws"), col("season"));
     // The right-hander with the most 2026 pitches; every tenth of them
     // relabelled left-handed, or left out.
-    let mut n: BTreeMap<String, usize> = BTreeMap::new();
-    for l in text.lines().skip(1) {
-        let f: Vec<&str> = l.split(',').collect();
-        if f[tc] == "R" && f[sc] == "2026" {
-            *n.entry(f[pc].to_string()).or_default() += 1;
-        }
-    }
-    let who = n.iter().max_by_key(|(p, k)| (**k, std::cmp::Reverse((*p).clone()))).unwrap().0.clone();
+    let who = busiest(&text, pc, |f| f[tc] == "R" && f[sc] == "2026");
     let (mut flipped, mut dropped) = (vec![header.join(",")], vec![header.join(",")]);
     let mut k = 0;
     for l in text.lines().skip(1) {
