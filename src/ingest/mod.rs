@@ -393,9 +393,10 @@ impl PitchLog {
     /// last to first (a file sorted backward, without `pa` and `pitch_no`
     /// to set it right): the count falls between consecutive pitches to
     /// one batter at least 100 times and four times as often as it rises.
-    pub fn runs_backward(&self) -> bool {
+    /// `Some((rises, falls))` when it does.
+    pub fn runs_backward(&self) -> Option<(usize, usize)> {
         let (rises, falls) = self.count_moves();
-        falls >= 100 && falls > 4 * rises
+        (falls >= 100 && falls > 4 * rises).then_some((rises, falls))
     }
 
     /// A note on pitch labels the log seems to rename between two seasons:
@@ -863,6 +864,11 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
         })
     };
     let zero_based = [from_zero(15), from_zero(16)];
+    // Each result value is looked up once: a pitchout or an intentional
+    // ball written in `result` (its pitch label a pitch type) is the
+    // bench's call, its row set aside below whatever its result.
+    let aside_result: Vec<Option<&str>> =
+        cols[18].map_or_else(Vec::new, |c| c.dict.iter().map(|v| if input.result_of(v).is_some() { None } else { input.result_set_aside_as(v) }).collect());
     // Each column's distinct values are checked once; rows look them up.
     let checks: Vec<Vec<std::result::Result<parse::Cell, String>>> = cols
         .par_iter()
@@ -871,20 +877,22 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
             c.map_or_else(Vec::new, |c| {
                 c.dict
                     .iter()
-                    .map(|v| match ci {
+                    .enumerate()
+                    .map(|(code, v)| match ci {
                         // A required column's missing-value marker ("NA")
                         // is said to be one; a pitch label is read as
                         // written (an unknown pitch, set aside).
                         _ if ci < REQUIRED_COLUMNS.len() && ci != 13 && parse::missing_marker(v) => {
                             Err(format!("is \"{v}\", a missing value; every pitch needs a value here"))
                         }
-                        // `result` (column 18: the fifth optional one)
-                        // through the config's [result_groups].
+                        // `pa` and `pitch_no` (columns 15 and 16) numbered from 0.
                         15 | 16 if zero_based[ci - 15] => parse::parse_counted_from_zero(ci, v),
+                        // `result` (column 18: the fifth optional one)
+                        // through the config's [result_groups]; a value set
+                        // aside parses as any result (its row is left out).
                         18 => input
                             .result_of(v)
-                            // A pitchout's row is set aside below, whatever its result.
-                            .or_else(|| input.result_set_aside_as(v).map(|_| crate::domain::result::PitchResult::Other))
+                            .or_else(|| aside_result[code].map(|_| crate::domain::result::PitchResult::Other))
                             .map(parse::Cell::Result)
                             .ok_or_else(|| parse::unknown_result(v)),
                         _ => parse::parse_cell(ci, v),
@@ -934,10 +942,6 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
     // Each pitch label is looked up once: why its rows are set aside, if
     // they are (not the pitcher's choice of pitch).
     let aside_as: Vec<Option<&str>> = cols[13].map_or_else(Vec::new, |c| c.dict.iter().map(|v| input.set_aside_as(v)).collect());
-    // And each result value: a pitchout or an intentional ball written in
-    // `result` (its pitch label a pitch type) is the bench's call too.
-    let aside_result: Vec<Option<&str>> =
-        cols[18].map_or_else(Vec::new, |c| c.dict.iter().map(|v| if input.result_of(v).is_some() { None } else { input.result_set_aside_as(v) }).collect());
     for start in (0..table.n_rows).step_by(CHUNK) {
         let end = (start + CHUNK).min(table.n_rows);
         let parsed: Vec<Parsed> = (start..end).into_par_iter().map(parse_at).collect();
@@ -1088,10 +1092,16 @@ fn split_games_by_date(log: &mut PitchLog) -> Option<String> {
 /// innings only when the third out falls on the bases during it.
 fn pa_not_through_the_game(log: &PitchLog, optional: &Optional) -> (HashSet<(i32, u32)>, Option<String>) {
     let mut first: HashMap<(i32, u32, u32), (u16, Option<u32>, bool)> = HashMap::new();
+    // A game has two clubs: an id holding more on one day is numbered per
+    // club (each club's nth game), which is what the `pa` collisions show.
+    let mut clubs: HashMap<(i32, u32), HashSet<u32>> = HashMap::new();
     for i in 0..log.len() {
         let team = optional.team.get(i).copied().flatten();
         let e = first.entry((log.date[i], log.game[i], optional.pa[i])).or_insert((log.inning[i], team, false));
         e.2 |= e.0 != log.inning[i] || matches!((e.1, team), (Some(a), Some(b)) if a != b);
+        if let Some(t) = team {
+            clubs.entry((log.date[i], log.game[i])).or_default().insert(t);
+        }
     }
     // Per game: numbers, numbers used again.
     let mut games: HashMap<(i32, u32), (usize, usize)> = HashMap::new();
@@ -1101,14 +1111,6 @@ fn pa_not_through_the_game(log: &PitchLog, optional: &Optional) -> (HashSet<(i32
         c.1 += usize::from(e.2);
     }
     let not_through: HashSet<(i32, u32)> = games.iter().filter(|(_, &(n, r))| r >= 2 && 10 * r >= n).map(|(&k, _)| k).collect();
-    // A game has two clubs: an id holding more on one day is numbered per
-    // club (each club's nth game), which is what the `pa` collisions show.
-    let mut clubs: HashMap<(i32, u32), HashSet<u32>> = HashMap::new();
-    for i in 0..log.len() {
-        if let Some(t) = optional.team.get(i).copied().flatten() {
-            clubs.entry((log.date[i], log.game[i])).or_default().insert(t);
-        }
-    }
     let crowded: Vec<(usize, (i32, u32))> = clubs.iter().filter(|(_, c)| c.len() > 2).map(|(&k, c)| (c.len(), k)).collect();
     if let Some(&(most, (date, game))) = crowded.iter().max() {
         let note = format!(

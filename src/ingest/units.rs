@@ -126,7 +126,7 @@ pub fn score_from_the_other_side(log: &PitchLog) -> Option<String> {
     }
     // In a file that runs backward (each game's last pitch first) the
     // score's changes read the other way too.
-    if log.runs_backward() {
+    if log.runs_backward().is_some() {
         std::mem::swap(&mut up, &mut down);
     }
     let total = up + down;

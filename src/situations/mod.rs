@@ -205,8 +205,7 @@ pub fn build(log: &PitchLog) -> Situations {
         notes.push("no pa column: plate appearances were inferred from batter changes and 0-0 counts".to_string());
     }
     let backward = log.runs_backward();
-    if backward {
-        let (rises, falls) = log.count_moves();
+    if let Some((rises, falls)) = backward {
         notes.push(format!(
             "the count falls from one pitch to the next in {} of the log's pairs of consecutive pitches to one batter and rises in {}: the file seems to list each game's pitches last to first; write them in the order thrown, or add pa and pitch_no columns, since until then plate appearances, previous pitches and times through the order are read backward",
             crate::domain::numbers::fmt_n(falls),
@@ -214,7 +213,7 @@ pub fn build(log: &PitchLog) -> Situations {
         ));
     }
     // Read backward, every pitch seems to follow a gap: the note above says why.
-    if gaps > 0 && !backward {
+    if gaps > 0 && backward.is_none() {
         notes.push(format!(
             "{} pitches come right after a pitch of the same plate appearance that is missing from the log (rejected, set aside or never logged: the count or pitch_no skips), so their previous pitch is read as unknown rather than as the one before the gap",
             crate::domain::numbers::fmt_n(gaps)
