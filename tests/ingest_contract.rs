@@ -454,6 +454,66 @@ fn pa_and_pitch_no_counted_from_zero_read_as_from_one() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+/// An optional column written in another format (one-letter outcome
+/// codes, locations written as words) is set aside whole, as if the file
+/// had none, with the commonest value and its fix named: every row is kept
+/// and read as from the same file without that column, where row by row
+/// every one of them would have been rejected. A column with a few bad
+/// values keeps them rejected row by row.
+#[test]
+fn an_optional_column_in_another_format_is_set_aside_whole() {
+    let dir = scratch("unreadable");
+    let (head, body) = plain_staff_lines(3000);
+    let header: Vec<&str> = head.split(',').collect();
+    let at = |c: &str| header.iter().position(|h| *h == c).unwrap();
+    let (result, side, height) = (at("result"), at("loc_side_ft"), at("loc_height_ft"));
+    let rows: Vec<Vec<String>> = body.iter().map(|l| l.split(',').map(str::to_string).collect()).collect();
+    let text = |rows: &[Vec<String>], keep: &dyn Fn(usize) -> bool| {
+        let h: Vec<&str> = header.iter().enumerate().filter(|(i, _)| keep(*i)).map(|(_, h)| *h).collect();
+        let body: Vec<String> =
+            rows.iter().map(|r| r.iter().enumerate().filter(|(i, _)| keep(*i)).map(|(_, v)| v.as_str()).collect::<Vec<_>>().join(",")).collect();
+        format!("{}\n{}\n", h.join(","), body.join("\n"))
+    };
+    // Outcomes as one-letter codes, heights as words.
+    let letter = |r: &str| match r {
+        "ball" | "hit_by_pitch" => "B",
+        "in_play" => "X",
+        _ => "S",
+    };
+    let mut coded = rows.clone();
+    for r in &mut coded {
+        r[result] = letter(&r[result]).to_string();
+        r[height] = if r[height].parse::<f64>().unwrap() > 2.5 { "high".into() } else { "low".into() };
+    }
+    let ing = load(&write(&dir, "coded.csv", &text(&coded, &|_| true)));
+    let without = load(&write(&dir, "without.csv", &text(&rows, &|i| ![result, side, height].contains(&i))));
+    assert!(ing.rejected.is_empty(), "{:?}", &ing.rejected[..ing.rejected.len().min(3)]);
+    assert_same_rows(&ing.log, &without.log, true);
+    let aside: Vec<(Vec<String>, &str)> = ing.source.optional_set_aside.iter().map(|a| (a.columns.clone(), a.reason.as_str())).collect();
+    assert_eq!(aside.len(), 2, "{aside:?}");
+    assert_eq!(aside[0].0, ["result"]);
+    let strikes = coded.iter().filter(|r| r[result] == "S").count();
+    assert!(
+        aside[0].1.starts_with(&format!("`result` cannot be read in 3,000 of its 3,000 filled rows (the commonest value, \"S\" in {} rows, is a one-letter outcome code", tellscope::domain::numbers::fmt_n(strikes))),
+        "{}",
+        aside[0].1
+    );
+    assert_eq!(aside[1].0, ["loc_side_ft", "loc_height_ft"]);
+    assert!(aside[1].1.starts_with("`loc_height_ft` cannot be read in 3,000 of its 3,000 filled rows (the commonest value, \"") && aside[1].1.contains("is not a number"), "{}", aside[1].1);
+    assert!(!ing.source.optional_present.iter().any(|c| c == "result" || c.starts_with("loc_")), "{:?}", ing.source.optional_present);
+
+    // A few bad values (one row in a hundred) are rows rejected, as ever.
+    let mut few = rows.clone();
+    for r in few.iter_mut().step_by(100) {
+        r[result] = "S".into();
+    }
+    let ing = load(&write(&dir, "few.csv", &text(&few, &|_| true)));
+    assert_eq!(ing.rejected.len(), 30);
+    assert!(ing.rejected.iter().all(|r| r.column == "result"));
+    assert!(ing.source.optional_set_aside.is_empty());
+    std::fs::remove_dir_all(&dir).ok();
+}
+
 /// Game ids numbered per club (each club's nth game): one id holds the
 /// pitchers of more than two clubs on a day, which no game does. A note
 /// says so (not the note on `pa` numbered per team, which the collisions

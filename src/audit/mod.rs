@@ -624,10 +624,12 @@ fn run_notes(
             "The log has no `loc_side_ft` and `loc_height_ft` columns, so where each pitch goes (location figures and location tells) cannot be shown; add them to see it.".into(),
         );
     }
+    let result_set_aside = source.optional_set_aside.iter().any(|a| a.columns.iter().any(|c| c == "result"));
     if log.result.is_none() {
-        notes.push(
-            "The log has no `result` column, so whether a tell costs him (whiffs, called and swinging strikes, balls in play of the tell's pitch against comparable spots) cannot be shown; add `result` to see it.".into(),
-        );
+        let (has, fix) = if result_set_aside { ("no readable", "give it in the contract's terms") } else { ("no", "add `result`") };
+        notes.push(format!(
+            "The log has {has} `result` column, so whether a tell costs him (whiffs, called and swinging strikes, balls in play of the tell's pitch against comparable spots) cannot be shown; {fix} to see it."
+        ));
     }
     let mine: Vec<bool> = {
         let mut m = vec![false; log.pitchers.len()];

@@ -5,6 +5,7 @@
 pub mod parse;
 pub mod read;
 pub mod units;
+pub mod unreadable;
 
 use crate::error::{Error, Result};
 use crate::domain::columns::{OPTIONAL_COLUMNS, REQUIRED_COLUMNS};
@@ -697,6 +698,12 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
     let mut set_aside = units::misread_units(&table, input);
     let file_names: Vec<&str> = set_aside.iter().flat_map(|s| &s.columns).map(|c| input.file_column(c)).collect();
     table.columns.retain(|(name, _)| !file_names.contains(&name.as_str()));
+    // So is an optional column most of whose values cannot be read (one
+    // written in another format, its rows otherwise all rejected).
+    let unreadable = unreadable::unreadable_columns(&table, input);
+    let file_names: Vec<&str> = unreadable.iter().flat_map(|s| &s.columns).map(|c| input.file_column(c)).collect();
+    table.columns.retain(|(name, _)| !file_names.contains(&name.as_str()));
+    set_aside.extend(unreadable);
     let (mut log, rejected, aside_rows, blank) = validate(&table, input);
     // A score difference taken from the other side is set aside too: its
     // "ahead" would read as "behind".

@@ -216,6 +216,13 @@ pub fn parse_counted_from_zero(column: usize, v: &str) -> Result<Cell, String> {
 /// distinct value, so `check` counts each value's rows.
 pub fn unknown_result(v: &str) -> String {
     let shown: String = v.chars().take(40).collect();
+    // A one-letter code (B, S, X, as some exports write a pitch's outcome)
+    // lumps called strikes, swings and fouls together: no group splits it.
+    if shown.chars().count() == 1 && shown.chars().all(|c| c.is_ascii_alphabetic()) {
+        return format!(
+            "\"{shown}\" is a one-letter outcome code, which does not tell a called strike from a swinging strike or a foul; export the pitch's detailed outcome (ball, called_strike, swinging_strike, foul, in_play, hit_by_pitch, other), or list each code under the result it counts as in [result_groups]"
+        );
+    }
     format!(
         "\"{shown}\" is not one of ball, called_strike, swinging_strike, foul, in_play, hit_by_pitch, other; if it counts as one of them, list it under that one in [result_groups] in the config (as ball = [\"{shown}\"] would for a ball)"
     )
