@@ -609,6 +609,28 @@ fn a_byte_order_mark_before_the_header_is_ignored() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+/// A compressed CSV or a zip archive (a spreadsheet workbook) is refused
+/// by its signature, naming what it is and how to unpack it, rather than
+/// read as text that is not UTF-8 (or with the reader's own build hint).
+#[test]
+fn a_compressed_or_zipped_log_is_refused_with_the_tool_that_unpacks_it() {
+    let dir = scratch("packed");
+    let body = std::fs::read(fixture("good.csv")).unwrap();
+    for (name, magic, says) in [
+        ("log.csv.gz", &[0x1F, 0x8B, 0x08, 0x00][..], "gzip-compressed; decompress it first (gunzip -k FILE)"),
+        ("log.csv.zst", &[0x28, 0xB5, 0x2F, 0xFD][..], "zstd-compressed"),
+        ("log.csv.bz2", &b"BZh9"[..], "bzip2-compressed"),
+        ("log.csv.xz", &[0xFD, b'7', b'z', b'X', b'Z', 0x00][..], "xz-compressed"),
+        ("log.xlsx", &b"PK\x03\x04"[..], "a zip archive or a spreadsheet workbook"),
+    ] {
+        let p = dir.join(name);
+        std::fs::write(&p, [magic, &body[..]].concat()).unwrap();
+        let e = data_error(&p, &defaults());
+        assert!(e.contains(says), "{name}: {e}");
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}
+
 // ---------------------------------------------------------------- ordering
 
 #[test]

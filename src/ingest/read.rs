@@ -221,6 +221,23 @@ fn refuse_utf16(path: &Path) -> Result<()> {
     Ok(())
 }
 
+/// A compressed file, or a zip archive (a spreadsheet workbook is one),
+/// given as a CSV log: known by its signature and refused with the tool
+/// that unpacks it, rather than read as text that is not UTF-8.
+fn refuse_packed(path: &Path) -> Result<()> {
+    const PACKED: [(&[u8], &str); 5] = [
+        (&[0x1F, 0x8B], "gzip-compressed; decompress it first (gunzip -k FILE) or export the log as Parquet"),
+        (&[0x28, 0xB5, 0x2F, 0xFD], "zstd-compressed; decompress it first (zstd -d FILE) or export the log as Parquet"),
+        (b"BZh", "bzip2-compressed; decompress it first (bunzip2 -k FILE) or export the log as Parquet"),
+        (&[0xFD, b'7', b'z', b'X', b'Z', 0x00], "xz-compressed; decompress it first (unxz -k FILE) or export the log as Parquet"),
+        (b"PK\x03\x04", "a zip archive or a spreadsheet workbook (.xlsx, .ods); unzip it, or save the sheet as comma-separated CSV in UTF-8"),
+    ];
+    match PACKED.iter().find(|(magic, _)| starts_with(path, magic)) {
+        Some((_, what)) => Err(Error::Data(format!("{}: the file is {what}", path.display()))),
+        None => Ok(()),
+    }
+}
+
 fn polars_err(path: &Path, e: PolarsError) -> Error {
     let text = e.to_string();
     let lower = text.to_lowercase();
@@ -457,6 +474,7 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
     let format = Format::of(path);
     if format == Format::Csv {
         refuse_utf16(path)?;
+        refuse_packed(path)?;
     }
     let header: Vec<String> = match format {
         Format::Csv => csv_header(path)?,
