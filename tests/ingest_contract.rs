@@ -565,6 +565,16 @@ fn csv_and_parquet_of_one_log_read_to_the_same_rows() {
     assert_eq!(a.log.source_line, shifted);
     assert_eq!(a.source.optional_present, b.source.optional_present);
     assert_eq!(a.source.rows_read, b.source.rows_read);
+    // A Parquet export saved under another name is read by its signature;
+    // a file about to be written takes its format from its name alone.
+    for name in ["parquet-named.csv", "parquet-without-extension"] {
+        let p = dir.join(name);
+        std::fs::copy(&pq, &p).unwrap();
+        let c = load(&p);
+        assert_same_rows(&c.log, &b.log, true);
+        write_frame(&mut df, &p).unwrap();
+    }
+    assert!(std::fs::read_to_string(dir.join("parquet-named.csv")).unwrap().starts_with("game,"), "a .csv is written as CSV");
     std::fs::remove_dir_all(&dir).ok();
 }
 

@@ -155,18 +155,13 @@ impl LogArgs {
         let dir = std::env::temp_dir().join(format!("tellscope-stdin-{}", std::process::id()));
         std::fs::create_dir_all(&dir).map_err(|e| tellscope::Error::io(&dir, "create a folder for standard input", e))?;
         let spooled = dir.join("stdin.csv");
-        let mut input = LogInput { path: spooled.clone(), spool: Some(dir) };
+        // A Parquet file piped in is read as Parquet by its signature
+        // (`ingest::read::Format::of`), whatever the spooled file's name.
+        let input = LogInput { path: spooled.clone(), spool: Some(dir) };
         let mut file = std::fs::File::create(&spooled).map_err(|e| tellscope::Error::io(&spooled, "write standard input", e))?;
         std::io::copy(&mut std::io::stdin().lock(), &mut file)
             .map_err(|e| tellscope::Error::Io(format!("stdin: could not be read ({e})")))?;
         drop(file);
-        // A Parquet file piped in is recognised by its signature (its first
-        // four bytes, "PAR1") and read as Parquet; anything else as CSV.
-        if tellscope::ingest::read::starts_with(&spooled, b"PAR1") {
-            let path = spooled.with_extension("parquet");
-            std::fs::rename(&spooled, &path).map_err(|e| tellscope::Error::io(&path, "write standard input", e))?;
-            input.path = path;
-        }
         Ok(input)
     }
 

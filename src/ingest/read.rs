@@ -15,7 +15,19 @@ pub enum Format {
 }
 
 impl Format {
+    /// Parquet by its name (`.parquet`, `.pq`) or, whatever the name, by
+    /// its signature (`PAR1`: a Parquet export saved as `log.csv` or with
+    /// no extension); CSV otherwise.
     pub fn of(path: &Path) -> Format {
+        if starts_with(path, b"PAR1") {
+            return Format::Parquet;
+        }
+        Format::by_name(path)
+    }
+
+    /// Parquet by its name alone (`.parquet`, `.pq`), CSV otherwise: the
+    /// format a file about to be written takes.
+    pub fn by_name(path: &Path) -> Format {
         match path.extension().and_then(|e| e.to_str()).map(|e| e.to_ascii_lowercase()) {
             Some(e) if e == "parquet" || e == "pq" => Format::Parquet,
             _ => Format::Csv,

@@ -48,7 +48,7 @@ pub fn write_frame(df: &mut DataFrame, path: &Path) -> Result<()> {
     }
     let tmp = path.with_extension(format!("partial-{}", std::process::id()));
     let file = std::fs::File::create(&tmp).map_err(|e| Error::io(&tmp, "create", e))?;
-    let res = match crate::ingest::read::Format::of(path) {
+    let res = match crate::ingest::read::Format::by_name(path) {
         crate::ingest::read::Format::Csv => CsvWriter::new(file).include_header(true).finish(df),
         crate::ingest::read::Format::Parquet => ParquetWriter::new(file)
             .with_compression(ParquetCompression::Zstd(None))
