@@ -161,7 +161,15 @@ impl Exporter<Comparison> for Table<'_> {
             ));
         }
         for p in s.pitchers.iter().filter(|p| !p.is_ok()) {
-            o.push(format!("{:<22} {:>7} {:>7}  insufficient data", p.pitcher.chars().take(22).collect::<String>(), p.n_before, p.n_after));
+            // A pitcher new in the later period (or gone from it) has nothing
+            // to compare, however many pitches he threw: said so, not
+            // "insufficient data" beside a starter's 2,900 pitches.
+            let why = match (p.n_before, p.n_after) {
+                (0, _) => format!("not in {}", b.label),
+                (_, 0) => format!("not in {}", a.label),
+                _ => "insufficient data".to_string(),
+            };
+            o.push(format!("{:<22} {:>7} {:>7}  {why}", p.pitcher.chars().take(22).collect::<String>(), p.n_before, p.n_after));
         }
         o.push("  shift: pitches in every 100 that changed type (total variation of the whole mix), q: its strongest test (overall mix, new or dropped pitch)".to_string());
         o.push("  bits: held-out bits gained per pitch in each period, q: the label-swap test of their difference".to_string());
