@@ -394,3 +394,54 @@ fn pitchers_gone_before_the_latest_season_are_marked() {
     assert!(note.starts_with(&format!("{} of the pitchers with figures last pitched before {latest}", gone.len())), "{note}");
     assert!(gone.iter().all(|g| note.contains(g)), "{note}");
 }
+
+/// A log taken early in a season (its latest season holds three games,
+/// against 162 the season before): the pitchers who pitched the season
+/// before but not yet in the new one are not called former members of the
+/// staff; a note says they have most likely not pitched yet, and only
+/// those gone a whole season longer get the former-staff note. Both lists
+/// are counted by hand from `pitches_by_season`.
+#[test]
+fn early_in_a_season_pitchers_not_yet_used_are_not_called_former() {
+    let text = std::fs::read_to_string(root().join("demo-data/demo-log.csv")).unwrap();
+    let mut lines = text.lines();
+    let head = lines.next().unwrap();
+    let rows: Vec<&str> = lines.collect();
+    let first_2026: Vec<&str> = {
+        let mut g: Vec<&str> = Vec::new();
+        for r in &rows {
+            let id = r.split(',').next().unwrap();
+            if id.starts_with("G2026") && !g.contains(&id) {
+                g.push(id);
+            }
+        }
+        g.truncate(3);
+        g
+    };
+    // The first three games of 2026 again, as 2027's first three.
+    let copies: Vec<String> = rows
+        .iter()
+        .filter(|r| first_2026.contains(&r.split(',').next().unwrap()))
+        .map(|r| r.replacen("G2026", "G2027", 1).replacen("2026-", "2027-", 1).replacen(",2026,", ",2027,", 1))
+        .collect();
+    let dir = std::env::temp_dir().join(format!("tellscope-early-season-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("early.csv");
+    std::fs::write(&path, format!("{head}\n{}\n{}\n", rows.join("\n"), copies.join("\n"))).unwrap();
+    let a = audit::run(&path, &settings(9), false).unwrap();
+    assert_eq!(a.summary.input.seasons, [2025, 2026, 2027]);
+    let last = |p: &tellscope::audit::summary::PitcherSummary| *p.pitches_by_season.keys().next_back().unwrap();
+    let ok: Vec<_> = a.summary.pitchers.iter().filter(|p| p.is_ok()).collect();
+    let waiting: Vec<&str> = ok.iter().filter(|p| last(p) == 2026).map(|p| p.pitcher.as_str()).collect();
+    let gone: Vec<&str> = ok.iter().filter(|p| last(p) < 2026).map(|p| p.pitcher.as_str()).collect();
+    assert!(!waiting.is_empty() && !gone.is_empty(), "{waiting:?} {gone:?}");
+    let note = |needle: &str| a.summary.notes.iter().find(|n| n.contains(needle)).cloned();
+    let w = note("not pitched yet").expect("a note on pitchers not used yet");
+    assert!(w.starts_with(&format!("{} of the pitchers with figures have not pitched in 2027", waiting.len())), "{w}");
+    assert!(w.contains("the log holds only 3 games against 162 in 2026"), "{w}");
+    assert!(waiting.iter().all(|n| w.contains(n)) && gone.iter().all(|n| !w.contains(n)), "{w}");
+    let g = note("last pitched before").expect("the former-staff note");
+    assert!(g.starts_with(&format!("{} of the pitchers with figures last pitched before 2026", gone.len())), "{g}");
+    assert!(gone.iter().all(|n| g.contains(n)) && waiting.iter().all(|n| !g.contains(n)), "{g}");
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -20,7 +20,7 @@ use crate::domain::levels::COUNTS;
 use crate::situations::{self, Situations};
 use crate::tells::{self, Direction, TellTest};
 use rayon::prelude::*;
-use std::collections::BTreeMap;
+use std::collections::{BTreeMap, HashSet};
 use std::path::Path;
 use summary::*;
 
@@ -338,7 +338,7 @@ pub fn audit_log(
     let mut notes = run_notes(log, sit, &source, &chosen, tested.location.missing, settings);
     notes.extend(unresolved_notes(&tested, &ok_tasks, settings));
     notes.extend(older_seasons_note(&pitchers, settings));
-    notes.extend(gone_note(&pitchers, latest));
+    notes.extend(gone_notes(log, &pitchers, latest));
     let staff_called = crate::outcomes::staff_called(&pitchers.iter().filter_map(|p| p.called_outcomes.as_ref()).collect::<Vec<_>>());
     let yardstick = if club_count(log).unwrap_or(0) > 1 { "league" } else { "staff" };
     drop(run);
@@ -358,24 +358,61 @@ pub fn audit_log(
     Ok(Audit { summary, tests, rejected: left_out.rejected, set_aside: left_out.set_aside, outcomes })
 }
 
-/// A note on the pitchers scored on a season before the log's latest
-/// (former members of a staff, in a club's log of several seasons): who
-/// they are, so the staff table is not read as today's staff.
-fn gone_note(pitchers: &[PitcherSummary], latest: Option<i32>) -> Option<String> {
-    let latest = latest?;
-    let gone: Vec<&str> = pitchers
-        .iter()
-        .filter(|p| p.is_ok() && summary::gone_since(&p.pitches_by_season, latest).is_some())
-        .map(|p| p.pitcher.as_str())
-        .collect();
-    if gone.is_empty() {
-        return None;
+/// The games of the log's latest season and of the season before, when
+/// the latest holds under a quarter as many (a log taken early in a
+/// season: most of the staff has not pitched in it yet).
+fn young_season(log: &ingest::PitchLog, latest: i32) -> Option<(usize, usize)> {
+    let mut games: [HashSet<u32>; 2] = Default::default();
+    for (&season, &game) in log.season.iter().zip(&log.game) {
+        if season == latest || season == latest - 1 {
+            games[usize::from(season == latest)].insert(game);
+        }
     }
-    let shown = if gone.len() > 5 { format!("{} and {} more", gone[..5].join(", "), gone.len() - 5) } else { gone.join(", ") };
-    Some(format!(
-        "{} of the pitchers with figures last pitched before {latest}, the log's latest season ({shown}): each is scored on his own latest season, so his figures describe him then, not a pitcher on today's staff.",
-        crate::domain::numbers::fmt_n(gone.len())
-    ))
+    let (before, now) = (games[0].len(), games[1].len());
+    (4 * now < before).then_some((now, before))
+}
+
+/// Notes on the pitchers scored on a season before the log's latest
+/// (former members of a staff, in a club's log of several seasons): who
+/// they are, so the staff table is not read as today's staff. Early in a
+/// season (see [`young_season`]) those who pitched the season before have
+/// most likely just not pitched yet: a note of their own says so, and only
+/// those gone longer are called former.
+fn gone_notes(log: &ingest::PitchLog, pitchers: &[PitcherSummary], latest: Option<i32>) -> Vec<String> {
+    use crate::domain::numbers::fmt_n;
+    let Some(latest) = latest else { return Vec::new() };
+    let young = young_season(log, latest);
+    let (mut waiting, mut gone): (Vec<&str>, Vec<&str>) = (Vec::new(), Vec::new());
+    for p in pitchers.iter().filter(|p| p.is_ok()) {
+        match summary::gone_since(&p.pitches_by_season, latest) {
+            Some(his) if young.is_some() && his == latest - 1 => waiting.push(&p.pitcher),
+            Some(_) => gone.push(&p.pitcher),
+            None => {}
+        }
+    }
+    let shown = |names: &[&str]| if names.len() > 5 { format!("{} and {} more", names[..5].join(", "), names.len() - 5) } else { names.join(", ") };
+    let mut notes = Vec::new();
+    if let (Some((now, before)), false) = (young, waiting.is_empty()) {
+        notes.push(format!(
+            "{} of the pitchers with figures have not pitched in {latest} ({}), of which the log holds only {} games against {} in {}: most likely they have not pitched yet this season. Each is scored on his {} season.",
+            fmt_n(waiting.len()),
+            shown(&waiting),
+            fmt_n(now),
+            fmt_n(before),
+            latest - 1,
+            latest - 1
+        ));
+    }
+    if !gone.is_empty() {
+        let before = if young.is_some() { latest - 1 } else { latest };
+        let which = if young.is_some() { "the season before the log's latest" } else { "the log's latest season" };
+        notes.push(format!(
+            "{} of the pitchers with figures last pitched before {before}, {which} ({}): each is scored on his own latest season, so his figures describe him then, not a pitcher on today's staff.",
+            fmt_n(gone.len()),
+            shown(&gone)
+        ));
+    }
+    notes
 }
 
 /// On a log of more seasons than the models learn from, how many of the
