@@ -142,6 +142,11 @@ fn an_unknown_club_or_a_log_without_clubs_is_a_usage_error() {
     let e = tellscope::audit::selected_pitchers(&ing.log, &s).unwrap_err();
     assert_eq!(e.exit_code(), 2);
     assert!(e.to_string().contains("Team 99") && e.to_string().contains("Team 01"), "{e}");
+    // A club written in another case is named.
+    let s = settings(Some("team 01"), Vec::new());
+    let e = tellscope::audit::selected_pitchers(&ing.log, &s).unwrap_err();
+    assert_eq!(e.exit_code(), 2);
+    assert!(e.to_string().ends_with("the log has \"Team 01\""), "{e}");
     // The typed Parquet fixture has no `team` column.
     let typed = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/logs/typed.parquet");
     let s = settings(Some(CLUB), Vec::new());

@@ -270,6 +270,11 @@ pub fn team_pitchers(log: &ingest::PitchLog, team: &str) -> Result<Vec<u32>> {
             .collect();
         known.sort_unstable();
         known.dedup();
+        // A club written in another case or spacing is named, as a
+        // pitcher's name is.
+        if let Some(near) = log.teams.iter().find(|q| ingest::same_loose_name(q, team)) {
+            return Err(Error::Usage(format!("--team \"{team}\" is not in the log's `team` column; the log has \"{near}\"")));
+        }
         let shown: Vec<String> = known.iter().take(6).map(|k| format!("\"{k}\"")).collect();
         return Err(Error::Usage(format!(
             "--team \"{team}\" is not in the log's `team` column; clubs in {latest} include {}{}",
