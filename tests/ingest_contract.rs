@@ -514,6 +514,48 @@ fn an_optional_column_in_another_format_is_set_aside_whole() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+/// Base columns written as the runner on the base (his id, empty where no
+/// runner is), as many play-by-play exports write them: read whole as
+/// occupied where filled, with a note, the same rows as the 0/1 log. A
+/// column mixing ids with 0 keeps its rows' reasons.
+#[test]
+fn base_columns_of_runner_ids_read_as_occupied_where_filled() {
+    let dir = scratch("runner-ids");
+    let (head, body) = plain_staff_lines(3000);
+    let header: Vec<&str> = head.split(',').collect();
+    let bases: Vec<usize> = ["on_first", "on_second", "on_third"].iter().map(|c| header.iter().position(|h| h == c).unwrap()).collect();
+    let rewrite = |zero: &str| -> String {
+        let rows: Vec<String> = body
+            .iter()
+            .enumerate()
+            .map(|(i, l)| {
+                let mut c: Vec<String> = l.split(',').map(str::to_string).collect();
+                for (k, &b) in bases.iter().enumerate() {
+                    c[b] = if c[b] == "1" { format!("{}", 660_000 + 37 * i + k) } else { zero.to_string() };
+                }
+                c.join(",")
+            })
+            .collect();
+        format!("{head}\n{}\n", rows.join("\n"))
+    };
+    let plain = load(&write(&dir, "plain.csv", &format!("{head}\n{}\n", body.join("\n"))));
+    let ids = load(&write(&dir, "ids.csv", &rewrite("")));
+    assert!(ids.rejected.is_empty(), "{:?}", &ids.rejected[..ids.rejected.len().min(3)]);
+    assert_same_rows(&plain.log, &ids.log, true);
+    assert!(plain.log.runner_ids.is_none());
+    assert_eq!(
+        ids.log.runner_ids.as_deref(),
+        Some("`on_first`, `on_second` and `on_third` hold the runner on the base (an id or a name) and are empty where none is, never 0: a filled cell is read as a runner there and an empty one as none")
+    );
+    // Ids where a runner is and 0 where none is: not one convention, so
+    // each id's row is rejected with the fix, as before.
+    let mixed = load(&write(&dir, "mixed.csv", &rewrite("0")));
+    let occupied = plain.log.on_first.iter().filter(|&&b| b).count();
+    assert!(mixed.log.runner_ids.is_none());
+    assert!(mixed.rejected.len() >= occupied && mixed.rejected.iter().all(|r| r.reason.contains("if it is the runner's id")), "{:?}", &mixed.rejected[..2]);
+    std::fs::remove_dir_all(&dir).ok();
+}
+
 /// Game ids numbered per club (each club's nth game): one id holds the
 /// pitchers of more than two clubs on a day, which no game does. A note
 /// says so (not the note on `pa` numbered per team, which the collisions

@@ -160,6 +160,9 @@ pub struct PitchLog {
     /// `pa` or `pitch_no` numbered from 0 in the file, read as from 1: a
     /// note when they are.
     pub counted_from_zero: Option<String>,
+    /// Base columns written as the runner's id (empty where no runner is),
+    /// read as occupied where filled: a note when they are.
+    pub runner_ids: Option<String>,
     /// Game ids met on more than one date, each date read as a game of its
     /// own: a note when there are.
     pub games_on_two_dates: Option<String>,
@@ -521,6 +524,7 @@ pub fn log_notes(log: &PitchLog, source: &SourceInfo) -> Vec<String> {
     notes.extend(log.renamed_labels());
     notes.extend(log.pa_numbering.clone());
     notes.extend(log.counted_from_zero.clone());
+    notes.extend(log.runner_ids.clone());
     notes.extend(log.games_on_two_dates.clone());
     if source.optional_missing.iter().any(|c| c == "season") {
         notes.extend(log.season_across_new_year());
@@ -793,6 +797,9 @@ fn labels_set_aside(rows: &[Rejected], input: &InputParams) -> Vec<LabelSetAside
     out
 }
 
+/// The check of an empty cell in a base column of runner ids.
+static NO_RUNNER: std::result::Result<parse::Cell, String> = Ok(parse::Cell::Bool(false));
+
 /// Validate every row straight into the log's columns (file order), then
 /// order them: one column at a time is permuted, so no row-sized copy of the
 /// whole log is ever made.
@@ -871,6 +878,19 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
         })
     };
     let zero_based = [from_zero(15), from_zero(16)];
+    // A base column that holds the runner on the base (his id or name) and
+    // is empty where none is, as many play-by-play exports write it: no
+    // value says "no runner" (0, false, no) and at least two distinct
+    // values are not 0/1 at all. Read whole, filled is a runner and empty
+    // is none; a column mixing ids with 0/1 keeps its rows' reasons.
+    let runner_ids: [bool; 3] = std::array::from_fn(|k| {
+        cols[10 + k].is_some_and(|c| {
+            let plain = |v: &String| !parse::missing_marker(v);
+            let no_false = c.dict.iter().filter(|v| plain(v)).all(|v| parse::parse_bool(v) != Some(false));
+            let ids = c.dict.iter().filter(|v| plain(v) && parse::parse_bool(v).is_none() && parse::parse_cell(0, v).is_ok()).count();
+            no_false && ids >= 2
+        })
+    });
     // Each result value is looked up once: a pitchout or an intentional
     // ball written in `result` (its pitch label a pitch type) is the
     // bench's call, its row set aside below whatever its result.
@@ -894,6 +914,8 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
                         }
                         // `pa` and `pitch_no` (columns 15 and 16) numbered from 0.
                         15 | 16 if zero_based[ci - 15] => parse::parse_counted_from_zero(ci, v),
+                        // A base column of runner ids: any name is a runner.
+                        10..=12 if runner_ids[ci - 10] => parse::parse_cell(0, v).map(|_| parse::Cell::Bool(true)),
                         // `result` (column 18: the fifth optional one)
                         // through the config's [result_groups]; a value set
                         // aside parses as any result (its row is left out).
@@ -919,6 +941,10 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
         let mut vals: [parse::Value; REQUIRED_COLUMNS.len() + OPTIONAL_COLUMNS.len()] = [None; REQUIRED_COLUMNS.len() + OPTIONAL_COLUMNS.len()];
         for (((v, c), check), missing) in vals.iter_mut().zip(&cols).zip(&checks).zip(&missing) {
             *v = c.and_then(|c| c.code(i).filter(|&code| !missing[code]).map(|code| (c.dict[code].as_str(), &check[code])));
+        }
+        // In a base column of runner ids an empty cell is an empty base.
+        for (k, _) in runner_ids.iter().enumerate().filter(|(_, &ids)| ids) {
+            vals[10 + k] = vals[10 + k].or(Some(("", &NO_RUNNER)));
         }
         if let Ok(k) = table.ragged.binary_search_by_key(&i, |r| r.0) {
             // Too few or too many fields: its values would land in the wrong
@@ -1031,6 +1057,18 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
     let optional = Optional { pa, pitch_no, score, result, speed, side, height, team };
     let repeats = order_rows(&mut log, optional, |c| has(c), table.format.locator());
     log.games_on_two_dates = split_games_by_date(&mut log);
+    let bases: Vec<String> = ["on_first", "on_second", "on_third"].into_iter().zip(runner_ids).filter(|(_, r)| *r).map(|(c, _)| format!("`{c}`")).collect();
+    if !bases.is_empty() {
+        log.runner_ids = Some(format!(
+            "{} {} the runner on the base (an id or a name) and {} empty where none is, never 0: a filled cell is read as a runner there and an empty one as none",
+            match bases.len() {
+                1 => bases[0].clone(),
+                n => format!("{} and {}", bases[..n - 1].join(", "), bases[n - 1]),
+            },
+            if bases.len() == 1 { "holds" } else { "hold" },
+            if bases.len() == 1 { "is" } else { "are" }
+        ));
+    }
     let named: Vec<&str> = ["pa", "pitch_no"].into_iter().zip(zero_based).filter(|(_, z)| *z).map(|(c, _)| c).collect();
     if !named.is_empty() {
         log.counted_from_zero = Some(format!(
