@@ -545,8 +545,20 @@ fn base_columns_of_runner_ids_read_as_occupied_where_filled() {
     assert!(plain.log.runner_ids.is_none());
     assert_eq!(
         ids.log.runner_ids.as_deref(),
-        Some("`on_first`, `on_second` and `on_third` hold the runner on the base (an id or a name) and are empty where none is, never 0: a filled cell is read as a runner there and an empty one as none")
+        Some("`on_first`, `on_second` and `on_third` hold the runner on the base (an id, a name or 1) and are empty where none is, never 0: a filled cell is read as a runner there and an empty one as none")
     );
+    // 1 where a runner is and nothing where none is: the same reading.
+    let ones = load(&write(&dir, "ones.csv", &rewrite("").lines().map(|l| {
+        let mut c: Vec<String> = l.split(',').map(str::to_string).collect();
+        for &b in &bases {
+            if c[b].starts_with("66") {
+                c[b] = "1".into();
+            }
+        }
+        c.join(",")
+    }).collect::<Vec<_>>().join("\n")));
+    assert!(ones.rejected.is_empty() && ones.log.runner_ids.is_some());
+    assert_same_rows(&plain.log, &ones.log, true);
     // Ids where a runner is and 0 where none is: not one convention, so
     // each id's row is rejected with the fix, as before.
     let mixed = load(&write(&dir, "mixed.csv", &rewrite("0")));

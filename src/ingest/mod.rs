@@ -878,17 +878,20 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
         })
     };
     let zero_based = [from_zero(15), from_zero(16)];
-    // A base column that holds the runner on the base (his id or name) and
-    // is empty where none is, as many play-by-play exports write it: no
-    // value says "no runner" (0, false, no) and at least two distinct
-    // values are not 0/1 at all. Read whole, filled is a runner and empty
-    // is none; a column mixing ids with 0/1 keeps its rows' reasons.
+    // A base column that holds the runner on the base (his id or name, or
+    // 1) and is empty where none is, as many play-by-play exports write
+    // it: no value says "no runner" (0, false, no), and either at least two
+    // distinct values are not 0/1 at all (ids) or only "yes" values and
+    // empty cells are there. Read whole, filled is a runner and empty is
+    // none; a column mixing ids with 0/1 keeps its rows' reasons.
     let runner_ids: [bool; 3] = std::array::from_fn(|k| {
         cols[10 + k].is_some_and(|c| {
-            let plain = |v: &String| !parse::missing_marker(v);
-            let no_false = c.dict.iter().filter(|v| plain(v)).all(|v| parse::parse_bool(v) != Some(false));
-            let ids = c.dict.iter().filter(|v| plain(v) && parse::parse_bool(v).is_none() && parse::parse_cell(0, v).is_ok()).count();
-            no_false && ids >= 2
+            let plain = |v: &&String| !parse::missing_marker(v);
+            let no_false = c.dict.iter().filter(plain).all(|v| parse::parse_bool(v) != Some(false));
+            let ids = c.dict.iter().filter(plain).filter(|v| parse::parse_bool(v).is_none() && parse::parse_cell(0, v).is_ok()).count();
+            let yes_only = c.dict.iter().filter(plain).all(|v| parse::parse_bool(v) == Some(true));
+            let empty = || (0..table.n_rows).any(|i| c.code(i).is_none_or(|code| parse::missing_marker(&c.dict[code])));
+            no_false && (ids >= 2 || (yes_only && c.dict.iter().any(|v| plain(&v)) && empty()))
         })
     });
     // Each result value is looked up once: a pitchout or an intentional
@@ -1060,7 +1063,7 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
     let bases: Vec<String> = ["on_first", "on_second", "on_third"].into_iter().zip(runner_ids).filter(|(_, r)| *r).map(|(c, _)| format!("`{c}`")).collect();
     if !bases.is_empty() {
         log.runner_ids = Some(format!(
-            "{} {} the runner on the base (an id or a name) and {} empty where none is, never 0: a filled cell is read as a runner there and an empty one as none",
+            "{} {} the runner on the base (an id, a name or 1) and {} empty where none is, never 0: a filled cell is read as a runner there and an empty one as none",
             match bases.len() {
                 1 => bases[0].clone(),
                 n => format!("{} and {}", bases[..n - 1].join(", "), bases[n - 1]),
