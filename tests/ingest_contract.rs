@@ -590,6 +590,17 @@ fn game_ids_numbered_per_club_are_named() {
     // Each pitcher's rows in the file's order: his six pitches together.
     let by: Vec<&str> = ing.log.pitcher.iter().map(|&p| ing.log.pitchers[p as usize].as_str()).collect();
     assert_eq!(by, [["Wren Alder"; 6], ["Juno Vale"; 6], ["Tam Ostrow"; 6]].concat());
+    // Without `pa` and `pitch_no` (no numbers to collide) the ids are
+    // named all the same.
+    let bare: String = text.lines().map(|l| {
+        let mut c: Vec<&str> = l.split(',').collect();
+        c.drain(14..16);
+        c.join(",") + "\n"
+    }).collect();
+    let ing = load(&write(&dir, "bare.csv", &bare));
+    assert!(ing.log.pa.is_none());
+    let note = ing.log.pa_numbering.as_deref().expect("a note without pa");
+    assert!(note.starts_with("in 1 of the 1 games, one game id holds pitchers of more than two clubs on one day"), "{note}");
     std::fs::remove_dir_all(&dir).ok();
 }
 

@@ -155,7 +155,8 @@ pub struct PitchLog {
     pub team: Option<Vec<Option<u32>>>,
     /// When `pa` is not numbered through the game (per team, per inning),
     /// why, in words: the rows were then kept in file order within each
-    /// game.
+    /// game. Also the note on game ids numbered per club, with or without
+    /// `pa` (`ids_per_club`).
     pub pa_numbering: Option<String>,
     /// `pa` or `pitch_no` numbered from 0 in the file, read as from 1: a
     /// note when they are.
@@ -1140,16 +1141,10 @@ fn split_games_by_date(log: &mut PitchLog) -> Option<String> {
 /// innings only when the third out falls on the bases during it.
 fn pa_not_through_the_game(log: &PitchLog, optional: &Optional) -> (HashSet<(i32, u32)>, Option<String>) {
     let mut first: HashMap<(i32, u32, u32), (u16, Option<u32>, bool)> = HashMap::new();
-    // A game has two clubs: an id holding more on one day is numbered per
-    // club (each club's nth game), which is what the `pa` collisions show.
-    let mut clubs: HashMap<(i32, u32), HashSet<u32>> = HashMap::new();
     for i in 0..log.len() {
         let team = optional.team.get(i).copied().flatten();
         let e = first.entry((log.date[i], log.game[i], optional.pa[i])).or_insert((log.inning[i], team, false));
         e.2 |= e.0 != log.inning[i] || matches!((e.1, team), (Some(a), Some(b)) if a != b);
-        if let Some(t) = team {
-            clubs.entry((log.date[i], log.game[i])).or_default().insert(t);
-        }
     }
     // Per game: numbers, numbers used again.
     let mut games: HashMap<(i32, u32), (usize, usize)> = HashMap::new();
@@ -1159,17 +1154,6 @@ fn pa_not_through_the_game(log: &PitchLog, optional: &Optional) -> (HashSet<(i32
         c.1 += usize::from(e.2);
     }
     let not_through: HashSet<(i32, u32)> = games.iter().filter(|(_, &(n, r))| r >= 2 && 10 * r >= n).map(|(&k, _)| k).collect();
-    let crowded: Vec<(usize, (i32, u32))> = clubs.iter().filter(|(_, c)| c.len() > 2).map(|(&k, c)| (c.len(), k)).collect();
-    if let Some(&(most, (date, game))) = crowded.iter().max() {
-        let note = format!(
-            "in {} of the {} games, one game id holds pitchers of more than two clubs on one day (\"{}\" on {} holds {most}): the ids look numbered per club (each club's nth game), not per game; each pitcher's outings are read in the file's order, but give each game an id of its own",
-            crate::domain::numbers::fmt_n(crowded.len()),
-            crate::domain::numbers::fmt_n(games.len()),
-            log.games[game as usize],
-            parse::format_date(date)
-        );
-        return (not_through, Some(note));
-    }
     let note = (!not_through.is_empty()).then(|| {
         format!(
             "in {} of the {} games, `pa` numbers hold pitches of two innings or two clubs, so it is numbered per team or per inning there rather than through the game: those games' rows are kept in the file's order (give the file in game order, or number pa through the game)",
@@ -1178,6 +1162,33 @@ fn pa_not_through_the_game(log: &PitchLog, optional: &Optional) -> (HashSet<(i32
         )
     });
     (not_through, note)
+}
+
+/// A note when game ids are numbered per club (each club's nth game), not
+/// per game: a game has two clubs, so an id holding the pitchers of more
+/// than two on one day is not one game. Needs `team`; with `pa`, the same
+/// ids also show as `pa` collisions, which this note then explains.
+fn ids_per_club(log: &PitchLog, optional: &Optional) -> Option<String> {
+    let mut clubs: HashMap<(i32, u32), HashSet<u32>> = HashMap::new();
+    let mut last = None;
+    for i in 0..log.len() {
+        let Some(t) = optional.team.get(i).copied().flatten() else { continue };
+        // Rows of one game and club come in runs: one insert per run.
+        let here = (log.date[i], log.game[i], t);
+        if last != Some(here) {
+            clubs.entry((here.0, here.1)).or_default().insert(t);
+            last = Some(here);
+        }
+    }
+    let crowded: Vec<(usize, (i32, u32))> = clubs.iter().filter(|(_, c)| c.len() > 2).map(|(&k, c)| (c.len(), k)).collect();
+    let &(most, (date, game)) = crowded.iter().max()?;
+    Some(format!(
+        "in {} of the {} games, one game id holds pitchers of more than two clubs on one day (\"{}\" on {} holds {most}): the ids look numbered per club (each club's nth game), not per game; each pitcher's outings are read in the file's order, but give each game an id of its own",
+        crate::domain::numbers::fmt_n(crowded.len()),
+        crate::domain::numbers::fmt_n(clubs.len()),
+        log.games[game as usize],
+        parse::format_date(date)
+    ))
 }
 
 /// A pitcher's outing logged twice, which the row-by-row rule
@@ -1364,7 +1375,8 @@ fn order_rows(log: &mut PitchLog, optional: Optional, has: impl Fn(&str) -> bool
     // game: ordered by it, the halves and innings would interleave, so the
     // rows keep their file order within each game instead.
     let (not_through, note) = if has("pa") { pa_not_through_the_game(log, &optional) } else { (HashSet::new(), None) };
-    log.pa_numbering = note;
+    // Ids numbered per club explain `pa` collisions too: said instead.
+    log.pa_numbering = ids_per_club(log, &optional).or(note);
     let through = |i: usize| not_through.is_empty() || !not_through.contains(&(log.date[i], log.game[i]));
     let key = |i: u32| {
         let i = i as usize;
