@@ -540,6 +540,10 @@ fn base_columns_of_runner_ids_read_as_occupied_where_filled() {
     };
     let plain = load(&write(&dir, "plain.csv", &format!("{head}\n{}\n", body.join("\n"))));
     let ids = load(&write(&dir, "ids.csv", &rewrite("")));
+    // R's "NA" for an empty base reads the same.
+    let na = load(&write(&dir, "na.csv", &rewrite("NA")));
+    assert!(na.rejected.is_empty() && na.log.runner_ids.is_some(), "{:?}", &na.rejected[..na.rejected.len().min(2)]);
+    assert_same_rows(&plain.log, &na.log, true);
     assert!(ids.rejected.is_empty(), "{:?}", &ids.rejected[..ids.rejected.len().min(3)]);
     assert_same_rows(&plain.log, &ids.log, true);
     assert!(plain.log.runner_ids.is_none());

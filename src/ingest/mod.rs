@@ -910,6 +910,12 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
                     .iter()
                     .enumerate()
                     .map(|(code, v)| match ci {
+                        // A base column of runner ids: any name is a runner,
+                        // a missing-value marker ("NA") an empty base.
+                        10..=12 if runner_ids[ci - 10] => match parse::missing_marker(v) {
+                            true => Ok(parse::Cell::Bool(false)),
+                            false => parse::parse_cell(0, v).map(|_| parse::Cell::Bool(true)),
+                        },
                         // A required column's missing-value marker ("NA")
                         // is said to be one; a pitch label is read as
                         // written (an unknown pitch, set aside).
@@ -918,8 +924,6 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
                         }
                         // `pa` and `pitch_no` (columns 15 and 16) numbered from 0.
                         15 | 16 if zero_based[ci - 15] => parse::parse_counted_from_zero(ci, v),
-                        // A base column of runner ids: any name is a runner.
-                        10..=12 if runner_ids[ci - 10] => parse::parse_cell(0, v).map(|_| parse::Cell::Bool(true)),
                         // `result` (column 18: the fifth optional one)
                         // through the config's [result_groups]; a value set
                         // aside parses as any result (its row is left out).
