@@ -502,6 +502,16 @@ fn an_optional_column_in_another_format_is_set_aside_whole() {
     assert!(aside[1].1.starts_with("`loc_height_ft` cannot be read in 3,000 of its 3,000 filled rows (the commonest value, \"") && aside[1].1.contains("is not a number"), "{}", aside[1].1);
     assert!(!ing.source.optional_present.iter().any(|c| c == "result" || c.starts_with("loc_")), "{:?}", ing.source.optional_present);
 
+    // A season written as a span throughout is not set aside (the calendar
+    // year would cut a winter season in two): its rows are rejected with
+    // the fix.
+    let season = at("season");
+    let mut spans = rows.clone();
+    for r in &mut spans {
+        r[season] = format!("{}-{}", r[season], r[season][2..].parse::<u32>().unwrap() + 1);
+    }
+    let e = data_error(&write(&dir, "spans.csv", &text(&spans, &|_| true)), &defaults());
+    assert!(e.contains("is a span of years"), "{e}");
     // A few bad values (one row in a hundred) are rows rejected, as ever.
     let mut few = rows.clone();
     for r in few.iter_mut().step_by(100) {

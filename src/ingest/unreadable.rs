@@ -38,10 +38,13 @@ fn reading(ci: usize, name: &str, v: &str, input: &InputParams) -> Result<(), St
 
 /// The optional columns of `table` (those it still has) most of whose
 /// filled values cannot be read: more than half of them, and at least
-/// `MIN_UNREADABLE` rows. The two location columns go together.
+/// `MIN_UNREADABLE` rows. The two location columns go together. `season`
+/// is never set aside: the calendar year it would fall back to cuts a
+/// winter league's season in two, and every scheme is built on seasons,
+/// so its rows are rejected with the fix instead.
 pub fn unreadable_columns(table: &RawTable, input: &InputParams) -> Vec<SetAside> {
     let mut out: Vec<SetAside> = Vec::new();
-    for (k, &name) in OPTIONAL_COLUMNS.iter().enumerate() {
+    for (k, &name) in OPTIONAL_COLUMNS.iter().enumerate().filter(|(_, &n)| n != "season") {
         let ci = REQUIRED_COLUMNS.len() + k;
         let Some(col) = table.column(input.file_column(name)) else { continue };
         let why: Vec<Option<String>> = col
