@@ -582,6 +582,46 @@ fn base_columns_of_runner_ids_read_as_occupied_where_filled() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+/// A log with `pitch_no` (numbered within each plate appearance) but no
+/// `pa`: the rows keep the file's order within each game, as without both.
+/// Sorted by `pitch_no` alone, every plate appearance's first pitch came
+/// first and most previous pitches read as after a gap. The same rows and
+/// the same situations as the log with `pa`; a `pitch_no` running through
+/// the game still orders shuffled rows.
+#[test]
+fn pitch_no_without_pa_keeps_the_file_order() {
+    let dir = scratch("no-pa");
+    let (head, body) = plain_staff_lines(3000);
+    let header: Vec<&str> = head.split(',').collect();
+    let (pa, no, game) = (header.iter().position(|h| *h == "pa").unwrap(), header.iter().position(|h| *h == "pitch_no").unwrap(), header.iter().position(|h| *h == "game").unwrap());
+    let drop_pa = |l: &str| l.split(',').enumerate().filter(|(i, _)| *i != pa).map(|(_, v)| v).collect::<Vec<_>>().join(",");
+    let with = load(&write(&dir, "with.csv", &format!("{head}\n{}\n", body.join("\n"))));
+    let without = load(&write(&dir, "without.csv", &format!("{}\n{}\n", drop_pa(&head), body.iter().map(|l| drop_pa(l)).collect::<Vec<_>>().join("\n"))));
+    assert!(without.log.pa.is_none() && without.rejected.is_empty());
+    assert_eq!(without.log.source_line, with.log.source_line, "the file's order");
+    let (a, b) = (tellscope::situations::build(&with.log), tellscope::situations::build(&without.log));
+    for f in ["count", "prev_pitch", "times_through"] {
+        let codes = |s: &tellscope::situations::Situations| s.factors.iter().find(|x| x.factor.name() == f).map(|x| x.codes.clone()).expect(f);
+        assert_eq!(codes(&a), codes(&b), "{f}");
+    }
+    // Numbered through each game instead, it orders the game's rows even
+    // when the file gives them backward.
+    let mut running: Vec<String> = Vec::new();
+    let mut n = std::collections::HashMap::new();
+    for l in &body {
+        let mut c: Vec<String> = l.split(',').map(str::to_string).collect();
+        let k = n.entry(c[game].clone()).or_insert(0);
+        *k += 1;
+        c[no] = k.to_string();
+        running.push(drop_pa(&c.join(",")));
+    }
+    let forward = load(&write(&dir, "running.csv", &format!("{}\n{}\n", drop_pa(&head), running.join("\n"))));
+    running.reverse();
+    let backward = load(&write(&dir, "backward.csv", &format!("{}\n{}\n", drop_pa(&head), running.join("\n"))));
+    assert_same_rows(&forward.log, &backward.log, false);
+    std::fs::remove_dir_all(&dir).ok();
+}
+
 /// Game ids numbered per club (each club's nth game): one id holds the
 /// pitchers of more than two clubs on a day, which no game does. A note
 /// says so (not the note on `pa` numbered per team, which the collisions

@@ -1373,7 +1373,8 @@ fn finish_names(log: &mut PitchLog, team: &mut [Option<u32>], interners: [Intern
 fn order_rows(log: &mut PitchLog, optional: Optional, has: impl Fn(&str) -> bool, locator: &str) -> Vec<Rejected> {
     // CONTRACT §1: order by date, game, pa, pitch_no; file order within a
     // game when pa/pitch_no are absent (they are then 0 for every row, so
-    // the file position decides). The sort is stable.
+    // the file position decides), or when pa is absent and pitch_no is
+    // numbered within each plate appearance. The sort is stable.
     let mut order: Vec<u32> = (0..log.game.len() as u32).collect();
     // A `pa` numbered per team or per inning repeats its numbers within a
     // game: ordered by it, the halves and innings would interleave, so the
@@ -1382,10 +1383,19 @@ fn order_rows(log: &mut PitchLog, optional: Optional, has: impl Fn(&str) -> bool
     // Ids numbered per club explain `pa` collisions too: said instead.
     log.pa_numbering = ids_per_club(log, &optional).or(note);
     let through = |i: usize| not_through.is_empty() || !not_through.contains(&(log.date[i], log.game[i]));
+    // Without `pa`, a `pitch_no` numbered within each plate appearance (as
+    // the contract has it) cannot order a game's rows: sorted by it, every
+    // plate appearance's first pitch would come first. It orders them only
+    // when it runs through each game (no number twice in a game), else the
+    // file's order stands.
+    let by_pitch_no = has("pa") || {
+        let mut seen = HashSet::new();
+        (0..log.len()).all(|i| seen.insert((log.date[i], log.game[i], optional.pitch_no[i])))
+    };
     let key = |i: u32| {
         let i = i as usize;
         if through(i) {
-            (log.date[i], log.game[i], optional.pa[i], optional.pitch_no[i])
+            (log.date[i], log.game[i], optional.pa[i], if by_pitch_no { optional.pitch_no[i] } else { 0 })
         } else {
             (log.date[i], log.game[i], 0, 0)
         }
