@@ -1520,11 +1520,23 @@ fn pa_numbered_per_team_or_per_inning_keeps_the_game_in_order() {
     let through = load(&write(&dir, "through.csv", &renumber(&|r| (String::new(), r[ti].clone()))));
     let per_team = load(&write(&dir, "per-team.csv", &renumber(&|r| (r[ti].clone(), r[ti].clone()))));
     let per_inning = load(&write(&dir, "per-inning.csv", &renumber(&|r| (format!("{} {}", r[ti], r[ii]), r[ti].clone()))));
+    // Per pitcher (each man's batters faced from 1), with the clubs left
+    // blank: only two pitchers facing two batters under one number show it.
+    let blank_clubs = |text: String| -> String {
+        text.lines().enumerate().map(|(k, l)| {
+            let mut c: Vec<&str> = l.split(',').collect();
+            if k > 0 {
+                c[ti] = "";
+            }
+            c.join(",") + "\n"
+        }).collect()
+    };
+    let per_pitcher = load(&write(&dir, "per-pitcher.csv", &blank_clubs(renumber(&|r| (r[pti].clone(), r[ti].clone())))));
     assert!(through.log.pa_numbering.is_none());
     let base = tellscope::situations::build(&through.log);
-    for (what, ing) in [("per team", &per_team), ("per inning", &per_inning)] {
+    for (what, ing) in [("per team", &per_team), ("per inning", &per_inning), ("per pitcher", &per_pitcher)] {
         let note = ing.log.pa_numbering.as_deref().unwrap_or_else(|| panic!("{what}: no note"));
-        assert!(note.starts_with("in 2 of the 2 games, `pa` numbers hold pitches of two innings or two clubs"), "{what}: {note}");
+        assert!(note.starts_with("in 2 of the 2 games, `pa` numbers hold pitches of two innings, two clubs or two pitchers to two batters"), "{what}: {note}");
         assert!(ing.rejected.is_empty(), "{what}: {:?}", ing.rejected.first());
         assert_eq!(ing.log.source_line, through.log.source_line, "{what}: the same rows in the same order");
         let sit = tellscope::situations::build(&ing.log);

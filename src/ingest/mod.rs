@@ -1142,25 +1142,37 @@ fn split_games_by_date(log: &mut PitchLog) -> Option<String> {
 /// a `team` column, is a number used again (per team, per inning). A game
 /// with a tenth of its numbers so, and at least two, is taken as numbered
 /// that way; numbered through the game, a plate appearance spans two
-/// innings only when the third out falls on the bases during it.
+/// innings only when the third out falls on the bases during it. A number
+/// holding two pitchers facing two batters is used again too (numbered per
+/// pitcher: each reliever's batters faced counted from 1), and one such
+/// number is enough: a plate appearance changes pitcher (a reliever
+/// mid-count) or batter (a pinch hitter) but never both.
 fn pa_not_through_the_game(log: &PitchLog, optional: &Optional) -> (HashSet<(i32, u32)>, Option<String>) {
-    let mut first: HashMap<(i32, u32, u32), (u16, Option<u32>, bool)> = HashMap::new();
+    // Per number: its first row's inning, club, pitcher and batter; used
+    // again (another inning or club); two pitchers facing two batters.
+    let mut first: HashMap<(i32, u32, u32), (u16, Option<u32>, u32, u32, bool, bool)> = HashMap::new();
     for i in 0..log.len() {
         let team = optional.team.get(i).copied().flatten();
-        let e = first.entry((log.date[i], log.game[i], optional.pa[i])).or_insert((log.inning[i], team, false));
-        e.2 |= e.0 != log.inning[i] || matches!((e.1, team), (Some(a), Some(b)) if a != b);
+        let e = first
+            .entry((log.date[i], log.game[i], optional.pa[i]))
+            .or_insert((log.inning[i], team, log.pitcher[i], log.batter[i], false, false));
+        e.4 |= e.0 != log.inning[i] || matches!((e.1, team), (Some(a), Some(b)) if a != b);
+        e.5 |= e.2 != log.pitcher[i] && e.3 != log.batter[i];
     }
-    // Per game: numbers, numbers used again.
-    let mut games: HashMap<(i32, u32), (usize, usize)> = HashMap::new();
+    // Per game: numbers, numbers used again, numbers of two pitchers to
+    // two batters.
+    let mut games: HashMap<(i32, u32), (usize, usize, usize)> = HashMap::new();
     for (&(d, g, _), e) in &first {
         let c = games.entry((d, g)).or_default();
         c.0 += 1;
-        c.1 += usize::from(e.2);
+        c.1 += usize::from(e.4);
+        c.2 += usize::from(e.5);
     }
-    let not_through: HashSet<(i32, u32)> = games.iter().filter(|(_, &(n, r))| r >= 2 && 10 * r >= n).map(|(&k, _)| k).collect();
+    let not_through: HashSet<(i32, u32)> =
+        games.iter().filter(|(_, &(n, r, two))| (r >= 2 && 10 * r >= n) || two > 0).map(|(&k, _)| k).collect();
     let note = (!not_through.is_empty()).then(|| {
         format!(
-            "in {} of the {} games, `pa` numbers hold pitches of two innings or two clubs, so it is numbered per team or per inning there rather than through the game: those games' rows are kept in the file's order (give the file in game order, or number pa through the game)",
+            "in {} of the {} games, `pa` numbers hold pitches of two innings, two clubs or two pitchers to two batters, so it is numbered per team, per inning or per pitcher there rather than through the game: those games' rows are kept in the file's order (give the file in game order, or number pa through the game)",
             crate::domain::numbers::fmt_n(not_through.len()),
             crate::domain::numbers::fmt_n(games.len())
         )
