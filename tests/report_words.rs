@@ -221,3 +221,30 @@ fn branches_of_an_unflagged_pitcher_are_read_with_care() {
     assert_eq!(text.matches(caution).count(), want);
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// The page's table of pitchers without figures says the rule once and,
+/// per pitcher, his pitches by season and which side he falls short on,
+/// worked out here from summary.json's counts and the settings' minimums.
+/// The bundled demo club has two such pitchers (demo-data/README.md).
+#[test]
+fn pitchers_without_figures_say_where_they_fall_short() {
+    let (a, dir, text) = audited_page("demo-data/demo-log.csv", "short");
+    let (min_train, min_test) = (a.summary.settings.min_train_pitches, a.summary.settings.min_test_pitches);
+    assert!(text.contains(&format!(
+        "No figure is shown for a pitcher the models could learn from fewer than {min_train} of his pitches, or score fewer than {min_test}"
+    )));
+    let short: Vec<_> = a.summary.pitchers.iter().filter(|p| !p.is_ok()).collect();
+    assert!(!short.is_empty());
+    for p in short {
+        let seasons: Vec<String> = p.pitches_by_season.iter().map(|(y, n)| format!("{} in {y}", grouped(*n as u64))).collect();
+        let side = match (p.n_train < min_train, p.n_test < min_test) {
+            (true, true) => "too few to learn from and to score",
+            (true, false) => "too few to learn from",
+            (false, true) => "too few to score",
+            (false, false) => panic!("{} has enough of both", p.pitcher),
+        };
+        let row = format!("{}{}{}{}: {side}.", p.pitcher, grouped(p.n_train as u64), grouped(p.n_test as u64), seasons.join(", "));
+        assert!(text.contains(&row), "{row}");
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}

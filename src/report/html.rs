@@ -336,11 +336,22 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
     let mut insufficient = Vec::new();
     for p in &summary.pitchers {
         if !p.is_ok() {
+            // The rule is said once above the table; each row says which
+            // side he falls short on, then any other caution (a trade).
+            let (train, test) = (p.n_train < summary.settings.min_train_pitches, p.n_test < summary.settings.min_test_pitches);
+            let short = match (train, test) {
+                (true, true) => "too few to learn from and to score",
+                (true, false) => "too few to learn from",
+                (false, true) => "too few to score",
+                (false, false) => "",
+            };
+            let by_season: Vec<String> = p.pitches_by_season.iter().map(|(y, n)| format!("{} in {y}", numbers::fmt_n(*n))).collect();
+            let others = p.cautions.iter().filter(|c| !c.starts_with("No figures:")).cloned().collect::<Vec<_>>().join(" ");
             insufficient.push(Insufficient {
                 pitcher: p.pitcher.clone(),
                 n_train: p.n_train,
                 n_test: p.n_test,
-                why: p.cautions.join(" "),
+                why: format!("{}{}{}", by_season.join(", "), if short.is_empty() { String::new() } else { format!(": {short}.") }, if others.is_empty() { String::new() } else { format!(" {others}") }),
             });
             continue;
         }
@@ -368,6 +379,8 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
         notes => summary.notes.clone(),
         staff => staff,
         insufficient => insufficient,
+        min_train => summary.settings.min_train_pitches,
+        min_test => summary.settings.min_test_pitches,
         staff_chart => charts.staff.clone(),
         called_chart => charts.called.clone(),
         league_chart => charts.league.clone(),
