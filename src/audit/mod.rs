@@ -412,7 +412,7 @@ fn gone_notes(log: &ingest::PitchLog, pitchers: &[PitcherSummary], latest: Optio
         let before = if young.is_some() { latest - 1 } else { latest };
         let which = if young.is_some() { "the season before the log's latest" } else { "the log's latest season" };
         notes.push(format!(
-            "{} of the pitchers with figures last pitched before {before}, {which} ({}): each is scored on his own latest season, so his figures describe him then, not a pitcher on today's staff.",
+            "{} of the pitchers with figures last pitched before {before}, {which} ({}): each is scored on his own latest season, so his figures describe him then (he may have left the staff, or been hurt all season).",
             fmt_n(gone.len()),
             shown(&gone)
         ));
