@@ -408,6 +408,11 @@ fn missing_markers_and_pitchouts_in_result() {
     std::fs::remove_dir_all(&dir).ok();
 }
 
+/// The position of column `name` in a CSV header line.
+fn column(head: &str, name: &str) -> usize {
+    head.split(',').position(|h| h == name).unwrap_or_else(|| panic!("no column {name} in {head}"))
+}
+
 /// The plain-staff demo's header and its first `n` rows.
 fn plain_staff_lines(n: usize) -> (String, Vec<String>) {
     let demo = std::fs::read_to_string(fixture("../plain-staff/demo-log.csv")).unwrap();
@@ -424,8 +429,7 @@ fn plain_staff_lines(n: usize) -> (String, Vec<String>) {
 fn pa_and_pitch_no_counted_from_zero_read_as_from_one() {
     let dir = scratch("from-zero");
     let (head, body) = plain_staff_lines(3000);
-    let header: Vec<&str> = head.split(',').collect();
-    let (pa, no) = (header.iter().position(|h| *h == "pa").unwrap(), header.iter().position(|h| *h == "pitch_no").unwrap());
+    let (pa, no) = (column(&head, "pa"), column(&head, "pitch_no"));
     let shifted: Vec<String> = body
         .iter()
         .map(|l| {
@@ -465,7 +469,7 @@ fn an_optional_column_in_another_format_is_set_aside_whole() {
     let dir = scratch("unreadable");
     let (head, body) = plain_staff_lines(3000);
     let header: Vec<&str> = head.split(',').collect();
-    let at = |c: &str| header.iter().position(|h| *h == c).unwrap();
+    let at = |c: &str| column(&head, c);
     let (result, side, height) = (at("result"), at("loc_side_ft"), at("loc_height_ft"));
     let rows: Vec<Vec<String>> = body.iter().map(|l| l.split(',').map(str::to_string).collect()).collect();
     let text = |rows: &[Vec<String>], keep: &dyn Fn(usize) -> bool| {
@@ -532,8 +536,7 @@ fn an_optional_column_in_another_format_is_set_aside_whole() {
 fn base_columns_of_runner_ids_read_as_occupied_where_filled() {
     let dir = scratch("runner-ids");
     let (head, body) = plain_staff_lines(3000);
-    let header: Vec<&str> = head.split(',').collect();
-    let bases: Vec<usize> = ["on_first", "on_second", "on_third"].iter().map(|c| header.iter().position(|h| h == c).unwrap()).collect();
+    let bases: Vec<usize> = ["on_first", "on_second", "on_third"].iter().map(|c| column(&head, c)).collect();
     let rewrite = |zero: &str| -> String {
         let rows: Vec<String> = body
             .iter()
@@ -592,8 +595,7 @@ fn base_columns_of_runner_ids_read_as_occupied_where_filled() {
 fn pitch_no_without_pa_keeps_the_file_order() {
     let dir = scratch("no-pa");
     let (head, body) = plain_staff_lines(3000);
-    let header: Vec<&str> = head.split(',').collect();
-    let (pa, no, game) = (header.iter().position(|h| *h == "pa").unwrap(), header.iter().position(|h| *h == "pitch_no").unwrap(), header.iter().position(|h| *h == "game").unwrap());
+    let (pa, no, game) = (column(&head, "pa"), column(&head, "pitch_no"), column(&head, "game"));
     let drop_pa = |l: &str| l.split(',').enumerate().filter(|(i, _)| *i != pa).map(|(_, v)| v).collect::<Vec<_>>().join(",");
     let with = load(&write(&dir, "with.csv", &format!("{head}\n{}\n", body.join("\n"))));
     let without = load(&write(&dir, "without.csv", &format!("{}\n{}\n", drop_pa(&head), body.iter().map(|l| drop_pa(l)).collect::<Vec<_>>().join("\n"))));
