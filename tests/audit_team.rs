@@ -147,6 +147,13 @@ fn an_unknown_club_or_a_log_without_clubs_is_a_usage_error() {
     let e = tellscope::audit::selected_pitchers(&ing.log, &s).unwrap_err();
     assert_eq!(e.exit_code(), 2);
     assert!(e.to_string().ends_with("the log has \"Team 01\""), "{e}");
+    // A `team` column left empty names that, not an empty list of clubs.
+    let mut blank = ing.log.clone();
+    blank.team = blank.team.map(|t| vec![None; t.len()]);
+    blank.teams.clear();
+    let e = tellscope::audit::selected_pitchers(&blank, &settings(Some(CLUB), Vec::new())).unwrap_err();
+    assert_eq!(e.exit_code(), 2);
+    assert!(e.to_string().contains("the log's `team` column is empty in"), "{e}");
     // The typed Parquet fixture has no `team` column.
     let typed = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/logs/typed.parquet");
     let s = settings(Some(CLUB), Vec::new());

@@ -275,6 +275,11 @@ pub fn team_pitchers(log: &ingest::PitchLog, team: &str) -> Result<Vec<u32>> {
         if let Some(near) = log.teams.iter().find(|q| ingest::same_loose_name(q, team)) {
             return Err(Error::Usage(format!("--team \"{team}\" is not in the log's `team` column; the log has \"{near}\"")));
         }
+        if known.is_empty() {
+            return Err(Error::Usage(format!(
+                "--team \"{team}\": the log's `team` column is empty in {latest}, its latest season; fill in each pitch's club or leave out --team"
+            )));
+        }
         let shown: Vec<String> = known.iter().take(6).map(|k| format!("\"{k}\"")).collect();
         return Err(Error::Usage(format!(
             "--team \"{team}\" is not in the log's `team` column; clubs in {latest} include {}{}",
