@@ -866,15 +866,8 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
             }
             let code_of = |x: f64| c.dict.iter().position(|v| n(v) == Some(x));
             let Some(zero) = code_of(0.0) else { return false };
-            let one = code_of(1.0);
-            let (mut at0, mut at1) = (0usize, 0usize);
-            for i in 0..table.n_rows {
-                match c.code(i) {
-                    Some(k) if k == zero => at0 += 1,
-                    Some(k) if Some(k) == one => at1 += 1,
-                    _ => {}
-                }
-            }
+            let uses = c.uses();
+            let (at0, at1) = (uses[zero], code_of(1.0).map_or(0, |one| uses[one]));
             at0 >= 2 && 2 * at0 >= at1
         })
     };
@@ -908,8 +901,7 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
             c.map_or_else(Vec::new, |c| {
                 c.dict
                     .iter()
-                    .enumerate()
-                    .map(|(code, v)| match ci {
+                    .map(|v| match ci {
                         // A base column of runner ids: any name is a runner,
                         // a missing-value marker ("NA") an empty base.
                         10..=12 if runner_ids[ci - 10] => match parse::missing_marker(v) {
@@ -927,11 +919,7 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
                         // `result` (column 18: the fifth optional one)
                         // through the config's [result_groups]; a value set
                         // aside parses as any result (its row is left out).
-                        18 => input
-                            .result_of(v)
-                            .or_else(|| aside_result[code].map(|_| crate::domain::result::PitchResult::Other))
-                            .map(parse::Cell::Result)
-                            .ok_or_else(|| parse::unknown_result(v)),
+                        18 => parse::parse_result(v, input),
                         _ => parse::parse_cell(ci, v),
                     })
                     .collect()

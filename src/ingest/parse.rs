@@ -210,6 +210,18 @@ pub fn parse_counted_from_zero(column: usize, v: &str) -> Result<Cell, String> {
     int_in(v, col, 0, i64::from(u32::MAX) - 1).map(|n| Cell::Int(n + 1)).map_err(|b| b.2)
 }
 
+/// A `result` value's check: a contract result through the config's
+/// `[result_groups]`, or a value whose rows are set aside (a pitchout
+/// written in `result`), which reads as any result since its row is left
+/// out; else refused with the fix.
+pub fn parse_result(v: &str, input: &crate::settings::InputParams) -> Result<Cell, String> {
+    input
+        .result_of(v)
+        .or_else(|| input.result_set_aside_as(v).map(|_| PitchResult::Other))
+        .map(Cell::Result)
+        .ok_or_else(|| unknown_result(v))
+}
+
 /// Why a `result` value is refused, with the fix: a log's own outcome
 /// codes ("foul_tip", "ball_in_dirt") are each listed under the contract
 /// result they count as, which only the club can say. Said once per

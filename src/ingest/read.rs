@@ -138,6 +138,17 @@ impl TextColumn {
         let c = self.codes.get(row);
         (c != NULL_CODE).then_some(c as usize)
     }
+
+    /// How many rows hold each dictionary value (empty rows not counted).
+    pub fn uses(&self) -> Vec<usize> {
+        let mut uses = vec![0usize; self.dict.len()];
+        for r in 0..self.codes.len() {
+            if let Some(c) = self.code(r) {
+                uses[c] += 1;
+            }
+        }
+        uses
+    }
 }
 
 /// Text columns read from a file, by the file's own header names.

@@ -43,7 +43,7 @@ pub struct SetAside {
 pub fn misread_units(table: &RawTable, input: &InputParams) -> Vec<SetAside> {
     let col = |c: &str| table.column(input.file_column(c));
     let mut out = Vec::new();
-    if let Some(m) = col("speed_mph").and_then(|c| median(c, table.n_rows, false)) {
+    if let Some(m) = col("speed_mph").and_then(|c| median(c, false)) {
         if m > 110.0 {
             out.push(SetAside {
                 columns: vec!["speed_mph".into()],
@@ -55,8 +55,8 @@ pub fn misread_units(table: &RawTable, input: &InputParams) -> Vec<SetAside> {
     }
     let (side, height) = (col("loc_side_ft"), col("loc_height_ft"));
     if let (Some(side), Some(height)) = (side, height) {
-        let h = median(height, table.n_rows, false);
-        let s = median(side, table.n_rows, true);
+        let h = median(height, false);
+        let s = median(side, true);
         let why = match (h, s) {
             (Some(h), _) if h > 8.0 => Some(format!(
                 "`loc_height_ft` has a median of {h:.1}, where pitches cross the plate about 2.3 ft above the ground: the location columns look like inches (divide by 12) or centimetres (divide by 30.48)"
@@ -80,13 +80,8 @@ pub fn misread_units(table: &RawTable, input: &InputParams) -> Vec<SetAside> {
 /// `abs`), each row counted once; `None` with fewer than `MIN_VALUES`.
 /// Values that are not numbers are passed over (their rows are rejected
 /// later, or set aside with the column).
-fn median(col: &TextColumn, n_rows: usize, abs: bool) -> Option<f64> {
-    let mut uses = vec![0usize; col.dict.len()];
-    for r in 0..n_rows {
-        if let Some(c) = col.code(r) {
-            uses[c] += 1;
-        }
-    }
+fn median(col: &TextColumn, abs: bool) -> Option<f64> {
+    let uses = col.uses();
     let mut values: Vec<(f64, usize)> = col
         .dict
         .iter()

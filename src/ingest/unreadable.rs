@@ -27,10 +27,7 @@ const MIN_UNREADABLE: usize = 20;
 /// the results set aside.
 fn reading(ci: usize, name: &str, v: &str, input: &InputParams) -> Result<(), String> {
     match name {
-        "result" => match input.result_of(v).is_some() || input.result_set_aside_as(v).is_some() {
-            true => Ok(()),
-            false => Err(parse::unknown_result(v)),
-        },
+        "result" => parse::parse_result(v, input).map(|_| ()),
         "pa" | "pitch_no" => parse::parse_cell(ci, v).or_else(|e| parse::parse_counted_from_zero(ci, v).map_err(|_| e)).map(|_| ()),
         _ => parse::parse_cell(ci, v).map(|_| ()),
     }
@@ -56,12 +53,7 @@ pub fn unreadable_columns(table: &RawTable, input: &InputParams) -> Vec<SetAside
         if !bad_values {
             continue;
         }
-        let mut uses = vec![0usize; col.dict.len()];
-        for r in 0..table.n_rows {
-            if let Some(c) = col.code(r) {
-                uses[c] += 1;
-            }
-        }
+        let uses = col.uses();
         let filled: usize = uses.iter().zip(&col.dict).filter(|(_, v)| !parse::missing_marker(v)).map(|(n, _)| n).sum();
         let bad: usize = uses.iter().zip(&why).filter(|(_, w)| w.is_some()).map(|(n, _)| n).sum();
         if bad < MIN_UNREADABLE || 2 * bad <= filled {

@@ -337,21 +337,19 @@ pub fn render(summary: &Summary, all_tests: &[TellTest], charts: &ChartSvgs, ste
     for p in &summary.pitchers {
         if !p.is_ok() {
             // The rule is said once above the table; each row says which
-            // side he falls short on, then any other caution (a trade).
-            let (train, test) = (p.n_train < summary.settings.min_train_pitches, p.n_test < summary.settings.min_test_pitches);
-            let short = match (train, test) {
+            // side he falls short on (a pitcher without figures is short on
+            // one at least: `audit::enough`).
+            let short = match (p.n_train < summary.settings.min_train_pitches, p.n_test < summary.settings.min_test_pitches) {
                 (true, true) => "too few to learn from and to score",
                 (true, false) => "too few to learn from",
-                (false, true) => "too few to score",
-                (false, false) => "",
+                _ => "too few to score",
             };
             let by_season: Vec<String> = p.pitches_by_season.iter().map(|(y, n)| format!("{} in {y}", numbers::fmt_n(*n))).collect();
-            let others = p.cautions.iter().filter(|c| !c.starts_with("No figures:")).cloned().collect::<Vec<_>>().join(" ");
             insufficient.push(Insufficient {
                 pitcher: p.pitcher.clone(),
                 n_train: p.n_train,
                 n_test: p.n_test,
-                why: format!("{}{}{}", by_season.join(", "), if short.is_empty() { String::new() } else { format!(": {short}.") }, if others.is_empty() { String::new() } else { format!(" {others}") }),
+                why: format!("{}: {short}.", by_season.join(", ")),
             });
             continue;
         }
