@@ -3,7 +3,7 @@
 
 use crate::error::{Error, Result};
 use crate::model::TreeSettings;
-use crate::domain::columns::{OPTIONAL_COLUMNS, REQUIRED_COLUMNS};
+use crate::domain::columns::{OPTIONAL_COLUMNS, REQUIRED_COLUMNS, SOURCE_COLUMNS};
 use crate::domain::defaults::*;
 use crate::domain::levels::Factor;
 use serde::{Deserialize, Serialize};
@@ -407,7 +407,7 @@ pub struct Overrides {
 }
 
 fn known_column(name: &str) -> bool {
-    REQUIRED_COLUMNS.contains(&name) || OPTIONAL_COLUMNS.contains(&name)
+    REQUIRED_COLUMNS.contains(&name) || OPTIONAL_COLUMNS.contains(&name) || SOURCE_COLUMNS.contains(&name)
 }
 
 impl ConfigFile {
@@ -456,7 +456,7 @@ impl InputParams {
         for (contract, file) in &cfg.columns {
             if !known_column(contract) {
                 return Err(Error::Usage(format!(
-                    "[columns] {contract} = \"{file}\": {contract} is not a contract column; the left side must be one of the names in CONTRACT §1 (e.g. pitcher = \"PitcherName\")"
+                    "[columns] {contract} = \"{file}\": {contract} is not a contract column; the left side must be one of the names in CONTRACT §1 (e.g. pitcher = \"PitcherName\") or one the README lists for working out the score and the club (half, home_score, away_score, home_team, away_team)"
                 )));
             }
         }

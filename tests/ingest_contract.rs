@@ -1548,3 +1548,99 @@ fn pa_numbered_per_team_or_per_inning_keeps_the_game_in_order() {
     }
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// The plain-staff demo's rows with `score_diff` and `team` replaced by
+/// the inning's half and each club's runs and name (`half_of` gives the
+/// half written for the pitcher's club at home, then away), as many
+/// exports write them; the club is at home in every other game.
+fn halves_log(n: usize, half_of: (&str, &str)) -> String {
+    let (head, body) = plain_staff_lines(n);
+    let (score, team, game) = (column(&head, "score_diff"), column(&head, "team"), column(&head, "game"));
+    let keep = |c: &[String]| -> Vec<String> { c.iter().enumerate().filter(|(i, _)| *i != score && *i != team).map(|(_, v)| v.clone()).collect() };
+    let head_cols: Vec<String> = head.split(',').map(str::to_string).collect();
+    let mut lines = vec![format!("{},half,home_team,away_team,home_score,away_score", keep(&head_cols).join(","))];
+    let mut games: Vec<String> = Vec::new();
+    for l in &body {
+        let c: Vec<String> = l.split(',').map(str::to_string).collect();
+        if !games.contains(&c[game]) {
+            games.push(c[game].clone());
+        }
+        let at_home = games.len() % 2 == 1;
+        let d: i64 = c[score].parse().unwrap();
+        // Runs of the pitcher's club and of the other, both at least 0.
+        let theirs = 3 + (-d).max(0);
+        let ours = theirs + d;
+        let row = if at_home {
+            format!("{},{},{},Visitors,{ours},{theirs}", keep(&c).join(","), half_of.0, c[team])
+        } else {
+            format!("{},{},Hosts,{},{theirs},{ours}", keep(&c).join(","), half_of.1, c[team])
+        };
+        lines.push(row);
+    }
+    lines.join("\n") + "\n"
+}
+
+/// `score_diff` and `team` worked out from the inning's half and each
+/// club's runs and name (the home club pitches in the top of an inning):
+/// the same rows as the log that has them, with a note for each. Halves
+/// written top/bottom or T/B read alike; a half column of other values
+/// works nothing out and says why; a row whose half cannot be read keeps
+/// its pitch with no score or club; a file with `score_diff` reads its own.
+#[test]
+fn score_and_club_worked_out_from_the_half_and_each_clubs_runs() {
+    let dir = scratch("halves");
+    let (head, body) = plain_staff_lines(3000);
+    let plain = load(&write(&dir, "plain.csv", &format!("{head}\n{}\n", body.join("\n"))));
+    assert!(plain.source.worked_out.is_empty());
+    for (name, halves) in [("words.csv", ("top", "bottom")), ("letters.csv", ("T", "B"))] {
+        let worked = load(&write(&dir, name, &halves_log(3000, halves)));
+        assert!(worked.rejected.is_empty(), "{:?}", &worked.rejected[..worked.rejected.len().min(2)]);
+        assert_same_rows(&plain.log, &worked.log, true);
+        let cols: Vec<&str> = worked.source.worked_out.iter().map(|w| w.column.as_str()).collect();
+        assert_eq!(cols, ["score_diff", "team"]);
+        assert!(worked.source.worked_out.iter().all(|w| w.rows_without == 0));
+        assert!(worked.source.optional_present.contains(&"score_diff".to_string()));
+        let notes = tellscope::ingest::log_notes(&worked.log, &worked.source);
+        assert!(notes.iter().any(|n| n.starts_with("`score_diff` is not in the file and was worked out from `half`, `home_score` and `away_score`")), "{notes:?}");
+    }
+    // Mapped through [columns] like any other column.
+    let mapped_text = halves_log(3000, ("top", "bottom")).replacen(",half,", ",InningHalf,", 1);
+    let mapped = tellscope::ingest::load(&write(&dir, "mapped.csv", &mapped_text), &with_config("[columns]\nhalf = \"InningHalf\"\n").input).unwrap();
+    assert_same_rows(&plain.log, &mapped.log, true);
+    // Halves numbered 1 and 2: nothing worked out, and the note says why.
+    let numbered = load(&write(&dir, "numbered.csv", &halves_log(3000, ("1", "2"))));
+    assert!(numbered.log.score_diff.is_none() && numbered.log.team.is_none());
+    assert!(numbered.source.worked_out.is_empty());
+    let why = numbered.source.not_worked_out.as_deref().unwrap();
+    assert!(why.contains("not top or bottom") && why.contains("\"1\""), "{why}");
+    // A few unreadable halves: those rows keep their pitch without a score
+    // or club, counted in the note.
+    let text = halves_log(3000, ("top", "bottom"));
+    let mut lines: Vec<String> = text.lines().map(str::to_string).collect();
+    for i in [5, 77, 901] {
+        lines[i] = lines[i].replacen(",top,", ",middle,", 1).replacen(",bottom,", ",middle,", 1);
+    }
+    let some = load(&write(&dir, "some.csv", &(lines.join("\n") + "\n")));
+    assert!(some.rejected.is_empty());
+    assert_eq!(some.log.len(), plain.log.len());
+    assert!(some.source.worked_out.iter().all(|w| w.rows_without == 3), "{:?}", some.source.worked_out);
+    let missing = some.log.score_diff.as_ref().unwrap().iter().filter(|s| s.is_none()).count();
+    assert_eq!(missing, 3);
+    // The half given the other way round (the pitching club's half): the
+    // worked-out score rises under the pitcher, so it is set aside, and the
+    // club worked out from the same half with it.
+    let flipped = load(&write(&dir, "flipped.csv", &halves_log(3000, ("bottom", "top"))));
+    assert!(flipped.log.score_diff.is_none() && flipped.log.team.is_none());
+    let aside = &flipped.source.optional_set_aside;
+    assert_eq!(aside.len(), 1, "{aside:?}");
+    assert_eq!(aside[0].columns, ["score_diff", "team"]);
+    assert!(aside[0].reason.contains("give the half the batting club is in"), "{}", aside[0].reason);
+    assert!(flipped.source.worked_out.is_empty());
+    // A file with `score_diff` and the sources reads its own column.
+    let both_head = format!("{head},half,home_score,away_score");
+    let both: Vec<String> = body.iter().map(|l| format!("{l},bottom,0,9")).collect();
+    let own = load(&write(&dir, "both.csv", &format!("{both_head}\n{}\n", both.join("\n"))));
+    assert!(own.source.worked_out.is_empty());
+    assert_eq!(own.log.score_diff, plain.log.score_diff);
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -59,6 +59,10 @@ pub struct Input {
     /// when none were).
     #[serde(skip_serializing_if = "Vec::is_empty")]
     pub rejected_reasons: Vec<crate::ingest::RejectedReason>,
+    /// Optional columns the file lacks, worked out from the inning's half
+    /// and each club's runs or name (absent when none were).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub columns_worked_out: Vec<crate::ingest::derive::WorkedOut>,
     pub seasons: Vec<i32>,
 }
 
@@ -82,6 +86,7 @@ impl Input {
             rows_set_aside: source.rows_set_aside,
             pitch_labels_set_aside: source.pitch_labels_set_aside.clone(),
             rejected_reasons: source.rejected_reasons.clone(),
+            columns_worked_out: source.worked_out.clone(),
             seasons: log.seasons(),
         }
     }

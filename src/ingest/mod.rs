@@ -2,13 +2,14 @@
 //! CONTRACT §1, keep rejected rows with their reasons, and order the rest by
 //! date, game, plate appearance and pitch number.
 
+pub mod derive;
 pub mod parse;
 pub mod read;
 pub mod units;
 pub mod unreadable;
 
 use crate::error::{Error, Result};
-use crate::domain::columns::{OPTIONAL_COLUMNS, REQUIRED_COLUMNS};
+use crate::domain::columns::{OPTIONAL_COLUMNS, REQUIRED_COLUMNS, SOURCE_COLUMNS};
 use crate::settings::InputParams;
 use crate::domain::levels::Hand;
 use crate::domain::PitchResult;
@@ -70,6 +71,12 @@ pub struct SourceInfo {
     /// The rejected rows' commonest reasons (column and reason), most rows
     /// first, at most three: what the run's note names.
     pub rejected_reasons: Vec<RejectedReason>,
+    /// Contract columns the file lacks, worked out from the inning's half
+    /// and each club's runs or name ([`derive::work_out`]).
+    pub worked_out: Vec<derive::WorkedOut>,
+    /// Why they were not, when the file has the columns but its half
+    /// cannot be read.
+    pub not_worked_out: Option<String>,
 }
 
 /// One reason rows were rejected, with how many.
@@ -520,7 +527,9 @@ fn group_line(old: &str, new: &str) -> String {
 /// day, labels renamed between seasons, `pa` numbered per team or inning,
 /// and a season across the new year when the file has no `season` column.
 pub fn log_notes(log: &PitchLog, source: &SourceInfo) -> Vec<String> {
-    let mut notes = log.near_duplicate_names();
+    let mut notes: Vec<String> = source.worked_out.iter().map(|w| w.note.clone()).collect();
+    notes.extend(source.not_worked_out.clone());
+    notes.extend(log.near_duplicate_names());
     notes.extend(log.names_on_two_clubs_in_a_day());
     notes.extend(log.renamed_labels());
     notes.extend(log.pa_numbering.clone());
@@ -642,6 +651,7 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
     let wanted: Vec<String> = REQUIRED_COLUMNS
         .iter()
         .chain(OPTIONAL_COLUMNS.iter())
+        .chain(SOURCE_COLUMNS.iter())
         .map(|c| input.file_column(c).to_string())
         .collect();
     // The file's checksum is computed while polars reads it.
@@ -698,6 +708,9 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
             path.display()
         )));
     }
+    // A score difference or club the file lacks is worked out from the
+    // inning's half and each club's runs and name, when it has those.
+    let (worked_out, not_worked_out) = derive::work_out(&mut table, input);
     // A measurement column in other units is set aside whole, as if the
     // file had none, before any row is read.
     let mut set_aside = units::misread_units(&table, input);
@@ -712,9 +725,21 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
     let (mut log, rejected, aside_rows, blank) = validate(&table, input);
     // A score difference taken from the other side is set aside too: its
     // "ahead" would read as "behind".
+    let mut worked_out = worked_out;
     if let Some(reason) = units::score_from_the_other_side(&log) {
         log.score_diff = None;
-        set_aside.push(units::SetAside { columns: vec!["score_diff".into()], reason });
+        if worked_out.iter().any(|w| w.column == "score_diff") {
+            // Worked out from the half, the score says the half is given
+            // from the other side, and so is any club worked out with it.
+            let (score, reason, team) = derive::from_the_other_side(&reason, &worked_out, input);
+            if team {
+                log.team = None;
+            }
+            worked_out.retain(|w| !score.contains(&w.column));
+            set_aside.push(units::SetAside { columns: score, reason });
+        } else {
+            set_aside.push(units::SetAside { columns: vec!["score_diff".into()], reason });
+        }
     }
     let aside = |c: &str| set_aside.iter().any(|s| s.columns.iter().any(|x| x == c));
     let present: Vec<String> = OPTIONAL_COLUMNS
@@ -739,6 +764,8 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
         rows_set_aside: aside_rows.len(),
         pitch_labels_set_aside: labels_set_aside(&aside_rows, input),
         rejected_reasons: commonest_reasons(&rejected, 3),
+        worked_out,
+        not_worked_out,
     };
     if !checked {
         return Ok(Ingested { log, rejected, set_aside: aside_rows, source });

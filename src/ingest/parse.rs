@@ -50,6 +50,11 @@ fn int_in<'a>(v: &'a str, col: &'static str, lo: i64, hi: i64) -> Result<i64, Br
     Ok(n)
 }
 
+/// A whole number in `lo..=hi` ("3.0" reads as 3), or `None`.
+pub fn whole_number(v: &str, lo: i64, hi: i64) -> Option<i64> {
+    int_in(v.trim(), "", lo, hi).ok()
+}
+
 fn hand<'a>(v: &'a str, col: &'static str) -> Result<Hand, Breach<'a>> {
     Hand::parse(v).ok_or_else(|| {
         // A roster's "S" (or "B") for a switch hitter says nothing of the

@@ -132,6 +132,16 @@ impl TextColumn {
         TextColumn { dict, codes }
     }
 
+    /// A column from a dictionary and a code per row (`None` for an empty
+    /// cell): one worked out from other columns (`derive`).
+    pub fn from_codes(dict: Vec<String>, codes: impl ExactSizeIterator<Item = Option<u32>>) -> TextColumn {
+        let mut out = Codes::U8(Vec::with_capacity(codes.len()));
+        for c in codes {
+            out.push(c.unwrap_or(NULL_CODE));
+        }
+        TextColumn { dict, codes: out }
+    }
+
     /// The dictionary index of `row`'s value, `None` when it is empty.
     #[inline]
     pub fn code(&self, row: usize) -> Option<usize> {

@@ -1,0 +1,199 @@
+//! Contract columns worked out from the columns a log has instead. Many
+//! exports carry the inning's half with each club's runs and name rather
+//! than the pitcher's own score difference and club: `half` (`top` or
+//! `bottom`), `home_score` and `away_score` (runs before the pitch),
+//! `home_team` and `away_team`. The home club pitches in the top of an
+//! inning and bats in the bottom, so
+//! * `score_diff` is `home_score − away_score` in the top half and
+//!   `away_score − home_score` in the bottom;
+//! * `team` is `home_team` in the top half and `away_team` in the bottom.
+//!
+//! A contract column the file has is always read as it is; these are
+//! worked out only for one it lacks, and the run says so. A row whose half
+//! or score cannot be read gets no value there (a missing value of an
+//! optional column, never a guess), and the note counts such rows. A half
+//! column mostly written another way (`1`/`2`, say) works nothing out and
+//! says why. The worked-out `score_diff` then meets the same check as one
+//! read from the file (`units::score_from_the_other_side`): a half given
+//! from the other side would make the batting side's runs rise under the
+//! pitcher, and the column is set aside.
+
+use super::parse;
+use super::read::{RawTable, TextColumn};
+use crate::domain::numbers::fmt_n;
+use crate::settings::InputParams;
+use serde::Serialize;
+use std::collections::HashMap;
+
+/// A contract column worked out from others.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct WorkedOut {
+    /// Its contract name.
+    pub column: String,
+    /// The (contract-side) names of the columns it came from.
+    pub from: Vec<String>,
+    /// Rows left without a value: a half or a source value missing or
+    /// unreadable.
+    pub rows_without: usize,
+    /// The run's note, a sentence without a final stop.
+    pub note: String,
+}
+
+#[derive(Clone, Copy, PartialEq, Eq, Hash)]
+enum Half {
+    Top,
+    Bottom,
+}
+
+fn half_of(v: &str) -> Option<Half> {
+    match v.trim().to_ascii_lowercase().as_str() {
+        "top" | "t" | "top half" => Some(Half::Top),
+        "bottom" | "bot" | "b" | "btm" | "bottom half" => Some(Half::Bottom),
+        _ => None,
+    }
+}
+
+/// Works out `score_diff` and `team` for a table that lacks them and has
+/// their sources, adding them to `table` under the names the validator
+/// reads (`input.file_column`). Returns what was worked out, and a note
+/// when the file's half cannot be read.
+pub fn work_out(table: &mut RawTable, input: &InputParams) -> (Vec<WorkedOut>, Option<String>) {
+    let name = |c: &str| input.file_column(c).to_string();
+    let has = |t: &RawTable, c: &str| t.column(input.file_column(c)).is_some();
+    let want_score = !has(table, "score_diff") && has(table, "home_score") && has(table, "away_score");
+    let want_team = !has(table, "team") && has(table, "home_team") && has(table, "away_team");
+    if !(want_score || want_team) {
+        return (Vec::new(), None);
+    }
+    let Some(half_col) = table.column(input.file_column("half")) else {
+        return (Vec::new(), None);
+    };
+    // The half's values, each read once.
+    let halves: Vec<Option<Half>> = half_col.dict.iter().map(|v| half_of(v)).collect();
+    let uses = half_col.uses();
+    let filled: usize = uses.iter().zip(&half_col.dict).filter(|(_, v)| !parse::missing_marker(v)).map(|(n, _)| n).sum();
+    let bad: Vec<(usize, &str)> = uses
+        .iter()
+        .zip(&half_col.dict)
+        .zip(&halves)
+        .filter(|((_, v), h)| h.is_none() && !parse::missing_marker(v))
+        .map(|((&n, v), _)| (n, v.as_str()))
+        .collect();
+    let n_bad: usize = bad.iter().map(|(n, _)| n).sum();
+    let what = match (want_score, want_team) {
+        (true, true) => "`score_diff` and `team` were",
+        (true, false) => "`score_diff` was",
+        _ => "`team` was",
+    };
+    if filled == 0 || 2 * n_bad > filled {
+        let commonest = bad.iter().max_by_key(|(n, v)| (*n, std::cmp::Reverse(*v))).map(|(_, v)| *v).unwrap_or("");
+        let note = if filled == 0 {
+            format!("{what} not worked out from `{}`: the column is empty", name("half"))
+        } else {
+            format!(
+                "{what} not worked out from `{}`: its values are not top or bottom (\"{commonest}\" in {} rows); write the inning's half as top or bottom",
+                name("half"),
+                fmt_n(bad.iter().find(|(_, v)| *v == commonest).map_or(0, |(n, _)| *n))
+            )
+        };
+        return (Vec::new(), Some(note));
+    }
+    let n = table.n_rows;
+    let half_at: Vec<Option<Half>> = (0..n).map(|r| half_col.code(r).and_then(|c| halves[c])).collect();
+    let mut out = Vec::new();
+    if want_score {
+        let (home, away) = (table.column(&name("home_score")).unwrap(), table.column(&name("away_score")).unwrap());
+        let runs = |c: &TextColumn| -> Vec<Option<i64>> { c.dict.iter().map(|v| parse::whole_number(v, 0, 200)).collect() };
+        let (home_runs, away_runs) = (runs(home), runs(away));
+        let mut dict: Vec<String> = Vec::new();
+        let mut index: HashMap<i64, u32> = HashMap::new();
+        let mut without = 0usize;
+        let codes: Vec<Option<u32>> = (0..n)
+            .map(|r| {
+                let h = home.code(r).and_then(|c| home_runs[c]);
+                let a = away.code(r).and_then(|c| away_runs[c]);
+                let diff = match (half_at[r], h, a) {
+                    (Some(Half::Top), Some(h), Some(a)) => h - a,
+                    (Some(Half::Bottom), Some(h), Some(a)) => a - h,
+                    _ => {
+                        without += 1;
+                        return None;
+                    }
+                };
+                Some(*index.entry(diff).or_insert_with(|| {
+                    dict.push(diff.to_string());
+                    dict.len() as u32 - 1
+                }))
+            })
+            .collect();
+        table.columns.push((name("score_diff"), TextColumn::from_codes(dict, codes.into_iter())));
+        let from = vec!["half".to_string(), "home_score".into(), "away_score".into()];
+        out.push(worked_out("score_diff", from, without, n, input, "the home club's runs minus the visitors' in the top of an inning, the visitors' minus the home club's in the bottom"));
+    }
+    if want_team {
+        let (home, away) = (table.column(&name("home_team")).unwrap(), table.column(&name("away_team")).unwrap());
+        // One dictionary for both clubs' names, in the order first met.
+        let mut dict: Vec<String> = Vec::new();
+        let mut index: HashMap<String, u32> = HashMap::new();
+        let mut code_of = |v: &str| -> u32 {
+            *index.entry(v.to_string()).or_insert_with(|| {
+                dict.push(v.to_string());
+                dict.len() as u32 - 1
+            })
+        };
+        let (mut home_code, mut away_code) = (vec![None; home.dict.len()], vec![None; away.dict.len()]);
+        let mut without = 0usize;
+        let mut codes: Vec<Option<u32>> = Vec::with_capacity(n);
+        for r in 0..n {
+            let (col, cache) = match half_at[r] {
+                Some(Half::Top) => (home, &mut home_code),
+                Some(Half::Bottom) => (away, &mut away_code),
+                None => {
+                    without += 1;
+                    codes.push(None);
+                    continue;
+                }
+            };
+            let code = col.code(r).filter(|&c| !parse::missing_marker(&col.dict[c])).map(|c| *cache[c].get_or_insert_with(|| code_of(&col.dict[c])));
+            without += usize::from(code.is_none());
+            codes.push(code);
+        }
+        table.columns.push((name("team"), TextColumn::from_codes(dict, codes.into_iter())));
+        let from = vec!["half".to_string(), "home_team".into(), "away_team".into()];
+        out.push(worked_out("team", from, without, n, input, "the home club in the top of an inning, the visitors in the bottom"));
+    }
+    (out, None)
+}
+
+fn worked_out(column: &str, from: Vec<String>, without: usize, n: usize, input: &InputParams, rule: &str) -> WorkedOut {
+    let names: Vec<String> = from.iter().map(|c| format!("`{}`", input.file_column(c))).collect();
+    let rows = if without == 0 {
+        String::new()
+    } else {
+        format!("; {} of {} rows have none, their half or {} missing or unreadable", fmt_n(without), fmt_n(n), if column == "team" { "club" } else { "score" })
+    };
+    let note = format!(
+        "`{column}` is not in the file and was worked out from {}, {} and {}: {rule}{rows}",
+        names[0], names[1], names[2]
+    );
+    WorkedOut { column: column.to_string(), from, rows_without: without, note }
+}
+
+/// The columns to set aside, and why, when a worked-out `score_diff` rises
+/// under the pitcher (`units::score_from_the_other_side` gave `reason`):
+/// the half is read the other way round from the file's meaning, so a club
+/// worked out from it names the batting club and goes too (the third value
+/// says whether it does).
+pub fn from_the_other_side(reason: &str, worked_out: &[WorkedOut], input: &InputParams) -> (Vec<String>, String, bool) {
+    let team = worked_out.iter().any(|w| w.column == "team");
+    let columns: Vec<String> = worked_out.iter().map(|w| w.column.clone()).filter(|c| c == "score_diff" || (team && c == "team")).collect();
+    // The check's own finding, without its fix (which is for a file's own
+    // `score_diff`).
+    let finding = reason.split(": it looks like").next().unwrap_or(reason);
+    let why = format!(
+        "{finding}: worked out from `{}`, {} as if the home club pitched in the top of an inning; if the file's half names the pitching club's half, or the home club bats first, give the half the batting club is in",
+        input.file_column("half"),
+        if team { "the score and the club read" } else { "the score reads" }
+    );
+    (columns, why, team)
+}
