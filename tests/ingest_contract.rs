@@ -1607,11 +1607,39 @@ fn score_and_club_worked_out_from_the_half_and_each_clubs_runs() {
     let mapped_text = halves_log(3000, ("top", "bottom")).replacen(",half,", ",InningHalf,", 1);
     let mapped = tellscope::ingest::load(&write(&dir, "mapped.csv", &mapped_text), &with_config("[columns]\nhalf = \"InningHalf\"\n").input).unwrap();
     assert_same_rows(&plain.log, &mapped.log, true);
+    // The half written into the inning ("Top 3", "3B"), with no half
+    // column: the inning read as its number, the half worked out from it.
+    for (top, bottom) in [("Top ", "Bot "), ("", "")] {
+        let text = halves_log(3000, ("top", "bottom"));
+        let head_line = text.lines().next().unwrap();
+        let (inning, half) = (column(head_line, "inning"), column(head_line, "half"));
+        let rows: Vec<String> = text
+            .lines()
+            .map(|l| {
+                let mut c: Vec<String> = l.split(',').map(str::to_string).collect();
+                if c[half] != "half" {
+                    c[inning] = match (c[half].as_str(), top.is_empty()) {
+                        ("top", false) => format!("{top}{}", c[inning]),
+                        ("top", true) => format!("{}T", c[inning]),
+                        (_, false) => format!("{bottom}{}", c[inning]),
+                        (_, true) => format!("{}B", c[inning]),
+                    };
+                }
+                c.remove(half);
+                c.join(",")
+            })
+            .collect();
+        let split = load(&write(&dir, "split.csv", &(rows.join("\n") + "\n")));
+        assert!(split.rejected.is_empty(), "{:?}", &split.rejected[..split.rejected.len().min(2)]);
+        assert_same_rows(&plain.log, &split.log, true);
+        assert_eq!(split.source.worked_out.len(), 2);
+        assert!(split.source.derive_notes[0].starts_with("`inning` writes each inning with its half"), "{:?}", split.source.derive_notes);
+    }
     // Halves numbered 1 and 2: nothing worked out, and the note says why.
     let numbered = load(&write(&dir, "numbered.csv", &halves_log(3000, ("1", "2"))));
     assert!(numbered.log.score_diff.is_none() && numbered.log.team.is_none());
     assert!(numbered.source.worked_out.is_empty());
-    let why = numbered.source.not_worked_out.as_deref().unwrap();
+    let why = &numbered.source.derive_notes[0];
     assert!(why.contains("not top or bottom") && why.contains("\"1\""), "{why}");
     // A few unreadable halves: those rows keep their pitch without a score
     // or club, counted in the note.

@@ -8,6 +8,9 @@
 //!   `away_score − home_score` in the bottom;
 //! * `team` is `home_team` in the top half and `away_team` in the bottom.
 //!
+//! An `inning` column that writes the half in ("Top 3", "3B") is read as
+//! the inning's number, its half standing in for a `half` column.
+//!
 //! A contract column the file has is always read as it is; these are
 //! worked out only for one it lacks, and the run says so. A row whose half
 //! or score cannot be read gets no value there (a missing value of an
@@ -57,16 +60,23 @@ fn half_of(v: &str) -> Option<Half> {
 /// their sources, adding them to `table` under the names the validator
 /// reads (`input.file_column`). Returns what was worked out, and a note
 /// when the file's half cannot be read.
-pub fn work_out(table: &mut RawTable, input: &InputParams) -> (Vec<WorkedOut>, Option<String>) {
+pub fn work_out(table: &mut RawTable, input: &InputParams) -> (Vec<WorkedOut>, Vec<String>) {
+    let split = split_inning(table, input);
+    // How the notes name the half: a column of the file, or the inning's.
+    let half_label = match &split {
+        Some((_, true)) => format!("the half written in `{}`", input.file_column("inning")),
+        _ => format!("`{}`", input.file_column("half")),
+    };
+    let mut notes: Vec<String> = split.into_iter().map(|(note, _)| note).collect();
     let name = |c: &str| input.file_column(c).to_string();
     let has = |t: &RawTable, c: &str| t.column(input.file_column(c)).is_some();
     let want_score = !has(table, "score_diff") && has(table, "home_score") && has(table, "away_score");
     let want_team = !has(table, "team") && has(table, "home_team") && has(table, "away_team");
     if !(want_score || want_team) {
-        return (Vec::new(), None);
+        return (Vec::new(), notes);
     }
     let Some(half_col) = table.column(input.file_column("half")) else {
-        return (Vec::new(), None);
+        return (Vec::new(), notes);
     };
     // The half's values, each read once.
     let halves: Vec<Option<Half>> = half_col.dict.iter().map(|v| half_of(v)).collect();
@@ -96,7 +106,8 @@ pub fn work_out(table: &mut RawTable, input: &InputParams) -> (Vec<WorkedOut>, O
                 fmt_n(bad.iter().find(|(_, v)| *v == commonest).map_or(0, |(n, _)| *n))
             )
         };
-        return (Vec::new(), Some(note));
+        notes.push(note);
+        return (Vec::new(), notes);
     }
     let n = table.n_rows;
     let half_at: Vec<Option<Half>> = (0..n).map(|r| half_col.code(r).and_then(|c| halves[c])).collect();
@@ -128,7 +139,7 @@ pub fn work_out(table: &mut RawTable, input: &InputParams) -> (Vec<WorkedOut>, O
             .collect();
         table.columns.push((name("score_diff"), TextColumn::from_codes(dict, codes.into_iter())));
         let from = vec!["half".to_string(), "home_score".into(), "away_score".into()];
-        out.push(worked_out("score_diff", from, without, n, input, "the home club's runs minus the visitors' in the top of an inning, the visitors' minus the home club's in the bottom"));
+        out.push(worked_out("score_diff", from, without, n, input, &half_label, "the home club's runs minus the visitors' in the top of an inning, the visitors' minus the home club's in the bottom"));
     }
     if want_team {
         let (home, away) = (table.column(&name("home_team")).unwrap(), table.column(&name("away_team")).unwrap());
@@ -160,13 +171,67 @@ pub fn work_out(table: &mut RawTable, input: &InputParams) -> (Vec<WorkedOut>, O
         }
         table.columns.push((name("team"), TextColumn::from_codes(dict, codes.into_iter())));
         let from = vec!["half".to_string(), "home_team".into(), "away_team".into()];
-        out.push(worked_out("team", from, without, n, input, "the home club in the top of an inning, the visitors in the bottom"));
+        out.push(worked_out("team", from, without, n, input, &half_label, "the home club in the top of an inning, the visitors in the bottom"));
     }
-    (out, None)
+    (out, notes)
 }
 
-fn worked_out(column: &str, from: Vec<String>, without: usize, n: usize, input: &InputParams, rule: &str) -> WorkedOut {
-    let names: Vec<String> = from.iter().map(|c| format!("`{}`", input.file_column(c))).collect();
+/// An `inning` column that writes each inning with its half ("Top 3",
+/// "3B", "▲3"), as some play-by-play exports do, in most of its filled
+/// values (at least `MIN_SPLIT`): read as the inning's number, and, when the
+/// file has no `half` column, its half becomes one (for the score and club
+/// above). Values written otherwise keep their own reading (a plain number
+/// is read; anything else is rejected with its row). Returns the note, and
+/// whether the half became a column.
+fn split_inning(table: &mut RawTable, input: &InputParams) -> Option<(String, bool)> {
+    let name = input.file_column("inning").to_string();
+    let col = table.column(&name)?;
+    let read: Vec<Option<(u32, bool)>> = col.dict.iter().map(|v| parse::inning_and_half(v)).collect();
+    let uses = col.uses();
+    let with_half: usize = uses.iter().zip(&read).filter(|(_, r)| r.is_some()).map(|(n, _)| n).sum();
+    let filled: usize = uses.iter().sum();
+    if with_half < MIN_SPLIT || 2 * with_half <= filled {
+        return None;
+    }
+    // The numbers' dictionary, each old value mapped into it once.
+    let mut dict: Vec<String> = Vec::new();
+    let to_new: Vec<u32> = col
+        .dict
+        .iter()
+        .zip(&read)
+        .map(|(v, r)| {
+            let text = r.map_or_else(|| v.clone(), |(n, _)| n.to_string());
+            match dict.iter().position(|d| *d == text) {
+                Some(i) => i as u32,
+                None => {
+                    dict.push(text);
+                    dict.len() as u32 - 1
+                }
+            }
+        })
+        .collect();
+    let n = table.n_rows;
+    let innings = TextColumn::from_codes(dict, (0..n).map(|r| col.code(r).map(|c| to_new[c])));
+    let add_half = table.column(input.file_column("half")).is_none();
+    let halves = add_half.then(|| {
+        let half_dict = vec!["top".to_string(), "bottom".to_string()];
+        TextColumn::from_codes(half_dict, (0..n).map(|r| col.code(r).and_then(|c| read[c]).map(|(_, top)| u32::from(!top))))
+    });
+    let example = col.dict.iter().zip(&read).find(|(_, r)| r.is_some()).map(|(v, _)| v.clone()).unwrap_or_default();
+    let slot = table.columns.iter().position(|(c, _)| *c == name).expect("the inning column is there");
+    table.columns[slot].1 = innings;
+    if let Some(h) = halves {
+        table.columns.push((input.file_column("half").to_string(), h));
+    }
+    Some((format!("`{name}` writes each inning with its half (\"{example}\"): read as the inning's number"), add_half))
+}
+
+/// Fewer innings written with their half than this decide nothing (their
+/// rows are rejected with the fix, as a few stray values are).
+const MIN_SPLIT: usize = 20;
+
+fn worked_out(column: &str, from: Vec<String>, without: usize, n: usize, input: &InputParams, half: &str, rule: &str) -> WorkedOut {
+    let names: Vec<String> = from.iter().map(|c| if c == "half" { half.to_string() } else { format!("`{}`", input.file_column(c)) }).collect();
     let rows = if without == 0 {
         String::new()
     } else {
@@ -184,15 +249,14 @@ fn worked_out(column: &str, from: Vec<String>, without: usize, n: usize, input: 
 /// the half is read the other way round from the file's meaning, so a club
 /// worked out from it names the batting club and goes too (the third value
 /// says whether it does).
-pub fn from_the_other_side(reason: &str, worked_out: &[WorkedOut], input: &InputParams) -> (Vec<String>, String, bool) {
+pub fn from_the_other_side(reason: &str, worked_out: &[WorkedOut]) -> (Vec<String>, String, bool) {
     let team = worked_out.iter().any(|w| w.column == "team");
     let columns: Vec<String> = worked_out.iter().map(|w| w.column.clone()).filter(|c| c == "score_diff" || (team && c == "team")).collect();
     // The check's own finding, without its fix (which is for a file's own
     // `score_diff`).
     let finding = reason.split(": it looks like").next().unwrap_or(reason);
     let why = format!(
-        "{finding}: worked out from `{}`, {} as if the home club pitched in the top of an inning; if the file's half names the pitching club's half, or the home club bats first, give the half the batting club is in",
-        input.file_column("half"),
+        "{finding}: worked out from the inning's half, {} as if the home club pitched in the top of an inning; if the file's half names the pitching club's half, or the home club bats first, give the half the batting club is in",
         if team { "the score and the club read" } else { "the score reads" }
     );
     (columns, why, team)

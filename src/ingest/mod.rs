@@ -74,9 +74,9 @@ pub struct SourceInfo {
     /// Contract columns the file lacks, worked out from the inning's half
     /// and each club's runs or name ([`derive::work_out`]).
     pub worked_out: Vec<derive::WorkedOut>,
-    /// Why they were not, when the file has the columns but its half
-    /// cannot be read.
-    pub not_worked_out: Option<String>,
+    /// Notes on columns read another way to work them out: an inning
+    /// written with its half, a half that cannot be read.
+    pub derive_notes: Vec<String>,
 }
 
 /// One reason rows were rejected, with how many.
@@ -528,7 +528,7 @@ fn group_line(old: &str, new: &str) -> String {
 /// and a season across the new year when the file has no `season` column.
 pub fn log_notes(log: &PitchLog, source: &SourceInfo) -> Vec<String> {
     let mut notes: Vec<String> = source.worked_out.iter().map(|w| w.note.clone()).collect();
-    notes.extend(source.not_worked_out.clone());
+    notes.extend(source.derive_notes.iter().cloned());
     notes.extend(log.near_duplicate_names());
     notes.extend(log.names_on_two_clubs_in_a_day());
     notes.extend(log.renamed_labels());
@@ -710,7 +710,7 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
     }
     // A score difference or club the file lacks is worked out from the
     // inning's half and each club's runs and name, when it has those.
-    let (worked_out, not_worked_out) = derive::work_out(&mut table, input);
+    let (worked_out, derive_notes) = derive::work_out(&mut table, input);
     // A measurement column in other units is set aside whole, as if the
     // file had none, before any row is read.
     let mut set_aside = units::misread_units(&table, input);
@@ -731,7 +731,7 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
         if worked_out.iter().any(|w| w.column == "score_diff") {
             // Worked out from the half, the score says the half is given
             // from the other side, and so is any club worked out with it.
-            let (score, reason, team) = derive::from_the_other_side(&reason, &worked_out, input);
+            let (score, reason, team) = derive::from_the_other_side(&reason, &worked_out);
             if team {
                 log.team = None;
             }
@@ -765,7 +765,7 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
         pitch_labels_set_aside: labels_set_aside(&aside_rows, input),
         rejected_reasons: commonest_reasons(&rejected, 3),
         worked_out,
-        not_worked_out,
+        derive_notes,
     };
     if !checked {
         return Ok(Ingested { log, rejected, set_aside: aside_rows, source });

@@ -188,12 +188,22 @@ fn text_cell(v: &str) -> Result<Cell, String> {
 /// The inning number of a value that writes the half in too ("Top 3",
 /// "bot 7", "3T", "B9", "▲3"), as some play-by-play exports do.
 fn inning_with_half(v: &str) -> Option<u32> {
+    inning_and_half(v).map(|(n, _)| n)
+}
+
+/// The inning number and whether it is the top half, of a value that
+/// writes the half in too ("Top 3", "bot 7", "3T", "B9", "▲3").
+pub fn inning_and_half(v: &str) -> Option<(u32, bool)> {
     let lower = v.trim().to_lowercase();
     let digits: String = lower.chars().filter(char::is_ascii_digit).collect();
     let rest: String = lower.chars().filter(|c| !c.is_ascii_digit() && !c.is_whitespace() && *c != '.' && *c != '-').collect();
-    let half = ["top", "bot", "bottom", "t", "b", "tp", "btm", "▲", "▼", "↑", "↓"].contains(&rest.as_str());
+    let top = match rest.as_str() {
+        "top" | "t" | "tp" | "▲" | "↑" => true,
+        "bot" | "bottom" | "b" | "btm" | "▼" | "↓" => false,
+        _ => return None,
+    };
     let n: u32 = digits.parse().ok()?;
-    (half && (1..=99).contains(&n)).then_some(n)
+    (1..=99).contains(&n).then_some((n, top))
 }
 
 /// Whether a value is a missing-value marker: `NA`, `N/A`, `#N/A`,
