@@ -140,6 +140,17 @@ proptest! {
         }
     }
 
+    /// The seed with the half written into `inning` and each club's runs
+    /// and name in place of `score_diff` and `team` (worked out by
+    /// `ingest::derive`; `make_seed_halves.py`).
+    #[test]
+    fn edited_logs_with_halves_give_a_report_or_an_input_error(edits in prop::collection::vec(edit(), 1..10)) {
+        let bytes = apply(std::fs::read(fixture("seed-halves.csv")).unwrap(), &edits);
+        if let Err(why) = audit_bytes(&bytes, "csv") {
+            prop_assert!(false, "{why}");
+        }
+    }
+
     #[test]
     fn edited_parquet_logs_give_a_report_or_an_input_error(edits in prop::collection::vec(edit(), 1..6)) {
         let bytes = apply(std::fs::read(fixture("seed.parquet")).unwrap(), &edits);

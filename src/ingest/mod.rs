@@ -527,8 +527,8 @@ fn group_line(old: &str, new: &str) -> String {
 /// day, labels renamed between seasons, `pa` numbered per team or inning,
 /// and a season across the new year when the file has no `season` column.
 pub fn log_notes(log: &PitchLog, source: &SourceInfo) -> Vec<String> {
-    let mut notes: Vec<String> = source.worked_out.iter().map(|w| w.note.clone()).collect();
-    notes.extend(source.derive_notes.iter().cloned());
+    let mut notes: Vec<String> = source.derive_notes.clone();
+    notes.extend(source.worked_out.iter().map(|w| w.note.clone()));
     notes.extend(log.near_duplicate_names());
     notes.extend(log.names_on_two_clubs_in_a_day());
     notes.extend(log.renamed_labels());
