@@ -1672,3 +1672,71 @@ fn score_and_club_worked_out_from_the_half_and_each_clubs_runs() {
     assert_eq!(own.log.score_diff, plain.log.score_diff);
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// The day after `YYYY-MM-DD` (leap years by the Gregorian rule).
+fn next_day(date: &str) -> String {
+    let (y, m, d): (i32, usize, u32) = (date[..4].parse().unwrap(), date[5..7].parse().unwrap(), date[8..].parse().unwrap());
+    let leap = (y % 4 == 0 && y % 100 != 0) || y % 400 == 0;
+    let dim = [31, if leap { 29 } else { 28 }, 31, 30, 31, 30, 31, 31, 30, 31, 30, 31][m - 1];
+    let (y, m, d) = if d < dim { (y, m, d + 1) } else if m < 12 { (y, m + 1, 1) } else { (y + 1, 1, 1) };
+    format!("{y:04}-{m:02}-{d:02}")
+}
+
+/// A `date` column of each pitch's date and time (a tracking stamp) is
+/// read as its calendar date, with a note; a game stamped across midnight
+/// (an evening game in UTC) keeps its first day rather than splitting in
+/// two. The same rows as the log of plain dates, whether the stamps cross
+/// midnight or not. A few stamps among plain dates are still rejected with
+/// the fix.
+#[test]
+fn a_date_column_of_time_stamps_dates_each_game_by_its_first_pitch() {
+    let dir = scratch("stamps");
+    let (head, body) = plain_staff_lines(3000);
+    let plain = load(&write(&dir, "plain.csv", &format!("{head}\n{}\n", body.join("\n"))));
+    let (date, game) = (column(&head, "date"), column(&head, "game"));
+    // Pitch j of a game stamped `start` minutes after midnight plus 20 s a pitch.
+    let stamped = |start: u32, sep: char, zone: &str| -> String {
+        let mut seen: Vec<(String, u32)> = Vec::new();
+        let rows: Vec<String> = body
+            .iter()
+            .map(|l| {
+                let mut c: Vec<String> = l.split(',').map(str::to_string).collect();
+                let j = match seen.iter_mut().find(|(g, _)| *g == c[game]) {
+                    Some((_, n)) => {
+                        *n += 1;
+                        *n
+                    }
+                    None => {
+                        seen.push((c[game].clone(), 0));
+                        0
+                    }
+                };
+                let secs = start * 60 + 20 * j;
+                let (day, secs) = if secs >= 86_400 { (next_day(&c[date]), secs - 86_400) } else { (c[date].clone(), secs) };
+                c[date] = format!("{day}{sep}{:02}:{:02}:{:02}{zone}", secs / 3600, secs / 60 % 60, secs % 60);
+                c.join(",")
+            })
+            .collect();
+        format!("{head}\n{}\n", rows.join("\n"))
+    };
+    // Begun at 23:10 UTC: every game's later pitches stamped the next day.
+    let across = load(&write(&dir, "across.csv", &stamped(23 * 60 + 10, 'T', "Z")));
+    assert!(across.rejected.is_empty(), "{:?}", &across.rejected[..across.rejected.len().min(2)]);
+    assert_same_rows(&plain.log, &across.log, true);
+    let note = across.source.derive_notes.iter().find(|n| n.starts_with("`date` holds each pitch's time of day")).expect("a note");
+    assert!(note.contains("keep their game's date"), "{note}");
+    assert!(across.log.games_on_two_dates.is_none());
+    // Begun at 13:05 local time, with a space: the dates as written.
+    let day = load(&write(&dir, "day.csv", &stamped(13 * 60 + 5, ' ', "")));
+    assert_same_rows(&plain.log, &day.log, true);
+    assert!(day.source.derive_notes.iter().any(|n| n.starts_with("`date` holds") && !n.contains("midnight")), "{:?}", day.source.derive_notes);
+    // A stray stamp among plain dates is still a rejected row.
+    let mut lines: Vec<String> = body.clone();
+    let mut c: Vec<String> = lines[10].split(',').map(str::to_string).collect();
+    c[date] = format!("{}T19:05:00", c[date]);
+    lines[10] = c.join(",");
+    let stray = load(&write(&dir, "stray.csv", &format!("{head}\n{}\n", lines.join("\n"))));
+    assert_eq!(stray.rejected.len(), 1);
+    assert!(stray.rejected[0].reason.contains("is a date and time"), "{}", stray.rejected[0].reason);
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -8,6 +8,9 @@
 //!   `away_score − home_score` in the bottom;
 //! * `team` is `home_team` in the top half and `away_team` in the bottom.
 //!
+//! A `date` column of time stamps is read as calendar dates, a game
+//! stamped across midnight keeping its first day.
+//!
 //! An `inning` column that writes the half in ("Top 3", "3B") is read as
 //! the inning's number, its half standing in for a `half` column.
 //!
@@ -61,13 +64,14 @@ fn half_of(v: &str) -> Option<Half> {
 /// reads (`input.file_column`). Returns what was worked out, and a note
 /// when the file's half cannot be read.
 pub fn work_out(table: &mut RawTable, input: &InputParams) -> (Vec<WorkedOut>, Vec<String>) {
+    let mut notes: Vec<String> = date_by_first_pitch(table, input).into_iter().collect();
     let split = split_inning(table, input);
     // How the notes name the half: a column of the file, or the inning's.
     let half_label = match &split {
         Some((_, true)) => format!("the half written in `{}`", input.file_column("inning")),
         _ => format!("`{}`", input.file_column("half")),
     };
-    let mut notes: Vec<String> = split.into_iter().map(|(note, _)| note).collect();
+    notes.extend(split.map(|(note, _)| note));
     let name = |c: &str| input.file_column(c).to_string();
     let has = |t: &RawTable, c: &str| t.column(input.file_column(c)).is_some();
     let want_score = !has(table, "score_diff") && has(table, "home_score") && has(table, "away_score");
@@ -260,4 +264,81 @@ pub fn from_the_other_side(reason: &str, worked_out: &[WorkedOut]) -> (Vec<Strin
         if team { "the score and the club read" } else { "the score reads" }
     );
     (columns, why, team)
+}
+
+/// A date-and-time value written `YYYY-MM-DD`, then `T` or a space and a
+/// time ("2025-04-03T19:05:32-07:00"): its calendar date as written, that
+/// date's day number and the hour.
+fn stamp(v: &str) -> Option<(&str, i32, u32)> {
+    let b = v.as_bytes();
+    if !(b.len() >= 13 && v.is_char_boundary(10) && matches!(b[10], b'T' | b' ') && b[11].is_ascii_digit() && b[12].is_ascii_digit()) {
+        return None;
+    }
+    let (day, _) = parse::parse_date(&v[..10])?;
+    let hour = u32::from(b[11] - b'0') * 10 + u32::from(b[12] - b'0');
+    (hour < 24).then_some((&v[..10], day, hour))
+}
+
+/// A `date` column that holds each pitch's date and time of day (a
+/// tracking system's stamp) in most of its filled values, at least
+/// `MIN_SPLIT`: read as its calendar date, as written. A game that runs
+/// across midnight in the stamps' clock (UTC, say, for an evening game)
+/// keeps its first day: a pitch stamped before 06:00 of a game that has
+/// pitches stamped after 12:00 the day before takes that day, rather than
+/// splitting the game in two. (A game id used again on another day, well
+/// apart in the clock, stays a game of its own.) Values written otherwise
+/// keep their own reading. Returns the note.
+fn date_by_first_pitch(table: &mut RawTable, input: &InputParams) -> Option<String> {
+    let name = input.file_column("date").to_string();
+    let col = table.column(&name)?;
+    let stamps: Vec<Option<(&str, i32, u32)>> = col.dict.iter().map(|v| stamp(v)).collect();
+    let uses = col.uses();
+    let stamped: usize = uses.iter().zip(&stamps).filter(|(_, d)| d.is_some()).map(|(n, _)| n).sum();
+    let filled: usize = uses.iter().sum();
+    if stamped < MIN_SPLIT || 2 * stamped <= filled {
+        return None;
+    }
+    // The new dictionary: calendar dates, and the other values as written.
+    let mut dict: Vec<String> = Vec::new();
+    let mut index: HashMap<String, u32> = HashMap::new();
+    let mut code_of = |v: &str| -> u32 {
+        *index.entry(v.to_string()).or_insert_with(|| {
+            dict.push(v.to_string());
+            dict.len() as u32 - 1
+        })
+    };
+    let own: Vec<u32> = col.dict.iter().zip(&stamps).map(|(v, d)| code_of(d.map_or(v.as_str(), |d| d.0))).collect();
+    // Each game's latest hour on each day it has stamps, by (game code, day).
+    let n = table.n_rows;
+    let game = table.column(input.file_column("game"));
+    let mut late: HashMap<(usize, i32), (u32, u32)> = HashMap::new();
+    for r in 0..n {
+        let (Some(c), Some(g)) = (col.code(r), game.and_then(|g| g.code(r))) else { continue };
+        if let Some((_, day, hour)) = stamps[c] {
+            let e = late.entry((g, day)).or_insert((hour, own[c]));
+            e.0 = e.0.max(hour);
+        }
+    }
+    let mut moved = 0usize;
+    let codes: Vec<Option<u32>> = (0..n)
+        .map(|r| {
+            let c = col.code(r)?;
+            let before = match (stamps[c], game.and_then(|g| g.code(r))) {
+                (Some((_, day, hour)), Some(g)) if hour < 6 => late.get(&(g, day - 1)).filter(|(h, _)| *h >= 12).map(|&(_, code)| code),
+                _ => None,
+            };
+            moved += usize::from(before.is_some());
+            Some(before.unwrap_or(own[c]))
+        })
+        .collect();
+    let example = col.dict.iter().zip(&stamps).find(|(_, d)| d.is_some()).map(|(v, _)| v.clone()).unwrap_or_default();
+    let dates = TextColumn::from_codes(dict, codes.into_iter());
+    let slot = table.columns.iter().position(|(c, _)| *c == name).expect("the date column is there");
+    table.columns[slot].1 = dates;
+    let moved = if moved == 0 {
+        String::new()
+    } else {
+        format!("; {} pitches stamped after midnight in games begun the evening before keep their game's date", fmt_n(moved))
+    };
+    Some(format!("`{name}` holds each pitch's time of day (\"{example}\"): read as its calendar date as written{moved}"))
 }
