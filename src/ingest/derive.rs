@@ -191,6 +191,9 @@ fn split_inning(table: &mut RawTable, input: &InputParams) -> Option<(String, bo
     let name = input.file_column("inning").to_string();
     let col = table.column(&name)?;
     let read: Vec<Option<(u32, bool)>> = col.dict.iter().map(|v| parse::inning_and_half(v)).collect();
+    if read.iter().all(Option::is_none) {
+        return None;
+    }
     let uses = col.uses();
     let with_half: usize = uses.iter().zip(&read).filter(|(_, r)| r.is_some()).map(|(n, _)| n).sum();
     let filled: usize = uses.iter().sum();
@@ -292,6 +295,9 @@ fn date_by_first_pitch(table: &mut RawTable, input: &InputParams) -> Option<Stri
     let name = input.file_column("date").to_string();
     let col = table.column(&name)?;
     let stamps: Vec<Option<(&str, i32, u32)>> = col.dict.iter().map(|v| stamp(v)).collect();
+    if stamps.iter().all(Option::is_none) {
+        return None;
+    }
     let uses = col.uses();
     let stamped: usize = uses.iter().zip(&stamps).filter(|(_, d)| d.is_some()).map(|(n, _)| n).sum();
     let filled: usize = uses.iter().sum();
