@@ -710,7 +710,22 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
     }
     // A score difference or club the file lacks is worked out from the
     // inning's half and each club's runs and name, when it has those.
-    let (worked_out, derive_notes) = derive::work_out(&mut table, input);
+    let (worked_out, mut derive_notes) = derive::work_out(&mut table, input);
+    if !table.renamed.is_empty() {
+        let each = table.renamed.iter().map(|(h, w)| format!("\"{h}\" as `{w}`")).collect::<Vec<_>>();
+        let n = each.len();
+        derive_notes.insert(
+            0,
+            format!(
+                "{} header{} read as the name{} {} but for case, spaces or punctuation: {}",
+                n,
+                if n == 1 { "" } else { "s" },
+                if n == 1 { "" } else { "s" },
+                if n == 1 { "it matches" } else { "they match" },
+                first_three(each.into_iter())
+            ),
+        );
+    }
     // A measurement column in other units is set aside whole, as if the
     // file had none, before any row is read.
     let mut set_aside = units::misread_units(&table, input);

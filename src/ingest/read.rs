@@ -173,6 +173,36 @@ pub struct RawTable {
     pub ragged: Vec<(usize, usize)>,
     /// Fields in the header.
     pub width: usize,
+    /// Headers read under a wanted name they match but for case, spaces
+    /// and punctuation (`"Pitch Type"` as `pitch_type`): (header, name).
+    pub renamed: Vec<(String, String)>,
+}
+
+/// The headers to read, in header order, each with the wanted name it is
+/// read as: a header that is a wanted name as written; for a wanted name
+/// no header has, the one header that matches it but for case, spaces and
+/// punctuation (`"Pitch Type"`, `"PITCHER"`), unless that header is itself
+/// wanted. Two such headers for one name are read as neither (the missing
+/// column's message names them).
+fn resolve_headers(header: &[String], wanted: &[String]) -> Vec<(String, String)> {
+    use crate::domain::labels::loose_name;
+    let mut out: Vec<(String, String)> = Vec::new();
+    for h in header {
+        if out.iter().any(|(k, _)| k == h) {
+            continue;
+        }
+        if wanted.contains(h) {
+            out.push((h.clone(), h.clone()));
+            continue;
+        }
+        let key = loose_name(h);
+        let Some(w) = wanted.iter().find(|w| !header.contains(w) && !key.is_empty() && loose_name(w) == key) else { continue };
+        let rivals = header.iter().filter(|x| !wanted.contains(x) && loose_name(x) == key).count();
+        if rivals == 1 {
+            out.push((h.clone(), w.clone()));
+        }
+    }
+    out
 }
 
 impl RawTable {
@@ -347,7 +377,11 @@ fn parquet_header(path: &Path, wanted: &[String], file_len: u64) -> Result<Vec<S
     if rows != meta.num_rows {
         return Err(damaged(path, "the file's footer", &format!("its row groups hold {rows} rows, the file declares {}", meta.num_rows)));
     }
-    check_pages(path, &meta, wanted)?;
+    // The columns that may be read: wanted by name, or loosely
+    // (`resolve_headers`).
+    let names: Vec<String> = schema.iter_names().map(|s| s.to_string()).collect();
+    let wanted: Vec<String> = resolve_headers(&names, wanted).into_iter().map(|(h, _)| h).collect();
+    check_pages(path, &meta, &wanted)?;
     for (name, field) in schema.iter() {
         if !wanted.iter().any(|w| w == name.as_str()) {
             continue;
@@ -530,12 +564,9 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
             )));
         }
     }
-    let mut keep: Vec<String> = Vec::new();
-    for h in &header {
-        if wanted.contains(h) && !keep.contains(h) {
-            keep.push(h.clone());
-        }
-    }
+    let resolved = resolve_headers(&header, wanted);
+    let keep: Vec<String> = resolved.iter().map(|(h, _)| h.clone()).collect();
+    let renamed: Vec<(String, String)> = resolved.into_iter().filter(|(h, w)| h != w).collect();
     // Columns are read a few at a time and turned into dictionary codes at
     // once, so the text of the whole file is never held in memory.
     // A league's season or two (a few hundred MB) is read in one pass.
@@ -599,6 +630,8 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
             let rows = *n_rows.get_or_insert(df.height());
             for c in coded {
                 let (name, col) = c?;
+                // A header matched loosely is known by the wanted name.
+                let name = renamed.iter().find(|(h, _)| *h == name).map_or(name, |(_, w)| w.clone());
                 if col.codes.len() != rows {
                     return Err(damaged(path, &format!("column \"{name}\""), &format!("{} values where the file has {rows} rows", col.codes.len())));
                 }
@@ -613,5 +646,5 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
     };
     let (read, (ragged, width)) = rayon::join(read_columns, scan);
     let (columns, n_rows) = read?;
-    Ok(RawTable { format, header, n_rows: n_rows.unwrap_or(0), columns, ragged, width })
+    Ok(RawTable { format, header, n_rows: n_rows.unwrap_or(0), columns, ragged, width, renamed })
 }
