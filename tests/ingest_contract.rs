@@ -696,6 +696,15 @@ fn csv_and_parquet_of_one_log_read_to_the_same_rows() {
         write_frame(&mut df, &p).unwrap();
     }
     assert!(std::fs::read_to_string(dir.join("parquet-named.csv")).unwrap().starts_with("game,"), "a .csv is written as CSV");
+    // Headers written in capitals with spaces read as the contract's names,
+    // in Parquet as in CSV.
+    let names: Vec<String> = df.get_column_names().iter().map(|c| c.to_uppercase().replace('_', " ")).collect();
+    df.set_column_names(&names.iter().map(|n| n.as_str()).collect::<Vec<_>>()).unwrap();
+    let caps = dir.join("caps.parquet");
+    write_frame(&mut df, &caps).unwrap();
+    let c = load(&caps);
+    assert_same_rows(&c.log, &b.log, true);
+    assert!(c.source.derive_notes[0].contains("\"PITCH TYPE\" as `pitch_type`") || c.source.derive_notes[0].contains("(and "), "{:?}", c.source.derive_notes);
     std::fs::remove_dir_all(&dir).ok();
 }
 
