@@ -54,6 +54,7 @@ fn audited_page(log: &str, tag: &str) -> (tellscope::audit::Audit, std::path::Pa
 #[test]
 fn tell_sentences_carry_the_summary_numbers() {
     let (_, dir, text) = audited_page("tests/fixtures/plain-staff/demo-log.csv", "words");
+    let html = std::fs::read_to_string(dir.join("index.html")).unwrap();
     let json: serde_json::Value = serde_json::from_str(&std::fs::read_to_string(dir.join("summary.json")).unwrap()).unwrap();
     let mut checked = 0;
     for p in json["pitchers"].as_array().unwrap() {
@@ -87,6 +88,16 @@ fn tell_sentences_carry_the_summary_numbers() {
             checked += 1;
         }
         if p["status"] == "ok" {
+            // The staff table's flagged tells are his own tells on the sheet
+            // and beyond it (not the narrower ones inside another), as the
+            // terminal's table counts them.
+            let own = p["tells"].as_array().unwrap().iter().filter(|t| t["within"].is_null()).count();
+            let row = html
+                .split("<tr")
+                .find(|r| r.contains(&format!(">{}</a>", p["pitcher"].as_str().unwrap())) && r.contains("data-v"))
+                .expect("a staff table row");
+            let row = &row[..row.find("</tr>").expect("the row's end") + 5];
+            assert!(row.ends_with(&format!("<td>{own}</td></tr>")), "{}: {row}", p["pitcher"]);
             // The per-pitcher summary line uses the same accuracies.
             let prior = pct(p["prior_accuracy"].as_f64().unwrap());
             let model = pct(p["model_accuracy"].as_f64().unwrap());

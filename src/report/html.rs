@@ -261,7 +261,9 @@ fn pitcher_view(
         q_text: p_text(g(p.q_value)),
         permutations: p.permutations.unwrap_or(0),
         significant: p.significant.unwrap_or(false),
-        n_tells: main.len(),
+        // Every flagged tell of his own (on the sheet or beyond it, not the
+        // narrower ones inside another), as the terminal's table counts.
+        n_tells: p.tells.iter().filter(|t| t.within.is_none()).count(),
         tells: main.iter().map(|t| wording::tell_sentence(t, &p.evaluation.tells_checked_on)).collect(),
         narrow: narrow.iter().map(|t| wording::tell_sentence(t, &p.evaluation.tells_checked_on)).collect(),
         scheme_text: wording::evaluation_sentence(&p.evaluation),
