@@ -1644,6 +1644,15 @@ fn score_and_club_worked_out_from_the_half_and_each_clubs_runs() {
         assert_eq!(split.source.worked_out.len(), 2);
         assert!(split.source.derive_notes[0].starts_with("`inning` writes each inning with its half"), "{:?}", split.source.derive_notes);
     }
+    // Each club's runs and name but no half: nothing worked out, and the
+    // note names the column to add.
+    let text = halves_log(3000, ("top", "bottom"));
+    let head_line = text.lines().next().unwrap();
+    let half = column(head_line, "half");
+    let no_half: Vec<String> = text.lines().map(|l| l.split(',').enumerate().filter(|(i, _)| *i != half).map(|(_, v)| v).collect::<Vec<_>>().join(",")).collect();
+    let without = load(&write(&dir, "no-half.csv", &(no_half.join("\n") + "\n")));
+    assert!(without.log.score_diff.is_none() && without.source.worked_out.is_empty());
+    assert!(without.source.derive_notes.iter().any(|n| n.contains("but not the inning's half: add a `half` column")), "{:?}", without.source.derive_notes);
     // Halves numbered 1 and 2: nothing worked out, and the note says why.
     let numbered = load(&write(&dir, "numbered.csv", &halves_log(3000, ("1", "2"))));
     assert!(numbered.log.score_diff.is_none() && numbered.log.team.is_none());

@@ -80,6 +80,17 @@ pub fn work_out(table: &mut RawTable, input: &InputParams) -> (Vec<WorkedOut>, V
         return (Vec::new(), notes);
     }
     let Some(half_col) = table.column(input.file_column("half")) else {
+        // Each club's runs or name, but nothing saying which club pitches.
+        let (what, from) = match (want_score, want_team) {
+            (true, true) => ("`score_diff` and `team` are", "each club's runs and name"),
+            (true, false) => ("`score_diff` is", "each club's runs"),
+            _ => ("`team` is", "each club's name"),
+        };
+        notes.push(format!(
+            "{what} not in the file, which has {from} but not the inning's half: add a `{}` column (top or bottom) to have {} worked out",
+            name("half"),
+            if want_score && want_team { "them" } else { "it" }
+        ));
         return (Vec::new(), notes);
     };
     // The half's values, each read once.
