@@ -170,8 +170,8 @@ pub fn work_out(table: &mut RawTable, input: &InputParams) -> (Vec<WorkedOut>, V
         let (mut home_code, mut away_code) = (vec![None; home.dict.len()], vec![None; away.dict.len()]);
         let mut without = 0usize;
         let mut codes: Vec<Option<u32>> = Vec::with_capacity(n);
-        for r in 0..n {
-            let (col, cache) = match half_at[r] {
+        for (r, half) in half_at.iter().enumerate() {
+            let (col, cache) = match half {
                 Some(Half::Top) => (home, &mut home_code),
                 Some(Half::Bottom) => (away, &mut away_code),
                 None => {
