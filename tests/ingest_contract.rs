@@ -1758,3 +1758,47 @@ fn a_date_column_of_time_stamps_dates_each_game_by_its_first_pitch() {
     assert!(stray.rejected[0].reason.contains("is a date and time"), "{}", stray.rejected[0].reason);
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// Hands written out (`Right`, `LHP`, `lhb`) in most of a hand column's
+/// rows are read as their letters, with a note: the same rows as the log of
+/// letters. A switch hitter's `S` among them is still rejected with its
+/// row, and a few spelled hands among letters keep their reason.
+#[test]
+fn hands_written_out_read_as_their_letters() {
+    let dir = scratch("hands");
+    let (head, body) = plain_staff_lines(3000);
+    let plain = load(&write(&dir, "plain.csv", &format!("{head}\n{}\n", body.join("\n"))));
+    let (throws, bats) = (column(&head, "throws"), column(&head, "bats"));
+    let spell = |every: usize| -> String {
+        let rows: Vec<String> = body
+            .iter()
+            .enumerate()
+            .map(|(i, l)| {
+                let mut c: Vec<String> = l.split(',').map(str::to_string).collect();
+                if i % every == 0 {
+                    c[throws] = if c[throws] == "R" { "Right".into() } else { "LHP".into() };
+                    c[bats] = if c[bats] == "R" { "rhb".into() } else { "Left".into() };
+                }
+                c.join(",")
+            })
+            .collect();
+        format!("{head}\n{}\n", rows.join("\n"))
+    };
+    let spelled = load(&write(&dir, "spelled.csv", &spell(1)));
+    assert!(spelled.rejected.is_empty(), "{:?}", &spelled.rejected[..spelled.rejected.len().min(2)]);
+    assert_same_rows(&plain.log, &spelled.log, true);
+    for c in ["throws", "bats"] {
+        assert!(spelled.source.derive_notes.iter().any(|n| n.starts_with(&format!("`{c}` writes each hand out"))), "{:?}", spelled.source.derive_notes);
+    }
+    // A few spelled among letters: rejected with the letter named.
+    let few = load(&write(&dir, "few.csv", &spell(500)));
+    assert_eq!(few.rejected.len(), 6, "{:?}", few.rejected);
+    assert!(few.rejected.iter().all(|r| r.reason.starts_with("is not L or R; write the hand as its letter")));
+    // A switch hitter's mark stays a rejected row.
+    let mut text = spell(1);
+    text = text.replacen(",rhb,", ",S,", 1);
+    let switch = load(&write(&dir, "switch.csv", &text));
+    assert_eq!(switch.rejected.len(), 1);
+    assert!(switch.rejected[0].reason.contains("switch hitter"), "{}", switch.rejected[0].reason);
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -9,7 +9,8 @@
 //! * `team` is `home_team` in the top half and `away_team` in the bottom.
 //!
 //! A `date` column of time stamps is read as calendar dates, a game
-//! stamped across midnight keeping its first day.
+//! stamped across midnight keeping its first day; hands written out
+//! (`Right`, `LHP`) are read as their letters.
 //!
 //! An `inning` column that writes the half in ("Top 3", "3B") is read as
 //! the inning's number, its half standing in for a `half` column.
@@ -65,6 +66,7 @@ fn half_of(v: &str) -> Option<Half> {
 /// when the file's half cannot be read.
 pub fn work_out(table: &mut RawTable, input: &InputParams) -> (Vec<WorkedOut>, Vec<String>) {
     let mut notes: Vec<String> = date_by_first_pitch(table, input).into_iter().collect();
+    notes.extend(["throws", "bats"].into_iter().filter_map(|c| hands_by_letter(table, input, c)));
     let split = split_inning(table, input);
     // How the notes name the half: a column of the file, or the inning's.
     let half_label = match &split {
@@ -244,8 +246,39 @@ fn split_inning(table: &mut RawTable, input: &InputParams) -> Option<(String, bo
     Some((format!("`{name}` writes each inning with its half (\"{example}\"): read as the inning's number"), add_half))
 }
 
-/// Fewer innings written with their half than this decide nothing (their
-/// rows are rejected with the fix, as a few stray values are).
+/// A hand column (`throws` or `bats`) that writes hands out (`Right`,
+/// `LHP`) in most of its filled values, at least `MIN_SPLIT`: each is read
+/// as its letter. A hand is a hand however it is spelled; a switch
+/// hitter's `S` is not one and stays rejected with its row, as do stray
+/// spellings among letters. Returns the note.
+fn hands_by_letter(table: &mut RawTable, input: &InputParams, contract: &str) -> Option<String> {
+    let name = input.file_column(contract).to_string();
+    let slot = table.columns.iter().position(|(c, _)| *c == name)?;
+    let col = &mut table.columns[slot].1;
+    let letters: Vec<Option<char>> = col.dict.iter().map(|v| parse::spelled_hand(v)).collect();
+    if letters.iter().all(Option::is_none) {
+        return None;
+    }
+    let uses = col.uses();
+    let spelled: usize = uses.iter().zip(&letters).filter(|(_, l)| l.is_some()).map(|(n, _)| n).sum();
+    let filled: usize = uses.iter().sum();
+    if spelled < MIN_SPLIT || 2 * spelled <= filled {
+        return None;
+    }
+    // Values only change their text: two spellings of one hand keep two
+    // dictionary entries, both read as the same letter.
+    let example = col.dict.iter().zip(&letters).find(|(_, l)| l.is_some()).map(|(v, _)| v.clone()).unwrap_or_default();
+    for (v, l) in col.dict.iter_mut().zip(&letters) {
+        if let Some(l) = l {
+            *v = l.to_string();
+        }
+    }
+    Some(format!("`{name}` writes each hand out (\"{example}\"): read as its letter, L or R"))
+}
+
+/// Fewer values written another way (innings with their half, hands
+/// written out) than this decide nothing: their rows are rejected with the
+/// fix, as a few stray values are.
 const MIN_SPLIT: usize = 20;
 
 fn worked_out(column: &str, from: Vec<String>, without: usize, n: usize, input: &InputParams, half: &str, rule: &str) -> WorkedOut {

@@ -55,17 +55,23 @@ pub fn whole_number(v: &str, lo: i64, hi: i64) -> Option<i64> {
     int_in(v.trim(), "", lo, hi).ok()
 }
 
+/// The letter of a hand written out: `Left`, `LHP`, `lh`, `LHB` (any
+/// case) is `L`; the same for `R`.
+pub fn spelled_hand(v: &str) -> Option<char> {
+    match v.trim().to_ascii_lowercase().as_str() {
+        "left" | "lhp" | "lh" | "lhb" => Some('L'),
+        "right" | "rhp" | "rh" | "rhb" => Some('R'),
+        _ => None,
+    }
+}
+
 fn hand<'a>(v: &'a str, col: &'static str) -> Result<Hand, Breach<'a>> {
     Hand::parse(v).ok_or_else(|| {
         // A roster's "S" (or "B") for a switch hitter says nothing of the
         // side he stood in for this plate appearance, which the factor needs.
         let switch = col == "bats" && matches!(v.to_ascii_uppercase().as_str(), "S" | "B" | "SWITCH" | "BOTH");
         // A hand written out ("Left", "RHP", "rh") names its letter.
-        let spelled = match v.to_ascii_lowercase().as_str() {
-            "left" | "lhp" | "lh" | "lhb" => Some('L'),
-            "right" | "rhp" | "rh" | "rhb" => Some('R'),
-            _ => None,
-        };
+        let spelled = spelled_hand(v);
         let reason = if switch {
             "is a switch hitter's mark (S, B, switch or both); write the side he batted from in this plate appearance, L or R".to_string()
         } else if let Some(letter) = spelled {
