@@ -1802,3 +1802,38 @@ fn hands_written_out_read_as_their_letters() {
     assert!(switch.rejected[0].reason.contains("switch hitter"), "{}", switch.rejected[0].reason);
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// `balls` and `strikes` read from one `count` column written `B-S`, for a
+/// file that has neither: the same rows as the log with both, and a note.
+/// A count of four balls is a rejected row with the balls' reason; a count
+/// written another way in most rows works nothing out, so the required
+/// columns are missing and the error names them.
+#[test]
+fn balls_and_strikes_read_from_one_count_column() {
+    let dir = scratch("count");
+    let (head, body) = plain_staff_lines(3000);
+    let plain = load(&write(&dir, "plain.csv", &format!("{head}\n{}\n", body.join("\n"))));
+    let (balls, strikes) = (column(&head, "balls"), column(&head, "strikes"));
+    let recount = |sep: &str, bad_row: Option<usize>| -> String {
+        let keep = |c: &[String]| -> Vec<String> { c.iter().enumerate().filter(|(i, _)| *i != balls && *i != strikes).map(|(_, v)| v.clone()).collect() };
+        let head_cols: Vec<String> = head.split(',').map(str::to_string).collect();
+        let mut lines = vec![format!("{},count", keep(&head_cols).join(","))];
+        for (i, l) in body.iter().enumerate() {
+            let c: Vec<String> = l.split(',').map(str::to_string).collect();
+            let count = if Some(i) == bad_row { "4-1".to_string() } else { format!("{}{sep}{}", c[balls], c[strikes]) };
+            lines.push(format!("{},{count}", keep(&c).join(",")));
+        }
+        lines.join("\n") + "\n"
+    };
+    let counted = load(&write(&dir, "counted.csv", &recount("-", None)));
+    assert!(counted.rejected.is_empty(), "{:?}", &counted.rejected[..counted.rejected.len().min(2)]);
+    assert_same_rows(&plain.log, &counted.log, true);
+    assert!(counted.source.derive_notes.iter().any(|n| n.starts_with("`balls` and `strikes` are not in the file and were read from `count`")), "{:?}", counted.source.derive_notes);
+    let four = load(&write(&dir, "four.csv", &recount("-", Some(7))));
+    assert_eq!(four.rejected.len(), 1);
+    assert_eq!((four.rejected[0].column.as_ref(), four.rejected[0].value.as_str()), ("balls", "4"));
+    let other = write(&dir, "other.csv", &recount(" and ", None));
+    let e = data_error(&other, &defaults());
+    assert!(e.contains("balls") && e.contains("strikes") && e.contains("missing"), "{e}");
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -10,8 +10,9 @@ pub const OPTIONAL_COLUMNS: [&str; 9] = [
     "loc_height_ft", "team",
 ];
 
-/// Columns a log may carry instead of `score_diff` and `team`: the inning's
-/// half (`top`/`bottom`), each club's runs before the pitch and each club's
-/// name. Read only to work out a contract column the file lacks
+/// Columns a log may carry instead of `score_diff` and `team` (the
+/// inning's half, `top`/`bottom`, each club's runs before the pitch and
+/// each club's name) or instead of `balls` and `strikes` (`count`, written
+/// `B-S`). Read only to work out contract columns the file lacks
 /// (`ingest::derive`); mappable through `[columns]` like the others.
-pub const SOURCE_COLUMNS: [&str; 5] = ["half", "home_score", "away_score", "home_team", "away_team"];
+pub const SOURCE_COLUMNS: [&str; 6] = ["half", "home_score", "away_score", "home_team", "away_team", "count"];

@@ -10,7 +10,8 @@
 //!
 //! A `date` column of time stamps is read as calendar dates, a game
 //! stamped across midnight keeping its first day; hands written out
-//! (`Right`, `LHP`) are read as their letters.
+//! (`Right`, `LHP`) are read as their letters; a `count` column written
+//! `B-S` gives `balls` and `strikes` to a file that has neither.
 //!
 //! An `inning` column that writes the half in ("Top 3", "3B") is read as
 //! the inning's number, its half standing in for a `half` column.
@@ -67,6 +68,7 @@ fn half_of(v: &str) -> Option<Half> {
 pub fn work_out(table: &mut RawTable, input: &InputParams) -> (Vec<WorkedOut>, Vec<String>) {
     let mut notes: Vec<String> = date_by_first_pitch(table, input).into_iter().collect();
     notes.extend(["throws", "bats"].into_iter().filter_map(|c| hands_by_letter(table, input, c)));
+    notes.extend(balls_and_strikes(table, input));
     let split = split_inning(table, input);
     // How the notes name the half: a column of the file, or the inning's.
     let half_label = match &split {
@@ -274,6 +276,63 @@ fn hands_by_letter(table: &mut RawTable, input: &InputParams, contract: &str) ->
         }
     }
     Some(format!("`{name}` writes each hand out (\"{example}\"): read as its letter, L or R"))
+}
+
+/// `balls` and `strikes` from a `count` column written `B-S` ("1-2"), for
+/// a file that has neither: each value split at its dash (the two parts are
+/// then checked as `balls` and `strikes` are, so a "4-1" is a rejected row
+/// with its reason). A `count` most of whose filled values are not so
+/// written works nothing out and says so. Returns the note.
+fn balls_and_strikes(table: &mut RawTable, input: &InputParams) -> Option<String> {
+    let has = |t: &RawTable, c: &str| t.column(input.file_column(c)).is_some();
+    if has(table, "balls") || has(table, "strikes") {
+        return None;
+    }
+    let col = table.column(input.file_column("count"))?;
+    let count_name = input.file_column("count");
+    let parts: Vec<Option<(&str, &str)>> = col
+        .dict
+        .iter()
+        .map(|v| v.split_once('-').filter(|(b, s)| !b.is_empty() && !s.is_empty() && b.bytes().chain(s.bytes()).all(|c| c.is_ascii_digit())))
+        .collect();
+    let uses = col.uses();
+    let written: usize = uses.iter().zip(&parts).filter(|(_, p)| p.is_some()).map(|(n, _)| n).sum();
+    let filled: usize = uses.iter().sum();
+    if filled == 0 || 2 * written <= filled {
+        return Some(format!(
+            "`balls` and `strikes` are not in the file, and `{count_name}` is not written balls-strikes (as \"1-2\") in most rows, so they were not worked out from it"
+        ));
+    }
+    // Each side's dictionary: the parts, or the whole value where it has
+    // no dash (rejected as balls and strikes are).
+    let side = |first: bool| -> (Vec<String>, Vec<u32>) {
+        let mut dict: Vec<String> = Vec::new();
+        let to: Vec<u32> = col
+            .dict
+            .iter()
+            .zip(&parts)
+            .map(|(v, p)| {
+                let text = p.map_or(v.as_str(), |(b, s)| if first { b } else { s });
+                match dict.iter().position(|d| d == text) {
+                    Some(i) => i as u32,
+                    None => {
+                        dict.push(text.to_string());
+                        dict.len() as u32 - 1
+                    }
+                }
+            })
+            .collect();
+        (dict, to)
+    };
+    let (balls_dict, to_balls) = side(true);
+    let (strikes_dict, to_strikes) = side(false);
+    let n = table.n_rows;
+    let balls = TextColumn::from_codes(balls_dict, (0..n).map(|r| col.code(r).map(|c| to_balls[c])));
+    let strikes = TextColumn::from_codes(strikes_dict, (0..n).map(|r| col.code(r).map(|c| to_strikes[c])));
+    let note = format!("`balls` and `strikes` are not in the file and were read from `{count_name}` (balls-strikes, as \"1-2\")");
+    table.columns.push((input.file_column("balls").to_string(), balls));
+    table.columns.push((input.file_column("strikes").to_string(), strikes));
+    Some(note)
 }
 
 /// Fewer values written another way (innings with their half, hands

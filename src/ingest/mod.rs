@@ -657,6 +657,11 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
     // The file's checksum is computed while polars reads it.
     let (table, sha) = rayon::join(|| read::read_table(path, &wanted), || sha256_of(path));
     let mut table = table?;
+    // Columns the file writes another way are read (a date of time stamps,
+    // hands written out, an inning with its half, balls and strikes as one
+    // count), and a score difference or club it lacks is worked out from
+    // the inning's half and each club's runs and name, when it has those.
+    let (worked_out, mut derive_notes) = derive::work_out(&mut table, input);
     let missing: Vec<String> = REQUIRED_COLUMNS
         .iter()
         .filter(|c| table.column(input.file_column(c)).is_none())
@@ -708,9 +713,7 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
             path.display()
         )));
     }
-    // A score difference or club the file lacks is worked out from the
-    // inning's half and each club's runs and name, when it has those.
-    let (worked_out, mut derive_notes) = derive::work_out(&mut table, input);
+
     if !table.renamed.is_empty() {
         let each = table.renamed.iter().map(|(h, w)| format!("\"{h}\" as `{w}`")).collect::<Vec<_>>();
         let n = each.len();
