@@ -421,6 +421,31 @@ fn plain_staff_lines(n: usize) -> (String, Vec<String>) {
     (head, lines.take(n).map(str::to_string).collect())
 }
 
+/// A scratch folder `tag`, the plain-staff demo's header and first 3,000
+/// rows, and those rows loaded as written: the yardstick a log written
+/// another way must read the same as.
+fn plain_case(tag: &str) -> (PathBuf, String, Vec<String>, Ingested) {
+    let dir = scratch(tag);
+    let (head, body) = plain_staff_lines(3000);
+    let plain = load(&write(&dir, "plain.csv", &format!("{head}\n{}\n", body.join("\n"))));
+    (dir, head, body, plain)
+}
+
+/// A CSV of `head` and `body` with `edit(row index, fields)` applied to
+/// each row's fields.
+fn rewritten(head: &str, body: &[String], mut edit: impl FnMut(usize, &mut Vec<String>)) -> String {
+    let rows: Vec<String> = body
+        .iter()
+        .enumerate()
+        .map(|(i, l)| {
+            let mut c: Vec<String> = l.split(',').map(str::to_string).collect();
+            edit(i, &mut c);
+            c.join(",")
+        })
+        .collect();
+    format!("{head}\n{}\n", rows.join("\n"))
+}
+
 /// `pa` and `pitch_no` numbered from 0 (as a program counting from 0
 /// writes them) read as from 1, with a note, instead of every first pitch
 /// rejected: the same rows in the same order as the file numbered from 1,
@@ -1597,9 +1622,7 @@ fn halves_log(n: usize, half_of: (&str, &str)) -> String {
 /// its pitch with no score or club; a file with `score_diff` reads its own.
 #[test]
 fn score_and_club_worked_out_from_the_half_and_each_clubs_runs() {
-    let dir = scratch("halves");
-    let (head, body) = plain_staff_lines(3000);
-    let plain = load(&write(&dir, "plain.csv", &format!("{head}\n{}\n", body.join("\n"))));
+    let (dir, head, body, plain) = plain_case("halves");
     assert!(plain.source.worked_out.is_empty());
     for (name, halves) in [("words.csv", ("top", "bottom")), ("letters.csv", ("T", "B"))] {
         let worked = load(&write(&dir, name, &halves_log(3000, halves)));
@@ -1708,34 +1731,26 @@ fn next_day(date: &str) -> String {
 /// the fix.
 #[test]
 fn a_date_column_of_time_stamps_dates_each_game_by_its_first_pitch() {
-    let dir = scratch("stamps");
-    let (head, body) = plain_staff_lines(3000);
-    let plain = load(&write(&dir, "plain.csv", &format!("{head}\n{}\n", body.join("\n"))));
+    let (dir, head, body, plain) = plain_case("stamps");
     let (date, game) = (column(&head, "date"), column(&head, "game"));
     // Pitch j of a game stamped `start` minutes after midnight plus 20 s a pitch.
     let stamped = |start: u32, sep: char, zone: &str| -> String {
         let mut seen: Vec<(String, u32)> = Vec::new();
-        let rows: Vec<String> = body
-            .iter()
-            .map(|l| {
-                let mut c: Vec<String> = l.split(',').map(str::to_string).collect();
-                let j = match seen.iter_mut().find(|(g, _)| *g == c[game]) {
-                    Some((_, n)) => {
-                        *n += 1;
-                        *n
-                    }
-                    None => {
-                        seen.push((c[game].clone(), 0));
-                        0
-                    }
-                };
-                let secs = start * 60 + 20 * j;
-                let (day, secs) = if secs >= 86_400 { (next_day(&c[date]), secs - 86_400) } else { (c[date].clone(), secs) };
-                c[date] = format!("{day}{sep}{:02}:{:02}:{:02}{zone}", secs / 3600, secs / 60 % 60, secs % 60);
-                c.join(",")
-            })
-            .collect();
-        format!("{head}\n{}\n", rows.join("\n"))
+        rewritten(&head, &body, |_, c| {
+            let j = match seen.iter_mut().find(|(g, _)| *g == c[game]) {
+                Some((_, n)) => {
+                    *n += 1;
+                    *n
+                }
+                None => {
+                    seen.push((c[game].clone(), 0));
+                    0
+                }
+            };
+            let secs = start * 60 + 20 * j;
+            let (day, secs) = if secs >= 86_400 { (next_day(&c[date]), secs - 86_400) } else { (c[date].clone(), secs) };
+            c[date] = format!("{day}{sep}{:02}:{:02}:{:02}{zone}", secs / 3600, secs / 60 % 60, secs % 60);
+        })
     };
     // Begun at 23:10 UTC: every game's later pitches stamped the next day.
     let across = load(&write(&dir, "across.csv", &stamped(23 * 60 + 10, 'T', "Z")));
@@ -1749,11 +1764,12 @@ fn a_date_column_of_time_stamps_dates_each_game_by_its_first_pitch() {
     assert_same_rows(&plain.log, &day.log, true);
     assert!(day.source.derive_notes.iter().any(|n| n.starts_with("`date` holds") && !n.contains("midnight")), "{:?}", day.source.derive_notes);
     // A stray stamp among plain dates is still a rejected row.
-    let mut lines: Vec<String> = body.clone();
-    let mut c: Vec<String> = lines[10].split(',').map(str::to_string).collect();
-    c[date] = format!("{}T19:05:00", c[date]);
-    lines[10] = c.join(",");
-    let stray = load(&write(&dir, "stray.csv", &format!("{head}\n{}\n", lines.join("\n"))));
+    let one = rewritten(&head, &body, |i, c| {
+        if i == 10 {
+            c[date] = format!("{}T19:05:00", c[date]);
+        }
+    });
+    let stray = load(&write(&dir, "stray.csv", &one));
     assert_eq!(stray.rejected.len(), 1);
     assert!(stray.rejected[0].reason.contains("is a date and time"), "{}", stray.rejected[0].reason);
     std::fs::remove_dir_all(&dir).ok();
@@ -1765,24 +1781,15 @@ fn a_date_column_of_time_stamps_dates_each_game_by_its_first_pitch() {
 /// row, and a few spelled hands among letters keep their reason.
 #[test]
 fn hands_written_out_read_as_their_letters() {
-    let dir = scratch("hands");
-    let (head, body) = plain_staff_lines(3000);
-    let plain = load(&write(&dir, "plain.csv", &format!("{head}\n{}\n", body.join("\n"))));
+    let (dir, head, body, plain) = plain_case("hands");
     let (throws, bats) = (column(&head, "throws"), column(&head, "bats"));
     let spell = |every: usize| -> String {
-        let rows: Vec<String> = body
-            .iter()
-            .enumerate()
-            .map(|(i, l)| {
-                let mut c: Vec<String> = l.split(',').map(str::to_string).collect();
-                if i % every == 0 {
-                    c[throws] = if c[throws] == "R" { "Right".into() } else { "LHP".into() };
-                    c[bats] = if c[bats] == "R" { "rhb".into() } else { "Left".into() };
-                }
-                c.join(",")
-            })
-            .collect();
-        format!("{head}\n{}\n", rows.join("\n"))
+        rewritten(&head, &body, |i, c| {
+            if i % every == 0 {
+                c[throws] = if c[throws] == "R" { "Right".into() } else { "LHP".into() };
+                c[bats] = if c[bats] == "R" { "rhb".into() } else { "Left".into() };
+            }
+        })
     };
     let spelled = load(&write(&dir, "spelled.csv", &spell(1)));
     assert!(spelled.rejected.is_empty(), "{:?}", &spelled.rejected[..spelled.rejected.len().min(2)]);
@@ -1810,9 +1817,7 @@ fn hands_written_out_read_as_their_letters() {
 /// columns are missing and the error names them.
 #[test]
 fn balls_and_strikes_read_from_one_count_column() {
-    let dir = scratch("count");
-    let (head, body) = plain_staff_lines(3000);
-    let plain = load(&write(&dir, "plain.csv", &format!("{head}\n{}\n", body.join("\n"))));
+    let (dir, head, body, plain) = plain_case("count");
     let (balls, strikes) = (column(&head, "balls"), column(&head, "strikes"));
     let recount = |sep: &str, bad_row: Option<usize>| -> String {
         let keep = |c: &[String]| -> Vec<String> { c.iter().enumerate().filter(|(i, _)| *i != balls && *i != strikes).map(|(_, v)| v.clone()).collect() };

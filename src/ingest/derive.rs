@@ -61,6 +61,51 @@ fn half_of(v: &str) -> Option<Half> {
     }
 }
 
+/// A new column's dictionary, its values in the order first met.
+#[derive(Default)]
+struct Dict {
+    values: Vec<String>,
+    index: HashMap<String, u32>,
+}
+
+impl Dict {
+    fn code(&mut self, v: &str) -> u32 {
+        if let Some(&c) = self.index.get(v) {
+            return c;
+        }
+        self.values.push(v.to_string());
+        let c = self.values.len() as u32 - 1;
+        self.index.insert(v.to_string(), c);
+        c
+    }
+
+    /// The column with `codes` (one per row, `None` empty).
+    fn column(self, codes: impl ExactSizeIterator<Item = Option<u32>>) -> TextColumn {
+        TextColumn::from_codes(self.values, codes)
+    }
+}
+
+/// Whether the values `written` marks (one per dictionary value) fill
+/// most of `col`'s filled rows, and at least `MIN_SPLIT`: a column written
+/// another way throughout, not a few stray values.
+fn most_rows(col: &TextColumn, written: &[bool]) -> bool {
+    if !written.contains(&true) {
+        return false;
+    }
+    let uses = col.uses();
+    let so: usize = uses.iter().zip(written).filter(|(_, &w)| w).map(|(n, _)| n).sum();
+    let filled: usize = uses.iter().sum();
+    so >= MIN_SPLIT && 2 * so > filled
+}
+
+/// `col` with each value replaced by `text` of it: the new column, with
+/// every row's code through one new dictionary.
+fn recoded(col: &TextColumn, n: usize, text: impl Fn(&str) -> String) -> TextColumn {
+    let mut dict = Dict::default();
+    let to: Vec<u32> = col.dict.iter().map(|v| dict.code(&text(v))).collect();
+    dict.column((0..n).map(|r| col.code(r).map(|c| to[c])))
+}
+
 /// Works out `score_diff` and `team` for a table that lacks them and has
 /// their sources, adding them to `table` under the names the validator
 /// reads (`input.file_column`). Returns what was worked out, and a note
@@ -135,8 +180,7 @@ pub fn work_out(table: &mut RawTable, input: &InputParams) -> (Vec<WorkedOut>, V
         let (home, away) = (table.column(&name("home_score")).unwrap(), table.column(&name("away_score")).unwrap());
         let runs = |c: &TextColumn| -> Vec<Option<i64>> { c.dict.iter().map(|v| parse::whole_number(v, 0, 200)).collect() };
         let (home_runs, away_runs) = (runs(home), runs(away));
-        let mut dict: Vec<String> = Vec::new();
-        let mut index: HashMap<i64, u32> = HashMap::new();
+        let mut dict = Dict::default();
         let mut without = 0usize;
         let codes: Vec<Option<u32>> = (0..n)
             .map(|r| {
@@ -150,27 +194,17 @@ pub fn work_out(table: &mut RawTable, input: &InputParams) -> (Vec<WorkedOut>, V
                         return None;
                     }
                 };
-                Some(*index.entry(diff).or_insert_with(|| {
-                    dict.push(diff.to_string());
-                    dict.len() as u32 - 1
-                }))
+                Some(dict.code(&diff.to_string()))
             })
             .collect();
-        table.columns.push((name("score_diff"), TextColumn::from_codes(dict, codes.into_iter())));
+        table.columns.push((name("score_diff"), dict.column(codes.into_iter())));
         let from = vec!["half".to_string(), "home_score".into(), "away_score".into()];
         out.push(worked_out("score_diff", from, without, n, input, &half_label, "the home club's runs minus the visitors' in the top of an inning, the visitors' minus the home club's in the bottom"));
     }
     if want_team {
         let (home, away) = (table.column(&name("home_team")).unwrap(), table.column(&name("away_team")).unwrap());
-        // One dictionary for both clubs' names, in the order first met.
-        let mut dict: Vec<String> = Vec::new();
-        let mut index: HashMap<String, u32> = HashMap::new();
-        let mut code_of = |v: &str| -> u32 {
-            *index.entry(v.to_string()).or_insert_with(|| {
-                dict.push(v.to_string());
-                dict.len() as u32 - 1
-            })
-        };
+        // One dictionary for both clubs' names.
+        let mut dict = Dict::default();
         let (mut home_code, mut away_code) = (vec![None; home.dict.len()], vec![None; away.dict.len()]);
         let mut without = 0usize;
         let mut codes: Vec<Option<u32>> = Vec::with_capacity(n);
@@ -184,11 +218,11 @@ pub fn work_out(table: &mut RawTable, input: &InputParams) -> (Vec<WorkedOut>, V
                     continue;
                 }
             };
-            let code = col.code(r).filter(|&c| !parse::missing_marker(&col.dict[c])).map(|c| *cache[c].get_or_insert_with(|| code_of(&col.dict[c])));
+            let code = col.code(r).filter(|&c| !parse::missing_marker(&col.dict[c])).map(|c| *cache[c].get_or_insert_with(|| dict.code(&col.dict[c])));
             without += usize::from(code.is_none());
             codes.push(code);
         }
-        table.columns.push((name("team"), TextColumn::from_codes(dict, codes.into_iter())));
+        table.columns.push((name("team"), dict.column(codes.into_iter())));
         let from = vec!["half".to_string(), "home_team".into(), "away_team".into()];
         out.push(worked_out("team", from, without, n, input, &half_label, "the home club in the top of an inning, the visitors in the bottom"));
     }
@@ -206,34 +240,11 @@ fn split_inning(table: &mut RawTable, input: &InputParams) -> Option<(String, bo
     let name = input.file_column("inning").to_string();
     let col = table.column(&name)?;
     let read: Vec<Option<(u32, bool)>> = col.dict.iter().map(|v| parse::inning_and_half(v)).collect();
-    if read.iter().all(Option::is_none) {
+    if !most_rows(col, &read.iter().map(Option::is_some).collect::<Vec<_>>()) {
         return None;
     }
-    let uses = col.uses();
-    let with_half: usize = uses.iter().zip(&read).filter(|(_, r)| r.is_some()).map(|(n, _)| n).sum();
-    let filled: usize = uses.iter().sum();
-    if with_half < MIN_SPLIT || 2 * with_half <= filled {
-        return None;
-    }
-    // The numbers' dictionary, each old value mapped into it once.
-    let mut dict: Vec<String> = Vec::new();
-    let to_new: Vec<u32> = col
-        .dict
-        .iter()
-        .zip(&read)
-        .map(|(v, r)| {
-            let text = r.map_or_else(|| v.clone(), |(n, _)| n.to_string());
-            match dict.iter().position(|d| *d == text) {
-                Some(i) => i as u32,
-                None => {
-                    dict.push(text);
-                    dict.len() as u32 - 1
-                }
-            }
-        })
-        .collect();
     let n = table.n_rows;
-    let innings = TextColumn::from_codes(dict, (0..n).map(|r| col.code(r).map(|c| to_new[c])));
+    let innings = recoded(col, n, |v| parse::inning_and_half(v).map_or_else(|| v.to_string(), |(i, _)| i.to_string()));
     let add_half = table.column(input.file_column("half")).is_none();
     let halves = add_half.then(|| {
         let half_dict = vec!["top".to_string(), "bottom".to_string()];
@@ -258,13 +269,7 @@ fn hands_by_letter(table: &mut RawTable, input: &InputParams, contract: &str) ->
     let slot = table.columns.iter().position(|(c, _)| *c == name)?;
     let col = &mut table.columns[slot].1;
     let letters: Vec<Option<char>> = col.dict.iter().map(|v| parse::spelled_hand(v)).collect();
-    if letters.iter().all(Option::is_none) {
-        return None;
-    }
-    let uses = col.uses();
-    let spelled: usize = uses.iter().zip(&letters).filter(|(_, l)| l.is_some()).map(|(n, _)| n).sum();
-    let filled: usize = uses.iter().sum();
-    if spelled < MIN_SPLIT || 2 * spelled <= filled {
+    if !most_rows(col, &letters.iter().map(Option::is_some).collect::<Vec<_>>()) {
         return None;
     }
     // Values only change their text: two spellings of one hand keep two
@@ -290,49 +295,28 @@ fn balls_and_strikes(table: &mut RawTable, input: &InputParams) -> Option<String
     }
     let col = table.column(input.file_column("count"))?;
     let count_name = input.file_column("count");
-    let parts: Vec<Option<(&str, &str)>> = col
-        .dict
-        .iter()
-        .map(|v| v.split_once('-').filter(|(b, s)| !b.is_empty() && !s.is_empty() && b.bytes().chain(s.bytes()).all(|c| c.is_ascii_digit())))
-        .collect();
     let uses = col.uses();
-    let written: usize = uses.iter().zip(&parts).filter(|(_, p)| p.is_some()).map(|(n, _)| n).sum();
+    let written: usize = uses.iter().zip(&col.dict).filter(|(_, v)| count_parts(v).is_some()).map(|(n, _)| n).sum();
     let filled: usize = uses.iter().sum();
     if filled == 0 || 2 * written <= filled {
         return Some(format!(
             "`balls` and `strikes` are not in the file, and `{count_name}` is not written balls-strikes (as \"1-2\") in most rows, so they were not worked out from it"
         ));
     }
-    // Each side's dictionary: the parts, or the whole value where it has
-    // no dash (rejected as balls and strikes are).
-    let side = |first: bool| -> (Vec<String>, Vec<u32>) {
-        let mut dict: Vec<String> = Vec::new();
-        let to: Vec<u32> = col
-            .dict
-            .iter()
-            .zip(&parts)
-            .map(|(v, p)| {
-                let text = p.map_or(v.as_str(), |(b, s)| if first { b } else { s });
-                match dict.iter().position(|d| d == text) {
-                    Some(i) => i as u32,
-                    None => {
-                        dict.push(text.to_string());
-                        dict.len() as u32 - 1
-                    }
-                }
-            })
-            .collect();
-        (dict, to)
-    };
-    let (balls_dict, to_balls) = side(true);
-    let (strikes_dict, to_strikes) = side(false);
+    // Each side: the part, or the whole value where it has no dash
+    // (rejected as balls and strikes are).
     let n = table.n_rows;
-    let balls = TextColumn::from_codes(balls_dict, (0..n).map(|r| col.code(r).map(|c| to_balls[c])));
-    let strikes = TextColumn::from_codes(strikes_dict, (0..n).map(|r| col.code(r).map(|c| to_strikes[c])));
+    let side = |first: bool| recoded(col, n, |v| count_parts(v).map_or(v, |(b, s)| if first { b } else { s }).to_string());
+    let (balls, strikes) = (side(true), side(false));
     let note = format!("`balls` and `strikes` are not in the file and were read from `{count_name}` (balls-strikes, as \"1-2\")");
     table.columns.push((input.file_column("balls").to_string(), balls));
     table.columns.push((input.file_column("strikes").to_string(), strikes));
     Some(note)
+}
+
+/// A count written balls-strikes ("1-2"): its two parts, digits each.
+fn count_parts(v: &str) -> Option<(&str, &str)> {
+    v.split_once('-').filter(|(b, s)| !b.is_empty() && !s.is_empty() && b.bytes().chain(s.bytes()).all(|c| c.is_ascii_digit()))
 }
 
 /// Fewer values written another way (innings with their half, hands
@@ -398,25 +382,12 @@ fn date_by_first_pitch(table: &mut RawTable, input: &InputParams) -> Option<Stri
     let name = input.file_column("date").to_string();
     let col = table.column(&name)?;
     let stamps: Vec<Option<(&str, i32, u32)>> = col.dict.iter().map(|v| stamp(v)).collect();
-    if stamps.iter().all(Option::is_none) {
-        return None;
-    }
-    let uses = col.uses();
-    let stamped: usize = uses.iter().zip(&stamps).filter(|(_, d)| d.is_some()).map(|(n, _)| n).sum();
-    let filled: usize = uses.iter().sum();
-    if stamped < MIN_SPLIT || 2 * stamped <= filled {
+    if !most_rows(col, &stamps.iter().map(Option::is_some).collect::<Vec<_>>()) {
         return None;
     }
     // The new dictionary: calendar dates, and the other values as written.
-    let mut dict: Vec<String> = Vec::new();
-    let mut index: HashMap<String, u32> = HashMap::new();
-    let mut code_of = |v: &str| -> u32 {
-        *index.entry(v.to_string()).or_insert_with(|| {
-            dict.push(v.to_string());
-            dict.len() as u32 - 1
-        })
-    };
-    let own: Vec<u32> = col.dict.iter().zip(&stamps).map(|(v, d)| code_of(d.map_or(v.as_str(), |d| d.0))).collect();
+    let mut dict = Dict::default();
+    let own: Vec<u32> = col.dict.iter().zip(&stamps).map(|(v, d)| dict.code(d.map_or(v.as_str(), |d| d.0))).collect();
     // Each game's latest hour on each day it has stamps, by (game code, day).
     let n = table.n_rows;
     let game = table.column(input.file_column("game"));
@@ -441,7 +412,7 @@ fn date_by_first_pitch(table: &mut RawTable, input: &InputParams) -> Option<Stri
         })
         .collect();
     let example = col.dict.iter().zip(&stamps).find(|(_, d)| d.is_some()).map(|(v, _)| v.clone()).unwrap_or_default();
-    let dates = TextColumn::from_codes(dict, codes.into_iter());
+    let dates = dict.column(codes.into_iter());
     let slot = table.columns.iter().position(|(c, _)| *c == name).expect("the date column is there");
     table.columns[slot].1 = dates;
     let moved = if moved == 0 {
