@@ -689,8 +689,15 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
         )));
     }
     if !missing.is_empty() {
+        // A column the file has in another form that could not be read
+        // (a count not written balls-strikes) says so too.
+        let why = derive_notes
+            .iter()
+            .find(|n| REQUIRED_COLUMNS.iter().any(|c| missing.iter().any(|m| m.starts_with(c)) && n.starts_with(&format!("`{c}`"))))
+            .map(|n| format!(" ({n})"))
+            .unwrap_or_default();
         return Err(Error::Data(format!(
-            "{}: required column{} {} missing from the header; add {} or map {} to the file's own header with a [columns] table in the config",
+            "{}: required column{} {} missing from the header{why}; add {} or map {} to the file's own header with a [columns] table in the config",
             path.display(),
             if missing.len() > 1 { "s" } else { "" },
             missing.join(", "),
