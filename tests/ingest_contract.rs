@@ -1763,6 +1763,37 @@ fn a_date_column_of_time_stamps_dates_each_game_by_its_first_pitch() {
     let day = load(&write(&dir, "day.csv", &stamped(13 * 60 + 5, ' ', "")));
     assert_same_rows(&plain.log, &day.log, true);
     assert!(day.source.derive_notes.iter().any(|n| n.starts_with("`date` holds") && !n.contains("midnight")), "{:?}", day.source.derive_notes);
+    // The same stamps stored as Parquet timestamps, without a zone and in
+    // UTC: the same rows (before, each game across midnight split in two).
+    let csv = write(&dir, "across-for-parquet.csv", &stamped(23 * 60 + 10, 'T', ""));
+    for zone in [None, Some(polars::prelude::TimeZone::UTC)] {
+        use polars::prelude::*;
+        let mut df = CsvReadOptions::default().with_infer_schema_length(Some(0)).try_into_reader_with_file_path(Some(csv.clone())).unwrap().finish().unwrap();
+        // Each stamp as microseconds since 1970 (days from the crate's own
+        // calendar, checked against Python's datetime in its tests).
+        let micros: Vec<i64> = df
+            .column("date")
+            .unwrap()
+            .str()
+            .unwrap()
+            .iter()
+            .map(|v| {
+                let v = v.unwrap();
+                let (days, _) = ingest::parse::parse_date(&v[..10]).unwrap();
+                let secs: i64 = v[11..13].parse::<i64>().unwrap() * 3600 + v[14..16].parse::<i64>().unwrap() * 60 + v[17..19].parse::<i64>().unwrap();
+                (i64::from(days) * 86_400 + secs) * 1_000_000
+            })
+            .collect();
+        let stamps = Series::new("date".into(), micros).cast(&DataType::Datetime(TimeUnit::Microseconds, zone.clone())).unwrap();
+        df.with_column(stamps.into_column()).unwrap();
+        let pq = dir.join("across.parquet");
+        let mut file = std::fs::File::create(&pq).unwrap();
+        ParquetWriter::new(&mut file).finish(&mut df).unwrap();
+        let read = load(&pq);
+        assert!(read.rejected.is_empty(), "{zone:?}: {:?}", &read.rejected[..read.rejected.len().min(2)]);
+        assert_same_rows(&plain.log, &read.log, false);
+        assert!(read.log.games_on_two_dates.is_none(), "{zone:?}");
+    }
     // A stray stamp among plain dates is still a rejected row.
     let one = rewritten(&head, &body, |i, c| {
         if i == 10 {

@@ -613,9 +613,31 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
                     // as decoders do, under `catch_decode`.
                     let cast = |s: &Series, to: &DataType| catch_decode(|| s.cast(to)).unwrap_or_else(|panic| Err(PolarsError::ComputeError(panic.into())));
                     let series = match series.dtype() {
-                        DataType::Datetime(..) => cast(series, &DataType::Date).map_err(|e| {
-                            Error::Data(format!("{}: column {name} holds timestamps that cannot be read as dates ({e})", path.display()))
-                        })?,
+                        DataType::Datetime(unit, zone) => {
+                            // A zoned stamp is read as its UTC wall time (this
+                            // build of polars prints no time zones).
+                            let naive = match zone {
+                                Some(_) => cast(series, &DataType::Int64).and_then(|t| cast(&t, &DataType::Datetime(*unit, None))),
+                                None => Ok(series.clone()),
+                            };
+                            let naive = naive.map_err(|e| {
+                                Error::Data(format!("{}: column {name} holds timestamps that cannot be read as dates ({e})", path.display()))
+                            })?;
+                            let dates = cast(&naive, &DataType::Date).map_err(|e| {
+                                Error::Data(format!("{}: column {name} holds timestamps that cannot be read as dates ({e})", path.display()))
+                            })?;
+                            // Stamps with a time of day are kept as text
+                            // (date and time), so each game is dated as a
+                            // text column of stamps is (`derive`); stamps
+                            // at midnight are the dates they hold.
+                            let back = cast(&dates, naive.dtype()).ok();
+                            let timed = back.as_ref().is_none_or(|b| b.not_equal_missing(&naive).map_or(true, |ne| ne.any()));
+                            if timed {
+                                cast(&naive, &DataType::String).unwrap_or(dates)
+                            } else {
+                                dates
+                            }
+                        }
                         _ => series.clone(),
                     };
                     let s = cast(&series, &DataType::String).map_err(|e| {
