@@ -1794,6 +1794,11 @@ fn a_date_column_of_time_stamps_dates_each_game_by_its_first_pitch() {
         assert_same_rows(&plain.log, &read.log, false);
         assert!(read.log.games_on_two_dates.is_none(), "{zone:?}");
     }
+    // A few rows, every one stamped: read as their dates too.
+    let few: Vec<String> = stamped(13 * 60 + 5, ' ', "").lines().take(6).map(str::to_string).collect();
+    let short = load(&write(&dir, "short.csv", &(few.join("\n") + "\n")));
+    assert!(short.rejected.is_empty() && short.log.len() == 5, "{:?}", short.rejected);
+    assert_eq!(short.log.date, plain.log.date[..5]);
     // A stray stamp among plain dates is still a rejected row.
     let one = rewritten(&head, &body, |i, c| {
         if i == 10 {

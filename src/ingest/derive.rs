@@ -371,7 +371,7 @@ fn stamp(v: &str) -> Option<(&str, i32, u32)> {
 
 /// A `date` column that holds each pitch's date and time of day (a
 /// tracking system's stamp) in most of its filled values, at least
-/// `MIN_SPLIT`: read as its calendar date, as written. A game that runs
+/// `MIN_SPLIT`, or in all of them: read as its calendar date, as written. A game that runs
 /// across midnight in the stamps' clock (UTC, say, for an evening game)
 /// keeps its first day: a pitch stamped before 06:00 of a game that has
 /// pitches stamped after 12:00 the day before takes that day, rather than
@@ -382,7 +382,11 @@ fn date_by_first_pitch(table: &mut RawTable, input: &InputParams) -> Option<Stri
     let name = input.file_column("date").to_string();
     let col = table.column(&name)?;
     let stamps: Vec<Option<(&str, i32, u32)>> = col.dict.iter().map(|v| stamp(v)).collect();
-    if !most_rows(col, &stamps.iter().map(Option::is_some).collect::<Vec<_>>()) {
+    // A column of stamps alone (a Parquet timestamp column's, say) is read
+    // however few its rows.
+    let written: Vec<bool> = stamps.iter().map(Option::is_some).collect();
+    let only_stamps = !written.is_empty() && !written.contains(&false);
+    if !(only_stamps || most_rows(col, &written)) {
         return None;
     }
     // The new dictionary: calendar dates, and the other values as written.
