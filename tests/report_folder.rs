@@ -227,7 +227,9 @@ fn a_large_staffs_page_inlines_the_charts_of_a_few_pitchers() {
     assert_eq!(shown.len(), INLINE_ALL_CHARTS_UP_TO);
     // Nobody left out has more flagged tells, or as many and more bits, than
     // anybody shown.
-    let key = |p: &tellscope::audit::summary::PitcherSummary| (p.tells.len(), p.bits_gained.unwrap_or(f64::NEG_INFINITY));
+    // Flagged tells as the staff table counts them: his own, not the
+    // narrower ones inside another.
+    let key = |p: &tellscope::audit::summary::PitcherSummary| (p.tells.iter().filter(|t| t.within.is_none()).count(), p.bits_gained.unwrap_or(f64::NEG_INFINITY));
     let least_shown = eligible.iter().filter(|p| shown.contains(p.pitcher.as_str())).map(|p| key(p)).min_by(|a, b| a.0.cmp(&b.0).then(a.1.total_cmp(&b.1))).unwrap();
     for p in eligible.iter().filter(|p| !shown.contains(p.pitcher.as_str())) {
         let k = key(p);

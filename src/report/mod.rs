@@ -312,10 +312,12 @@ pub fn inlined_pitchers(s: &crate::audit::summary::Summary) -> std::collections:
     }
     let mut shown: Vec<&crate::audit::summary::PitcherSummary> =
         ok.into_iter().filter(|p| p.significant == Some(true) || !p.tells.is_empty()).collect();
+    // His own flagged tells, as the staff table counts them (not the
+    // narrower ones inside another).
+    let own = |p: &crate::audit::summary::PitcherSummary| p.tells.iter().filter(|t| t.within.is_none()).count();
     shown.sort_by(|a, b| {
-        b.tells
-            .len()
-            .cmp(&a.tells.len())
+        own(b)
+            .cmp(&own(a))
             .then(b.bits_gained.unwrap_or(f64::NEG_INFINITY).total_cmp(&a.bits_gained.unwrap_or(f64::NEG_INFINITY)))
             .then(a.pitcher.cmp(&b.pitcher))
     });
