@@ -568,3 +568,20 @@ fn check_of_an_unusable_log_lists_its_reasons() {
     assert!(stderr(&o).contains("no valid row among 3 read"), "{}", stderr(&o));
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// `tellscope demo` outside the project folder (an installed binary) runs
+/// the built-in scenario: it writes the same demo log as the committed one
+/// into `demo-data` there, says so, and writes both reports.
+#[test]
+fn the_demo_runs_outside_the_project_folder() {
+    let dir = scratch("demo-elsewhere");
+    let o = bin().args(["demo", "--permutations", "9"]).current_dir(&dir).output().unwrap();
+    assert_eq!(code(&o), 0, "{}", stderr(&o));
+    assert!(stderr(&o).contains("the demo's built-in scenario is used"), "{}", stderr(&o));
+    let committed = std::fs::read(Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv")).unwrap();
+    assert_eq!(std::fs::read(dir.join("demo-data/demo-log.csv")).unwrap(), committed, "the same log as the committed one");
+    for report in ["reports/demo/index.html", "reports/demo-compare/index.html"] {
+        assert!(dir.join(report).exists(), "{report}");
+    }
+    std::fs::remove_dir_all(&dir).ok();
+}

@@ -18,6 +18,10 @@ use tellscope::Result;
 /// The demo's seed (stated in demo-data/README.md).
 pub const DEMO_SEED: u64 = 2026;
 
+/// The demo's scenario, built in, for a run outside the project folder (an
+/// installed binary): the same text as `demo-data/scenario.toml`.
+const BUILT_IN_SCENARIO: &str = include_str!("../../demo-data/scenario.toml");
+
 #[derive(clap::Args, Debug)]
 pub struct Args {
     /// Folder holding scenario.toml and the committed demo log.
@@ -36,7 +40,15 @@ pub struct Args {
 
 pub fn run(args: Args) -> Result<()> {
     let scenario_path = args.data.join("scenario.toml");
-    let scenario = super::simulate::load_scenario(&scenario_path)?;
+    let scenario = if scenario_path.exists() {
+        super::simulate::load_scenario(&scenario_path)?
+    } else {
+        // Outside the project folder the built-in scenario is simulated and
+        // its log written to the data folder, made here.
+        std::fs::create_dir_all(&args.data).map_err(|e| tellscope::Error::io(&args.data, "create the demo's data folder", e))?;
+        eprintln!("note: {} is not here; the demo's built-in scenario is used and its log written to {}", scenario_path.display(), args.data.display());
+        tellscope::simulate::Scenario::from_toml_str(BUILT_IN_SCENARIO).map_err(|e| tellscope::Error::Internal(format!("the built-in demo scenario: {e}")))?
+    };
     let sim = simulate(&scenario, DEMO_SEED);
     let mut df = sim_frame(&sim)?;
     let log_path = args.data.join("demo-log.csv");
