@@ -85,6 +85,14 @@ impl Dict {
     }
 }
 
+/// The rows of `col` whose value `written` marks (one per dictionary
+/// value), and its filled rows.
+fn rows_written(col: &TextColumn, written: impl IntoIterator<Item = bool>) -> (usize, usize) {
+    let uses = col.uses();
+    let so: usize = uses.iter().zip(written).filter(|(_, w)| *w).map(|(n, _)| n).sum();
+    (so, uses.iter().sum())
+}
+
 /// Whether the values `written` marks (one per dictionary value) fill
 /// most of `col`'s filled rows, and at least `MIN_SPLIT`: a column written
 /// another way throughout, not a few stray values.
@@ -92,9 +100,7 @@ fn most_rows(col: &TextColumn, written: &[bool]) -> bool {
     if !written.contains(&true) {
         return false;
     }
-    let uses = col.uses();
-    let so: usize = uses.iter().zip(written).filter(|(_, &w)| w).map(|(n, _)| n).sum();
-    let filled: usize = uses.iter().sum();
+    let (so, filled) = rows_written(col, written.iter().copied());
     so >= MIN_SPLIT && 2 * so > filled
 }
 
@@ -128,17 +134,20 @@ pub fn work_out(table: &mut RawTable, input: &InputParams) -> (Vec<WorkedOut>, V
     if !(want_score || want_team) {
         return (Vec::new(), notes);
     }
+    // What would be worked out, and from which of each club's columns.
+    let both = want_score && want_team;
+    let (what, from) = match (want_score, want_team) {
+        (true, true) => ("`score_diff` and `team`", "each club's runs and name"),
+        (true, false) => ("`score_diff`", "each club's runs"),
+        _ => ("`team`", "each club's name"),
+    };
     let Some(half_col) = table.column(input.file_column("half")) else {
         // Each club's runs or name, but nothing saying which club pitches.
-        let (what, from) = match (want_score, want_team) {
-            (true, true) => ("`score_diff` and `team` are", "each club's runs and name"),
-            (true, false) => ("`score_diff` is", "each club's runs"),
-            _ => ("`team` is", "each club's name"),
-        };
         notes.push(format!(
-            "{what} not in the file, which has {from} but not the inning's half: add a `{}` column (top or bottom) to have {} worked out",
+            "{what} {} not in the file, which has {from} but not the inning's half: add a `{}` column (top or bottom) to have {} worked out",
+            if both { "are" } else { "is" },
             name("half"),
-            if want_score && want_team { "them" } else { "it" }
+            if both { "them" } else { "it" }
         ));
         return (Vec::new(), notes);
     };
@@ -154,11 +163,7 @@ pub fn work_out(table: &mut RawTable, input: &InputParams) -> (Vec<WorkedOut>, V
         .map(|((&n, v), _)| (n, v.as_str()))
         .collect();
     let n_bad: usize = bad.iter().map(|(n, _)| n).sum();
-    let what = match (want_score, want_team) {
-        (true, true) => "`score_diff` and `team` were",
-        (true, false) => "`score_diff` was",
-        _ => "`team` was",
-    };
+    let what = format!("{what} {}", if both { "were" } else { "was" });
     if filled == 0 || 2 * n_bad > filled {
         let commonest = bad.iter().max_by_key(|(n, v)| (*n, std::cmp::Reverse(*v))).map(|(_, v)| *v).unwrap_or("");
         let note = if filled == 0 {
@@ -295,9 +300,7 @@ fn balls_and_strikes(table: &mut RawTable, input: &InputParams) -> Option<String
     }
     let col = table.column(input.file_column("count"))?;
     let count_name = input.file_column("count");
-    let uses = col.uses();
-    let written: usize = uses.iter().zip(&col.dict).filter(|(_, v)| count_parts(v).is_some()).map(|(n, _)| n).sum();
-    let filled: usize = uses.iter().sum();
+    let (written, filled) = rows_written(col, col.dict.iter().map(|v| count_parts(v).is_some()));
     if filled == 0 || 2 * written <= filled {
         return Some(format!(
             "`balls` and `strikes` are not in the file, and `{count_name}` is not written balls-strikes (as \"1-2\") in most rows, so they were not worked out from it"
@@ -341,9 +344,8 @@ fn worked_out(column: &str, from: Vec<String>, without: usize, n: usize, input: 
 /// The columns to set aside, and why, when a worked-out `score_diff` rises
 /// under the pitcher (`units::score_from_the_other_side` gave `reason`):
 /// the half is read the other way round from the file's meaning, so a club
-/// worked out from it names the batting club and goes too (the third value
-/// says whether it does).
-pub fn from_the_other_side(reason: &str, worked_out: &[WorkedOut]) -> (Vec<String>, String, bool) {
+/// worked out from it names the batting club and goes too.
+pub fn from_the_other_side(reason: &str, worked_out: &[WorkedOut]) -> (Vec<String>, String) {
     let team = worked_out.iter().any(|w| w.column == "team");
     let columns: Vec<String> = worked_out.iter().map(|w| w.column.clone()).filter(|c| c == "score_diff" || (team && c == "team")).collect();
     // The check's own finding, without its fix (which is for a file's own
@@ -353,7 +355,7 @@ pub fn from_the_other_side(reason: &str, worked_out: &[WorkedOut]) -> (Vec<Strin
         "{finding}: worked out from the inning's half, {} as if the home club pitched in the top of an inning; if the file's half names the pitching club's half, or the home club bats first, give the half the batting club is in",
         if team { "the score and the club read" } else { "the score reads" }
     );
-    (columns, why, team)
+    (columns, why)
 }
 
 /// A date-and-time value written `YYYY-MM-DD`, then `T` or a space and a

@@ -756,8 +756,8 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
         if worked_out.iter().any(|w| w.column == "score_diff") {
             // Worked out from the half, the score says the half is given
             // from the other side, and so is any club worked out with it.
-            let (score, reason, team) = derive::from_the_other_side(&reason, &worked_out);
-            if team {
+            let (score, reason) = derive::from_the_other_side(&reason, &worked_out);
+            if score.iter().any(|c| c == "team") {
                 log.team = None;
             }
             worked_out.retain(|w| !score.contains(&w.column));

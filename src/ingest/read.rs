@@ -620,12 +620,11 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
                                 Some(_) => cast(series, &DataType::Int64).and_then(|t| cast(&t, &DataType::Datetime(*unit, None))),
                                 None => Ok(series.clone()),
                             };
-                            let naive = naive.map_err(|e| {
+                            let unreadable = |e: PolarsError| {
                                 Error::Data(format!("{}: column {name} holds timestamps that cannot be read as dates ({e})", path.display()))
-                            })?;
-                            let dates = cast(&naive, &DataType::Date).map_err(|e| {
-                                Error::Data(format!("{}: column {name} holds timestamps that cannot be read as dates ({e})", path.display()))
-                            })?;
+                            };
+                            let naive = naive.map_err(unreadable)?;
+                            let dates = cast(&naive, &DataType::Date).map_err(unreadable)?;
                             // Stamps with a time of day are kept as text
                             // (date and time), so each game is dated as a
                             // text column of stamps is (`derive`); stamps
