@@ -393,9 +393,9 @@ fn missing_markers_and_pitchouts_in_result() {
     assert_eq!(ing.log.result.as_ref().unwrap()[0], None, "NA is a missing result");
     assert!(ing.log.speed_mph.as_ref().unwrap().iter().all(Option::is_none), "NA, null and #N/A are missing speeds");
     assert_eq!(ing.log.score_diff.as_ref().unwrap()[..2], [None, None]);
-    assert_eq!(ing.rejected.len(), 1);
-    assert_eq!((ing.rejected[0].line, ing.rejected[0].column.as_ref()), (6, "balls"));
-    assert_eq!(ing.rejected[0].reason, "is \"NA\", a missing value; every pitch needs a value here");
+    let r = one_rejection(&ing);
+    assert_eq!((r.line, r.column.as_ref()), (6, "balls"));
+    assert_eq!(r.reason, "is \"NA\", a missing value; every pitch needs a value here");
     let aside: Vec<(u64, &str, &str)> = ing.set_aside.iter().map(|r| (r.line, r.column.as_ref(), r.value.as_str())).collect();
     assert_eq!(aside, [(4, "result", "pitchout"), (5, "result", "Intentional_Ball")]);
     assert!(ing.set_aside[0].reason.starts_with("the result \"pitchout\" is a pitchout, not the pitcher's choice of pitch"), "{}", ing.set_aside[0].reason);
@@ -419,6 +419,12 @@ fn plain_staff_lines(n: usize) -> (String, Vec<String>) {
     let mut lines = demo.lines();
     let head = lines.next().unwrap().to_string();
     (head, lines.take(n).map(str::to_string).collect())
+}
+
+/// The log's one rejected row (asserting it has exactly one).
+fn one_rejection(ing: &Ingested) -> &ingest::Rejected {
+    assert_eq!(ing.rejected.len(), 1, "{:?}", &ing.rejected[..ing.rejected.len().min(3)]);
+    &ing.rejected[0]
 }
 
 /// A scratch folder `tag`, the plain-staff demo's header and first 3,000
@@ -743,8 +749,7 @@ fn a_rejected_parquet_row_is_located_by_its_row_index() {
     let pq = dir.join("bad.parquet");
     write_frame(&mut df, &pq).unwrap();
     let ing = load(&pq);
-    assert_eq!(ing.rejected.len(), 1);
-    let r = &ing.rejected[0];
+    let r = one_rejection(&ing);
     // The 0-based row index, as documented on `Rejected::line`.
     assert_eq!((r.line, r.column.as_ref(), r.value.as_str()), (5, "balls", "4"));
     std::fs::remove_dir_all(&dir).ok();
@@ -1181,8 +1186,7 @@ fn measurement_columns_in_other_units_are_set_aside_whole() {
     one_off[7].2 = 31.0;
     let ing = load(&write(&dir, "one-off.csv", &measured(&one_off)));
     assert!(ing.source.optional_set_aside.is_empty());
-    assert_eq!(ing.rejected.len(), 1);
-    assert_eq!(ing.rejected[0].column, "loc_height_ft");
+    assert_eq!(one_rejection(&ing).column, "loc_height_ft");
 
     // Too few values decide nothing: among 15 pitches, the 10 in km/h are
     // rejected row by row.
@@ -1806,8 +1810,8 @@ fn a_date_column_of_time_stamps_dates_each_game_by_its_first_pitch() {
         }
     });
     let stray = load(&write(&dir, "stray.csv", &one));
-    assert_eq!(stray.rejected.len(), 1);
-    assert!(stray.rejected[0].reason.contains("is a date and time"), "{}", stray.rejected[0].reason);
+    let r = one_rejection(&stray);
+    assert!(r.reason.contains("is a date and time"), "{}", r.reason);
     std::fs::remove_dir_all(&dir).ok();
 }
 
@@ -1841,8 +1845,8 @@ fn hands_written_out_read_as_their_letters() {
     let mut text = spell(1);
     text = text.replacen(",rhb,", ",S,", 1);
     let switch = load(&write(&dir, "switch.csv", &text));
-    assert_eq!(switch.rejected.len(), 1);
-    assert!(switch.rejected[0].reason.contains("switch hitter"), "{}", switch.rejected[0].reason);
+    let r = one_rejection(&switch);
+    assert!(r.reason.contains("switch hitter"), "{}", r.reason);
     std::fs::remove_dir_all(&dir).ok();
 }
 
@@ -1871,8 +1875,8 @@ fn balls_and_strikes_read_from_one_count_column() {
     assert_same_rows(&plain.log, &counted.log, true);
     assert!(counted.source.derive_notes.iter().any(|n| n.starts_with("`balls` and `strikes` are not in the file and were read from `count`")), "{:?}", counted.source.derive_notes);
     let four = load(&write(&dir, "four.csv", &recount("-", Some(7))));
-    assert_eq!(four.rejected.len(), 1);
-    assert_eq!((four.rejected[0].column.as_ref(), four.rejected[0].value.as_str()), ("balls", "4"));
+    let r = one_rejection(&four);
+    assert_eq!((r.column.as_ref(), r.value.as_str()), ("balls", "4"));
     let other = write(&dir, "other.csv", &recount(" and ", None));
     let e = data_error(&other, &defaults());
     assert!(e.contains("required columns balls, strikes missing from the header (`balls` and `strikes` are not in the file, and `count` is not written balls-strikes"), "{e}");
