@@ -232,68 +232,178 @@ impl<'a> DrawingBackend for PngBackend<'a> {
             // Not our family: let plotters draw it (and fail if unregistered).
             _ => return self.inner.draw_text(text, style, pos),
         };
-        let upem = font.units_per_em().unwrap_or(2048.0);
-        // SVG backend: font-size = size / 1.24 (one em). ab_glyph scales by
-        // the ascent-to-descent height, so convert.
-        let em = (style.size() / 1.24) as f32;
-        let scaled = font.as_scaled(PxScale::from(em * font.height_unscaled() / upem));
-        let ids: Vec<GlyphId> = text.chars().map(|c| font.glyph_id(c)).collect();
-        let mut pens = Vec::with_capacity(ids.len());
-        let mut pen = 0.0f32;
-        for (i, id) in ids.iter().enumerate() {
-            if i > 0 {
-                pen += scaled.kern(ids[i - 1], *id);
+        let key = Ink {
+            text: text.to_string(),
+            bold: matches!(style.style(), FontStyle::Bold),
+            size: style.size().to_bits(),
+            anchor: (h_code(style.anchor().h_pos), v_code(style.anchor().v_pos)),
+        };
+        let ink = INKS.with_borrow_mut(|inks| {
+            if let Some(ink) = inks.get(&key) {
+                return ink.clone();
             }
-            pens.push(pen);
-            pen += scaled.h_advance(*id);
-        }
-        let width = pen;
-        let x_start = match style.anchor().h_pos {
-            HPos::Left => 0.0,
-            HPos::Center => -width / 2.0,
-            HPos::Right => -width,
-        };
-        // x-height from the ink of "x" (its bottom is the baseline), one way
-        // up or the other whatever ab_glyph's y convention.
-        let ex = font
-            .outline(font.glyph_id('x'))
-            .map(|o| (o.bounds.max.y - o.bounds.min.y).abs() * em / upem)
-            .unwrap_or(0.55 * em);
-        let baseline = match style.anchor().v_pos {
-            VPos::Top => 0.76 * em,
-            VPos::Center => 0.5 * ex,
-            VPos::Bottom => -0.5 * ex,
-        };
+            let ink = std::rc::Rc::new(rasterise(font, text, style));
+            if inks.len() >= INK_CACHE {
+                inks.clear();
+            }
+            inks.insert(key, ink.clone());
+            ink
+        });
         let trans = style.transform();
         let (w, h) = self.get_size();
-        for (id, x) in ids.iter().zip(&pens) {
-            let glyph = id.with_scale_and_position(scaled.scale(), point(x_start + x, baseline));
-            let Some(outlined) = font.outline_glyph(glyph) else {
-                continue;
-            };
-            let b = outlined.px_bounds();
-            let mut pixels = Vec::new();
-            outlined.draw(|gx, gy, coverage| {
-                if coverage > 0.0 {
-                    pixels.push((
-                        b.min.x as i32 + gx as i32,
-                        b.min.y as i32 + gy as i32,
-                        coverage,
-                    ));
-                }
-            });
-            for (lx, ly, coverage) in pixels {
-                let (dx, dy) = trans.transform(lx, ly);
-                let (px, py) = (pos.0 + dx, pos.1 + dy);
-                if px >= 0 && py >= 0 && (px as u32) < w && (py as u32) < h {
-                    let c = BackendColor {
-                        alpha: colour.alpha * coverage.min(1.0) as f64,
-                        rgb: colour.rgb,
-                    };
-                    self.inner.draw_pixel((px, py), c)?;
-                }
+        for &(lx, ly, coverage) in ink.iter() {
+            let (dx, dy) = trans.transform(lx, ly);
+            let (px, py) = (pos.0 + dx, pos.1 + dy);
+            if px >= 0 && py >= 0 && (px as u32) < w && (py as u32) < h {
+                let c = BackendColor {
+                    alpha: colour.alpha * coverage.min(1.0) as f64,
+                    rgb: colour.rgb,
+                };
+                self.inner.draw_pixel((px, py), c)?;
             }
         }
         Ok(())
+    }
+}
+
+/// A string's ink: each covered pixel relative to the text's anchor, before
+/// any rotation, with its coverage, in drawing order. It depends only on the
+/// text, weight, size and anchor, so a chart's repeated labels (tick values,
+/// pitch names, axis titles) are rasterised once per thread ([`INKS`]) and
+/// drawn from the list: the same pixels in the same order as rasterising
+/// them again.
+fn rasterise<T: BackendTextStyle>(font: &FontRef<'static>, text: &str, style: &T) -> Vec<(i32, i32, f32)> {
+    let upem = font.units_per_em().unwrap_or(2048.0);
+    // SVG backend: font-size = size / 1.24 (one em). ab_glyph scales by
+    // the ascent-to-descent height, so convert.
+    let em = (style.size() / 1.24) as f32;
+    let scaled = font.as_scaled(PxScale::from(em * font.height_unscaled() / upem));
+    let ids: Vec<GlyphId> = text.chars().map(|c| font.glyph_id(c)).collect();
+    let mut pens = Vec::with_capacity(ids.len());
+    let mut pen = 0.0f32;
+    for (i, id) in ids.iter().enumerate() {
+        if i > 0 {
+            pen += scaled.kern(ids[i - 1], *id);
+        }
+        pens.push(pen);
+        pen += scaled.h_advance(*id);
+    }
+    let width = pen;
+    let x_start = match style.anchor().h_pos {
+        HPos::Left => 0.0,
+        HPos::Center => -width / 2.0,
+        HPos::Right => -width,
+    };
+    // x-height from the ink of "x" (its bottom is the baseline), one way
+    // up or the other whatever ab_glyph's y convention.
+    let ex = font
+        .outline(font.glyph_id('x'))
+        .map(|o| (o.bounds.max.y - o.bounds.min.y).abs() * em / upem)
+        .unwrap_or(0.55 * em);
+    let baseline = match style.anchor().v_pos {
+        VPos::Top => 0.76 * em,
+        VPos::Center => 0.5 * ex,
+        VPos::Bottom => -0.5 * ex,
+    };
+    let mut ink = Vec::new();
+    for (id, x) in ids.iter().zip(&pens) {
+        let glyph = id.with_scale_and_position(scaled.scale(), point(x_start + x, baseline));
+        let Some(outlined) = font.outline_glyph(glyph) else {
+            continue;
+        };
+        let b = outlined.px_bounds();
+        outlined.draw(|gx, gy, coverage| {
+            if coverage > 0.0 {
+                ink.push((b.min.x as i32 + gx as i32, b.min.y as i32 + gy as i32, coverage));
+            }
+        });
+    }
+    ink
+}
+
+/// What a string's ink depends on.
+#[derive(PartialEq, Eq, Hash)]
+struct Ink {
+    text: String,
+    bold: bool,
+    size: u64,
+    anchor: (u8, u8),
+}
+
+fn h_code(h: HPos) -> u8 {
+    match h {
+        HPos::Left => 0,
+        HPos::Center => 1,
+        HPos::Right => 2,
+    }
+}
+
+fn v_code(v: VPos) -> u8 {
+    match v {
+        VPos::Top => 0,
+        VPos::Center => 1,
+        VPos::Bottom => 2,
+    }
+}
+
+/// Strings kept per thread before the cache starts over (a league's report
+/// draws a few thousand distinct labels; a label is a few hundred pixels).
+const INK_CACHE: usize = 4_096;
+
+thread_local! {
+    static INKS: std::cell::RefCell<std::collections::HashMap<Ink, std::rc::Rc<Vec<(i32, i32, f32)>>>> = Default::default();
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use plotters::prelude::*;
+    use plotters::style::text_anchor::Pos;
+
+    /// A 120 × 60 white canvas with `text` drawn at `at` in dark ink.
+    fn canvas(text: &str, at: (i32, i32), rotate: bool) -> Vec<u8> {
+        ensure_registered().unwrap();
+        let mut rgb = vec![255u8; 120 * 60 * 3];
+        {
+            let mut backend = PngBackend::with_buffer(&mut rgb, (120, 60));
+            let mut style = regular(14.0).color(&RGBColor(20, 30, 40)).pos(Pos::new(HPos::Left, VPos::Top));
+            if rotate {
+                style = style.transform(FontTransform::Rotate90);
+            }
+            backend.draw_text(text, &style, at).unwrap();
+        }
+        rgb
+    }
+
+    fn ink_of(rgb: &[u8]) -> Vec<(i32, i32, [u8; 3])> {
+        rgb.chunks_exact(3)
+            .enumerate()
+            .filter(|(_, p)| p != &[255, 255, 255])
+            .map(|(i, p)| ((i % 120) as i32, (i / 120) as i32, [p[0], p[1], p[2]]))
+            .collect()
+    }
+
+    /// The ink cache is keyed by what the ink depends on, not by where it
+    /// goes: a label drawn with the cache cold, again warm, and elsewhere
+    /// is the same pixels (shifted), and a turned label is the same ink
+    /// turned (as many pixels, same colours).
+    #[test]
+    fn cached_ink_is_the_rasterised_ink() {
+        INKS.with_borrow_mut(|inks| inks.clear());
+        let cold = canvas("Sinker 0.25", (5, 10), false);
+        assert!(INKS.with_borrow(|inks| inks.len()) == 1);
+        let warm = canvas("Sinker 0.25", (5, 10), false);
+        assert_eq!(cold, warm);
+        assert!(ink_of(&cold).len() > 50, "the label left ink");
+        let moved: Vec<_> = ink_of(&canvas("Sinker 0.25", (12, 17), false)).into_iter().map(|(x, y, c)| (x - 7, y - 7, c)).collect();
+        assert_eq!(moved, ink_of(&cold));
+        let mut turned: Vec<[u8; 3]> = ink_of(&canvas("Sinker", (60, 5), true)).into_iter().map(|(_, _, c)| c).collect();
+        let mut flat: Vec<[u8; 3]> = ink_of(&canvas("Sinker", (5, 10), false)).into_iter().map(|(_, _, c)| c).collect();
+        turned.sort();
+        flat.sort();
+        assert_eq!(turned, flat);
+        // Another text is another entry.
+        canvas("Sinker 0.26", (5, 10), false);
+        assert!(INKS.with_borrow(|inks| inks.len()) == 3);
     }
 }
