@@ -960,6 +960,24 @@ fn parquet_integer_and_decimal_types_are_read() {
     assert_eq!(outs, vec![0, 1, 2]);
 }
 
+/// A Parquet `date` of time stamps with a zone is dated by the zone's
+/// wall time (tests/fixtures/logs/zoned.parquet and unknown-zone.parquet,
+/// made by make_zoned_parquet.py with pyarrow): 01:40 UTC on 4 April 2025
+/// is 19:40 on 3 April in America/Denver (UTC−6 in daylight time; the
+/// zone's rule, common knowledge), so the evening game keeps its own day.
+/// A zone the time-zone database does not have is refused (exit 3),
+/// naming it and the fix, not reported as a damaged file.
+#[test]
+fn parquet_stamps_in_a_zone_are_dated_by_its_wall_time() {
+    let ing = load(&fixture("zoned.parquet"));
+    assert!(ing.rejected.is_empty(), "{:?}", ing.rejected);
+    let (day, _) = ingest::parse::parse_date("2025-04-03").unwrap();
+    assert_eq!(ing.log.date, vec![day; 3]);
+    let e = data_error(&fixture("unknown-zone.parquet"), &defaults());
+    assert!(e.contains("\"Mars/Olympus\"") && e.contains("not in the time-zone database") && e.contains("UTC"), "{e}");
+    assert!(!e.contains("damaged"), "{e}");
+}
+
 /// A row with a field missing or one too many is rejected whole, with its
 /// line, never read with its values shifted into other columns; the rest of
 /// the file is read.
@@ -1769,9 +1787,26 @@ fn a_date_column_of_time_stamps_dates_each_game_by_its_first_pitch() {
     assert!(day.source.derive_notes.iter().any(|n| n.starts_with("`date` holds") && !n.contains("midnight")), "{:?}", day.source.derive_notes);
     // The same stamps stored as Parquet timestamps, without a zone and in
     // UTC: the same rows (before, each game across midnight split in two).
-    let csv = write(&dir, "across-for-parquet.csv", &stamped(23 * 60 + 10, 'T', ""));
-    for zone in [None, Some(polars::prelude::TimeZone::UTC)] {
+    // Stamps in a zone of their own are dated by its wall time: games begun
+    // at 19:10 in Los Angeles or 20:30 at five hours behind UTC (the next
+    // day in UTC, every pitch) keep the dates of the plain log. (A writer's
+    // fixed offset "-05:00" is read by polars as the zone "Etc/GMT+5",
+    // whose sign the time-zone database writes the other way.)
+    use chrono::TimeZone as _;
+    let la = |local: i64| {
+        let naive = chrono::DateTime::from_timestamp(local, 0).unwrap().naive_utc();
+        chrono_tz::America::Los_Angeles.from_local_datetime(&naive).single().unwrap().timestamp()
+    };
+    let cases: [(u32, Option<polars::prelude::TimeZone>, &dyn Fn(i64) -> i64); 4] = [
+        (23 * 60 + 10, None, &|t| t),
+        (23 * 60 + 10, Some(polars::prelude::TimeZone::UTC), &|t| t),
+        // SAFETY (both): valid zone names, as polars' own checks would find.
+        (19 * 60 + 10, Some(unsafe { polars::prelude::TimeZone::from_static("America/Los_Angeles") }), &la),
+        (20 * 60 + 30, Some(unsafe { polars::prelude::TimeZone::from_static("Etc/GMT+5") }), &|t| t + 5 * 3600),
+    ];
+    for (start, zone, to_utc) in cases {
         use polars::prelude::*;
+        let csv = write(&dir, "across-for-parquet.csv", &stamped(start, 'T', ""));
         let mut df = CsvReadOptions::default().with_infer_schema_length(Some(0)).try_into_reader_with_file_path(Some(csv.clone())).unwrap().finish().unwrap();
         // Each stamp as microseconds since 1970 (days from the crate's own
         // calendar, checked against Python's datetime in its tests).
@@ -1785,7 +1820,7 @@ fn a_date_column_of_time_stamps_dates_each_game_by_its_first_pitch() {
                 let v = v.unwrap();
                 let (days, _) = ingest::parse::parse_date(&v[..10]).unwrap();
                 let secs: i64 = v[11..13].parse::<i64>().unwrap() * 3600 + v[14..16].parse::<i64>().unwrap() * 60 + v[17..19].parse::<i64>().unwrap();
-                (i64::from(days) * 86_400 + secs) * 1_000_000
+                to_utc(i64::from(days) * 86_400 + secs) * 1_000_000
             })
             .collect();
         let stamps = Series::new("date".into(), micros).cast(&DataType::Datetime(TimeUnit::Microseconds, zone.clone())).unwrap();

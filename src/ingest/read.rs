@@ -327,8 +327,16 @@ fn polars_err(path: &Path, e: PolarsError) -> Error {
 /// before anything is allocated for it.
 pub const MAX_PARQUET_ROWS: usize = 200_000_000;
 
-/// A damaged Parquet file, in one sentence (exit 3).
+/// A damaged Parquet file, in one sentence (exit 3). A column of
+/// timestamps in a zone the time-zone database does not know is not
+/// damage: it is said so, with the fix.
 fn damaged(path: &Path, what: &str, detail: &str) -> Error {
+    if let Some(zone) = detail.strip_prefix("unable to parse time zone: ").and_then(|z| z.split('\'').nth(1)) {
+        return Error::Data(format!(
+            "{}: {what} holds timestamps in the time zone \"{zone}\", which is not in the time-zone database: store them in UTC, in a zone such as America/Chicago, or as text, or export the log as CSV",
+            path.display()
+        ));
+    }
     Error::Data(format!(
         "{}: {what} could not be decoded ({}); the file looks damaged or uses an encoding the reader does not support: export it again, or as CSV",
         path.display(),
@@ -614,10 +622,14 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
                     let cast = |s: &Series, to: &DataType| catch_decode(|| s.cast(to)).unwrap_or_else(|panic| Err(PolarsError::ComputeError(panic.into())));
                     let series = match series.dtype() {
                         DataType::Datetime(unit, zone) => {
-                            // A zoned stamp is read as its UTC wall time (this
-                            // build of polars prints no time zones).
+                            // A zoned stamp is read as the wall time of its
+                            // zone (an evening game on the west coast is on
+                            // its own day, not the next one in UTC); a zone
+                            // chrono-tz does not know, as its UTC wall time.
                             let naive = match zone {
-                                Some(_) => cast(series, &DataType::Int64).and_then(|t| cast(&t, &DataType::Datetime(*unit, None))),
+                                Some(z) => cast(series, &DataType::Int64)
+                                    .map(|t| local_stamps(&t, *unit, z.as_str()))
+                                    .and_then(|t| cast(&t, &DataType::Datetime(*unit, None))),
                                 None => Ok(series.clone()),
                             };
                             let unreadable = |e: PolarsError| {
@@ -668,4 +680,78 @@ pub fn read_table(path: &Path, wanted: &[String]) -> Result<RawTable> {
     let (read, (ragged, width)) = rayon::join(read_columns, scan);
     let (columns, n_rows) = read?;
     Ok(RawTable { format, header, n_rows: n_rows.unwrap_or(0), columns, ragged, width, renamed })
+}
+
+/// Timestamps (`stamps`, integers in `unit` since 1970 UTC) moved to the
+/// wall time of `zone` (an IANA name such as `America/Chicago`, or a fixed
+/// offset such as `-05:00`): each stamp plus its zone's offset from UTC at
+/// that instant. An unknown zone leaves them in UTC.
+fn local_stamps(stamps: &Series, unit: TimeUnit, zone: &str) -> Series {
+    use chrono::{Offset, TimeZone as _};
+    let per_second: i64 = match unit {
+        TimeUnit::Nanoseconds => 1_000_000_000,
+        TimeUnit::Microseconds => 1_000_000,
+        TimeUnit::Milliseconds => 1_000,
+    };
+    // The offset in seconds at a UTC second.
+    let offset_at: Box<dyn Fn(i64) -> i64> = if let Ok(tz) = zone.parse::<chrono_tz::Tz>() {
+        Box::new(move |secs| match chrono::DateTime::from_timestamp(secs, 0) {
+            Some(t) => i64::from(tz.offset_from_utc_datetime(&t.naive_utc()).fix().local_minus_utc()),
+            None => 0,
+        })
+    } else if let Ok(fixed) = zone.parse::<chrono::FixedOffset>() {
+        let off = i64::from(fixed.local_minus_utc());
+        Box::new(move |_| off)
+    } else {
+        return stamps.clone();
+    };
+    let Ok(values) = stamps.i64() else {
+        return stamps.clone();
+    };
+    // Offsets change at a zone's transitions only, on the hour or half
+    // hour: one lookup per quarter hour of stamps in a row.
+    let mut last: Option<(i64, i64)> = None;
+    let local: Int64Chunked = values
+        .downcast_iter()
+        .flat_map(|a| a.iter().map(|v| v.copied()))
+        .map(|v| {
+            v.map(|t| {
+                let quarter = t.div_euclid(per_second * 900);
+                let off = match last {
+                    Some((q, off)) if q == quarter => off,
+                    _ => {
+                        let off = offset_at(t.div_euclid(per_second));
+                        last = Some((quarter, off));
+                        off
+                    }
+                };
+                t.saturating_add(off.saturating_mul(per_second))
+            })
+        })
+        .collect();
+    local.with_name(stamps.name().clone()).into_series()
+}
+
+#[cfg(test)]
+mod zone_tests {
+    use super::*;
+
+    /// Stamps in a zone are moved to its wall time: 02:10 UTC on 4 April
+    /// 2025 is 19:10 on 3 April in Los Angeles (daylight time, UTC−7) and
+    /// 21:10 at −05:00; 02:10 UTC on 4 January is 18:10 (standard time,
+    /// UTC−8). A zone chrono-tz does not know leaves them as they are.
+    /// (Offsets from the IANA zone rules as published: common knowledge.)
+    #[test]
+    fn zoned_stamps_read_as_their_wall_time() {
+        let s = |v: Vec<Option<i64>>| Series::new("date".into(), v);
+        let apr = 1_743_732_600i64; // 2025-04-04 02:10:00 UTC
+        let jan = 1_735_956_600i64; // 2025-01-04 02:10:00 UTC
+        let got = local_stamps(&s(vec![Some(apr * 1000), None, Some(jan * 1000)]), TimeUnit::Milliseconds, "America/Los_Angeles");
+        let want = s(vec![Some((apr - 7 * 3600) * 1000), None, Some((jan - 8 * 3600) * 1000)]);
+        assert!(got.equals_missing(&want), "{got:?}");
+        let got = local_stamps(&s(vec![Some(apr * 1_000_000)]), TimeUnit::Microseconds, "-05:00");
+        assert!(got.equals_missing(&s(vec![Some((apr - 5 * 3600) * 1_000_000)])), "{got:?}");
+        let same = s(vec![Some(apr)]);
+        assert!(local_stamps(&same, TimeUnit::Milliseconds, "Mars/Olympus").equals_missing(&same));
+    }
 }
