@@ -3,7 +3,7 @@
 
 use crate::error::{Error, Result};
 use crate::model::TreeSettings;
-use crate::domain::columns::{OPTIONAL_COLUMNS, REQUIRED_COLUMNS, SOURCE_COLUMNS};
+use crate::domain::columns::{NAME_COLUMNS, OPTIONAL_COLUMNS, REQUIRED_COLUMNS, SOURCE_COLUMNS};
 use crate::domain::defaults::*;
 use crate::domain::levels::Factor;
 use serde::{Deserialize, Serialize};
@@ -407,7 +407,7 @@ pub struct Overrides {
 }
 
 fn known_column(name: &str) -> bool {
-    REQUIRED_COLUMNS.contains(&name) || OPTIONAL_COLUMNS.contains(&name) || SOURCE_COLUMNS.contains(&name)
+    REQUIRED_COLUMNS.contains(&name) || OPTIONAL_COLUMNS.contains(&name) || SOURCE_COLUMNS.contains(&name) || NAME_COLUMNS.contains(&name)
 }
 
 impl ConfigFile {

@@ -1917,3 +1917,73 @@ fn balls_and_strikes_read_from_one_count_column() {
     assert!(e.contains("required columns balls, strikes missing from the header (`balls` and `strikes` are not in the file, and `count` is not written balls-strikes"), "{e}");
     std::fs::remove_dir_all(&dir).ok();
 }
+
+/// A log keyed by pitcher id with the names in a column of their own
+/// (`pitcher_name`, here under the file's own header through `[columns]`):
+/// the same rows as the log keyed by name, each pitcher shown by his name
+/// and his id kept beside it, and `--pitcher` takes either. Two ids under
+/// one name stay two pitchers, each shown with his id; a pitcher written
+/// under two names is shown by the one on most of his pitches.
+#[test]
+fn pitchers_keyed_by_id_are_shown_by_their_pitcher_name() {
+    let (dir, head, body, plain) = plain_case("pitcher-names");
+    let at = column(&head, "pitcher");
+    let id_of = |name: &str| format!("6{:05}", plain.log.pitchers.iter().position(|p| p == name).unwrap() * 7 + 11);
+    let keyed = |rename: &dyn Fn(usize, &str) -> String| -> String {
+        let text = rewritten(&head, &body, |i, c| {
+            let name = c[at].clone();
+            c[at] = id_of(&name);
+            c.push(rename(i, &name));
+        });
+        text.replacen(&head, &format!("{head},PitcherName"), 1)
+    };
+    let settings = with_config("[columns]\npitcher_name = \"PitcherName\"\n");
+    let read = |name: &str, text: String| ingest::load(&write(&dir, name, &text), &settings.input).unwrap();
+
+    let named = read("named.csv", keyed(&|_, n| n.to_string()));
+    assert!(named.rejected.is_empty());
+    assert_same_rows(&plain.log, &named.log, true);
+    assert_eq!(named.log.pitchers, plain.log.pitchers);
+    let ids: Vec<String> = plain.log.pitchers.iter().map(|p| id_of(p)).collect();
+    assert_eq!(named.log.pitcher_ids, ids);
+    let note = named.log.pitcher_naming.clone().expect("a note on the names");
+    assert!(note.starts_with("Pitchers are told apart by `pitcher` and shown by `pitcher_name`"), "{note}");
+    // `--pitcher` by name or by id picks the same pitcher.
+    let pick = |who: &str| {
+        let o = Overrides { pitchers: vec![who.to_string()], ..Overrides::default() };
+        let s = Settings::resolve(&ConfigFile::default(), &o).unwrap();
+        tellscope::audit::selected_pitchers(&named.log, &s).unwrap()
+    };
+    let first = plain.log.pitchers[0].clone();
+    assert_eq!(pick(&first), vec![0]);
+    assert_eq!(pick(&ids[0]), vec![0]);
+    // Without the name column nothing changes: ids shown, none kept beside.
+    let bare = load(&write(&dir, "bare.csv", &keyed(&|_, n| n.to_string()).replace(",PitcherName", ",other")));
+    assert!(bare.log.pitcher_ids.is_empty() && bare.log.pitcher_naming.is_none());
+    assert_eq!(bare.log.pitchers.iter().filter(|p| ids.contains(p)).count(), ids.len());
+
+    // The second pitcher takes the first one's name; the first is written
+    // under another name on his first row.
+    let (a, b) = (plain.log.pitchers[0].clone(), plain.log.pitchers[1].clone());
+    let first_row = body.iter().position(|l| l.split(',').nth(at) == Some(a.as_str())).unwrap();
+    let shared = read(
+        "shared.csv",
+        keyed(&|i, n| if n == b { a.clone() } else if i == first_row { format!("{n} Jr") } else { n.to_string() }),
+    );
+    assert_eq!(shared.log.pitchers.len(), plain.log.pitchers.len(), "two ids under one name stay two pitchers");
+    let both: Vec<String> = [&ids[0], &ids[1]].iter().map(|id| format!("{a} ({id})")).collect();
+    for label in &both {
+        assert!(shared.log.pitchers.contains(label), "{label} in {:?}", shared.log.pitchers);
+    }
+    let rows_of = |log: &PitchLog, label: &str| {
+        let p = log.pitchers.iter().position(|q| q == label).unwrap() as u32;
+        log.pitcher.iter().filter(|&&q| q == p).count()
+    };
+    let count_of = |name: &str| plain.log.pitcher.iter().filter(|&&q| plain.log.pitchers[q as usize] == name).count();
+    assert_eq!(rows_of(&shared.log, &both[0]), count_of(&a));
+    assert_eq!(rows_of(&shared.log, &both[1]), count_of(&b));
+    let note = shared.log.pitcher_naming.clone().unwrap();
+    assert!(note.contains(&format!("2 pitchers are shown with their id as each one's name is shared by another pitcher ({}; {})", both[0], both[1])), "{note}");
+    assert!(note.contains(&format!("{} (also \"{a} Jr\" on 1 pitch)", both[0])), "{note}");
+    std::fs::remove_dir_all(&dir).ok();
+}

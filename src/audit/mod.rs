@@ -207,7 +207,8 @@ pub fn selected_pitchers(log: &ingest::PitchLog, settings: &Settings) -> Result<
     if !settings.audit.pitchers().is_empty() {
         let mut named = Vec::new();
         for p in settings.audit.pitchers() {
-            match log.pitchers.iter().position(|q| q == p) {
+            // A pitcher shown by name is named by it or by his id.
+            match log.pitchers.iter().position(|q| q == p).or_else(|| log.pitcher_ids.iter().position(|q| q == p)) {
                 Some(i) if out.contains(&(i as u32)) => named.push(i as u32),
                 Some(_) => {
                     return Err(Error::Usage(format!(

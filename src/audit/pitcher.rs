@@ -17,6 +17,8 @@ use std::collections::{BTreeMap, BTreeSet};
 
 /// What every pitcher's summary says, figures or not.
 pub(super) struct About {
+    /// His `pitcher` value when he is shown by name (`pitcher_name`).
+    pitcher_id: Option<String>,
     throws: String,
     /// His usual throwing hand (`throws`).
     hand: Hand,
@@ -72,7 +74,8 @@ impl About {
                 format!("He last pitched in {his} in this log, which runs to {latest}: his figures describe him then, and a hitter facing him now may see a different pitcher.")
             })
         });
-        About { throws, hand: usual, pitches_by_season, pitches_by_team, now_with, team_caution, hand_caution, gone_caution }
+        let pitcher_id = log.pitcher_ids.get(task.pitcher as usize).cloned();
+        About { pitcher_id, throws, hand: usual, pitches_by_season, pitches_by_team, now_with, team_caution, hand_caution, gone_caution }
     }
 }
 
@@ -138,6 +141,7 @@ impl Insufficient {
         let Insufficient { name, about, n_train, n_test, evaluation, reason } = *self;
         PitcherSummary {
             pitcher: name,
+            pitcher_id: about.pitcher_id,
             throws: about.throws,
             status: "insufficient data".into(),
             n_train,
@@ -250,6 +254,7 @@ pub(super) fn scored(run: &Run, task: &PitcherTask, about: About, at: usize) -> 
     let bits = o.figures.bits_gained;
     let summary = PitcherSummary {
         pitcher: task.name.clone(),
+        pitcher_id: about.pitcher_id,
         throws: about.throws,
         status: "ok".into(),
         n_train: task.n_train(),

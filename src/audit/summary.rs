@@ -202,7 +202,12 @@ pub struct RuleSummary {
 
 #[derive(Debug, Clone, Serialize)]
 pub struct PitcherSummary {
+    /// As shown: his `pitcher` value, or his name with a `pitcher_name`
+    /// column.
     pub pitcher: String,
+    /// His `pitcher` value when he is shown by name.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub pitcher_id: Option<String>,
     pub throws: String,
     /// `ok` or `insufficient data`.
     pub status: String,

@@ -255,7 +255,12 @@ pub struct Predictability {
 
 #[derive(Debug, Clone, Serialize)]
 pub struct PitcherChanges {
+    /// As shown: his `pitcher` value, or his name with a `pitcher_name`
+    /// column.
     pub pitcher: String,
+    /// His `pitcher` value when he is shown by name.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub pitcher_id: Option<String>,
     pub throws: String,
     /// `ok` or `insufficient data`.
     pub status: String,

@@ -16,3 +16,9 @@ pub const OPTIONAL_COLUMNS: [&str; 9] = [
 /// `B-S`). Read only to work out contract columns the file lacks
 /// (`ingest::derive`); mappable through `[columns]` like the others.
 pub const SOURCE_COLUMNS: [&str; 6] = ["half", "home_score", "away_score", "home_team", "away_team", "count"];
+
+/// Columns read only to show a pitcher: `pitcher_name`, the name of a
+/// pitcher whose `pitcher` column holds an id (as many club and league
+/// exports write them). Pitchers are still told apart by `pitcher`; the
+/// report shows the name (`ingest::names`). Mappable through `[columns]`.
+pub const NAME_COLUMNS: [&str; 1] = ["pitcher_name"];

@@ -3,13 +3,14 @@
 //! date, game, plate appearance and pitch number.
 
 pub mod derive;
+pub mod names;
 pub mod parse;
 pub mod read;
 pub mod units;
 pub mod unreadable;
 
 use crate::error::{Error, Result};
-use crate::domain::columns::{OPTIONAL_COLUMNS, REQUIRED_COLUMNS, SOURCE_COLUMNS};
+use crate::domain::columns::{NAME_COLUMNS, OPTIONAL_COLUMNS, REQUIRED_COLUMNS, SOURCE_COLUMNS};
 use crate::settings::InputParams;
 use crate::domain::levels::Hand;
 use crate::domain::PitchResult;
@@ -127,7 +128,12 @@ impl SourceInfo {
 #[derive(Debug, Clone, Default)]
 pub struct PitchLog {
     pub games: Vec<String>,
+    /// Each pitcher as shown: his `pitcher` value, or with a
+    /// `pitcher_name` column his name (`names::labels`).
     pub pitchers: Vec<String>,
+    /// With a `pitcher_name` column that names them: each pitcher's
+    /// `pitcher` value (his id), beside `pitchers`; empty otherwise.
+    pub pitcher_ids: Vec<String>,
     pub batters: Vec<String>,
     /// Pitch labels after `[pitch_groups]`, sorted.
     pub pitch_types: Vec<String>,
@@ -171,6 +177,9 @@ pub struct PitchLog {
     /// Base columns written as the runner's id (empty where no runner is),
     /// read as occupied where filled: a note when they are.
     pub runner_ids: Option<String>,
+    /// Pitchers shown by `pitcher_name`: the note on how
+    /// (`names::note`).
+    pub pitcher_naming: Option<String>,
     /// Game ids met on more than one date, each date read as a game of its
     /// own: a note when there are.
     pub games_on_two_dates: Option<String>,
@@ -535,6 +544,7 @@ pub fn log_notes(log: &PitchLog, source: &SourceInfo) -> Vec<String> {
     notes.extend(log.pa_numbering.clone());
     notes.extend(log.counted_from_zero.clone());
     notes.extend(log.runner_ids.clone());
+    notes.extend(log.pitcher_naming.clone());
     notes.extend(log.games_on_two_dates.clone());
     if source.optional_missing.iter().any(|c| c == "season") {
         notes.extend(log.season_across_new_year());
@@ -652,6 +662,7 @@ fn load_checked(path: &Path, input: &InputParams, checked: bool) -> Result<Inges
         .iter()
         .chain(OPTIONAL_COLUMNS.iter())
         .chain(SOURCE_COLUMNS.iter())
+        .chain(NAME_COLUMNS.iter())
         .map(|c| input.file_column(c).to_string())
         .collect();
     // The file's checksum is computed while polars reads it.
@@ -902,6 +913,9 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
     let mut side = Vec::with_capacity(want("loc_side_ft"));
     let mut height = Vec::with_capacity(want("loc_height_ft"));
     let mut team = Vec::with_capacity(want("team"));
+    // A pitcher's shown name (`pitcher_name`), per kept row.
+    let name_col = col("pitcher_name");
+    let mut shown: Vec<Option<u32>> = Vec::with_capacity(if name_col.is_some() { cap } else { 0 });
     // Rows are parsed in parallel a chunk at a time (memory stays bounded),
     // then taken in file order: the result does not depend on threads.
     const CHUNK: usize = 1 << 15;
@@ -1087,6 +1101,9 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
                     if team.capacity() > 0 {
                         team.push(p.team.map(|t| intern(&mut team_ids, code(22, i), |tab| tab.get(t), &mut teams)));
                     }
+                    if let Some(c) = name_col {
+                        shown.push(c.code(i).filter(|&k| !parse::missing_marker(&c.dict[k])).map(|k| k as u32));
+                    }
                 }
                 Parsed::Breach((column, value, reason)) => rejected.push(Rejected {
                     line: table.location(i),
@@ -1100,7 +1117,26 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
         }
     }
 
-    finish_names(&mut log, &mut team, [games, pitchers, batters, types, teams]);
+    // Pitchers shown by name: the interner's names become the labels
+    // (sorted as such), their ids kept beside them.
+    let pitcher_ids = match name_col {
+        Some(c) => {
+            let named = names::tally(&log.pitcher, pitchers.names.len(), &shown, &c.dict);
+            let ids = std::mem::take(&mut pitchers.names);
+            pitchers.names = names::labels(&ids, &named.name);
+            log.pitcher_naming = names::note(&ids, &named, &pitchers.names);
+            Some(ids)
+        }
+        None => None,
+    };
+    let pitcher_map = finish_names(&mut log, &mut team, [games, pitchers, batters, types, teams]);
+    if let (Some(ids), true) = (pitcher_ids, log.pitcher_naming.is_some()) {
+        let mut sorted = vec![String::new(); ids.len()];
+        for (old, id) in ids.into_iter().enumerate() {
+            sorted[pitcher_map[old] as usize] = id;
+        }
+        log.pitcher_ids = sorted;
+    }
 
     let optional = Optional { pa, pitch_no, score, result, speed, side, height, team };
     let repeats = order_rows(&mut log, optional, |c| has(c), table.format.locator());
@@ -1396,8 +1432,9 @@ struct Optional {
 }
 
 /// The names of games, pitchers, batters, pitch types and clubs in their
-/// sorted order, and every row's ids moved to it.
-fn finish_names(log: &mut PitchLog, team: &mut [Option<u32>], interners: [Interner; 5]) {
+/// sorted order, and every row's ids moved to it; returns the pitchers'
+/// map from first-seen to sorted index.
+fn finish_names(log: &mut PitchLog, team: &mut [Option<u32>], interners: [Interner; 5]) -> Vec<u32> {
     let [games, pitchers, batters, types, teams] = interners;
     let (game_names, game_map) = games.finish();
     let (pitcher_names, pitcher_map) = pitchers.finish();
@@ -1414,6 +1451,7 @@ fn finish_names(log: &mut PitchLog, team: &mut [Option<u32>], interners: [Intern
     log.batters = batter_names;
     log.pitch_types = type_names;
     log.teams = team_names;
+    pitcher_map
 }
 
 /// Order the rows (CONTRACT §1): by date, game, pa, pitch_no. With both

@@ -68,13 +68,13 @@ impl Table {
 
 /// Write tells.csv in chunks of rows, so a league's hundreds of thousands
 /// of tests never sit in memory as one table.
-pub fn write_tells_csv(tests: &[TellTest], w: &mut impl std::io::Write) -> Result<()> {
+pub fn write_tells_csv(tests: &[TellTest], ids: &PitcherIds, w: &mut impl std::io::Write) -> Result<()> {
     const CHUNK: usize = 50_000;
     if tests.is_empty() {
-        return w.write_all(&tells_csv(tests)?).map_err(|e| Error::Io(format!("tells.csv: {e}")));
+        return w.write_all(&tells_csv(tests, ids)?).map_err(|e| Error::Io(format!("tells.csv: {e}")));
     }
     for (i, chunk) in tests.chunks(CHUNK).enumerate() {
-        let bytes = tells_csv(chunk)?;
+        let bytes = tells_csv(chunk, ids)?;
         let body = if i == 0 {
             &bytes[..]
         } else {
@@ -87,7 +87,27 @@ pub fn write_tells_csv(tests: &[TellTest], w: &mut impl std::io::Write) -> Resul
     Ok(())
 }
 
-pub fn tells_csv(tests: &[TellTest]) -> Result<Vec<u8>> {
+/// Each pitcher's id by his shown name: empty unless the log names its
+/// pitchers in `pitcher_name` (then the files carry a `pitcher_id` column
+/// after `pitcher`).
+pub type PitcherIds = std::collections::BTreeMap<String, String>;
+
+/// The ids of a run's pitchers shown by name.
+pub fn pitcher_ids(summary: &Summary) -> PitcherIds {
+    summary.pitchers.iter().filter_map(|p| Some((p.pitcher.clone(), p.pitcher_id.clone()?))).collect()
+}
+
+impl Table {
+    /// The `pitcher_id` column of rows of `pitchers`, when there are ids.
+    pub fn ids<'a>(self, ids: &PitcherIds, pitchers: impl Iterator<Item = &'a str>) -> Self {
+        if ids.is_empty() {
+            return self;
+        }
+        self.str("pitcher_id", pitchers.map(|p| ids.get(p).cloned().unwrap_or_default()).collect())
+    }
+}
+
+pub fn tells_csv(tests: &[TellTest], ids: &PitcherIds) -> Result<Vec<u8>> {
     let f = |i: usize| -> (Vec<Option<String>>, Vec<Option<String>>) {
         tests
             .iter()
@@ -101,6 +121,7 @@ pub fn tells_csv(tests: &[TellTest]) -> Result<Vec<u8>> {
     let (f2, l2) = f(1);
     Table::default()
         .str("pitcher", tests.iter().map(|t| t.pitcher.clone()).collect())
+        .ids(ids, tests.iter().map(|t| t.pitcher.as_str()))
         .str("situation", tests.iter().map(|t| situation_label(&t.situation)).collect())
         .opt_str("factor_1", f1)
         .opt_str("level_1", l1)
@@ -151,6 +172,7 @@ pub fn counts_csv(summary: &Summary) -> Result<Vec<u8>> {
         .collect();
     Table::default()
         .str("pitcher", rows.iter().map(|r| r.0.to_string()).collect())
+        .ids(&pitcher_ids(summary), rows.iter().map(|r| r.0))
         .str("count", rows.iter().map(|r| r.1.count.clone()).collect())
         .u64("n", rows.iter().map(|r| r.1.n as u64).collect())
         .f64("prior_accuracy", rows.iter().map(|r| r.1.prior_accuracy).collect())
@@ -172,7 +194,7 @@ pub fn counts_csv(summary: &Summary) -> Result<Vec<u8>> {
 /// One row per audited pitcher, pitch type and situation level (`all`
 /// first): pitches, swings and each outcome rate with its Wilson 95%
 /// interval.
-pub fn outcomes_csv(rows: &[crate::outcomes::SituationOutcomes]) -> Result<Vec<u8>> {
+pub fn outcomes_csv(rows: &[crate::outcomes::SituationOutcomes], ids: &PitcherIds) -> Result<Vec<u8>> {
     let rate = |t: Table, name: &str, f: &dyn Fn(&crate::outcomes::SituationOutcomes) -> crate::outcomes::Rate| {
         t.f64(name, rows.iter().map(|r| f(r).rate).collect())
             .f64(&format!("{name}_low_95"), rows.iter().map(|r| f(r).low).collect())
@@ -180,6 +202,7 @@ pub fn outcomes_csv(rows: &[crate::outcomes::SituationOutcomes]) -> Result<Vec<u
     };
     let t = Table::default()
         .str("pitcher", rows.iter().map(|r| r.pitcher.clone()).collect())
+        .ids(ids, rows.iter().map(|r| r.pitcher.as_str()))
         .str("pitch_type", rows.iter().map(|r| r.pitch_type.clone()).collect())
         .str("factor", rows.iter().map(|r| r.factor.clone()).collect())
         .str("level", rows.iter().map(|r| r.level.clone()).collect())

@@ -338,10 +338,11 @@ impl Exporter<Audit> for Json {
 
 impl Exporter<Audit> for Csv {
     fn export(&self, audit: &Audit, sink: &mut dyn Sink) -> Result<()> {
-        sink.put_with("tells.csv", &mut |mut w| csv::write_tells_csv(&audit.tests, &mut w))?;
+        let ids = csv::pitcher_ids(&audit.summary);
+        sink.put_with("tells.csv", &mut |mut w| csv::write_tells_csv(&audit.tests, &ids, &mut w))?;
         sink.put("counts.csv", &csv::counts_csv(&audit.summary)?)?;
         if !audit.outcomes.is_empty() {
-            sink.put("outcomes.csv", &csv::outcomes_csv(&audit.outcomes)?)?;
+            sink.put("outcomes.csv", &csv::outcomes_csv(&audit.outcomes, &ids)?)?;
         }
         if !audit.set_aside.is_empty() {
             sink.put("set_aside.csv", &csv::rejected_csv(&audit.set_aside)?)?;
