@@ -251,7 +251,7 @@ fn a_bad_config_value_exits_2() {
     let cases = [
         ("fdr.toml", "[audit]\nfdr = 1.5\n"),
         ("key.toml", "[audit]\nno_such_key = 1\n"),
-        ("column.toml", "[columns]\npitcher_name = \"Pitcher Name\"\n"),
+        ("column.toml", "[columns]\ncatcher = \"Catcher Name\"\n"),
         ("syntax.toml", "[columns\n"),
     ];
     for (name, text) in cases {

@@ -271,11 +271,11 @@ team = "Club"
 
 #[test]
 fn a_columns_key_that_is_not_a_contract_column_is_a_usage_error() {
-    let cfg: ConfigFile = toml::from_str("[columns]\npitcher_name = \"Pitcher Name\"\n").unwrap();
+    let cfg: ConfigFile = toml::from_str("[columns]\ncatcher = \"Catcher Name\"\n").unwrap();
     let e = Settings::resolve(&cfg, &Overrides::default()).unwrap_err();
     assert!(matches!(e, Error::Usage(_)), "{e:?}");
     assert_eq!(e.exit_code(), 2);
-    assert!(e.to_string().contains("pitcher_name"), "{e}");
+    assert!(e.to_string().contains("catcher"), "{e}");
 }
 
 #[test]

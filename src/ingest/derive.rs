@@ -54,11 +54,8 @@ enum Half {
 }
 
 fn half_of(v: &str) -> Option<Half> {
-    match v.trim().to_ascii_lowercase().as_str() {
-        "top" | "t" | "top half" => Some(Half::Top),
-        "bottom" | "bot" | "b" | "btm" | "bottom half" => Some(Half::Bottom),
-        _ => None,
-    }
+    let word: String = v.to_lowercase().split_whitespace().collect();
+    parse::half_word(&word).map(|top| if top { Half::Top } else { Half::Bottom })
 }
 
 /// A new column's dictionary, its values in the order first met.

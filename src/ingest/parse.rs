@@ -203,13 +203,22 @@ pub fn inning_and_half(v: &str) -> Option<(u32, bool)> {
     let lower = v.trim().to_lowercase();
     let digits: String = lower.chars().filter(char::is_ascii_digit).collect();
     let rest: String = lower.chars().filter(|c| !c.is_ascii_digit() && !c.is_whitespace() && *c != '.' && *c != '-').collect();
-    let top = match rest.as_str() {
-        "top" | "t" | "tp" | "▲" | "↑" => true,
-        "bot" | "bottom" | "b" | "btm" | "▼" | "↓" => false,
-        _ => return None,
-    };
+    let top = half_word(&rest)?;
     let n: u32 = digits.parse().ok()?;
     (1..=99).contains(&n).then_some((n, top))
+}
+
+/// An inning's half written as a word, lower case and without spaces:
+/// `Some(true)` for the top (`top`, `t`, `tp`, `tophalf`, `▲`, `↑`),
+/// `Some(false)` for the bottom (`bottom`, `bot`, `b`, `btm`,
+/// `bottomhalf`, `▼`, `↓`). The one list for a `half` column
+/// (`derive`) and an inning written with its half ([`inning_and_half`]).
+pub fn half_word(w: &str) -> Option<bool> {
+    match w {
+        "top" | "t" | "tp" | "tophalf" | "▲" | "↑" => Some(true),
+        "bottom" | "bot" | "b" | "btm" | "bottomhalf" | "▼" | "↓" => Some(false),
+        _ => None,
+    }
 }
 
 /// Whether a value is a missing-value marker: `NA`, `N/A`, `#N/A`,
@@ -517,6 +526,21 @@ mod tests {
         }
         assert!(parse_cell(1, "-001-01-01").is_err());
         assert!(parse_cell(1, "1800-01-01").is_ok() && parse_cell(1, "3000-12-31").is_ok());
+    }
+
+    /// One list of half spellings: a half column's word and an inning
+    /// written with its half read the same, in any case and spacing.
+    #[test]
+    fn a_half_reads_the_same_alone_and_beside_its_inning() {
+        for (w, top) in [("Top", true), ("T", true), ("top half", true), ("▲", true), ("Bot", false), ("BOTTOM", false), ("btm", false), ("bottom half", false), ("▼", false)] {
+            let word: String = w.to_lowercase().split_whitespace().collect();
+            assert_eq!(half_word(&word), Some(top), "{w}");
+            assert_eq!(inning_and_half(&format!("{w} 7")), Some((7, top)), "{w}");
+        }
+        for w in ["middle", "1", "", "topbottom"] {
+            assert_eq!(half_word(w), None, "{w}");
+            assert_eq!(inning_and_half(&format!("{w} 7")), None, "{w}");
+        }
     }
 
     /// An inning written with its half is refused with the fix named (one
