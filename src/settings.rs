@@ -456,7 +456,7 @@ impl InputParams {
         for (contract, file) in &cfg.columns {
             if !known_column(contract) {
                 return Err(Error::Usage(format!(
-                    "[columns] {contract} = \"{file}\": {contract} is not a contract column; the left side must be one of the names in CONTRACT §1 (e.g. pitcher = \"PitcherName\") or one the README lists for columns written another way (half, home_score, away_score, home_team, away_team, count)"
+                    "[columns] {contract} = \"{file}\": {contract} is not a contract column; the left side must be one of the names in CONTRACT §1 (e.g. pitcher = \"PitcherName\") or one the README lists for columns written another way (half, home_score, away_score, home_team, away_team, count) or for showing pitchers by name (pitcher_name)"
                 )));
             }
         }
