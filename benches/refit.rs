@@ -10,6 +10,7 @@
 //!
 //!     cargo bench --bench refit
 //!     TELLSCOPE_REFIT_LOG=/var/tmp/tellscope-bench/realistic-league.csv cargo bench --bench refit
+//!     TELLSCOPE_REFIT_ONLY=where cargo bench --bench refit   # one kind (whole, beyond or where), for a profiler
 
 use std::path::{Path, PathBuf};
 use std::time::Instant;
@@ -24,6 +25,8 @@ const ROUNDS: usize = 5;
 
 fn main() {
     let custom = std::env::var_os("TELLSCOPE_REFIT_LOG").map(PathBuf::from);
+    let only = std::env::var("TELLSCOPE_REFIT_ONLY").ok();
+    let wanted = |kind: &str| only.as_deref().is_none_or(|o| o == kind);
     let log_path = custom.clone().unwrap_or_else(|| Path::new(env!("CARGO_MANIFEST_DIR")).join("demo-data/demo-log.csv"));
     let settings = Settings::resolve(&ConfigFile::default(), &Overrides::default()).unwrap();
     let ing = tellscope::ingest::load(&log_path, &settings.input).unwrap();
@@ -46,6 +49,9 @@ fn main() {
         let plan = PitcherPlan::rolling(log, &rows, settings.audit.forward_blocks(), settings.audit.min_train_pitches(), settings.audit.min_test_pitches());
         let task = PitcherTask::build(log, &sit, &plan, p as u32, rows);
         for null in [Null::Situation, Null::BeyondSheet] {
+            if !wanted(if null == Null::Situation { "whole" } else { "beyond" }) {
+                continue;
+            }
             let mut ws = null.workspace(&task);
             let mut labels = task.labels.clone();
             let mut best = f64::INFINITY;
@@ -68,7 +74,7 @@ fn main() {
             );
         }
         // Where he throws it: every pitch type's region task refitted.
-        if let Some(regions) = tellscope::audit::location::row_regions(log) {
+        if let (true, Some(regions)) = (wanted("where"), tellscope::audit::location::row_regions(log)) {
             use tellscope::audit::location::{null_statistic, scratch, PitcherLocation};
             let loc = PitcherLocation::build(&task, &regions, &settings);
             if loc.has_figures() {
