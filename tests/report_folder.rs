@@ -244,3 +244,73 @@ fn a_large_staffs_page_inlines_the_charts_of_a_few_pitchers() {
     let charts = std::fs::read_dir(out.join("charts")).unwrap().count();
     assert!(page.matches("<svg").count() < charts / 2, "{} inline charts of {charts} files", page.matches("<svg").count());
 }
+
+/// A log keyed by pitcher id with a `pitcher_name` column: the report's
+/// files carry each pitcher's id as `pitcher_id` beside his name, the page
+/// shows the names, and every figure is the one the same log keyed by
+/// name gives (the shuffles are keyed by the name shown).
+#[test]
+fn a_log_keyed_by_id_shows_names_and_keeps_each_id() {
+    use tellscope::report::{export::report_files, Csv, Html, Json};
+    let root = scratch("pitcher-ids");
+    let plain_log = Path::new(env!("CARGO_MANIFEST_DIR")).join("tests/fixtures/plain-staff/demo-log.csv");
+    let text = std::fs::read_to_string(&plain_log).unwrap();
+    let mut lines = text.lines();
+    let head = lines.next().unwrap();
+    let at = head.split(',').position(|h| h == "pitcher").unwrap();
+    let mut names: Vec<String> = Vec::new();
+    let mut body = Vec::new();
+    for line in lines {
+        let mut c: Vec<String> = line.split(',').map(str::to_string).collect();
+        let name = c[at].clone();
+        let i = names.iter().position(|n| *n == name).unwrap_or_else(|| {
+            names.push(name.clone());
+            names.len() - 1
+        });
+        c[at] = format!("{}", 700_000 + 13 * i);
+        c.push(name);
+        body.push(c.join(","));
+    }
+    let keyed = root.join("keyed.csv");
+    std::fs::write(&keyed, format!("{head},pitcher_name\n{}\n", body.join("\n"))).unwrap();
+    let by_name = audit::run(&plain_log, &settings(), false).unwrap();
+    let by_id = audit::run(&keyed, &settings(), false).unwrap();
+    let id_of = |name: &str| format!("{}", 700_000 + 13 * names.iter().position(|n| n == name).unwrap());
+
+    // The same pitchers and figures; each id kept beside his name.
+    assert_eq!(by_id.summary.pitchers.len(), by_name.summary.pitchers.len());
+    for (a, b) in by_id.summary.pitchers.iter().zip(&by_name.summary.pitchers) {
+        assert_eq!(a.pitcher, b.pitcher);
+        assert_eq!(a.pitcher_id.as_deref(), Some(id_of(&a.pitcher).as_str()));
+        assert_eq!(b.pitcher_id, None);
+        let (mut a, b) = (serde_json::to_value(a).unwrap(), serde_json::to_value(b).unwrap());
+        a.as_object_mut().unwrap().remove("pitcher_id");
+        assert_eq!(a, b, "the same figures");
+    }
+    let files = |a: &audit::Audit| -> std::collections::BTreeMap<String, Vec<u8>> {
+        report_files(a, &[&Html, &Json, &Csv]).unwrap().into_iter().map(|f| (f.path.to_string_lossy().to_string(), f.bytes)).collect()
+    };
+    let (with_ids, plain) = (files(&by_id), files(&by_name));
+    for csv in ["tells.csv", "counts.csv"] {
+        let text = String::from_utf8(with_ids[csv].clone()).unwrap();
+        let mut rows = text.lines();
+        assert!(rows.next().unwrap().starts_with("pitcher,pitcher_id,"), "{csv}");
+        let mut n = 0;
+        for row in rows {
+            let c: Vec<&str> = row.splitn(3, ',').collect();
+            assert_eq!(c[1], id_of(c[0]), "{csv}: {row}");
+            n += 1;
+        }
+        assert!(n > 0, "{csv} has rows");
+        // Without the id column the file is the plain log's, byte for byte.
+        let dropped: Vec<String> = text.lines().map(|l| {
+            let c: Vec<&str> = l.splitn(3, ',').collect();
+            format!("{},{}", c[0], c[2])
+        }).collect();
+        assert_eq!(format!("{}\n", dropped.join("\n")), String::from_utf8(plain[csv].clone()).unwrap(), "{csv}");
+    }
+    let page = String::from_utf8(with_ids["index.html"].clone()).unwrap();
+    assert!(page.contains(&format!("{} (", names[0])), "the page shows the names");
+    assert!(page.contains("shown by `pitcher_name`"), "the note on names");
+    std::fs::remove_dir_all(&root).ok();
+}
