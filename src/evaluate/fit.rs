@@ -423,11 +423,11 @@ impl Workspace {
                     // prior it holds is the one kept since that first fit
                     // (`prior_code_tables`): only the batter prior changes.
                     t.training_table(1).copy_from_slice(bc);
-                    t.rewrite_features(prior_col0 + k..prior_col0 + 2 * k, |_, dst| prior_codes(None, bc, k, train, dst));
+                    t.rewrite_keyed_features(prior_col0 + k..prior_col0 + 2 * k, |_, dst, need| prior_codes(None, bc, k, train, dst, need));
                 } else if priors_on {
                     // The tables first: the rewrite reads present codes off them.
                     fill_training_tables(t, cc, bc, k);
-                    t.rewrite_features(prior_col0..prior_col0 + 2 * k, |_, dst| prior_codes(Some(cc), bc, k, train, dst));
+                    t.rewrite_keyed_features(prior_col0..prior_col0 + 2 * k, |_, dst, need| prior_codes(Some(cc), bc, k, train, dst, need));
                 }
                 t
             }
@@ -654,19 +654,21 @@ fn count_keyed_features(task: &PitcherTask, rows: &[u32], keys: &[u32], n_keys: 
 /// The prior features' codes of the training rows at `slots` (row,
 /// count-table place, batter-table place) into `dst`: the `k` count-prior
 /// columns when `count_codes` is given, then the `k` batter-prior columns,
-/// `slots.len()` codes each. One pass over the rows reads each row's table
-/// entries once.
-fn prior_codes(count_codes: Option<&[u8]>, batter_codes: &[u8], k: usize, slots: &[(u32, u32, u32)], dst: &mut [u8]) {
+/// `slots.len()` codes each, each column only where `need` says the
+/// learner reads it (a prior with one code on every row offers no cut).
+fn prior_codes(count_codes: Option<&[u8]>, batter_codes: &[u8], k: usize, slots: &[(u32, u32, u32)], dst: &mut [u8], need: &[bool]) {
     let n = slots.len();
-    let first_batter = if count_codes.is_some() { k } else { 0 };
-    for (i, s) in slots.iter().enumerate() {
-        if let Some(cc) = count_codes {
-            for (cls, &c) in cc[s.1 as usize..s.1 as usize + k].iter().enumerate() {
-                dst[cls * n + i] = c;
+    let tables = count_codes.map(|cc| (cc, 1usize)).into_iter().chain([(batter_codes, 2usize)]);
+    for (t, (codes, at)) in tables.enumerate() {
+        for cls in 0..k {
+            let column = t * k + cls;
+            if !need[column] {
+                continue;
             }
-        }
-        for (cls, &b) in batter_codes[s.2 as usize..s.2 as usize + k].iter().enumerate() {
-            dst[(first_batter + cls) * n + i] = b;
+            for (d, s) in dst[column * n..(column + 1) * n].iter_mut().zip(slots) {
+                let entry = if at == 1 { s.1 } else { s.2 } as usize;
+                *d = codes[entry + cls];
+            }
         }
     }
 }

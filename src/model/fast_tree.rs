@@ -331,6 +331,9 @@ pub struct FastTreeWorkspace {
     n_features: usize,
     /// `codes[f * n + i]`: feature `f` of training row `rows[i]`.
     codes: Vec<u8>,
+    /// Features whose code column was left unwritten by the last
+    /// [`Self::rewrite_keyed_features`] (one present code: no cut reads it).
+    stale: Vec<bool>,
     cuts: Vec<FeatureCuts>,
     /// Bytes per packed row (the narrow features' cut bits).
     stride: usize,
@@ -390,6 +393,7 @@ impl FastTreeWorkspace {
             rows: Vec::new(),
             n_features: 0,
             codes: Vec::new(),
+            stale: Vec::new(),
             cuts: Vec::new(),
             stride: 0,
             packed: Vec::new(),
@@ -448,6 +452,8 @@ impl FastTreeWorkspace {
         self.codes.clear();
         self.codes.resize(n * self.n_features, 0);
         gather_columns(x, rows, &mut self.codes);
+        self.stale.clear();
+        self.stale.resize(self.n_features, false);
         self.cuts.clear();
         self.cuts.resize(self.n_features, FeatureCuts::default());
         for f in 0..self.n_features {
@@ -488,16 +494,55 @@ impl FastTreeWorkspace {
         self.rescan(features);
     }
 
+    /// Like [`Self::rewrite_features`] for features that all belong to
+    /// training key groups, whose tables the caller has just written
+    /// ([`Self::training_table`]): their present codes are read off the
+    /// tables first, and `fill(rows, codes, need)` then only has to write
+    /// the columns with `need[j]` (feature `features.start + j` offers a
+    /// cut on these rows). A feature with one present code offers none, so
+    /// no sum, scan or partition reads its column, and it may be left as
+    /// it was: under shuffled labels most shrunk priors collapse to one
+    /// code, and a refit then writes a few columns instead of all of them.
+    /// The trees are the same.
+    pub fn rewrite_keyed_features(&mut self, features: std::ops::Range<usize>, fill: impl FnOnce(&[u32], &mut [u8], &[bool])) {
+        assert!(
+            features.clone().all(|f| self.keyed.iter().any(|g| g.features.contains(&f))),
+            "every rewritten feature in a key group"
+        );
+        let n = self.rows.len();
+        let relayout = self.rescan_codes(features.clone());
+        let need: Vec<bool> = features.clone().map(|f| self.cuts[f].n_cuts() > 0).collect();
+        for (f, &need) in features.clone().zip(&need) {
+            self.stale[f] = !need;
+        }
+        fill(&self.rows, &mut self.codes[features.start * n..features.end * n], &need);
+        self.repack(features, relayout);
+    }
+
     /// After features' codes changed: their present codes, and their
     /// packing (or a new layout when one outgrew its room).
     fn rescan(&mut self, features: impl Iterator<Item = usize> + Clone) {
-        let mut relayout = false;
         for f in features.clone() {
+            self.stale[f] = false;
+        }
+        let relayout = self.rescan_codes(features.clone());
+        self.repack(features, relayout);
+    }
+
+    /// The features' present codes; whether one outgrew its room.
+    fn rescan_codes(&mut self, features: impl Iterator<Item = usize>) -> bool {
+        let mut relayout = false;
+        for f in features {
             self.scan_values_or_keys(f);
             if self.cuts[f].n_cuts() > self.cuts[f].capacity {
                 relayout = true;
             }
         }
+        relayout
+    }
+
+    /// The features' packing, or a new layout of every feature.
+    fn repack(&mut self, features: impl Iterator<Item = usize>, relayout: bool) {
         if relayout {
             self.layout_and_pack();
         } else {
@@ -609,7 +654,7 @@ impl FastTreeWorkspace {
         let n = self.rows.len();
         self.keyed.iter().all(|g| {
             let w = g.features.len();
-            g.features.iter().enumerate().all(|(j, &f)| {
+            g.features.iter().enumerate().filter(|&(_, &f)| !self.stale[f]).all(|(j, &f)| {
                 self.codes[f * n..(f + 1) * n].iter().zip(&g.keys).all(|(&c, &q)| g.table[q as usize * w + j] == c)
             })
         })
@@ -628,11 +673,12 @@ impl FastTreeWorkspace {
     }
 
     /// Whether the prepared codes are those of `x` at the prepared rows
-    /// (a check for tests and debugging; it reads every code).
+    /// (a check for tests and debugging; it reads every code but those a
+    /// keyed rewrite left unwritten).
     pub fn matches(&self, x: &FeatureMatrix) -> bool {
         let n = self.rows.len();
         x.n_features() == self.n_features
-            && (0..self.n_features).all(|f| {
+            && (0..self.n_features).filter(|&f| !self.stale[f]).all(|f| {
                 let col = x.column(f);
                 self.codes[f * n..(f + 1) * n]
                     .iter()
@@ -835,12 +881,17 @@ impl FastTreeWorkspace {
 
     /// Writes a narrow feature `f`'s cut bit into the packed rows (set when
     /// the row's code is above the lowest present code). A wide feature is
-    /// counted from its code column, which needs no packing.
+    /// counted from its code column, which needs no packing. A feature with
+    /// one present code offers no cut, so its bit is never read (the split
+    /// scan reads the bits of present cuts only) and is left as it was: a
+    /// rewritten prior with one code on every training row (most of a
+    /// refit's narrow priors) costs no pass over the rows; it is packed
+    /// again once it has a cut.
     fn pack_feature(&mut self, f: usize) {
         let n = self.rows.len();
         let cuts = &self.cuts[f];
         let col = &self.codes[f * n..(f + 1) * n];
-        if cuts.capacity == 1 {
+        if cuts.capacity == 1 && cuts.n_cuts() > 0 {
             let s = self.stride;
             let lowest = cuts.values.first().copied().unwrap_or(0);
             let (byte, mask) = (cuts.bit / 8, 1u8 << (cuts.bit % 8));
@@ -904,10 +955,14 @@ impl FastTreeWorkspace {
         // Each wide feature's code column, offset by its first histogram slot.
         let mut columns = std::mem::take(&mut self.wide_columns);
         columns.clear();
+        // A wide feature with one present code offers no cut and needs no
+        // sums (its column may be stale: `rewrite_keyed_features`).
+        let cuts = &self.cuts;
         columns.extend(
             self.wide
                 .iter()
                 .zip(base)
+                .filter(|(f, _)| cuts[**f].n_cuts() > 0)
                 .filter(|(f, _)| keyed.is_none_or(|g| !g.wide.iter().any(|&(j, _)| g.features[j] == **f)))
                 .map(|(&f, &b)| (f * n, b)),
         );
@@ -1422,6 +1477,36 @@ mod keyed_tests {
                     keyed.refresh_features(&x, &[0, 1, 2, 3]);
                     assert!(keyed.keys_agree());
                     assert_eq!(plain.fit(&row_labels, 3), keyed.fit(&row_labels, 3));
+                }
+                // Keyed rewrites that write only the columns with a cut: a
+                // feature with one code on every row (each round another,
+                // its column left stale) grows the same trees; so does a
+                // wide feature falling to one code and back.
+                for round in 0..8 {
+                    for (i, t) in table.iter_mut().enumerate() {
+                        let j = i % 4;
+                        *t = if j == round % 4 || (j + round) % 3 == 0 && round > 4 { 9 } else { rng.random_range(0..6) * 3 + (round % 2) as u8 };
+                    }
+                    for j in 0..4 {
+                        let col: Vec<u8> = keys.iter().map(|&q| table[q as usize * 4 + j]).collect();
+                        x.column_mut(j).copy_from_slice(&col);
+                    }
+                    plain.refresh_features(&x, &[0, 1, 2, 3]);
+                    keyed.training_table(g).copy_from_slice(&table);
+                    let mut written = [false; 4];
+                    keyed.rewrite_keyed_features(0..4, |rows, dst, need| {
+                        for (j, col) in dst.chunks_exact_mut(rows.len()).enumerate() {
+                            if need[j] {
+                                written[j] = true;
+                                for (d, &r) in col.iter_mut().zip(rows) {
+                                    *d = table[keys[r as usize] as usize * 4 + j];
+                                }
+                            }
+                        }
+                    });
+                    assert!(!written[round % 4], "round {round}: a one-code feature is not asked for");
+                    assert!(keyed.keys_agree() && keyed.matches(&x));
+                    assert_eq!(plain.fit(&row_labels, 3), keyed.fit(&row_labels, 3), "round {round}");
                 }
             }
         }
