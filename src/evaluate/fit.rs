@@ -84,6 +84,9 @@ pub struct Workspace {
     collapsed: Vec<bool>,
     kept: Vec<usize>,
     row_slots: Vec<Vec<(u32, u32, u32)>>,
+    /// Per fold, beside `row_slots`: each row's count- and batter-table
+    /// entries (its places divided by the classes).
+    row_entries: Vec<Vec<(u32, u32)>>,
     /// Per fold: the count- and batter-table entries (part · groups + group)
     /// some row uses.
     used_entries: Vec<(Vec<u32>, Vec<u32>)>,
@@ -137,6 +140,7 @@ impl Workspace {
             collapsed: Vec::new(),
             kept: Vec::new(),
             row_slots: vec![Vec::new(); task.folds.len()],
+            row_entries: vec![Vec::new(); task.folds.len()],
             used_entries: vec![(Vec::new(), Vec::new()); task.folds.len()],
             train_labels: Vec::new(),
             flat_count: Vec::new(),
@@ -269,23 +273,26 @@ impl Workspace {
         let fold = &task.folds[fi];
         let k = task.n_classes;
         let (gc, gb) = (self.count_all.n_groups, self.batter_all.n_groups);
-        let slot = |r: u32, train: bool| {
+        let entry = |r: u32, train: bool| {
             let r = r as usize;
             let part = if train { task.oof[r] as usize } else { OOF_FOLDS };
-            (r as u32, ((part * gc + task.count[r] as usize) * k) as u32, ((part * gb + task.batter[r] as usize) * k) as u32)
+            ((part * gc + task.count[r] as usize) as u32, (part * gb + task.batter[r] as usize) as u32)
         };
+        let entries: Vec<(u32, u32)> =
+            fold.train.iter().map(|&r| entry(r, true)).chain(fold.test.iter().map(|&r| entry(r, false))).collect();
         let slots: Vec<(u32, u32, u32)> =
-            fold.train.iter().map(|&r| slot(r, true)).chain(fold.test.iter().map(|&r| slot(r, false))).collect();
-        let used = |at: &dyn Fn(&(u32, u32, u32)) -> u32, g: usize| {
+            fold.train.iter().chain(&fold.test).zip(&entries).map(|(&r, &(c, b))| (r, c * k as u32, b * k as u32)).collect();
+        let used = |at: &dyn Fn(&(u32, u32)) -> u32, g: usize| {
             let mut seen = vec![false; PARTS * g];
-            for s in &slots {
-                seen[at(s) as usize / k] = true;
+            for e in &entries {
+                seen[at(e) as usize] = true;
             }
             (0..PARTS * g).filter(|&e| seen[e]).map(|e| e as u32).collect::<Vec<u32>>()
         };
-        let used_b = if task.prior_features { used(&|s| s.2, gb) } else { Vec::new() };
-        self.used_entries[fi] = (used(&|s| s.1, gc), used_b);
+        let used_b = if task.prior_features { used(&|e| e.1, gb) } else { Vec::new() };
+        self.used_entries[fi] = (used(&|e| e.0, gc), used_b);
         self.row_slots[fi] = slots;
+        self.row_entries[fi] = entries;
     }
 
     /// The fold's training counts, per game fold (the training totals are
@@ -414,7 +421,7 @@ impl Workspace {
         }
         // The held-out rows' prior codes are read through the code tables
         // themselves (a held-out row's key is its table entry).
-        let (train, test) = self.row_slots[fi].split_at(n_train);
+        let train = &self.row_slots[fi][..n_train];
         let cells_fixed = self.cells_fixed;
         let learner = match &mut self.trees[fi] {
             Some(t) => {
@@ -436,19 +443,20 @@ impl Workspace {
                 t.prepare(&self.x, &fold.train);
                 t.prepare_scored(&self.x, &fold.test);
                 if priors_on {
-                    let keys = |at: fn(&(u32, u32, u32)) -> u32| test.iter().map(|s| at(s) / k as u32).collect::<Vec<u32>>();
-                    let g = t.set_scored_keys(prior_col0..prior_col0 + k, &keys(|s| s.1), PARTS * gc);
+                    let (train_entries, test_entries) = self.row_entries[fi].split_at(n_train);
+                    let keys = |at: fn(&(u32, u32)) -> u32| test_entries.iter().map(at).collect::<Vec<u32>>();
+                    let g = t.set_scored_keys(prior_col0..prior_col0 + k, &keys(|e| e.0), PARTS * gc);
                     debug_assert_eq!(g, 0);
-                    let g = t.set_scored_keys(prior_col0 + k..prior_col0 + 2 * k, &keys(|s| s.2), PARTS * gb);
+                    let g = t.set_scored_keys(prior_col0 + k..prior_col0 + 2 * k, &keys(|e| e.1), PARTS * gb);
                     debug_assert_eq!(g, 1);
                     // A training row's prior codes are a function of its
                     // table entries: the count prior's (and its balls and
                     // strikes) of its game-fold part and count, counted per
                     // entry at large nodes; the batter prior's of its part
                     // and batter. The trees are the same.
-                    let keys = |at: fn(&(u32, u32, u32)) -> u32| train.iter().map(|s| at(s) / k as u32).collect::<Vec<u32>>();
+                    let keys = |at: fn(&(u32, u32)) -> u32| train_entries.iter().map(at).collect::<Vec<u32>>();
                     let rows: Vec<u32> = train.iter().map(|s| s.0).collect();
-                    let count_keys = keys(|s| s.1);
+                    let count_keys = keys(|e| e.0);
                     let (features, fixed) = count_keyed_features(task, &rows, &count_keys, PARTS * gc);
                     let extra = features.len() - k;
                     let g = t.set_training_keys(features, &count_keys, PARTS * gc, true);
@@ -458,7 +466,7 @@ impl Workspace {
                             row[k..].copy_from_slice(fixed);
                         }
                     }
-                    let g = t.set_training_keys((prior_col0 + k..prior_col0 + 2 * k).collect(), &keys(|s| s.2), PARTS * gb, false);
+                    let g = t.set_training_keys((prior_col0 + k..prior_col0 + 2 * k).collect(), &keys(|e| e.1), PARTS * gb, false);
                     debug_assert_eq!(g, 1);
                     fill_training_tables(&mut t, cc, bc, k);
                 }
