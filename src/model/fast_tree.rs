@@ -1336,6 +1336,24 @@ fn gather_columns(x: &FeatureMatrix, rows: &[u32], dst: &mut [u8]) {
     assert_eq!(dst.len(), n * x.n_features(), "a column of codes per feature");
     let Some(max_row) = rows.iter().copied().max() else { return };
     assert!((max_row as usize) < x.n_rows, "rows within the matrix");
+    // Rows in runs of consecutive indices (a fold's games, a rolling
+    // fold's earlier pitches) are copied a run at a time.
+    let mut runs: Vec<(usize, usize, usize)> = Vec::new();
+    for (i, &r) in rows.iter().enumerate() {
+        match runs.last_mut() {
+            Some((start, at, len)) if *start + *len == r as usize && *at + *len == i => *len += 1,
+            _ => runs.push((r as usize, i, 1)),
+        }
+    }
+    if 8 * runs.len() <= n {
+        for (f, dst) in dst.chunks_exact_mut(n).enumerate() {
+            let col = x.column(f);
+            for &(start, at, len) in &runs {
+                dst[at..at + len].copy_from_slice(&col[start..start + len]);
+            }
+        }
+        return;
+    }
     for (f, dst) in dst.chunks_exact_mut(n).enumerate() {
         let col = x.column(f);
         for (d, &r) in dst.iter_mut().zip(rows) {
@@ -1437,6 +1455,25 @@ mod keyed_tests {
             })
             .collect();
         (x, keys, table, labels)
+    }
+
+    /// Gathering a run of consecutive rows at a time gives every code the
+    /// row-by-row gather gives, for row sets of long runs (a rolling
+    /// fold's prefix, a fold's games), short runs and single rows.
+    #[test]
+    fn gathering_runs_gives_each_rows_codes() {
+        let mut rng = ChaCha8Rng::seed_from_u64(13);
+        let (x, ..) = data(2000, 30, &mut rng);
+        let prefix: Vec<u32> = (0..1500).collect();
+        let games: Vec<u32> = (0..2000).filter(|r| (r / 90) % 5 != 2).collect();
+        let scattered: Vec<u32> = (0..2000).filter(|r| r % 3 == 0).collect();
+        for rows in [prefix, games, scattered, vec![7], Vec::new()] {
+            let mut got = vec![0u8; rows.len() * x.n_features()];
+            gather_columns(&x, &rows, &mut got);
+            let x = &x;
+            let want: Vec<u8> = (0..x.n_features()).flat_map(|f| rows.iter().map(move |&r| x.column(f)[r as usize])).collect();
+            assert_eq!(got, want, "{} rows", rows.len());
+        }
     }
 
     /// A workspace told that some features are a function of a key grows
