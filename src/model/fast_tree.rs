@@ -233,7 +233,9 @@ impl Run<'_> {
                     // at most n before the end of `codes` (checked by
                     // `accumulate`); a wide feature's histogram has a slot
                     // for every code present among the training rows
-                    // (`layout_hist`).
+                    // (`layout_hist`); only features with a cut are
+                    // summed, and their columns are current (a keyed
+                    // rewrite leaves only one-code columns stale).
                     unsafe {
                         let slot = b + *codes.get_unchecked(col + p) as usize;
                         debug_assert!(slot < hist.len());
