@@ -1985,5 +1985,15 @@ fn pitchers_keyed_by_id_are_shown_by_their_pitcher_name() {
     let note = shared.log.pitcher_naming.clone().unwrap();
     assert!(note.contains(&format!("2 pitchers are shown with their id as each one's name is shared by another pitcher ({}; {})", both[0], both[1])), "{note}");
     assert!(note.contains(&format!("{} (also \"{a} Jr\" on 1 pitch)", both[0])), "{note}");
+
+    // A name that would be refused as a name (a terminal escape) is not
+    // shown: its pitcher is shown by his id, and the note counts it.
+    let escaped = read("escaped.csv", keyed(&|_, n| if n == a { "Bad\u{1b}[31mName".to_string() } else { n.to_string() }));
+    assert!(escaped.rejected.is_empty());
+    assert!(escaped.log.pitchers.contains(&ids[0]), "{:?}", escaped.log.pitchers);
+    assert!(escaped.log.pitchers.iter().all(|p| !p.contains('\u{1b}')));
+    let note = escaped.log.pitcher_naming.clone().unwrap();
+    assert!(note.contains("1 name in `pitcher_name` was not used, holding a control character or longer than 200 characters"), "{note}");
+    assert!(note.contains(&format!("1 pitcher has no name in `pitcher_name` and is shown by id ({})", ids[0])), "{note}");
     std::fs::remove_dir_all(&dir).ok();
 }

@@ -916,6 +916,11 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
     // A pitcher's shown name (`pitcher_name`), per kept row.
     let name_col = col("pitcher_name");
     let mut shown: Vec<Option<u32>> = Vec::with_capacity(if name_col.is_some() { cap } else { 0 });
+    // Each name is checked once: a missing-value marker is no name, and
+    // so is a value that would be refused as a name (a control
+    // character, or too long), which is counted for the note.
+    let showable: Vec<bool> = name_col.map_or_else(Vec::new, |c| c.dict.iter().map(|v| parse::showable_name(v)).collect());
+    let refused_names = name_col.map_or(0, |c| c.dict.iter().zip(&showable).filter(|(v, ok)| !**ok && !parse::missing_marker(v)).count());
     // Rows are parsed in parallel a chunk at a time (memory stays bounded),
     // then taken in file order: the result does not depend on threads.
     const CHUNK: usize = 1 << 15;
@@ -1102,7 +1107,7 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
                         team.push(p.team.map(|t| intern(&mut team_ids, code(22, i), |tab| tab.get(t), &mut teams)));
                     }
                     if let Some(c) = name_col {
-                        shown.push(c.code(i).filter(|&k| !parse::missing_marker(&c.dict[k])).map(|k| k as u32));
+                        shown.push(c.code(i).filter(|&k| showable[k]).map(|k| k as u32));
                     }
                 }
                 Parsed::Breach((column, value, reason)) => rejected.push(Rejected {
@@ -1124,7 +1129,7 @@ fn validate(table: &RawTable, input: &InputParams) -> (PitchLog, Vec<Rejected>, 
             let named = names::tally(&log.pitcher, pitchers.names.len(), &shown, &c.dict);
             let ids = std::mem::take(&mut pitchers.names);
             pitchers.names = names::labels(&ids, &named.name);
-            log.pitcher_naming = names::note(&ids, &named, &pitchers.names);
+            log.pitcher_naming = names::note(&ids, &named, &pitchers.names, refused_names);
             Some(ids)
         }
         None => None,

@@ -77,7 +77,9 @@ pub fn labels(ids: &[String], names: &[Option<String>]) -> Vec<String> {
 
 /// The note on pitchers shown by name (one sentence without a final stop),
 /// `None` when every label is its id (the name column repeats `pitcher`).
-pub fn note(ids: &[String], named: &Named, labels: &[String]) -> Option<String> {
+/// `refused`: distinct names not used, each holding a control character
+/// or longer than a name may be.
+pub fn note(ids: &[String], named: &Named, labels: &[String], refused: usize) -> Option<String> {
     if labels.iter().zip(ids).all(|(l, id)| l == id) {
         return None;
     }
@@ -118,6 +120,14 @@ pub fn note(ids: &[String], named: &Named, labels: &[String]) -> Option<String> 
             count(nameless.len(), "pitcher has", "pitchers have"),
             if nameless.len() == 1 { "is" } else { "are" },
             first_three(nameless.iter().map(|s| s.to_string()))
+        ));
+    }
+    if refused > 0 {
+        parts.push(format!(
+            "{} in `pitcher_name` {} not used, holding a control character or longer than {} characters",
+            count(refused, "name", "names"),
+            if refused == 1 { "was" } else { "were" },
+            crate::ingest::parse::MAX_TEXT_CHARS
         ));
     }
     let mut text = parts.join("; ");
@@ -188,14 +198,15 @@ mod tests {
         let name = [Some(0), Some(0), Some(1), Some(0), Some(2)];
         let named = tally(&pitcher, 4, &name, &dict);
         let l = labels(&ids, &named.name);
-        let text = note(&ids, &named, &l).expect("names differ from ids");
+        let text = note(&ids, &named, &l, 1).expect("names differ from ids");
         assert!(text.starts_with("Pitchers are told apart by `pitcher`"), "{text}");
         assert!(text.contains("2 pitchers are shown with their id"), "{text}");
         assert!(text.contains("2 pitchers are shown with their id as each one's name is shared by another pitcher (Wren Alder (600001); Wren Alder (600002))"), "{text}");
         assert!(text.contains("1 pitcher is written under more than one name, each shown by the name on most of his pitches: Wren Alder (600001) (also \"W. Alder\" on 1 pitch)"), "{text}");
         assert!(text.contains("1 pitcher has no name in `pitcher_name` and is shown by id (600004)"), "{text}");
+        assert!(text.contains("1 name in `pitcher_name` was not used, holding a control character or longer than 200 characters"), "{text}");
         // A name column that repeats the ids says nothing.
         let same = Named { name: ids.iter().cloned().map(Some).collect(), others: vec![Vec::new(); 4] };
-        assert_eq!(note(&ids, &same, &labels(&ids, &same.name)), None);
+        assert_eq!(note(&ids, &same, &labels(&ids, &same.name), 0), None);
     }
 }

@@ -191,6 +191,12 @@ fn text_cell(v: &str) -> Result<Cell, String> {
     Ok(Cell::Text)
 }
 
+/// Whether a value may be shown as a name: not a missing-value marker and
+/// accepted as a name (no control character, at most [`MAX_TEXT_CHARS`]).
+pub fn showable_name(v: &str) -> bool {
+    !missing_marker(v) && text_cell(v).is_ok()
+}
+
 /// The inning number of a value that writes the half in too ("Top 3",
 /// "bot 7", "3T", "B9", "▲3"), as some play-by-play exports do.
 fn inning_with_half(v: &str) -> Option<u32> {
