@@ -74,7 +74,7 @@ impl About {
                 format!("He last pitched in {his} in this log, which runs to {latest}: his figures describe him then, and a hitter facing him now may see a different pitcher.")
             })
         });
-        let pitcher_id = log.pitcher_ids.get(task.pitcher as usize).cloned();
+        let pitcher_id = log.pitcher_id(task.pitcher);
         About { pitcher_id, throws, hand: usual, pitches_by_season, pitches_by_team, now_with, team_caution, hand_caution, gone_caution }
     }
 }

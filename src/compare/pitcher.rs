@@ -32,7 +32,7 @@ pub(super) fn short(log: &PitchLog, pitcher: u32, rows: &[Vec<u32>; 2], why: &st
     let any = rows[0].first().or(rows[1].first());
     PitcherChanges {
         pitcher: log.pitchers[pitcher as usize].clone(),
-        pitcher_id: log.pitcher_ids.get(pitcher as usize).cloned(),
+        pitcher_id: log.pitcher_id(pitcher),
         throws: any.map(|&r| log.throws[r as usize].as_str().to_string()).unwrap_or_default(),
         status: "insufficient data".into(),
         n_before: rows[0].len(),
@@ -95,7 +95,7 @@ pub(super) fn ready(
     let cautions = cautions_of(log, rows, [&fb, &fa], labels, settings);
     PitcherChanges {
         pitcher: name,
-        pitcher_id: log.pitcher_ids.get(pitcher as usize).cloned(),
+        pitcher_id: log.pitcher_id(pitcher),
         throws: log.throws[rows[0][0] as usize].as_str().to_string(),
         status: "ok".into(),
         n_before: rows[0].len(),

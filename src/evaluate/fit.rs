@@ -665,20 +665,25 @@ fn count_keyed_features(task: &PitcherTask, rows: &[u32], keys: &[u32], n_keys: 
 /// `slots.len()` codes each, each column only where `need` says the
 /// learner reads it (a prior with one code on every row offers no cut).
 fn prior_codes(count_codes: Option<&[u8]>, batter_codes: &[u8], k: usize, slots: &[(u32, u32, u32)], dst: &mut [u8], need: &[bool]) {
+    // The k columns of one table from `first` on, each row's place in it
+    // read by `place`.
     let n = slots.len();
-    let tables = count_codes.map(|cc| (cc, 1usize)).into_iter().chain([(batter_codes, 2usize)]);
-    for (t, (codes, at)) in tables.enumerate() {
-        for cls in 0..k {
-            let column = t * k + cls;
-            if !need[column] {
-                continue;
-            }
+    let mut columns = |codes: &[u8], first: usize, place: fn(&(u32, u32, u32)) -> u32| {
+        for cls in (0..k).filter(|&cls| need[first + cls]) {
+            let column = first + cls;
             for (d, s) in dst[column * n..(column + 1) * n].iter_mut().zip(slots) {
-                let entry = if at == 1 { s.1 } else { s.2 } as usize;
-                *d = codes[entry + cls];
+                *d = codes[place(s) as usize + cls];
             }
         }
-    }
+    };
+    let first_batter = match count_codes {
+        Some(cc) => {
+            columns(cc, 0, |s| s.1);
+            k
+        }
+        None => 0,
+    };
+    columns(batter_codes, first_batter, |s| s.2);
 }
 
 /// Every node's probabilities blended with the usage prior:

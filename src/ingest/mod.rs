@@ -213,6 +213,12 @@ impl PitchLog {
         self.game.is_empty()
     }
 
+    /// Pitcher `p`'s `pitcher` value when he is shown by name
+    /// (`pitcher_name`), else `None`.
+    pub fn pitcher_id(&self, p: u32) -> Option<String> {
+        self.pitcher_ids.get(p as usize).cloned()
+    }
+
     pub fn seasons(&self) -> Vec<i32> {
         let set: BTreeSet<i32> = self.season.iter().copied().collect();
         set.into_iter().collect()

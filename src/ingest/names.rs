@@ -47,32 +47,34 @@ pub fn tally(pitcher: &[u32], n_pitchers: usize, name: &[Option<u32>], dict: &[S
 /// distinct, as ids are.
 pub fn labels(ids: &[String], names: &[Option<String>]) -> Vec<String> {
     let plain: Vec<&str> = ids.iter().zip(names).map(|(id, n)| n.as_deref().unwrap_or(id)).collect();
-    let mut sorted = plain.clone();
-    sorted.sort_unstable();
-    let shared = |s: &str| sorted.partition_point(|&x| x < s) + 1 < sorted.partition_point(|&x| x <= s);
+    let shared = repeated(plain.iter().copied());
     let first: Vec<String> = ids
         .iter()
         .zip(names)
         .zip(&plain)
         .map(|((id, n), &p)| match n {
-            Some(n) if shared(p) => format!("{n} ({id})"),
+            Some(n) if shared.contains(p) => format!("{n} ({id})"),
             _ => p.to_string(),
         })
         .collect();
     // A label of "name (id)" could only meet another pitcher's id or name
     // written that way; then it reads "name (id: id)".
-    let mut sorted: Vec<&str> = first.iter().map(String::as_str).collect();
-    sorted.sort_unstable();
-    let clash = |s: &str| sorted.partition_point(|&x| x < s) + 1 < sorted.partition_point(|&x| x <= s);
+    let clash = repeated(first.iter().map(String::as_str));
     first
         .iter()
         .zip(ids)
         .zip(names)
         .map(|((l, id), n)| match n {
-            Some(n) if clash(l) && l != id => format!("{n} (id: {id})"),
+            Some(n) if clash.contains(l.as_str()) && l != id => format!("{n} (id: {id})"),
             _ => l.clone(),
         })
         .collect()
+}
+
+/// The values met more than once.
+fn repeated<'a>(values: impl Iterator<Item = &'a str>) -> std::collections::BTreeSet<&'a str> {
+    let mut seen = std::collections::BTreeSet::new();
+    values.filter(|&v| !seen.insert(v)).collect()
 }
 
 /// The note on pitchers shown by name (one sentence without a final stop),

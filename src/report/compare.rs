@@ -44,7 +44,7 @@ fn situation_text(c: &Change) -> String {
 /// `changes.csv`: one row per test of the run, significant or not.
 pub fn changes_csv(s: &CompareSummary) -> Result<Vec<u8>> {
     let rows: Vec<(&PitcherChanges, &Change)> = s.pitchers.iter().flat_map(|p| p.changes.iter().map(move |c| (p, c))).collect();
-    let ids: super::csv::PitcherIds = s.pitchers.iter().filter_map(|p| Some((p.pitcher.clone(), p.pitcher_id.clone()?))).collect();
+    let ids = super::csv::pitcher_ids(s.pitchers.iter().map(|p| (p.pitcher.as_str(), p.pitcher_id.as_deref())));
     Table::default()
         .str("pitcher", rows.iter().map(|(p, _)| p.pitcher.clone()).collect())
         .ids(&ids, rows.iter().map(|(p, _)| p.pitcher.as_str()))

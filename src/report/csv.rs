@@ -92,9 +92,10 @@ pub fn write_tells_csv(tests: &[TellTest], ids: &PitcherIds, w: &mut impl std::i
 /// after `pitcher`).
 pub type PitcherIds = std::collections::BTreeMap<String, String>;
 
-/// The ids of a run's pitchers shown by name.
-pub fn pitcher_ids(summary: &Summary) -> PitcherIds {
-    summary.pitchers.iter().filter_map(|p| Some((p.pitcher.clone(), p.pitcher_id.clone()?))).collect()
+/// The ids of a run's pitchers shown by name, from each pitcher's shown
+/// name and id (an audit's or a comparison's summaries).
+pub fn pitcher_ids<'a>(pitchers: impl IntoIterator<Item = (&'a str, Option<&'a str>)>) -> PitcherIds {
+    pitchers.into_iter().filter_map(|(shown, id)| Some((shown.to_string(), id?.to_string()))).collect()
 }
 
 impl Table {
@@ -164,7 +165,7 @@ pub fn tells_csv(tests: &[TellTest], ids: &PitcherIds) -> Result<Vec<u8>> {
         .to_csv(tests.len())
 }
 
-pub fn counts_csv(summary: &Summary) -> Result<Vec<u8>> {
+pub fn counts_csv(summary: &Summary, ids: &PitcherIds) -> Result<Vec<u8>> {
     let rows: Vec<(&str, &crate::audit::summary::CountSummary)> = summary
         .pitchers
         .iter()
@@ -172,7 +173,7 @@ pub fn counts_csv(summary: &Summary) -> Result<Vec<u8>> {
         .collect();
     Table::default()
         .str("pitcher", rows.iter().map(|r| r.0.to_string()).collect())
-        .ids(&pitcher_ids(summary), rows.iter().map(|r| r.0))
+        .ids(ids, rows.iter().map(|r| r.0))
         .str("count", rows.iter().map(|r| r.1.count.clone()).collect())
         .u64("n", rows.iter().map(|r| r.1.n as u64).collect())
         .f64("prior_accuracy", rows.iter().map(|r| r.1.prior_accuracy).collect())

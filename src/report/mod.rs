@@ -338,9 +338,9 @@ impl Exporter<Audit> for Json {
 
 impl Exporter<Audit> for Csv {
     fn export(&self, audit: &Audit, sink: &mut dyn Sink) -> Result<()> {
-        let ids = csv::pitcher_ids(&audit.summary);
+        let ids = csv::pitcher_ids(audit.summary.pitchers.iter().map(|p| (p.pitcher.as_str(), p.pitcher_id.as_deref())));
         sink.put_with("tells.csv", &mut |mut w| csv::write_tells_csv(&audit.tests, &ids, &mut w))?;
-        sink.put("counts.csv", &csv::counts_csv(&audit.summary)?)?;
+        sink.put("counts.csv", &csv::counts_csv(&audit.summary, &ids)?)?;
         if !audit.outcomes.is_empty() {
             sink.put("outcomes.csv", &csv::outcomes_csv(&audit.outcomes, &ids)?)?;
         }
