@@ -8,11 +8,14 @@
 //! - **sheet** tells (situations of count and batter side only: what every
 //!   opponent charts): a one-sided Fisher exact test (hypergeometric tail)
 //!   of his share there against his share elsewhere;
-//! - **beyond** tells (any other situation): a one-sided
-//!   Cochran–Mantel–Haenszel test stratified by game × count × batter side,
+//! - **beyond** tells (any other situation): a one-sided stratified test
+//!   with each game a stratum and each pitch weighted by his sheet's odds of
+//!   the type in its count and batter side (`significance::cmh::OffsetStratum`),
 //!   so the tell must add to what his sheet already predicts for those very
 //!   pitches (`expected_share`) and cannot be an outing's own mix (a game's
-//!   pitches are compared only with each other).
+//!   pitches are compared only with each other). A situation that hardly
+//!   changes within an outing (the score or the inning for a reliever) has
+//!   little to compare within a game, so such a tell must be strong to pass.
 //!
 //! Each layer has its own false-discovery control (see `control_fdr`).
 
@@ -492,9 +495,10 @@ fn staff_share(staff: &[u32], staff_n: &[u32], n_keys: usize, n_types: usize, te
 }
 
 /// A beyond tell's tests for one pitcher and one situation definition: the
-/// one-sided Cochran–Mantel–Haenszel test over his discovery pitches
-/// stratified by game × count × batter side (`PitcherTask::beyond_strata`;
-/// a game's pitches lie wholly on the discovery or the held-out side).
+/// one-sided stratified test over his discovery pitches, game by game, each
+/// pitch weighted by his sheet's odds of the type in its count and side
+/// (`BeyondTallies`; a game's pitches lie wholly on the discovery or the
+/// held-out side).
 #[allow(clippy::too_many_arguments)]
 fn beyond_tests(
     labels: &Labels,
@@ -583,7 +587,11 @@ fn beyond_tests(
 }
 
 /// A pitcher's beyond-the-sheet tallies per situation key and type: the
-/// discovery rows' CMH sums over game × count × side strata, counts and
+/// discovery rows' test sums over games (each pitch's null chance from his
+/// discovery sheet's share of the type in its count and side, and the
+/// game's own count of the type: `cmh::OffsetStratum`; a reliever's outing
+/// of 15 pitches spread over 24 count × side cells, as strata of their own,
+/// left most cells with a single pitch, which carries nothing), counts and
 /// sheet-expected counts, and the held-out rows' counts and sheet-expected
 /// counts (each side's sheet from its own rows).
 struct BeyondTallies {
@@ -632,38 +640,45 @@ impl BeyondTallies {
         let mut held_expected = vec![0.0f64; n_keys * kc];
         let mut total = vec![0u32; kc];
         let mut held_total = vec![0u32; kc];
-        let mut in_stratum: Vec<(usize, usize)> = Vec::new();
-        for stratum in &task.beyond_strata {
-            let first = stratum[0] as usize;
-            if is_held[first] {
-                for &i in stratum {
-                    let i = i as usize;
-                    let y = task.labels[i] as usize;
-                    held_total[y] += 1;
-                    if let Some(k) = key(cols, task.rows[i] as usize) {
-                        held[k * kc + y] += 1;
-                        held_n[k] += 1;
-                        for c in 0..kc {
-                            held_expected[k * kc + c] += sheet_h[task.cell[i] as usize * kc + c];
-                        }
-                    }
+        for &i in &task.held_out {
+            let i = i as usize;
+            let y = task.labels[i] as usize;
+            held_total[y] += 1;
+            if let Some(k) = key(cols, task.rows[i] as usize) {
+                held[k * kc + y] += 1;
+                held_n[k] += 1;
+                for c in 0..kc {
+                    held_expected[k * kc + c] += sheet_h[task.cell[i] as usize * kc + c];
                 }
-                continue;
             }
-            if !is_disc[first] {
-                continue;
+        }
+        // The discovery rows game by game: each game is a stratum, each
+        // pitch weighted by his sheet's odds of the type in its count and
+        // side (`cmh::OffsetStratum`).
+        let mut by_game: Vec<(u32, u32)> = task.discovery.iter().map(|&i| (task.game[i as usize], i)).collect();
+        by_game.sort_unstable();
+        let mut fitted = vec![crate::significance::cmh::OffsetStratum::default(); kc];
+        let (mut shares, mut is_type): (Vec<f64>, Vec<bool>) = (Vec::new(), Vec::new());
+        let mut in_game: Vec<(usize, usize)> = Vec::new();
+        let mut members: Vec<usize> = Vec::new();
+        for game in by_game.chunk_by(|a, b| a.0 == b.0) {
+            let rows: Vec<usize> = game.iter().map(|&(_, i)| i as usize).collect();
+            for (c, fit) in fitted.iter_mut().enumerate() {
+                shares.clear();
+                is_type.clear();
+                for &i in &rows {
+                    shares.push(sheet_d[task.cell[i] as usize * kc + c]);
+                    is_type.push(task.labels[i] as usize == c);
+                }
+                fit.fit(&shares, &is_type);
             }
-            // One stratum: its pitches by type, and by key and type.
-            let big_n = stratum.len() as u64;
-            let mut big_k = vec![0u64; kc];
-            in_stratum.clear();
-            for &i in stratum {
-                let i = i as usize;
+            // The game's pitches by key (their place in the game kept).
+            in_game.clear();
+            for (at, &i) in rows.iter().enumerate() {
                 let y = task.labels[i] as usize;
-                big_k[y] += 1;
                 total[y] += 1;
                 if let Some(k) = key(cols, task.rows[i] as usize) {
-                    in_stratum.push((k, y));
+                    in_game.push((k, at));
                     disc[k * kc + y] += 1;
                     disc_n[k] += 1;
                     for c in 0..kc {
@@ -671,21 +686,15 @@ impl BeyondTallies {
                     }
                 }
             }
-            in_stratum.sort_unstable();
-            let mut a = 0;
-            while a < in_stratum.len() {
-                let k = in_stratum[a].0;
-                let mut b = a;
-                let mut x = vec![0u64; kc];
-                while b < in_stratum.len() && in_stratum[b].0 == k {
-                    x[in_stratum[b].1] += 1;
-                    b += 1;
+            in_game.sort_unstable();
+            for run in in_game.chunk_by(|a, b| a.0 == b.0) {
+                let k = run[0].0;
+                members.clear();
+                members.extend(run.iter().map(|&(_, at)| at));
+                for (c, fit) in fitted.iter().enumerate() {
+                    let x = members.iter().filter(|&&at| task.labels[rows[at]] as usize == c).count() as u64;
+                    cmh[k * kc + c].add_offset(x, &members, fit);
                 }
-                let n_in = (b - a) as u64;
-                for c in 0..kc {
-                    cmh[k * kc + c].add(x[c], n_in, big_k[c], big_n);
-                }
-                a = b;
             }
         }
         BeyondTallies { cmh, disc, disc_n, expected, held, held_n, held_expected, total, held_total }

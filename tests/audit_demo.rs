@@ -81,10 +81,11 @@ fn every_planted_tell_is_flagged() {
     assert!(has_tell("Jory Kestenbaum", Bases, "1--", "sinker", More));
     assert!(has_tell("Anselm Drury", PrevPitch, "curveball", "fastball", More));
     // Planted on two outs with an opposite-side batter: the side half is a
-    // sheet tell. The two-outs half is tested beyond the sheet, within each
-    // game's own count and side cells; a reliever's outing of about 16
-    // pitches leaves most such cells with one pitch, so on this log (224
-    // pitches in the situation) that test is weaker and not required.
+    // sheet tell. The two-outs half is tested beyond the sheet, each game's
+    // pitches only against each other; a reliever's outing of about 16
+    // pitches holds few with two outs against an opposite-side batter, so
+    // on this log (224 pitches in the situation) that test is weaker and
+    // not required.
     assert!(has_tell("Bram Sotheby", Platoon, "opposite", "splitter", More));
     // The 2025 first-pitch fastball, found in training and seen not to hold.
     assert!(has_tell("Mateo Lindqvist", Count, "0-0", "fastball", More));

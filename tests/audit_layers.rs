@@ -207,6 +207,32 @@ fn a_staff_shuffled_within_count_and_side_has_nothing_beyond_its_sheet() {
     assert_uniform("beyond-the-sheet", &p);
 }
 
+/// Power where relievers need it: the demo club drawn afresh (seeds no
+/// report was tuned on), Kestenbaum's planted sinker with a runner on first
+/// (75% against about 50% from his count and side habits, some 250 pitches
+/// a season) is flagged beyond the sheet on every draw. His outings are 15
+/// pitches: compared only within game × count × side cells, as before the
+/// sheet's odds entered as weights, the tell's one-sided p sat near 1e-4
+/// and he had no beyond tell on any of these four seeds (measured with
+/// the build before the change); within the game, weighted by his sheet,
+/// its z is near 8 where the bar asks about 4.5, so a miss on any of four
+/// draws is far below 1%.
+#[test]
+fn a_relievers_runner_tell_is_found_on_fresh_draws() {
+    let text = std::fs::read_to_string(root().join("demo-data/scenario.toml")).unwrap();
+    let scenario = Scenario::from_toml_str(&text).unwrap();
+    for seed in [7u64, 11, 99, 2027] {
+        let path = write(&simulate(&scenario, seed), "fresh", seed);
+        let a = audit::run(&path, &seeded(19, Some(seed)), false).unwrap();
+        std::fs::remove_file(&path).ok();
+        let p = a.summary.pitchers.iter().find(|p| p.pitcher == "Jory Kestenbaum").unwrap();
+        let found = beyond_tells(p).iter().any(|t| {
+            t.situation.get(&Factor::Bases).map(String::as_str) == Some("1--") && t.pitch_type == "sinker" && t.direction == Direction::More
+        });
+        assert!(found, "seed {seed}: no beyond tell for his sinker with a runner on first: {:?}", beyond_tells(p).iter().map(|t| (&t.situation, &t.pitch_type)).collect::<Vec<_>>());
+    }
+}
+
 /// Outing wobble: a staff whose outings each draw their own mix around his
 /// usual one, with no situational habit (tests/fixtures/scenarios/
 /// wobble_staff.toml), flags no beyond tell in at least 95% of runs.

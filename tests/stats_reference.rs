@@ -769,6 +769,41 @@ fn cmh_matches_statsmodels() {
     }
 }
 
+/// The offset form of the stratified test (a game's pitches weighted by his
+/// sheet's odds) against statsmodels (fixture offset_cmh.json, made by
+/// make_offset_cmh_fixture.py): each stratum's null chances against the
+/// fitted values of a binomial GLM with one intercept per stratum and the
+/// sheet's log-odds as offset, and the score statistic for the situation
+/// against `GLMResults.score_test` (which has no finite-stratum factor, so
+/// each stratum's variance is taken without it here).
+#[test]
+fn offset_stratum_matches_statsmodels_glm_score_test() {
+    use tellscope::significance::cmh::{Cmh, OffsetStratum};
+    let f = fixture("offset_cmh.json");
+    let cases = f["cases"].as_array().unwrap();
+    assert!(cases.len() >= 20);
+    let mut fit = OffsetStratum::default();
+    for (i, c) in cases.iter().enumerate() {
+        let (mut u, mut v) = (0.0, 0.0);
+        for (j, s) in c["strata"].as_array().unwrap().iter().enumerate() {
+            let share: Vec<f64> = s["share"].as_array().unwrap().iter().map(num).collect();
+            let is_type: Vec<bool> = s["is_type"].as_array().unwrap().iter().map(|b| b.as_bool().unwrap()).collect();
+            let inside: Vec<bool> = s["in_situation"].as_array().unwrap().iter().map(|b| b.as_bool().unwrap()).collect();
+            fit.fit(&share, &is_type);
+            for (at, want) in s["fitted"].as_array().unwrap().iter().enumerate() {
+                close(fit.p[at], num(want), 1e-8, 1e-12, &format!("case {i} stratum {j} pitch {at} chance"));
+            }
+            let members: Vec<usize> = (0..share.len()).filter(|&at| inside[at]).collect();
+            let x = members.iter().filter(|&&at| is_type[at]).count() as u64;
+            let mut t = Cmh::default();
+            t.add_offset(x, &members, &fit);
+            u += t.x - t.expected;
+            v += t.variance / fit.finite;
+        }
+        close(u * u / v, num(&c["score_statistic"]), 1e-7, 1e-10, &format!("case {i} score statistic"));
+    }
+}
+
 /// The published worked example of R's `mantelhaen.test` documentation
 /// (penicillin and rabbits, Rabbits data; from memory, and reproduced by
 /// statsmodels 0.15.0): Mantel-Haenszel X-squared = 3.9286, p = 0.04747.
