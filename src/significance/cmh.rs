@@ -156,12 +156,16 @@ impl OffsetStratum {
             }
             return;
         }
-        let offsets: Vec<f64> = expected.iter().filter(|&&e| free(e)).map(|&e| (e / (1.0 - e)).ln()).collect();
-        let alpha = stratum_level(&offsets, k as f64);
+        // Each free pitch's odds e/(1 − e); a chance is A·r/(1 + A·r) for
+        // the stratum's factor A = exp(α), so no logarithm or exponential is
+        // taken per pitch.
+        let odds: Vec<f64> = expected.iter().filter(|&&e| free(e)).map(|&e| e / (1.0 - e)).collect();
+        let a = stratum_factor(&odds, k as f64);
         let mut info = 0.0;
         for (p, &e) in self.p.iter_mut().zip(expected) {
             if free(e) {
-                let q = expit(alpha + (e / (1.0 - e)).ln());
+                let ar = a * (e / (1.0 - e));
+                let q = ar / (1.0 + ar);
                 *p = q;
                 info += q * (1.0 - q);
             }
@@ -172,34 +176,27 @@ impl OffsetStratum {
     }
 }
 
-fn expit(z: f64) -> f64 {
-    if z >= 0.0 {
-        1.0 / (1.0 + (-z).exp())
-    } else {
-        let e = z.exp();
-        e / (1.0 + e)
-    }
-}
-
-/// The α with Σ expit(α + o_i) = k (0 < k < n): Newton's method kept inside
-/// a bracket that bisection narrows, to a relative tolerance of 1e-12.
-fn stratum_level(offsets: &[f64], k: f64) -> f64 {
+/// The factor A = exp(α) with Σ A·r_i/(1 + A·r_i) = k (0 < k < n) for odds
+/// r_i: Newton's method on α kept inside a bracket that bisection narrows,
+/// to a relative tolerance of 1e-12.
+fn stratum_factor(odds: &[f64], k: f64) -> f64 {
     let f = |a: f64| -> (f64, f64) {
+        let big = a.exp();
         let (mut s, mut d) = (0.0, 0.0);
-        for &o in offsets {
-            let q = expit(a + o);
+        for &r in odds {
+            let ar = big * r;
+            let q = ar / (1.0 + ar);
             s += q;
             d += q * (1.0 - q);
         }
         (s - k, d)
     };
-    let (lo_o, hi_o) = offsets.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), &o| (l.min(o), h.max(o)));
-    let n = offsets.len() as f64;
+    let (lo_r, hi_r) = odds.iter().fold((f64::INFINITY, f64::NEG_INFINITY), |(l, h), &r| (l.min(r), h.max(r)));
+    let n = odds.len() as f64;
     // Every chance below k/n at the low end, above it at the high end.
-    let target = k / n;
-    let logit = (target / (1.0 - target)).ln();
-    let (mut lo, mut hi) = (logit - hi_o - 1.0, logit - lo_o + 1.0);
-    let mut a = logit - offsets.iter().sum::<f64>() / n;
+    let target = (k / n / (1.0 - k / n)).ln();
+    let (mut lo, mut hi) = (target - hi_r.ln() - 1.0, target - lo_r.ln() + 1.0);
+    let mut a = target - (odds.iter().sum::<f64>() / n).ln();
     for _ in 0..200 {
         let (g, d) = f(a);
         if g.abs() <= 1e-12 * n {
@@ -216,7 +213,7 @@ fn stratum_level(offsets: &[f64], k: f64) -> f64 {
             break;
         }
     }
-    a
+    a.exp()
 }
 
 /// P(Z ≥ z) for a standard normal Z, accurate in the far tail (statrs'
