@@ -17,8 +17,10 @@
 //! staff's count effect applied to his pitch, as an indirect
 //! standardisation would. The test is one-sided on the whiff rate (the
 //! rate a hitter sitting on the pitch changes most); CSW and in-play rates
-//! are shown beside their expectations, standardised the same way. One
-//! Benjamini–Hochberg family holds the run's cost tests. These are
+//! are shown beside their expectations, standardised the same way. Two
+//! Benjamini–Hochberg families hold the run's cost tests: the tells of a
+//! pitch he throws more in the situation (what a hitter can sit on) and
+//! those of a pitch he throws less there. These are
 //! associations in past games: the log never says what the hitter was
 //! sitting on.
 
@@ -264,11 +266,19 @@ pub fn cost_of_tells(log: &PitchLog, sit: &Situations, tasks: &[&PitcherTask], t
         });
         tested.push(ti);
     }
-    let p: Vec<f64> = tested.iter().map(|&i| tests[i].cost.as_ref().unwrap().p_value).collect();
-    for (&i, q) in tested.iter().zip(fdr::bh_q_values(&p)) {
-        let c = tests[i].cost.as_mut().unwrap();
-        c.q_value = q;
-        c.costly = q <= fdr_level && c.whiff_rate < c.expected_whiff_rate;
+    // Two families: the pitches he leans on in a situation (what a hitter
+    // can sit on: the question the cost asks), and the pitches he avoids
+    // there (whether one fares worse when he does throw it). Pooled, the
+    // avoided pitches, half of a run's flagged tells, halved the power for
+    // the first question.
+    for direction in [crate::tells::Direction::More, crate::tells::Direction::Less] {
+        let family: Vec<usize> = tested.iter().copied().filter(|&i| tests[i].direction == direction).collect();
+        let p: Vec<f64> = family.iter().map(|&i| tests[i].cost.as_ref().unwrap().p_value).collect();
+        for (&i, q) in family.iter().zip(fdr::bh_q_values(&p)) {
+            let c = tests[i].cost.as_mut().unwrap();
+            c.q_value = q;
+            c.costly = q <= fdr_level && c.whiff_rate < c.expected_whiff_rate;
+        }
     }
 }
 

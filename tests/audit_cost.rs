@@ -169,3 +169,27 @@ fn outcome_figures_by_situation_match_a_hand_count() {
     let count_total: u64 = a.outcomes.iter().filter(|r| r.pitcher == who && r.pitch_type == pitch && r.factor == "count").map(|r| r.pitches).sum();
     assert_eq!(count_total, all);
 }
+
+/// The cost tests form two Benjamini–Hochberg families (src/outcomes.rs):
+/// tells of a pitch he throws more in the situation, and tells of one he
+/// throws less. Each tell's cost q-value is BH over its own family only
+/// (`fdr::bh_q_values`, checked against statsmodels' `multipletests` in
+/// tests/stats_reference.rs); pooled, the more-tells' q-values would be
+/// larger.
+#[test]
+fn cost_tests_are_two_families_by_direction() {
+    use tellscope::significance::fdr;
+    use tellscope::tells::Direction;
+    let a = demo();
+    // Every tell tested for cost (the flagged ones), location tells aside.
+    let every: Vec<&tellscope::tells::TellTest> = a.tests.iter().filter(|t| t.cost.is_some()).collect();
+    for direction in [Direction::More, Direction::Less] {
+        let family: Vec<&tellscope::tells::TellTest> = every.iter().copied().filter(|t| t.direction == direction).collect();
+        assert!(family.len() >= 20, "{} cost tests of {direction:?} tells", family.len());
+        let p: Vec<f64> = family.iter().map(|t| t.cost.as_ref().unwrap().p_value).collect();
+        for (t, q) in family.iter().zip(fdr::bh_q_values(&p)) {
+            let got = t.cost.as_ref().unwrap().q_value;
+            assert!((got - q).abs() <= 1e-12 * q.max(1e-300), "{} {:?} {}: q {got} against {q} in its family", t.pitcher, t.situation, t.pitch_type);
+        }
+    }
+}
