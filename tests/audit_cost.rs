@@ -75,6 +75,14 @@ fn the_tell_hitters_cash_in_is_costly_and_the_other_is_not() {
     let html = std::fs::read_to_string(dir.join("index.html")).unwrap();
     assert!(html.contains("It costs him: his fastball right after a curveball"));
     assert!(html.contains("predictable, and it still works"));
+    // A pitch he avoids is told as avoided (Drury's changeup right after a
+    // curveball: 5% where his habits give 15%), and its 7 swings there are
+    // too few to say what it costs him.
+    assert!(
+        html.contains("He throws his changeup less often right after a curveball: too few swings there to say whether it costs him (7 swings, fewer than 50)"),
+        "the avoided changeup's advice"
+    );
+    assert!(!html.contains("predictable, and it may be costing him, but the evidence is thin (q = 1.000, 7 swings)"));
     std::fs::remove_dir_all(&dir).ok();
 }
 

@@ -533,28 +533,48 @@ pub fn cost_sentence(t: &TellTest, c: &crate::tells::TellCost) -> String {
         pct(c.in_play_rate),
         pct(c.expected_in_play_rate)
     );
+    let pitch = &t.pitch_type;
+    let avoided = t.direction == crate::tells::Direction::Less;
     if c.costly {
+        let what = if avoided {
+            format!("when he does throw his {pitch} {sit}, it fares worse than it does elsewhere")
+        } else {
+            format!("his {pitch} {sit} fares worse than it does elsewhere")
+        };
+        format!("It costs him: {what} — {figures}; {}.", q_text(c.q_value))
+    } else if c.swings < MIN_COST_SWINGS {
+        // A few swings say nothing either way, whatever their interval.
+        let who = if avoided { format!("He throws his {pitch} less often {sit}") } else { capitalize(&format!("his {pitch} {sit}")) };
         format!(
-            "It costs him: his {} {sit} fares worse than it does elsewhere — {figures}; {}.",
-            t.pitch_type,
-            q_text(c.q_value)
+            "{who}: too few swings there to say whether it costs him ({} swings, fewer than {MIN_COST_SWINGS}) — {figures}. No change is suggested on this evidence.",
+            fmt_n(c.swings)
         )
     } else if c.whiff_diff_high < 0.0 || c.whiff_rate - c.expected_whiff_rate <= -0.03 {
         // Worse on the face of it, but not by enough to call it a cost
         // once every tell of the run is weighed (the FDR family).
+        let who = if avoided {
+            format!("He throws his {pitch} less often {sit}, and when he does it may fare worse")
+        } else {
+            format!("{}: predictable, and it may be costing him", capitalize(&format!("his {pitch} {sit}")))
+        };
         format!(
-            "{}: predictable, and it may be costing him, but the evidence is thin ({}, {} swings) — {figures}. Worth watching; no change is suggested on this evidence yet.",
-            capitalize(&format!("his {} {sit}", t.pitch_type)),
+            "{who}, but the evidence is thin ({}, {} swings) — {figures}. Worth watching; no change is suggested on this evidence yet.",
             q_text(c.q_value),
             fmt_n(c.swings)
         )
+    } else if avoided {
+        format!("He throws his {pitch} less often {sit}; when he does, it works as well as elsewhere — {figures}. No change is suggested on this evidence.")
     } else {
         format!(
             "{}: predictable, and it still works — {figures}. No change is suggested on this evidence.",
-            capitalize(&format!("his {} {sit}", t.pitch_type))
+            capitalize(&format!("his {pitch} {sit}"))
         )
     }
 }
+
+/// Swings a tell's pitch needs in its situation before the advice weighs
+/// what it costs him (as the staff chart of called pitches asks 50 of each).
+pub const MIN_COST_SWINGS: u64 = 50;
 
 /// Who the yardstick's pitchers are, in words.
 fn yardstick_words(yardstick: &str, throws: &str) -> String {
