@@ -123,6 +123,15 @@ pub struct TellTest {
     /// narrows (shares within the minimum effect), if any.
     #[serde(serialize_with = "ser_opt_situation")]
     pub within: Option<Situation>,
+    /// For a one-factor tell beyond the sheet: the stronger flagged one
+    /// (same pitch, same way) whose situation holds most of this one's
+    /// pitches, and that share ([`mark_restatements`]): the same pitches
+    /// told again, as innings 7-9 for a starter who reaches them only the
+    /// third time through the order.
+    #[serde(serialize_with = "ser_opt_situation", skip_serializing_if = "Option::is_none")]
+    pub restates: Option<Situation>,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub restates_share: Option<f64>,
     pub layer: Layer,
     /// Beyond tells: the share his sheet (his mix by count × batter side on
     /// the discovery rows) predicts for the very pitches in the situation.
@@ -305,7 +314,65 @@ impl<'a> Labels<'a> {
 /// false-discovery control of each layer.
 pub fn find(log: &PitchLog, sit: &Situations, discovery: &[bool], tasks: &[&PitcherTask], settings: &Settings) -> Vec<TellTest> {
     let tests = find_in(log, sit, discovery, tasks, settings, &Labels::pitch_types(log));
-    finish(tests, settings)
+    let mut tests = finish(tests, settings);
+    mark_restatements(&mut tests, sit, tasks);
+    tests
+}
+
+/// The share of a tell's pitches that must lie in a stronger tell's
+/// situation for it to be that tell told again (a judgement: four in five).
+pub const RESTATES_SHARE: f64 = 0.8;
+
+/// Marks each flagged one-factor tell beyond the sheet most of whose
+/// discovery pitches (at least [`RESTATES_SHARE`]) lie in the situation of
+/// a stronger flagged one-factor tell beyond the sheet of the same
+/// pitcher, pitch type and direction (stronger: more pitches given away,
+/// as [`flagged_sorted`] orders them). Two such situations overlap in the
+/// game itself (a starter's innings 7-9 are his third time through the
+/// order), and the log cannot say which one he keys on: the report names
+/// the stronger and says the other holds mostly the same pitches.
+pub fn mark_restatements(tests: &mut [TellTest], sit: &Situations, tasks: &[&PitcherTask]) {
+    let single_beyond = |t: &TellTest| t.flagged && t.layer == Layer::Beyond && t.situation.len() == 1 && t.within.is_none();
+    let mut by_pitcher: BTreeMap<String, Vec<usize>> = BTreeMap::new();
+    for (i, t) in tests.iter().enumerate().filter(|(_, t)| single_beyond(t)) {
+        by_pitcher.entry(t.pitcher.clone()).or_default().push(i);
+    }
+    for task in tasks {
+        let Some(mine) = by_pitcher.get(&task.name) else { continue };
+        if mine.len() < 2 {
+            continue;
+        }
+        let refs: Vec<&TellTest> = mine.iter().map(|&i| &tests[i]).collect();
+        let order: Vec<usize> = flagged_sorted(&refs).iter().map(|t| mine[refs.iter().position(|r| std::ptr::eq(*r, *t)).expect("one of his")]).collect();
+        // Each tell's situation on his discovery pitches.
+        let inside: Vec<Vec<bool>> = order
+            .iter()
+            .map(|&i| {
+                let codes = sit.level_codes(&tests[i].situation).unwrap_or_default();
+                task.discovery.iter().map(|&d| codes.iter().all(|&(f, c)| sit.factors[f].codes[task.rows[d as usize] as usize] == c)).collect()
+            })
+            .collect();
+        for (b, &j) in order.iter().enumerate() {
+            let n_b = inside[b].iter().filter(|&&x| x).count();
+            if n_b == 0 {
+                continue;
+            }
+            for (a, &i) in order[..b].iter().enumerate() {
+                let (ta, tb) = (&tests[i], &tests[j]);
+                if ta.restates.is_some() || ta.pitch_type != tb.pitch_type || ta.direction != tb.direction || ta.situation == tb.situation {
+                    continue;
+                }
+                let both = inside[a].iter().zip(&inside[b]).filter(|(x, y)| **x && **y).count();
+                let share = both as f64 / n_b as f64;
+                if share >= RESTATES_SHARE {
+                    let s = tests[i].situation.clone();
+                    tests[j].restates = Some(s);
+                    tests[j].restates_share = Some(share);
+                    break;
+                }
+            }
+        }
+    }
 }
 
 /// Every tell test of the tasks, whose labels are `labels`, unflagged
@@ -442,6 +509,8 @@ pub fn find_in(
                             flagged: false,
                             family_q: 1.0,
                             within: None,
+                            restates: None,
+                            restates_share: None,
                             layer: Layer::Sheet,
                             expected_share: None,
                             held_out_low: hci.map(|c| c.low),
@@ -570,6 +639,8 @@ fn beyond_tests(
                     flagged: false,
                     family_q: 1.0,
                     within: None,
+                    restates: None,
+                    restates_share: None,
                     layer: Layer::Beyond,
                     expected_share: Some(exp),
                     held_out_low: hci.map(|c| c.low),

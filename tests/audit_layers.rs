@@ -207,6 +207,28 @@ fn a_staff_shuffled_within_count_and_side_has_nothing_beyond_its_sheet() {
     assert_uniform("beyond-the-sheet", &p);
 }
 
+/// The same pitches told twice: every one of Marchetti's 2025 pitches in
+/// innings 7-9 came the third time through the order or later (108 of 108,
+/// counted by hand from the demo log with pandas: each batter's plate
+/// appearances against him in the game), so his innings 7-9 curveball
+/// restates his planted third-time curveball: marked so, and left out of
+/// his headline.
+#[test]
+fn a_tell_on_the_same_pitches_as_a_stronger_one_is_marked_and_not_headlined() {
+    let p = pitcher("Inigo Marchetti");
+    let late = beyond_tells(p)
+        .into_iter()
+        .find(|t| t.situation.get(&Factor::Inning).map(String::as_str) == Some("7-9") && t.situation.len() == 1 && t.pitch_type == "curveball")
+        .expect("his innings 7-9 curveball is flagged");
+    assert_eq!(late.restates.as_ref().and_then(|s| s.get(&Factor::TimesThrough)).map(String::as_str), Some("3+"));
+    assert_eq!(late.restates_share, Some(1.0));
+    assert!(p.headline.iter().all(|h| !h.contains("innings 7-9")), "{:?}", p.headline);
+    // The stronger one restates nothing, and Kestenbaum's runner tells (a
+    // runner on first and the bases empty do not overlap) restate nothing.
+    assert!(beyond_tells(p).iter().any(|t| t.situation.get(&Factor::TimesThrough).map(String::as_str) == Some("3+") && t.restates.is_none()));
+    assert!(beyond_tells(pitcher("Jory Kestenbaum")).iter().all(|t| t.restates.is_none()));
+}
+
 /// Power where relievers need it: the demo club drawn afresh (seeds no
 /// report was tuned on), Kestenbaum's planted sinker with a runner on first
 /// (75% against about 50% from his count and side habits, some 250 pitches

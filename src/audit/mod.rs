@@ -788,7 +788,9 @@ fn headline(cells: &[sheet::SheetCell], flagged: &[&TellTest], checked_on: &str)
     let sheet_too = found.is_empty();
     // A tell that faded in his held-out games gives away only what is left
     // of it there, so one that still holds comes first.
-    for t in flagged.iter().filter(|t| t.within.is_none()) {
+    // A tell that holds mostly the pitches of a stronger one tells them
+    // again (`tells::mark_restatements`): the stronger one speaks for both.
+    for t in flagged.iter().filter(|t| t.within.is_none() && t.restates.is_none()) {
         let per_season = if t.held_out_n > 0 { t.held_out_n } else { t.n } as f64;
         let situation = format!("{:?}", t.situation);
         match t.layer {

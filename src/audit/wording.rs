@@ -145,7 +145,14 @@ fn beyond_sentence(t: &TellTest, sit: &str, test_label: &str) -> String {
             q_text(t.q_value)
         ),
     };
-    format!("{main}{}{}.", held_phrase(t, test_label), league_phrase(t))
+    let again = match (&t.restates, t.restates_share) {
+        (Some(s), Some(share)) => {
+            let how_many = if share >= 0.995 { "All of these pitches".to_string() } else { format!("Most of these pitches ({})", pct(share)) };
+            format!(" {how_many} also came {}, his stronger tell: the log cannot say which of the two he keys on.", situation_phrase(s))
+        }
+        _ => String::new(),
+    };
+    format!("{main}{}{}.{again}", held_phrase(t, test_label), league_phrase(t))
 }
 
 /// Where a pitch went, in words: `region` (a `situations::regions` name).

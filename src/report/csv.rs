@@ -162,6 +162,8 @@ pub fn tells_csv(tests: &[TellTest], ids: &PitcherIds) -> Result<Vec<u8>> {
                 .map(str::to_string)
                 .collect(),
         )
+        .opt_str("restates", tests.iter().map(|t| t.restates.as_ref().map(situation_label)).collect())
+        .opt_f64("restates_share", tests.iter().map(|t| t.restates_share).collect())
         .to_csv(tests.len())
 }
 

@@ -210,7 +210,9 @@ fn pitcher_view(
     // on it), then the rest beyond the sheet, most pitches given away
     // first (a faded tell by what is left of it, as in the headline); a
     // tell that is predictable but still works says so and is left alone.
-    let mut to_weigh: Vec<&TellTest> = main.clone();
+    // A tell that restates a stronger one (mostly the same pitches) is
+    // weighed once, under the stronger.
+    let mut to_weigh: Vec<&TellTest> = main.iter().copied().filter(|t| t.restates.is_none()).collect();
     to_weigh.extend(sheet_layer.iter().copied().filter(|t| t.within.is_none() && t.cost.as_ref().is_some_and(|c| c.costly)));
     to_weigh.sort_by(|a, b| {
         let costly = |t: &TellTest| t.cost.as_ref().is_some_and(|c| c.costly);
