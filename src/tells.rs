@@ -190,7 +190,10 @@ impl TellTest {
     /// its held-out shift over what the held-out pitches would show with no
     /// tell, signed as [`Self::effect`] and at least 0.
     pub fn effect_now(&self) -> f64 {
-        match (self.verdict, self.held_out_share, self.held_out_expected_share) {
+        // What it is measured against in the held-out games: his sheet's
+        // prediction there (beyond tells), his share elsewhere (sheet tells).
+        let reference = self.held_out_expected_share.or(self.held_out_baseline_share);
+        match (self.verdict, self.held_out_share, reference) {
             (Verdict::Faded, Some(h), Some(e)) => match self.direction {
                 Direction::More => h - e,
                 Direction::Less => e - h,
@@ -198,6 +201,14 @@ impl TellTest {
             .max(0.0),
             _ => self.effect(),
         }
+    }
+
+    /// He threw none of the tell's pitch in the held-out games, in the
+    /// situation or out of it: the pitch is gone from his arsenal there.
+    pub fn pitch_gone(&self) -> bool {
+        self.held_out_n > 0
+            && self.held_out_share == Some(0.0)
+            && self.held_out_expected_share.or(self.held_out_baseline_share) == Some(0.0)
     }
 
     /// The share a tell is measured against.
@@ -941,3 +952,65 @@ pub struct TellCost {
     pub compared_with: String,
 }
 
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A sheet tell of his slider against same-side batters: 41% there
+    /// (n = 259) against 23% elsewhere in his training games.
+    fn slider_tell(held_in: f64, held_elsewhere: f64, verdict: Verdict) -> TellTest {
+        TellTest {
+            pitcher: "P".into(),
+            situation: [(Factor::Platoon, "same".to_string())].into_iter().collect(),
+            pitch_type: "slider".into(),
+            direction: Direction::More,
+            n: 259,
+            k: 106,
+            share: 106.0 / 259.0,
+            share_low: 0.35,
+            share_high: 0.47,
+            baseline_share: 0.23,
+            baseline_n: 493,
+            staff_share: 0.2,
+            p_value: 1e-6,
+            q_value: 1e-4,
+            held_out_n: 356,
+            held_out_share: Some(held_in),
+            held_out_baseline_share: Some(held_elsewhere),
+            flagged: true,
+            family_q: 1e-4,
+            within: None,
+            restates: None,
+            restates_share: None,
+            layer: Layer::Sheet,
+            expected_share: None,
+            held_out_low: None,
+            held_out_high: None,
+            held_out_expected_share: None,
+            verdict,
+            cost: None,
+            league_share: None,
+            league_n: None,
+            region: None,
+        }
+    }
+
+    /// A faded sheet tell counts what is left of it over his held-out share
+    /// elsewhere (worked by hand: 30% against 25% leaves 5 points), as a
+    /// beyond tell counts it over his held-out sheet; one that held keeps
+    /// its training effect (41% − 23%). A pitch he threw nowhere in the
+    /// held-out games is gone, and nothing of the tell is left.
+    #[test]
+    fn a_faded_sheet_tell_counts_what_is_left_of_it() {
+        let faded = slider_tell(0.30, 0.25, Verdict::Faded);
+        assert!((faded.effect_now() - 0.05).abs() < 1e-12, "{}", faded.effect_now());
+        assert!(!faded.pitch_gone());
+        let held = slider_tell(0.40, 0.22, Verdict::Held);
+        assert!((held.effect_now() - (106.0 / 259.0 - 0.23)).abs() < 1e-12);
+        let gone = slider_tell(0.0, 0.0, Verdict::Faded);
+        assert!(gone.pitch_gone() && gone.effect_now() == 0.0);
+        // Thrown elsewhere but not in the situation: faded, not gone.
+        assert!(!slider_tell(0.0, 0.2, Verdict::Faded).pitch_gone());
+    }
+}

@@ -117,6 +117,9 @@ fn held_phrase(t: &TellTest, test_label: &str) -> String {
         (Some(a), Some(b)) => format!(", 95% interval {}–{}", pct(a), pct(b)),
         _ => String::new(),
     };
+    if t.pitch_gone() {
+        return format!("; in {test_label} he threw no {} at all (n = {}), so the tell describes a pitch he no longer throws", t.pitch_type, fmt_n(t.held_out_n));
+    }
     match (t.verdict, t.held_out_share) {
         (crate::tells::Verdict::Held, Some(h)) => format!("; in {test_label} it held at {} (n = {}{interval})", pct(h), fmt_n(t.held_out_n)),
         (crate::tells::Verdict::Faded, Some(h)) => format!("; in {test_label} it faded: {} (n = {}{interval})", pct(h), fmt_n(t.held_out_n)),
@@ -516,6 +519,9 @@ pub fn sheet_short(t: &TellTest, test_label: &str) -> String {
 /// A headline tell's held-out check: "; held at 40% in his 2026 games",
 /// "; faded to 22% in ...", or nothing when too few pitches say.
 fn held_out_short(t: &TellTest, test_label: &str) -> String {
+    if t.pitch_gone() {
+        return format!("; no {} at all in {test_label}", t.pitch_type);
+    }
     match (t.verdict, t.held_out_share) {
         (crate::tells::Verdict::Held, Some(h)) => format!("; held at {} in {test_label}", pct(h)),
         (crate::tells::Verdict::Faded, Some(h)) => format!("; faded to {} in {test_label}", pct(h)),
