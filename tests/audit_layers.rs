@@ -229,6 +229,22 @@ fn a_tell_on_the_same_pitches_as_a_stronger_one_is_marked_and_not_headlined() {
     assert!(beyond_tells(pitcher("Jory Kestenbaum")).iter().all(|t| t.restates.is_none()));
 }
 
+/// Two sides of one habit take one headline line, the side a hitter can
+/// sit on: Kestenbaum's sinker with a runner on first (more), not with the
+/// bases empty (less); Drury's fastball right after a curveball, not
+/// right after a fastball. Both sides stay flagged in the list.
+#[test]
+fn the_headline_tells_a_habit_once_from_the_side_a_hitter_can_sit_on() {
+    let jory = pitcher("Jory Kestenbaum");
+    assert!(jory.headline.iter().any(|h| h.starts_with("With a runner on first: sinker")), "{:?}", jory.headline);
+    assert!(jory.headline.iter().all(|h| !h.starts_with("With the bases empty")), "{:?}", jory.headline);
+    assert!(has_beyond("Jory Kestenbaum", Factor::Bases, "---", "sinker", Direction::Less));
+    let drury = pitcher("Anselm Drury");
+    assert!(drury.headline.iter().any(|h| h.starts_with("Right after a curveball: fastball")), "{:?}", drury.headline);
+    assert!(drury.headline.iter().all(|h| !h.starts_with("Right after a fastball")), "{:?}", drury.headline);
+    assert!(has_beyond("Anselm Drury", Factor::PrevPitch, "fastball", "fastball", Direction::Less));
+}
+
 /// Power where relievers need it: the demo club drawn afresh (seeds no
 /// report was tuned on), Kestenbaum's planted sinker with a runner on first
 /// (75% against about 50% from his count and side habits, some 250 pitches

@@ -790,8 +790,26 @@ fn headline(cells: &[sheet::SheetCell], flagged: &[&TellTest], checked_on: &str)
     // of it there, so one that still holds comes first.
     // A tell that holds mostly the pitches of a stronger one tells them
     // again (`tells::mark_restatements`): the stronger one speaks for both.
-    for t in flagged.iter().filter(|t| t.within.is_none() && t.restates.is_none()) {
-        let per_season = if t.held_out_n > 0 { t.held_out_n } else { t.n } as f64;
+    let per_season = |t: &TellTest| if t.held_out_n > 0 { t.held_out_n } else { t.n } as f64;
+    // One habit, told once: beyond the sheet, more of a pitch at one level
+    // of a factor and less of it at another (his sinker with a runner on
+    // first, and not with the bases empty) are two sides of one habit, so
+    // a "less" tell gives way to a "more" tell of the same pitch on the
+    // same factors that still holds: the side a hitter can sit on.
+    let listed: Vec<&TellTest> = flagged.iter().copied().filter(|t| t.within.is_none() && t.restates.is_none()).collect();
+    let other_side = |t: &TellTest| {
+        t.layer == tells::Layer::Beyond
+            && t.direction == Direction::Less
+            && listed.iter().any(|m| {
+                m.layer == tells::Layer::Beyond
+                    && m.direction == Direction::More
+                    && m.pitch_type == t.pitch_type
+                    && m.situation.keys().eq(t.situation.keys())
+                    && m.effect_now() > 0.0
+            })
+    };
+    for t in listed.iter().copied().filter(|t| !other_side(t)) {
+        let per_season = per_season(t);
         let situation = format!("{:?}", t.situation);
         match t.layer {
             tells::Layer::Beyond => found.push((t.effect_now() * per_season, wording::beyond_short(t, checked_on), situation)),
