@@ -163,11 +163,6 @@ impl Standardised {
     }
 }
 
-#[inline]
-fn holds(sit: &Situations, codes: &[(usize, u8)], row: usize) -> bool {
-    codes.iter().all(|&(i, c)| sit.factors[i].codes[row] == c)
-}
-
 /// Fill `cost` on every flagged tell of `tests` (nothing without a
 /// `result` column), then one BH family over them.
 pub fn cost_of_tells(log: &PitchLog, sit: &Situations, tasks: &[&PitcherTask], tests: &mut [TellTest], fdr_level: f64) {
@@ -213,7 +208,7 @@ pub fn cost_of_tells(log: &PitchLog, sit: &Situations, tasks: &[&PitcherTask], t
             }
             let Some(res) = results[r] else { continue };
             let c = (log.balls[r] * 3 + log.strikes[r]) as usize;
-            if holds(sit, &codes, r) {
+            if sit.holds(&codes, r) {
                 inside[c].add(res);
             } else {
                 outside[c].add(res);

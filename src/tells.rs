@@ -190,10 +190,7 @@ impl TellTest {
     /// its held-out shift over what the held-out pitches would show with no
     /// tell, signed as [`Self::effect`] and at least 0.
     pub fn effect_now(&self) -> f64 {
-        // What it is measured against in the held-out games: his sheet's
-        // prediction there (beyond tells), his share elsewhere (sheet tells).
-        let reference = self.held_out_expected_share.or(self.held_out_baseline_share);
-        match (self.verdict, self.held_out_share, reference) {
+        match (self.verdict, self.held_out_share, self.held_out_reference()) {
             (Verdict::Faded, Some(h), Some(e)) => match self.direction {
                 Direction::More => h - e,
                 Direction::Less => e - h,
@@ -206,9 +203,13 @@ impl TellTest {
     /// He threw none of the tell's pitch in the held-out games, in the
     /// situation or out of it: the pitch is gone from his arsenal there.
     pub fn pitch_gone(&self) -> bool {
-        self.held_out_n > 0
-            && self.held_out_share == Some(0.0)
-            && self.held_out_expected_share.or(self.held_out_baseline_share) == Some(0.0)
+        self.held_out_n > 0 && self.held_out_share == Some(0.0) && self.held_out_reference() == Some(0.0)
+    }
+
+    /// What the tell is measured against in the held-out games: his sheet's
+    /// prediction there (beyond tells), his share elsewhere (sheet tells).
+    fn held_out_reference(&self) -> Option<f64> {
+        self.held_out_expected_share.or(self.held_out_baseline_share)
     }
 
     /// The share a tell is measured against.
@@ -353,14 +354,14 @@ pub fn mark_restatements(tests: &mut [TellTest], sit: &Situations, tasks: &[&Pit
         if mine.len() < 2 {
             continue;
         }
-        let refs: Vec<&TellTest> = mine.iter().map(|&i| &tests[i]).collect();
-        let order: Vec<usize> = flagged_sorted(&refs).iter().map(|t| mine[refs.iter().position(|r| std::ptr::eq(*r, *t)).expect("one of his")]).collect();
+        let mut order = mine.clone();
+        order.sort_by(|&i, &j| stronger_first(&tests[i], &tests[j]));
         // Each tell's situation on his discovery pitches.
         let inside: Vec<Vec<bool>> = order
             .iter()
             .map(|&i| {
                 let codes = sit.level_codes(&tests[i].situation).unwrap_or_default();
-                task.discovery.iter().map(|&d| codes.iter().all(|&(f, c)| sit.factors[f].codes[task.rows[d as usize] as usize] == c)).collect()
+                task.discovery.iter().map(|&d| sit.holds(&codes, task.rows[d as usize] as usize)).collect()
             })
             .collect();
         for (b, &j) in order.iter().enumerate() {
@@ -914,15 +915,19 @@ impl<'a> ByPitcher<'a> {
 /// pitches in the situation, (share − baseline) × n; then the smallest q.
 pub fn flagged_sorted<'a>(his: &[&'a TellTest]) -> Vec<&'a TellTest> {
     let mut v: Vec<&TellTest> = his.iter().copied().filter(|t| t.flagged).collect();
-    v.sort_by(|a, b| {
-        (b.effect() * b.n as f64)
-            .partial_cmp(&(a.effect() * a.n as f64))
-            .unwrap()
-            .then(a.q_value.partial_cmp(&b.q_value).unwrap())
-            .then(crate::tells::situation_label(&a.situation).cmp(&crate::tells::situation_label(&b.situation)))
-            .then(a.pitch_type.cmp(&b.pitch_type))
-    });
+    v.sort_by(|a, b| stronger_first(a, b));
     v
+}
+
+/// The order of [`flagged_sorted`]: more pitches given away first, then
+/// the smaller q-value, then by situation and pitch type.
+fn stronger_first(a: &TellTest, b: &TellTest) -> std::cmp::Ordering {
+    (b.effect() * b.n as f64)
+        .partial_cmp(&(a.effect() * a.n as f64))
+        .unwrap()
+        .then(a.q_value.partial_cmp(&b.q_value).unwrap())
+        .then(situation_label(&a.situation).cmp(&situation_label(&b.situation)))
+        .then(a.pitch_type.cmp(&b.pitch_type))
 }
 /// The cost of one tell (CONTRACT: `cost` on a tell).
 #[derive(Debug, Clone, PartialEq, Serialize)]

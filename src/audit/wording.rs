@@ -548,6 +548,9 @@ pub fn cost_sentence(t: &TellTest, c: &crate::tells::TellCost) -> String {
     );
     let pitch = &t.pitch_type;
     let avoided = t.direction == crate::tells::Direction::Less;
+    // Who the sentence is about: the pitch he leans on, or the one he avoids.
+    let his = capitalize(&format!("his {pitch} {sit}"));
+    let less_often = format!("He throws his {pitch} less often {sit}");
     if c.costly {
         let what = if avoided {
             format!("when he does throw his {pitch} {sit}, it fares worse than it does elsewhere")
@@ -557,7 +560,7 @@ pub fn cost_sentence(t: &TellTest, c: &crate::tells::TellCost) -> String {
         format!("It costs him: {what} — {figures}; {}.", q_text(c.q_value))
     } else if c.swings < MIN_COST_SWINGS {
         // A few swings say nothing either way, whatever their interval.
-        let who = if avoided { format!("He throws his {pitch} less often {sit}") } else { capitalize(&format!("his {pitch} {sit}")) };
+        let who = if avoided { less_often } else { his };
         format!(
             "{who}: too few swings there to say whether it costs him ({} swings, fewer than {MIN_COST_SWINGS}) — {figures}. No change is suggested on this evidence.",
             fmt_n(c.swings)
@@ -565,23 +568,16 @@ pub fn cost_sentence(t: &TellTest, c: &crate::tells::TellCost) -> String {
     } else if c.whiff_diff_high < 0.0 || c.whiff_rate - c.expected_whiff_rate <= -0.03 {
         // Worse on the face of it, but not by enough to call it a cost
         // once every tell of the run is weighed (the FDR family).
-        let who = if avoided {
-            format!("He throws his {pitch} less often {sit}, and when he does it may fare worse")
-        } else {
-            format!("{}: predictable, and it may be costing him", capitalize(&format!("his {pitch} {sit}")))
-        };
+        let who = if avoided { format!("{less_often}, and when he does it may fare worse") } else { format!("{his}: predictable, and it may be costing him") };
         format!(
             "{who}, but the evidence is thin ({}, {} swings) — {figures}. Worth watching; no change is suggested on this evidence yet.",
             q_text(c.q_value),
             fmt_n(c.swings)
         )
     } else if avoided {
-        format!("He throws his {pitch} less often {sit}; when he does, it works as well as elsewhere — {figures}. No change is suggested on this evidence.")
+        format!("{less_often}; when he does, it works as well as elsewhere — {figures}. No change is suggested on this evidence.")
     } else {
-        format!(
-            "{}: predictable, and it still works — {figures}. No change is suggested on this evidence.",
-            capitalize(&format!("his {pitch} {sit}"))
-        )
+        format!("{his}: predictable, and it still works — {figures}. No change is suggested on this evidence.")
     }
 }
 

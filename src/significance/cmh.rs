@@ -139,36 +139,31 @@ impl OffsetStratum {
     /// information), `is_type[i]` whether it is of the type.
     pub fn fit(&mut self, expected: &[f64], is_type: &[bool]) {
         assert_eq!(expected.len(), is_type.len());
+        // Every pitch at its own outcome until fitted: a certain pitch
+        // stays there, and so does every pitch of a stratum with nothing
+        // to fit.
         self.p.clear();
-        self.p.extend(expected.iter().zip(is_type).map(|(&e, &y)| if e > 0.0 && e < 1.0 { e } else { y as u8 as f64 }));
-        let free = |e: f64| e > 0.0 && e < 1.0;
-        let n = expected.iter().filter(|&&e| free(e)).count();
-        let k = expected.iter().zip(is_type).filter(|(&e, &y)| free(e) && y).count();
+        self.p.extend(is_type.iter().map(|&y| y as u8 as f64));
+        let free: Vec<usize> = (0..expected.len()).filter(|&i| expected[i] > 0.0 && expected[i] < 1.0).collect();
+        let n = free.len();
+        let k = free.iter().filter(|&&i| is_type[i]).count();
         self.info = 0.0;
         self.finite = 0.0;
         self.informative = 0;
         if n < 2 || k == 0 || k == n {
-            // No information: every free pitch at its own outcome.
-            for (p, (&e, &y)) in self.p.iter_mut().zip(expected.iter().zip(is_type)) {
-                if free(e) {
-                    *p = y as u8 as f64;
-                }
-            }
             return;
         }
         // Each free pitch's odds e/(1 − e); a chance is A·r/(1 + A·r) for
         // the stratum's factor A = exp(α), so no logarithm or exponential is
         // taken per pitch.
-        let odds: Vec<f64> = expected.iter().filter(|&&e| free(e)).map(|&e| e / (1.0 - e)).collect();
+        let odds: Vec<f64> = free.iter().map(|&i| expected[i] / (1.0 - expected[i])).collect();
         let a = stratum_factor(&odds, k as f64);
         let mut info = 0.0;
-        for (p, &e) in self.p.iter_mut().zip(expected) {
-            if free(e) {
-                let ar = a * (e / (1.0 - e));
-                let q = ar / (1.0 + ar);
-                *p = q;
-                info += q * (1.0 - q);
-            }
+        for (&i, &r) in free.iter().zip(&odds) {
+            let ar = a * r;
+            let q = ar / (1.0 + ar);
+            self.p[i] = q;
+            info += q * (1.0 - q);
         }
         self.info = info;
         self.finite = n as f64 / (n as f64 - 1.0);

@@ -63,6 +63,13 @@ impl Situations {
             })
             .collect()
     }
+
+    /// Whether row `row` is in the situation of these (factor column,
+    /// level code) pairs ([`Self::level_codes`]).
+    #[inline]
+    pub fn holds(&self, codes: &[(usize, u8)], row: usize) -> bool {
+        codes.iter().all(|&(i, c)| self.factors[i].codes[row] == c)
+    }
 }
 
 /// Whether the pitch before row `i` in its plate appearance is missing
